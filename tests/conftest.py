@@ -19,9 +19,3 @@ def scenario_args() -> list[str]:
     for lim in limits:
         args += ["--limits", str(lim)]
     return args + ["--sites", str(SCENARIO / "sites.csv"), "--columns", str(SCENARIO / "columns_eastbank.yaml")]
-
-
-def write_csv(tmp_path: Path, text: str, name: str = "lab.csv") -> Path:
-    p = tmp_path / name
-    p.write_text(text, encoding="utf-8")
-    return p

@@ -7,7 +7,7 @@ from hypothesis import given, settings, strategies as st
 from tracescreen import loading, parsing
 from tracescreen.loading import LoadOptions, load_results
 
-from .conftest import write_csv
+from lab_files import write_csv
 
 HEAD = "site_id,sample_id,sampled_at,analyte,fraction,result,unit,detection_limit,qualifier\n"
 
