@@ -21,17 +21,25 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
-    args = build_parser().parse_args(argv)
+    from tracescreen.cli.common import load_options
+    from tracescreen.cli.dashboard import result_files
+
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    results = result_files(args)
+    if not results:
+        parser.error("give lab result files (positional or --results FILE ...)")
     from dashboard.app import create_app
 
     print("Loading and screening ...", file=sys.stderr)
     try:
-        app = create_app(args.results, args.limits, args.sites, args.columns,
+        app = create_app(results, args.limits, args.sites, options=load_options(args),
                          max_upload_bytes=int(args.max_upload_mb * 1e6))
     except (ValueError, OSError, KeyError) as exc:
-        print(f"tracescreen dashboard: {str(exc).strip()}", file=sys.stderr)
+        lines = str(exc).strip().splitlines()
+        print(f"tracescreen dashboard: error: {lines[0] if lines else type(exc).__name__}", file=sys.stderr)
         return 2
-    print(CAUTION, file=sys.stderr)
+    print(f"CAUTION: {CAUTION}", file=sys.stderr)
     print(f"Dashboard on http://{args.host}:{args.port}/  (Ctrl+C to stop)", file=sys.stderr)
     app.run(host=args.host, port=args.port, debug=args.debug)
     return 0

@@ -14,7 +14,8 @@ from dashboard.data import BASE_KEY, STORE_EXTENSION, DataStore, Inputs, load_in
 DEFAULT_MAX_UPLOAD_BYTES = 20 * 1000 * 1000
 
 
-def create_app(results=None, limits=None, sites=None, columns=None, *, inputs: Inputs | None = None,
+def create_app(results=None, limits=None, sites=None, columns=None, *, options=None,
+               inputs: Inputs | None = None,
                max_upload_bytes: int = DEFAULT_MAX_UPLOAD_BYTES, upload_dir=None,
                preload: bool = True) -> Dash:
     """Build the dashboard on lab result files and limit tables.
@@ -29,6 +30,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, inputs: I
         Sites CSV (uses, coordinates, default hardness).
     columns : path, optional
         Column-mapping YAML for result files with unusual headers.
+    options : tracescreen.loading.LoadOptions, optional
+        How to read the files (date order, decimal comma, ...); overrides ``columns``.
     inputs : Inputs, optional
         Already loaded inputs (instead of the paths above), e.g. from a workspace.
     max_upload_bytes : int
@@ -41,7 +44,7 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, inputs: I
     if inputs is None:
         if results is None or limits is None:
             raise ValueError("create_app needs result files and limit tables (or inputs=...)")
-        base = lambda: load_inputs(results, limits, sites, columns)  # noqa: E731
+        base = lambda: load_inputs(results, limits, sites, columns, options)  # noqa: E731
     else:
         base = inputs
     store = DataStore(base, upload_dir=upload_dir, max_upload_bytes=max_upload_bytes)

@@ -40,6 +40,8 @@ class Inputs:
     sites: pd.DataFrame | None
     files: pd.DataFrame | None = None
     sources: tuple[str, ...] = ()
+    options: Any = None  # tracescreen.loading.LoadOptions used for the base files
+    sites_name: str = "the sites file"
 
 
 @dataclass
@@ -116,8 +118,12 @@ class SessionData:
 
 
 # ---- building ---------------------------------------------------------------------------------
-def load_inputs(results, limits, sites=None, columns=None) -> Inputs:
-    """Load result files, limit tables and sites with the engine (user errors raise ValueError)."""
+def load_inputs(results, limits, sites=None, columns=None, options=None) -> Inputs:
+    """Load result files, limit tables and sites with the engine (user errors raise ValueError).
+
+    ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
+    the optional ``columns`` mapping file.
+    """
     from tracescreen.limits import load_limits
     from tracescreen.loading import load_results
     from tracescreen.sites import load_sites
@@ -125,14 +131,18 @@ def load_inputs(results, limits, sites=None, columns=None) -> Inputs:
     paths = [Path(p) for p in ([results] if isinstance(results, (str, Path)) else results)]
     site_frame = load_sites(sites) if sites is not None else None
     limit_set = load_limits(limits)
-    loaded = load_results(paths, load_options(columns), sites=site_frame)
+    opts = options if options is not None else load_options(columns)
+    sites_name = Path(sites).name if sites is not None else "the sites file"
+    loaded = load_results(paths, opts, sites=site_frame, sites_name=sites_name)
     return Inputs(
         accepted=loaded.accepted,
         rejected=loaded.rejected,
         limits=limit_set,
         sites=site_frame,
-        files=getattr(loaded, "files", None),
+        files=loaded.files,
         sources=tuple(str(p) for p in paths),
+        options=opts,
+        sites_name=sites_name,
     )
 
 
@@ -358,9 +368,15 @@ class DataStore:
         folder = self.upload_path(token)
         if not token.isalnum() or not folder.is_dir():
             raise KeyError(token)
+        import dataclasses
+
         files = [p for p in sorted(folder.iterdir()) if p.name != "_columns.yaml"]
         mapping = folder / "_columns.yaml"
-        return load_results(files, load_options(mapping if mapping.exists() else None), sites=self.sites)
+        base = self.base_inputs()
+        opts = base.options if base.options is not None else load_options(None)
+        # an upload is read like the base files (dates, decimal comma), with its own mapping
+        opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None)
+        return load_results(files, opts, sites=self.sites, sites_name=base.sites_name)
 
     # sessions
     def base_session(self) -> SessionData:

@@ -25,7 +25,7 @@ def formula_text(entry) -> str:
     """A limit entry in words: a value [µg/L] or its hardness formula (H = hardness, mg/L CaCO3).
 
     The hardness form is the exponential one of US EPA's hardness-dependent criteria,
-    exp(m·ln H + b) × CF, with CF a number or CF = a − b·ln H (40 CFR 131.36(b)(2)).
+    exp(m·ln H + b) × CF, with CF a number or CF = a + s·ln H (40 CFR 131.36(b)(2)).
     """
     get = entry.get if hasattr(entry, "get") else lambda k, d=None: getattr(entry, k, d)
     if _num(get("value_ug_L")):
@@ -37,8 +37,8 @@ def formula_text(entry) -> str:
     cf, a, slope = get("hf_cf"), get("hf_cf_intercept"), get("hf_cf_ln_slope")
     if _num(cf) and float(cf) != 1.0:
         text += f" × {_fmt(cf)}"
-    elif _num(a) and _num(slope):
-        text += f" × ({_fmt(a)} − {_fmt(slope)}·ln H)"
+    elif _num(a) and _num(slope):  # CF = a + slope·ln H (the slope is negative in the EPA tables)
+        text += f" × ({_fmt(a)} {'+' if float(slope) >= 0 else '−'} {_fmt(abs(float(slope)))}·ln H)"
     return text + " µg/L"
 
 

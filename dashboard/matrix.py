@@ -8,6 +8,7 @@ per cell and status are one ``bincount``.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from html import escape
 from urllib.parse import urlencode
 
 import numpy as np
@@ -180,42 +181,41 @@ def status_badges(totals: np.ndarray, element_id: str = "status-totals") -> html
     )
 
 
-def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None = None) -> html.Table:
+def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None = None) -> dcc.Markdown:
     """Sites x metals table; each cell shows the worst status (glyph and words) and counts and
-    links to that site and metal."""
+    links to that site and metal.
+
+    The table is sent as one HTML fragment rather than hundreds of Dash components, which the
+    browser draws in a fraction of the time; ``assets/links.js`` keeps its links inside the app.
+    (Void tags are written self-closed, ``<br/>``: the Markdown component drops a fragment with
+    a bare ``<br>``.)
+    """
     frame = matrix_frame(session, counts)
     if frame.empty:
-        return html.Table(html.Tbody(html.Tr(html.Td("No results match these filters."))),
-                          className="matrix")
+        return dcc.Markdown("No results match these filters.", id="matrix-empty")
     analytes = sorted(frame["analyte"].unique())
     cells = {(r.site_id, r.analyte): r for r in frame.itertuples(index=False)}
-    head = html.Thead(html.Tr([html.Th("Site")] + [html.Th(a, scope="col") for a in analytes]))
-    body = []
+    e = escape
+    parts = ['<table class="matrix" id="matrix-table"><thead><tr><th>Site</th>']
+    parts += [f'<th scope="col">{e(a)}</th>' for a in analytes]
+    parts.append("</tr></thead><tbody>")
     for site_id in sorted(frame["site_id"].unique()):
         name = session.site_name(site_id)
-        row = [html.Th([html.Span(site_id, className="site-id"), html.Br(),
-                        html.Span(name, className="site-name")] if name != site_id else site_id,
-                       scope="row")]
+        parts.append(f'<tr><th scope="row"><span class="site-id">{e(site_id)}</span>'
+                     + (f'<br/><span class="site-name">{e(name)}</span>' if name != site_id else "") + "</th>")
         for a in analytes:
             r = cells.get((site_id, a))
             if r is None:
-                row.append(html.Td("–", className="empty"))
+                parts.append('<td class="empty">–</td>')
                 continue
-            exceed = r.exceeds
-            row.append(
-                html.Td(
-                    dcc.Link(
-                        [html.Span(STATUS_GLYPH[r.worst], className="glyph"),
-                         html.Span(STATUS_SHORT[r.worst], className="label"),
-                         html.Span(f"{exceed}/{r.n_results}", className="count",
-                                   title=f"{exceed} of {r.n_results} results above a limit")],
-                        href=site_href(site_id, a, fraction),
-                        title=f"{site_id} · {a}: worst {STATUS_LABEL[r.worst]}; "
-                        f"{r.n_results} results, {exceed} above a limit",
-                    ),
-                    className=f"cell status-{r.worst}",
-                    **{"data-site": site_id, "data-analyte": a, "data-status": r.worst},
-                )
+            title = (f"{site_id} · {a}: worst {STATUS_LABEL[r.worst]}; {r.n_results} results, "
+                     f"{r.exceeds} above a limit")
+            parts.append(
+                f'<td class="cell status-{r.worst}" data-site="{e(site_id)}" data-analyte="{e(a)}" '
+                f'data-status="{r.worst}"><a class="app-link" href="{e(site_href(site_id, a, fraction))}" '
+                f'title="{e(title)}"><span class="glyph">{STATUS_GLYPH[r.worst]}</span> '
+                f'{STATUS_SHORT[r.worst]}<br/>{r.exceeds}/{r.n_results}</a></td>'
             )
-        body.append(html.Tr(row))
-    return html.Table([head, html.Tbody(body)], className="matrix", id="matrix-table")
+        parts.append("</tr>")
+    parts.append("</tbody></table>")
+    return dcc.Markdown("".join(parts), dangerously_allow_html=True, className="matrix-md")

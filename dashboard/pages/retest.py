@@ -12,8 +12,9 @@ from dashboard.tables import table_page, to_csv_bytes
 dash.register_page(__name__, path="/retest", name="Retest list", order=4,
                    title="tracescreen · retest list")
 PAGE_SIZE = 20
-COLUMNS = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
-           "reason", "detail", "suggested_action"]
+#: what to act on first; the CSV download keeps the engine's column order
+COLUMNS = ["site_id", "sampled_at", "analyte", "fraction", "reason", "detail", "suggested_action",
+           "sample_id", "lab", "batch"]
 
 
 def layout(**_query):
