@@ -23,6 +23,13 @@ RETEST_COLUMNS = [
 ]
 """Columns of ``retest.csv``, in order."""
 
+USED_COLUMNS = [
+    "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
+    "sample_type", "parent_sample_id", "detected", "value_ug_L", "detection_limit_ug_L", "uncertainty_ug_L",
+    "analysed_at", "status", "limit_ug_L", "limit_table", "use", "duration",
+]
+"""Columns of the screening table that the flags and QC checks read."""
+
 RESULT_KEY = ["file", "sheet", "row"]
 """Provenance columns that identify one accepted result (one input row)."""
 
@@ -100,7 +107,8 @@ def site_samples(frame: pd.DataFrame) -> pd.DataFrame:
     """Rows of site samples (not blanks or field duplicates)."""
     if "sample_type" not in frame.columns:
         return frame
-    return frame[frame["sample_type"].eq("sample")]
+    mask = frame["sample_type"].eq("sample")
+    return frame if mask.all() else frame[mask]
 
 
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:

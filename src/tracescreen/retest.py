@@ -81,6 +81,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     unknown = set(o.reasons) - set(REASONS)
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
+    screening = screening[[c for c in flags.USED_COLUMNS if c in screening.columns]]
     results = flags.results_from_screening(screening)
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(screening, lookback=o.lookback),
