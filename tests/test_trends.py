@@ -186,3 +186,54 @@ def test_slope_is_per_year_from_real_dates():
     assert r["slope_per_year"] == pytest.approx(3.0, rel=1e-12)
     back = trends.date_from_decimal_year(t)
     assert (back.dt.normalize() == dates).all()
+
+
+def _series(site, dates, values, nondetect=None, analyte="arsenic"):
+    nd = np.zeros(len(values), bool) if nondetect is None else np.asarray(nondetect, bool)
+    v = np.asarray(values, float)
+    return pd.DataFrame({
+        "site_id": site, "analyte": analyte, "fraction": "dissolved", "sampled_at": pd.to_datetime(dates),
+        "value_ug_L": np.where(nd, np.nan, v), "detected": ~nd,
+        "detection_limit_ug_L": np.where(nd, v, 0.1), "sample_type": "sample",
+    })
+
+
+def test_table_chooses_seasonal_kendall_for_quarterly_and_monthly_records():
+    """Quarterly over 4 years -> 4 seasons, monthly over 3 years -> 12, irregular -> Mann-Kendall (Hirsch et al. 1982)."""
+    rng = np.random.default_rng(8)
+    q = pd.date_range("2019-02-10", periods=16, freq="3MS") + pd.Timedelta(days=9)
+    m = pd.date_range("2019-01-05", periods=36, freq="MS")
+    irregular = pd.to_datetime("2019-01-01") + pd.to_timedelta(np.sort(rng.uniform(0, 1500, 20)), "D")
+    data = pd.concat([_series("Q", q, rng.lognormal(0, 1, 16)), _series("M", m, rng.lognormal(0, 1, 36)),
+                      _series("I", irregular, rng.lognormal(0, 1, 20))])
+    tests = trends.trend_table(data).set_index("site_id")["test"]
+    assert tests.to_dict() == {"I": "mann_kendall", "M": "seasonal_kendall_12_seasons",
+                               "Q": "seasonal_kendall_4_seasons"}
+    assert (trends.trend_table(data, seasonal="never")["test"] == "mann_kendall").all()
+
+
+def test_table_direction_too_few_and_qc_left_out():
+    """Below 8 values the direction is too_few (common practice); QC rows do not count."""
+    dates = pd.date_range("2020-01-01", periods=7, freq="60D")
+    data = pd.concat([_series("A", dates, np.arange(7.0)),
+                      _series("A", dates[:3], [50.0, 60, 70]).assign(sample_type="field_duplicate")])
+    r = trends.trend_table(data).iloc[0]
+    assert (r["n"], r["direction"]) == (7, "too_few")
+    data8 = _series("A", pd.date_range("2020-01-01", periods=8, freq="60D"), np.arange(8.0))
+    assert trends.trend_table(data8).iloc[0]["direction"] == "increasing"
+
+
+def test_crosses_limit_on_from_sen_line():
+    """y = 1 + 2 per year reaches a 20 µg/L limit 9.5 years after the first sample (line arithmetic)."""
+    dates = pd.date_range("2018-01-01", periods=12, freq="100D")
+    t = trends.decimal_years(dates)
+    data = _series("A", dates, 1 + 2 * (t - t[0]))
+    limits = pd.DataFrame({"site_id": ["A"], "analyte": "arsenic", "fraction": "dissolved",
+                           "limit_ug_L": [20.0], "limit_table": ["x"]})
+    r = trends.trend_table(data, limits=limits).iloc[0]
+    expected = pd.Timestamp("2018-01-01") + pd.Timedelta(days=9.5 * 365.25)
+    assert abs(r["crosses_limit_on"] - expected) <= pd.Timedelta(days=1)
+    assert "extrapolation" in r["note"]
+    low = limits.assign(limit_ug_L=5.0)  # already above at the last sample: no date
+    r = trends.trend_table(data, limits=low).iloc[0]
+    assert pd.isna(r["crosses_limit_on"]) and "already" in r["note"]

@@ -270,3 +270,156 @@ def mann_kendall(times, values, nondetect=None, seasons=None, alpha=0.05) -> dic
     y = np.asarray(values, dtype=float)
     out = mann_kendall_grouped(times, y, nondetect, np.zeros(y.size, np.int64), 1, seasons, alpha)
     return out.iloc[0].to_dict()
+
+
+# --------------------------------------------------------------------------- per-series table
+
+TABLE_COLUMNS = ["site_id", "analyte", "fraction", "n", "n_nondetect", "first_sampled",
+                 "last_sampled", "test", "s", "var_s", "z", "p_value", "tau", "slope_per_year",
+                 "slope_low", "slope_high", "slope_method", "intercept", "direction",
+                 "lowest_limit_ug_L", "lowest_limit_table", "crosses_limit_on", "note"]
+
+#: Fewer values than this: no trend direction (common practice).
+MIN_VALUES = 8
+
+
+def sampling_seasons(dates, codes, n_groups, mode: str = "auto") -> tuple[np.ndarray, np.ndarray]:
+    """Season of each value and number of seasons per series for the seasonal Kendall test.
+
+    ``mode="auto"``: a series is seasonal when it spans at least 3 calendar years, its median
+    number of samples per sampled year is >= 10 (months, 12 seasons) or 3-9 (quarters,
+    4 seasons), and every season holds samples from at least 3 different years (Hirsch, Slack &
+    Smith 1982 use monthly or quarterly seasons). ``"always"``: months when there are >= 10
+    samples per year, else quarters. ``"never"``: one season.
+
+    Returns
+    -------
+    seasons : ndarray of int
+        Season index per value (0 for non-seasonal series).
+    n_seasons : ndarray of int, shape (n_groups,)
+        1, 4 or 12 per series.
+    """
+    if mode not in ("auto", "always", "never"):
+        raise ValueError(f"seasonal must be auto, always or never, not {mode!r}")
+    d = pd.to_datetime(pd.Series(dates)).reset_index(drop=True)
+    codes = np.asarray(codes, np.int64)
+    n_seasons = np.ones(n_groups, np.int64)
+    if mode == "never" or d.empty:
+        return np.zeros(len(d), np.int64), n_seasons
+    frame = pd.DataFrame({"g": codes, "year": d.dt.year, "month": d.dt.month - 1})
+    per_year = frame.groupby(["g", "year"]).size().groupby("g").agg(["median", "size"])
+    per_year = per_year.reindex(range(n_groups))
+    monthly = per_year["median"].to_numpy() >= 10
+    quarterly = (per_year["median"].to_numpy() >= 3) & ~monthly
+    enough_years = per_year["size"].to_numpy() >= 3
+    choice = np.where(monthly, 12, np.where(quarterly | (mode == "always"), 4, 1))
+    if mode == "auto":
+        for p in (12, 4):
+            season = frame["month"] if p == 12 else frame["month"] // 3
+            years = frame.assign(s=season).groupby(["g", "s"])["year"].nunique()
+            seasons_ok = (years >= 3).groupby("g").sum().reindex(range(n_groups), fill_value=0)
+            bad = (choice == p) & ~((seasons_ok.to_numpy() == p) & enough_years)
+            choice = np.where(bad, 1, choice)
+    n_seasons = choice.astype(np.int64)
+    per_value = n_seasons[codes]
+    season = np.where(per_value == 12, frame["month"], np.where(per_value == 4, frame["month"] // 3, 0))
+    return season.astype(np.int64), n_seasons
+
+
+def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "auto",
+                min_n: int = MIN_VALUES, limits: pd.DataFrame | None = None) -> pd.DataFrame:
+    """Trend test and slope per site x analyte x fraction from accepted results.
+
+    Parameters
+    ----------
+    results : DataFrame
+        Accepted results (DEVELOPERS.md data model); QC samples are left out (a field duplicate
+        is represented by its parent sample).
+    alpha : float
+        Significance level of the two-sided test for ``direction``; the slope interval has
+        confidence 1 - alpha.
+    seasonal : {"auto", "always", "never"}
+        When to use the seasonal Kendall test (:func:`sampling_seasons`).
+    min_n : int
+        Fewer values than this give ``direction = "too_few"`` (common practice: 8).
+    limits : DataFrame, optional
+        ``site_id, analyte, fraction, limit_ug_L, limit_table``: the lowest applicable
+        single-sample limit of each series (see :func:`lowest_limits`), for ``crosses_limit_on``.
+
+    Returns
+    -------
+    DataFrame
+        :data:`TABLE_COLUMNS`. ``slope_per_year`` and its interval in µg/L per year;
+        ``intercept`` is the trend line's value on ``first_sampled`` [µg/L];
+        ``crosses_limit_on`` is the date on which an increasing trend line, still below the
+        lowest limit on the last sampling date, reaches it (an indication only: extrapolation
+        is uncertain).
+    """
+    from tracescreen.summary import censored_series, site_samples
+
+    data = censored_series(site_samples(results))
+    data = data[data["value"].notna() & data["sampled_at"].notna()]
+    codes, table = grouped.group_codes(data, ["site_id", "analyte", "fraction"])
+    g = len(table)
+    t = decimal_years(data["sampled_at"]) if len(data) else np.zeros(0)
+    seasons, n_seasons = sampling_seasons(data["sampled_at"], codes, g, seasonal)
+    res = mann_kendall_grouped(t, data["value"].to_numpy(float), data["nondetect"].to_numpy(bool),
+                               codes, g, seasons=seasons, alpha=alpha)
+    out = table.reset_index(drop=True).copy()
+    for col in TREND_COLUMNS:
+        if col != "t0":
+            out[col] = res[col].to_numpy()
+    out["n"] = out["n"].astype(int)
+    out["n_nondetect"] = out["n_nondetect"].astype(int)
+    t_last = pd.Series(t).groupby(codes).max().reindex(range(g)).to_numpy() if g else np.zeros(0)
+    out["first_sampled"] = date_from_decimal_year(res["t0"].to_numpy()).to_numpy()
+    out["last_sampled"] = date_from_decimal_year(t_last).to_numpy()
+    out["test"] = np.where(n_seasons > 1, "seasonal_kendall_" + n_seasons.astype(str) + "_seasons",
+                           "mann_kendall")
+    few = out["n"].to_numpy() < min_n
+    p = out["p_value"].to_numpy(float)
+    s = out["s"].to_numpy(float)
+    sig = np.nan_to_num(p, nan=1.0) < alpha
+    out["direction"] = np.where(few, "too_few", np.where(sig & (s > 0), "increasing",
+                                np.where(sig & (s < 0), "decreasing", "no_trend")))
+    if limits is not None and len(limits):
+        lim = out[["site_id", "analyte", "fraction"]].merge(
+            limits[["site_id", "analyte", "fraction", "limit_ug_L", "limit_table"]],
+            how="left", on=["site_id", "analyte", "fraction"])
+        out["lowest_limit_ug_L"] = lim["limit_ug_L"].to_numpy(float)
+        out["lowest_limit_table"] = lim["limit_table"].to_numpy(object)
+    else:
+        out["lowest_limit_ug_L"] = np.nan
+        out["lowest_limit_table"] = None
+    limit = out["lowest_limit_ug_L"].to_numpy(float)
+    slope = out["slope_per_year"].to_numpy(float)
+    t0 = res["t0"].to_numpy(float)
+    line_last = out["intercept"].to_numpy(float) + slope * (t_last - t0)
+    rising = (out["direction"].to_numpy() == "increasing") & (slope > 0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        cross = np.where(rising & (line_last < limit), t0 + (limit - out["intercept"]) / slope, np.nan)
+    out["crosses_limit_on"] = date_from_decimal_year(cross).to_numpy()
+    nd_share = out["n_nondetect"] / out["n"].clip(lower=1)
+    n_dl = data[data["nondetect"]].groupby(codes[data["nondetect"].to_numpy()])["value"].nunique()
+    n_dl = n_dl.reindex(range(g), fill_value=0).to_numpy()
+    fmt = pd.Series(limit).map(lambda v: f"{v:g}")
+    out["note"] = _notes(g, [
+        (few, f"fewer than {min_n} values: no direction given (common practice)"),
+        (nd_share.to_numpy() > 0.8, "more than 80 % non-detects: the test mostly sees detection "
+                                    "limits (Helsel 2012)"),
+        (out["n_nondetect"].to_numpy() > 0, "non-detects: pairs of unknown order counted as ties "
+                                            "(censored Kendall, Helsel 2012)"),
+        (n_dl > 1, "several detection limits in the record"),
+        (rising & (line_last >= limit), "trend line already at or above the lowest limit ("
+         + fmt + " µg/L)"),
+        (np.isfinite(cross), "crossing date is an extrapolation of the trend line: an indication "
+                             "only, uncertain"),
+        (n_seasons > 1, "seasonal Kendall: values compared within the same season"),
+    ])
+    return out[TABLE_COLUMNS]
+
+
+def _notes(size: int, parts) -> np.ndarray:
+    from tracescreen.summary import _join_notes
+
+    return _join_notes(parts, size)
