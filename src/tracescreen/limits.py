@@ -211,8 +211,8 @@ EXTRA_ENTRY_KEYS: list[str] = []
 def _check_overlaps(entries: pd.DataFrame, name: str) -> None:
     if entries.empty:
         return
-    lo = entries["effective_from"].fillna(pd.Timestamp.min)
-    hi = entries["effective_to"].fillna(pd.Timestamp.max)
+    lo = pd.to_datetime(entries["effective_from"]).astype("datetime64[ns]").fillna(pd.Timestamp.min)
+    hi = pd.to_datetime(entries["effective_to"]).astype("datetime64[ns]").fillna(pd.Timestamp.max)
     keys = ["analyte", "fraction", "basis", "duration"]
     for _, g in entries.assign(_lo=lo, _hi=hi).groupby(keys, sort=False):  # few groups per table
         if len(g) < 2:
