@@ -8,6 +8,7 @@ from pathlib import Path
 from .. import outputs
 from ..screening import STATUSES, screen
 from .common import add_data_options, load_inputs, print_caution, warn
+from .trends import add_statistics_options, write_statistics
 
 
 def register(sub) -> None:
@@ -17,6 +18,7 @@ def register(sub) -> None:
                     "every row that could not be used with its reason.",
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
+    add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
     p.set_defaults(func=run)
 
@@ -45,7 +47,8 @@ def run(args) -> int:
 
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
-    return {}
+    extra = write_statistics(args, inputs.loaded.accepted, screened, out)
+    return extra
 
 
 def print_summary(loaded, screened) -> None:
