@@ -17,6 +17,7 @@ from ..caution import CAUTION
 COMMANDS = [
     "screen",
     "trends",
+    "report",
 ]
 
 
