@@ -201,6 +201,7 @@ def test_every_page_shows_the_caution(page, dash_url):
 
     page.goto(dash_url + "/")
     links = page.locator("nav.nav a")
+    expect(links.first).to_be_visible(timeout=20_000)
     targets = [(links.nth(i).inner_text(), links.nth(i).get_attribute("href")) for i in range(links.count())]
     assert len(targets) >= 8
     ready = {"/": "#matrix-table", "/map": "#map-graph .js-plotly-plot", "/site": "#site-chart .js-plotly-plot",
