@@ -63,7 +63,7 @@ def _series_view(session: SessionData, site, analyte, fraction, log_y):
     rows = session.series(site, analyte, fraction)
     title = f"{session.site_name(site)} ({site}) · {analyte}, {fraction}"
     pts = result_points(rows)
-    trend = series_trend(pts) if len(pts) else None
+    trend = series_trend(rows, pts) if len(pts) else None
     fig = site_metal_figure(rows, title, trend=trend.get("line") if trend else None, log_y=log_y)
     n_qc = int((rows["sample_type"].astype(str) != "sample").sum()) if "sample_type" in rows else 0
     counts = pts["status"].value_counts() if len(pts) else {}

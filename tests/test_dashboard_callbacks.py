@@ -271,3 +271,21 @@ def test_screened_input_order_does_not_matter():
     inputs.accepted = inputs.accepted.sample(frac=1.0, random_state=7).reset_index(drop=True)
     b = build_session(inputs)
     np.testing.assert_array_equal(status_counts(a, Filters()), status_counts(b, Filters()))
+
+
+def test_site_chart_shows_engine_trend(session):
+    """KR02 dissolved zinc (the scenario's rising site): the chart's trend text and line are the
+    engine's trend_table result for that series (Mann-Kendall / Sen, tested against pymannkendall
+    in test_trends.py)."""
+    from tracescreen.trends import decimal_years, trend_table
+
+    acc = engine_view()[0].accepted
+    sel = acc[(acc["site_id"] == "KR02") & (acc["analyte"] == "zinc") & (acc["fraction"] == "dissolved")]
+    ref = trend_table(sel).iloc[0]
+    fig, summary = series_view(session, "KR02", "zinc", "dissolved")
+    line = [t for t in fig.data if t.meta["role"] == "trend"]
+    assert len(line) == 1 and ref["direction"] == "increasing"
+    years = decimal_years([ref["last_sampled"]])[0] - decimal_years([ref["first_sampled"]])[0]
+    np.testing.assert_allclose(line[0].y, [ref["intercept"], ref["intercept"] + ref["slope_per_year"] * years])
+    text = summary[-1].children
+    assert f"S = {ref['s']:.0f}" in text and "increasing" in text
