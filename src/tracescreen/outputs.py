@@ -27,6 +27,12 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
     out = df.copy()
     for c in out.columns:
         s = out[c]
+        if isinstance(s.dtype, pd.CategoricalDtype):  # only the categories need looking at
+            cats = pd.Series(s.cat.categories.astype(str))
+            mask = cats.str.match(FORMULA_START)
+            if mask.any():
+                out[c] = s.cat.rename_categories(cats.where(~mask, "'" + cats).tolist())
+            continue
         if pd.api.types.is_string_dtype(s.dtype) or s.dtype == object:
             txt = s.astype(str)
             mask = txt.str.match(FORMULA_START) & s.notna()
@@ -57,7 +63,10 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
     p = Path(path)
     p.parent.mkdir(parents=True, exist_ok=True)
     table = pa.Table.from_pandas(prepare(df), preserve_index=False)
-    pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed"))
+    table = pa.Table.from_arrays(
+        [c.cast(c.type.value_type) if pa.types.is_dictionary(c.type) else c for c in table.columns],
+        names=table.column_names)
+    pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed", batch_size=1 << 16))
     return p
 
 

@@ -191,34 +191,48 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
                                   "no limit for this analyte and fraction in the tables for this site's uses"))
 
     rp = np.concatenate([r_pos, lone])
-    out = results.iloc[rp].reset_index(drop=True)
-    out["hardness_used_mg_L"] = hard["hardness_used_mg_L"].to_numpy()[rp]
-    out["hardness_origin"] = hard["hardness_origin"].to_numpy()[rp]
-
-    def joined(a, fill):
-        return np.concatenate([np.asarray(a, dtype=object), np.full(len(lone), fill, dtype=object)])
-
-    out["limit_table"] = joined(ent["table_id"], "")
-    out["use"] = joined(ent["use"], "")
-    out["duration"] = joined(ent["duration"], "")
-    out["basis"] = joined(ent["basis"], "")
-    out["limit_ug_L"] = np.concatenate([limit, np.full(len(lone), np.nan)])
-    out["ratio"] = np.concatenate([ratio, np.full(len(lone), np.nan)])
-    out["status"] = np.concatenate([status, lone_status])
-    out["source"] = joined(ent["source"], "")
-    out["note"] = np.concatenate([note, lone_note]).astype(object)
-    out["entry_id"] = joined(ent["entry_id"], "")
-    for c in ("limit_table", "use", "duration", "basis", "status", "source", "note", "entry_id", "hardness_origin"):
-        out[c] = out[c].astype(str)
     order = np.argsort(rp, kind="stable")  # back to input order; a result's entries stay in table order
-    out = out.iloc[order].reset_index(drop=True)
+    rp = rp[order]
+    e_all = np.concatenate([e_pos, np.full(len(lone), -1)])[order]
+    cols = {}
+    for c in results.columns:  # take by position; text columns as categoricals (integer take)
+        cols[c] = take_column(results[c], rp)
+    cols["hardness_used_mg_L"] = hard["hardness_used_mg_L"].to_numpy()[rp]
+    cols["hardness_origin"] = take_column(hard["hardness_origin"], rp)
+    for c, src in (("limit_table", "table_id"), ("use", "use"), ("duration", "duration"), ("basis", "basis"),
+                   ("source", "source"), ("entry_id", "entry_id")):
+        cols[c] = entry_attribute(entries[src], e_all)
+    cols["limit_ug_L"] = np.concatenate([limit, np.full(len(lone), np.nan)])[order]
+    cols["ratio"] = np.concatenate([ratio, np.full(len(lone), np.nan)])[order]
+    st_codes = pd.Categorical(np.concatenate([status, lone_status]), categories=list(STATUSES)).codes[order]
+    cols["status"] = pd.Categorical.from_codes(st_codes, categories=list(STATUSES))
+    cols["note"] = pd.Categorical(np.concatenate([note, lone_note]).astype(object)[order].astype(str))
+    out = pd.DataFrame(cols)
     return out[SCREENING_COLUMNS]
+
+
+def take_column(col: pd.Series, positions: np.ndarray):
+    """Values of ``col`` at ``positions``; text columns come back as categoricals (fast integer take)."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        return pd.Categorical.from_codes(col.cat.codes.to_numpy()[positions], dtype=col.dtype)
+    if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
+        codes, uniques = pd.factorize(col, use_na_sentinel=False)
+        return pd.Categorical.from_codes(codes[positions], categories=pd.Index(uniques, dtype=object).astype(str))
+    return col.to_numpy()[positions]
+
+
+def entry_attribute(values: pd.Series, e_pos: np.ndarray) -> pd.Categorical:
+    """Attribute of the entry at each position (-1: no entry -> empty text), as a categorical."""
+    text = values.astype(str).to_numpy(dtype=object)
+    cats, inv = np.unique(np.append(text, ""), return_inverse=True)
+    codes = inv[np.where(e_pos < 0, len(text), e_pos)]
+    return pd.Categorical.from_codes(codes, categories=cats.astype(str))
 
 
 def worst_status(screened: pd.DataFrame, by: list[str]) -> pd.DataFrame:
     """Most severe status per group (severity order :data:`STATUSES`), with the count of rows."""
     rank = screened["status"].map(STATUS_RANK)
-    g = screened.assign(_rank=rank).groupby(by, observed=True, sort=True)
+    g = screened.assign(_rank=rank.astype(int)).groupby(by, observed=True, sort=True)
     out = g["_rank"].agg(["min", "size"]).reset_index()
     out["worst_status"] = np.asarray(STATUSES, dtype=object)[out["min"].to_numpy()]
     return out.drop(columns="min").rename(columns={"size": "n_rows"})
