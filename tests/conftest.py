@@ -34,3 +34,14 @@ def demo_screen_dir(tmp_path_factory) -> Path:
     out = tmp_path_factory.mktemp("demo_screen")
     assert main(["screen", *demo_args(), "--out", str(out)]) == 0
     return out
+
+
+@pytest.fixture(scope="session")
+def demo_report(tmp_path_factory) -> dict[str, Path]:
+    """``tracescreen report`` on the demo scenario: paths of the HTML report and its workbook."""
+    from tracescreen.cli import main
+
+    out = tmp_path_factory.mktemp("demo_report")
+    html, xlsx = out / "report.html", out / "report.xlsx"
+    assert main(["report", *demo_args(), "--out", str(html), "--xlsx", str(xlsx)]) == 0
+    return {"html": html, "xlsx": xlsx}

@@ -22,16 +22,20 @@ def plotly_script() -> str:
     return plotly.offline.get_plotlyjs().replace("</script", "<\\/script")
 
 
-def _limit_traces(rows: pd.DataFrame) -> list[go.Scatter]:
-    """Lines for constant limits; small dashes per sample where a limit varies (hardness)."""
+_VARYING_SYMBOLS = ["line-ew-open", "cross-thin-open", "x-thin-open", "line-ns-open"]
+
+
+def _limit_traces(rows: pd.DataFrame, colour: dict) -> list[go.Scatter]:
+    """Dashed lines for constant limits; for a limit that varies (hardness), a short mark at each
+    sample in the site's colour."""
     lim = rows[rows["limit_ug_L"].notna()]
     if lim.empty:
         return []
     traces = []
-    key = ["limit_table", "duration", "use"]
-    lim = lim.assign(**{k: lim[k].fillna("").astype(str) for k in key if k in lim.columns})
-    key = [k for k in key if k in lim.columns]
+    key = [k for k in ("limit_table", "duration", "use") if k in lim.columns]
+    lim = lim.assign(**{k: lim[k].fillna("").astype(str) for k in key})
     x0, x1 = rows["sampled_at"].min(), rows["sampled_at"].max()
+    varying = 0
     for (table, *rest), g in lim.groupby(key, sort=True):  # one trace per limit (a handful)
         label = " ".join([str(table)] + [str(r) for r in rest if r])
         values = g["limit_ug_L"].unique()
@@ -39,11 +43,15 @@ def _limit_traces(rows: pd.DataFrame) -> list[go.Scatter]:
             v = float(values[0])
             traces.append(go.Scatter(x=[x0, x1], y=[v, v], mode="lines", name=f"{label}: {format_number([v])[0]} µg/L",
                                      line=dict(dash="dash", width=1.5, color="#444"), hoverinfo="name"))
-        else:
-            g = g.drop_duplicates(["sampled_at", "limit_ug_L"])
-            traces.append(go.Scatter(x=g["sampled_at"], y=g["limit_ug_L"], mode="markers",
-                                     name=f"{label} (hardness-dependent)",
-                                     marker=dict(symbol="line-ew-open", size=10, color="#444")))
+            continue
+        symbol = _VARYING_SYMBOLS[varying % len(_VARYING_SYMBOLS)]
+        varying += 1
+        g = g.drop_duplicates(["site_id", "sampled_at", "limit_ug_L"])
+        for i, (sid, gs) in enumerate(g.groupby("site_id", sort=True)):  # in each site's colour
+            traces.append(go.Scatter(x=gs["sampled_at"], y=gs["limit_ug_L"], mode="markers",
+                                     name=f"{label} (hardness-dependent, site colour)", legendgroup=label,
+                                     showlegend=i == 0, hovertemplate=f"{sid} {label}: %{{y}} µg/L",
+                                     marker=dict(symbol=symbol, size=9, color=colour.get(sid, "#444"))))
     return traces
 
 
@@ -84,7 +92,7 @@ def analyte_figures(screening: pd.DataFrame) -> list[tuple[str, str, go.Figure]]
                                          text=nd["sample_id"],
                                          hovertemplate="%{text}<br>%{x|%Y-%m-%d}: &lt;%{y} µg/L (non-detect)"))
         rows = site[site["analyte"].eq(analyte) & site["fraction"].eq(fraction)]
-        for t in _limit_traces(rows):
+        for t in _limit_traces(rows, colour):
             fig.add_trace(t)
         fig.update_layout(template="none", height=380, margin=dict(l=60, r=20, t=40, b=40),
                           title=dict(text=f"{analyte} ({fraction})", x=0.01),

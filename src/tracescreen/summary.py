@@ -151,6 +151,9 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     out.loc[only_counts, pcols] = np.nan
     out[pcols] = out[pcols].mask(below_dl)
     km = out["method"].to_numpy() == "kaplan_meier"
+    maxdet = out["max_detected"].to_numpy(float)
+    with np.errstate(invalid="ignore"):
+        high_dl = np.bincount(codes[nd & (x > maxdet[codes])], minlength=g)
     out["note"] = _join_notes([
         (only_counts, "more than 80 % non-detects: only counts, maximum and proportions above "
                       "limits are reported (Helsel 2012)"),
@@ -162,6 +165,8 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
          + _fmt(out["min_detected"]) + " µg/L)"),
         (km & (pct_nd > 0) & ~only_counts & ~few, "Kaplan-Meier; mass below the smallest detect "
          "placed at the lowest value (Efron), mean biased high"),
+        ((high_dl > 0) & ~only_counts, _fmt(high_dl) + " non-detect(s) with a detection limit "
+         "above the largest detected value: they bound nothing the detects do not"),
         (np.char.startswith(out["method"].to_numpy().astype(str), "substitution"),
          "substitution on request: invented values, use with care (Helsel 2006)"),
         ((out["method"].to_numpy() == "mle_lognormal") & (n < 50),

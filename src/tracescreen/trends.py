@@ -68,7 +68,7 @@ def decimal_years(dates) -> np.ndarray:
 def date_from_decimal_year(t) -> pd.Series:
     """Inverse of :func:`decimal_years` (NaN -> NaT); day precision."""
     t = np.asarray(t, dtype=float)
-    ok = np.isfinite(t) & (np.abs(t - 1970.0) < 5000)
+    ok = np.isfinite(t) & (t > 1678.0) & (t < 2261.0)  # the datetime64[ns] range
     days = np.where(ok, (t - 1970.0) * DAYS_PER_YEAR, 0.0)
     out = _EPOCH + np.round(days).astype("int64").astype("timedelta64[D]")
     return pd.Series(np.where(ok, out, np.datetime64("NaT")), dtype="datetime64[ns]")
@@ -282,6 +282,9 @@ TABLE_COLUMNS = ["site_id", "analyte", "fraction", "n", "n_nondetect", "first_sa
 #: Fewer values than this: no trend direction (common practice).
 MIN_VALUES = 8
 
+#: Crossing dates further than this beyond the last sample are not given (years).
+HORIZON_YEARS = 50.0
+
 
 def sampling_seasons(dates, codes, n_groups, mode: str = "auto") -> tuple[np.ndarray, np.ndarray]:
     """Season of each value and number of seasons per series for the seasonal Kendall test.
@@ -326,8 +329,37 @@ def sampling_seasons(dates, codes, n_groups, mode: str = "auto") -> tuple[np.nda
     return season.astype(np.int64), n_seasons
 
 
+def lowest_limits(screened: pd.DataFrame) -> pd.DataFrame:
+    """Lowest applicable single-sample limit of each series, from the screening output.
+
+    Only site samples with a limit and a ``single_sample`` basis (or none stated) count; within a
+    series the limits of its latest sampling date are used, so that a limit no longer in force,
+    or computed from an old hardness, does not decide the crossing date.
+
+    Returns
+    -------
+    DataFrame
+        ``site_id, analyte, fraction, limit_ug_L, limit_table`` (one row per series with a limit).
+    """
+    keys = ["site_id", "analyte", "fraction"]
+    cols = keys + ["limit_ug_L", "limit_table"]
+    if screened is None or screened.empty or "limit_ug_L" not in screened:
+        return pd.DataFrame(columns=cols)
+    from tracescreen.summary import site_samples
+
+    d = site_samples(screened)
+    basis = d["basis"].fillna("") if "basis" in d else pd.Series("", index=d.index)
+    d = d[d["limit_ug_L"].notna() & basis.isin(["", "single_sample"])]
+    if d.empty:
+        return pd.DataFrame(columns=cols)
+    latest = d.groupby(keys, observed=True)["sampled_at"].transform("max")
+    d = d[d["sampled_at"] == latest].sort_values(keys + ["limit_ug_L", "limit_table"])
+    return d.drop_duplicates(keys)[cols].reset_index(drop=True)
+
+
 def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "auto",
-                min_n: int = MIN_VALUES, limits: pd.DataFrame | None = None) -> pd.DataFrame:
+                min_n: int = MIN_VALUES, limits: pd.DataFrame | None = None,
+                horizon_years: float = HORIZON_YEARS) -> pd.DataFrame:
     """Trend test and slope per site x analyte x fraction from accepted results.
 
     Parameters
@@ -345,6 +377,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     limits : DataFrame, optional
         ``site_id, analyte, fraction, limit_ug_L, limit_table``: the lowest applicable
         single-sample limit of each series (see :func:`lowest_limits`), for ``crosses_limit_on``.
+    horizon_years : float
+        No crossing date is given further than this beyond the last sample (the note says so).
 
     Returns
     -------
@@ -372,8 +406,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     out["n"] = out["n"].astype(int)
     out["n_nondetect"] = out["n_nondetect"].astype(int)
     t_last = pd.Series(t).groupby(codes).max().reindex(range(g)).to_numpy() if g else np.zeros(0)
-    out["first_sampled"] = date_from_decimal_year(res["t0"].to_numpy()).to_numpy()
-    out["last_sampled"] = date_from_decimal_year(t_last).to_numpy()
+    span = data["sampled_at"].groupby(codes).agg(["min", "max"]).reindex(range(g))
+    out["first_sampled"], out["last_sampled"] = span["min"].to_numpy(), span["max"].to_numpy()
     out["test"] = np.where(n_seasons > 1, "seasonal_kendall_" + n_seasons.astype(str) + "_seasons",
                            "mann_kendall")
     few = out["n"].to_numpy() < min_n
@@ -398,6 +432,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     rising = (out["direction"].to_numpy() == "increasing") & (slope > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
         cross = np.where(rising & (line_last < limit), t0 + (limit - out["intercept"]) / slope, np.nan)
+    far = cross > t_last + horizon_years
+    cross = np.where(far, np.nan, cross)
     out["crosses_limit_on"] = date_from_decimal_year(cross).to_numpy()
     nd_share = out["n_nondetect"] / out["n"].clip(lower=1)
     n_dl = data[data["nondetect"]].groupby(codes[data["nondetect"].to_numpy()])["value"].nunique()
@@ -412,6 +448,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (n_dl > 1, "several detection limits in the record"),
         (rising & (line_last >= limit), "trend line already at or above the lowest limit ("
          + fmt + " µg/L)"),
+        (far, f"at this slope the line would reach the lowest limit more than {horizon_years:g} "
+              "years after the last sample: no date given"),
         (np.isfinite(cross), "crossing date is an extrapolation of the trend line: an indication "
                              "only, uncertain"),
         (n_seasons > 1, "seasonal Kendall: values compared within the same season"),

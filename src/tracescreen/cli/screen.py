@@ -11,6 +11,7 @@ from ..retest import retest_list
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 from .flag_options import add_retest_options, retest_options
+from .trends import add_statistics_options, write_statistics
 
 
 def register(sub) -> None:
@@ -20,6 +21,7 @@ def register(sub) -> None:
                     "every row that could not be used with its reason.",
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
+    add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
     add_retest_options(p)
     p.set_defaults(func=run)
@@ -54,7 +56,8 @@ def run(args) -> int:
 
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
-    return {}
+    extra = write_statistics(args, inputs.loaded.accepted, screened, out)
+    return extra
 
 
 def print_summary(loaded, screened) -> None:
