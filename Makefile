@@ -31,6 +31,7 @@ test: setup
 
 bench: setup
 	$(PY) bench/bench_screen.py
+	$(PY) bench/bench_stats.py
 
 bench-dashboard: setup
 	$(PY) bench/bench_dashboard.py

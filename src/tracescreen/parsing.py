@@ -23,6 +23,8 @@ import re
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 ND_WORDS = frozenset({
     "nd", "n.d.", "n.d", "notdetected", "not detected", "bdl", "belowdetectionlimit",
@@ -63,16 +65,25 @@ def _vocab_key(s: pd.Series) -> pd.Series:
     return s.str.strip().str.lower().str.replace(r"[\s_\-]+", "", regex=True)
 
 
+_NUM_FULL = r"^\s*[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?\s*$"
+
+
 def to_number(text: pd.Series, decimal_comma: bool = False) -> pd.Series:
     """Numbers from text; NaN where the text is not a plain number.
 
     With ``decimal_comma`` a comma is the decimal separator (``0,5``); without it, a comma makes
-    the cell unparseable (never guessed).
+    the cell unparseable (never guessed). Vectorised in Arrow: a regular-expression test, then a
+    cast of the matching cells.
     """
-    s = text.str.strip()
+    arr = pa.array(text.fillna("").astype(str), type=pa.string()) if not isinstance(text, pa.Array) else text
+    if isinstance(arr, pa.ChunkedArray):
+        arr = arr.combine_chunks()
     if decimal_comma:
-        s = s.str.replace(",", ".", regex=False)
-    return pd.to_numeric(s, errors="coerce").astype(float)
+        arr = pc.replace_substring(arr, ",", ".")
+    ok = pc.match_substring_regex(arr, _NUM_FULL)
+    vals = pc.cast(pc.utf8_trim_whitespace(pc.if_else(ok, arr, pa.scalar(None, pa.string()))), pa.float64())
+    out = vals.to_numpy(zero_copy_only=False)
+    return pd.Series(np.where(np.isnan(out), np.nan, out).astype(float), index=text.index)
 
 
 def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.Series,
@@ -111,14 +122,16 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
 
     todo = ~numeric  # everything that is not a plain number is looked at here
     if todo.any():
-        sub = res[todo]
-        sub_c = sub.str.replace(",", ".", regex=False) if decimal_comma else sub
-        lt = sub_c.str.extract(_LT_RE, expand=False)
-        gt = sub_c.str.extract(_GT_RE, expand=False)
-        numq = sub_c.str.extract(_NUM_QUAL_RE, expand=True)
-        low = sub.str.lower().str.replace(r"\s+", " ", regex=True)
-        is_nd_word = low.isin(ND_WORDS).to_numpy()
-        is_blank = (sub == "").to_numpy()
+        # analyse each distinct text once ("<0.5" repeats thousands of times), then broadcast
+        codes, uniq = pd.factorize(res[todo])
+        u = pd.Series(np.asarray(uniq, dtype=object), dtype=object)
+        u_c = u.str.replace(",", ".", regex=False) if decimal_comma else u
+        lt = u_c.str.extract(_LT_RE, expand=False).iloc[codes].reset_index(drop=True)
+        gt = u_c.str.extract(_GT_RE, expand=False).iloc[codes].reset_index(drop=True)
+        numq = u_c.str.extract(_NUM_QUAL_RE, expand=True).iloc[codes].reset_index(drop=True)
+        is_nd_word = u.str.lower().str.replace(r"\s+", " ", regex=True).isin(ND_WORDS).to_numpy()[codes]
+        is_blank = (u == "").to_numpy()[codes]
+        sub = u.iloc[codes].reset_index(drop=True)
         idx = np.flatnonzero(todo)
 
         lt_ok = lt.notna().to_numpy()
@@ -219,7 +232,7 @@ def parse_vocabulary(text: pd.Series, vocab: dict[str, str]) -> tuple[np.ndarray
     keys = _vocab_key(pd.Series(uniques, dtype=object).astype(str))
     table = np.array([vocab.get(k, vocab.get(k.replace(" ", ""), None)) for k in keys] + [None], dtype=object)
     out = table[np.where(codes < 0, len(uniques), codes)]
-    unknown = np.array([v is None for v in out]) & (s.str.strip() != "").to_numpy()
+    unknown = pd.isna(out).astype(bool) & (s.str.strip() != "").to_numpy()
     return out, unknown
 
 
