@@ -8,6 +8,7 @@ import dash
 from dash import Dash, Input, Output, dcc, html
 
 from dashboard.components import caution_banner
+from dashboard.trend import trends_available
 from dashboard.data import BASE_KEY, STORE_EXTENSION, DataStore, Inputs, load_inputs
 
 #: default cap on one uploaded file [bytes]
@@ -68,6 +69,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
 
     if preload:
         store.base_session()
+        if trends_available():  # import the statistics now, not in the first chart's callback
+            import tracescreen.trends  # noqa: F401
     # Claim the page callbacks (registered with dash.callback when the pages were imported) for
     # this app now rather than on its first request, so several apps can live in one process.
     with app.server.test_request_context():

@@ -155,14 +155,12 @@ def load_options(columns=None):
 
 
 def _categorical(values: pd.Series) -> pd.Series:
-    """Text column as a categorical with sorted text categories; "" counts as missing."""
-    cat = values if isinstance(values.dtype, pd.CategoricalDtype) else values.astype("category")
-    cats = cat.cat.categories
-    if not all(isinstance(c, str) for c in cats):
-        cat = values.astype(object).where(values.notna(), None).astype(str).where(values.notna(), None)
-        cat = cat.astype("category")
-        cats = cat.cat.categories
-    if "" in cats:
+    """Text column as a categorical with sorted text categories; "" and missing are missing."""
+    if isinstance(values.dtype, pd.CategoricalDtype) and all(isinstance(c, str) for c in values.cat.categories):
+        cat = values
+    else:
+        cat = values.astype("str").astype("category")  # pandas' str dtype keeps missing as NA
+    if "" in cat.cat.categories:
         cat = cat.cat.remove_categories([""])
     ordered = sorted(cat.cat.categories)
     if list(cat.cat.categories) != ordered:
@@ -279,12 +277,29 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
     )
 
 
+def text_values(series: pd.Series) -> np.ndarray:
+    """A text column as an object array of str ("" for missing).
+
+    For a categorical this takes only the categories in use: a slice of a million-row session
+    shares categories with the whole, and converting all of them would dominate a callback.
+    """
+    if isinstance(series.dtype, pd.CategoricalDtype):
+        codes = series.cat.codes.to_numpy()
+        cats = series.cat.categories
+        out = np.full(len(codes), "", dtype=object)
+        used = codes >= 0
+        if len(cats):
+            out[used] = np.asarray(cats.take(codes[used]), dtype=object)
+        return out
+    return series.astype(object).where(series.notna(), "").astype(str).to_numpy(dtype=object)
+
+
 def plain_frame(frame: pd.DataFrame) -> pd.DataFrame:
     """A copy with categorical text columns turned back into plain strings ("" for missing)."""
     out = frame.copy()
     for col in out.columns:
         if isinstance(out[col].dtype, pd.CategoricalDtype):
-            out[col] = out[col].astype(object).where(out[col].notna(), "").astype(str)
+            out[col] = pd.Series(text_values(out[col]), index=out.index, dtype=str)
     return out
 
 
@@ -416,8 +431,12 @@ class DataStore:
             rejected.append(loaded.rejected)
             files.append(loaded.files)
             kept.append(token)
+        merged = pd.concat(accepted, ignore_index=True)
+        for col in merged.columns:  # the engine writes missing text as "", never NaN
+            if merged[col].dtype == object or pd.api.types.is_string_dtype(merged[col].dtype):
+                merged[col] = merged[col].fillna("")
         inputs = Inputs(
-            accepted=pd.concat(accepted, ignore_index=True),
+            accepted=merged,
             rejected=pd.concat([r for r in rejected if len(r)] or [base.rejected], ignore_index=True),
             limits=base.limits,
             sites=base.sites,

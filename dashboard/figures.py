@@ -7,7 +7,8 @@ import textwrap
 
 import numpy as np
 import pandas as pd
-import plotly.graph_objects as go
+
+from dashboard.data import text_values
 
 from dashboard.palette import (
     LIMIT_COLOUR,
@@ -24,14 +25,6 @@ from dashboard.palette import (
 WEBGL_THRESHOLD = 2000
 _POINT_COLUMNS = ("result_text", "unit", "sample_id", "lab", "batch", "qualifier",
                   "limit_table", "limit_ug_L", "source")
-
-
-def _text(series: pd.Series) -> np.ndarray:
-    """A column as display strings ("" for missing), cheap for categoricals."""
-    if isinstance(series.dtype, pd.CategoricalDtype):
-        cats = np.asarray([str(c) for c in series.cat.categories] + [""], dtype=object)
-        return cats[series.cat.codes.to_numpy()]
-    return series.astype(object).where(series.notna(), "").astype(str).to_numpy(dtype=object)
 
 
 def _wrap(text: str, width: int = 70) -> str:
@@ -89,9 +82,35 @@ def limit_steps(rows: pd.DataFrame) -> list[dict]:
     return out
 
 
+def _dates(values) -> np.ndarray:
+    """Dates as ISO text for plotly (cheap to serialise, exact to the second)."""
+    arr = np.asarray(values, dtype="datetime64[s]")
+    return np.datetime_as_string(arr, unit="s")
+
+
+def _layout(**extra) -> dict:
+    """Plain white layout shared by the figures (a literal: no template object to copy)."""
+    axis = {"gridcolor": "#e6e9ec", "zerolinecolor": "#c9ced4", "linecolor": "#8a939c", "ticks": "outside"}
+    base = {"paper_bgcolor": "white", "plot_bgcolor": "white", "font": {"family": "system-ui, sans-serif"},
+            "hoverlabel": {"align": "left"}, "xaxis": dict(axis), "yaxis": dict(axis),
+            "legend": {"orientation": "h", "yanchor": "top", "y": -0.14, "x": 0}}
+    for key, value in extra.items():
+        base[key] = {**base[key], **value} if isinstance(value, dict) and isinstance(base.get(key), dict) else value
+    return base
+
+
+def trend_trace(trend: dict) -> dict:
+    """The trend line as a plotly trace (``trend``: ``x``, ``y`` [µg/L], ``label``)."""
+    return {"type": "scatter", "mode": "lines", "x": _dates(trend["x"]).tolist(), "y": list(trend["y"]),
+            "name": f"Trend: {trend.get('label', '')}", "line": {"color": TREND_COLOUR, "width": 2},
+            "hovertemplate": "Trend %{y:.4g} µg/L on %{x|%Y-%m-%d}<extra></extra>", "meta": {"role": "trend"}}
+
+
 def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
-                      log_y: bool = False) -> go.Figure:
-    """Results over time with limits, exceedances and (optionally) a trend line.
+                      log_y: bool = False) -> dict:
+    """Results over time with limits, exceedances and (optionally) a trend line, as a plotly dict.
+
+    Built as plain dicts (no figure-object validation), which keeps the chart callback fast.
 
     Parameters
     ----------
@@ -106,100 +125,95 @@ def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
     """
     pts = result_points(rows)
     webgl = len(pts) > WEBGL_THRESHOLD
-    scatter = go.Scattergl if webgl else go.Scatter
-    fig = go.Figure()
+    data = []
+    status_of = pts["status"].to_numpy() if len(pts) else np.array([], dtype=object)
     for status in (*STATUS_ORDER, "qc_sample"):
-        sub = pts[(pts["status"] == status).to_numpy()] if len(pts) else pts
+        sub = pts[status_of == status]
         if sub.empty:
             continue
-        custom = np.column_stack([_text(sub[c]) if c in sub else np.full(len(sub), "", object)
-                                  for c in _POINT_COLUMNS])
-        custom[:, 8] = [_wrap(s) for s in custom[:, 8]]
-        fig.add_trace(scatter(
-            x=sub["sampled_at"], y=sub["y"], mode="markers",
-            name=f"{STATUS_LABEL[status]} ({len(sub)})",
-            marker=dict(symbol=STATUS_SYMBOL[status], color=STATUS_COLOUR[status], size=9,
-                        line=dict(width=1.5, color=STATUS_COLOUR[status])),
-            customdata=custom,
-            hovertemplate=(
+        custom = np.column_stack([text_values(sub[c]) if c in sub else np.full(len(sub), "", object)
+                                  for c in _POINT_COLUMNS[:-2]])
+        limit = np.char.mod("%.4g", sub["limit_ug_L"].to_numpy(float)).astype(object)
+        limit[~np.isfinite(sub["limit_ug_L"].to_numpy(float))] = "–"
+        sources = text_values(sub["source"]) if "source" in sub else np.full(len(sub), "", object)
+        wrapped = {u: _wrap(u) for u in set(sources)}
+        custom = np.column_stack([custom, limit, [wrapped[u] for u in sources]])
+        data.append({
+            "type": "scattergl" if webgl else "scatter", "mode": "markers",
+            "x": _dates(sub["sampled_at"]), "y": sub["y"].to_numpy(float),
+            "name": f"{STATUS_LABEL[status]} ({len(sub)})",
+            "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 9,
+                       "line": {"width": 1.5, "color": STATUS_COLOUR[status]}},
+            "customdata": custom.tolist(),
+            "hovertemplate": (
                 "%{x|%Y-%m-%d}<br>Result as reported: <b>%{customdata[0]} %{customdata[1]}</b>"
                 " (plotted %{y:.4g} µg/L)<br>Sample %{customdata[2]} · lab %{customdata[3]}"
                 " · batch %{customdata[4]} · qualifier %{customdata[5]}"
                 "<br>Limit: %{customdata[6]} %{customdata[7]} µg/L<br>Source: %{customdata[8]}"
                 f"<extra>{STATUS_LABEL[status]}</extra>"
             ),
-            meta={"role": "result", "status": status},
-        ))
+            "meta": {"role": "result", "status": status},
+        })
     for i, lim in enumerate(limit_steps(rows)):
         label = f"Limit: {lim['table']}" + (f" ({lim['duration']})" if lim["duration"] else "")
-        fig.add_trace(go.Scatter(
-            x=lim["x"], y=lim["y"], mode="lines", line_shape="hv", name=label,
-            line=dict(color=LIMIT_COLOUR, dash=LIMIT_DASHES[i % len(LIMIT_DASHES)], width=2),
-            hovertemplate=(f"{label}<br>%{{y:.4g}} µg/L on %{{x|%Y-%m-%d}}"
-                           + (" (hardness-dependent)" if lim["varies"] else "")
-                           + f"<br>Use: {lim['use']}<br>Source: {_wrap(lim['source'])}<extra></extra>"),
-            meta={"role": "limit", "table": lim["table"], "varies": lim["varies"]},
-        ))
+        data.append({
+            "type": "scatter", "mode": "lines", "x": _dates(lim["x"]), "y": lim["y"], "name": label,
+            "line": {"shape": "hv", "color": LIMIT_COLOUR, "width": 2, "dash": LIMIT_DASHES[i % len(LIMIT_DASHES)]},
+            "hovertemplate": (f"{label}<br>%{{y:.4g}} µg/L on %{{x|%Y-%m-%d}}"
+                              + (" (hardness-dependent)" if lim["varies"] else "")
+                              + f"<br>Use: {lim['use']}<br>Source: {_wrap(lim['source'])}<extra></extra>"),
+            "meta": {"role": "limit", "table": lim["table"], "varies": lim["varies"]},
+        })
     if trend:
-        fig.add_trace(go.Scatter(
-            x=trend["x"], y=trend["y"], mode="lines", name=f"Trend: {trend.get('label', '')}",
-            line=dict(color=TREND_COLOUR, width=2, dash="solid"),
-            hovertemplate="Trend %{y:.4g} µg/L on %{x|%Y-%m-%d}<extra></extra>",
-            meta={"role": "trend"},
-        ))
-    fig.update_layout(
-        title=dict(text=title, x=0.01),
-        template="plotly_white",
-        margin=dict(l=60, r=20, t=60, b=40),
-        height=520,
-        legend=dict(orientation="h", yanchor="top", y=-0.12, x=0),
-        yaxis=dict(title="Concentration [µg/L] (non-detects at their detection limit)",
-                   type="log" if log_y else "linear", rangemode="tozero" if not log_y else None),
-        xaxis=dict(title="Sampling date"),
-        uirevision=title,
-        meta={"webgl": webgl, "n_points": int(len(pts))},
+        data.append(trend_trace(trend))
+    layout = _layout(
+        title={"text": title, "x": 0.01}, margin={"l": 60, "r": 20, "t": 60, "b": 40}, height=520,
+        yaxis={"title": {"text": "Concentration [µg/L] (non-detects at their detection limit)"},
+               "type": "log" if log_y else "linear", **({} if log_y else {"rangemode": "tozero"})},
+        xaxis={"title": {"text": "Sampling date"}, "type": "date"},
+        uirevision=title, meta={"webgl": webgl, "n_points": int(len(pts))},
     )
     if pts.empty:
-        fig.add_annotation(text="No site-sample results for this selection", showarrow=False,
-                           xref="paper", yref="paper", x=0.5, y=0.5)
-    return fig
+        layout["annotations"] = [{"text": "No site-sample results for this selection", "showarrow": False,
+                                  "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}]
+    return {"data": data, "layout": layout}
 
 
-def map_figure(site_table: pd.DataFrame) -> go.Figure:
+def map_figure(site_table: pd.DataFrame) -> dict:
     """Sites by longitude and latitude, marked by worst status, with no tile server needed.
 
     The axes are plain degrees with the east-west scale shrunk by cos(latitude), so distances
     look right at the catchment's latitude (an equirectangular view).
     """
-    fig = go.Figure()
     located = site_table.dropna(subset=[c for c in ("latitude", "longitude") if c in site_table])
     if "latitude" not in located or located.empty:
-        fig.add_annotation(text="No site coordinates (give a sites file with latitude and longitude)",
-                           showarrow=False, xref="paper", yref="paper", x=0.5, y=0.5)
-        return fig
+        return {"data": [], "layout": _layout(annotations=[{
+            "text": "No site coordinates (give a sites file with latitude and longitude)",
+            "showarrow": False, "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}])}
+    data = []
     for status in STATUS_ORDER:
         sub = located[located["worst"] == status]
         if sub.empty:
             continue
-        fig.add_trace(go.Scatter(
-            x=sub["longitude"], y=sub["latitude"], mode="markers+text",
-            text=sub["site_id"], textposition="top center",
-            name=f"{STATUS_LABEL[status]} ({len(sub)})",
-            marker=dict(symbol=STATUS_SYMBOL[status], color=STATUS_COLOUR[status], size=16,
-                        line=dict(width=2, color=STATUS_COLOUR[status])),
-            customdata=np.column_stack([sub["site_id"], sub.get("name", sub["site_id"]).fillna(""),
-                                        sub["n_results"], sub["n_exceeds"]]),
-            hovertemplate=("<b>%{customdata[1]}</b> (%{customdata[0]})<br>"
-                           f"Worst: {STATUS_LABEL[status]}<br>%{{customdata[2]}} results, "
-                           "%{customdata[3]} above a limit<br>%{y:.4f}° N, %{x:.4f}° E<extra></extra>"),
-            meta={"role": "sites", "status": status},
-        ))
+        names = sub["name"].fillna("").astype(str) if "name" in sub else sub["site_id"]
+        data.append({
+            "type": "scatter", "mode": "markers+text", "x": sub["longitude"].to_numpy(float),
+            "y": sub["latitude"].to_numpy(float), "text": sub["site_id"].astype(str).tolist(),
+            "textposition": "top center", "name": f"{STATUS_LABEL[status]} ({len(sub)})",
+            "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 16,
+                       "line": {"width": 2, "color": STATUS_COLOUR[status]}},
+            "customdata": np.column_stack([sub["site_id"].astype(str), names, sub["n_results"],
+                                           sub["n_exceeds"]]).tolist(),
+            "hovertemplate": ("<b>%{customdata[1]}</b> (%{customdata[0]})<br>"
+                              f"Worst: {STATUS_LABEL[status]}<br>%{{customdata[2]}} results, "
+                              "%{customdata[3]} above a limit<br>%{y:.4f}° N, %{x:.4f}° E<extra></extra>"),
+            "meta": {"role": "sites", "status": status},
+        })
     lat0 = float(located["latitude"].mean())
-    fig.update_layout(
-        template="plotly_white", height=620, margin=dict(l=60, r=20, t=30, b=40),
-        xaxis=dict(title="Longitude [°]", scaleanchor="y",
-                   scaleratio=max(math.cos(math.radians(lat0)), 0.05), constrain="domain"),
-        yaxis=dict(title="Latitude [°]"),
-        legend=dict(orientation="h", yanchor="top", y=-0.12, x=0),
+    layout = _layout(
+        height=620, margin={"l": 60, "r": 20, "t": 30, "b": 40},
+        xaxis={"title": {"text": "Longitude [°]"}, "scaleanchor": "y",
+               "scaleratio": max(math.cos(math.radians(lat0)), 0.05), "constrain": "domain"},
+        yaxis={"title": {"text": "Latitude [°]"}},
     )
-    return fig
+    return {"data": data, "layout": layout}

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from html import escape
-from urllib.parse import urlencode
+from urllib.parse import quote_plus
 
 import numpy as np
 import pandas as pd
@@ -156,14 +156,6 @@ def site_worst(session: SessionData, counts: np.ndarray) -> pd.DataFrame:
 
 
 # ---- rendering ---------------------------------------------------------------------------------
-def site_href(site_id: str, analyte: str, fraction: str | None = None) -> str:
-    """Link to the site-and-metal page."""
-    query = {"site": site_id, "analyte": analyte}
-    if fraction:
-        query["fraction"] = fraction
-    return "/site?" + urlencode(query)
-
-
 def status_badges(totals: np.ndarray, element_id: str = "status-totals") -> html.Div:
     """Totals per status as labelled badges (glyph, label, count)."""
     return html.Div(
@@ -196,6 +188,9 @@ def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None 
     analytes = sorted(frame["analyte"].unique())
     cells = {(r.site_id, r.analyte): r for r in frame.itertuples(index=False)}
     e = escape
+    q_site = {sid: quote_plus(str(sid)) for sid in frame["site_id"].unique()}
+    q_metal = {a: quote_plus(str(a)) for a in analytes}
+    tail = f"&amp;fraction={quote_plus(fraction)}" if fraction else ""
     parts = ['<table class="matrix" id="matrix-table"><thead><tr><th>Site</th>']
     parts += [f'<th scope="col">{e(a)}</th>' for a in analytes]
     parts.append("</tr></thead><tbody>")
@@ -212,7 +207,7 @@ def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None 
                      f"{r.exceeds} above a limit")
             parts.append(
                 f'<td class="cell status-{r.worst}" data-site="{e(site_id)}" data-analyte="{e(a)}" '
-                f'data-status="{r.worst}"><a class="app-link" href="{e(site_href(site_id, a, fraction))}" '
+                f'data-status="{r.worst}"><a class="app-link" href="/site?site={q_site[site_id]}&amp;analyte={q_metal[a]}{tail}" '
                 f'title="{e(title)}"><span class="glyph">{STATUS_GLYPH[r.worst]}</span> '
                 f'{STATUS_SHORT[r.worst]}<br/>{r.exceeds}/{r.n_results}</a></td>'
             )

@@ -6,7 +6,7 @@ import numpy as np
 from dash import html
 
 from dashboard.data import SessionData
-from dashboard.figures import result_points, site_metal_figure
+from dashboard.figures import result_points, site_metal_figure, trend_trace
 from dashboard.palette import STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER
 from dashboard.trend import series_trend
 
@@ -54,7 +54,7 @@ def default_selection(session: SessionData, site=None, analyte=None, fraction=No
 
 
 def series_view(session: SessionData, site, analyte, fraction, log_y: bool = False):
-    """Figure and summary of one site, metal and fraction (cached per session and inputs)."""
+    """Figure (plotly dict) and summary of one site, metal and fraction, cached per session."""
     return session.cached("series_view", (site, analyte, fraction, bool(log_y)),
                           lambda: _series_view(session, site, analyte, fraction, log_y))
 
@@ -63,8 +63,7 @@ def _series_view(session: SessionData, site, analyte, fraction, log_y):
     rows = session.series(site, analyte, fraction)
     title = f"{session.site_name(site)} ({site}) · {analyte}, {fraction}"
     pts = result_points(rows)
-    trend = series_trend(rows, pts) if len(pts) else None
-    fig = site_metal_figure(rows, title, trend=trend.get("line") if trend else None, log_y=log_y)
+    fig = site_metal_figure(rows, title, log_y=log_y)
     n_qc = int((rows["sample_type"].astype(str) != "sample").sum()) if "sample_type" in rows else 0
     counts = pts["status"].value_counts() if len(pts) else {}
     items = [html.Li(f"{STATUS_GLYPH[s]} {STATUS_LABEL[s]}: {int(counts[s])}")
@@ -76,6 +75,20 @@ def _series_view(session: SessionData, site, analyte, fraction, log_y):
                f"{n_qc} QC rows (blanks, duplicates) are not plotted.", id="site-counts"),
         html.Ul(items, className="status-list"),
     ]
-    if trend:
-        summary.append(html.P(trend["text"], id="site-trend", className="trend"))
     return fig, summary
+
+
+def trend_view(session: SessionData, site, analyte, fraction):
+    """Trend trace (plotly dict or ``None``) and its text for one series, cached per session.
+
+    Kept apart from :func:`series_view` so the chart shows at once and the statistics follow.
+    """
+    def compute():
+        rows = session.series(site, analyte, fraction)
+        pts = result_points(rows)
+        trend = series_trend(rows, pts) if len(pts) else None
+        if trend is None:
+            return None, ""
+        return (trend_trace(trend["line"]) if trend["line"] else None), trend["text"]
+
+    return session.cached("trend_view", (site, analyte, fraction), compute)

@@ -42,7 +42,10 @@ def series_trend(rows: pd.DataFrame, points: pd.DataFrame, alpha: float = 0.05) 
         return None
     from tracescreen.trends import decimal_years, lowest_limits, trend_table
 
-    table = trend_table(plain_frame(points), alpha=alpha, limits=lowest_limits(plain_frame(rows)))
+    keys = ["site_id", "analyte", "fraction", "sampled_at", "sample_type"]
+    pts = plain_frame(points[keys + ["detected", "value_ug_L", "detection_limit_ug_L"]])
+    lim = plain_frame(rows[keys + ["limit_ug_L", "limit_table", "basis"]])
+    table = trend_table(pts, alpha=alpha, limits=lowest_limits(lim))
     if table.empty:
         return None
     r = table.iloc[0]

@@ -17,7 +17,7 @@ from dashboard.limit_tables import formula_text, sites_for_use
 from dashboard.matrix import Filters, matrix_frame, site_worst, status_counts
 from dashboard.palette import STATUS_COLOUR, STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER, STATUS_SYMBOL
 from dashboard.quality import reason_counts, rejected_frame
-from dashboard.series import series_view
+from dashboard.series import series_view, trend_view
 from dashboard.tables import FilterError, exceedance_rows, filter_mask, query_table, table_page, to_csv_bytes
 from dashboard.uploads import UploadError, add_token, decode_upload, preview_upload
 from tracescreen.screening import worst_status
@@ -99,20 +99,20 @@ def test_series_point_count_and_nondetects_at_detection_limit(session):
     nd = pts[~pts["detected"]]
     np.testing.assert_allclose(nd["y"], nd["detection_limit_ug_L"])
     fig, _ = series_view(session, "BH01", "arsenic", "total")
-    results = [t for t in fig.data if t.meta["role"] == "result"]
-    assert sum(len(t.x) for t in results) == len(sel)
+    results = [t for t in fig["data"] if t["meta"]["role"] == "result"]
+    assert sum(len(t["x"]) for t in results) == len(sel)
     for t in results:  # open symbols for non-detect statuses, filled otherwise
-        assert t.marker.symbol.endswith("-open") == t.meta["status"].startswith("nondetect")
+        assert t["marker"]["symbol"].endswith("-open") == t["meta"]["status"].startswith("nondetect")
 
 
 def test_who_arsenic_limit_line_at_10_ug_per_L(session):
     """BH01 (drinking water) arsenic chart draws the WHO guideline value 0.01 mg/L = 10 µg/L
     (WHO Guidelines for drinking-water quality, 4th ed. with 1st and 2nd addenda, 2022, Annex 3)."""
     fig, _ = series_view(session, "BH01", "arsenic", "total")
-    who = [t for t in fig.data if t.meta["role"] == "limit" and t.meta["table"] == "who_gdwq_2022"]
+    who = [t for t in fig["data"] if t["meta"]["role"] == "limit" and t["meta"]["table"] == "who_gdwq_2022"]
     assert len(who) == 1
-    np.testing.assert_allclose(who[0].y, 10.0, rtol=1e-12)
-    assert who[0].line.shape == "hv"
+    np.testing.assert_allclose(who[0]["y"], 10.0, rtol=1e-12)
+    assert who[0]["line"]["shape"] == "hv"
 
 
 def test_hardness_dependent_lead_limit_follows_sample_hardness(session):
@@ -126,12 +126,12 @@ def test_hardness_dependent_lead_limit_follows_sample_hardness(session):
     assert epa_lead_ccc(np.array([100.0]))[0] == pytest.approx(2.5, abs=0.05)
     rows = session.series("KR02", "lead", "dissolved")
     fig, _ = series_view(session, "KR02", "lead", "dissolved")
-    chronic = [t for t in fig.data if t.meta["role"] == "limit" and "chronic" in t.name
-               and t.meta["table"] == "us_epa_nrwqc_freshwater_aquatic_life"]
-    assert len(chronic) == 1 and chronic[0].meta["varies"]
+    chronic = [t for t in fig["data"] if t["meta"]["role"] == "limit" and "chronic" in t["name"]
+               and t["meta"]["table"] == "us_epa_nrwqc_freshwater_aquatic_life"]
+    assert len(chronic) == 1 and chronic[0]["meta"]["varies"]
     ref = rows[(rows["limit_table"] == "us_epa_nrwqc_freshwater_aquatic_life") & (rows["duration"] == "chronic")
                & (rows["sample_type"] == "sample")].drop_duplicates("sampled_at").sort_values("sampled_at")
-    np.testing.assert_allclose(chronic[0].y, epa_lead_ccc(ref["hardness_used_mg_L"].to_numpy()), rtol=1e-9)
+    np.testing.assert_allclose(chronic[0]["y"], epa_lead_ccc(ref["hardness_used_mg_L"].to_numpy()), rtol=1e-9)
 
 
 def test_exceedance_rows_equal_engine_rows(session):
@@ -174,12 +174,12 @@ def test_map_marks_every_located_site_by_worst_status(session):
     """Every site of the sites file is placed once, with the marker shape of its worst status."""
     table = site_worst(session, status_counts(session, Filters()))
     fig = map_figure(table)
-    placed = {sid: t.marker.symbol for t in fig.data for sid in t.text}
+    placed = {sid: t["marker"]["symbol"] for t in fig["data"] for sid in t["text"]}
     sites = engine_view()[2]
     assert set(placed) == set(table["site_id"]) == set(sites["site_id"])
-    for t in fig.data:
-        assert t.marker.symbol == STATUS_SYMBOL[t.meta["status"]]
-    assert fig.layout.xaxis.scaleratio == pytest.approx(math.cos(math.radians(sites["latitude"].mean())))
+    for t in fig["data"]:
+        assert t["marker"]["symbol"] == STATUS_SYMBOL[t["meta"]["status"]]
+    assert fig["layout"]["xaxis"]["scaleratio"] == pytest.approx(math.cos(math.radians(sites["latitude"].mean())))
 
 
 def test_status_vocabulary_never_relies_on_colour_alone():
@@ -199,8 +199,8 @@ def test_webgl_for_big_series():
         "status": "meets", "sample_type": "sample", "limit_table": "t", "duration": "", "basis": "single_sample",
         "limit_ug_L": 5.0, "source": "s", "use": "u",
     })
-    assert site_metal_figure(rows, "big").data[0].type == "scattergl"
-    assert site_metal_figure(rows.iloc[:10], "small").data[0].type == "scatter"
+    assert site_metal_figure(rows, "big")["data"][0]["type"] == "scattergl"
+    assert site_metal_figure(rows.iloc[:10], "small")["data"][0]["type"] == "scatter"
 
 
 def test_limit_formula_in_words_and_sites_per_use(session):
@@ -282,10 +282,8 @@ def test_site_chart_shows_engine_trend(session):
     acc = engine_view()[0].accepted
     sel = acc[(acc["site_id"] == "KR02") & (acc["analyte"] == "zinc") & (acc["fraction"] == "dissolved")]
     ref = trend_table(sel).iloc[0]
-    fig, summary = series_view(session, "KR02", "zinc", "dissolved")
-    line = [t for t in fig.data if t.meta["role"] == "trend"]
-    assert len(line) == 1 and ref["direction"] == "increasing"
+    line, text = trend_view(session, "KR02", "zinc", "dissolved")
+    assert line["meta"]["role"] == "trend" and ref["direction"] == "increasing"
     years = decimal_years([ref["last_sampled"]])[0] - decimal_years([ref["first_sampled"]])[0]
-    np.testing.assert_allclose(line[0].y, [ref["intercept"], ref["intercept"] + ref["slope_per_year"] * years])
-    text = summary[-1].children
+    np.testing.assert_allclose(line["y"], [ref["intercept"], ref["intercept"] + ref["slope_per_year"] * years])
     assert f"S = {ref['s']:.0f}" in text and "increasing" in text

@@ -1,11 +1,11 @@
 """Site and metal: results over time with each applicable limit, exceedances and trend."""
 
 import dash
-from dash import Input, Output, callback, dcc, html
+from dash import Input, Output, Patch, callback, dcc, html, no_update
 
 from dashboard.components import page_header
 from dashboard.data import current_session
-from dashboard.series import analyte_options, default_selection, series_view, site_options
+from dashboard.series import analyte_options, default_selection, series_view, site_options, trend_view
 
 dash.register_page(__name__, path="/site", name="Site & metal", order=2,
                    title="tracescreen · site and metal")
@@ -37,8 +37,10 @@ def layout(site=None, analyte=None, fraction=None, **_query):
                                               {"label": " log ", "value": "log"}])],
                      className="filter"),
         ], className="filters"),
+        dcc.Store(id="site-shown"),
         dcc.Loading(dcc.Graph(id="site-chart", config={"displaylogo": False}), type="dot"),
         html.Div(id="site-summary", className="summary"),
+        html.P(id="site-trend", className="trend"),
     ])
 
 
@@ -53,9 +55,27 @@ def update_analyte_options(dataset_key, site):
 
 
 @callback(
-    Output("site-chart", "figure"), Output("site-summary", "children"),
+    Output("site-chart", "figure"), Output("site-summary", "children"), Output("site-shown", "data"),
     Input("dataset-key", "data"), Input("site-select", "value"), Input("analyte-select", "value"),
     Input("fraction-select", "value"), Input("scale-select", "value"),
 )
 def update_site_chart(dataset_key, site, analyte, fraction, scale):
-    return series_view(current_session(dataset_key), site, analyte, fraction, scale == "log")
+    fig, summary = series_view(current_session(dataset_key), site, analyte, fraction, scale == "log")
+    return fig, summary, {"key": dataset_key, "site": site, "analyte": analyte, "fraction": fraction}
+
+
+@callback(
+    Output("site-chart", "figure", allow_duplicate=True), Output("site-trend", "children"),
+    Input("site-shown", "data"),
+    prevent_initial_call=True,
+)
+def update_site_trend(shown):
+    """Add the trend line and test once the chart is drawn (the statistics take longer)."""
+    if not shown:
+        return no_update, ""
+    trace, text = trend_view(current_session(shown["key"]), shown["site"], shown["analyte"], shown["fraction"])
+    if trace is None:
+        return no_update, text
+    patch = Patch()
+    patch["data"].append(trace)
+    return patch, text
