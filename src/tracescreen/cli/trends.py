@@ -54,13 +54,22 @@ def _trends(args, accepted, screened) -> pd.DataFrame:
                        min_n=args.min_trend_values, limits=lowest_limits(screened))
 
 
+def statistics_tables(args, accepted: pd.DataFrame, screened: pd.DataFrame) -> dict[str, pd.DataFrame]:
+    """The statistics tables ``summary``, ``exceedances`` (rates per limit) and ``trends``."""
+    return {
+        "summary": summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed),
+        "exceedances": exceedance_rates(screened),
+        "trends": _trends(args, accepted, screened),
+    }
+
+
 def write_statistics(args, accepted: pd.DataFrame, screened: pd.DataFrame, out: Path) -> dict:
     """Write summary.csv, exceedances.csv and trends.csv; return {name: path}."""
-    summary = summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed)
+    tables = statistics_tables(args, accepted, screened)
     return {
-        "summary": outputs.write_csv(summary, out / "summary.csv"),
-        "exceedance": outputs.write_csv(exceedance_rates(screened), out / "exceedances.csv"),
-        "trends": outputs.write_csv(_trends(args, accepted, screened), out / "trends.csv"),
+        "summary": outputs.write_csv(tables["summary"], out / "summary.csv"),
+        "exceedance": outputs.write_csv(tables["exceedances"], out / "exceedances.csv"),
+        "trends": outputs.write_csv(tables["trends"], out / "trends.csv"),
     }
 
 
