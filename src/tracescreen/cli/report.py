@@ -61,7 +61,8 @@ def run(args) -> int:
         settings={"non-detect method (summaries)": args.stats_method,
                   "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
                                 f"at least {args.min_trend_values} values",
-                  **options.describe()})
+                  **options.describe()},
+        method_notes=stats["notes"])
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
