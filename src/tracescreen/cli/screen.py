@@ -6,7 +6,10 @@ import argparse
 from pathlib import Path
 
 from .. import outputs
+from ..decision import uncertainty_decision
+from ..periods import period_table
 from ..screening import STATUSES, screen
+from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 
 
@@ -18,6 +21,10 @@ def register(sub) -> None:
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
+    p.add_argument("--guard-band", type=float, metavar="F",
+                   help="measurement-uncertainty decision rule (Eurachem/CITAC guide on compliance "
+                        "assessment): guard band g = F x the result's expanded uncertainty; reports beside "
+                        "each status whether the decision holds beyond g (e.g. 1 for g = U)")
     p.set_defaults(func=run)
 
 
@@ -27,6 +34,10 @@ def run(args) -> int:
         warn("no --sites file: every limit table applies to every site")
     loaded = inputs.loaded
     screened = screen(loaded.accepted, inputs.limits, inputs.sites)
+    if args.guard_band is not None:
+        if not args.guard_band >= 0:
+            raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
+        screened = uncertainty_decision(screened, args.guard_band)
     out = Path(args.out)
     written = {
         "screening": outputs.write_csv(screened, out / "screening.csv"),
@@ -36,6 +47,9 @@ def run(args) -> int:
     extra = run_extra_outputs(args, inputs, screened, out)
     written.update(extra)
     print_summary(loaded, screened)
+    if args.guard_band is not None:
+        print(f"Uncertainty decision rule: guard band g = {args.guard_band:g} x expanded uncertainty U "
+              "(Eurachem/CITAC 2021); column uncertainty_decision")
     print("\nOutputs:")
     for name, path in written.items():
         print(f"  {name:<10} {path}")
@@ -45,7 +59,8 @@ def run(args) -> int:
 
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
-    return {}
+    written = {"periods": outputs.write_csv(period_table(screened, inputs.limits), out / "periods.csv")}
+    return written
 
 
 def print_summary(loaded, screened) -> None:
