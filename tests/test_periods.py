@@ -11,10 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-from statsmodels.duration.survfunc import SurvfuncRight
 
 from tracescreen import periods
-from tracescreen.kaplan_meier import kaplan_meier_mean, kaplan_meier_quantile, left_censored_cdf
 from tracescreen.limits import LimitTableError, load_limits
 from tracescreen.screening import screen
 
@@ -195,21 +193,6 @@ def test_percentile_kaplan_meier(tmp_path):
         {"sampled_at": "2022-09-01", "value": 20.0}]
     _, per = pct(tmp_path, rows, "kaplan_meier", "nearest_rank")
     assert per["status"].iloc[0] == "nondetect_meets"
-
-
-def test_kaplan_meier_check_case_against_statsmodels():
-    """Helsel-style check case: KM mean 1.789333 (Efron), median 0.8, 75th 2.4; CDF equals statsmodels SurvfuncRight on flipped data."""
-    v = np.array([0.5, 0.5, 0.5, 0.6, 0.8, 1.0, 1.0, 1.0, 1.2, 1.5, 1.9, 2.4, 3.1, 4.6, 7.5])
-    nd = np.array([1, 1, 1, 0, 0, 1, 1, 1, 0, 0, 0, 0, 0, 0, 0], dtype=bool)
-    assert kaplan_meier_mean(v, nd) == pytest.approx(1.789333, abs=1e-6)
-    assert kaplan_meier_quantile(v, nd, 0.5) == (0.8, False)
-    assert kaplan_meier_quantile(v, nd, 0.75) == (2.4, False)
-    x, cdf, below = left_censored_cdf(v, nd)
-    sf = SurvfuncRight(10.0 - v, (~nd).astype(int))  # flip: T = M - x, reference library
-    surv = dict(zip(np.round(10.0 - sf.surv_times, 9), sf.surv_prob))  # S(M - x) = P(X < x)
-    assert [surv[round(a, 9)] for a in x] == pytest.approx(np.concatenate([[below], cdf[:-1]]))
-    # with the mass below the lowest detect at zero: 1.789333 - 0.32 * 0.5
-    assert kaplan_meier_mean(v, nd, below_lowest="zero") == pytest.approx(1.789333 - 0.16, abs=1e-6)
 
 
 def test_percentile_limit_in_force_at_period_end(tmp_path):

@@ -14,8 +14,8 @@ Some limits are not compared with each result but with a statistic of a site's r
 
 How non-detects enter the statistic is the table setting ``nondetect_rule``: ``zero``, ``half_dl``
 (half the detection limit), ``dl`` (the detection limit) or ``kaplan_meier`` (Kaplan-Meier mean or
-quantile, :mod:`tracescreen.kaplan_meier`). Whatever the rule, the statistic is also computed with
-non-detects at zero and at their detection limit; these bounds bracket the statistic of the true
+quantile with the Efron correction, :func:`tracescreen.censored.kaplan_meier_grouped`). Whatever the
+rule, the statistic is also computed with non-detects at zero and at their detection limit; these bounds bracket the statistic of the true
 values, and a non-detect is never made into an exceedance:
 
 - ``exceeds``: the rule's value is above the limit and so is the value with non-detects at zero;
@@ -53,7 +53,7 @@ import pandas as pd
 from . import decision
 from . import limits as limits_mod
 from .units import clean_decimal
-from .kaplan_meier import kaplan_meier_mean, kaplan_meier_quantile
+from .censored import kaplan_meier_grouped
 
 PERIOD_BASES = ("running_annual_mean", "percentile")
 NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
@@ -374,11 +374,16 @@ def _running_means(rows: pd.DataFrame, par: dict, with_results: bool):
         m = rule == name
         if m.any():
             value[m] = (_window_sums(substitute(val, dl, det, name), start, stop) / n)[m]
+    upper_values = substitute(val, dl, det, "dl")  # the censored-series convention: DL for a non-detect
     lower = _window_sums(substitute(val, dl, det, "zero"), start, stop) / n
-    upper = _window_sums(substitute(val, dl, det, "dl"), start, stop) / n
-    for i in np.flatnonzero(rule == "kaplan_meier"):  # small windows; only tables that choose KM
-        s, e = start[i], stop[i]
-        value[i] = kaplan_meier_mean(substitute(val[s:e], dl[s:e], det[s:e], "dl"), ~det[s:e])
+    upper = _window_sums(upper_values, start, stop) / n
+    has_nan = _window_sums(np.isnan(upper_values).astype(float), start, stop) > 0
+    km = np.flatnonzero((rule == "kaplan_meier") & ~has_nan)
+    if km.size:  # every window as its own series (windows overlap), one vectorised pass
+        size = stop[km] - start[km]
+        take = np.repeat(start[km] - np.cumsum(size) + size, size) + np.arange(size.sum())
+        value[km] = kaplan_meier_grouped(upper_values[take], ~det[take], np.repeat(np.arange(km.size), size),
+                                         km.size, probs=())["mean"].to_numpy()
     limit = r["limit_ug_L"].astype(float)
     status, note = _decide(value, lower, upper, n_nd == n, limit, p["sig"], p["rounding"], rule)
     day = pd.DatetimeIndex(r["sampled_at"]).normalize()
@@ -433,10 +438,15 @@ def _percentiles(rows: pd.DataFrame, par: dict, with_results: bool):
         if m.any():
             value[m] = group_percentiles(substitute(val, dl, det, name), group, pct, method)[m]
     censored = np.zeros(starts.size, dtype=bool)
-    for k in np.flatnonzero(rule == "kaplan_meier"):  # only tables that choose KM
-        s, e = starts[k], stops[k]
-        value[k], censored[k] = kaplan_meier_quantile(substitute(val[s:e], dl[s:e], det[s:e], "dl"), ~det[s:e],
-                                                      pct[k] / 100.0)
+    km = (rule == "kaplan_meier") & (np.bincount(group, weights=np.isnan(dl) & ~det, minlength=starts.size) == 0)
+    for q in np.unique(pct[km]):  # Kaplan-Meier quantile: smallest x with F(x) >= q
+        groups = np.flatnonzero(km & (pct == q))
+        rows_in = np.isin(group, groups)
+        code = np.searchsorted(groups, group[rows_in])
+        est = kaplan_meier_grouped(substitute(val, dl, det, "dl")[rows_in], ~det[rows_in], code, groups.size,
+                                   probs=(q / 100.0,)).iloc[:, -1].to_numpy()
+        value[groups] = est
+        censored[groups] = np.isnan(est)  # below the smallest detect: only "< DL" is known
     n = stops - starts
     n_nd = np.bincount(group, weights=(~det).astype(float), minlength=starts.size).astype(int)
     limit_all = r["limit_ug_L"].astype(float)

@@ -9,26 +9,32 @@ from .. import outputs
 from ..decision import uncertainty_decision
 from ..periods import period_table
 from ..screening import STATUSES, screen
+from ..retest import retest_list
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
+from .flag_options import add_retest_options, retest_options
+from .trends import add_statistics_options, write_statistics
 
 
 def register(sub) -> None:
     p = sub.add_parser(
-        "screen", help="screen results against limit tables; write screening.csv and rejected.csv",
+        "screen", help="screen results against limit tables; write screening.csv, rejected.csv and retest.csv",
         description="Compare every accepted result with every limit that applies to its site, and list "
                     "every row that could not be used with its reason.",
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
+    add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
     p.add_argument("--guard-band", type=float, metavar="F",
                    help="measurement-uncertainty decision rule (Eurachem/CITAC guide on compliance "
                         "assessment): guard band g = F x the result's expanded uncertainty; reports beside "
                         "each status whether the decision holds beyond g (e.g. 1 for g = U)")
+    add_retest_options(p)
     p.set_defaults(func=run)
 
 
 def run(args) -> int:
+    flag_options = retest_options(args, UserError)
     inputs = load_inputs(args)
     if inputs.sites is None:
         warn("no --sites file: every limit table applies to every site")
@@ -44,12 +50,16 @@ def run(args) -> int:
         "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv"),
         "inputs": outputs.write_csv(inputs.input_files, out / "inputs.csv"),
     }
+    retest = retest_list(screened, flag_options)
+    written["retest"] = outputs.write_csv(retest, out / "retest.csv")
     extra = run_extra_outputs(args, inputs, screened, out)
     written.update(extra)
     print_summary(loaded, screened)
     if args.guard_band is not None:
         print(f"Uncertainty decision rule: guard band g = {args.guard_band:g} x expanded uncertainty U "
               "(Eurachem/CITAC 2021); column uncertainty_decision")
+    print(f"Retest flags: {len(retest)} rows" + "".join(
+        f"\n  {r:<28} {n}" for r, n in retest["reason"].value_counts(sort=False).items()))
     print("\nOutputs:")
     for name, path in written.items():
         print(f"  {name:<10} {path}")
@@ -59,8 +69,9 @@ def run(args) -> int:
 
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
-    written = {"periods": outputs.write_csv(period_table(screened, inputs.limits), out / "periods.csv")}
-    return written
+    extra = write_statistics(args, inputs.loaded.accepted, screened, out)
+    extra["periods"] = outputs.write_csv(period_table(screened, inputs.limits), out / "periods.csv")
+    return extra
 
 
 def print_summary(loaded, screened) -> None:
