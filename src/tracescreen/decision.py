@@ -36,6 +36,7 @@ import numpy as np
 import pandas as pd
 
 from . import limits as _limits
+from .frames import replace_at
 
 #: Relative tolerance of "equal" (same as screening; binary floating point cannot make an equal
 #: value exceed).
@@ -145,7 +146,7 @@ def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
     out = screened
     if "compared_value_ug_L" not in out:
         out = out.assign(compared_value_ug_L=np.nan)
-    on = (out["limit_table"].map(rounding).fillna(False).to_numpy(dtype=bool)
+    on = (out["limit_table"].isin([t for t, r in rounding.items() if r]).to_numpy()
           & (out["basis"] == "single_sample").to_numpy() & out["limit_ug_L"].notna().to_numpy())
     if not on.any():
         return out
@@ -160,19 +161,21 @@ def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
     det = rows["detected"].to_numpy(dtype=bool)
     raw = np.where(det, rows["value_ug_L"].to_numpy(float), rows["detection_limit_ug_L"].to_numpy(float))
     cmp = round_to_limit_figures(raw, limit, s)
-    out = out.copy()
-    out.loc[out.index[idx], "limit_ug_L"] = limit
-    out.loc[out.index[idx], "compared_value_ug_L"] = cmp
     from .screening import classify  # here: screening calls this module
 
-    out.loc[out.index[idx], "status"] = classify(det, cmp, cmp, limit)
     with np.errstate(invalid="ignore", divide="ignore"):
-        out.loc[out.index[idx], "ratio"] = cmp / limit
-    note = rows["note"].to_numpy(dtype=object).astype(str)
+        ratio = cmp / limit
+    note = rows["note"].astype(str).to_numpy(dtype=object)
     msg = np.where(np.isnan(s), "", "compared after rounding to " + pd.Series(s).fillna(0).astype(int).astype(str).to_numpy()
-                   + " significant figures")
-    out.loc[out.index[idx], "note"] = np.where(note == "", msg, np.where(msg == "", note, note + "; " + msg))
-    return out
+                   + " significant figures").astype(object)
+    note = np.where(note == "", msg, np.where(msg == "", note, note + "; " + msg))
+    return out.assign(
+        limit_ug_L=replace_at(out["limit_ug_L"], idx, limit),
+        compared_value_ug_L=replace_at(out["compared_value_ug_L"], idx, cmp),
+        status=replace_at(out["status"], idx, classify(det, cmp, cmp, limit)),
+        ratio=replace_at(out["ratio"], idx, ratio),
+        note=replace_at(out["note"], idx, note),
+    )
 
 
 def uncertainty_decision(screened: pd.DataFrame, guard_band_factor: float = 1.0) -> pd.DataFrame:

@@ -54,6 +54,7 @@ from . import decision
 from . import limits as limits_mod
 from .units import clean_decimal
 from .censored import kaplan_meier_grouped
+from .frames import replace_at
 
 PERIOD_BASES = ("running_annual_mean", "percentile")
 NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
@@ -314,6 +315,16 @@ def _series_codes(rows: dict, extra: np.ndarray | None = None) -> np.ndarray:
     return key
 
 
+def _values_at(col: pd.Series, pos: np.ndarray) -> np.ndarray:
+    """Values of a column at positions as numpy (text as object), decoding categoricals by code."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        cats = np.append(np.asarray(col.cat.categories.astype(object), dtype=object), "")
+        return cats[col.cat.codes.to_numpy()[pos]]  # code -1 (missing) -> ""
+    if pd.api.types.is_string_dtype(col.dtype):
+        return col.to_numpy(dtype=object)[pos]
+    return col.to_numpy()[pos]
+
+
 def evaluate(screened: pd.DataFrame, limits, with_results: bool = False) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Period statistics for the screening rows whose entry has a period basis.
 
@@ -337,7 +348,7 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False) -> tupl
     if pos.size == 0:
         return (pd.DataFrame(columns=["status", "ratio", "note", "period_id", "period_value_ug_L"]),
                 pd.DataFrame(columns=PERIOD_COLUMNS))
-    rows = {c: screened[c].to_numpy(dtype=object if screened[c].dtype == "str" else None)[pos] for c in _ROW_COLUMNS}
+    rows = {c: _values_at(screened[c], pos) for c in _ROW_COLUMNS}
     par = _entry_params(rows, limits)
     per_rows, tables = [], []
     for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles)):
@@ -484,13 +495,8 @@ def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
     per_row, _ = evaluate(out, limits)
     if len(per_row):
         where = per_row.index.to_numpy()
-        new = {}
-        for c in ("status", "ratio", "note", "period_id", "period_value_ug_L"):
-            text = c in ("status", "note", "period_id")
-            col = out[c].to_numpy(dtype=object if text else float, copy=True)
-            col[where] = per_row[c].to_numpy()
-            new[c] = pd.array(col, dtype="str") if text else col
-        out = out.assign(**new)
+        out = out.assign(**{c: replace_at(out[c], where, per_row[c].to_numpy())
+                            for c in ("status", "ratio", "note", "period_id", "period_value_ug_L")})
     return out
 
 
