@@ -109,6 +109,40 @@ def _daniels_variance(a, b, first, second, valid, season, n_seasons):
     return ((one + two) / 4.0).sum(axis=1)
 
 
+def _kendall_tie_variance(y, valid, season, n_seasons):
+    """Kendall's (1975) tie-corrected Var(S), summed over seasons, for untied sampling times.
+
+    [n(n-1)(2n+5) - sum over tie groups t(t-1)(2t+5)] / 18 per season (Gilbert 1987, eq. 16.4).
+    """
+    g, m = y.shape
+    key = np.where(valid, season, n_seasons)
+    order = np.argsort(np.where(valid, y, np.inf), axis=1, kind="stable")
+    order = np.take_along_axis(order, np.argsort(np.take_along_axis(key, order, 1), axis=1,
+                                                 kind="stable"), 1)
+    ys, ks = np.take_along_axis(y, order, 1), np.take_along_axis(key, order, 1)
+    new = np.ones((g, m), bool)
+    new[:, 1:] = (ys[:, 1:] != ys[:, :-1]) | (ks[:, 1:] != ks[:, :-1])
+    starts = np.flatnonzero(new)
+    length = np.diff(np.append(starts, g * m)).astype(float)
+    real = ks.ravel()[starts] < n_seasons
+    ties = np.bincount(starts // m, weights=np.where(real, length * (length - 1) * (2 * length + 5), 0.0),
+                       minlength=g)
+    full = np.zeros(g)
+    for k in range(n_seasons):  # a few seasons, vectorised over series
+        n = (valid & (season == k)).sum(axis=1).astype(float)
+        full += n * (n - 1) * (2 * n + 5)
+    return (full - ties) / 18.0
+
+
+def _row_median(x, valid):
+    """Median of the valid cells of each row (NaN for an empty row)."""
+    xs = np.sort(np.where(valid, x, np.inf), axis=1)
+    n = valid.sum(axis=1)
+    with np.errstate(invalid="ignore"):
+        med = (_pick(xs, (n - 1) // 2) + _pick(xs, n // 2)) / 2.0
+    return np.where(n > 0, med, np.nan)
+
+
 def _pick(sorted_vals, k):
     """sorted_vals[g, k[g]] with k clipped to the row."""
     k = np.clip(k, 0, sorted_vals.shape[1] - 1)
@@ -121,18 +155,29 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     det = valid & ~nd
     nd = valid & nd
     i, j = np.triu_indices(m, 1)  # pairs i < j in time order
-    first = np.zeros((i.size, m))
-    first[np.arange(i.size), i] = 1.0
-    second = np.zeros((i.size, m))
-    second[np.arange(i.size), j] = 1.0
-    pair = valid[:, j] & (season[:, i] == season[:, j])
-    dt = np.where(pair, t[:, j] - t[:, i], 0.0)
-    a = np.sign(dt).astype(np.int8)
-    dy = np.where(pair, y[:, j] - y[:, i], 0.0)
-    b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j]) * pair
-    s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
     n_seasons = int(season.max()) + 1 if season.size else 1
-    var_s = _daniels_variance(a, b, first, second, valid, season, n_seasons)
+    pair = valid[:, j]
+    if n_seasons > 1:
+        pair &= season[:, i] == season[:, j]
+    dt = t[:, j] - t[:, i]
+    dt[~pair] = 0.0
+    dy = y[:, j] - y[:, i]
+    dy[~pair] = 0.0
+    a = np.sign(dt).astype(np.int8)
+    any_nd = bool(nd.any())
+    if any_nd:
+        b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j])
+    else:
+        b = np.sign(dy).astype(np.int8)
+    s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
+    if any_nd or (pair & (dt == 0)).any():
+        first = np.zeros((i.size, m))
+        first[np.arange(i.size), i] = 1.0
+        second = np.zeros((i.size, m))
+        second[np.arange(i.size), j] = 1.0
+        var_s = _daniels_variance(a, b, first, second, valid, season, n_seasons)
+    else:
+        var_s = _kendall_tie_variance(y, valid, season, n_seasons)
     n_s = np.stack([(valid & (season == k)).sum(axis=1) for k in range(n_seasons)], axis=1)
     pairs = (n_s * (n_s - 1) / 2).sum(axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -166,7 +211,7 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     t0 = np.where(valid, t, np.inf).min(axis=1)
     tv = np.where(valid, t - t0[:, None], np.nan)
     with np.errstate(invalid="ignore"):
-        intercept = np.nanmedian(np.where(valid, y, np.nan), axis=1) - slope * np.nanmedian(tv, axis=1)
+        intercept = _row_median(y, valid) - slope * _row_median(tv, valid)
         if censored.any():
             resid = np.where(valid, y - slope[:, None] * np.nan_to_num(tv), np.inf)
             km = _km_rows(resid, nd, valid, (0.5,))["q"][:, 0]
@@ -249,16 +294,16 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     if np.isnan(y).any() or np.isnan(t).any():
         raise ValueError("times and values must not contain NaN")
     z_crit = stats.norm.ppf(1 - alpha / 2)
-    out = pd.DataFrame({c: np.full(n_groups, np.nan) for c in TREND_COLUMNS})
-    out["slope_method"] = pd.Series([None] * n_groups, dtype=object)
-    for chunk in grouped.chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2, budget=PAIR_BUDGET):
+    cols = {c: np.full(n_groups, np.nan) for c in TREND_COLUMNS}
+    cols["slope_method"] = np.full(n_groups, None, dtype=object)
+    cols["n"][:] = cols["n_nondetect"][:] = 0
+    for chunk in grouped.chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2,
+                                budget=PAIR_BUDGET):
         r = _trend_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
                         chunk.valid, chunk.take(season, -1), z_crit, force_ats)
         for col in TREND_COLUMNS:
-            out.loc[chunk.groups, col] = r[col]
-    counts = np.bincount(codes, minlength=n_groups)
-    out.loc[counts == 0, ["n", "n_nondetect"]] = 0
-    return out
+            cols[col][chunk.groups] = r[col]
+    return pd.DataFrame(cols)
 
 
 def mann_kendall(times, values, nondetect=None, seasons=None, alpha=0.05) -> dict:
