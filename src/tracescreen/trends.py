@@ -201,8 +201,9 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     low = _pick(cand, np.maximum(np.round((n_pairs - c) / 2.0) - 1, 0).astype(np.int64))
     high = _pick(cand, np.minimum(np.round((n_pairs + c) / 2.0), n_pairs - 1).astype(np.int64))
     if censored.any():
-        kind = np.stack([det[:, i] & det[:, j], nd[:, i] & det[:, j], det[:, i] & nd[:, j]])
-        kind = np.take_along_axis(kind & usable, np.broadcast_to(order, kind.shape), axis=2)
+        # pair kind: 1 detect/detect, 2 non-detect then detect, 3 detect then non-detect
+        kind = np.where(det[:, j], np.where(det[:, i], 1, 2), np.where(det[:, i], 3, 0)).astype(np.int8)
+        kind = np.take_along_axis(np.where(usable, kind, 0).astype(np.int8), order, axis=1)
         ats = _ats(cand, n_pairs, kind, c)
         slope, low, high = (np.where(censored, new, old) for new, old in zip(ats, (slope, low, high)))
     none = n_pairs == 0
@@ -238,7 +239,7 @@ def _ats(cand, n_pairs, kind, c):
     midpoint of the zero set (beta_low(0) + beta_high(0)) / 2; with no non-detects it is the
     Theil-Sen median.
     """
-    dd, ndd, dnd = (np.cumsum(k, axis=1) for k in kind)
+    dd, ndd, dnd = (np.cumsum(kind == k, axis=1, dtype=np.int32) for k in (1, 2, 3))
     s_right = (dd[:, -1:] - 2 * dd) + (ndd[:, -1:] - ndd) - dnd
     s_left = np.concatenate([(dd[:, -1:] + ndd[:, -1:]), s_right[:, :-1]], axis=1)
     inside = np.arange(cand.shape[1]) < n_pairs[:, None]
@@ -437,9 +438,11 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     from tracescreen.summary import censored_series, site_samples
 
     data = censored_series(site_samples(results))
-    data = data[data["value"].notna() & data["sampled_at"].notna()]
     codes, table = grouped.group_codes(data, ["site_id", "analyte", "fraction"])
     g = len(table)
+    usable = (data["value"].notna() & data["sampled_at"].notna()).to_numpy()
+    lost = np.bincount(codes[~usable], minlength=g)
+    data, codes = data[usable], codes[usable]
     t = decimal_years(data["sampled_at"]) if len(data) else np.zeros(0)
     seasons, n_seasons = sampling_seasons(data["sampled_at"], codes, g, seasonal)
     res = mann_kendall_grouped(t, data["value"].to_numpy(float), data["nondetect"].to_numpy(bool),
@@ -498,6 +501,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (np.isfinite(cross), "crossing date is an extrapolation of the trend line: an indication "
                              "only, uncertain"),
         (n_seasons > 1, "seasonal Kendall: values compared within the same season"),
+        (lost > 0, pd.Series(lost).astype(str) + " result(s) without value, detection limit or "
+                                                 "date left out"),
     ])
     return out[TABLE_COLUMNS]
 
