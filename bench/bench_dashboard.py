@@ -137,7 +137,7 @@ def browser_render(path: Path) -> dict:
                 ("overview (again)", "/", "#matrix-table"),
                 ("site & metal", "/site", "#site-chart .js-plotly-plot .scatterlayer, #site-chart .gl-container"),
                 ("exceedances", "/exceedances", "#exc-table td"),
-                ("map", "/map", "#map-graph .js-plotly-plot .scatterlayer"),
+                ("map", "/map", "#map-graph .js-plotly-plot .main-svg"),
             ):
                 ctx = b.new_context(viewport={"width": 1280, "height": 900})
                 page = ctx.new_page()

@@ -70,6 +70,7 @@ def _shot(page, name: str) -> None:
 def _choose(page, dropdown_id: str, option: str) -> None:
     page.locator(f"#{dropdown_id}").click()
     page.get_by_role("option", name=option, exact=True).click()
+    page.keyboard.press("Escape")  # an already chosen option leaves the menu open
 
 
 _CHART_JS = """() => {
