@@ -14,10 +14,14 @@ $(STAMP): pyproject.toml
 
 setup: $(STAMP)
 
+# The demo scenario (invented): its lab files, sites, column mapping and limit tables.
+DEMO_RESULTS := $(wildcard scenario_data/lab_results_*.csv) $(wildcard scenario_data/lab_results_*.xlsx)
+DEMO_LIMITS  := $(foreach f,$(wildcard limits/*.yaml) scenario_data/limits,--limits $(f))
+DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
+                --columns scenario_data/columns_eastbank.yaml
+
 run: setup
-	$(VENV)/bin/tracescreen screen scenario_data/lab_results_*.csv scenario_data/lab_results_*.xlsx \
-		--limits limits --sites scenario_data/sites.csv --columns scenario_data/columns_eastbank.yaml \
-		--out out/demo
+	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
 
 test: setup
 	$(PY) -m pytest

@@ -1,0 +1,84 @@
+"""Options shared by the commands that read lab files, limit tables and sites."""
+
+from __future__ import annotations
+
+import argparse
+import hashlib
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+import pandas as pd
+
+from ..caution import CAUTION
+from ..columns import load_column_map
+from ..limits import LimitSet, load_limits
+from ..loading import LoadOptions, LoadResult, load_results
+from ..parsing import DATE_ORDERS
+from ..sites import load_sites
+
+
+def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) -> None:
+    """Add the options that say which results, limit tables and sites to read."""
+    p.add_argument("results", nargs="*" if not results_required else "+", metavar="RESULTS",
+                   help="lab result files (CSV or XLSX)")
+    p.add_argument("--limits", required=True, metavar="PATH", action="append",
+                   help="limit table (YAML) or folder of tables; repeat for several")
+    p.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
+                   "hardness_mg_L); without it every table applies to every site")
+    p.add_argument("--columns", metavar="FILE", help="YAML mapping of the lab's headers to canonical columns")
+    p.add_argument("--date-order", choices=DATE_ORDERS, default="iso",
+                   help="how to read dates that are not ISO 8601: dmy (04/03/2021 = 4 March) or mdy; "
+                        "default iso accepts ISO 8601 only")
+    p.add_argument("--decimal-comma", action="store_true", help="read 0,5 as 0.5 (otherwise rejected)")
+    p.add_argument("--encoding", default="utf-8", help="text encoding of CSV files (default utf-8)")
+    p.add_argument("--default-fraction", choices=("total", "dissolved"),
+                   help="fraction for rows that give none (otherwise such rows are rejected)")
+    p.add_argument("--sheet", help="read only this sheet of XLSX files (default: every sheet with recognisable columns)")
+
+
+@dataclass
+class Inputs:
+    loaded: LoadResult
+    limits: LimitSet
+    sites: pd.DataFrame | None
+    input_files: pd.DataFrame     # every input file (results, limits, sites) with its SHA-256
+
+
+def _sha(path: str) -> str:
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+
+
+def load_options(args) -> LoadOptions:
+    return LoadOptions(column_map=load_column_map(args.columns) if args.columns else None,
+                       date_order=args.date_order, decimal_comma=args.decimal_comma,
+                       encoding=args.encoding, default_fraction=args.default_fraction, sheet=args.sheet)
+
+
+def load_inputs(args) -> Inputs:
+    """Read limit tables, sites and results as the options say (user errors raise)."""
+    limits = load_limits(args.limits)
+    sites = load_sites(args.sites) if args.sites else None
+    loaded = results_from_args(args, sites)
+    rows = [{"kind": "results", "file": r.file, "path": r.path, "sheet": r.sheet, "sha256": r.sha256}
+            for r in loaded.files.itertuples()] if len(loaded.files) else []
+    rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": _sha(p)}
+             for p in limits.tables["path"]]
+    if args.sites:
+        rows.append({"kind": "sites", "file": Path(args.sites).name, "path": args.sites, "sheet": "",
+                     "sha256": _sha(args.sites)})
+    return Inputs(loaded, limits, sites, pd.DataFrame(rows))
+
+
+def results_from_args(args, sites: pd.DataFrame | None) -> LoadResult:
+    """The lab results the command should use (lab files given on the command line)."""
+    name = Path(args.sites).name if getattr(args, "sites", None) else "the sites file"
+    return load_results(args.results, load_options(args), sites, sites_name=name)
+
+
+def print_caution(stream=None) -> None:
+    print(f"\nCAUTION: {CAUTION}", file=stream or sys.stdout)
+
+
+def warn(msg: str) -> None:
+    print(f"tracescreen: warning: {msg}", file=sys.stderr)

@@ -1,0 +1,408 @@
+"""Retest flags on screened results: which samples a reviewer should send back for confirmation.
+
+Each function takes the screening table (one row per result and applicable limit, the contract in
+DEVELOPERS.md) or the accepted results, and returns retest rows with the columns
+:data:`RETEST_COLUMNS`: one row per flagged result, with a reason code, a detail a laboratory can
+act on, and a suggested action. Only site samples (``sample_type == "sample"``) are flagged here;
+blanks and field duplicates are QC samples, checked in :mod:`tracescreen.qc`.
+
+All functions are vectorised (groupby, merges, shifts); the only loop is in
+:func:`history_outlier`, over positions in a series, each step vectorised over all series.
+
+Concentrations are in µg/L throughout.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+RETEST_COLUMNS = [
+    "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
+    "reason", "detail", "suggested_action",
+]
+"""Columns of ``retest.csv``, in order."""
+
+RESULT_KEY = ["file", "sheet", "row"]
+"""Provenance columns that identify one accepted result (one input row)."""
+
+SERIES_KEY = ["site_id", "analyte", "fraction"]
+"""A monitoring series: one site, one analyte, one fraction."""
+
+SUGGESTED_ACTIONS = {
+    "first_exceedance": (
+        "Confirm before reporting: resample and reanalyse; check chain of custody, units and the "
+        "laboratory's QC for the batch."),
+    "dl_too_high": (
+        "Ask the laboratory to reanalyse (or use a method) with a detection limit at or below the "
+        "one needed."),
+    "near_limit": (
+        "Confirm with a repeat sample; consider closer monitoring of this site and analyte."),
+    "uncertainty_straddles_limit": (
+        "The result cannot be told apart from the limit at its stated uncertainty: ask for replicate "
+        "analysis or a method with lower uncertainty."),
+    "history_outlier": (
+        "Check for a transcription, unit or sample-identity error; ask the laboratory to verify and "
+        "reanalyse if the sample is still held."),
+    "duplicate_disagrees": (
+        "Review field and laboratory precision; reanalyse both samples of the pair or resample."),
+    "blank_contamination": (
+        "The result may be biased high by contamination: ask the laboratory to investigate the batch "
+        "and resample with fresh blanks."),
+    "dissolved_exceeds_total": (
+        "Check filtration, preservation and sample labels; ask the laboratory to reanalyse both "
+        "fractions."),
+    "holding_time_exceeded": (
+        "The result is outside its holding time: resample and analyse within the holding time."),
+}
+"""Suggested action for each reason code (common practice)."""
+
+_RTOL = 1e-9  # relative tolerance for threshold comparisons (floating-point error of conversions)
+
+
+# ----------------------------------------------------------------------------- helpers
+def format_number(values, digits: int = 4) -> pd.Series:
+    """Format numbers with ``digits`` significant figures, vectorised; NaN becomes ``""``.
+
+    Parameters
+    ----------
+    values : array-like of float
+    digits : int
+        Significant figures.
+
+    Returns
+    -------
+    pandas.Series of str
+    """
+    index = values.index if isinstance(values, pd.Series) else None
+    v = np.asarray(values, dtype=float)
+    out = np.full(v.shape, np.nan)
+    ok = np.isfinite(v) & (v != 0)
+    mag = np.zeros(v.shape)
+    mag[ok] = np.floor(np.log10(np.abs(v[ok])))
+    k = mag - digits + 1  # round to a multiple of 10**k
+    neg = ok & (k < 0)
+    pos = ok & (k >= 0)
+    out[neg] = np.round(v[neg] * 10.0 ** -k[neg]) / 10.0 ** -k[neg]
+    out[pos] = np.round(v[pos] / 10.0 ** k[pos]) * 10.0 ** k[pos]
+    out[v == 0] = 0.0
+    text = pd.Series(out, index=index).astype(str).str.replace(r"\.0$", "", regex=True)
+    return text.where(np.isfinite(out), "").astype(object)
+
+
+def format_date(values) -> pd.Series:
+    """ISO date (``YYYY-MM-DD``) of datetimes, vectorised; NaT becomes ``""``."""
+    s = pd.to_datetime(values if isinstance(values, pd.Series) else pd.Series(values))
+    return s.dt.strftime("%Y-%m-%d").fillna("").astype(object)
+
+
+def site_samples(frame: pd.DataFrame) -> pd.DataFrame:
+    """Rows of site samples (not blanks or field duplicates)."""
+    if "sample_type" not in frame.columns:
+        return frame
+    return frame[frame["sample_type"].eq("sample")]
+
+
+def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
+    """One row per accepted result from the screening table (drops the per-limit repetition)."""
+    key = [c for c in RESULT_KEY if c in screening.columns]
+    if not key:
+        return screening.reset_index(drop=True)
+    return screening.drop_duplicates(key).reset_index(drop=True)
+
+
+def retest_rows(frame: pd.DataFrame, reason: str, detail) -> pd.DataFrame:
+    """Build retest rows (:data:`RETEST_COLUMNS`) from result rows, a reason and details."""
+    out = pd.DataFrame(index=frame.index)
+    for col in ("site_id", "sample_id", "sampled_at", "analyte", "fraction"):
+        out[col] = frame[col]
+    for col in ("lab", "batch"):
+        out[col] = frame[col].fillna("") if col in frame.columns else ""
+    out["reason"] = reason
+    out["detail"] = detail
+    out["suggested_action"] = SUGGESTED_ACTIONS[reason]
+    out = out.sort_values(["site_id", "sampled_at", "sample_id", "analyte", "fraction"], kind="stable")
+    return out[RETEST_COLUMNS].reset_index(drop=True)
+
+
+def empty_retest() -> pd.DataFrame:
+    """An empty retest table with the right columns."""
+    return pd.DataFrame({c: pd.Series(dtype="datetime64[us]" if c == "sampled_at" else object)
+                         for c in RETEST_COLUMNS})
+
+
+def _limit_label(frame: pd.DataFrame) -> pd.Series:
+    """``table, use`` label of the limit on each screening row."""
+    table = frame["limit_table"].fillna("").astype(str)
+    label = table
+    if "duration" in frame.columns:
+        dur = frame["duration"].fillna("").astype(str)
+        label = label + np.where(dur.ne(""), " " + dur, "")
+    if "use" in frame.columns:
+        label = label + ", " + frame["use"].fillna("").astype(str)
+    return label
+
+
+def _ug(values) -> pd.Series:
+    return format_number(values) + " µg/L"
+
+
+# ----------------------------------------------------------------------------- flags
+def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
+    """Exceedances in a series (site, analyte, fraction) with no exceedance in the look-back.
+
+    An ``exceeds`` result (of any applicable limit) is flagged when none of the earlier sampling
+    dates of the same site, analyte and fraction within the look-back had an exceedance.
+
+    Parameters
+    ----------
+    screening : pandas.DataFrame
+        The screening table (DataFrame contract in DEVELOPERS.md).
+    lookback : None, int, str or pandas.Timedelta
+        ``None`` (default): the whole earlier history. An int ``n``: the ``n`` earlier sampling
+        dates of the series. A duration (``"730D"``, ``pd.Timedelta(days=730)``): earlier results
+        sampled within that time before this one (an exceedance exactly at the edge counts).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``first_exceedance``.
+    """
+    site = site_samples(screening)
+    exc = site[site["status"].eq("exceeds")]
+    if exc.empty:
+        return empty_retest()
+    # the worst limit per result for the detail
+    exc = exc.assign(_r=exc["value_ug_L"] / exc["limit_ug_L"])
+    worst = exc.sort_values("_r", ascending=False, kind="stable").drop_duplicates(
+        [c for c in RESULT_KEY if c in exc.columns] or None)
+
+    # sampling dates of each series, ranked; exceedance dates and the previous one
+    dates = site[SERIES_KEY + ["sampled_at"]].drop_duplicates().sort_values(SERIES_KEY + ["sampled_at"])
+    dates["_rank"] = dates.groupby(SERIES_KEY, sort=False).cumcount()
+    events = exc[SERIES_KEY + ["sampled_at"]].drop_duplicates().merge(dates, on=SERIES_KEY + ["sampled_at"])
+    events = events.sort_values(SERIES_KEY + ["sampled_at"])
+    g = events.groupby(SERIES_KEY, sort=False)
+    events["_prev_at"] = g["sampled_at"].shift(1)
+    events["_prev_rank"] = g["_rank"].shift(1)
+    none_before = events["_prev_at"].isna()
+    if lookback is None:
+        first = none_before
+        window = "in the earlier results"
+    elif isinstance(lookback, (int, np.integer)) and not isinstance(lookback, bool):
+        if lookback < 0:
+            raise ValueError(f"lookback must be >= 0 sampling dates, got {lookback}")
+        first = none_before | ((events["_rank"] - events["_prev_rank"]) > lookback)
+        window = f"in the previous {int(lookback)} sampling dates"
+    else:
+        span = pd.Timedelta(lookback)
+        first = none_before | ((events["sampled_at"] - events["_prev_at"]) > span)
+        window = f"within {span.days} days before"
+    events = events[first]
+    flagged = worst.merge(events, on=SERIES_KEY + ["sampled_at"])
+    prev = np.where(flagged["_prev_at"].isna(), "none earlier",
+                    "last on " + format_date(flagged["_prev_at"]))
+    detail = ("first exceedance of this site and analyte: " + _ug(flagged["value_ug_L"])
+              + " > limit " + _ug(flagged["limit_ug_L"]) + " (" + _limit_label(flagged)
+              + "); no exceedance " + window + " (" + flagged["_rank"].astype(int).astype(str)
+              + " earlier sampling dates; exceedance " + prev + ")")
+    return retest_rows(flagged, "first_exceedance", detail)
+
+
+def dl_too_high(screening: pd.DataFrame) -> pd.DataFrame:
+    """Non-detects whose detection limit is above a limit (``nondetect_inconclusive``).
+
+    The detail gives the detection limit needed: the lowest limit the result could not decide.
+
+    Parameters
+    ----------
+    screening : pandas.DataFrame
+        The screening table.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``dl_too_high``.
+    """
+    site = site_samples(screening)
+    inc = site[site["status"].eq("nondetect_inconclusive")]
+    if inc.empty:
+        return empty_retest()
+    key = [c for c in RESULT_KEY if c in inc.columns] or None
+    inc = inc.sort_values("limit_ug_L", kind="stable")
+    n_limits = inc.groupby(key or inc.index, sort=False)["limit_ug_L"].transform("size")
+    inc = inc.assign(_n=n_limits).drop_duplicates(key)
+    others = np.where(inc["_n"] > 1, " and " + (inc["_n"] - 1).astype(str) + " other limit(s)", "")
+    detail = ("non-detect at detection limit " + _ug(inc["detection_limit_ug_L"])
+              + " cannot show whether the limit " + _ug(inc["limit_ug_L"]) + " ("
+              + _limit_label(inc) + ")" + others + " is met; detection limit needed: <= "
+              + _ug(inc["limit_ug_L"]))
+    return retest_rows(inc, "dl_too_high", detail)
+
+
+def near_limit(screening: pd.DataFrame, fraction: float = 0.8) -> pd.DataFrame:
+    """Detected results at or above ``fraction`` of a limit that they still meet.
+
+    Results that exceed any limit are not flagged here (they are exceedances). A value exactly at
+    ``fraction × limit`` is flagged (relative tolerance 1e-9 for conversion round-off).
+
+    Parameters
+    ----------
+    screening : pandas.DataFrame
+        The screening table.
+    fraction : float
+        Share of the limit, default 0.8 (80 %, common practice).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``near_limit``.
+    """
+    if not 0 < fraction <= 1:
+        raise ValueError(f"near-limit fraction must be in (0, 1], got {fraction}")
+    site = site_samples(screening)
+    key = [c for c in RESULT_KEY if c in site.columns] or None
+    exceeded = site.loc[site["status"].eq("exceeds"), key] if key else None
+    near = site[site["status"].eq("meets")
+                & (site["value_ug_L"] >= fraction * site["limit_ug_L"] * (1 - _RTOL))]
+    if key and not near.empty:
+        near = near.merge(exceeded.drop_duplicates(), on=key, how="left", indicator=True)
+        near = near[near["_merge"].eq("left_only")].drop(columns="_merge")
+    if near.empty:
+        return empty_retest()
+    near = near.assign(_r=near["value_ug_L"] / near["limit_ug_L"])
+    near = near.sort_values("_r", ascending=False, kind="stable").drop_duplicates(key)
+    detail = (_ug(near["value_ug_L"]) + " is " + format_number(100 * near["_r"], 3)
+              + " % of limit " + _ug(near["limit_ug_L"]) + " (" + _limit_label(near)
+              + "); flagged at >= " + format_number([100 * fraction])[0] + " %")
+    return retest_rows(near, "near_limit", detail)
+
+
+def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
+    """Detected results whose expanded uncertainty interval contains a limit.
+
+    Flagged when ``value − U <= limit <= value + U`` (``U`` = ``uncertainty_ug_L``, the reported
+    expanded uncertainty), that is when the result can neither be said to be above nor below the
+    limit at the stated coverage.
+
+    Parameters
+    ----------
+    screening : pandas.DataFrame
+        The screening table with ``uncertainty_ug_L`` [µg/L].
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``uncertainty_straddles_limit``.
+
+    References
+    ----------
+    .. [1] Eurachem/CITAC Guide: Use of uncertainty information in compliance assessment,
+       A. Williams and B. Magnusson (eds.), 2nd edition, 2021 (first edition 2007; from memory).
+    """
+    if "uncertainty_ug_L" not in screening.columns:
+        return empty_retest()
+    site = site_samples(screening)
+    u = site["uncertainty_ug_L"]
+    gap = (site["value_ug_L"] - site["limit_ug_L"]).abs()
+    hit = site[site["status"].isin(["meets", "exceeds"]) & u.notna()
+               & (gap <= u * (1 + _RTOL))]
+    if hit.empty:
+        return empty_retest()
+    key = [c for c in RESULT_KEY if c in hit.columns] or None
+    hit = hit.assign(_g=(hit["value_ug_L"] - hit["limit_ug_L"]).abs() / hit["uncertainty_ug_L"])
+    hit = hit.sort_values("_g", kind="stable").drop_duplicates(key)
+    side = np.where(hit["status"].eq("exceeds"), "reported above", "reported at or below")
+    detail = (_ug(hit["value_ug_L"]) + " ± " + _ug(hit["uncertainty_ug_L"])
+              + " (expanded uncertainty) spans limit " + _ug(hit["limit_ug_L"]) + " ("
+              + _limit_label(hit) + "); " + side + " the limit, but not beyond the uncertainty")
+    return retest_rows(hit, "uncertainty_straddles_limit", detail)
+
+
+def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
+    """Modified z-score of each ``x[i]`` against the row ``history[i, :]``.
+
+    ``M = 0.6745 (x − median) / MAD`` with MAD the median absolute deviation from the median.
+    When the MAD is zero (more than half the history identical), the mean absolute deviation
+    scaled by 1.253314 is used instead (``M = (x − median) / (1.253314 MeanAD)``, common practice);
+    when that is zero too the score is NaN (no spread to compare with).
+
+    Parameters
+    ----------
+    x : numpy.ndarray, shape (k,)
+    history : numpy.ndarray, shape (k, n)
+
+    Returns
+    -------
+    numpy.ndarray, shape (k,)
+
+    References
+    ----------
+    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Basic
+       References in Quality Control, vol. 16. Milwaukee: ASQC Quality Press. (|M| > 3.5 labelled
+       as potential outliers.)
+    """
+    med = np.median(history, axis=1)
+    dev = np.abs(history - med[:, None])
+    mad = np.median(dev, axis=1)
+    mean_ad = dev.mean(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = np.where(mad > 0, 0.6745 * (x - med) / mad, (x - med) / (1.253314 * mean_ad))
+    return np.where((mad > 0) | (mean_ad > 0), z, np.nan)
+
+
+def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
+                    min_prior: int = 8) -> pd.DataFrame:
+    """Detected results far outside their own series' earlier detected values.
+
+    For each detected site-sample result, the modified z-score of its natural log against the logs
+    of all earlier detects of the same site, analyte and fraction (sorted by ``sampled_at``, then
+    ``sample_id``); flagged when ``|M| > z_threshold`` and there are at least ``min_prior`` earlier
+    detects. Non-detects take no part (neither flagged nor in the history).
+
+    Parameters
+    ----------
+    results : pandas.DataFrame
+        Accepted results (or the screening table; repeated limit rows are dropped).
+    z_threshold : float
+        Default 3.5 (Iglewicz & Hoaglin 1993).
+    min_prior : int
+        Minimum number of earlier detects, default 8.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``history_outlier``.
+
+    References
+    ----------
+    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Quality
+       Press.
+    """
+    res = site_samples(results_from_screening(results))
+    det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]
+    det = det.sort_values(SERIES_KEY + ["sampled_at", "sample_id"], kind="stable").reset_index(drop=True)
+    if len(det) <= min_prior:
+        return empty_retest()
+    x = np.log(det["value_ug_L"].to_numpy(dtype=float))
+    pos = det.groupby(SERIES_KEY, sort=False).cumcount().to_numpy()
+    start = np.arange(len(det)) - pos  # row of the first detect of each row's series
+    z = np.full(len(det), np.nan)
+    med = np.full(len(det), np.nan)
+    order = np.argsort(pos, kind="stable")
+    bounds = np.searchsorted(pos[order], np.arange(pos.max() + 2))
+    for i in range(max(min_prior, 1), pos.max() + 1):  # loop over positions, vectorised over series
+        rows = order[bounds[i]:bounds[i + 1]]
+        hist = x[start[rows][:, None] + np.arange(i)]
+        z[rows] = modified_z_score(x[rows], hist)
+        med[rows] = np.median(hist, axis=1)
+    flag = np.abs(z) > z_threshold
+    out = det[flag].assign(_z=z[flag], _med=np.exp(med[flag]), _n=pos[flag])
+    if out.empty:
+        return empty_retest()
+    direction = np.where(out["_z"] > 0, "above", "below")
+    detail = (_ug(out["value_ug_L"]) + " is far " + direction + " this series' history: modified "
+              "z-score of ln(value) " + format_number(out["_z"], 3) + " (threshold "
+              + format_number([z_threshold])[0] + ") against " + out["_n"].astype(str)
+              + " earlier detects with median " + _ug(out["_med"]))
+    return retest_rows(out, "history_outlier", detail)

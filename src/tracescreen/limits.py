@@ -1,0 +1,331 @@
+"""Limit tables: loading, checking, and evaluating hardness-dependent formulas.
+
+A limit table is a YAML file with its full citation and entries (see README, "Limit tables").
+:func:`load_limits` reads one file or every ``*.yaml``/``*.yml`` in a folder and returns a
+:class:`LimitSet` with one row per table and one row per entry, values converted to µg/L.
+Mistakes (a missing citation, an unknown analyte, unit or key, a negative value, overlapping dates)
+raise :class:`LimitTableError` naming the file, the entry and the key.
+
+Hardness-dependent entries use the US EPA form (see :func:`hardness_formula_limit`).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import yaml
+
+from . import analytes, units
+
+TABLE_KEYS_REQUIRED = ("id", "name", "source", "use", "unit", "entries")
+TABLE_KEYS_OPTIONAL = ("url", "notes", "settings")
+ENTRY_KEYS_REQUIRED = ("analyte", "fraction")
+ENTRY_KEYS_OPTIONAL = ("value", "hardness_formula", "hardness_range", "basis", "duration",
+                       "effective_from", "effective_to", "note")
+FORMULA_KEYS = ("m", "b", "cf")
+CF_KEYS = ("intercept", "ln_hardness")
+FRACTIONS = ("total", "dissolved")
+#: Bases of comparison an entry may use; other modules register theirs here.
+BASES = {"single_sample": "each result is compared with the limit"}
+#: Table settings and a checker for each value (other modules register theirs here).
+SETTINGS: dict[str, tuple[str, ...]] = {}
+
+ENTRY_COLUMNS = [
+    "entry_id", "table_id", "use", "source", "analyte", "fraction", "basis", "duration", "value_ug_L",
+    "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope", "hardness_min", "hardness_max",
+    "effective_from", "effective_to", "note",
+]
+
+
+class LimitTableError(ValueError):
+    """A limit table that cannot be used (message names file, entry and key)."""
+
+
+@dataclass
+class LimitSet:
+    """Loaded limit tables: ``tables`` (one row per table) and ``entries`` (one row per entry)."""
+
+    tables: pd.DataFrame
+    entries: pd.DataFrame
+
+    @property
+    def uses(self) -> list[str]:
+        return sorted(set(self.tables["use"]))
+
+
+def hardness_formula_limit(m, b, cf, cf_intercept, cf_ln_slope, hardness_mg_L, hardness_min=np.nan,
+                           hardness_max=np.nan):
+    """Hardness-dependent criterion, US EPA form.
+
+    ``limit = exp(m·ln(H) + b) · CF``, where ``H`` is hardness clamped to ``[hardness_min,
+    hardness_max]`` and ``CF`` is either a fixed conversion factor or ``intercept + ln_hardness·ln(H)``
+    (the published form for cadmium and lead), never above 1.
+
+    Parameters
+    ----------
+    m, b : array-like
+        Slope and intercept of the published equation.
+    cf : array-like
+        Fixed conversion factor (NaN when the ln form is used).
+    cf_intercept, cf_ln_slope : array-like
+        Coefficients of the hardness-dependent conversion factor (NaN when fixed).
+    hardness_mg_L : array-like
+        Hardness [mg/L as CaCO3].
+    hardness_min, hardness_max : array-like
+        Bounds applied to hardness before the formula [mg/L as CaCO3] (NaN for none).
+
+    Returns
+    -------
+    numpy.ndarray
+        The criterion in the table's unit (µg/L for the US EPA tables); NaN where hardness is NaN.
+
+    References
+    ----------
+    .. [1] US EPA (2024). National Recommended Water Quality Criteria - Aquatic Life Criteria Table,
+       Appendix B: Parameters for calculating freshwater dissolved metals criteria that are
+       hardness-dependent.
+    .. [2] 40 CFR 131.38(b)(2), Table 1 and footnotes (conversion factors; CF for cadmium and lead
+       not to exceed 1).
+    """
+    H = np.asarray(hardness_mg_L, dtype=float)
+    lo = np.asarray(hardness_min, dtype=float)
+    hi = np.asarray(hardness_max, dtype=float)
+    H = np.where(np.isnan(lo), H, np.maximum(H, lo))
+    H = np.where(np.isnan(hi), H, np.minimum(H, hi))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lnH = np.log(H)
+        cf_ln = np.minimum(np.asarray(cf_intercept, dtype=float) + np.asarray(cf_ln_slope, dtype=float) * lnH, 1.0)
+        factor = np.where(np.isnan(np.asarray(cf, dtype=float)), cf_ln, cf)
+        return np.exp(np.asarray(m, dtype=float) * lnH + np.asarray(b, dtype=float)) * factor
+
+
+def _date(value, where: str, key: str):
+    if value is None:
+        return pd.NaT
+    if isinstance(value, dt.datetime):
+        return pd.Timestamp(value)
+    if isinstance(value, dt.date):
+        return pd.Timestamp(value)
+    try:
+        return pd.Timestamp(dt.date.fromisoformat(str(value)))
+    except ValueError:
+        raise LimitTableError(f"{where}: key '{key}': '{value}' is not a date (YYYY-MM-DD)") from None
+
+
+def _number(value, where: str, key: str, allow_negative: bool = False) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise LimitTableError(f"{where}: key '{key}': '{value}' is not a number")
+    if not np.isfinite(value) or (not allow_negative and value < 0):
+        raise LimitTableError(f"{where}: key '{key}': {value} must be a finite number >= 0")
+    return float(value)
+
+
+def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
+    label = f"{name}: entry {i}" + (f" ({e.get('analyte')})" if isinstance(e, dict) and e.get("analyte") else "")
+    if not isinstance(e, dict):
+        raise LimitTableError(f"{label}: an entry must be a mapping of keys")
+    allowed = set(ENTRY_KEYS_REQUIRED) | set(ENTRY_KEYS_OPTIONAL) | set(_extra_entry_keys())
+    for k in e:
+        if k not in allowed:
+            raise LimitTableError(f"{label}: unknown key '{k}' (allowed: {', '.join(sorted(allowed))})")
+    for k in ENTRY_KEYS_REQUIRED:
+        if k not in e or e[k] in (None, ""):
+            raise LimitTableError(f"{label}: missing key '{k}'")
+    canon = analytes.resolve(str(e["analyte"]))
+    if canon is None:
+        raise LimitTableError(f"{label}: key 'analyte': '{e['analyte']}' is not in the analyte registry")
+    fraction = str(e["fraction"]).strip().lower()
+    if fraction not in FRACTIONS:
+        raise LimitTableError(f"{label}: key 'fraction': '{e['fraction']}' must be total or dissolved")
+    basis = str(e.get("basis", "single_sample"))
+    if basis not in BASES:
+        raise LimitTableError(f"{label}: key 'basis': '{basis}' is not one of {', '.join(BASES)}")
+    has_v, has_f = "value" in e, "hardness_formula" in e
+    if has_v == has_f:
+        raise LimitTableError(f"{label}: give exactly one of 'value' or 'hardness_formula'")
+    row = {"table_id": table["id"], "use": table["use"], "source": table["source"], "analyte": canon,
+           "fraction": fraction, "basis": basis, "duration": str(e.get("duration") or ""),
+           "value_ug_L": np.nan, "hf_m": np.nan, "hf_b": np.nan, "hf_cf": np.nan,
+           "hf_cf_intercept": np.nan, "hf_cf_ln_slope": np.nan, "hardness_min": np.nan,
+           "hardness_max": np.nan, "note": str(e.get("note") or ""),
+           "effective_from": _date(e.get("effective_from"), label, "effective_from"),
+           "effective_to": _date(e.get("effective_to"), label, "effective_to"),
+           "unit_factor": factor}
+    if has_v:
+        row["value_ug_L"] = units.clean_decimal(np.array([_number(e["value"], label, "value") * factor]))[0]
+    else:
+        f = e["hardness_formula"]
+        if not isinstance(f, dict):
+            raise LimitTableError(f"{label}: key 'hardness_formula' must be a mapping with m, b, cf")
+        for k in f:
+            if k not in FORMULA_KEYS:
+                raise LimitTableError(f"{label}: hardness_formula: unknown key '{k}' (allowed: m, b, cf)")
+        for k in FORMULA_KEYS:
+            if k not in f:
+                raise LimitTableError(f"{label}: hardness_formula: missing key '{k}'")
+        row["hf_m"] = _number(f["m"], label, "hardness_formula.m", allow_negative=True)
+        row["hf_b"] = _number(f["b"], label, "hardness_formula.b", allow_negative=True)
+        cf = f["cf"]
+        if isinstance(cf, dict):
+            for k in cf:
+                if k not in CF_KEYS:
+                    raise LimitTableError(f"{label}: hardness_formula.cf: unknown key '{k}' (allowed: intercept, ln_hardness)")
+            for k in CF_KEYS:
+                if k not in cf:
+                    raise LimitTableError(f"{label}: hardness_formula.cf: missing key '{k}'")
+            row["hf_cf_intercept"] = _number(cf["intercept"], label, "hardness_formula.cf.intercept", True)
+            row["hf_cf_ln_slope"] = _number(cf["ln_hardness"], label, "hardness_formula.cf.ln_hardness", True)
+        else:
+            row["hf_cf"] = _number(cf, label, "hardness_formula.cf")
+        rng = e.get("hardness_range")
+        if rng is not None:
+            if not (isinstance(rng, list) and len(rng) == 2):
+                raise LimitTableError(f"{label}: key 'hardness_range' must be [min, max] in mg/L as CaCO3")
+            lo = np.nan if rng[0] is None else _number(rng[0], label, "hardness_range")
+            hi = np.nan if rng[1] is None else _number(rng[1], label, "hardness_range")
+            if lo > hi:
+                raise LimitTableError(f"{label}: key 'hardness_range': min {lo} is above max {hi}")
+            row["hardness_min"], row["hardness_max"] = lo, hi
+    if has_v and "hardness_range" in e:
+        raise LimitTableError(f"{label}: key 'hardness_range' only applies with 'hardness_formula'")
+    if pd.notna(row["effective_from"]) and pd.notna(row["effective_to"]) and row["effective_to"] < row["effective_from"]:
+        raise LimitTableError(f"{label}: key 'effective_to' is before 'effective_from'")
+    row.update({k: e[k] for k in _extra_entry_keys() if k in e})
+    return row
+
+
+def _extra_entry_keys() -> tuple[str, ...]:
+    """Entry keys registered by modules that add bases (e.g. period statistics)."""
+    return tuple(EXTRA_ENTRY_KEYS)
+
+
+#: Extra entry keys allowed by registered bases (e.g. ``percentile``); modules append here.
+EXTRA_ENTRY_KEYS: list[str] = []
+
+
+def _check_overlaps(entries: pd.DataFrame, name: str) -> None:
+    if entries.empty:
+        return
+    lo = pd.to_datetime(entries["effective_from"]).astype("datetime64[ns]").fillna(pd.Timestamp.min)
+    hi = pd.to_datetime(entries["effective_to"]).astype("datetime64[ns]").fillna(pd.Timestamp.max)
+    keys = ["analyte", "fraction", "basis", "duration"]
+    for _, g in entries.assign(_lo=lo, _hi=hi).groupby(keys, sort=False):  # few groups per table
+        if len(g) < 2:
+            continue
+        g = g.sort_values("_lo")
+        clash = g["_lo"].to_numpy()[1:] <= g["_hi"].to_numpy()[:-1]
+        if clash.any():
+            j = int(np.flatnonzero(clash)[0]) + 1
+            r = g.iloc[j]
+            raise LimitTableError(
+                f"{name}: entry {r['entry_id'].rsplit(':', 1)[1]} ({r['analyte']}, {r['fraction']}"
+                f"{', ' + r['duration'] if r['duration'] else ''}): in force on the same days as another "
+                f"entry; set effective_from/effective_to so that one entry applies on each date")
+
+
+def load_table(path: str | Path) -> tuple[dict, list[dict]]:
+    """Read and check one limit-table file; returns (table row, entry rows)."""
+    p = Path(path)
+    name = p.name
+    try:
+        data = yaml.safe_load(p.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise LimitTableError(f"{p}: limit table not found") from None
+    except UnicodeDecodeError:
+        raise LimitTableError(f"{name}: not UTF-8 text") from None
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        where = f" at line {mark.line + 1}" if mark is not None else ""
+        raise LimitTableError(f"{name}: not valid YAML{where}") from None
+    if not isinstance(data, dict):
+        raise LimitTableError(f"{name}: a limit table must be a mapping with keys {', '.join(TABLE_KEYS_REQUIRED)}")
+    for k in data:
+        if k not in TABLE_KEYS_REQUIRED + TABLE_KEYS_OPTIONAL:
+            raise LimitTableError(f"{name}: unknown key '{k}' (allowed: {', '.join(TABLE_KEYS_REQUIRED + TABLE_KEYS_OPTIONAL)})")
+    for k in TABLE_KEYS_REQUIRED:
+        if k not in data or data[k] in (None, "", []):
+            what = "citation" if k == "source" else "key"
+            raise LimitTableError(f"{name}: missing {what} '{k}'")
+    if not re.fullmatch(r"[a-z0-9_]+", str(data["id"])):
+        raise LimitTableError(f"{name}: key 'id': '{data['id']}' must use lower-case letters, digits and _")
+    factor = units.factor_to_ug_per_L(str(data["unit"]))
+    if factor is None:
+        raise LimitTableError(f"{name}: key 'unit': '{data['unit']}' is not a concentration unit tracescreen knows")
+    settings = data.get("settings") or {}
+    if not isinstance(settings, dict):
+        raise LimitTableError(f"{name}: key 'settings' must be a mapping")
+    for k, v in settings.items():
+        if k not in SETTINGS:
+            raise LimitTableError(f"{name}: settings: unknown key '{k}'" + (f" (allowed: {', '.join(SETTINGS)})" if SETTINGS else ""))
+        if SETTINGS[k] and str(v) not in SETTINGS[k]:
+            raise LimitTableError(f"{name}: settings: key '{k}': '{v}' is not one of {', '.join(SETTINGS[k])}")
+    if not isinstance(data["entries"], list):
+        raise LimitTableError(f"{name}: key 'entries' must be a list")
+    table = {"table_id": str(data["id"]), "name": str(data["name"]), "source": " ".join(str(data["source"]).split()),
+             "url": str(data.get("url") or ""), "use": str(data["use"]).strip().lower(), "unit": str(data["unit"]),
+             "notes": str(data.get("notes") or "").strip(), "path": str(p), "settings": settings}
+    tctx = {"id": table["table_id"], "use": table["use"], "source": table["source"]}
+    rows = []
+    for i, e in enumerate(data["entries"], start=1):
+        r = _parse_entry(e, i, name, tctx, factor)
+        r["entry_id"] = f"{table['table_id']}:{i}"
+        rows.append(r)
+    _check_overlaps(pd.DataFrame(rows), name)
+    return table, rows
+
+
+def load_limits(path: str | Path | list) -> LimitSet:
+    """Load one limit table, a folder of them, or a list of files/folders.
+
+    Raises
+    ------
+    LimitTableError
+        On the first problem found (file, entry and key named), or when two files share an ``id``.
+    """
+    paths = path if isinstance(path, (list, tuple)) else [path]
+    files: list[Path] = []
+    for p in map(Path, paths):
+        if p.is_dir():
+            found = sorted(list(p.glob("*.yaml")) + list(p.glob("*.yml")))
+            if not found:
+                raise LimitTableError(f"{p}: no limit tables (*.yaml) in this folder")
+            files += found
+        elif p.exists():
+            files.append(p)
+        else:
+            raise LimitTableError(f"{p}: limit table or folder not found")
+    tables, entries = [], []
+    for f in files:
+        t, rows = load_table(f)
+        if any(t["table_id"] == x["table_id"] for x in tables):
+            raise LimitTableError(f"{f.name}: key 'id': '{t['table_id']}' is used by another table")
+        tables.append(t)
+        entries += rows
+    tdf = pd.DataFrame(tables)
+    edf = pd.DataFrame(entries) if entries else pd.DataFrame(columns=ENTRY_COLUMNS)
+    extra = [c for c in edf.columns if c not in ENTRY_COLUMNS]
+    edf = edf[ENTRY_COLUMNS + extra].reset_index(drop=True)
+    for c in ("effective_from", "effective_to"):
+        edf[c] = pd.to_datetime(edf[c]).astype("datetime64[ns]")
+    return LimitSet(tdf, edf)
+
+
+def is_formula(entries: pd.DataFrame) -> np.ndarray:
+    """True for entries whose limit depends on hardness."""
+    return ~np.isnan(entries["hf_m"].to_numpy(dtype=float))
+
+
+def evaluate(entries: pd.DataFrame, hardness_mg_L) -> np.ndarray:
+    """Limit in µg/L for entries (aligned with ``hardness_mg_L``): fixed values or formulas."""
+    fixed = entries["value_ug_L"].to_numpy(dtype=float)
+    formula = hardness_formula_limit(
+        entries["hf_m"].to_numpy(float), entries["hf_b"].to_numpy(float), entries["hf_cf"].to_numpy(float),
+        entries["hf_cf_intercept"].to_numpy(float), entries["hf_cf_ln_slope"].to_numpy(float),
+        hardness_mg_L, entries["hardness_min"].to_numpy(float), entries["hardness_max"].to_numpy(float),
+    ) * entries["unit_factor"].to_numpy(float) if "unit_factor" in entries else np.nan
+    return np.where(is_formula(entries), formula, fixed)

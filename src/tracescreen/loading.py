@@ -1,0 +1,505 @@
+"""Loading lab files (CSV, XLSX) into the accepted-results table, rejecting what cannot be used.
+
+:func:`load_results` reads each file, finds its header row, recognises its columns
+(:mod:`tracescreen.columns`), parses every cell (:mod:`tracescreen.parsing`), converts units to
+µg/L (:mod:`tracescreen.units`) and matches analyte names (:mod:`tracescreen.analytes`).
+
+Nothing is lost: every data row of every file ends up in ``accepted`` or in ``rejected`` with its
+reason, and ``rows read = accepted + rejected`` holds per file. Rows whose every cell is empty are
+not data rows; they are counted in ``files.blank_rows``.
+
+Problems with a whole file (missing, unreadable, not UTF-8, no recognisable columns) raise
+:class:`LoadError` with a one-line message naming the file.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.csv as pacsv
+
+from . import analytes, parsing, units
+from .columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
+
+HEADER_SEARCH_ROWS = 30
+
+ACCEPTED_COLUMNS = [
+    "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction",
+    "result_text", "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier",
+    "sample_type", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L",
+    "uncertainty_ug_L",
+]
+
+
+class LoadError(ValueError):
+    """A file that cannot be read at all (the message names the file and the problem)."""
+
+
+@dataclass
+class RawTable:
+    """The cells of one sheet (or CSV file) as text, with their row numbers in the file."""
+
+    file: str
+    path: str
+    sheet: str
+    header_row: int
+    cells: pd.DataFrame            # original headers, all text ("" for empty)
+    rows: np.ndarray               # 1-based row number in the file of each row of ``cells``
+    blank_rows: int = 0
+
+
+@dataclass
+class LoadOptions:
+    """How to read the files (each a command-line option)."""
+
+    column_map: ColumnMap | None = None
+    date_order: str = "iso"
+    decimal_comma: bool = False
+    encoding: str = "utf-8"
+    default_fraction: str | None = None
+    sheet: str | None = None
+
+
+@dataclass
+class LoadResult:
+    """Accepted rows, rejected rows with reasons, and one line per file read."""
+
+    accepted: pd.DataFrame
+    rejected: pd.DataFrame
+    files: pd.DataFrame
+    warnings: list[str] = field(default_factory=list)
+
+
+# --------------------------------------------------------------------------------------------
+# reading files as text
+# --------------------------------------------------------------------------------------------
+
+def sha256_of(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
+
+
+def _decode(data: bytes, name: str, encoding: str) -> str:
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode(encoding)
+    except UnicodeDecodeError as exc:
+        raise LoadError(
+            f"{name}: not {encoding} text (byte 0x{data[exc.start]:02X} at offset {exc.start}); "
+            f"save it as UTF-8 or give its encoding, e.g. --encoding latin-1"
+        ) from None
+    except LookupError:
+        raise LoadError(f"{name}: unknown encoding '{encoding}'") from None
+
+
+def _find_header(records: list[list[str]], name: str, column_map: ColumnMap | None) -> int:
+    best, best_i = 0, -1
+    for i, rec in enumerate(records[:HEADER_SEARCH_ROWS]):
+        score = score_header_row([c.strip() for c in rec], column_map)
+        if score > best:
+            best, best_i = score, i
+        if score >= len(REQUIRED):
+            break
+    if best < 3:
+        first = next((r for r in records if any(c.strip() for c in r)), [])
+        raise LoadError(
+            f"{name}: no recognisable columns in the first {HEADER_SEARCH_ROWS} rows "
+            f"(first row: {', '.join(c for c in first[:8] if c)}); give a column mapping with --columns"
+        )
+    return best_i
+
+
+def _unique_headers(headers: list[str]) -> list[str]:
+    seen: dict[str, int] = {}
+    out = []
+    for i, h in enumerate(headers):
+        h = h.strip() or f"column_{i + 1}"
+        if h in seen:
+            seen[h] += 1
+            h = f"{h}.{seen[h]}"
+        else:
+            seen[h] = 0
+        out.append(h)
+    return out
+
+
+def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
+    data = path.read_bytes()
+    digest = sha256_of(data)
+    name = path.name
+    if b"\x00" in data[:4096]:
+        raise LoadError(f"{name}: binary data, not a CSV text file")
+    text = _decode(data, name, opts.encoding)
+    if not text.strip():
+        raise LoadError(f"{name}: the file is empty")
+    head_lines = text.splitlines()[:HEADER_SEARCH_ROWS]
+    first = next((ln for ln in head_lines if ln.strip()), "")
+    delim = max([",", ";", "\t", "|"], key=first.count)
+    head = list(csv.reader(head_lines, delimiter=delim))
+    h = _find_header(head, name, opts.column_map)
+    headers = _unique_headers(head[h])
+
+    invalid: list[str] = []
+
+    def on_invalid(row):  # pyarrow calls this for rows with the wrong number of fields
+        invalid.append(row.text)
+        return "skip"
+
+    if opts.encoding.lower().replace("-", "").replace("_", "") in ("utf8", "utf8sig"):
+        body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
+    else:
+        body = text.encode("utf-8")
+    try:
+        table = pacsv.read_csv(
+            pa.BufferReader(body),
+            read_options=pacsv.ReadOptions(skip_rows=h + 1, column_names=headers, block_size=1 << 24),
+            parse_options=pacsv.ParseOptions(delimiter=delim, invalid_row_handler=on_invalid,
+                                              ignore_empty_lines=False, newlines_in_values=True),
+            convert_options=pacsv.ConvertOptions(column_types={c: pa.string() for c in headers},
+                                                 strings_can_be_null=False, quoted_strings_can_be_null=False),
+        )
+        cells = table.to_pandas()
+        rows = np.arange(len(cells), dtype=np.int64) + h + 2
+    except pa.ArrowInvalid:
+        invalid.append("parse error")
+        cells, rows = None, None
+    if invalid:
+        # Exact, slower path: Python's csv module keeps every record with its line number.
+        cells, rows, (bad_cells, bad_rows) = _read_csv_exact(text, delim, h, headers)
+        raw = _finish(name, str(path), "", h + 1, cells, rows)
+        raw.cells = pd.concat([raw.cells, bad_cells], ignore_index=True).fillna("")
+        raw.rows = np.concatenate([raw.rows, bad_rows])
+        order = np.argsort(raw.rows, kind="stable")
+        raw.cells, raw.rows = raw.cells.iloc[order].reset_index(drop=True), raw.rows[order]
+    else:
+        raw = _finish(name, str(path), "", h + 1, cells, rows)
+    return [raw], digest
+
+
+def _read_csv_exact(text: str, delim: str, h: int, headers: list[str]):
+    """Read every record with its row number; rows with a wrong field count are marked."""
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delim)
+    good, good_rows, bad, bad_rows = [], [], [], []
+    n = len(headers)
+    for i, rec in enumerate(reader):
+        if i <= h:
+            continue
+        if len(rec) == n or (len(rec) > n and not any(x.strip() for x in rec[n:])):
+            good.append(rec[:n])
+            good_rows.append(i + 1)
+        elif not any(x.strip() for x in rec):
+            good.append([""] * n)
+            good_rows.append(i + 1)
+        else:
+            padded = (rec + [""] * n)[:n]
+            bad.append(padded + [f"expected {n} fields, found {len(rec)}"])
+            bad_rows.append(i + 1)
+    cells = pd.DataFrame(good, columns=headers, dtype=str) if good else pd.DataFrame(columns=headers, dtype=str)
+    badf = pd.DataFrame(bad, columns=headers + ["__field_count_error__"], dtype=str)
+    return cells, np.array(good_rows, dtype=np.int64), (badf, np.array(bad_rows, dtype=np.int64))
+
+
+def _cell_text(v) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, float) and v.is_integer() and abs(v) < 1e15:
+        return str(int(v))
+    if hasattr(v, "isoformat"):
+        return v.isoformat(sep=" ") if hasattr(v, "hour") else v.isoformat()
+    return str(v).strip()
+
+
+def _read_xlsx(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
+    import openpyxl  # imported here: only needed for Excel files
+
+    data = path.read_bytes()
+    digest = sha256_of(data)
+    name = path.name
+    if not zipfile.is_zipfile(io.BytesIO(data)):
+        raise LoadError(f"{name}: not an Excel .xlsx workbook (the file is not a zip package)")
+    try:
+        wb = openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=True)
+    except Exception as exc:  # openpyxl raises many types for damaged packages
+        raise LoadError(f"{name}: cannot open the workbook ({exc.__class__.__name__}: {exc})") from None
+    names = wb.sheetnames
+    if opts.sheet is not None and opts.sheet not in names:
+        raise LoadError(f"{name}: no sheet '{opts.sheet}' (sheets: {', '.join(names)})")
+    out: list[RawTable] = []
+    skipped = []
+    for sheet in [opts.sheet] if opts.sheet else names:
+        records = [[_cell_text(v) for v in r] for r in wb[sheet].iter_rows(values_only=True)]
+        try:
+            h = _find_header(records, f"{name} [{sheet}]", opts.column_map)
+        except LoadError:
+            if opts.sheet:
+                raise
+            skipped.append(sheet)
+            continue
+        headers = _unique_headers(records[h])
+        n = len(headers)
+        body = [(r + [""] * n)[:n] for r in records[h + 1:]]
+        extra_cells = [any(x for x in r[n:]) for r in records[h + 1:]]
+        cells = pd.DataFrame(body, columns=headers, dtype=str) if body else pd.DataFrame(columns=headers, dtype=str)
+        rows = np.arange(len(cells), dtype=np.int64) + h + 2
+        raw = _finish(name, str(path), sheet, h + 1, cells, rows)
+        if any(extra_cells):
+            raw.cells["__field_count_error__"] = np.where(
+                np.array(extra_cells)[raw.rows - h - 2], "cells beyond the last named column", "")
+        out.append(raw)
+    wb.close()
+    if not out:
+        raise LoadError(f"{name}: no sheet has recognisable columns (sheets: {', '.join(names)})")
+    return out, digest
+
+
+def _finish(name, path, sheet, header_row, cells, rows) -> RawTable:
+    cells = cells.fillna("").astype(str) if len(cells.columns) else cells
+    blank = np.ones(len(cells), dtype=bool)
+    for c in cells.columns:  # a loop over columns, not rows
+        blank &= (cells[c] == "").to_numpy()
+    return RawTable(name, path, sheet, header_row, cells[~blank].reset_index(drop=True), rows[~blank],
+                    int(blank.sum()))
+
+
+def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list[RawTable], str]:
+    """Read a CSV or XLSX file as text tables (one per sheet), with the file's SHA-256.
+
+    Raises
+    ------
+    LoadError
+        The file is missing, empty, binary, not UTF-8 (unless another encoding is given), a damaged
+        workbook, or has no recognisable header row.
+    """
+    opts = options or LoadOptions()
+    p = Path(path)
+    if not p.is_file():
+        raise LoadError(f"{p}: file not found")
+    suffix = p.suffix.lower()
+    try:
+        if suffix in (".xlsx", ".xlsm"):
+            return _read_xlsx(p, opts)
+        if suffix == ".xls":
+            raise LoadError(f"{p.name}: old .xls workbooks are not read; save it as .xlsx or .csv")
+        return _read_csv(p, opts)
+    except OSError as exc:
+        raise LoadError(f"{p}: cannot read ({exc.strerror})") from None
+
+
+# --------------------------------------------------------------------------------------------
+# normalising
+# --------------------------------------------------------------------------------------------
+
+def mapping_applies(headers, column_map: ColumnMap) -> bool:
+    """A mapping's ``defaults`` apply only to files that have at least one of its mapped headers."""
+    from .columns import header_key
+
+    mapped = {header_key(h) for h in column_map.columns}
+    return not mapped or any(header_key(h) in mapped for h in headers)
+
+
+def _reasons(n: int) -> np.ndarray:
+    return np.full(n, "", dtype=object)
+
+
+def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
+    """Append ``msg`` (text or array aligned with mask's True cells) to the reasons of ``mask``."""
+    if not mask.any():
+        return
+    cur = reasons[mask]
+    m = np.asarray(msg, dtype=object) if not isinstance(msg, str) else msg
+    joined = np.where(cur == "", "", cur + "; ")
+    reasons[mask] = joined + m
+
+
+def normalise(raw: RawTable, options: LoadOptions | None = None,
+              site_ids: set[str] | None = None, sites_name: str = "sites file"
+              ) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """Turn one raw table into accepted rows (contract columns) and rejected rows (with reasons)."""
+    opts = options or LoadOptions()
+    cells = raw.cells
+    n = len(cells)
+    found = recognise_columns(list(cells.columns), opts.column_map)
+    defaults = opts.column_map.defaults if opts.column_map and mapping_applies(cells.columns, opts.column_map) else {}
+    missing = [c for c in REQUIRED if c not in found and c not in defaults]
+    where = f"{raw.file}" + (f" [{raw.sheet}]" if raw.sheet else "")
+    if missing:
+        raise LoadError(
+            f"{where}: required column(s) {', '.join(missing)} not found (headers: "
+            f"{', '.join(map(str, cells.columns[:12]))}); give a column mapping with --columns"
+        )
+
+    def col(c: str) -> pd.Series:
+        if c in found:
+            return cells[found[c]].str.strip()
+        return pd.Series(np.full(n, defaults.get(c, ""), dtype=object), dtype=str)
+
+    reasons = _reasons(n)
+    if "__field_count_error__" in cells.columns:
+        fc = cells["__field_count_error__"].to_numpy(dtype=object)
+        _add(reasons, fc != "", fc[fc != ""])
+
+    site, sample = col("site_id"), col("sample_id")
+    _add(reasons, (site == "").to_numpy(), "site_id is empty")
+    _add(reasons, (sample == "").to_numpy(), "sample_id is empty")
+    if site_ids is not None:
+        unknown_site = ~site.isin(site_ids).to_numpy() & (site != "").to_numpy()
+        _add(reasons, unknown_site, ("site '" + site[unknown_site] + f"' is not in {sites_name}").to_numpy())
+
+    sampled_text = col("sampled_at")
+    sampled_at, bad_date = parsing.parse_dates(sampled_text, opts.date_order)
+    _add(reasons, (sampled_text == "").to_numpy(), "sampled_at is empty")
+    hint = "" if opts.date_order != "iso" else " (ISO 8601 expected, e.g. 2021-03-04; use --date-order dmy or mdy for other forms)"
+    _add(reasons, bad_date, ("sampled_at '" + sampled_text[bad_date] + "' is not a date" + hint).to_numpy())
+    future = sampled_at > np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=1))
+    _add(reasons, future, "sampled_at is in the future")
+
+    analyte_text = col("analyte")
+    names, name_fraction = analytes.match_analytes(analyte_text)
+    no_name = np.array([v is None for v in names])
+    conflict_name = name_fraction == "conflict"
+    _add(reasons, no_name & (analyte_text == "").to_numpy(), "analyte is empty")
+    unk = no_name & (analyte_text != "").to_numpy() & ~conflict_name
+    _add(reasons, unk, ("analyte '" + analyte_text[unk] + "' is not in the analyte registry").to_numpy())
+    _add(reasons, conflict_name, "analyte name names both total and dissolved")
+
+    frac_text = col("fraction")
+    fraction, bad_frac = parsing.parse_vocabulary(frac_text, parsing.FRACTION_VOCAB)
+    _add(reasons, bad_frac, ("fraction '" + frac_text[bad_frac] + "' is not total or dissolved").to_numpy())
+    name_frac = np.where(conflict_name, None, name_fraction)
+    both = np.array([a is not None and b is not None and a != b for a, b in zip(fraction, name_frac)]) if n else np.zeros(0, bool)
+    _add(reasons, both, "fraction column and analyte name disagree")
+    fraction = np.where(np.array([f is None for f in fraction]), name_frac, fraction) if n else fraction
+    if opts.default_fraction:
+        fraction = np.where(np.array([f is None for f in fraction]), opts.default_fraction, fraction)
+    no_frac = np.array([f is None for f in fraction]) & ~bad_frac & ~conflict_name if n else np.zeros(0, bool)
+    _add(reasons, no_frac, "fraction not given (no fraction column value, none in the analyte name; "
+                           "use --default-fraction to set one)")
+
+    unit_text = col("unit")
+    factor = units.factors_for(unit_text)
+    bad_unit = np.isnan(factor)
+    _add(reasons, bad_unit & (unit_text == "").to_numpy(), "unit is empty")
+    bu = bad_unit & (unit_text != "").to_numpy()
+    _add(reasons, bu, ("unit '" + unit_text[bu] + "' is not a concentration unit tracescreen knows").to_numpy())
+
+    qualifier = col("qualifier")
+    res_text = col("result")
+    parsed = parsing.parse_results(res_text, qualifier, col("detection_limit"), opts.decimal_comma)
+    perr = parsed["error"]
+    has_err = np.array([e is not None for e in perr]) if n else np.zeros(0, bool)
+    _add(reasons, has_err, perr[has_err])
+
+    st_text = col("sample_type")
+    sample_type, bad_st = parsing.parse_vocabulary(st_text, parsing.SAMPLE_TYPE_VOCAB)
+    _add(reasons, bad_st, ("sample_type '" + st_text[bad_st] + "' is not sample, field_duplicate, "
+                                                            "field_blank or lab_blank").to_numpy())
+    parent = col("parent_sample_id")
+    dup_no_parent = (sample_type == "field_duplicate") & (parent == "").to_numpy()
+    _add(reasons, dup_no_parent, "field duplicate without parent_sample_id")
+
+    an_text = col("analysed_at")
+    analysed_at, bad_an = parsing.parse_dates(an_text, opts.date_order)
+    _add(reasons, bad_an, ("analysed_at '" + an_text[bad_an] + "' is not a date").to_numpy())
+
+    hard_text = col("hardness_mg_L")
+    hardness = parsing.to_number(hard_text, opts.decimal_comma).to_numpy()
+    bad_h = ((hard_text != "").to_numpy() & np.isnan(hardness)) | (hardness < 0)
+    _add(reasons, bad_h, ("hardness '" + hard_text[bad_h] + "' is not a non-negative number").to_numpy())
+
+    unc_text = col("uncertainty")
+    unc, bad_unc = parsing.parse_uncertainty(unc_text, parsed["value"], opts.decimal_comma)
+    _add(reasons, bad_unc, ("uncertainty '" + unc_text[bad_unc] + "' is not a number or a percentage").to_numpy())
+
+    rejected_mask = reasons != ""
+    ok = ~rejected_mask
+    acc = pd.DataFrame({
+        "file": raw.file,
+        "sheet": raw.sheet,
+        "row": raw.rows[ok],
+        "site_id": site[ok].to_numpy(),
+        "sample_id": sample[ok].to_numpy(),
+        "sampled_at": sampled_at[ok],
+        "analyte": names[ok],
+        "fraction": fraction[ok],
+        "result_text": res_text[ok].to_numpy(),
+        "unit": unit_text[ok].to_numpy(),
+        "value_ug_L": units.clean_decimal(parsed["value"][ok] * factor[ok]),
+        "detected": parsed["detected"][ok],
+        "detection_limit_ug_L": units.clean_decimal(parsed["detection_limit"][ok] * factor[ok]),
+        "qualifier": qualifier[ok].to_numpy(),
+        "sample_type": np.where(sample_type[ok] == None, "sample", sample_type[ok]),  # noqa: E711
+        "parent_sample_id": parent[ok].to_numpy(),
+        "lab": col("lab")[ok].to_numpy(),
+        "batch": col("batch")[ok].to_numpy(),
+        "analysed_at": analysed_at[ok],
+        "hardness_mg_L": hardness[ok],
+        "uncertainty_ug_L": units.clean_decimal(unc[ok] * factor[ok]),
+    })
+    for c in ("site_id", "sample_id", "analyte", "fraction", "result_text", "unit", "qualifier",
+              "sample_type", "parent_sample_id", "lab", "batch", "sheet", "file"):
+        acc[c] = acc[c].astype(str)
+    rej_cells = cells.loc[rejected_mask].drop(columns=["__field_count_error__"], errors="ignore")
+    rej = pd.concat([
+        pd.DataFrame({"file": raw.file, "sheet": raw.sheet, "row": raw.rows[rejected_mask],
+                      "reason": reasons[rejected_mask].astype(str)}),
+        rej_cells.reset_index(drop=True),
+    ], axis=1)
+    return acc, rej
+
+
+def empty_accepted() -> pd.DataFrame:
+    """An accepted-results table with no rows and the contract's columns and types."""
+    return normalise_empty()
+
+
+def normalise_empty() -> pd.DataFrame:
+    cols = {c: pd.Series(dtype=str) for c in ACCEPTED_COLUMNS}
+    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L"):
+        cols[c] = pd.Series(dtype=float)
+    cols["row"] = pd.Series(dtype="int64")
+    cols["detected"] = pd.Series(dtype=bool)
+    cols["sampled_at"] = pd.Series(dtype="datetime64[ns]")
+    cols["analysed_at"] = pd.Series(dtype="datetime64[ns]")
+    return pd.DataFrame(cols)
+
+
+def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame | None = None,
+                 sites_name: str = "the sites file") -> LoadResult:
+    """Load lab files into accepted and rejected rows.
+
+    Parameters
+    ----------
+    paths : iterable of str or Path
+        CSV or XLSX files.
+    options : LoadOptions
+        Column mapping, date order, decimal comma, encoding, default fraction, sheet.
+    sites : DataFrame, optional
+        The sites table; when given, a result whose site is not in it is rejected.
+
+    Returns
+    -------
+    LoadResult
+    """
+    opts = options or LoadOptions()
+    site_ids = set(sites["site_id"]) if sites is not None else None
+    accepted, rejected, files, warnings = [], [], [], []
+    for path in paths:
+        raws, digest = read_raw(path, opts)
+        for raw in raws:
+            acc, rej = normalise(raw, opts, site_ids, sites_name)
+            accepted.append(acc)
+            rejected.append(rej)
+            files.append({"file": raw.file, "path": raw.path, "sheet": raw.sheet, "sha256": digest,
+                          "header_row": raw.header_row, "rows_read": len(raw.cells),
+                          "accepted": len(acc), "rejected": len(rej), "blank_rows": raw.blank_rows})
+    acc = pd.concat(accepted, ignore_index=True) if accepted else normalise_empty()
+    rej = pd.concat(rejected, ignore_index=True) if rejected else pd.DataFrame(columns=["file", "sheet", "row", "reason"])
+    return LoadResult(acc, rej, pd.DataFrame(files), warnings)

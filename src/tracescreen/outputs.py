@@ -1,0 +1,80 @@
+"""Writing output tables: CSV (fast, via pyarrow) and XLSX (openpyxl), safe against formula injection.
+
+Spreadsheet programs run a cell that begins with ``=``, ``+``, ``-`` or ``@`` as a formula. Text
+cells that begin so (and tab or carriage return) are written with a leading apostrophe, which
+spreadsheets show as text; numbers (including negative numbers) stay numbers.
+
+References
+----------
+.. [1] OWASP Foundation. "CSV Injection" (formula injection), OWASP community pages.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.csv as pacsv
+
+FORMULA_START = r"^[=+\-@\t\r]"
+XLSX_MAX_ROWS = 1_048_576
+
+
+def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
+    """Copy of ``df`` whose text cells cannot start a spreadsheet formula."""
+    out = df.copy()
+    for c in out.columns:
+        s = out[c]
+        if pd.api.types.is_string_dtype(s.dtype) or s.dtype == object:
+            txt = s.astype(str)
+            mask = txt.str.match(FORMULA_START) & s.notna()
+            if mask.any():
+                out[c] = s.where(~mask, "'" + txt)
+    return out
+
+
+def _format_dates(df: pd.DataFrame) -> pd.DataFrame:
+    out = df.copy()
+    for c in out.columns:
+        if pd.api.types.is_datetime64_any_dtype(out[c]):
+            codes, uniq = pd.factorize(out[c])
+            has_time = (uniq != uniq.normalize()).any() if len(uniq) else False
+            text = np.asarray(uniq.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d"), dtype=object)
+            vals = np.where(codes >= 0, text[np.maximum(codes, 0)] if len(text) else "", "")
+            out[c] = pd.Series(vals, index=out.index, dtype=str)
+    return out
+
+
+def prepare(df: pd.DataFrame) -> pd.DataFrame:
+    """Dates as ISO text and formula-safe text cells: what every export writes."""
+    return neutralise_formulas(_format_dates(df))
+
+
+def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
+    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path."""
+    p = Path(path)
+    p.parent.mkdir(parents=True, exist_ok=True)
+    table = pa.Table.from_pandas(prepare(df), preserve_index=False)
+    pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed"))
+    return p
+
+
+def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path) -> Path:
+    """Write one sheet per table (formula-safe). Raises ValueError if a table is too long for Excel."""
+    from openpyxl import Workbook
+
+    p = Path(path)
+    p.parent.mkdir(parents=True, exist_ok=True)
+    wb = Workbook(write_only=True)
+    for name, df in sheets.items():
+        if len(df) + 1 > XLSX_MAX_ROWS:
+            raise ValueError(f"table '{name}' has {len(df)} rows, more than an Excel sheet holds; use CSV")
+        ws = wb.create_sheet(title=str(name)[:31])
+        safe = prepare(df)
+        ws.append([str(c) for c in safe.columns])
+        for rec in safe.itertuples(index=False, name=None):
+            ws.append([None if (isinstance(v, float) and np.isnan(v)) else v for v in rec])
+    wb.save(p)
+    return p

@@ -1,0 +1,237 @@
+"""Parsing the cells of a lab file: results with non-detects, dates, fractions, sample types.
+
+Every parser here is vectorised: it works on a whole column (a pandas Series of text) and, where
+the column repeats few distinct values (dates, units, vocabularies), on its distinct values only.
+Each returns the parsed values and a boolean mask of cells it could not parse, so that the loader
+can reject exactly those rows with a reason.
+
+Result cells (common laboratory reporting practice):
+
+* a number: detected (``1.2``, ``0.005``, ``1.2E-3``); with qualifier ``J``: detected, estimated;
+* ``<x`` or ``< x``: not detected at detection limit ``x`` (same unit as the row);
+* ``ND``, ``not detected``, ``n.d.``, ``BDL``, ``<DL``, ``<LOR`` ...: not detected; the detection
+  limit comes from the detection-limit column;
+* blank with qualifier ``U``: not detected (detection limit from its column);
+* a number with qualifier ``U`` (``0.5`` + ``U``, or ``0.5 U``): not detected at that value unless a
+  detection-limit column gives it;
+* ``>x`` (above the calibration range) cannot be screened and is rejected with that reason.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pandas as pd
+
+ND_WORDS = frozenset({
+    "nd", "n.d.", "n.d", "notdetected", "not detected", "bdl", "belowdetectionlimit",
+    "below detection limit", "<dl", "<lor", "<mdl", "<rl", "<lod", "<loq", "<pql", "u",
+})
+
+FRACTION_VOCAB = {
+    "total": "total", "t": "total", "tot": "total", "totalrecoverable": "total", "recoverable": "total",
+    "unfiltered": "total", "whole": "total", "tr": "total",
+    "dissolved": "dissolved", "d": "dissolved", "diss": "dissolved", "filtered": "dissolved",
+    "soluble": "dissolved", "f": "dissolved",
+}
+
+SAMPLE_TYPE_VOCAB = {
+    "sample": "sample", "": "sample", "normal": "sample", "regular": "sample", "primary": "sample",
+    "routine": "sample", "n": "sample", "field sample": "sample", "fieldsample": "sample",
+    "field_duplicate": "field_duplicate", "fieldduplicate": "field_duplicate", "duplicate": "field_duplicate",
+    "dup": "field_duplicate", "fd": "field_duplicate", "fielddup": "field_duplicate",
+    "field_blank": "field_blank", "fieldblank": "field_blank", "fb": "field_blank",
+    "equipmentblank": "field_blank", "rinsateblank": "field_blank", "eb": "field_blank",
+    "lab_blank": "lab_blank", "labblank": "lab_blank", "laboratoryblank": "lab_blank",
+    "methodblank": "lab_blank", "mb": "lab_blank", "lb": "lab_blank",
+}
+
+DATE_ORDERS = ("iso", "dmy", "mdy")
+
+_DMY_FORMATS = ("%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y", "%d/%m/%y", "%d.%m.%y")
+_MDY_FORMATS = ("%m/%d/%Y", "%m-%d-%Y", "%m/%d/%y")
+_TIME_SUFFIXES = ("", " %H:%M", " %H:%M:%S")
+
+_NUM = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
+_LT_RE = re.compile(rf"^<\s*=?\s*({_NUM})$")
+_GT_RE = re.compile(rf"^>\s*=?\s*({_NUM})$")
+_NUM_QUAL_RE = re.compile(rf"^({_NUM})\s*([A-Za-z]{{1,3}})$")
+
+
+def _vocab_key(s: pd.Series) -> pd.Series:
+    return s.str.strip().str.lower().str.replace(r"[\s_\-]+", "", regex=True)
+
+
+def to_number(text: pd.Series, decimal_comma: bool = False) -> pd.Series:
+    """Numbers from text; NaN where the text is not a plain number.
+
+    With ``decimal_comma`` a comma is the decimal separator (``0,5``); without it, a comma makes
+    the cell unparseable (never guessed).
+    """
+    s = text.str.strip()
+    if decimal_comma:
+        s = s.str.replace(",", ".", regex=False)
+    return pd.to_numeric(s, errors="coerce").astype(float)
+
+
+def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.Series,
+                  decimal_comma: bool = False) -> dict[str, np.ndarray]:
+    """Parse result cells into value, detected flag and detection limit (all in the row's unit).
+
+    Parameters
+    ----------
+    result, qualifier, detection_limit : pandas.Series of str
+        The cells as reported ("" where empty).
+    decimal_comma : bool
+        Read ``,`` as the decimal separator.
+
+    Returns
+    -------
+    dict of numpy arrays
+        ``value`` (float, NaN for non-detects), ``detected`` (bool), ``detection_limit`` (float),
+        ``error`` (object: None or a reason text for cells that cannot be used).
+    """
+    n = len(result)
+    res = result.fillna("").astype(str).str.strip()
+    qual = qualifier.fillna("").astype(str).str.strip().str.upper()
+    dl_text = detection_limit.fillna("").astype(str).str.strip()
+
+    value = to_number(res, decimal_comma).to_numpy(dtype=float, copy=True)
+    dl_col = to_number(dl_text, decimal_comma).to_numpy(dtype=float, copy=True)
+    error = np.full(n, None, dtype=object)
+
+    bad_dl = (dl_text != "").to_numpy() & np.isnan(dl_col)
+    error[bad_dl] = ("detection limit '" + dl_text[bad_dl] + "' is not a number").to_numpy()
+
+    qual_u = qual.str.contains("U", regex=False).to_numpy(dtype=bool, copy=True)
+    numeric = ~np.isnan(value)
+    detected = numeric.copy()
+    dl = dl_col.copy()
+
+    todo = ~numeric  # everything that is not a plain number is looked at here
+    if todo.any():
+        sub = res[todo]
+        sub_c = sub.str.replace(",", ".", regex=False) if decimal_comma else sub
+        lt = sub_c.str.extract(_LT_RE, expand=False)
+        gt = sub_c.str.extract(_GT_RE, expand=False)
+        numq = sub_c.str.extract(_NUM_QUAL_RE, expand=True)
+        low = sub.str.lower().str.replace(r"\s+", " ", regex=True)
+        is_nd_word = low.isin(ND_WORDS).to_numpy()
+        is_blank = (sub == "").to_numpy()
+        idx = np.flatnonzero(todo)
+
+        lt_ok = lt.notna().to_numpy()
+        lt_val = pd.to_numeric(lt, errors="coerce").to_numpy(dtype=float)
+        # "<x": non-detect at x; a separate detection-limit column, if any, is kept as reported
+        dl[idx[lt_ok]] = np.where(np.isnan(dl_col[idx[lt_ok]]), lt_val[lt_ok], dl_col[idx[lt_ok]])
+        detected[idx[lt_ok]] = False
+
+        gt_ok = gt.notna().to_numpy()
+        error[idx[gt_ok]] = ("result '" + sub[gt_ok] + "' is above the reported range and cannot be screened").to_numpy()
+
+        # "0.5 U" / "1.2 J": number followed by qualifier letters
+        nq_ok = numq[0].notna().to_numpy()
+        nq_val = pd.to_numeric(numq[0], errors="coerce").to_numpy(dtype=float)
+        nq_letters = numq[1].fillna("").str.upper().to_numpy()
+        nq_u = nq_ok & (np.char.find(nq_letters.astype(str), "U") >= 0)
+        nq_det = nq_ok & ~nq_u
+        value[idx[nq_det]] = nq_val[nq_det]
+        detected[idx[nq_det]] = True
+        value[idx[nq_u]] = nq_val[nq_u]
+        qual_u[idx[nq_u]] = True
+
+        nd_word = is_nd_word | (is_blank & qual_u[idx])
+        detected[idx[nd_word]] = False
+        unknown = ~(lt_ok | gt_ok | nq_ok | nd_word)
+        blank_unknown = unknown & is_blank
+        error[idx[blank_unknown]] = "result is empty (and no U qualifier)"
+        other = unknown & ~is_blank
+        error[idx[other]] = ("result '" + sub[other] + "' is not a number, '<x' or a non-detect code").to_numpy()
+
+    # A number with qualifier U: not detected at that number (or at the DL column if given)
+    num_u = ~np.isnan(value) & qual_u
+    dl[num_u] = np.where(np.isnan(dl_col[num_u]), value[num_u], dl_col[num_u])
+    detected[num_u] = False
+    value[~detected] = np.nan
+
+    nd_no_dl = ~detected & np.isnan(dl) & (error == None)  # noqa: E711 (object array)
+    error[nd_no_dl] = "non-detect without a detection limit"
+    neg = (value < 0) | (dl < 0)
+    error[neg & (error == None)] = "negative concentration or detection limit"  # noqa: E711
+    zero_dl = ~detected & (dl == 0)
+    error[zero_dl & (error == None)] = "non-detect with a detection limit of zero"  # noqa: E711
+    return {"value": value, "detected": detected, "detection_limit": dl, "error": error}
+
+
+def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:
+    """Parse distinct date strings; NaT where none of the allowed forms fits."""
+    s = pd.Series(uniques.astype(str), index=uniques).str.strip()
+    iso = pd.to_datetime(s, format="ISO8601", errors="coerce")
+    if order == "iso":
+        # ISO 8601 only: YYYY-MM-DD with optional time; reject "2020-13-01" and day-first text
+        looks_iso = s.str.match(r"^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?(Z|[+-]\d{2}:?\d{2})?$")
+        out = iso.where(looks_iso.to_numpy())
+    else:
+        formats = _DMY_FORMATS if order == "dmy" else _MDY_FORMATS
+        out = iso.where(s.str.match(r"^\d{4}-\d{2}-\d{2}").to_numpy())
+        for f in formats:
+            for t in _TIME_SUFFIXES:
+                missing = out.isna().to_numpy()
+                if not missing.any():
+                    break
+                out[missing] = pd.to_datetime(s[missing], format=f + t, errors="coerce")
+    if getattr(out.dt, "tz", None) is not None:
+        out = out.dt.tz_convert("UTC").dt.tz_localize(None)
+    return out
+
+
+def parse_dates(text: pd.Series, order: str = "iso") -> tuple[np.ndarray, np.ndarray]:
+    """Parse a date column, once per distinct value.
+
+    Parameters
+    ----------
+    text : pandas.Series of str
+    order : {"iso", "dmy", "mdy"}
+        ``iso`` accepts ISO 8601 only (``2021-03-04``, ``2021-03-04 10:30``). ``dmy``/``mdy`` also
+        accept day-first (``04/03/2021``) or month-first (``03/04/2021``) forms. Never guessed.
+
+    Returns
+    -------
+    dates : numpy datetime64[ns] array (NaT where empty or unparseable)
+    bad : bool array, True where the cell is not empty and could not be parsed
+    """
+    if order not in DATE_ORDERS:
+        raise ValueError(f"date order must be one of {DATE_ORDERS}")
+    s = text.fillna("").astype(str)
+    codes, uniques = pd.factorize(s)
+    parsed = _parse_unique_dates(pd.Index(uniques), order).to_numpy(dtype="datetime64[ns]")
+    dates = parsed[codes] if len(uniques) else np.array([], dtype="datetime64[ns]")
+    empty = (s.str.strip() == "").to_numpy()
+    bad = np.isnat(dates) & ~empty
+    return dates, bad
+
+
+def parse_vocabulary(text: pd.Series, vocab: dict[str, str]) -> tuple[np.ndarray, np.ndarray]:
+    """Map vocabulary text (fraction, sample type) to canonical words; returns (values, unknown)."""
+    s = text.fillna("").astype(str)
+    codes, uniques = pd.factorize(s)
+    keys = _vocab_key(pd.Series(uniques, dtype=object).astype(str))
+    table = np.array([vocab.get(k, vocab.get(k.replace(" ", ""), None)) for k in keys] + [None], dtype=object)
+    out = table[np.where(codes < 0, len(uniques), codes)]
+    unknown = np.array([v is None for v in out]) & (s.str.strip() != "").to_numpy()
+    return out, unknown
+
+
+def parse_uncertainty(text: pd.Series, value: np.ndarray, decimal_comma: bool = False
+                      ) -> tuple[np.ndarray, np.ndarray]:
+    """Expanded uncertainty in the row's unit: an absolute number, or ``15%`` of the result.
+
+    Returns (uncertainty, bad). A percentage of a non-detect is NaN (nothing to spread).
+    """
+    s = text.fillna("").astype(str).str.strip()
+    is_pct = s.str.endswith("%").to_numpy()
+    num = to_number(s.str.rstrip("%"), decimal_comma).to_numpy()
+    out = np.where(is_pct, num / 100.0 * value, num)
+    bad = ((s != "").to_numpy() & np.isnan(num)) | (num < 0)
+    return out, bad

@@ -1,0 +1,107 @@
+"""The retest list: every retest flag and QC check on a screening table, with its options.
+
+``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.flags.RETEST_COLUMNS`):
+one row per flagged result and reason (several reasons give several rows).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import pandas as pd
+
+from . import flags, qc
+
+REASONS = (
+    "first_exceedance", "dl_too_high", "near_limit", "uncertainty_straddles_limit",
+    "history_outlier", "duplicate_disagrees", "blank_contamination", "dissolved_exceeds_total",
+    "holding_time_exceeded",
+)
+"""Reason codes, in the order they are listed."""
+
+
+@dataclass(frozen=True)
+class RetestOptions:
+    """Thresholds of the retest flags and QC checks (defaults: see each function's docstring).
+
+    Attributes
+    ----------
+    lookback : None, int or str
+        First exceedance look-back: ``None`` whole history, an int number of earlier sampling
+        dates, or a duration such as ``"730D"``.
+    near_limit_fraction : float
+        Near-limit share of a limit (0.8, common practice).
+    outlier_z : float
+        Modified z-score threshold (3.5, Iglewicz & Hoaglin 1993).
+    outlier_min_prior : int
+        Earlier detects needed for the history check (8).
+    duplicate_rpd_percent, duplicate_rpd_min_multiple, duplicate_abs_multiple : float
+        Field duplicate rule (30 %, 5 × DL, 1 × DL; common practice).
+    blank_multiple : float
+        Blank rule (5 × blank; common practice).
+    dissolved_percent, dissolved_min_multiple, dissolved_abs_multiple : float
+        Dissolved vs total rule (30 %, 5 × DL, 2 × DL; common practice).
+    holding_times : dict or None
+        Analyte → holding time; ``None`` uses :data:`tracescreen.qc.HOLDING_TIMES`.
+    reasons : tuple of str
+        Reasons to compute (default all).
+    """
+
+    lookback: object = None
+    near_limit_fraction: float = 0.8
+    outlier_z: float = 3.5
+    outlier_min_prior: int = 8
+    duplicate_rpd_percent: float = 30.0
+    duplicate_rpd_min_multiple: float = 5.0
+    duplicate_abs_multiple: float = 1.0
+    blank_multiple: float = 5.0
+    dissolved_percent: float = 30.0
+    dissolved_min_multiple: float = 5.0
+    dissolved_abs_multiple: float = 2.0
+    holding_times: dict | None = None
+    reasons: tuple = field(default=REASONS)
+
+
+def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -> pd.DataFrame:
+    """All retest flags and QC checks on a screening table.
+
+    Parameters
+    ----------
+    screening : pandas.DataFrame
+        The screening table (DEVELOPERS.md contract), including QC samples (status ``qc_sample``).
+    options : RetestOptions, optional
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns :data:`tracescreen.flags.RETEST_COLUMNS`, sorted by site, sampling date, sample,
+        analyte, fraction and reason (in :data:`REASONS` order).
+    """
+    o = options or RetestOptions()
+    unknown = set(o.reasons) - set(REASONS)
+    if unknown:
+        raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
+    results = flags.results_from_screening(screening)
+    checks = {
+        "first_exceedance": lambda: flags.first_exceedance(screening, lookback=o.lookback),
+        "dl_too_high": lambda: flags.dl_too_high(screening),
+        "near_limit": lambda: flags.near_limit(screening, fraction=o.near_limit_fraction),
+        "uncertainty_straddles_limit": lambda: flags.uncertainty_straddles_limit(screening),
+        "history_outlier": lambda: flags.history_outlier(
+            results, z_threshold=o.outlier_z, min_prior=o.outlier_min_prior),
+        "duplicate_disagrees": lambda: qc.duplicate_disagrees(
+            results, o.duplicate_rpd_percent, o.duplicate_rpd_min_multiple, o.duplicate_abs_multiple),
+        "blank_contamination": lambda: qc.blank_contamination(results, o.blank_multiple),
+        "dissolved_exceeds_total": lambda: qc.dissolved_exceeds_total(
+            results, o.dissolved_percent, o.dissolved_min_multiple, o.dissolved_abs_multiple),
+        "holding_time_exceeded": lambda: qc.holding_time_exceeded(results, o.holding_times),
+    }
+    parts = [checks[r]() for r in REASONS if r in o.reasons]
+    parts = [p for p in parts if not p.empty]
+    if not parts:
+        return flags.empty_retest()
+    out = pd.concat(parts, ignore_index=True)
+    out["_order"] = out["reason"].map({r: i for i, r in enumerate(REASONS)})
+    out = out.sort_values(["site_id", "sampled_at", "sample_id", "analyte", "fraction", "_order"],
+                          kind="stable")
+    return out.drop(columns="_order").reset_index(drop=True)

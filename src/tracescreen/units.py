@@ -1,0 +1,116 @@
+"""Concentration units: from the unit text a laboratory reports to a factor to µg/L.
+
+Everything inside tracescreen is held in micrograms per litre (µg/L). Conversion factors come
+from pint and are computed once per distinct unit string (never per row).
+
+Parts-per notation (``ppm``, ``ppb``, ``ppt``) is read as mass per volume for dilute water, whose
+density is taken as 1 kg/L: ppm = mg/L, ppb = µg/L, ppt = ng/L (parts per *trillion*, not per
+thousand). This is the usual convention for trace metals in fresh water; it does not hold for
+brines or sea water reported on a mass basis.
+
+References
+----------
+.. [1] Bureau International des Poids et Mesures (2019). The International System of Units (SI),
+   9th edition: the prefixes micro (10^-6), nano (10^-9), milli (10^-3).
+"""
+
+from __future__ import annotations
+
+import functools
+import re
+
+import numpy as np
+import pandas as pd
+import pint
+
+TARGET_UNIT = "microgram / liter"
+
+#: Parts-per notation for dilute water, read as mass per volume (density 1 kg/L).
+PARTS_PER = {"ppm": "mg/L", "ppb": "ug/L", "ppt": "ng/L"}
+
+_MICRO = ("\u00b5", "\u03bc")  # MICRO SIGN and GREEK SMALL LETTER MU: both seen in lab files
+
+
+@functools.lru_cache(maxsize=1)
+def _registry() -> pint.UnitRegistry:
+    return pint.UnitRegistry()
+
+
+def normalise_unit_text(text: str) -> str:
+    """Fold the spellings of one unit together: micro sign or Greek mu -> ``u``, case, spaces.
+
+    >>> normalise_unit_text(" \u03bcg/l ")
+    'ug/L'
+    """
+    s = str(text).strip()
+    for mu in _MICRO:
+        s = s.replace(mu, "u")
+    s = re.sub(r"\s+", "", s).lower()
+    s = s.replace("litre", "l").replace("liter", "l")
+    if s in PARTS_PER:
+        return PARTS_PER[s]
+    # g/m3, mg/dm3: exponents written without **
+    s = re.sub(r"([a-z])([23])$", r"\1**\2", s)
+    if s.endswith("/l"):
+        s = s[:-2] + "/L"
+    return s
+
+
+@functools.lru_cache(maxsize=4096)
+def factor_to_ug_per_L(unit_text: str) -> float | None:
+    """Factor that turns a concentration in ``unit_text`` into µg/L, or None if not a concentration.
+
+    Parameters
+    ----------
+    unit_text : str
+        The unit as reported, e.g. ``"mg/L"``, ``"µg/L"``, ``"ppb"``, ``"g/m3"``.
+
+    Returns
+    -------
+    float or None
+        Multiply a value in ``unit_text`` by this to get µg/L [µg/L per unit]. Rounded to 12
+        significant digits so that exact decimal factors (1000, 0.001) carry no binary residue.
+    """
+    s = normalise_unit_text(unit_text)
+    if not s:
+        return None
+    ureg = _registry()
+    try:
+        q = ureg.Quantity(1.0, s)
+        if q.dimensionality != ureg.Quantity(1.0, TARGET_UNIT).dimensionality:
+            return None
+        f = float(q.to(TARGET_UNIT).magnitude)
+    except Exception:  # pint raises several error types for unknown text
+        return None
+    if not np.isfinite(f) or f <= 0:
+        return None
+    return float(f"{f:.12g}")
+
+
+def factors_for(units: pd.Series) -> np.ndarray:
+    """Vectorised :func:`factor_to_ug_per_L`: one pint call per distinct unit string.
+
+    Returns a float array aligned with ``units``; NaN where the unit is not a known concentration.
+    """
+    codes, uniques = pd.factorize(units, use_na_sentinel=True)
+    table = np.array(
+        [np.nan if (f := factor_to_ug_per_L(u)) is None else f for u in uniques], dtype=float
+    )
+    out = np.full(len(codes), np.nan)
+    ok = codes >= 0
+    out[ok] = table[codes[ok]]
+    return out
+
+
+def clean_decimal(values: np.ndarray, digits: int = 12) -> np.ndarray:
+    """Round to ``digits`` significant digits to drop binary residue of unit conversion.
+
+    ``0.007 * 1000`` is ``7.000000000000001`` in binary floating point; this returns ``7.0``.
+    """
+    v = np.asarray(values, dtype=float)
+    out = v.copy()
+    nz = np.isfinite(v) & (v != 0)
+    mag = np.floor(np.log10(np.abs(v[nz])))
+    scale = 10.0 ** (digits - 1 - mag)
+    out[nz] = np.round(v[nz] * scale) / scale
+    return out

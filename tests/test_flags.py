@@ -1,0 +1,150 @@
+"""Retest flags (tracescreen.flags) on constructed cases at their threshold edges."""
+
+import numpy as np
+import pandas as pd
+import pytest
+import scipy.stats
+
+from flag_frames import screening
+from tracescreen import flags
+from tracescreen.flags import RETEST_COLUMNS
+
+# WHO Guidelines for Drinking-water Quality, 4th ed. incl. 1st and 2nd addenda (2022), Annex 3:
+# lead 0.01 mg/L = 10 µg/L; EU Directive 2020/2184 Annex I Part B: lead 5 µg/L from 2036-01-12.
+WHO_LEAD = ("who-dw", 10.0)
+EU_LEAD_2036 = ("eu-dw", 5.0)
+
+
+def _series(values, start="2015-01-01", **kw):
+    dates = pd.date_range(start, periods=len(values), freq="QS")
+    return [dict(sample_id=f"Q{i}", sampled_at=d, value=v, **kw) for i, (d, v) in enumerate(zip(dates, values))]
+
+
+def test_near_limit_edges():
+    """Detected at exactly 80 % of the WHO lead value (8 of 10 µg/L) is flagged, 7.99 is not (80 %: common practice)."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=8.0),
+            dict(sample_id="B", sampled_at="2024-01-01", value=7.99),
+            dict(sample_id="C", sampled_at="2024-01-01", value=10.0),
+            dict(sample_id="D", sampled_at="2024-01-01", value=10.01),
+            dict(sample_id="E", sampled_at="2024-01-01", value=0.008 * 1000)]  # 0.008 mg/L in µg/L
+    out = flags.near_limit(screening(rows, [WHO_LEAD]))
+    assert list(out.columns) == RETEST_COLUMNS
+    assert sorted(out["sample_id"]) == ["A", "C", "E"]  # D exceeds: an exceedance, not near-limit
+    assert (out["reason"] == "near_limit").all()
+    assert "80 % of limit 10 µg/L" in out.set_index("sample_id").loc["A", "detail"]
+
+
+def test_near_limit_option_and_float_roundoff():
+    """The share is an option; a conversion round-off just under 80 % still flags (relative tolerance 1e-9)."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=8.0 * (1 - 1e-12)),
+            dict(sample_id="B", sampled_at="2024-01-01", value=8.9)]
+    assert sorted(flags.near_limit(screening(rows, [WHO_LEAD]))["sample_id"]) == ["A", "B"]
+    assert list(flags.near_limit(screening(rows, [WHO_LEAD]), fraction=0.9)["sample_id"]) == []
+    with pytest.raises(ValueError):
+        flags.near_limit(screening(rows, [WHO_LEAD]), fraction=1.5)
+
+
+def test_dl_too_high_gives_detection_limit_needed():
+    """A non-detect at <20 µg/L against lead limits 10 (WHO 2022) and 5 µg/L (EU 2020/2184) needs a DL <= 5 µg/L."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", nd=True, detection_limit_ug_L=20.0),
+            dict(sample_id="B", sampled_at="2024-01-01", nd=True, detection_limit_ug_L=5.0),  # equal: meets
+            dict(sample_id="C", sampled_at="2024-01-01", nd=True, detection_limit_ug_L=8.0)]
+    out = flags.dl_too_high(screening(rows, [WHO_LEAD, EU_LEAD_2036])).set_index("sample_id")
+    assert sorted(out.index) == ["A", "C"]
+    assert out.loc["A", "detail"].endswith("detection limit needed: <= 5 µg/L")
+    assert "1 other limit(s)" in out.loc["A", "detail"]
+    assert out.loc["C", "detail"].endswith("<= 5 µg/L")
+
+
+def test_first_exceedance_whole_history():
+    """Only the first exceedance of a series is flagged with the default (whole history) look-back."""
+    vals = [2, 3, 12, 2, 15, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 14]
+    out = flags.first_exceedance(screening(_series(vals), [WHO_LEAD]))
+    assert list(out["sample_id"]) == ["Q2"]
+    assert "12 µg/L > limit 10 µg/L" in out["detail"][0]
+
+
+def test_first_exceedance_lookback_in_sampling_dates():
+    """Look-back of 2 sampling dates: an exceedance 2 dates after the last is not first, 12 dates after is."""
+    vals = [2, 3, 12, 2, 15, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 14]
+    out = flags.first_exceedance(screening(_series(vals), [WHO_LEAD]), lookback=2)
+    assert list(out["sample_id"]) == ["Q2", "Q16"]
+
+
+def test_first_exceedance_lookback_duration_edge():
+    """Look-back of 730 days: an earlier exceedance exactly 730 days before counts, 731 days does not."""
+    rows = [dict(sample_id="A", sampled_at="2020-01-01", value=12),
+            dict(sample_id="B", sampled_at="2021-12-31", value=12),  # 730 days after A
+            dict(sample_id="C", site_id="S2", sampled_at="2020-01-01", value=12),
+            dict(sample_id="D", site_id="S2", sampled_at="2022-01-01", value=12)]  # 731 days after C
+    out = flags.first_exceedance(screening(rows, [WHO_LEAD]), lookback="730D")
+    assert sorted(out["sample_id"]) == ["A", "C", "D"]
+
+
+def test_first_exceedance_ignores_qc_samples():
+    """A field duplicate that exceeds is a QC sample (status qc_sample), not a first exceedance."""
+    rows = [dict(sample_id="A", sampled_at="2020-01-01", value=2),
+            dict(sample_id="A-D", sampled_at="2020-01-01", value=12, sample_type="field_duplicate",
+                 parent_sample_id="A")]
+    assert flags.first_exceedance(screening(rows, [WHO_LEAD])).empty
+
+
+def test_uncertainty_straddles_limit_edges():
+    """9 ± 1 µg/L touches the 10 µg/L limit and is flagged; 8.9 ± 1 and 11.6 ± 1.5 are not (Eurachem/CITAC compliance guide)."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=9.0, uncertainty_ug_L=1.0),
+            dict(sample_id="B", sampled_at="2024-01-01", value=8.9, uncertainty_ug_L=1.0),
+            dict(sample_id="C", sampled_at="2024-01-01", value=11.0, uncertainty_ug_L=1.5),
+            dict(sample_id="D", sampled_at="2024-01-01", value=11.6, uncertainty_ug_L=1.5),
+            dict(sample_id="E", sampled_at="2024-01-01", value=9.9)]  # no uncertainty reported
+    out = flags.uncertainty_straddles_limit(screening(rows, [WHO_LEAD])).set_index("sample_id")
+    assert sorted(out.index) == ["A", "C"]
+    assert "reported above" in out.loc["C", "detail"]
+
+
+def test_modified_z_score_matches_scipy_mad():
+    """Modified z-score equals (x − median)/MAD_normal with scipy.stats.median_abs_deviation(scale='normal') (Iglewicz & Hoaglin 1993)."""
+    rng = np.random.default_rng(1)
+    hist = rng.normal(size=(50, 12))
+    x = rng.normal(scale=4, size=50)
+    z = flags.modified_z_score(x, hist)
+    ref = (x - np.median(hist, axis=1)) / scipy.stats.median_abs_deviation(hist, axis=1, scale="normal")
+    # 0.6745 (Iglewicz & Hoaglin) vs scipy's 1/1.4826 = 0.67449: relative difference < 1e-4
+    np.testing.assert_allclose(z, ref, rtol=1e-4)
+
+
+def test_history_outlier_threshold_and_min_prior():
+    """ln-values with median 0 and MAD 1: z = 0.6745·ln x; 3.6 flags, 3.4 does not; 7 earlier detects are too few (≥ 8 needed)."""
+    logs = [-2, -1, -1, 0, 0, 1, 1, 2]  # median 0, MAD 1 (by hand)
+    hi = np.exp(3.6 / 0.6745)
+    lo = np.exp(3.4 / 0.6745)
+    for last, expect in ((hi, ["Q8"]), (lo, []), (1 / hi, ["Q8"])):
+        rows = _series(list(np.exp(logs)) + [last])
+        out = flags.history_outlier(screening(rows, [("none", 1e9)]))
+        assert list(out["sample_id"]) == expect
+    rows = _series(list(np.exp(logs[1:])) + [hi])  # only 7 earlier detects
+    assert flags.history_outlier(screening(rows, [("none", 1e9)])).empty
+
+
+def test_history_outlier_ignores_nondetects_and_other_series():
+    """Non-detects are not part of the history; another site's values do not count as history."""
+    logs = [-2, -1, -1, 0, 0, 1, 1, 2]
+    rows = _series(list(np.exp(logs)) + [np.exp(6.0)])
+    rows[3] = dict(rows[3], nd=True)  # now only 7 earlier detects
+    other = [dict(r, site_id="S2", sample_id="O" + r["sample_id"]) for r in _series(list(np.exp(logs)))]
+    out = flags.history_outlier(screening(rows + other, [("none", 1e9)]))
+    assert out.empty
+
+
+def test_history_outlier_constant_history_uses_mean_absolute_deviation():
+    """With MAD = 0 the mean absolute deviation ×1.253314 scales the score (common practice); all-equal history scores nothing."""
+    rows = _series([1, 1, 1, 1, 1, 1, 2, 1, 50])
+    out = flags.history_outlier(screening(rows, [("none", 1e9)]))
+    assert list(out["sample_id"]) == ["Q8"]
+    rows = _series([1] * 8 + [50])
+    assert flags.history_outlier(screening(rows, [("none", 1e9)])).empty
+
+
+def test_format_number_significant_figures():
+    """Four significant figures, no trailing .0, NaN empty (display convention)."""
+    out = flags.format_number(pd.Series([0.123456, 123456.0, 2.0, np.nan, 0.0, -3.14159]))
+    assert list(out) == ["0.1235", "123500", "2", "", "0", "-3.142"]

@@ -1,0 +1,42 @@
+"""Hardness by calculation and the order in which a sample's hardness is chosen."""
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from tracescreen.hardness import hardness_from_calcium_magnesium, sample_hardness
+
+
+def test_standard_methods_2340b_example():
+    """Ca 40 mg/L, Mg 12 mg/L -> 2.497*40 + 4.118*12 = 149.3 mg/L as CaCO3 (Standard Methods 2340 B)."""
+    assert hardness_from_calcium_magnesium(40, 12) == pytest.approx(149.296)
+
+
+def test_coefficients_are_molar_mass_ratios():
+    """2.497 = M(CaCO3)/M(Ca) = 100.087/40.078 and 4.118 = 100.087/24.305 (IUPAC atomic weights)."""
+    assert 100.087 / 40.078 == pytest.approx(2.497, abs=5e-4)
+    assert 100.087 / 24.305 == pytest.approx(4.118, abs=5e-4)
+
+
+def _results(rows):
+    cols = ["site_id", "sample_id", "analyte", "fraction", "value_ug_L", "detected", "hardness_mg_L"]
+    return pd.DataFrame(rows, columns=cols)
+
+
+def test_preference_order_own_then_ca_mg_then_site_default():
+    """Own hardness first, then Ca/Mg of the same sample, then the site default, else none (issue 2 rule)."""
+    r = _results([
+        ("S1", "A", "zinc", "dissolved", 10.0, True, 55.0),
+        ("S1", "A", "calcium", "total", 40000.0, True, np.nan),
+        ("S1", "B", "zinc", "dissolved", 10.0, True, np.nan),
+        ("S1", "B", "calcium", "total", 40000.0, True, np.nan),
+        ("S1", "B", "magnesium", "total", 12000.0, True, np.nan),
+        ("S1", "C", "zinc", "dissolved", 10.0, True, np.nan),
+        ("S2", "D", "zinc", "dissolved", 10.0, True, np.nan),
+    ])
+    sites = pd.DataFrame({"site_id": ["S1", "S2"], "hardness_mg_L": [80.0, np.nan]})
+    h = sample_hardness(r, sites)
+    assert h["hardness_origin"].tolist() == ["sample", "sample", "calcium_magnesium", "calcium_magnesium",
+                                             "calcium_magnesium", "site_default", "none"]
+    assert h["hardness_used_mg_L"].iloc[2] == pytest.approx(149.296)
+    assert h["hardness_used_mg_L"].iloc[5] == 80.0 and np.isnan(h["hardness_used_mg_L"].iloc[6])
