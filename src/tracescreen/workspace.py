@@ -40,7 +40,6 @@ from datetime import datetime, timezone
 from pathlib import Path
 from typing import Callable, Iterable
 
-import duckdb
 import numpy as np
 import pandas as pd
 import pyarrow as pa
@@ -48,16 +47,13 @@ import pyarrow.feather as feather
 import pyarrow.ipc as ipc
 
 from . import __version__, loading
+from .revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
 from .columns import load_column_map
 
 WORKSPACE_FILE = "workspace.sqlite"
 SCHEMA_VERSION = 1
 APPLICATION_ID = 0x54534357  # "TSCW": marks the SQLite file as a tracescreen workspace
 SEGMENT_ROWS = 250_000
-RESULT_KEY = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab"]
-PROVENANCE = ["file", "sheet", "row"]
-VALUE_COLUMNS = [c for c in loading.ACCEPTED_COLUMNS
-                 if c not in RESULT_KEY + PROVENANCE + ["result_text", "unit"]]
 _HASHES = ["key_hash", "value_hash"]
 _IPC = ipc.IpcWriteOptions(compression="zstd")
 
@@ -176,41 +172,6 @@ def file_sha256(path: str | Path) -> str:
     return _sha256(Path(path).read_bytes())
 
 
-def row_hashes(table: pa.Table | pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
-    """64-bit hashes of each row's key (``RESULT_KEY``) and values (``VALUE_COLUMNS``).
-
-    Computed by DuckDB's ``hash`` over the Arrow columns (vectorised, multi-threaded); datetimes
-    are taken at nanosecond resolution so that the hash does not depend on the storage unit.
-    """
-    if isinstance(table, pd.DataFrame):
-        table = pa.Table.from_pandas(table[RESULT_KEY + VALUE_COLUMNS], preserve_index=False)
-    cols = {}
-    for name in RESULT_KEY + VALUE_COLUMNS:
-        c = table.column(name)
-        cols[name] = c.cast(pa.timestamp("ns")) if pa.types.is_timestamp(c.type) else c
-    con = duckdb.connect()
-    try:
-        con.register("t", pa.table(cols))
-        out = con.execute(f"SELECT hash({', '.join(RESULT_KEY)}) AS k, "
-                          f"hash({', '.join(VALUE_COLUMNS)}) AS v FROM t").fetchnumpy()
-    finally:
-        con.close()
-    return np.asarray(out["k"], dtype=np.uint64), np.asarray(out["v"], dtype=np.uint64)
-
-
-def _probe_hash() -> str:
-    """Hashes of a fixed row: if a library update changed the hash, stored hashes are not used."""
-    row = loading.empty_accepted().reindex([0])
-    for c in row.columns:
-        if row[c].dtype == object or pd.api.types.is_string_dtype(row[c]):
-            row[c] = "probe µ"
-    row["sampled_at"] = pd.Timestamp("2001-02-03 04:05")
-    row["detected"] = True
-    row["value_ug_L"] = 1.5
-    k, v = row_hashes(row)
-    return f"{k[0]:016x}{v[0]:016x}"
-
-
 # --------------------------------------------------------------------------------------------
 # segments: Arrow IPC files, zstd-compressed buffers
 # --------------------------------------------------------------------------------------------
@@ -287,7 +248,7 @@ def _initialise(con: sqlite3.Connection) -> None:
                 con.execute(stmt)
         con.executemany("INSERT INTO workspace_info VALUES (?, ?)",
                         [("created_at", _now()), ("created_by", f"tracescreen {__version__}"),
-                         ("row_hash_probe", _probe_hash())])
+                         ("row_hash_probe", probe_hash())])
         con.execute(f"PRAGMA application_id = {APPLICATION_ID}")
         con.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
 
@@ -456,7 +417,7 @@ class Workspace:
         """result_id, key hash ``k`` and value hash ``v`` of every current result."""
         probe = self.con.execute(
             "SELECT value FROM workspace_info WHERE key = 'row_hash_probe'").fetchone()[0]
-        if probe == _probe_hash():
+        if probe == probe_hash():
             t = self._load_table(["result_id"] + _HASHES, current=True)
             return pd.DataFrame({"result_id": t.column("result_id").to_numpy(),
                                  "k": t.column("key_hash").to_numpy(),
@@ -644,30 +605,3 @@ def _input_record(path) -> tuple[str | None, str | None]:
     if not path:
         return None, None
     return str(Path(path).resolve()), file_sha256(path)
-
-
-def classify(inc: pd.DataFrame, current: pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
-    """Classify incoming rows against the current ones by key hash ``k`` and value hash ``v``.
-
-    Returns the status of each incoming row (``new``, ``unchanged``, ``revised``) and the
-    result ids of the current rows that the revised ones supersede. Rows sharing a key are
-    compared as a multiset: a key is unchanged only if its incoming and current rows carry the
-    same values the same number of times.
-    """
-    status = np.full(len(inc), "new", dtype=object)
-    if len(current) == 0 or len(inc) == 0:
-        return status, np.zeros(0, dtype=np.int64)
-    known = np.isin(inc["k"].to_numpy(), current["k"].to_numpy())
-    if not known.any():
-        return status, np.zeros(0, dtype=np.int64)
-    a = inc.loc[known, ["k", "v"]].copy()
-    b = current.loc[current["k"].isin(a["k"].unique()), ["k", "v"]].copy()
-    a["o"] = a.groupby(["k", "v"]).cumcount()
-    b["o"] = b.groupby(["k", "v"]).cumcount()
-    m = a.merge(b, on=["k", "v", "o"], how="outer", indicator=True)
-    changed = m.loc[m["_merge"] != "both", "k"].unique()
-    revised = known & np.isin(inc["k"].to_numpy(), changed)
-    status[known] = "unchanged"
-    status[revised] = "revised"
-    sup = current.loc[current["k"].isin(changed), "result_id"].to_numpy(dtype=np.int64)
-    return status, sup
