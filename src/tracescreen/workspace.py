@@ -29,6 +29,7 @@ References
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import hashlib
 import json
@@ -324,15 +325,25 @@ class Workspace:
     def __exit__(self, *exc) -> None:
         self.close()
 
-    def _read(self, fn):
-        """Run ``fn(con)`` in one read transaction: a consistent snapshot of the workspace."""
+    @contextlib.contextmanager
+    def reading(self):
+        """``with ws.reading():`` every read inside sees one state of the workspace.
+
+        An import committed meanwhile by another process is not seen until the block ends.
+        """
         if self.con.in_transaction:
-            return fn(self.con)
+            yield self
+            return
         self.con.execute("BEGIN")
         try:
-            return fn(self.con)
+            yield self
         finally:
             self.con.execute("COMMIT")
+
+    def _read(self, fn):
+        """Run ``fn(con)`` in one read transaction: a consistent snapshot of the workspace."""
+        with self.reading():
+            return fn(self.con)
 
     def known_sha256(self) -> set[str]:
         return {r[0] for r in self.con.execute("SELECT sha256 FROM files")}
