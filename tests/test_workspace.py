@@ -278,3 +278,12 @@ def test_zip_truncation_is_what_the_xlsx_case_tests(tmp_path):
     cut = next(p for p, _, _ in _bad_inputs(tmp_path) if p.name == "cut.xlsx")
     with pytest.raises(zipfile.BadZipFile):
         zipfile.ZipFile(cut)
+
+
+def test_header_only_file_is_zero_rows(tmp_path, ws_dir):
+    """A report with a header and no data rows: 0 rows read, stored as a file, nothing else."""
+    path = write_lab_csv(tmp_path / "none.csv", lab_rows(0))
+    s = _import(ws_dir, path)
+    assert (s.import_id, s.total("rows_read"), s.total("new")) == (1, 0, 0)
+    with open_workspace(ws_dir) as ws:
+        assert len(ws.current_results()) == 0 and ws.check() == []
