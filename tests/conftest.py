@@ -10,8 +10,7 @@ ROOT = Path(__file__).resolve().parents[1]
 SCENARIO = ROOT / "scenario_data"
 
 
-@pytest.fixture
-def scenario_args() -> list[str]:
+def demo_args() -> list[str]:
     """Command-line data options for the whole demo scenario."""
     files = sorted(SCENARIO.glob("lab_results_*.csv")) + sorted(SCENARIO.glob("lab_results_*.xlsx"))
     limits = sorted((ROOT / "limits").glob("*.yaml")) + [SCENARIO / "limits"]
@@ -19,3 +18,30 @@ def scenario_args() -> list[str]:
     for lim in limits:
         args += ["--limits", str(lim)]
     return args + ["--sites", str(SCENARIO / "sites.csv"), "--columns", str(SCENARIO / "columns_eastbank.yaml")]
+
+
+@pytest.fixture
+def scenario_args() -> list[str]:
+    """Command-line data options for the whole demo scenario."""
+    return demo_args()
+
+
+@pytest.fixture(scope="session")
+def demo_screen_dir(tmp_path_factory) -> Path:
+    """Output folder of ``tracescreen screen`` on the demo scenario (run once per test session)."""
+    from tracescreen.cli import main
+
+    out = tmp_path_factory.mktemp("demo_screen")
+    assert main(["screen", *demo_args(), "--out", str(out)]) == 0
+    return out
+
+
+@pytest.fixture(scope="session")
+def demo_report(tmp_path_factory) -> dict[str, Path]:
+    """``tracescreen report`` on the demo scenario: paths of the HTML report and its workbook."""
+    from tracescreen.cli import main
+
+    out = tmp_path_factory.mktemp("demo_report")
+    html, xlsx = out / "report.html", out / "report.xlsx"
+    assert main(["report", *demo_args(), "--out", str(html), "--xlsx", str(xlsx)]) == 0
+    return {"html": html, "xlsx": xlsx}

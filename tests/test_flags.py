@@ -52,7 +52,7 @@ def test_dl_too_high_gives_detection_limit_needed():
     out = flags.dl_too_high(screening(rows, [WHO_LEAD, EU_LEAD_2036])).set_index("sample_id")
     assert sorted(out.index) == ["A", "C"]
     assert out.loc["A", "detail"].endswith("detection limit needed: <= 5 µg/L")
-    assert "1 other limit(s)" in out.loc["A", "detail"]
+    assert "(and 1 other limit(s))" in out.loc["A", "detail"]
     assert out.loc["C", "detail"].endswith("<= 5 µg/L")
 
 

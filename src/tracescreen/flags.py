@@ -23,6 +23,13 @@ RETEST_COLUMNS = [
 ]
 """Columns of ``retest.csv``, in order."""
 
+USED_COLUMNS = [
+    "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
+    "sample_type", "parent_sample_id", "detected", "value_ug_L", "detection_limit_ug_L", "uncertainty_ug_L",
+    "analysed_at", "status", "limit_ug_L", "limit_table", "use", "duration",
+]
+"""Columns of the screening table that the flags and QC checks read."""
+
 RESULT_KEY = ["file", "sheet", "row"]
 """Provenance columns that identify one accepted result (one input row)."""
 
@@ -100,7 +107,8 @@ def site_samples(frame: pd.DataFrame) -> pd.DataFrame:
     """Rows of site samples (not blanks or field duplicates)."""
     if "sample_type" not in frame.columns:
         return frame
-    return frame[frame["sample_type"].eq("sample")]
+    mask = frame["sample_type"].eq("sample")
+    return frame if mask.all() else frame[mask]
 
 
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
@@ -188,24 +196,27 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
     none_before = events["_prev_at"].isna()
     if lookback is None:
         first = none_before
-        window = "in the earlier results"
+        window = "all earlier results"
     elif isinstance(lookback, (int, np.integer)) and not isinstance(lookback, bool):
         if lookback < 0:
             raise ValueError(f"lookback must be >= 0 sampling dates, got {lookback}")
         first = none_before | ((events["_rank"] - events["_prev_rank"]) > lookback)
-        window = f"in the previous {int(lookback)} sampling dates"
+        window = f"{int(lookback)} sampling dates"
     else:
         span = pd.Timedelta(lookback)
         first = none_before | ((events["sampled_at"] - events["_prev_at"]) > span)
-        window = f"within {span.days} days before"
+        window = f"{span.days} days"
     events = events[first]
     flagged = worst.merge(events, on=SERIES_KEY + ["sampled_at"])
-    prev = np.where(flagged["_prev_at"].isna(), "none earlier",
-                    "last on " + format_date(flagged["_prev_at"]))
+    n_before = flagged["_rank"].astype(int)
+    history = pd.Series(np.where(
+        n_before.eq(0), "no earlier results",
+        np.where(flagged["_prev_at"].isna(),
+                 "no exceedance in the " + n_before.astype(str) + " earlier sampling dates",
+                 "last exceedance on " + format_date(flagged["_prev_at"]) + ", beyond the look-back ("
+                 + window + ")")), index=flagged.index)
     detail = ("first exceedance of this site and analyte: " + _ug(flagged["value_ug_L"])
-              + " > limit " + _ug(flagged["limit_ug_L"]) + " (" + _limit_label(flagged)
-              + "); no exceedance " + window + " (" + flagged["_rank"].astype(int).astype(str)
-              + " earlier sampling dates; exceedance " + prev + ")")
+              + " > limit " + _ug(flagged["limit_ug_L"]) + " (" + _limit_label(flagged) + "); " + history)
     return retest_rows(flagged, "first_exceedance", detail)
 
 
@@ -232,10 +243,10 @@ def dl_too_high(screening: pd.DataFrame) -> pd.DataFrame:
     inc = inc.sort_values("limit_ug_L", kind="stable")
     n_limits = inc.groupby(key or inc.index, sort=False)["limit_ug_L"].transform("size")
     inc = inc.assign(_n=n_limits).drop_duplicates(key)
-    others = np.where(inc["_n"] > 1, " and " + (inc["_n"] - 1).astype(str) + " other limit(s)", "")
+    others = np.where(inc["_n"] > 1, " (and " + (inc["_n"] - 1).astype(str) + " other limit(s))", "")
     detail = ("non-detect at detection limit " + _ug(inc["detection_limit_ug_L"])
-              + " cannot show whether the limit " + _ug(inc["limit_ug_L"]) + " ("
-              + _limit_label(inc) + ")" + others + " is met; detection limit needed: <= "
+              + " decides nothing against limit " + _ug(inc["limit_ug_L"]) + " ("
+              + _limit_label(inc) + ")" + others + "; detection limit needed: <= "
               + _ug(inc["limit_ug_L"]))
     return retest_rows(inc, "dl_too_high", detail)
 

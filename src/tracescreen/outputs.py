@@ -11,6 +11,7 @@ References
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import numpy as np
@@ -22,14 +23,25 @@ FORMULA_START = r"^[=+\-@\t\r]"
 XLSX_MAX_ROWS = 1_048_576
 
 
+def neutralise_text(text: str) -> str:
+    """One text value made formula-safe (a leading apostrophe where it could start a formula)."""
+    return "'" + text if re.match(FORMULA_START, text) else text
+
+
 def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
-    """Copy of ``df`` whose text cells cannot start a spreadsheet formula."""
+    """Copy of ``df`` whose text cells and column names cannot start a spreadsheet formula.
+
+    Only text is changed: numbers, negative ones included, stay numbers, also in a column of mixed
+    (object) type.
+    """
     out = df.copy()
+    out.columns = [neutralise_text(str(c)) for c in out.columns]
     for c in out.columns:
         s = out[c]
         if pd.api.types.is_string_dtype(s.dtype) or s.dtype == object:
-            txt = s.astype(str)
-            mask = txt.str.match(FORMULA_START) & s.notna()
+            is_text = s.map(type).eq(str) if s.dtype == object else s.notna()
+            txt = s.where(is_text, "").astype(str)
+            mask = txt.str.match(FORMULA_START) & is_text
             if mask.any():
                 out[c] = s.where(~mask, "'" + txt)
     return out
@@ -56,7 +68,11 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
     """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path."""
     p = Path(path)
     p.parent.mkdir(parents=True, exist_ok=True)
-    table = pa.Table.from_pandas(prepare(df), preserve_index=False)
+    safe = prepare(df)
+    for c in safe.columns:  # a column of mixed Python objects: write each value as text
+        if safe[c].dtype == object:
+            safe[c] = safe[c].where(safe[c].isna(), safe[c].astype(str))
+    table = pa.Table.from_pandas(safe, preserve_index=False)
     pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed"))
     return p
 

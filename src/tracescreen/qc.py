@@ -229,12 +229,13 @@ def dissolved_exceeds_total(results: pd.DataFrame, percent: float = 30.0, min_mu
     return _both_sides(flagged, "_d", "_t", detail, "dissolved_exceeds_total")
 
 
-def _holding_label(hold) -> str:
+def holding_label(hold) -> str:
+    """``6 months``, ``28 days``, ``24 hours``: a holding time in words."""
     if isinstance(hold, pd.DateOffset):
         months = hold.kwds.get("months", 0)
         return f"{months} months" if months else str(hold)
     td = pd.Timedelta(hold)
-    if td % pd.Timedelta(days=1) == pd.Timedelta(0):
+    if td % pd.Timedelta(days=1) == pd.Timedelta(0) and td >= pd.Timedelta(days=2):
         return f"{td.days} days"
     return f"{td / pd.Timedelta(hours=1):g} hours"
 
@@ -286,6 +287,6 @@ def holding_time_exceeded(results: pd.DataFrame, holding_times: dict | None = No
         elapsed = (late["analysed_at"] - late["sampled_at"]) / pd.Timedelta(days=1)
         detail = ("analysed " + format_date(late["analysed_at"]).to_numpy() + ", "
                   + format_number(elapsed, 3).to_numpy() + " days after sampling; holding time for "
-                  + late["analyte"] + " is " + _holding_label(hold) + " (40 CFR 136.3 Table II)")
+                  + late["analyte"] + " is " + holding_label(hold) + " (40 CFR 136.3 Table II)")
         parts.append(retest_rows(late, "holding_time_exceeded", detail))
     return pd.concat(parts, ignore_index=True) if parts else empty_retest()

@@ -61,6 +61,29 @@ class RetestOptions:
     holding_times: dict | None = None
     reasons: tuple = field(default=REASONS)
 
+    def describe(self) -> dict[str, str]:
+        """The thresholds in words, for reports."""
+        holds = qc.HOLDING_TIMES if self.holding_times is None else self.holding_times
+        lb = self.lookback
+        lookback = ("all earlier results" if lb is None else f"{lb} earlier sampling dates"
+                    if isinstance(lb, int) else f"{pd.Timedelta(lb).days} days")
+        return {
+            "retest reasons computed": ", ".join(self.reasons),
+            "first exceedance look-back": lookback,
+            "near limit": f">= {self.near_limit_fraction:g} of a limit",
+            "history outlier": f"|modified z of ln value| > {self.outlier_z:g}, "
+                               f">= {self.outlier_min_prior} earlier detects",
+            "field duplicates": f"RPD > {self.duplicate_rpd_percent:g} % when both >= "
+                                f"{self.duplicate_rpd_min_multiple:g} x DL, else |difference| > "
+                                f"{self.duplicate_abs_multiple:g} x DL",
+            "blanks": f"batch results below {self.blank_multiple:g} x a blank detected above its DL",
+            "dissolved vs total": f"dissolved above total by > {self.dissolved_percent:g} % when both > "
+                                  f"{self.dissolved_min_multiple:g} x DL, else by > "
+                                  f"{self.dissolved_abs_multiple:g} x DL",
+            "holding times": "; ".join(f"{'other metals' if a == '*' else a}: {qc.holding_label(h)}"
+                                       for a, h in holds.items()),
+        }
+
 
 def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -> pd.DataFrame:
     """All retest flags and QC checks on a screening table.
@@ -81,6 +104,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     unknown = set(o.reasons) - set(REASONS)
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
+    screening = screening[[c for c in flags.USED_COLUMNS if c in screening.columns]]
     results = flags.results_from_screening(screening)
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(screening, lookback=o.lookback),

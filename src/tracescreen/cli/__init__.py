@@ -16,6 +16,8 @@ from ..caution import CAUTION
 #: Sub-command modules, in the order ``--help`` lists them.
 COMMANDS = [
     "screen",
+    "trends",
+    "report",
 ]
 
 

@@ -7,21 +7,28 @@ from pathlib import Path
 
 from .. import outputs
 from ..screening import STATUSES, screen
+from ..retest import retest_list
+from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
+from .flag_options import add_retest_options, retest_options
+from .trends import add_statistics_options, write_statistics
 
 
 def register(sub) -> None:
     p = sub.add_parser(
-        "screen", help="screen results against limit tables; write screening.csv and rejected.csv",
+        "screen", help="screen results against limit tables; write screening.csv, rejected.csv and retest.csv",
         description="Compare every accepted result with every limit that applies to its site, and list "
                     "every row that could not be used with its reason.",
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
+    add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
+    add_retest_options(p)
     p.set_defaults(func=run)
 
 
 def run(args) -> int:
+    flag_options = retest_options(args, UserError)
     inputs = load_inputs(args)
     if inputs.sites is None:
         warn("no --sites file: every limit table applies to every site")
@@ -33,9 +40,13 @@ def run(args) -> int:
         "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv"),
         "inputs": outputs.write_csv(inputs.input_files, out / "inputs.csv"),
     }
+    retest = retest_list(screened, flag_options)
+    written["retest"] = outputs.write_csv(retest, out / "retest.csv")
     extra = run_extra_outputs(args, inputs, screened, out)
     written.update(extra)
     print_summary(loaded, screened)
+    print(f"Retest flags: {len(retest)} rows" + "".join(
+        f"\n  {r:<28} {n}" for r, n in retest["reason"].value_counts(sort=False).items()))
     print("\nOutputs:")
     for name, path in written.items():
         print(f"  {name:<10} {path}")
@@ -45,7 +56,8 @@ def run(args) -> int:
 
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
-    return {}
+    extra = write_statistics(args, inputs.loaded.accepted, screened, out)
+    return extra
 
 
 def print_summary(loaded, screened) -> None:

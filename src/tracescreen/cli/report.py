@@ -1,0 +1,73 @@
+"""``tracescreen report``: one self-contained HTML site summary (and optionally a workbook)."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from .. import outputs
+from ..report import ReportData, build_report_html, report_tables
+from ..retest import retest_list
+from ..screening import screen
+from . import UserError
+from .common import add_data_options, load_inputs, print_caution, warn
+from .flag_options import add_retest_options, retest_options
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "report", help="write a cited site summary report (self-contained HTML; optional XLSX)",
+        description="Screen the results as `screen` does and write one HTML file that opens offline: "
+                    "job and scope with file checksums, limit tables with citations, status matrix, "
+                    "exceedances, charts per metal, summaries, trends, retest list, rejected rows and "
+                    "method notes, with the caution first.",
+        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+    add_data_options(p)
+    p.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
+    p.add_argument("--site", action="append", metavar="ID",
+                   help="report only this site (repeat for several; default all)")
+    p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
+    p.add_argument("--title", help="report title (default names the sites)")
+    add_retest_options(p)
+    p.set_defaults(func=run)
+
+
+def statistics(args, inputs, screened) -> tuple:
+    """Summary and trend tables for the report, and method notes ((None, None, []) if unavailable)."""
+    return None, None, []
+
+
+def run(args) -> int:
+    options = retest_options(args, UserError)
+    inputs = load_inputs(args)
+    if inputs.sites is None:
+        warn("no --sites file: every limit table applies to every site")
+    screened = screen(inputs.loaded.accepted, inputs.limits, inputs.sites)
+    site_ids = None
+    if args.site:
+        known = set(screened["site_id"])
+        missing = [s for s in args.site if s not in known]
+        if missing:
+            raise UserError(f"--site {', '.join(missing)}: no accepted results for this site")
+        site_ids = list(dict.fromkeys(args.site))
+    summary, trends, notes = statistics(args, inputs, screened)
+    files = inputs.input_files
+    loaded_files = inputs.loaded.files
+    counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded_files.columns]
+    if counts and len(loaded_files):
+        files = files.merge(loaded_files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
+    data = ReportData(
+        screening=screened, rejected=inputs.loaded.rejected, files=files,
+        limit_tables=inputs.limits.tables, limit_entries=inputs.limits.entries,
+        retest=retest_list(screened, options), summary=summary, trends=trends, sites=inputs.sites,
+        settings=options.describe(),
+        method_notes=notes)
+    out = Path(args.out)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
+    print(f"Report: {out}")
+    if args.xlsx:
+        path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx)
+        print(f"Workbook: {path}")
+    print_caution()
+    return 0

@@ -1,0 +1,104 @@
+"""``tracescreen trends``: trend tests per site x analyte x fraction; and the statistics outputs
+(``summary.csv``, ``exceedances.csv``, ``trends.csv``) that ``tracescreen screen`` also writes."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+import pandas as pd
+
+from .. import outputs
+from ..censored import METHODS
+from ..limits import load_limits
+from ..screening import screen
+from ..summary import exceedance_rates, summarise
+from ..trends import MIN_VALUES, lowest_limits, trend_table
+from .common import add_data_options, print_caution, results_from_args, warn
+from ..sites import load_sites
+
+
+def _probability(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a number: {text!r}") from None
+    if not 0 < value < 1:
+        raise argparse.ArgumentTypeError(f"must be between 0 and 1, not {text}")
+    return value
+
+
+def add_trend_options(p: argparse.ArgumentParser) -> None:
+    """Options of the trend tests."""
+    p.add_argument("--alpha", type=_probability, default=0.05,
+                   help="significance level of the two-sided trend test (slope interval: 1 - alpha)")
+    p.add_argument("--seasonal", choices=("auto", "always", "never"), default="auto",
+                   help="seasonal Kendall test: auto = for monthly or quarterly sampling over 3+ years")
+    p.add_argument("--min-trend-values", type=int, default=MIN_VALUES, metavar="N",
+                   help="fewer values than this: direction 'too_few'")
+
+
+def add_statistics_options(p: argparse.ArgumentParser) -> None:
+    """Options of the summary statistics and the trend tests (used by ``screen``)."""
+    p.add_argument("--stats-method", choices=METHODS, default="kaplan_meier",
+                   help="estimator for series with non-detects; substitution_* only on request, "
+                        "labelled in the output")
+    p.add_argument("--bootstrap", type=int, default=1000, metavar="B",
+                   help="bootstrap resamples for ucl95_mean")
+    p.add_argument("--seed", type=int, default=20240601, help="random seed of the bootstrap")
+    add_trend_options(p)
+
+
+def _trends(args, accepted, screened) -> pd.DataFrame:
+    return trend_table(accepted, alpha=args.alpha, seasonal=args.seasonal,
+                       min_n=args.min_trend_values, limits=lowest_limits(screened))
+
+
+def write_statistics(args, accepted: pd.DataFrame, screened: pd.DataFrame, out: Path) -> dict:
+    """Write summary.csv, exceedances.csv and trends.csv; return {name: path}."""
+    summary = summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed)
+    return {
+        "summary": outputs.write_csv(summary, out / "summary.csv"),
+        "exceedance": outputs.write_csv(exceedance_rates(screened), out / "exceedances.csv"),
+        "trends": outputs.write_csv(_trends(args, accepted, screened), out / "trends.csv"),
+    }
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "trends", help="trend tests and slopes per site, analyte and fraction; write trends.csv",
+        description="Mann-Kendall or seasonal Kendall test (censored where there are non-detects) "
+                    "and Sen / Akritas-Theil-Sen slope per site x analyte x fraction, with the date "
+                    "an increasing trend line would reach the lowest applicable limit.",
+        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+    add_data_options(p)
+    add_trend_options(p)
+    p.add_argument("--out", required=True, metavar="DIR", help="folder for trends.csv and rejected.csv")
+    p.set_defaults(func=run)
+
+
+def run(args) -> int:
+    limits = load_limits(args.limits)
+    sites = load_sites(args.sites) if args.sites else None
+    if sites is None:
+        warn("no --sites file: every limit table applies to every site")
+    loaded = results_from_args(args, sites)
+    table = _trends(args, loaded.accepted, screen(loaded.accepted, limits, sites))
+    out = Path(args.out)
+    paths = {"trends": outputs.write_csv(table, out / "trends.csv"),
+             "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv")}
+    print(f"Results accepted: {len(loaded.accepted)}  rejected: {len(loaded.rejected)}")
+    print(f"Series: {len(table)}")
+    for d, n in table["direction"].value_counts().items():
+        print(f"  {d:<12} {n}")
+    rising = table[table["crosses_limit_on"].notna()].sort_values("crosses_limit_on")
+    if len(rising):
+        print("Increasing trends reaching the lowest limit (extrapolated; an indication only):")
+        for r in rising.head(10).itertuples():
+            print(f"  {r.site_id} {r.analyte} ({r.fraction}): {r.slope_per_year:+.3g} µg/L per year, "
+                  f"reaches {r.lowest_limit_ug_L:.3g} µg/L about {r.crosses_limit_on:%Y-%m-%d}")
+    print("\nOutputs:")
+    for name, path in paths.items():
+        print(f"  {name:<10} {path}")
+    print_caution()
+    return 0

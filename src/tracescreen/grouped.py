@@ -1,0 +1,115 @@
+"""Many series at once: pack the rows of each group into padded 2-D arrays.
+
+The statistics modules (:mod:`tracescreen.censored`, :mod:`tracescreen.trends`) compute every
+site x analyte x fraction series in one numpy pass over a padded array of shape
+``(groups, longest series)``. Series of very different lengths would waste memory in a single
+array, so groups are put in *buckets* of similar length (a geometric ladder of widths) and each
+bucket is split into chunks that respect a cell budget. The loop runs over buckets and chunks (a
+handful), never over series.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, Iterator
+
+import numpy as np
+import pandas as pd
+
+#: Default number of cells (groups x width, or groups x width^2 for pairwise kernels) per chunk.
+CELL_BUDGET = 4_000_000
+
+
+@dataclass(frozen=True)
+class Chunk:
+    """One padded block of groups.
+
+    Attributes
+    ----------
+    groups : ndarray of int, shape (g,)
+        Group codes in this chunk.
+    rows : ndarray of int, shape (g, m)
+        Positions into the caller's flat arrays, in the order requested (e.g. by time);
+        0 where ``valid`` is False (use :meth:`take` to read through it).
+    valid : ndarray of bool, shape (g, m)
+        True for real observations; a group's observations fill its first ``n`` columns.
+    """
+
+    groups: np.ndarray
+    rows: np.ndarray
+    valid: np.ndarray
+
+    def take(self, values: np.ndarray, fill) -> np.ndarray:
+        """Read ``values`` (flat, one per input row) into the padded layout, ``fill`` as padding."""
+        out = np.asarray(values)[self.rows]
+        return np.where(self.valid, out, fill)
+
+
+def group_codes(frame: pd.DataFrame, keys: list[str]) -> tuple[np.ndarray, pd.DataFrame]:
+    """Integer code per row for the groups of ``keys``, and one row of key values per code.
+
+    Groups are numbered in sorted key order; rows whose key is missing get their own group.
+    """
+    if frame.empty:
+        return np.zeros(0, dtype=np.int64), pd.DataFrame(columns=keys)
+    grouped = frame.groupby(keys, sort=True, dropna=False, observed=True)
+    codes = grouped.ngroup().to_numpy(dtype=np.int64)
+    table = grouped.size().reset_index()[keys]
+    return codes, table
+
+
+def _width_ladder(size: np.ndarray) -> np.ndarray:
+    """Round sizes up to a geometric ladder (ratio about 1.25) so a bucket wastes < 25 % padding."""
+    size = np.maximum(size, 1).astype(float)
+    step = np.ceil(np.log(size) / np.log(1.25))
+    width = np.ceil(1.25**step).astype(np.int64)
+    return np.maximum(width, size.astype(np.int64))
+
+
+def chunks(
+    codes: np.ndarray,
+    n_groups: int,
+    order: np.ndarray | None = None,
+    cells: Callable[[int], int] = lambda m: m,
+    budget: int = CELL_BUDGET,
+) -> Iterator[Chunk]:
+    """Yield padded chunks that together cover every group with at least one row.
+
+    Parameters
+    ----------
+    codes : ndarray of int
+        Group code of each row (0 .. n_groups - 1).
+    n_groups : int
+        Number of groups.
+    order : ndarray, optional
+        Secondary sort key within a group (e.g. sampling time); rows keep input order otherwise.
+    cells : callable
+        Cells one group of width ``m`` costs in the kernel (``m`` for per-value kernels,
+        ``m * m`` for pairwise ones).
+    budget : int
+        Cells per chunk.
+    """
+    codes = np.asarray(codes, dtype=np.int64)
+    if codes.size == 0:
+        return
+    sort = np.lexsort((order,) + (codes,)) if order is not None else np.argsort(codes, kind="stable")
+    sorted_codes = codes[sort]
+    size = np.bincount(codes, minlength=n_groups)
+    start = np.concatenate(([0], np.cumsum(size)[:-1]))
+    position = np.arange(sort.size) - start[sorted_codes]
+    width = _width_ladder(size)
+    present = np.flatnonzero(size > 0)
+    for w in np.unique(width[present]):
+        members = present[width[present] == w]
+        per_chunk = max(1, budget // max(1, cells(int(w))))
+        for first in range(0, members.size, per_chunk):
+            groups = members[first : first + per_chunk]
+            slot = np.full(n_groups, -1, dtype=np.int64)
+            slot[groups] = np.arange(groups.size)
+            pick = slot[sorted_codes] >= 0
+            rows = np.zeros((groups.size, int(w)), dtype=np.int64)
+            valid = np.zeros((groups.size, int(w)), dtype=bool)
+            r, c = slot[sorted_codes[pick]], position[pick]
+            rows[r, c] = sort[pick]
+            valid[r, c] = True
+            yield Chunk(groups=groups, rows=rows, valid=valid)

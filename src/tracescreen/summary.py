@@ -1,0 +1,240 @@
+"""Per site x analyte x fraction summaries that treat non-detects properly, and exceedance rates.
+
+:func:`summarise` gives one row per series from the accepted results; :func:`exceedance_rates`
+one row per series and applicable limit from the screening output, with a binomial confidence
+interval on the proportion of results above the limit.
+
+Field duplicates and blanks are quality-control samples: they are left out. A duplicate pair is
+therefore represented by its parent sample's result (the duplicate is checked by the QC module,
+not averaged in), so that each sampling event counts once.
+
+References
+----------
+.. [1] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
+   2nd ed. Wiley. (Rules of thumb for the share of non-detects: ch. 1 and 6.)
+.. [2] Helsel, D.R., Hirsch, R.M., Ryberg, K.R., Archfield, S.A., Gilroy, E.J. (2020).
+   Statistical Methods in Water Resources. USGS Techniques and Methods 4-A3.
+.. [3] Clopper, C.J., Pearson, E.S. (1934). The use of confidence or fiducial limits illustrated
+   in the case of the binomial. Biometrika 26: 404-413.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from tracescreen import censored, grouped
+
+KEYS = ["site_id", "analyte", "fraction"]
+
+SUMMARY_COLUMNS = KEYS + [
+    "n", "n_detected", "percent_nondetect", "min_detected", "max_detected",
+    "max_detection_limit", "mean", "sd", "median", "p90", "p95", "ucl95_mean", "ucl_method",
+    "method", "note",
+]
+
+#: Above this share of non-detects (percent) means and percentiles are not reported (Helsel 2012).
+ONLY_COUNTS_ABOVE = 80.0
+#: Above this share, percentiles below the highest detection limit are not reported.
+CAREFUL_ABOVE = 50.0
+#: Fewer detected values than this: no mean (Helsel 2012; common practice).
+MIN_DETECTS_FOR_MEAN = 3
+
+
+def site_samples(results: pd.DataFrame) -> pd.DataFrame:
+    """Rows that are regular samples (``sample_type == "sample"``): QC samples are left out."""
+    if "sample_type" not in results:
+        return results
+    return results[results["sample_type"].fillna("sample") == "sample"]
+
+
+def censored_series(results: pd.DataFrame) -> pd.DataFrame:
+    """Add ``value`` (detected value, or the DL of a non-detect) and ``nondetect`` columns."""
+    nondetect = ~results["detected"].astype(bool).to_numpy()
+    value = np.where(nondetect, results["detection_limit_ug_L"], results["value_ug_L"])
+    return results.assign(value=value.astype(float), nondetect=nondetect)
+
+
+def _join_notes(parts: list[tuple[np.ndarray, pd.Series | str]], size: int) -> np.ndarray:
+    """Join the messages whose condition holds, per row, with "; "."""
+    out = pd.Series([""] * size, dtype=object)
+    for cond, text in parts:
+        cond = np.asarray(cond, bool)
+        if not cond.any():
+            continue
+        msg = text if isinstance(text, pd.Series) else pd.Series([text] * size)
+        add = cond & (out != "").to_numpy()
+        out = out.where(~add, out + "; ")
+        out = out.where(~cond, out + msg.astype(str))
+    return out.to_numpy(dtype=object)
+
+
+def _fmt(x) -> pd.Series:
+    return pd.Series(np.asarray(x, float)).map(lambda v: f"{v:g}")
+
+
+def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: int = 1000,
+              seed: int = 20240601) -> pd.DataFrame:
+    """Summary statistics per site x analyte x fraction from accepted results.
+
+    Parameters
+    ----------
+    results : DataFrame
+        Accepted results (DEVELOPERS.md data model); QC samples are left out here.
+    method : str
+        Estimation method for series with non-detects: ``kaplan_meier`` (default), ``ros``,
+        ``mle_lognormal``, or, only on request, ``substitution_zero``, ``substitution_half_dl``,
+        ``substitution_dl`` (see :mod:`tracescreen.censored`). Series without non-detects get
+        the plain sample statistics (``method`` = ``sample_statistics``).
+    n_boot, seed : int
+        Bootstrap resamples and random seed for ``ucl95_mean``.
+
+    Returns
+    -------
+    DataFrame
+        :data:`SUMMARY_COLUMNS`. Concentrations in µg/L; ``percent_nondetect`` in percent;
+        ``max_detection_limit`` is the highest detection limit among the non-detects;
+        ``ucl95_mean`` is the 95 % upper confidence limit on the mean by a seeded percentile
+        bootstrap of the Kaplan-Meier mean (of the substituted mean for substitution methods),
+        ``ucl_method`` says which.
+
+    Notes
+    -----
+    Rules of thumb (Helsel 2012): with more than 50 % non-detects, percentiles below the highest
+    detection limit are not reported and the mean depends on assumptions; above 80 % only the
+    counts, the maximum and the proportions above each limit (:func:`exceedance_rates`) are
+    reported; with fewer than 3 detected values there is no mean. ``note`` says why.
+    """
+    if method not in censored.METHODS:
+        raise ValueError(f"unknown method {method!r}; choose one of {', '.join(censored.METHODS)}")
+    data = censored_series(site_samples(results))
+    unusable = data["value"].isna().to_numpy()
+    codes, table = grouped.group_codes(data, KEYS)
+    g = len(table)
+    lost = np.bincount(codes[unusable], minlength=g)
+    data, codes = data[~unusable], codes[~unusable]
+    x, nd = data["value"].to_numpy(float), data["nondetect"].to_numpy(bool)
+    n = np.bincount(codes, minlength=g)
+    n_det = np.bincount(codes, weights=~nd, minlength=g).astype(int)
+    pct_nd = np.where(n > 0, 100.0 * (n - n_det) / np.maximum(n, 1), np.nan)
+    frame = pd.DataFrame({"g": codes, "det": np.where(nd, np.nan, x), "dl": np.where(nd, x, np.nan)})
+    ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
+                                 max_detection_limit=("dl", "max")).reindex(range(g))
+    st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
+    if method in censored.SUBSTITUTION:
+        ucl = censored.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
+                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed)
+        ucl_method = f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
+    else:
+        ucl = censored.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed)
+        ucl_method = f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
+    out = table.copy()
+    out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd
+    for col in ("min_detected", "max_detected", "max_detection_limit"):
+        out[col] = ext[col].to_numpy()
+    out["mean"], out["sd"] = st["mean"].to_numpy(), st["sd"].to_numpy()
+    out["median"], out["p90"], out["p95"] = st["q50"].to_numpy(), st["q90"].to_numpy(), st["q95"].to_numpy()
+    out["ucl95_mean"] = ucl
+    out["ucl_method"] = ucl_method
+    out["method"] = st["method"].to_numpy()
+
+    few = n_det < MIN_DETECTS_FOR_MEAN
+    only_counts = pct_nd > ONLY_COUNTS_ABOVE
+    careful = (pct_nd > CAREFUL_ABOVE) & ~only_counts
+    maxdl = out["max_detection_limit"].to_numpy(float)
+    pcols = ["median", "p90", "p95"]
+    below_dl = careful[:, None] & (out[pcols].to_numpy(float) < maxdl[:, None])
+    censored_pct = (out[pcols].isna().to_numpy() & (n_det > 0)[:, None] & ~only_counts[:, None]
+                    & (pct_nd > 0)[:, None] & ~below_dl)
+    out.loc[few | only_counts, ["mean", "sd", "ucl95_mean"]] = np.nan
+    out.loc[only_counts, pcols] = np.nan
+    out[pcols] = out[pcols].mask(below_dl)
+    km = out["method"].to_numpy() == "kaplan_meier"
+    maxdet = out["max_detected"].to_numpy(float)
+    with np.errstate(invalid="ignore"):
+        high_dl = np.bincount(codes[nd & (x > maxdet[codes])], minlength=g)
+    out["note"] = _join_notes([
+        (only_counts, "more than 80 % non-detects: only counts, maximum and proportions above "
+                      "limits are reported (Helsel 2012)"),
+        (few & ~only_counts, "fewer than 3 detected values: no mean (Helsel 2012)"),
+        (careful, "50-80 % non-detects: the mean depends on the method's assumptions (Helsel 2012)"),
+        (below_dl.any(axis=1), "percentiles below the highest detection limit (" + _fmt(maxdl)
+         + " µg/L) not reported"),
+        (censored_pct.any(axis=1), "some percentiles lie below the smallest detected value (<"
+         + _fmt(out["min_detected"]) + " µg/L)"),
+        (km & (pct_nd > 0) & ~only_counts & ~few, "Kaplan-Meier; mass below the smallest detect "
+         "placed at the lowest value (Efron), mean biased high"),
+        ((high_dl > 0) & ~only_counts, _fmt(high_dl) + " non-detect(s) with a detection limit "
+         "above the largest detected value: they bound nothing the detects do not"),
+        (np.char.startswith(out["method"].to_numpy().astype(str), "substitution"),
+         "substitution on request: invented values, use with care (Helsel 2006)"),
+        ((out["method"].to_numpy() == "mle_lognormal") & (n < 50),
+         "lognormal MLE is advised for about 50 values or more"),
+        (lost > 0, _fmt(lost) + " result(s) without value or detection limit left out"),
+        (n == 0, "no usable results"),
+    ], g)
+    return out[SUMMARY_COLUMNS].reset_index(drop=True)
+
+
+def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndarray]:
+    """Exact (Clopper-Pearson) two-sided confidence interval for a binomial proportion k/n.
+
+    Vectorised over ``k`` and ``n``; NaN where n == 0.
+
+    References
+    ----------
+    .. [1] Clopper, C.J., Pearson, E.S. (1934). Biometrika 26: 404-413.
+    """
+    k, n = np.asarray(k, float), np.asarray(n, float)
+    a = (1 - confidence) / 2
+    with np.errstate(invalid="ignore", divide="ignore"):
+        low = np.where(k > 0, stats.beta.ppf(a, k, n - k + 1), 0.0)
+        high = np.where(k < n, stats.beta.ppf(1 - a, k + 1, n - k), 1.0)
+    bad = n <= 0
+    return np.where(bad, np.nan, low), np.where(bad, np.nan, high)
+
+
+EXCEEDANCE_COLUMNS = KEYS + [
+    "limit_table", "use", "duration", "basis", "limit_min_ug_L", "limit_max_ug_L", "n",
+    "n_above", "n_undecided", "proportion_above", "ci95_low", "ci95_high", "note",
+]
+
+
+def exceedance_rates(screened: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
+    """Count and proportion of results above each applicable limit, with an exact binomial CI.
+
+    Parameters
+    ----------
+    screened : DataFrame
+        Screening output (one row per result x applicable limit, with ``status``).
+
+    Returns
+    -------
+    DataFrame
+        :data:`EXCEEDANCE_COLUMNS`: ``n`` screened results, ``n_above`` with status
+        ``exceeds``, ``n_undecided`` non-detects whose detection limit is above the limit (they
+        decide nothing; counted as not above), ``proportion_above`` = n_above / n and its
+        Clopper-Pearson interval (``ci95_low``, ``ci95_high``). A hardness- or date-dependent
+        limit can differ between samples: ``limit_min_ug_L``/``limit_max_ug_L`` give the range.
+    """
+    keys = KEYS + ["limit_table", "use", "duration", "basis"]
+    data = site_samples(screened)
+    data = data[~data["status"].isin(["qc_sample", "no_limit"])]
+    if data.empty:
+        return pd.DataFrame(columns=EXCEEDANCE_COLUMNS)
+    data = data.assign(_above=data["status"].eq("exceeds"),
+                       _undecided=data["status"].eq("nondetect_inconclusive"))
+    for k in keys:  # missing keys (e.g. basis) must not drop rows from groupby
+        data[k] = data[k].fillna("") if k in data else ""
+    out = data.groupby(keys, sort=True, observed=True).agg(
+        limit_min_ug_L=("limit_ug_L", "min"), limit_max_ug_L=("limit_ug_L", "max"),
+        n=("status", "size"), n_above=("_above", "sum"), n_undecided=("_undecided", "sum"),
+    ).reset_index()
+    out["proportion_above"] = out["n_above"] / out["n"]
+    out["ci95_low"], out["ci95_high"] = clopper_pearson(out["n_above"], out["n"], confidence)
+    out["note"] = _join_notes([
+        (out["n_undecided"].to_numpy() > 0, _fmt(out["n_undecided"]) + " non-detect(s) with the "
+         "detection limit above the limit: undecided, counted as not above"),
+    ], len(out))
+    return out[EXCEEDANCE_COLUMNS]

@@ -1,0 +1,463 @@
+"""Monotonic time trends per series: Mann-Kendall, seasonal Kendall, Sen and Akritas-Theil-Sen slopes.
+
+All series are computed at once on padded (series x values x values) arrays; there is no Python
+loop over series (:mod:`tracescreen.grouped` packs them in buckets of similar length).
+
+* Kendall's S counts concordant minus discordant pairs in time order. A pair whose order is
+  uncertain because of a non-detect (non-detect vs non-detect, or a non-detect vs a detect below
+  its detection limit) scores 0, i.e. is a tie (Helsel 2012, ch. 12). Without non-detects this is
+  the ordinary Mann-Kendall test (Kendall 1975; Gilbert 1987).
+* Var(S) is the exact permutation variance of S under "no trend" (Daniels 1944): with ties in
+  the values only it is Kendall's tie-corrected variance
+  [n(n-1)(2n+5) - sum t(t-1)(2t+5)]/18; it also covers tied sampling times and the ties made by
+  non-detects. z has the continuity correction; p is two-sided from the normal distribution.
+* Seasonal Kendall (Hirsch, Slack & Smith 1982; Hirsch & Slack 1984): S and Var(S) are summed
+  over seasons, pairs compared only within a season.
+* The slope is the Sen (1968) median of pairwise slopes in units per year from the sampling
+  dates, with Gilbert's (1987) confidence interval; with non-detects it is the Akritas-Theil-Sen
+  slope (Akritas, Murphy & LaValley 1995), the slope that makes the censored S of the residuals
+  zero, with the interval obtained the same way by inverting the censored test.
+
+References
+----------
+.. [1] Mann, H.B. (1945). Nonparametric tests against trend. Econometrica 13: 245-259.
+.. [2] Kendall, M.G. (1975). Rank Correlation Methods, 4th ed. Griffin, London.
+.. [3] Daniels, H.E. (1944). The relation between measures of correlation in the universe of
+   sample permutations. Biometrika 33: 129-135.
+.. [4] Gilbert, R.O. (1987). Statistical Methods for Environmental Pollution Monitoring.
+   Van Nostrand Reinhold, New York. Ch. 16-17.
+.. [5] Sen, P.K. (1968). Estimates of the regression coefficient based on Kendall's tau.
+   J. Am. Stat. Assoc. 63: 1379-1389.
+.. [6] Hirsch, R.M., Slack, J.R., Smith, R.A. (1982). Techniques of trend analysis for monthly
+   water quality data. Water Resources Research 18(1): 107-121.
+.. [7] Hirsch, R.M., Slack, J.R. (1984). A nonparametric trend test for seasonal data with
+   serial dependence. Water Resources Research 20(6): 727-732.
+.. [8] Akritas, M.G., Murphy, S.A., LaValley, M.P. (1995). The Theil-Sen estimator with doubly
+   censored data and applications to astronomy. J. Am. Stat. Assoc. 90: 170-177.
+.. [9] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
+   2nd ed., ch. 12. Wiley.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from tracescreen import grouped
+from tracescreen.censored import _km_rows
+
+#: Days per year used to turn dates into decimal years (Julian year).
+DAYS_PER_YEAR = 365.25
+
+#: Cells (series x values x values) per chunk of the pairwise kernel.
+PAIR_BUDGET = 2_000_000
+
+_EPOCH = np.datetime64("1970-01-01T00:00:00", "ns")
+
+TREND_COLUMNS = ["n", "n_nondetect", "s", "var_s", "z", "p_value", "tau", "slope_per_year",
+                 "slope_low", "slope_high", "slope_method", "intercept", "t0"]
+
+
+def decimal_years(dates) -> np.ndarray:
+    """Dates -> years since 1970-01-01 plus 1970 (Julian years of 365.25 days)."""
+    d = pd.to_datetime(pd.Series(dates)).to_numpy(dtype="datetime64[ns]")
+    return 1970.0 + (d - _EPOCH) / np.timedelta64(1, "D") / DAYS_PER_YEAR
+
+
+def date_from_decimal_year(t) -> pd.Series:
+    """Inverse of :func:`decimal_years` (NaN -> NaT); day precision."""
+    t = np.asarray(t, dtype=float)
+    ok = np.isfinite(t) & (t > 1678.0) & (t < 2261.0)  # the datetime64[ns] range
+    days = np.where(ok, (t - 1970.0) * DAYS_PER_YEAR, 0.0)
+    out = _EPOCH + np.round(days).astype("int64").astype("timedelta64[D]")
+    return pd.Series(np.where(ok, out, np.datetime64("NaT")), dtype="datetime64[ns]")
+
+
+def _pair_scores(dy, det_i, det_j, nd_i, nd_j):
+    """Censored score of each pair (i earlier, j later) from dy = y_j - y_i (values or DLs).
+
+    +1 where j is certainly above i, -1 certainly below, 0 where the order is unknown
+    (Helsel 2012, sec. 12.2): a detect is above a non-detect when it is >= that non-detect's DL;
+    two non-detects, or a non-detect and a detect below its DL, are a tie.
+    """
+    gt = det_j & ((dy > 0) | (nd_i & (dy >= 0)))
+    lt = det_i & ((dy < 0) | (nd_j & (dy <= 0)))
+    return gt.astype(np.int8) - lt.astype(np.int8)
+
+
+def _daniels_variance(a, b, first, second, valid, season, n_seasons):
+    """Exact permutation variance of S = sum over pairs a_p b_p, per season, summed (Daniels 1944).
+
+    With full antisymmetric matrices A, B over the values of one season (n of them):
+    Var = [2/(n(n-1)) sum A^2 sum B^2 + 4/(n(n-1)(n-2)) (sum_i A_i.^2 - sum A^2)
+    (sum_i B_i.^2 - sum B^2)] / 4. ``first``/``second`` are the pair -> value incidence matrices.
+    """
+    onehot = ((season[:, :, None] == np.arange(n_seasons)) & valid[:, :, None]).astype(float)
+    out = []
+    signed, both = (first - second).astype(np.float32), (first + second).astype(np.float32)
+    for w in (a.astype(np.float32), b.astype(np.float32)):
+        # integer counts below 2^24: exact in float32
+        row = (w @ signed).astype(float)  # A_i. for each value i
+        sq = (np.abs(w) @ both).astype(float)  # sum_j A_ij^2 for each value i
+        out.append((np.einsum("gi,gis->gs", row**2, onehot), np.einsum("gi,gis->gs", sq, onehot)))
+    (ra, sa2), (rb, sb2) = out
+    n = onehot.sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        one = np.where(n > 1, 2.0 / (n * (n - 1)) * sa2 * sb2, 0.0)
+        two = np.where(n > 2, 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2), 0.0)
+    return ((one + two) / 4.0).sum(axis=1)
+
+
+def _pick(sorted_vals, k):
+    """sorted_vals[g, k[g]] with k clipped to the row."""
+    k = np.clip(k, 0, sorted_vals.shape[1] - 1)
+    return np.take_along_axis(sorted_vals, k[:, None], axis=1)[:, 0]
+
+
+def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
+    """Trend statistics for each row of padded arrays sorted by time (see the module docstring)."""
+    g, m = t.shape
+    det = valid & ~nd
+    nd = valid & nd
+    i, j = np.triu_indices(m, 1)  # pairs i < j in time order
+    first = np.zeros((i.size, m))
+    first[np.arange(i.size), i] = 1.0
+    second = np.zeros((i.size, m))
+    second[np.arange(i.size), j] = 1.0
+    pair = valid[:, j] & (season[:, i] == season[:, j])
+    dt = np.where(pair, t[:, j] - t[:, i], 0.0)
+    a = np.sign(dt).astype(np.int8)
+    dy = np.where(pair, y[:, j] - y[:, i], 0.0)
+    b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j]) * pair
+    s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
+    n_seasons = int(season.max()) + 1 if season.size else 1
+    var_s = _daniels_variance(a, b, first, second, valid, season, n_seasons)
+    n_s = np.stack([(valid & (season == k)).sum(axis=1) for k in range(n_seasons)], axis=1)
+    pairs = (n_s * (n_s - 1) / 2).sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        z = np.where(s > 0, (s - 1) / np.sqrt(var_s), np.where(s < 0, (s + 1) / np.sqrt(var_s), 0.0))
+        z = np.where(var_s > 0, z, np.nan)
+        tau = s / pairs
+        # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs
+        usable = (dt > 0) & ~(nd[:, i] & nd[:, j])
+        slopes = np.where(usable, dy / np.where(usable, dt, 1.0), np.nan)
+    p = 2.0 * stats.norm.sf(np.abs(z))
+    censored = nd.any(axis=1) | force_ats
+    if censored.any():
+        order = np.argsort(slopes, axis=1)
+        cand = np.take_along_axis(slopes, order, axis=1)
+    else:
+        cand = np.sort(slopes, axis=1)
+    n_pairs = usable.sum(axis=1)
+    # Sen slope: median of the pairwise slopes; CI by Gilbert (1987), ranks as scipy.theilslopes
+    slope = (_pick(cand, (n_pairs - 1) // 2) + _pick(cand, n_pairs // 2)) / 2.0
+    c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)
+    low = _pick(cand, np.maximum(np.round((n_pairs - c) / 2.0) - 1, 0).astype(np.int64))
+    high = _pick(cand, np.minimum(np.round((n_pairs + c) / 2.0), n_pairs - 1).astype(np.int64))
+    if censored.any():
+        kind = np.stack([det[:, i] & det[:, j], nd[:, i] & det[:, j], det[:, i] & nd[:, j]])
+        kind = np.take_along_axis(kind & usable, np.broadcast_to(order, kind.shape), axis=2)
+        ats = _ats(cand, n_pairs, kind, c)
+        slope, low, high = (np.where(censored, new, old) for new, old in zip(ats, (slope, low, high)))
+    none = n_pairs == 0
+    slope[none] = low[none] = high[none] = np.nan
+    # intercept: value of the line at the first sampling time t0 (median of residuals)
+    t0 = np.where(valid, t, np.inf).min(axis=1)
+    tv = np.where(valid, t - t0[:, None], np.nan)
+    with np.errstate(invalid="ignore"):
+        intercept = np.nanmedian(np.where(valid, y, np.nan), axis=1) - slope * np.nanmedian(tv, axis=1)
+        if censored.any():
+            resid = np.where(valid, y - slope[:, None] * np.nan_to_num(tv), np.inf)
+            km = _km_rows(resid, nd, valid, (0.5,))["q"][:, 0]
+            intercept = np.where(censored, km, intercept)
+    return {
+        "n": valid.sum(axis=1), "n_nondetect": nd.sum(axis=1), "s": s, "var_s": var_s, "z": z,
+        "p_value": p, "tau": tau, "slope_per_year": slope, "slope_low": low, "slope_high": high,
+        "slope_method": np.where(censored, "akritas_theil_sen", "sen"), "intercept": intercept,
+        "t0": t0,
+    }
+
+
+def _ats(cand, n_pairs, kind, c):
+    """Akritas-Theil-Sen slope and its interval by inverting the censored Kendall test.
+
+    S(beta) of the residuals e = y - beta t is a non-increasing step function of beta that
+    changes only at the candidate pairwise slopes c_p (values or detection limits). For a pair
+    (i earlier, j later) the residual order is sign(c_p - beta): detect/detect scores
+    sign(c_p - beta); non-detect then detect scores +1 while beta <= c_p; detect then non-detect
+    scores -1 once beta >= c_p. So S just right of the k-th sorted candidate is
+    S_k = DD - 2 DD_<=k + ND_D - ND_D_<=k - D_ND_<=k (cumulative counts over sorted candidates).
+    beta_low(C) = inf{beta: S(beta) <= C} is the first candidate with S_k <= C;
+    beta_high(C) = sup{beta: S(beta) >= -C} the last with S_(k-1) >= -C. The estimate is the
+    midpoint of the zero set (beta_low(0) + beta_high(0)) / 2; with no non-detects it is the
+    Theil-Sen median.
+    """
+    dd, ndd, dnd = (np.cumsum(k, axis=1) for k in kind)
+    s_right = (dd[:, -1:] - 2 * dd) + (ndd[:, -1:] - ndd) - dnd
+    s_left = np.concatenate([(dd[:, -1:] + ndd[:, -1:]), s_right[:, :-1]], axis=1)
+    inside = np.arange(cand.shape[1]) < n_pairs[:, None]
+
+    def low(thr):
+        hit = (s_right <= thr[:, None]) & inside
+        return _pick(cand, np.where(hit.any(axis=1), hit.argmax(axis=1), n_pairs - 1))
+
+    def high(thr):
+        hit = (s_left >= -thr[:, None]) & inside
+        last = cand.shape[1] - 1 - hit[:, ::-1].argmax(axis=1)
+        return _pick(cand, np.where(hit.any(axis=1), last, 0))
+
+    zero = np.zeros(cand.shape[0])
+    return (low(zero) + high(zero)) / 2.0, low(c), high(c)
+
+
+def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None,
+                         alpha=0.05, force_ats=False) -> pd.DataFrame:
+    """Mann-Kendall / seasonal Kendall test and Sen / ATS slope for many series at once.
+
+    Parameters
+    ----------
+    times : array_like of float
+        Sampling times in decimal years (:func:`decimal_years`); slopes are per year.
+    values : array_like of float
+        Detected value, or the detection limit of a non-detect [µg/L].
+    nondetect : array_like of bool, optional
+        True for a non-detect; None for none.
+    codes : array_like of int
+        Series code of each value (0 .. n_groups - 1).
+    seasons : array_like of int, optional
+        Season of each value (0 .. P - 1) for the seasonal Kendall test; None for one season.
+    alpha : float
+        Two-sided significance level; the slope interval has confidence 1 - alpha.
+    force_ats : bool
+        Use the Akritas-Theil-Sen search also for series without non-detects (for checks: it
+        then gives the Sen median).
+
+    Returns
+    -------
+    DataFrame
+        One row per code with :data:`TREND_COLUMNS`: ``s``, ``var_s``, ``z``, ``p_value``, ``tau``,
+        ``slope_per_year`` [µg/L per year], ``slope_low``, ``slope_high``, ``slope_method``
+        (``sen`` or ``akritas_theil_sen``), ``intercept`` (value of the line at ``t0``, the first
+        sampling time, µg/L).
+    """
+    t = np.asarray(times, dtype=float)
+    y = np.asarray(values, dtype=float)
+    nd = np.zeros(y.shape, bool) if nondetect is None else np.asarray(nondetect, dtype=bool)
+    season = np.zeros(y.shape, np.int64) if seasons is None else np.asarray(seasons, np.int64)
+    codes = np.asarray(codes, dtype=np.int64)
+    if np.isnan(y).any() or np.isnan(t).any():
+        raise ValueError("times and values must not contain NaN")
+    z_crit = stats.norm.ppf(1 - alpha / 2)
+    out = pd.DataFrame({c: np.full(n_groups, np.nan) for c in TREND_COLUMNS})
+    out["slope_method"] = pd.Series([None] * n_groups, dtype=object)
+    for chunk in grouped.chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2, budget=PAIR_BUDGET):
+        r = _trend_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
+                        chunk.valid, chunk.take(season, -1), z_crit, force_ats)
+        for col in TREND_COLUMNS:
+            out.loc[chunk.groups, col] = r[col]
+    counts = np.bincount(codes, minlength=n_groups)
+    out.loc[counts == 0, ["n", "n_nondetect"]] = 0
+    return out
+
+
+def mann_kendall(times, values, nondetect=None, seasons=None, alpha=0.05) -> dict:
+    """Mann-Kendall (or seasonal Kendall) test with Sen / ATS slope for one series.
+
+    See :func:`mann_kendall_grouped` for parameters and the module docstring for the methods.
+    Returns a dict with the :data:`TREND_COLUMNS`.
+    """
+    y = np.asarray(values, dtype=float)
+    out = mann_kendall_grouped(times, y, nondetect, np.zeros(y.size, np.int64), 1, seasons, alpha)
+    return out.iloc[0].to_dict()
+
+
+# --------------------------------------------------------------------------- per-series table
+
+TABLE_COLUMNS = ["site_id", "analyte", "fraction", "n", "n_nondetect", "first_sampled",
+                 "last_sampled", "test", "s", "var_s", "z", "p_value", "tau", "slope_per_year",
+                 "slope_low", "slope_high", "slope_method", "intercept", "direction",
+                 "lowest_limit_ug_L", "lowest_limit_table", "crosses_limit_on", "note"]
+
+#: Fewer values than this: no trend direction (common practice).
+MIN_VALUES = 8
+
+#: Crossing dates further than this beyond the last sample are not given (years).
+HORIZON_YEARS = 50.0
+
+
+def sampling_seasons(dates, codes, n_groups, mode: str = "auto") -> tuple[np.ndarray, np.ndarray]:
+    """Season of each value and number of seasons per series for the seasonal Kendall test.
+
+    ``mode="auto"``: a series is seasonal when it spans at least 3 calendar years, its median
+    number of samples per sampled year is >= 10 (months, 12 seasons) or 3-9 (quarters,
+    4 seasons), and every season holds samples from at least 3 different years (Hirsch, Slack &
+    Smith 1982 use monthly or quarterly seasons). ``"always"``: months when there are >= 10
+    samples per year, else quarters. ``"never"``: one season.
+
+    Returns
+    -------
+    seasons : ndarray of int
+        Season index per value (0 for non-seasonal series).
+    n_seasons : ndarray of int, shape (n_groups,)
+        1, 4 or 12 per series.
+    """
+    if mode not in ("auto", "always", "never"):
+        raise ValueError(f"seasonal must be auto, always or never, not {mode!r}")
+    d = pd.to_datetime(pd.Series(dates)).reset_index(drop=True)
+    codes = np.asarray(codes, np.int64)
+    n_seasons = np.ones(n_groups, np.int64)
+    if mode == "never" or d.empty:
+        return np.zeros(len(d), np.int64), n_seasons
+    frame = pd.DataFrame({"g": codes, "year": d.dt.year, "month": d.dt.month - 1})
+    per_year = frame.groupby(["g", "year"]).size().groupby("g").agg(["median", "size"])
+    per_year = per_year.reindex(range(n_groups))
+    monthly = per_year["median"].to_numpy() >= 10
+    quarterly = (per_year["median"].to_numpy() >= 3) & ~monthly
+    enough_years = per_year["size"].to_numpy() >= 3
+    choice = np.where(monthly, 12, np.where(quarterly | (mode == "always"), 4, 1))
+    if mode == "auto":
+        for p in (12, 4):
+            season = frame["month"] if p == 12 else frame["month"] // 3
+            years = frame.assign(s=season).groupby(["g", "s"])["year"].nunique()
+            seasons_ok = (years >= 3).groupby("g").sum().reindex(range(n_groups), fill_value=0)
+            bad = (choice == p) & ~((seasons_ok.to_numpy() == p) & enough_years)
+            choice = np.where(bad, 1, choice)
+    n_seasons = choice.astype(np.int64)
+    per_value = n_seasons[codes]
+    season = np.where(per_value == 12, frame["month"], np.where(per_value == 4, frame["month"] // 3, 0))
+    return season.astype(np.int64), n_seasons
+
+
+def lowest_limits(screened: pd.DataFrame) -> pd.DataFrame:
+    """Lowest applicable single-sample limit of each series, from the screening output.
+
+    Only site samples with a limit and a ``single_sample`` basis (or none stated) count; within a
+    series the limits of its latest sampling date are used, so that a limit no longer in force,
+    or computed from an old hardness, does not decide the crossing date.
+
+    Returns
+    -------
+    DataFrame
+        ``site_id, analyte, fraction, limit_ug_L, limit_table`` (one row per series with a limit).
+    """
+    keys = ["site_id", "analyte", "fraction"]
+    cols = keys + ["limit_ug_L", "limit_table"]
+    if screened is None or screened.empty or "limit_ug_L" not in screened:
+        return pd.DataFrame(columns=cols)
+    from tracescreen.summary import site_samples
+
+    d = site_samples(screened)
+    basis = d["basis"].fillna("") if "basis" in d else pd.Series("", index=d.index)
+    d = d[d["limit_ug_L"].notna() & basis.isin(["", "single_sample"])]
+    if d.empty:
+        return pd.DataFrame(columns=cols)
+    latest = d.groupby(keys, observed=True)["sampled_at"].transform("max")
+    d = d[d["sampled_at"] == latest].sort_values(keys + ["limit_ug_L", "limit_table"])
+    return d.drop_duplicates(keys)[cols].reset_index(drop=True)
+
+
+def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "auto",
+                min_n: int = MIN_VALUES, limits: pd.DataFrame | None = None,
+                horizon_years: float = HORIZON_YEARS) -> pd.DataFrame:
+    """Trend test and slope per site x analyte x fraction from accepted results.
+
+    Parameters
+    ----------
+    results : DataFrame
+        Accepted results (DEVELOPERS.md data model); QC samples are left out (a field duplicate
+        is represented by its parent sample).
+    alpha : float
+        Significance level of the two-sided test for ``direction``; the slope interval has
+        confidence 1 - alpha.
+    seasonal : {"auto", "always", "never"}
+        When to use the seasonal Kendall test (:func:`sampling_seasons`).
+    min_n : int
+        Fewer values than this give ``direction = "too_few"`` (common practice: 8).
+    limits : DataFrame, optional
+        ``site_id, analyte, fraction, limit_ug_L, limit_table``: the lowest applicable
+        single-sample limit of each series (see :func:`lowest_limits`), for ``crosses_limit_on``.
+    horizon_years : float
+        No crossing date is given further than this beyond the last sample (the note says so).
+
+    Returns
+    -------
+    DataFrame
+        :data:`TABLE_COLUMNS`. ``slope_per_year`` and its interval in µg/L per year;
+        ``intercept`` is the trend line's value on ``first_sampled`` [µg/L];
+        ``crosses_limit_on`` is the date on which an increasing trend line, still below the
+        lowest limit on the last sampling date, reaches it (an indication only: extrapolation
+        is uncertain).
+    """
+    from tracescreen.summary import censored_series, site_samples
+
+    data = censored_series(site_samples(results))
+    data = data[data["value"].notna() & data["sampled_at"].notna()]
+    codes, table = grouped.group_codes(data, ["site_id", "analyte", "fraction"])
+    g = len(table)
+    t = decimal_years(data["sampled_at"]) if len(data) else np.zeros(0)
+    seasons, n_seasons = sampling_seasons(data["sampled_at"], codes, g, seasonal)
+    res = mann_kendall_grouped(t, data["value"].to_numpy(float), data["nondetect"].to_numpy(bool),
+                               codes, g, seasons=seasons, alpha=alpha)
+    out = table.reset_index(drop=True).copy()
+    for col in TREND_COLUMNS:
+        if col != "t0":
+            out[col] = res[col].to_numpy()
+    out["n"] = out["n"].astype(int)
+    out["n_nondetect"] = out["n_nondetect"].astype(int)
+    t_last = pd.Series(t).groupby(codes).max().reindex(range(g)).to_numpy() if g else np.zeros(0)
+    span = data["sampled_at"].groupby(codes).agg(["min", "max"]).reindex(range(g))
+    out["first_sampled"], out["last_sampled"] = span["min"].to_numpy(), span["max"].to_numpy()
+    out["test"] = np.where(n_seasons > 1, "seasonal_kendall_" + n_seasons.astype(str) + "_seasons",
+                           "mann_kendall")
+    few = out["n"].to_numpy() < min_n
+    p = out["p_value"].to_numpy(float)
+    s = out["s"].to_numpy(float)
+    sig = np.nan_to_num(p, nan=1.0) < alpha
+    out["direction"] = np.where(few, "too_few", np.where(sig & (s > 0), "increasing",
+                                np.where(sig & (s < 0), "decreasing", "no_trend")))
+    if limits is not None and len(limits):
+        lim = out[["site_id", "analyte", "fraction"]].merge(
+            limits[["site_id", "analyte", "fraction", "limit_ug_L", "limit_table"]],
+            how="left", on=["site_id", "analyte", "fraction"])
+        out["lowest_limit_ug_L"] = lim["limit_ug_L"].to_numpy(float)
+        out["lowest_limit_table"] = lim["limit_table"].to_numpy(object)
+    else:
+        out["lowest_limit_ug_L"] = np.nan
+        out["lowest_limit_table"] = None
+    limit = out["lowest_limit_ug_L"].to_numpy(float)
+    slope = out["slope_per_year"].to_numpy(float)
+    t0 = res["t0"].to_numpy(float)
+    line_last = out["intercept"].to_numpy(float) + slope * (t_last - t0)
+    rising = (out["direction"].to_numpy() == "increasing") & (slope > 0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        cross = np.where(rising & (line_last < limit), t0 + (limit - out["intercept"]) / slope, np.nan)
+    far = cross > t_last + horizon_years
+    cross = np.where(far, np.nan, cross)
+    out["crosses_limit_on"] = date_from_decimal_year(cross).to_numpy()
+    nd_share = out["n_nondetect"] / out["n"].clip(lower=1)
+    n_dl = data[data["nondetect"]].groupby(codes[data["nondetect"].to_numpy()])["value"].nunique()
+    n_dl = n_dl.reindex(range(g), fill_value=0).to_numpy()
+    fmt = pd.Series(limit).map(lambda v: f"{v:g}")
+    out["note"] = _notes(g, [
+        (few, f"fewer than {min_n} values: no direction given (common practice)"),
+        (nd_share.to_numpy() > 0.8, "more than 80 % non-detects: the test mostly sees detection "
+                                    "limits (Helsel 2012)"),
+        (out["n_nondetect"].to_numpy() > 0, "non-detects: pairs of unknown order counted as ties "
+                                            "(censored Kendall, Helsel 2012)"),
+        (n_dl > 1, "several detection limits in the record"),
+        (rising & (line_last >= limit), "trend line already at or above the lowest limit ("
+         + fmt + " µg/L)"),
+        (far, f"at this slope the line would reach the lowest limit more than {horizon_years:g} "
+              "years after the last sample: no date given"),
+        (np.isfinite(cross), "crossing date is an extrapolation of the trend line: an indication "
+                             "only, uncertain"),
+        (n_seasons > 1, "seasonal Kendall: values compared within the same season"),
+    ])
+    return out[TABLE_COLUMNS]
+
+
+def _notes(size: int, parts) -> np.ndarray:
+    from tracescreen.summary import _join_notes
+
+    return _join_notes(parts, size)

@@ -1,0 +1,180 @@
+"""Censored-data statistics checked against statsmodels, scipy, closed forms and the shared check case."""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from numpy.testing import assert_allclose
+from statsmodels.duration.survfunc import SurvfuncRight
+from statsmodels.imputation.ros import impute_ros
+
+from tracescreen import censored
+
+# Check case (15 values, detection limits 0.5 and 1.0) from /work/shared/docs/censored-statistics.md;
+# its KM, ROS and MLE values were computed there with lifelines, statsmodels and by hand.
+CHECK_X = np.array([0.5, 0.5, 0.5, 0.6, 0.8, 1.0, 1.0, 1.0, 1.2, 1.5, 1.9, 2.4, 3.1, 4.6, 7.5])
+CHECK_ND = np.array([1, 1, 1, 0, 0, 1, 1, 1, 0, 0, 0, 0, 0, 0, 0], bool)
+
+
+def km_reference(x, nd, probs):
+    """Kaplan-Meier mean (Efron), sd and percentiles from statsmodels' SurvfuncRight on flipped data."""
+    big = x.max() + 1.0
+    sf = SurvfuncRight(big - x, (~nd).astype(int))
+    times, surv = sf.surv_times, sf.surv_prob
+    t_end = big - x.min()
+    # masses at event times (flipped back to x), remaining survival mass at the smallest value
+    mass = -np.diff(np.concatenate(([1.0], surv)))
+    support = np.append(big - times, x.min())
+    mass = np.append(mass, surv[-1])
+    edges = np.append(times, t_end)
+    restricted = times[0] + np.sum(surv * np.diff(edges))  # area under S on [0, t_end]
+    mean = big - restricted
+    n = x.size
+    sd = np.sqrt(np.sum(mass * (support - mean) ** 2) * n / (n - 1))
+    q = np.array([big - sf.quantile(1 - p) for p in probs])
+    return mean, sd, q
+
+
+def test_km_check_case():
+    """KM mean 1.789333 (Efron), median 0.8, 75th percentile 2.4: shared check case (lifelines/statsmodels/hand)."""
+    r = censored.kaplan_meier(CHECK_X, CHECK_ND, probs=(0.5, 0.75))
+    assert_allclose(r["mean"], 1.789333, atol=5e-7)
+    assert_allclose(r["quantiles"], [0.8, 2.4], rtol=1e-12)
+
+
+@pytest.mark.parametrize("seed,dls", [(1, [1.0]), (2, [0.5, 1.0, 2.0]), (3, [0.2, 0.3, 0.7, 1.5])])
+def test_km_matches_statsmodels(seed, dls):
+    """KM mean, sd and percentiles equal statsmodels SurvfuncRight on flipped data (one and several DLs), rtol 1e-10."""
+    rng = np.random.default_rng(seed)
+    true = rng.lognormal(0.0, 1.0, 60)
+    dl = rng.choice(dls, 60)
+    nd = true < dl
+    x = np.where(nd, dl, np.round(true, 3))
+    probs = (0.25, 0.5, 0.75, 0.9, 0.95)
+    r = censored.kaplan_meier(x, nd, probs)
+    mean, sd, q = km_reference(x, nd, probs)
+    assert_allclose(r["mean"], mean, rtol=1e-10)
+    assert_allclose(r["sd"], sd, rtol=1e-10)
+    assert_allclose(r["quantiles"], q, rtol=1e-10)
+
+
+def test_km_percentile_below_smallest_detect_is_nan():
+    """A percentile inside the mass below the smallest detect is unknown ("<DL"); statsmodels also gives none (NaN)."""
+    x = np.array([1.0, 1.0, 1.0, 1.0, 2.0, 3.0])
+    nd = np.array([1, 1, 1, 1, 0, 0], bool)
+    r = censored.kaplan_meier(x, nd, probs=(0.5, 0.9))
+    _, _, q = km_reference(x, nd, (0.5, 0.9))
+    assert np.isnan(r["quantiles"][0]) and np.isnan(q[0])
+    assert r["quantiles"][1] == pytest.approx(q[1], rel=1e-12)
+
+
+def test_km_grouped_equals_single_series():
+    """The vectorised grouped KM gives the single-series results for every group (identical to 1e-13)."""
+    rng = np.random.default_rng(7)
+    sizes = rng.integers(3, 70, 40)
+    codes = np.repeat(np.arange(40), sizes)
+    x = rng.lognormal(0, 1, codes.size).round(2) + 0.01
+    nd = rng.random(codes.size) < 0.3
+    table = censored.kaplan_meier_grouped(x, nd, codes, 41)
+    for g in range(40):
+        one = censored.kaplan_meier(x[codes == g], nd[codes == g])
+        assert_allclose(table.loc[g, ["mean", "sd", "q50", "q90", "q95"]].to_numpy(float),
+                        [one["mean"], one["sd"], *one["quantiles"]], rtol=1e-13)
+    assert table.loc[40].isna().all()
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.floats(0.01, 1000, allow_nan=False), min_size=2, max_size=50))
+def test_km_without_nondetects_is_sample_statistics(xs):
+    """Censoring nothing changes nothing: KM mean and sd equal numpy's mean and sd (ddof=1), property test."""
+    x = np.array(xs)
+    r = censored.kaplan_meier(x, np.zeros(x.size, bool))
+    assert_allclose(r["mean"], x.mean(), rtol=1e-9)
+    assert_allclose(r["sd"], x.std(ddof=1), rtol=1e-7, atol=1e-9 * x.max())
+
+
+def test_ros_check_case():
+    """ROS mean 1.700152 and sd 2.043878: shared check case (statsmodels impute_ros)."""
+    imputed = censored.ros(CHECK_X, CHECK_ND)
+    assert_allclose([imputed.mean(), imputed.std(ddof=1)], [1.700152, 2.043878], atol=5e-7)
+
+
+@pytest.mark.parametrize("seed", [11, 12, 13])
+def test_ros_matches_statsmodels(seed):
+    """ROS imputed set equals statsmodels.imputation.ros.impute_ros (several DLs, below 80 % censored), rtol 1e-12."""
+    rng = np.random.default_rng(seed)
+    true = rng.lognormal(0.5, 0.8, 50)
+    dl = rng.choice([0.8, 1.2, 2.0], 50)
+    nd = true < dl
+    x = np.where(nd, dl, true)
+    assert x[nd].max() <= x[~nd].max()  # statsmodels drops NDs above the largest detect
+    ours = np.sort(censored.ros(x, nd))
+    ref = np.sort(impute_ros(x, nd))
+    assert_allclose(ours, ref, rtol=1e-12)
+
+
+def test_ros_too_few_detects_is_nan():
+    """With one detect there is no regression line: ROS returns NaN (no silent substitution, Helsel 2012 ch. 6)."""
+    assert np.isnan(censored.ros([1.0, 1.0, 3.0], [True, True, False])).all()
+
+
+def test_mle_check_case():
+    """Lognormal MLE mu -0.0828755, sigma 1.187899, mean 1.863910: shared check case."""
+    r = censored.lognormal_mle(CHECK_X, CHECK_ND)
+    assert_allclose([r["mu"], r["sigma"], r["mean"]], [-0.0828755, 1.187899, 1.863910], atol=2e-6)
+
+
+def test_mle_uncensored_is_closed_form():
+    """Without censoring the lognormal MLE is the mean and the ddof=0 sd of ln x (closed form, Cohen 1959)."""
+    x = np.random.default_rng(5).lognormal(1.0, 0.6, 40)
+    r = censored.lognormal_mle(x, np.zeros(40, bool))
+    assert_allclose(r["mu"], np.log(x).mean(), atol=1e-8)
+    assert_allclose(r["sigma"], np.log(x).std(ddof=0), atol=1e-8)
+
+
+def test_substitution_is_labelled_and_uses_fraction_of_dl():
+    """DL/2 substitution replaces each non-detect by half its DL and says so in `method` (Helsel 2006)."""
+    x = np.array([2.0, 4.0, 5.0, 7.0])
+    nd = np.array([True, True, False, False])
+    out = censored.censored_statistics_grouped(x, nd, np.zeros(4, int), 1, method="substitution_half_dl")
+    assert out.loc[0, "method"] == "substitution_half_dl"
+    assert out.loc[0, "mean"] == pytest.approx(np.mean([1.0, 2.0, 5.0, 7.0]))
+
+
+def test_grouped_methods_without_nondetects_use_sample_statistics():
+    """A series with no non-detects gets the plain sample statistics whatever the method (issue 3)."""
+    x = np.array([1.0, 2.0, 4.0])
+    for method in censored.METHODS:
+        out = censored.censored_statistics_grouped(x, np.zeros(3, bool), np.zeros(3, int), 1, method=method)
+        assert out.loc[0, "method"] == "sample_statistics"
+        assert out.loc[0, "mean"] == pytest.approx(7 / 3)
+        assert out.loc[0, "q50"] == pytest.approx(2.0)
+
+
+def test_grouped_ros_and_mle_match_single_series():
+    """Grouped ROS and MLE statistics equal the single-series functions."""
+    x = np.concatenate([CHECK_X, CHECK_X * 2])
+    nd = np.concatenate([CHECK_ND, CHECK_ND])
+    codes = np.repeat([0, 1], 15)
+    ros = censored.censored_statistics_grouped(x, nd, codes, 2, method="ros")
+    assert ros.loc[0, "mean"] == pytest.approx(1.7001522567, rel=1e-9)
+    mle = censored.censored_statistics_grouped(x, nd, codes, 2, method="mle_lognormal")
+    assert mle.loc[1, "mean"] == pytest.approx(2 * 1.863910, rel=1e-6)
+
+
+def test_bootstrap_ucl_is_seeded_and_above_mean():
+    """The bootstrap UCL on the KM mean is reproducible with a seed and lies above the KM mean (Efron & Tibshirani 1993)."""
+    codes = np.zeros(15, int)
+    a = censored.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
+    b = censored.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
+    assert a[0] == b[0]
+    assert 1.789333 < a[0] < 4.0
+
+
+def test_bootstrap_ucl_without_censoring_near_t_interval():
+    """Uncensored: the bootstrap 95 % UCL is close to the Student-t UCL mean + t(0.95) s/sqrt(n) (within 10 %)."""
+    x = np.random.default_rng(9).normal(10, 2, 60)
+    ucl = censored.bootstrap_ucl_km_grouped(x, np.zeros(60, bool), np.zeros(60, int), 1, n_boot=4000)
+    from scipy import stats
+    t_ucl = x.mean() + stats.t.ppf(0.95, 59) * x.std(ddof=1) / np.sqrt(60)
+    assert abs((ucl[0] - x.mean()) / (t_ucl - x.mean()) - 1) < 0.1
