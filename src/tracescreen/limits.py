@@ -327,5 +327,5 @@ def evaluate(entries: pd.DataFrame, hardness_mg_L) -> np.ndarray:
         entries["hf_m"].to_numpy(float), entries["hf_b"].to_numpy(float), entries["hf_cf"].to_numpy(float),
         entries["hf_cf_intercept"].to_numpy(float), entries["hf_cf_ln_slope"].to_numpy(float),
         hardness_mg_L, entries["hardness_min"].to_numpy(float), entries["hardness_max"].to_numpy(float),
-    ) * entries["unit_factor"].to_numpy(float) if "unit_factor" in entries else np.nan
+    ) * entries["unit_factor"].to_numpy(float)
     return np.where(is_formula(entries), formula, fixed)

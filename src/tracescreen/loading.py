@@ -39,6 +39,11 @@ ACCEPTED_COLUMNS = [
 ]
 
 
+#: Text columns of the accepted table (held as pandas categoricals of str).
+TEXT_COLUMNS = ("file", "sheet", "site_id", "sample_id", "analyte", "fraction", "result_text", "unit",
+                "qualifier", "sample_type", "parent_sample_id", "lab", "batch")
+
+
 class LoadError(ValueError):
     """A file that cannot be read at all (the message names the file and the problem)."""
 
@@ -422,32 +427,39 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
 
     rejected_mask = reasons != ""
     ok = ~rejected_mask
+
+    def text(values) -> pd.Categorical:
+        """Accepted rows of a text column as a categorical (factorise once, integer take)."""
+        cat = pd.Categorical(values if not isinstance(values, np.ndarray) else pd.Series(values, dtype=object).astype(str))
+        return cat[ok] if not ok.all() else cat
+
     acc = pd.DataFrame({
-        "file": raw.file,
-        "sheet": raw.sheet,
+        "file": pd.Categorical(np.full(int(ok.sum()), raw.file, dtype=object)),
+        "sheet": pd.Categorical(np.full(int(ok.sum()), raw.sheet, dtype=object)),
         "row": raw.rows[ok],
-        "site_id": site[ok].to_numpy(),
-        "sample_id": sample[ok].to_numpy(),
+        "site_id": text(site),
+        "sample_id": text(sample),
         "sampled_at": sampled_at[ok],
-        "analyte": names[ok],
-        "fraction": fraction[ok],
-        "result_text": res_text[ok].to_numpy(),
-        "unit": unit_text[ok].to_numpy(),
+        "analyte": text(np.where(no_name, "", names)),
+        "fraction": text(np.where(np.array([f is None for f in fraction]) if n else np.zeros(0, bool), "", fraction)),
+        "result_text": text(res_text),
+        "unit": text(unit_text),
         "value_ug_L": units.clean_decimal(parsed["value"][ok] * factor[ok]),
         "detected": parsed["detected"][ok],
         "detection_limit_ug_L": units.clean_decimal(parsed["detection_limit"][ok] * factor[ok]),
-        "qualifier": qualifier[ok].to_numpy(),
-        "sample_type": np.where(sample_type[ok] == None, "sample", sample_type[ok]),  # noqa: E711
-        "parent_sample_id": parent[ok].to_numpy(),
-        "lab": col("lab")[ok].to_numpy(),
-        "batch": col("batch")[ok].to_numpy(),
+        "qualifier": text(qualifier),
+        "sample_type": text(np.where(sample_type == None, "sample", sample_type)),  # noqa: E711
+        "parent_sample_id": text(parent),
+        "lab": text(col("lab")),
+        "batch": text(col("batch")),
         "analysed_at": analysed_at[ok],
         "hardness_mg_L": hardness[ok],
         "uncertainty_ug_L": units.clean_decimal(unc[ok] * factor[ok]),
     })
-    for c in ("site_id", "sample_id", "analyte", "fraction", "result_text", "unit", "qualifier",
-              "sample_type", "parent_sample_id", "lab", "batch", "sheet", "file"):
-        acc[c] = acc[c].astype(str)
+    for c in TEXT_COLUMNS:
+        cats = acc[c].cat.categories
+        if len(cats) and not isinstance(cats.dtype, pd.StringDtype):
+            acc[c] = acc[c].cat.rename_categories(cats.astype(str))
     rej_cells = cells.loc[rejected_mask].drop(columns=["__field_count_error__"], errors="ignore")
     rej = pd.concat([
         pd.DataFrame({"file": raw.file, "sheet": raw.sheet, "row": raw.rows[rejected_mask],
@@ -463,7 +475,8 @@ def empty_accepted() -> pd.DataFrame:
 
 
 def normalise_empty() -> pd.DataFrame:
-    cols = {c: pd.Series(dtype=str) for c in ACCEPTED_COLUMNS}
+    cols = {c: pd.Series(pd.Categorical([]), dtype="category") if c in TEXT_COLUMNS else pd.Series(dtype=str)
+            for c in ACCEPTED_COLUMNS}
     for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L"):
         cols[c] = pd.Series(dtype=float)
     cols["row"] = pd.Series(dtype="int64")
@@ -471,6 +484,17 @@ def normalise_empty() -> pd.DataFrame:
     cols["sampled_at"] = pd.Series(dtype="datetime64[ns]")
     cols["analysed_at"] = pd.Series(dtype="datetime64[ns]")
     return pd.DataFrame(cols)
+
+
+def concat_accepted(frames: list[pd.DataFrame]) -> pd.DataFrame:
+    """Concatenate accepted tables, keeping text columns categorical (union of categories)."""
+    if len(frames) == 1:
+        return frames[0]
+    out = pd.concat([f.astype({c: object for c in TEXT_COLUMNS if c in f}) for f in frames], ignore_index=True)
+    for c in TEXT_COLUMNS:
+        if c in out:
+            out[c] = pd.Categorical(out[c].astype(str))
+    return out
 
 
 def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame | None = None,
@@ -502,6 +526,6 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
             files.append({"file": raw.file, "path": raw.path, "sheet": raw.sheet, "sha256": digest,
                           "header_row": raw.header_row, "rows_read": len(raw.cells),
                           "accepted": len(acc), "rejected": len(rej), "blank_rows": raw.blank_rows})
-    acc = pd.concat(accepted, ignore_index=True) if accepted else normalise_empty()
+    acc = concat_accepted(accepted) if accepted else normalise_empty()
     rej = pd.concat(rejected, ignore_index=True) if rejected else pd.DataFrame(columns=["file", "sheet", "row", "reason"])
     return LoadResult(acc, rej, pd.DataFrame(files), warnings)

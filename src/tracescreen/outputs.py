@@ -38,6 +38,12 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
     out.columns = [neutralise_text(str(c)) for c in out.columns]
     for c in out.columns:
         s = out[c]
+        if isinstance(s.dtype, pd.CategoricalDtype):  # only the categories need looking at
+            cats = pd.Series(s.cat.categories.astype(str))
+            mask = cats.str.match(FORMULA_START)
+            if mask.any():
+                out[c] = s.cat.rename_categories(cats.where(~mask, "'" + cats).tolist())
+            continue
         if pd.api.types.is_string_dtype(s.dtype) or s.dtype == object:
             is_text = s.map(type).eq(str) if s.dtype == object else s.notna()
             txt = s.where(is_text, "").astype(str)
@@ -73,7 +79,10 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
         if safe[c].dtype == object:
             safe[c] = safe[c].where(safe[c].isna(), safe[c].astype(str))
     table = pa.Table.from_pandas(safe, preserve_index=False)
-    pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed"))
+    table = pa.Table.from_arrays(  # categoricals arrive as dictionaries: write their values
+        [c.cast(c.type.value_type) if pa.types.is_dictionary(c.type) else c for c in table.columns],
+        names=table.column_names)
+    pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed", batch_size=1 << 16))
     return p
 
 

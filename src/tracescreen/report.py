@@ -16,6 +16,7 @@ from datetime import datetime, timezone
 import numpy as np
 import pandas as pd
 
+from .frames import plain_text
 from . import __version__
 from .caution import CAUTION
 from .flags import format_date, format_number, site_samples
@@ -87,6 +88,10 @@ class ReportData:
     sites: pd.DataFrame | None = None
     settings: dict = field(default_factory=dict)
     method_notes: list = field(default_factory=list)
+
+    def __post_init__(self):
+        # the engine's tables hold text as categoricals; the report builds text from them
+        self.screening = plain_text(self.screening)
 
 
 # ----------------------------------------------------------------------------- tables

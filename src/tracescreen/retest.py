@@ -10,6 +10,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from .frames import plain_text
 from . import flags, qc
 
 REASONS = (
@@ -104,7 +105,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     unknown = set(o.reasons) - set(REASONS)
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
-    screening = screening[[c for c in flags.USED_COLUMNS if c in screening.columns]]
+    screening = plain_text(screening[[c for c in flags.USED_COLUMNS if c in screening.columns]])
     results = flags.results_from_screening(screening)
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(screening, lookback=o.lookback),

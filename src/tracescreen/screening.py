@@ -62,15 +62,8 @@ def classify(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: fl
     numpy array of str: ``exceeds``, ``meets``, ``nondetect_meets``, ``nondetect_inconclusive``,
     or ``no_limit`` where the limit is NaN.
     """
-    det = np.asarray(detected, dtype=bool)
-    lim = np.asarray(limit_ug_L, dtype=float)
-    bound = lim * (1.0 + rel_tol)
-    with np.errstate(invalid="ignore"):
-        over = np.where(det, np.asarray(value_ug_L, float) > bound, np.asarray(detection_limit_ug_L, float) > bound)
-    out = np.where(det, np.where(over, "exceeds", "meets"),
-                   np.where(over, "nondetect_inconclusive", "nondetect_meets")).astype(object)
-    out[np.isnan(lim)] = "no_limit"
-    return out
+    return np.asarray(STATUSES, dtype=object)[status_codes(detected, value_ug_L, detection_limit_ug_L, limit_ug_L,
+                                                           rel_tol)]
 
 
 def _codes(values: pd.Series, categories: pd.Index) -> np.ndarray:
@@ -150,75 +143,133 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     had_candidate[r_pos] = True
 
     entries = limits.entries
-    ent = entries.iloc[e_pos].reset_index(drop=True)
-    day = results["sampled_at"].to_numpy(dtype="datetime64[ns]")[r_pos].astype("datetime64[D]")
-    lo = ent["effective_from"].to_numpy(dtype="datetime64[ns]").astype("datetime64[D]")
-    hi = ent["effective_to"].to_numpy(dtype="datetime64[ns]").astype("datetime64[D]")
-    in_force = (np.isnat(lo) | (day >= lo)) & (np.isnat(hi) | (day <= hi))
-    r_pos, e_pos, ent = r_pos[in_force], e_pos[in_force], ent[in_force].reset_index(drop=True)
+    num = entries[NUMERIC_ENTRY_COLUMNS]  # only numbers are taken per pair; text is coded below
+    day = _days(results["sampled_at"])[r_pos]
+    lo = _days(entries["effective_from"])[e_pos]
+    hi = _days(entries["effective_to"])[e_pos]
+    in_force = ((lo == _NAT_DAY) | (day >= lo)) & ((hi == _NAT_DAY) | (day <= hi))
+    r_pos, e_pos = r_pos[in_force], e_pos[in_force]
 
     covered = np.zeros(n, dtype=bool)
     covered[r_pos] = True
     lone = np.flatnonzero(~covered)
 
     H = hard["hardness_used_mg_L"].to_numpy()[r_pos]
+    ent = num.iloc[e_pos]
     limit = limits_mod.evaluate(ent, H)
     formula = limits_mod.is_formula(ent)
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
     dl = results["detection_limit_ug_L"].to_numpy(dtype=float)
-    status = classify(det[r_pos], val[r_pos], dl[r_pos], limit, rel_tol)
+    status = status_codes(det[r_pos], val[r_pos], dl[r_pos], limit, rel_tol)
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = np.where(det[r_pos], val[r_pos], dl[r_pos]) / limit
 
-    note = ent["note"].to_numpy(dtype=object).copy()
-    hmin, hmax = ent["hardness_min"].to_numpy(float), ent["hardness_max"].to_numpy(float)
+    # note = hardness remark (code 0-4) combined with the entry's own note
     with np.errstate(invalid="ignore"):
-        clamp_lo = formula & (H < hmin)
-        clamp_hi = formula & (H > hmax)
-    msg = np.full(len(r_pos), "", dtype=object)
-    msg[formula] = "hardness-dependent limit"
-    msg[clamp_lo] = "hardness-dependent limit; hardness raised to the formula's minimum"
-    msg[clamp_hi] = "hardness-dependent limit; hardness capped at the formula's maximum"
-    msg[formula & np.isnan(H)] = "hardness unknown: hardness-dependent limit not computed"
-    note = np.where(msg == "", note, np.where(note == "", msg, msg + "; " + note.astype(str)))
-
-    lone_status = np.where(qc[lone], "qc_sample", "no_limit").astype(object)
-    st = results["sample_type"].to_numpy(dtype=object)[lone]
-    lone_note = np.where(qc[lone], np.char.add(st.astype(str), ": quality-control sample, not screened against limits"),
-                         np.where(had_candidate[lone], "no limit entry in force on the sampling date",
-                                  "no limit for this analyte and fraction in the tables for this site's uses"))
+        remark = np.zeros(len(r_pos), dtype=np.int64)
+        remark[formula] = 1
+        remark[formula & (H < ent["hardness_min"].to_numpy(float))] = 2
+        remark[formula & (H > ent["hardness_max"].to_numpy(float))] = 3
+        remark[formula & np.isnan(H)] = 4
+    n_lone_kinds = 2 + len(QC_NOTES)
+    qc_kind = results["sample_type"].astype(str).map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy()
+    lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
+                         np.where(had_candidate[lone], 0, 1))
+    note_key = np.concatenate([e_pos * len(HARDNESS_REMARKS) + remark, -1 - lone_kind])
 
     rp = np.concatenate([r_pos, lone])
-    out = results.iloc[rp].reset_index(drop=True)
-    out["hardness_used_mg_L"] = hard["hardness_used_mg_L"].to_numpy()[rp]
-    out["hardness_origin"] = hard["hardness_origin"].to_numpy()[rp]
-
-    def joined(a, fill):
-        return np.concatenate([np.asarray(a, dtype=object), np.full(len(lone), fill, dtype=object)])
-
-    out["limit_table"] = joined(ent["table_id"], "")
-    out["use"] = joined(ent["use"], "")
-    out["duration"] = joined(ent["duration"], "")
-    out["basis"] = joined(ent["basis"], "")
-    out["limit_ug_L"] = np.concatenate([limit, np.full(len(lone), np.nan)])
-    out["ratio"] = np.concatenate([ratio, np.full(len(lone), np.nan)])
-    out["status"] = np.concatenate([status, lone_status])
-    out["source"] = joined(ent["source"], "")
-    out["note"] = np.concatenate([note, lone_note]).astype(object)
-    out["entry_id"] = joined(ent["entry_id"], "")
-    for c in ("limit_table", "use", "duration", "basis", "status", "source", "note", "entry_id", "hardness_origin"):
-        out[c] = out[c].astype(str)
     order = np.argsort(rp, kind="stable")  # back to input order; a result's entries stay in table order
-    out = out.iloc[order].reset_index(drop=True)
+    rp = rp[order]
+    e_all = np.concatenate([e_pos, np.full(len(lone), -1)])[order]
+    cols = {}
+    for c in results.columns:  # take by position; text columns as categoricals (integer take)
+        cols[c] = take_column(results[c], rp)
+    cols["hardness_used_mg_L"] = hard["hardness_used_mg_L"].to_numpy()[rp]
+    cols["hardness_origin"] = take_column(hard["hardness_origin"], rp)
+    for c, src in (("limit_table", "table_id"), ("use", "use"), ("duration", "duration"), ("basis", "basis"),
+                   ("source", "source"), ("entry_id", "entry_id")):
+        cols[c] = entry_attribute(entries[src], e_all)
+    cols["limit_ug_L"] = np.concatenate([limit, np.full(len(lone), np.nan)])[order]
+    cols["ratio"] = np.concatenate([ratio, np.full(len(lone), np.nan)])[order]
+    lone_status = np.where(qc[lone], STATUS_RANK["qc_sample"], STATUS_RANK["no_limit"])
+    cols["status"] = pd.Categorical.from_codes(np.concatenate([status, lone_status])[order].astype(np.int8),
+                                               categories=list(STATUSES))
+    cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds)
+    out = pd.DataFrame(cols)
     return out[SCREENING_COLUMNS]
+
+
+NUMERIC_ENTRY_COLUMNS = ["value_ug_L", "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope",
+                         "hardness_min", "hardness_max", "unit_factor"]
+HARDNESS_REMARKS = ("", "hardness-dependent limit",
+                    "hardness-dependent limit; hardness raised to the formula's minimum",
+                    "hardness-dependent limit; hardness capped at the formula's maximum",
+                    "hardness unknown: hardness-dependent limit not computed")
+LONE_NOTES = ("no limit entry in force on the sampling date",
+              "no limit for this analyte and fraction in the tables for this site's uses")
+QC_NOTES = ("field_duplicate", "field_blank", "lab_blank")
+_NAT_DAY = np.iinfo(np.int64).min
+
+
+def _days(dates: pd.Series) -> np.ndarray:
+    """Whole days since 1970 as int64 (NaT stays the int64 minimum), for fast date comparisons."""
+    ns = pd.to_datetime(dates).astype("datetime64[ns]").to_numpy().view(np.int64)
+    return np.where(ns == _NAT_DAY, _NAT_DAY, np.floor_divide(ns, 86_400_000_000_000))
+
+
+def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int) -> pd.Categorical:
+    """Note text per row from its key (entry x hardness remark, or a no-limit / QC kind), built per distinct key."""
+    uniq, inv = np.unique(keys, return_inverse=True)
+    text = []
+    for k in uniq:  # a handful of distinct keys, not rows
+        if k < 0:
+            kind = -1 - k
+            text.append(LONE_NOTES[kind] if kind < 2 else
+                        f"{QC_NOTES[kind - 2]}: quality-control sample, not screened against limits")
+            continue
+        e, r = divmod(int(k), len(HARDNESS_REMARKS))
+        parts = [p for p in (HARDNESS_REMARKS[r], entry_notes[e]) if p]
+        text.append("; ".join(parts))
+    cats, inv2 = np.unique(np.array(text, dtype=object).astype(str), return_inverse=True)
+    return pd.Categorical.from_codes(inv2[inv], categories=cats)
+
+
+def status_codes(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: float = REL_TOL) -> np.ndarray:
+    """Like :func:`classify`, as positions in :data:`STATUSES` (int8)."""
+    det = np.asarray(detected, dtype=bool)
+    lim = np.asarray(limit_ug_L, dtype=float)
+    bound = lim * (1.0 + rel_tol)
+    with np.errstate(invalid="ignore"):
+        over = np.where(det, np.asarray(value_ug_L, float) > bound, np.asarray(detection_limit_ug_L, float) > bound)
+    code = np.where(det, np.where(over, 0, 2), np.where(over, 1, 3)).astype(np.int8)
+    code[np.isnan(lim)] = STATUS_RANK["no_limit"]
+    return code
+
+
+def take_column(col: pd.Series, positions: np.ndarray):
+    """Values of ``col`` at ``positions``; text columns come back as categoricals (fast integer take)."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        return pd.Categorical.from_codes(col.cat.codes.to_numpy()[positions], dtype=col.dtype)
+    if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
+        codes, uniques = pd.factorize(col, use_na_sentinel=False)
+        return pd.Categorical.from_codes(codes[positions], categories=pd.Index(uniques, dtype=object).astype(str))
+    return col.to_numpy()[positions]
+
+
+def entry_attribute(values: pd.Series, e_pos: np.ndarray) -> pd.Categorical:
+    """Attribute of the entry at each position (-1: no entry -> empty text), as a categorical."""
+    text = values.astype(str).to_numpy(dtype=object)
+    cats, inv = np.unique(np.append(text, ""), return_inverse=True)
+    codes = inv[np.where(e_pos < 0, len(text), e_pos)]
+    return pd.Categorical.from_codes(codes, categories=cats.astype(str))
 
 
 def worst_status(screened: pd.DataFrame, by: list[str]) -> pd.DataFrame:
     """Most severe status per group (severity order :data:`STATUSES`), with the count of rows."""
     rank = screened["status"].map(STATUS_RANK)
-    g = screened.assign(_rank=rank).groupby(by, observed=True, sort=True)
+    g = screened.assign(_rank=rank.astype(int)).groupby(by, observed=True, sort=True)
     out = g["_rank"].agg(["min", "size"]).reset_index()
     out["worst_status"] = np.asarray(STATUSES, dtype=object)[out["min"].to_numpy()]
     return out.drop(columns="min").rename(columns={"size": "n_rows"})

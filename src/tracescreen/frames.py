@@ -1,0 +1,31 @@
+"""Helpers for the engine's tables.
+
+The accepted-results and screening tables hold their text columns as pandas categoricals of str:
+a screening of 1,000,000 results against several tables repeats the same few site ids, analyte
+names and citations millions of times, and categoricals keep that small and fast. Code that builds
+text from those columns (string concatenation, ``.str`` methods on the values) can first take a
+copy with :func:`plain_text`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+
+def plain_text(df: pd.DataFrame, columns=None) -> pd.DataFrame:
+    """Copy of ``df`` whose categorical text columns are plain text (object dtype, shared strings).
+
+    Decoding is by category codes: each distinct string is shared, not copied per row.
+    """
+    out = df.copy()
+    for c in columns if columns is not None else out.columns:
+        if c in out and isinstance(out[c].dtype, pd.CategoricalDtype):
+            cats = np.asarray(out[c].cat.categories.astype(object), dtype=object)
+            codes = out[c].cat.codes.to_numpy()
+            vals = np.empty(len(codes), dtype=object)
+            ok = codes >= 0
+            vals[ok] = cats[codes[ok]]
+            vals[~ok] = ""
+            out[c] = pd.Series(vals, index=out.index, dtype=object)
+    return out
