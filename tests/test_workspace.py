@@ -14,7 +14,7 @@ import pytest
 from tracescreen import loading
 from tracescreen.export import export_parquet
 from tracescreen.workspace import WorkspaceError, open_workspace
-from workspace_support import assert_same_state, lab_rows, snapshot, write_lab_csv
+from workspace_support import assert_same_state, lab_rows, same_results, snapshot, write_lab_csv
 
 
 @pytest.fixture
@@ -52,7 +52,7 @@ def test_round_trip_equals_the_loader(tmp_path, ws_dir):
     with open_workspace(ws_dir) as ws:
         got = ws.current_results()
     want = loading.load_results([a]).accepted
-    pd.testing.assert_frame_equal(got, want)
+    same_results(got, want)
 
 
 def test_revised_file_supersedes_the_right_rows_and_keeps_history(tmp_path, ws_dir):

@@ -7,6 +7,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from tracescreen import loading
 from tracescreen.workspace import open_workspace
 
 HEADER = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result", "unit",
@@ -36,6 +37,16 @@ def lab_rows(n: int, seed: int = 0, first_sample: int = 0) -> pd.DataFrame:
 def write_lab_csv(path: Path, rows: pd.DataFrame) -> Path:
     rows.to_csv(path, index=False)
     return path
+
+
+def same_results(got: pd.DataFrame, want: pd.DataFrame) -> None:
+    """Equal accepted-results tables: same columns, dtypes and values; text columns categorical
+    (their category lists may differ by unused categories)."""
+    assert list(got.columns) == list(want.columns)
+    for c in loading.TEXT_COLUMNS:
+        assert isinstance(got[c].dtype, pd.CategoricalDtype), c
+    plain = {c: str for c in loading.TEXT_COLUMNS}
+    pd.testing.assert_frame_equal(got.astype(plain), want.astype(plain))
 
 
 def snapshot(directory) -> dict[str, pd.DataFrame]:

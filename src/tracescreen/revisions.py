@@ -14,7 +14,6 @@ current rows of that key; otherwise all incoming rows of that key revise all its
 
 from __future__ import annotations
 
-import duckdb
 import numpy as np
 import pandas as pd
 import pyarrow as pa
@@ -27,38 +26,58 @@ VALUE_COLUMNS = [c for c in loading.ACCEPTED_COLUMNS
                  if c not in RESULT_KEY + PROVENANCE + ["result_text", "unit"]]
 
 
-def row_hashes(table: pa.Table | pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
-    """64-bit hashes of each row's key (``RESULT_KEY``) and values (``VALUE_COLUMNS``).
+_MIX = np.uint64(0x100000001B3)           # 64-bit FNV prime, mixes the column hashes of a row
+_NULL = "\x00null"                         # stands for a missing text cell in the hash
 
-    Computed by DuckDB's ``hash`` over the Arrow columns (vectorised, multi-threaded); datetimes
-    are taken at nanosecond resolution so that the hash does not depend on the storage unit.
+
+def _text_hash(values: np.ndarray) -> np.ndarray:
+    return pd.util.hash_array(np.where(pd.isna(values), _NULL, values).astype(object))
+
+
+def column_hash(col: pa.Array | pa.ChunkedArray) -> np.ndarray:
+    """A 64-bit hash of each value of an Arrow column, the same whatever its storage.
+
+    Text hashes the same whether dictionary-encoded (a categorical) or plain; a dictionary column
+    is hashed through its dictionary and an integer take. Datetimes are taken at nanosecond
+    resolution; NaN and -0.0 are normalised by ``pandas.util.hash_array`` (SipHash-2-4).
     """
+    if isinstance(col, pa.ChunkedArray):
+        col = col.combine_chunks() if col.num_chunks != 1 else col.chunk(0)
+    t = col.type
+    if pa.types.is_dictionary(t):
+        words = _text_hash(col.dictionary.to_numpy(zero_copy_only=False))
+        words = np.append(words, _text_hash(np.array([None], dtype=object)))
+        return words[col.indices.fill_null(len(col.dictionary)).to_numpy().astype(np.intp)]
+    if pa.types.is_string(t) or pa.types.is_large_string(t):
+        return _text_hash(col.to_numpy(zero_copy_only=False))
+    if pa.types.is_timestamp(t):
+        return pd.util.hash_array(col.cast(pa.timestamp("ns")).to_numpy(zero_copy_only=False).view(np.int64))
+    if pa.types.is_boolean(t):
+        return pd.util.hash_array(col.fill_null(False).to_numpy(zero_copy_only=False).astype(np.uint8))
+    return pd.util.hash_array(col.to_numpy(zero_copy_only=False).astype(np.float64))
+
+
+def _combine(table: pa.Table, names: list[str]) -> np.ndarray:
+    h = np.zeros(table.num_rows, dtype=np.uint64)
+    for name in names:
+        h = (h ^ column_hash(table.column(name))) * _MIX
+    return h
+
+
+def row_hashes(table: pa.Table | pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
+    """64-bit hashes of each row's key (``RESULT_KEY``) and of its values (``VALUE_COLUMNS``)."""
     if isinstance(table, pd.DataFrame):
         table = pa.Table.from_pandas(table[RESULT_KEY + VALUE_COLUMNS], preserve_index=False)
-    cols = {}
-    for name in RESULT_KEY + VALUE_COLUMNS:
-        c = table.column(name)
-        cols[name] = c.cast(pa.timestamp("ns")) if pa.types.is_timestamp(c.type) else c
-    con = duckdb.connect()
-    try:
-        con.register("t", pa.table(cols))
-        out = con.execute(f"SELECT hash({', '.join(RESULT_KEY)}) AS k, "
-                          f"hash({', '.join(VALUE_COLUMNS)}) AS v FROM t").fetchnumpy()
-    finally:
-        con.close()
-    return np.asarray(out["k"], dtype=np.uint64), np.asarray(out["v"], dtype=np.uint64)
+    return _combine(table, RESULT_KEY), _combine(table, VALUE_COLUMNS)
 
 
 def probe_hash() -> str:
     """Hashes of a fixed row: if a library update changed the hash, stored hashes are not used."""
-    row = loading.empty_accepted().reindex([0])
-    for c in row.columns:
-        if row[c].dtype == object or pd.api.types.is_string_dtype(row[c]):
-            row[c] = "probe µ"
-    row["sampled_at"] = pd.Timestamp("2001-02-03 04:05")
-    row["detected"] = True
-    row["value_ug_L"] = 1.5
-    k, v = row_hashes(row)
+    row = {c: ["probe \u00b5"] for c in RESULT_KEY + VALUE_COLUMNS}
+    row.update(sampled_at=[pd.Timestamp("2001-02-03 04:05")], analysed_at=[pd.NaT],
+               detected=[True], value_ug_L=[1.5], detection_limit_ug_L=[float("nan")],
+               hardness_mg_L=[-0.0], uncertainty_ug_L=[0.25])
+    k, v = row_hashes(pd.DataFrame(row))
     return f"{k[0]:016x}{v[0]:016x}"
 
 

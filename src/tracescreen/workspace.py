@@ -177,11 +177,31 @@ def file_sha256(path: str | Path) -> str:
 # segments: Arrow IPC files, zstd-compressed buffers
 # --------------------------------------------------------------------------------------------
 
+_TEXT = pa.dictionary(pa.int32(), pa.large_string())
+_STORED = pa.schema(
+    [(c, _TEXT if c in loading.TEXT_COLUMNS else
+      pa.int64() if c == "row" else pa.timestamp("ns") if c in ("sampled_at", "analysed_at") else
+      pa.bool_() if c == "detected" else pa.float64()) for c in loading.ACCEPTED_COLUMNS]
+    + [("result_id", pa.int64()), ("key_hash", pa.uint64()), ("value_hash", pa.uint64())])
+
+
 def _encode(table: pa.Table) -> bytes:
+    """One segment: the stored columns and types (text as dictionaries), an Arrow IPC file."""
+    table = table.select(_STORED.names).cast(_STORED).unify_dictionaries()
     sink = pa.BufferOutputStream()
     with ipc.new_file(sink, table.schema, options=_IPC) as writer:
         writer.write_table(table)
     return sink.getvalue().to_pybytes()
+
+
+def _to_frame(table: pa.Table) -> pd.DataFrame:
+    """Arrow results -> DataFrame; text columns become categoricals with sorted categories."""
+    df = table.to_pandas(split_blocks=True)
+    for c in df.columns.intersection(loading.TEXT_COLUMNS):
+        cats = df[c].cat.categories
+        if not cats.is_monotonic_increasing:
+            df[c] = df[c].cat.reorder_categories(cats.sort_values())
+    return df
 
 
 def _decode(data: bytes, columns: list[str] | None = None) -> pa.Table:
@@ -296,7 +316,7 @@ def read_file(path: str | Path, options: loading.LoadOptions | None = None,
                        "rows_rejected": len(rej), "blank_rows": raw.blank_rows})
     original = compressing.result() if compressing else pa.compress(data, "zstd", asbytes=True)
     return FileBatch(p.name, str(p.resolve()), digest, len(data), original, sheets,
-                     pd.concat(accepted, ignore_index=True) if len(accepted) > 1 else accepted[0],
+                     loading.concat_accepted(accepted),
                      pd.concat(rejected, ignore_index=True) if len(rejected) > 1 else rejected[0])
 
 
@@ -498,11 +518,7 @@ class Workspace:
         blobs, gone = self._read(fetch)
         want = columns or loading.ACCEPTED_COLUMNS + ["result_id"]
         if not blobs:
-            empty = loading.empty_accepted()
-            empty["result_id"] = pd.Series(dtype="int64")
-            for h in _HASHES:
-                empty[h] = pd.Series(dtype="uint64")
-            return pa.Table.from_pandas(empty[want], preserve_index=False)
+            return _STORED.empty_table().select(want)
         need = want if not (current and len(gone)) or "result_id" in want else want + ["result_id"]
         tables = [_decode(b, need) for b in blobs]
         table = pa.concat_tables(tables) if len(tables) > 1 else tables[0]
@@ -513,7 +529,8 @@ class Workspace:
 
     def current_results(self) -> pd.DataFrame:
         """The current results as the accepted-results DataFrame (DEVELOPERS.md contract)."""
-        return self._load_table(loading.ACCEPTED_COLUMNS).to_pandas(split_blocks=True)
+        table = self._load_table(loading.ACCEPTED_COLUMNS)
+        return _to_frame(table) if table.num_rows else loading.empty_accepted()
 
     def results_history(self) -> pd.DataFrame:
         """Every stored result, current and superseded, with import, file hash and supersession."""
@@ -523,7 +540,7 @@ class Workspace:
                 "f.first_result_id FROM files f JOIN imports i USING (import_id) "
                 "ORDER BY f.first_result_id", con)
             sup = pd.read_sql_query("SELECT result_id, import_id AS superseded_by FROM supersessions", con)
-            return files, sup, self._load_table(current=False).to_pandas()
+            return files, sup, _to_frame(self._load_table(current=False))
 
         files, sup, df = self._read(fetch)
         pos = np.searchsorted(files["first_result_id"].to_numpy(), df["result_id"].to_numpy(),
