@@ -28,6 +28,7 @@ test: setup
 
 bench: setup
 	$(PY) bench/bench_screen.py
+	$(PY) bench/bench_stats.py
 
 clean:
 	rm -rf $(VENV) out test-output

@@ -45,9 +45,10 @@ def test_km_check_case():
 @pytest.mark.parametrize("seed,dls", [(1, [1.0]), (2, [0.5, 1.0, 2.0]), (3, [0.2, 0.3, 0.7, 1.5])])
 def test_km_matches_statsmodels(seed, dls):
     """KM mean, sd and percentiles equal statsmodels SurvfuncRight on flipped data (one and several DLs), rtol 1e-10."""
+    # n = 61: no F value equals a probability exactly (k/61), where rounding would decide the tie
     rng = np.random.default_rng(seed)
-    true = rng.lognormal(0.0, 1.0, 60)
-    dl = rng.choice(dls, 60)
+    true = rng.lognormal(0.0, 1.0, 61)
+    dl = rng.choice(dls, 61)
     nd = true < dl
     x = np.where(nd, dl, np.round(true, 3))
     probs = (0.25, 0.5, 0.75, 0.9, 0.95)
@@ -56,6 +57,15 @@ def test_km_matches_statsmodels(seed, dls):
     assert_allclose(r["mean"], mean, rtol=1e-10)
     assert_allclose(r["sd"], sd, rtol=1e-10)
     assert_allclose(r["quantiles"], q, rtol=1e-10)
+
+
+def test_km_percentile_at_exact_step_is_the_lower_value():
+    """Uncensored n = 40: F(x_(20)) = 20/40 exactly, so the KM median is x_(20) (smallest x with F >= 0.5, Helsel 2012 ch. 6)."""
+    x = np.arange(1.0, 41.0) * 1.1
+    nd = np.zeros(40, bool)
+    nd[:3] = True  # censoring in the lower tail keeps the upper steps at k/40
+    r = censored.kaplan_meier(x, nd, probs=(0.5, 0.9, 0.95))
+    assert_allclose(r["quantiles"], [x[19], x[35], x[37]], rtol=1e-15)
 
 
 def test_km_percentile_below_smallest_detect_is_nan():

@@ -144,3 +144,47 @@ def test_row_conservation(tmp_path_factory, rows):
     assert int(res.files["rows_read"].sum()) == len(res.accepted) + len(res.rejected)
     assert (res.rejected["reason"].str.len() > 0).all()
     assert sorted(res.accepted["row"].tolist() + res.rejected["row"].tolist()) == list(range(2, 2 + int(res.files["rows_read"].sum()))) or res.files["blank_rows"].sum() > 0
+
+
+def test_xlsx_with_title_rows_dates_and_numbers(tmp_path):
+    """An Excel sheet: title rows skipped, date cells and numeric cells read, rows numbered as in Excel."""
+    import datetime as dt
+
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Metals"
+    ws.append(["Certificate 17"])
+    ws.append([])
+    ws.append(["Site", "Sample ID", "Sample Date", "Analyte", "Fraction", "Result", "Units", "LOR"])
+    ws.append(["S1", "A1", dt.datetime(2021, 3, 4), "Zinc", "Total", 0.05, "mg/L", 0.002])
+    ws.append(["S1", "A2", dt.datetime(2021, 3, 4), "Zinc", "Total", "<0.002", "mg/L", 0.002])
+    p = tmp_path / "lab.xlsx"
+    wb.save(p)
+    res = load_results([p])
+    acc = res.accepted
+    assert acc["row"].tolist() == [4, 5] and acc["sheet"].astype(str).tolist() == ["Metals", "Metals"]
+    assert acc["value_ug_L"].iloc[0] == 50.0 and not acc["detected"].iloc[1]
+    assert acc["detection_limit_ug_L"].tolist() == [2.0, 2.0]
+    assert str(acc["sampled_at"].iloc[0])[:10] == "2021-03-04"
+    try:
+        load_results([p], LoadOptions(sheet="Nope"))
+    except loading.LoadError as exc:
+        assert "no sheet 'Nope'" in str(exc) and "Metals" in str(exc)
+    else:
+        raise AssertionError("expected LoadError")
+
+
+def test_binary_junk_and_empty_files_are_clear_errors(tmp_path):
+    """Binary junk, an empty file and a fake .xlsx give one-line errors naming the file."""
+    cases = {"junk.csv": b"\x00\x01\x02binary", "empty.csv": b"", "fake.xlsx": b"not a zip"}
+    for name, data in cases.items():
+        p = tmp_path / name
+        p.write_bytes(data)
+        try:
+            load_results([p])
+        except loading.LoadError as exc:
+            assert name in str(exc) and "\n" not in str(exc)
+        else:
+            raise AssertionError(f"expected LoadError for {name}")

@@ -107,3 +107,11 @@ def test_exceedance_rates_counts_and_interval():
     ref = stats.binomtest(3, 20).proportion_ci(0.95, method="exact")
     assert_allclose([r["proportion_above"], r["ci95_low"], r["ci95_high"]], [0.15, ref.low, ref.high], rtol=0, atol=1e-11)
     assert "undecided" in r["note"]
+
+
+def test_efron_note_only_when_the_smallest_value_is_a_nondetect():
+    """The Efron caveat appears only when a DL is at or below the smallest detect (else KM puts no mass below it, Helsel 2012 ch. 6)."""
+    low_dl = results("A", CHECK_X, CHECK_ND)  # DL 0.5 below the smallest detect 0.6
+    high_dl = results("B", [0.2, 0.3, 0.4, 1.0, 2.0, 3.0, 1.0], [0, 0, 0, 0, 0, 0, 1])
+    s = summary.summarise(pd.concat([low_dl, high_dl])).set_index("site_id")
+    assert "Efron" in s.loc["A", "note"] and "Efron" not in s.loc["B", "note"]

@@ -54,6 +54,9 @@ def _as_series(values, nondetect):
 
 # --------------------------------------------------------------------------- Kaplan-Meier
 
+#: Rounding tolerance when comparing the KM distribution function with a percentile's probability.
+_F_TOL = 1e-12
+
 
 def _km_rows(x, nd, valid, probs=PROBS):
     """Kaplan-Meier for left-censored data, one series per row of padded arrays.
@@ -96,9 +99,10 @@ def _km_rows(x, nd, valid, probs=PROBS):
         sd = np.sqrt(var * n / (n - 1))
     q = np.full((g, len(probs)), np.nan)
     for k, p in enumerate(probs):
-        hit = jump & (at >= p)
+        # F(x) >= p, with F values equal to p up to rounding (e.g. 20/40 = 0.5) counted as equal
+        hit = jump & (at >= p - _F_TOL)
         pos = np.argmax(hit, axis=1)
-        ok = hit.any(axis=1) & ~(efron >= p)
+        ok = hit.any(axis=1) & ~(efron >= p - _F_TOL)
         q[ok, k] = x[ok, pos[ok]]
     none = n == 0
     mean[none] = sd[none] = np.nan
@@ -137,7 +141,8 @@ def kaplan_meier(values, nondetect, probs=PROBS) -> dict:
     limit), which biases the mean high (Helsel 2012, sec. 6.3). ``sd`` is the standard deviation
     of the estimated distribution times sqrt(n / (n - 1)), so that with no non-detects it equals
     the ordinary sample standard deviation. A percentile p is the smallest value x with
-    F(x) >= p.
+    F(x) >= p, where F(x) equal to p up to rounding (1e-12) counts as equal -- e.g. the median
+    of 40 values whose F reaches exactly 20/40 is the 20th value, as in exact arithmetic.
 
     References
     ----------

@@ -125,6 +125,16 @@ def _number(value, where: str, key: str, allow_negative: bool = False) -> float:
     return float(value)
 
 
+def _check_keys(mapping: dict, keys: tuple[str, ...], label: str, where: str) -> None:
+    """Exactly ``keys`` in ``mapping``: unknown or missing keys are load errors."""
+    for k in mapping:
+        if k not in keys:
+            raise LimitTableError(f"{label}: {where}: unknown key '{k}' (allowed: {', '.join(keys)})")
+    for k in keys:
+        if k not in mapping:
+            raise LimitTableError(f"{label}: {where}: missing key '{k}'")
+
+
 def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
     label = f"{name}: entry {i}" + (f" ({e.get('analyte')})" if isinstance(e, dict) and e.get("analyte") else "")
     if not isinstance(e, dict):
@@ -162,22 +172,12 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
         f = e["hardness_formula"]
         if not isinstance(f, dict):
             raise LimitTableError(f"{label}: key 'hardness_formula' must be a mapping with m, b, cf")
-        for k in f:
-            if k not in FORMULA_KEYS:
-                raise LimitTableError(f"{label}: hardness_formula: unknown key '{k}' (allowed: m, b, cf)")
-        for k in FORMULA_KEYS:
-            if k not in f:
-                raise LimitTableError(f"{label}: hardness_formula: missing key '{k}'")
+        _check_keys(f, FORMULA_KEYS, label, "hardness_formula")
         row["hf_m"] = _number(f["m"], label, "hardness_formula.m", allow_negative=True)
         row["hf_b"] = _number(f["b"], label, "hardness_formula.b", allow_negative=True)
         cf = f["cf"]
         if isinstance(cf, dict):
-            for k in cf:
-                if k not in CF_KEYS:
-                    raise LimitTableError(f"{label}: hardness_formula.cf: unknown key '{k}' (allowed: intercept, ln_hardness)")
-            for k in CF_KEYS:
-                if k not in cf:
-                    raise LimitTableError(f"{label}: hardness_formula.cf: missing key '{k}'")
+            _check_keys(cf, CF_KEYS, label, "hardness_formula.cf")
             row["hf_cf_intercept"] = _number(cf["intercept"], label, "hardness_formula.cf.intercept", True)
             row["hf_cf_ln_slope"] = _number(cf["ln_hardness"], label, "hardness_formula.cf.ln_hardness", True)
         else:

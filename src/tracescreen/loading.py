@@ -145,7 +145,7 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
     text = _decode(data, name, opts.encoding)
     if not text.strip():
         raise LoadError(f"{name}: the file is empty")
-    head_lines = text.splitlines()[:HEADER_SEARCH_ROWS]
+    head_lines = text[:1 << 20].splitlines()[:HEADER_SEARCH_ROWS]
     first = next((ln for ln in head_lines if ln.strip()), "")
     delim = max([",", ";", "\t", "|"], key=first.count)
     head = list(csv.reader(head_lines, delimiter=delim))
@@ -370,7 +370,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
 
     analyte_text = col("analyte")
     names, name_fraction = analytes.match_analytes(analyte_text)
-    no_name = np.array([v is None for v in names])
+    no_name = pd.isna(names).astype(bool)
     conflict_name = name_fraction == "conflict"
     _add(reasons, no_name & (analyte_text == "").to_numpy(), "analyte is empty")
     unk = no_name & (analyte_text != "").to_numpy() & ~conflict_name
@@ -381,12 +381,12 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     fraction, bad_frac = parsing.parse_vocabulary(frac_text, parsing.FRACTION_VOCAB)
     _add(reasons, bad_frac, ("fraction '" + frac_text[bad_frac] + "' is not total or dissolved").to_numpy())
     name_frac = np.where(conflict_name, None, name_fraction)
-    both = np.array([a is not None and b is not None and a != b for a, b in zip(fraction, name_frac)]) if n else np.zeros(0, bool)
+    both = (~pd.isna(fraction) & ~pd.isna(name_frac) & (fraction != name_frac)) if n else np.zeros(0, bool)
     _add(reasons, both, "fraction column and analyte name disagree")
-    fraction = np.where(np.array([f is None for f in fraction]), name_frac, fraction) if n else fraction
+    fraction = np.where(pd.isna(fraction).astype(bool), name_frac, fraction) if n else fraction
     if opts.default_fraction:
-        fraction = np.where(np.array([f is None for f in fraction]), opts.default_fraction, fraction)
-    no_frac = np.array([f is None for f in fraction]) & ~bad_frac & ~conflict_name if n else np.zeros(0, bool)
+        fraction = np.where(pd.isna(fraction).astype(bool), opts.default_fraction, fraction)
+    no_frac = pd.isna(fraction).astype(bool) & ~bad_frac & ~conflict_name if n else np.zeros(0, bool)
     _add(reasons, no_frac, "fraction not given (no fraction column value, none in the analyte name; "
                            "use --default-fraction to set one)")
 
@@ -401,7 +401,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     res_text = col("result")
     parsed = parsing.parse_results(res_text, qualifier, col("detection_limit"), opts.decimal_comma)
     perr = parsed["error"]
-    has_err = np.array([e is not None for e in perr]) if n else np.zeros(0, bool)
+    has_err = ~pd.isna(perr).astype(bool) if n else np.zeros(0, bool)
     _add(reasons, has_err, perr[has_err])
 
     st_text = col("sample_type")
@@ -441,7 +441,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "sample_id": text(sample),
         "sampled_at": sampled_at[ok],
         "analyte": text(np.where(no_name, "", names)),
-        "fraction": text(np.where(np.array([f is None for f in fraction]) if n else np.zeros(0, bool), "", fraction)),
+        "fraction": text(np.where(pd.isna(fraction).astype(bool) if n else np.zeros(0, bool), "", fraction)),
         "result_text": text(res_text),
         "unit": text(unit_text),
         "value_ug_L": units.clean_decimal(parsed["value"][ok] * factor[ok]),

@@ -122,14 +122,16 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
 
     todo = ~numeric  # everything that is not a plain number is looked at here
     if todo.any():
-        sub = res[todo]
-        sub_c = sub.str.replace(",", ".", regex=False) if decimal_comma else sub
-        lt = sub_c.str.extract(_LT_RE, expand=False)
-        gt = sub_c.str.extract(_GT_RE, expand=False)
-        numq = sub_c.str.extract(_NUM_QUAL_RE, expand=True)
-        low = sub.str.lower().str.replace(r"\s+", " ", regex=True)
-        is_nd_word = low.isin(ND_WORDS).to_numpy()
-        is_blank = (sub == "").to_numpy()
+        # analyse each distinct text once ("<0.5" repeats thousands of times), then broadcast
+        codes, uniq = pd.factorize(res[todo])
+        u = pd.Series(np.asarray(uniq, dtype=object), dtype=object)
+        u_c = u.str.replace(",", ".", regex=False) if decimal_comma else u
+        lt = u_c.str.extract(_LT_RE, expand=False).iloc[codes].reset_index(drop=True)
+        gt = u_c.str.extract(_GT_RE, expand=False).iloc[codes].reset_index(drop=True)
+        numq = u_c.str.extract(_NUM_QUAL_RE, expand=True).iloc[codes].reset_index(drop=True)
+        is_nd_word = u.str.lower().str.replace(r"\s+", " ", regex=True).isin(ND_WORDS).to_numpy()[codes]
+        is_blank = (u == "").to_numpy()[codes]
+        sub = u.iloc[codes].reset_index(drop=True)
         idx = np.flatnonzero(todo)
 
         lt_ok = lt.notna().to_numpy()
@@ -230,7 +232,7 @@ def parse_vocabulary(text: pd.Series, vocab: dict[str, str]) -> tuple[np.ndarray
     keys = _vocab_key(pd.Series(uniques, dtype=object).astype(str))
     table = np.array([vocab.get(k, vocab.get(k.replace(" ", ""), None)) for k in keys] + [None], dtype=object)
     out = table[np.where(codes < 0, len(uniques), codes)]
-    unknown = np.array([v is None for v in out]) & (s.str.strip() != "").to_numpy()
+    unknown = pd.isna(out).astype(bool) & (s.str.strip() != "").to_numpy()
     return out, unknown
 
 

@@ -189,8 +189,10 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["hardness_used_mg_L"] = hard["hardness_used_mg_L"].to_numpy()[rp]
     cols["hardness_origin"] = take_column(hard["hardness_origin"], rp)
     for c, src in (("limit_table", "table_id"), ("use", "use"), ("duration", "duration"), ("basis", "basis"),
-                   ("source", "source"), ("entry_id", "entry_id")):
+                   ("entry_id", "entry_id")):
         cols[c] = entry_attribute(entries[src], e_all)
+    # the table's title stands for its citation on each row; full citations: LimitSet.tables
+    cols["source"] = entry_attribute(entries["table_id"].map(limits.tables.set_index("table_id")["name"]), e_all)
     cols["limit_ug_L"] = np.concatenate([limit, np.full(len(lone), np.nan)])[order]
     cols["ratio"] = np.concatenate([ratio, np.full(len(lone), np.nan)])[order]
     lone_status = np.where(qc[lone], STATUS_RANK["qc_sample"], STATUS_RANK["no_limit"])

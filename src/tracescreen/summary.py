@@ -120,7 +120,7 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     pct_nd = np.where(n > 0, 100.0 * (n - n_det) / np.maximum(n, 1), np.nan)
     frame = pd.DataFrame({"g": codes, "det": np.where(nd, np.nan, x), "dl": np.where(nd, x, np.nan)})
     ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
-                                 max_detection_limit=("dl", "max")).reindex(range(g))
+                                 max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
     st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
     if method in censored.SUBSTITUTION:
         ucl = censored.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
@@ -163,8 +163,9 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
          + " µg/L) not reported"),
         (censored_pct.any(axis=1), "some percentiles lie below the smallest detected value (<"
          + _fmt(out["min_detected"]) + " µg/L)"),
-        (km & (pct_nd > 0) & ~only_counts & ~few, "Kaplan-Meier; mass below the smallest detect "
-         "placed at the lowest value (Efron), mean biased high"),
+        (km & (ext["min_dl"].to_numpy() <= out["min_detected"].to_numpy()) & ~only_counts & ~few,
+         "Kaplan-Meier: the share below the smallest detect is placed at the lowest detection limit "
+         "(Efron), so the mean is biased high"),
         ((high_dl > 0) & ~only_counts, _fmt(high_dl) + " non-detect(s) with a detection limit "
          "above the largest detected value: they bound nothing the detects do not"),
         (np.char.startswith(out["method"].to_numpy().astype(str), "substitution"),

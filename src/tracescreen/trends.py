@@ -109,6 +109,40 @@ def _daniels_variance(a, b, first, second, valid, season, n_seasons):
     return ((one + two) / 4.0).sum(axis=1)
 
 
+def _kendall_tie_variance(y, valid, season, n_seasons):
+    """Kendall's (1975) tie-corrected Var(S), summed over seasons, for untied sampling times.
+
+    [n(n-1)(2n+5) - sum over tie groups t(t-1)(2t+5)] / 18 per season (Gilbert 1987, eq. 16.4).
+    """
+    g, m = y.shape
+    key = np.where(valid, season, n_seasons)
+    order = np.argsort(np.where(valid, y, np.inf), axis=1, kind="stable")
+    order = np.take_along_axis(order, np.argsort(np.take_along_axis(key, order, 1), axis=1,
+                                                 kind="stable"), 1)
+    ys, ks = np.take_along_axis(y, order, 1), np.take_along_axis(key, order, 1)
+    new = np.ones((g, m), bool)
+    new[:, 1:] = (ys[:, 1:] != ys[:, :-1]) | (ks[:, 1:] != ks[:, :-1])
+    starts = np.flatnonzero(new)
+    length = np.diff(np.append(starts, g * m)).astype(float)
+    real = ks.ravel()[starts] < n_seasons
+    ties = np.bincount(starts // m, weights=np.where(real, length * (length - 1) * (2 * length + 5), 0.0),
+                       minlength=g)
+    full = np.zeros(g)
+    for k in range(n_seasons):  # a few seasons, vectorised over series
+        n = (valid & (season == k)).sum(axis=1).astype(float)
+        full += n * (n - 1) * (2 * n + 5)
+    return (full - ties) / 18.0
+
+
+def _row_median(x, valid):
+    """Median of the valid cells of each row (NaN for an empty row)."""
+    xs = np.sort(np.where(valid, x, np.inf), axis=1)
+    n = valid.sum(axis=1)
+    with np.errstate(invalid="ignore"):
+        med = (_pick(xs, (n - 1) // 2) + _pick(xs, n // 2)) / 2.0
+    return np.where(n > 0, med, np.nan)
+
+
 def _pick(sorted_vals, k):
     """sorted_vals[g, k[g]] with k clipped to the row."""
     k = np.clip(k, 0, sorted_vals.shape[1] - 1)
@@ -121,18 +155,29 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     det = valid & ~nd
     nd = valid & nd
     i, j = np.triu_indices(m, 1)  # pairs i < j in time order
-    first = np.zeros((i.size, m))
-    first[np.arange(i.size), i] = 1.0
-    second = np.zeros((i.size, m))
-    second[np.arange(i.size), j] = 1.0
-    pair = valid[:, j] & (season[:, i] == season[:, j])
-    dt = np.where(pair, t[:, j] - t[:, i], 0.0)
-    a = np.sign(dt).astype(np.int8)
-    dy = np.where(pair, y[:, j] - y[:, i], 0.0)
-    b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j]) * pair
-    s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
     n_seasons = int(season.max()) + 1 if season.size else 1
-    var_s = _daniels_variance(a, b, first, second, valid, season, n_seasons)
+    pair = valid[:, j]
+    if n_seasons > 1:
+        pair &= season[:, i] == season[:, j]
+    dt = t[:, j] - t[:, i]
+    dt[~pair] = 0.0
+    dy = y[:, j] - y[:, i]
+    dy[~pair] = 0.0
+    a = np.sign(dt).astype(np.int8)
+    any_nd = bool(nd.any())
+    if any_nd:
+        b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j])
+    else:
+        b = np.sign(dy).astype(np.int8)
+    s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
+    if any_nd or (pair & (dt == 0)).any():
+        first = np.zeros((i.size, m))
+        first[np.arange(i.size), i] = 1.0
+        second = np.zeros((i.size, m))
+        second[np.arange(i.size), j] = 1.0
+        var_s = _daniels_variance(a, b, first, second, valid, season, n_seasons)
+    else:
+        var_s = _kendall_tie_variance(y, valid, season, n_seasons)
     n_s = np.stack([(valid & (season == k)).sum(axis=1) for k in range(n_seasons)], axis=1)
     pairs = (n_s * (n_s - 1) / 2).sum(axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -156,8 +201,9 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     low = _pick(cand, np.maximum(np.round((n_pairs - c) / 2.0) - 1, 0).astype(np.int64))
     high = _pick(cand, np.minimum(np.round((n_pairs + c) / 2.0), n_pairs - 1).astype(np.int64))
     if censored.any():
-        kind = np.stack([det[:, i] & det[:, j], nd[:, i] & det[:, j], det[:, i] & nd[:, j]])
-        kind = np.take_along_axis(kind & usable, np.broadcast_to(order, kind.shape), axis=2)
+        # pair kind: 1 detect/detect, 2 non-detect then detect, 3 detect then non-detect
+        kind = np.where(det[:, j], np.where(det[:, i], 1, 2), np.where(det[:, i], 3, 0)).astype(np.int8)
+        kind = np.take_along_axis(np.where(usable, kind, 0).astype(np.int8), order, axis=1)
         ats = _ats(cand, n_pairs, kind, c)
         slope, low, high = (np.where(censored, new, old) for new, old in zip(ats, (slope, low, high)))
     none = n_pairs == 0
@@ -166,7 +212,7 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     t0 = np.where(valid, t, np.inf).min(axis=1)
     tv = np.where(valid, t - t0[:, None], np.nan)
     with np.errstate(invalid="ignore"):
-        intercept = np.nanmedian(np.where(valid, y, np.nan), axis=1) - slope * np.nanmedian(tv, axis=1)
+        intercept = _row_median(y, valid) - slope * _row_median(tv, valid)
         if censored.any():
             resid = np.where(valid, y - slope[:, None] * np.nan_to_num(tv), np.inf)
             km = _km_rows(resid, nd, valid, (0.5,))["q"][:, 0]
@@ -193,7 +239,7 @@ def _ats(cand, n_pairs, kind, c):
     midpoint of the zero set (beta_low(0) + beta_high(0)) / 2; with no non-detects it is the
     Theil-Sen median.
     """
-    dd, ndd, dnd = (np.cumsum(k, axis=1) for k in kind)
+    dd, ndd, dnd = (np.cumsum(kind == k, axis=1, dtype=np.int32) for k in (1, 2, 3))
     s_right = (dd[:, -1:] - 2 * dd) + (ndd[:, -1:] - ndd) - dnd
     s_left = np.concatenate([(dd[:, -1:] + ndd[:, -1:]), s_right[:, :-1]], axis=1)
     inside = np.arange(cand.shape[1]) < n_pairs[:, None]
@@ -249,16 +295,16 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     if np.isnan(y).any() or np.isnan(t).any():
         raise ValueError("times and values must not contain NaN")
     z_crit = stats.norm.ppf(1 - alpha / 2)
-    out = pd.DataFrame({c: np.full(n_groups, np.nan) for c in TREND_COLUMNS})
-    out["slope_method"] = pd.Series([None] * n_groups, dtype=object)
-    for chunk in grouped.chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2, budget=PAIR_BUDGET):
+    cols = {c: np.full(n_groups, np.nan) for c in TREND_COLUMNS}
+    cols["slope_method"] = np.full(n_groups, None, dtype=object)
+    cols["n"][:] = cols["n_nondetect"][:] = 0
+    for chunk in grouped.chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2,
+                                budget=PAIR_BUDGET):
         r = _trend_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
                         chunk.valid, chunk.take(season, -1), z_crit, force_ats)
         for col in TREND_COLUMNS:
-            out.loc[chunk.groups, col] = r[col]
-    counts = np.bincount(codes, minlength=n_groups)
-    out.loc[counts == 0, ["n", "n_nondetect"]] = 0
-    return out
+            cols[col][chunk.groups] = r[col]
+    return pd.DataFrame(cols)
 
 
 def mann_kendall(times, values, nondetect=None, seasons=None, alpha=0.05) -> dict:
@@ -392,9 +438,11 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     from tracescreen.summary import censored_series, site_samples
 
     data = censored_series(site_samples(results))
-    data = data[data["value"].notna() & data["sampled_at"].notna()]
     codes, table = grouped.group_codes(data, ["site_id", "analyte", "fraction"])
     g = len(table)
+    usable = (data["value"].notna() & data["sampled_at"].notna()).to_numpy()
+    lost = np.bincount(codes[~usable], minlength=g)
+    data, codes = data[usable], codes[usable]
     t = decimal_years(data["sampled_at"]) if len(data) else np.zeros(0)
     seasons, n_seasons = sampling_seasons(data["sampled_at"], codes, g, seasonal)
     res = mann_kendall_grouped(t, data["value"].to_numpy(float), data["nondetect"].to_numpy(bool),
@@ -453,6 +501,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (np.isfinite(cross), "crossing date is an extrapolation of the trend line: an indication "
                              "only, uncertain"),
         (n_seasons > 1, "seasonal Kendall: values compared within the same season"),
+        (lost > 0, pd.Series(lost).astype(str) + " result(s) without value, detection limit or "
+                                                 "date left out"),
     ])
     return out[TABLE_COLUMNS]
 

@@ -12,6 +12,7 @@ from ..screening import screen
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 from .flag_options import add_retest_options, retest_options
+from .trends import add_statistics_options, statistics_tables
 
 
 def register(sub) -> None:
@@ -29,12 +30,13 @@ def register(sub) -> None:
     p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
     p.add_argument("--title", help="report title (default names the sites)")
     add_retest_options(p)
+    add_statistics_options(p)
     p.set_defaults(func=run)
 
 
 def statistics(args, inputs, screened) -> tuple:
-    """Summary and trend tables for the report, and method notes ((None, None, []) if unavailable)."""
-    return None, None, []
+    """Summary and trend tables for the report, and method notes."""
+    return statistics_tables(args, inputs.loaded.accepted, screened)
 
 
 def run(args) -> int:

@@ -39,6 +39,7 @@ def run(args) -> int:
         "screening": outputs.write_csv(screened, out / "screening.csv"),
         "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv"),
         "inputs": outputs.write_csv(inputs.input_files, out / "inputs.csv"),
+        "limits": outputs.write_csv(limit_tables_table(inputs.limits), out / "limit_tables.csv"),
     }
     retest = retest_list(screened, flag_options)
     written["retest"] = outputs.write_csv(retest, out / "retest.csv")
@@ -52,6 +53,14 @@ def run(args) -> int:
         print(f"  {name:<10} {path}")
     print_caution()
     return 0
+
+
+def limit_tables_table(limits):
+    """One row per loaded limit table with its full citation (``screening.csv`` names the table)."""
+    t = limits.tables
+    n = limits.entries.groupby("table_id").size()
+    return t[["table_id", "name", "source", "url", "use", "unit", "notes", "path"]].assign(
+        entries=t["table_id"].map(n).fillna(0).astype(int))
 
 
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:

@@ -28,7 +28,7 @@ def _probability(text: str) -> float:
     return value
 
 
-def add_trend_options(p: argparse.ArgumentParser) -> None:
+def add_trend_options(p) -> None:
     """Options of the trend tests."""
     p.add_argument("--alpha", type=_probability, default=0.05,
                    help="significance level of the two-sided trend test (slope interval: 1 - alpha)")
@@ -39,14 +39,15 @@ def add_trend_options(p: argparse.ArgumentParser) -> None:
 
 
 def add_statistics_options(p: argparse.ArgumentParser) -> None:
-    """Options of the summary statistics and the trend tests (used by ``screen``)."""
-    p.add_argument("--stats-method", choices=METHODS, default="kaplan_meier",
+    """Options of the summary statistics and the trend tests (``screen`` and ``report``)."""
+    g = p.add_argument_group("statistics (summary.csv, exceedances.csv, trends.csv)")
+    g.add_argument("--stats-method", choices=METHODS, default="kaplan_meier",
                    help="estimator for series with non-detects; substitution_* only on request, "
                         "labelled in the output")
-    p.add_argument("--bootstrap", type=int, default=1000, metavar="B",
+    g.add_argument("--bootstrap", type=int, default=1000, metavar="B",
                    help="bootstrap resamples for ucl95_mean")
-    p.add_argument("--seed", type=int, default=20240601, help="random seed of the bootstrap")
-    add_trend_options(p)
+    g.add_argument("--seed", type=int, default=20240601, help="random seed of the bootstrap")
+    add_trend_options(g)
 
 
 def _trends(args, accepted, screened) -> pd.DataFrame:
@@ -54,13 +55,28 @@ def _trends(args, accepted, screened) -> pd.DataFrame:
                        min_n=args.min_trend_values, limits=lowest_limits(screened))
 
 
+def statistics_tables(args, accepted: pd.DataFrame, screened: pd.DataFrame) -> tuple:
+    """(summary, trends, method notes as text) as the statistics options say."""
+    summary = summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed)
+    trends = _trends(args, accepted, screened)
+    notes = [
+        f"Summaries: non-detects by {args.stats_method} (Helsel 2012); series without non-detects use "
+        "plain sample statistics; ucl95_mean by a seeded percentile bootstrap "
+        f"(B={args.bootstrap}, seed={args.seed}).",
+        f"Trends: Mann-Kendall or seasonal Kendall (seasonal: {args.seasonal}) at alpha = {args.alpha}; "
+        "non-detects count as ties where the order is unknown; Sen or Akritas-Theil-Sen slope per "
+        "year from the sampling dates.",
+    ]
+    return summary, trends, notes
+
+
 def write_statistics(args, accepted: pd.DataFrame, screened: pd.DataFrame, out: Path) -> dict:
     """Write summary.csv, exceedances.csv and trends.csv; return {name: path}."""
-    summary = summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed)
+    summary, trends, _ = statistics_tables(args, accepted, screened)
     return {
         "summary": outputs.write_csv(summary, out / "summary.csv"),
         "exceedance": outputs.write_csv(exceedance_rates(screened), out / "exceedances.csv"),
-        "trends": outputs.write_csv(_trends(args, accepted, screened), out / "trends.csv"),
+        "trends": outputs.write_csv(trends, out / "trends.csv"),
     }
 
 
