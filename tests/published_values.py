@@ -61,22 +61,33 @@ WHO_GDWQ_2022 = [
 CFR141 = "40 CFR 141.62(b) maximum contaminant levels for inorganic contaminants"
 _NPDWR_SEC = "checked (secondary: EPA NPDWR summary table as reproduced; Indiana IDEM MCL table)"
 _LCR = "40 CFR 141.80(c) and 141.2 (action level, 90th percentile per monitoring period)"
+_RAA = "running_annual_mean"  # 40 CFR 141.23(i): compliance on a running annual average
 
 US_EPA_NPDWR = [
-    Published("antimony", "total", 0.006, "mg/L", CFR141, _NPDWR_SEC),
+    Published("antimony", "total", 0.006, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
     Published("arsenic", "total", 0.05, "mg/L", "40 CFR 141.11(b)",
               "checked (law: 141.11(b) '0.05 milligrams per liter ... until January 23, 2006', FindLaw copy)",
-              effective_to="2006-01-22"),
+              effective_to="2006-01-22", basis=_RAA),
     Published("arsenic", "total", 0.010, "mg/L", CFR141, _NPDWR_SEC + " ('0.010 as of 01/23/06')",
-              effective_from="2006-01-23"),
-    Published("barium", "total", 2.0, "mg/L", CFR141, _NPDWR_SEC),
-    Published("beryllium", "total", 0.004, "mg/L", CFR141, _NPDWR_SEC),
-    Published("cadmium", "total", 0.005, "mg/L", CFR141, _NPDWR_SEC),
-    Published("chromium", "total", 0.1, "mg/L", CFR141, _NPDWR_SEC),
-    Published("mercury", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM and fval.com MCL tables)"),
-    Published("selenium", "total", 0.05, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)"),
-    Published("thallium", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)"),
-    Published("uranium", "total", 0.030, "mg/L", "40 CFR 141.66(e)", "memory"),
+              effective_from="2006-01-23", basis=_RAA),
+    Published("barium", "total", 2.0, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
+    Published("beryllium", "total", 0.004, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
+    Published("cadmium", "total", 0.005, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
+    Published("chromium", "total", 0.1, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
+    Published("mercury", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM and fval.com MCL tables)", basis=_RAA),
+    Published("selenium", "total", 0.05, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)", basis=_RAA),
+    Published("thallium", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)", basis=_RAA),
+    Published("uranium", "total", 0.030, "mg/L", "40 CFR 141.66(e)", "memory", basis=_RAA),
+    Published("lead", "total", 0.015, "mg/L", _LCR,
+              "checked (law: 40 CFR 141.2 before the LCRI, 'action level for lead is 0.015 mg/L', Cornell LII copy)",
+              duration="action level", basis="percentile", effective_to="2027-10-31"),
+    Published("lead", "total", 0.010, "mg/L", _LCR + "; 89 FR 86418 (LCRI), compliance date 2027-11-01",
+              "checked (law: 40 CFR 141.2 'The lead action level is 0.010 mg/L', Cornell LII copy; "
+              "89 FR 86418 DATES: compliance date for 141.2 is November 1, 2027)",
+              duration="action level", basis="percentile", effective_from="2027-11-01"),
+    Published("copper", "total", 1.3, "mg/L", _LCR,
+              "checked (law: 40 CFR 141.2 'the copper action level is 1.3 mg/L', Cornell LII copy)",
+              duration="action level", basis="percentile"),
 ]
 
 EU = "Directive (EU) 2020/2184, Annex I Part B"

@@ -12,8 +12,11 @@ import math
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import pytest
 import yaml
+
+from tracescreen import limits as limits_mod
 
 from published_values import HARDNESS_RANGE, PUBLISHED_TABLES, UG_L_PER_UNIT, Published
 
@@ -128,3 +131,79 @@ def test_round_sig_matches_printed_rounding():
     assert round_sig(569.9) == 570 and round_sig(74.1) == 74 and round_sig(8.96) == 9.0
     assert round_sig(0.7183) == 0.72 and round_sig(2.5167) == 2.5 and round_sig(0.125) == 0.13
     assert np.isclose(round_sig(1.794), 1.8)
+
+
+# --- the same checks through the loader and the engine's formula evaluation --------------------
+
+
+@pytest.fixture(scope="module")
+def loaded():
+    return limits_mod.load_limits(LIMITS_DIR)
+
+
+def _loaded_entry(loaded, table_id: str, p: Published) -> pd.Series:
+    e = loaded.entries[loaded.entries["table_id"] == table_id]
+    iso = lambda s: "" if pd.isna(s) else pd.Timestamp(s).date().isoformat()  # noqa: E731
+    keys = [_key(r.analyte, r.fraction, r.duration, r.basis, iso(r.effective_from), iso(r.effective_to))
+            for r in e.itertuples()]
+    matches = [i for i, k in enumerate(keys) if k == _pub_key(p)]
+    assert len(matches) == 1, (table_id, p)
+    return e.iloc[matches[0]]
+
+
+def test_loader_reads_every_shipped_table(loaded):
+    """load_limits reads the four shipped tables (no load error) with every published entry."""
+    assert sorted(loaded.tables["table_id"]) == TABLE_IDS
+    for t in TABLE_IDS:
+        assert (loaded.entries["table_id"] == t).sum() == len(PUBLISHED_TABLES[t][1])
+
+
+@pytest.mark.parametrize("table_id", TABLE_IDS)
+def test_loaded_values_in_ug_per_L_equal_published(loaded, table_id):
+    """value_ug_L after loading equals the published value converted to µg/L (1 mg/L = 1000 µg/L)."""
+    for p in PUBLISHED_TABLES[table_id][1]:
+        e = _loaded_entry(loaded, table_id, p)
+        if p.value is None:
+            assert np.isnan(e["value_ug_L"])
+        else:
+            assert e["value_ug_L"] == pytest.approx(p.value * UG_L_PER_UNIT[p.unit], rel=1e-12), (p, p.status)
+
+
+FORMULAS = [p for p in PUBLISHED_TABLES["us_epa_nrwqc_freshwater_aquatic_life"][1] if p.value is None]
+
+
+def _engine_limit(e: pd.Series, hardness: float) -> float:
+    return float(limits_mod.evaluate(e.to_frame().T.reset_index(drop=True), np.array([hardness]))[0])
+
+
+@pytest.mark.parametrize("p", FORMULAS, ids=lambda p: f"{p.analyte}-{p.duration}")
+def test_engine_formula_reproduces_published_criterion_at_hardness_100(loaded, p):
+    """The engine's criterion at H = 100 mg/L CaCO3, rounded to 2 significant figures, is the printed value."""
+    e = _loaded_entry(loaded, "us_epa_nrwqc_freshwater_aquatic_life", p)
+    assert round_sig(_engine_limit(e, 100.0)) == pytest.approx(p.at_100, rel=1e-12), p.at_100_source
+
+
+@pytest.mark.parametrize("p", FORMULAS, ids=lambda p: f"{p.analyte}-{p.duration}")
+def test_engine_formula_clamps_hardness_to_published_range(loaded, p):
+    """Below 25 mg/L the criterion is the one at 25, above 400 the one at 400 (40 CFR 131.36(c)(4); 400 cap common practice)."""
+    e = _loaded_entry(loaded, "us_epa_nrwqc_freshwater_aquatic_life", p)
+    assert _engine_limit(e, 10.0) == pytest.approx(published_formula(p, 25.0), rel=1e-12)
+    assert _engine_limit(e, 1000.0) == pytest.approx(published_formula(p, 400.0), rel=1e-12)
+    assert _engine_limit(e, 25.0) < _engine_limit(e, 26.0) and _engine_limit(e, 399.0) < _engine_limit(e, 400.0)
+
+
+def test_engine_caps_cadmium_conversion_factor_at_one(loaded):
+    """At H = 25 the cadmium acute CF formula gives 1.002; the engine uses 1 (CF never above 1, 40 CFR 131.38(b)(2))."""
+    p = next(p for p in FORMULAS if p.analyte == "cadmium" and p.duration == "acute")
+    assert p.cf_intercept + p.cf_ln_slope * math.log(25.0) > 1.0
+    e = _loaded_entry(loaded, "us_epa_nrwqc_freshwater_aquatic_life", p)
+    assert _engine_limit(e, 25.0) == pytest.approx(math.exp(p.m * math.log(25.0) + p.b), rel=1e-12)
+
+
+def test_lead_and_copper_action_levels_are_90th_percentiles_per_half_year(loaded):
+    """The lead/copper action levels are 90th percentiles (40 CFR 141.80(c)) over six-month periods, method epa_lcr."""
+    e = loaded.entries[(loaded.entries["table_id"] == "us_epa_npdwr_inorganics") & (loaded.entries["basis"] == "percentile")]
+    assert sorted(e["analyte"]) == ["copper", "lead", "lead"]
+    assert set(e["percentile"]) == {90} and set(e["period"]) == {"half_year"}
+    settings = loaded.tables.set_index("table_id").loc["us_epa_npdwr_inorganics", "settings"]
+    assert settings == {"nondetect_rule": "zero", "percentile_method": "epa_lcr"}

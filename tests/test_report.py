@@ -1,5 +1,6 @@
 """The site summary report (tracescreen.report): tables, workbook read-back, site selection, errors."""
 
+import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
@@ -10,7 +11,7 @@ from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 
 SHEETS = ["caution", "scope", "files", "limit_tables", "limit_entries", "status_matrix", "exceedances",
-          "summary", "trends", "retest", "rejected", "method_notes"]
+          "summary", "exceedance_rates", "trends", "retest", "rejected", "method_notes"]
 
 
 def _sheet(path, name) -> pd.DataFrame:
@@ -34,6 +35,20 @@ def test_workbook_rows_equal_screen_csv(demo_report, demo_screen_dir, name):
     assert list(sheet.columns) == list(csv.columns)
     assert len(sheet) == len(csv)
     pd.testing.assert_frame_equal(sheet.reset_index(drop=True), csv.reset_index(drop=True), check_dtype=False)
+
+
+@pytest.mark.parametrize("name, csv_name", [("summary", "summary"), ("trends", "trends"),
+                                            ("exceedance_rates", "exceedances")])
+def test_workbook_statistics_equal_screen_csv(demo_report, demo_screen_dir, name, csv_name):
+    """The workbook's summary, trends and exceedance-rate sheets equal summary.csv, trends.csv, exceedances.csv."""
+    csv = pd.read_csv(demo_screen_dir / f"{csv_name}.csv")
+    sheet = _sheet(demo_report["xlsx"], name)
+    assert list(sheet.columns) == list(csv.columns) and len(sheet) == len(csv) > 0
+    for c in csv.columns:
+        if pd.api.types.is_numeric_dtype(csv[c]):
+            np.testing.assert_allclose(sheet[c].astype(float), csv[c], rtol=1e-12, err_msg=c)
+        else:
+            assert (sheet[c].fillna("").astype(str) == csv[c].fillna("").astype(str)).all(), c
 
 
 def test_workbook_exceedances_equal_screening_csv(demo_report, demo_screen_dir):

@@ -29,3 +29,26 @@ def plain_text(df: pd.DataFrame, columns=None) -> pd.DataFrame:
             vals[~ok] = ""
             out[c] = pd.Series(vals, index=out.index, dtype=object)
     return out
+
+
+def replace_at(col: pd.Series, positions: np.ndarray, values):
+    """Values of ``col`` with ``values`` put at ``positions``, ready to assign as a column.
+
+    A categorical column stays categorical (its categories are extended by new values); a text
+    column stays text; a numeric column comes back as a numpy array.
+    """
+    positions = np.asarray(positions, dtype=np.int64)
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        vals = pd.Index(np.asarray(values, dtype=object)).astype(str)
+        cats = col.cat.categories
+        categories = cats.append(pd.Index(vals.unique()).difference(cats))
+        codes = col.cat.codes.to_numpy().astype(np.int64)  # room for new categories
+        codes[positions] = categories.get_indexer(vals)
+        return pd.Categorical.from_codes(codes, categories=categories, ordered=col.cat.ordered)
+    if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
+        arr = col.to_numpy(dtype=object, copy=True)
+        arr[positions] = np.asarray(values, dtype=object)
+        return pd.array(arr, dtype=col.dtype)
+    arr = col.to_numpy(copy=True)
+    arr[positions] = values
+    return arr

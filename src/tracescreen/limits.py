@@ -206,6 +206,23 @@ def _extra_entry_keys() -> tuple[str, ...]:
 
 #: Extra entry keys allowed by registered bases (e.g. ``percentile``); modules append here.
 EXTRA_ENTRY_KEYS: list[str] = []
+#: Checks run on each loaded table, ``check(table, rows, file_name)``, raising LimitTableError;
+#: modules that add bases or settings append theirs here.
+TABLE_CHECKS: list = []
+
+
+def _value_texts(text: str) -> list[str | None]:
+    """Each entry's ``value`` exactly as written (``0.010`` keeps its trailing zero), by entry position."""
+    try:
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except yaml.YAMLError:
+        return []
+    entries = next((v for k, v in getattr(root, "value", []) if getattr(k, "value", None) == "entries"), None)
+    texts = []
+    for node in getattr(entries, "value", []) or []:
+        pairs = node.value if isinstance(node, yaml.MappingNode) else []
+        texts.append(next((v.value for k, v in pairs if k.value == "value" and isinstance(v, yaml.ScalarNode)), None))
+    return texts
 
 
 def _check_overlaps(entries: pd.DataFrame, name: str) -> None:
@@ -271,11 +288,15 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
              "notes": str(data.get("notes") or "").strip(), "path": str(p), "settings": settings}
     tctx = {"id": table["table_id"], "use": table["use"], "source": table["source"]}
     rows = []
+    texts = _value_texts(p.read_text(encoding="utf-8"))
     for i, e in enumerate(data["entries"], start=1):
         r = _parse_entry(e, i, name, tctx, factor)
         r["entry_id"] = f"{table['table_id']}:{i}"
+        r["value_text"] = texts[i - 1] if i <= len(texts) else None
         rows.append(r)
     _check_overlaps(pd.DataFrame(rows), name)
+    for check in TABLE_CHECKS:
+        check(table, rows, name)
     return table, rows
 
 
@@ -329,3 +350,7 @@ def evaluate(entries: pd.DataFrame, hardness_mg_L) -> np.ndarray:
         hardness_mg_L, entries["hardness_min"].to_numpy(float), entries["hardness_max"].to_numpy(float),
     ) * entries["unit_factor"].to_numpy(float)
     return np.where(is_formula(entries), formula, fixed)
+
+
+# Modules that add bases, entry keys and settings register them on import.
+from . import decision, periods  # noqa: E402,F401

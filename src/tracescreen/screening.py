@@ -32,6 +32,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from . import decision, periods
 from . import limits as limits_mod
 from .hardness import sample_hardness
 from .sites import site_uses
@@ -45,7 +46,7 @@ SCREENING_COLUMNS = [
     "detected", "detection_limit_ug_L", "qualifier", "sample_type", "hardness_used_mg_L",
     "hardness_origin", "limit_table", "use", "duration", "basis", "limit_ug_L", "ratio", "status",
     "source", "note", "entry_id", "lab", "batch", "parent_sample_id", "analysed_at", "uncertainty_ug_L",
-    "file", "sheet", "row",
+    "file", "sheet", "row", "compared_value_ug_L", "period_id", "period_value_ug_L",
 ]
 
 
@@ -72,12 +73,12 @@ def _codes(values: pd.Series, categories: pd.Index) -> np.ndarray:
 
 def applicable_pairs(results: pd.DataFrame, limits: limits_mod.LimitSet,
                      sites: pd.DataFrame | None) -> tuple[np.ndarray, np.ndarray]:
-    """Result positions and entry positions of every (result, single-sample entry) candidate pair.
+    """Result positions and entry positions of every (result, entry) candidate pair.
 
     Candidates share site use, analyte and fraction; dates are checked by :func:`screen`.
     """
     entries = limits.entries
-    e_ok = (entries["basis"] == "single_sample").to_numpy()
+    e_ok = np.ones(len(entries), dtype=bool)  # every basis; period bases are decided by periods.py
     site_code, site_cat = pd.factorize(results["site_id"])
     ana_code, ana_cat = pd.factorize(results["analyte"])
     fr_code, fr_cat = pd.factorize(results["fraction"])
@@ -200,6 +201,11 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
                                                categories=list(STATUSES))
     cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds)
     out = pd.DataFrame(cols)
+    out["compared_value_ug_L"] = np.nan
+    out["period_id"] = ""
+    out["period_value_ug_L"] = np.nan
+    out = decision.apply_rounding(out, limits)  # tables that compare after rounding
+    out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
     return out[SCREENING_COLUMNS]
 
 
@@ -269,9 +275,19 @@ def entry_attribute(values: pd.Series, e_pos: np.ndarray) -> pd.Categorical:
 
 
 def worst_status(screened: pd.DataFrame, by: list[str]) -> pd.DataFrame:
-    """Most severe status per group (severity order :data:`STATUSES`), with the count of rows."""
-    rank = screened["status"].map(STATUS_RANK)
-    g = screened.assign(_rank=rank.astype(int)).groupby(by, observed=True, sort=True)
-    out = g["_rank"].agg(["min", "size"]).reset_index()
-    out["worst_status"] = np.asarray(STATUSES, dtype=object)[out["min"].to_numpy()]
-    return out.drop(columns="min").rename(columns={"size": "n_rows"})
+    """Most severe status per group (severity order :data:`STATUSES`), with the count of rows.
+
+    For an overview of a site with several uses, where every applicable table gives a row: group
+    by result (``["site_id", "sample_id", "analyte", "fraction"]``), by site and analyte, or by site.
+    ``worst_limit_table`` and ``worst_ratio`` come from the row that sets the worst status (the
+    highest ratio among rows of that status).
+    """
+    rank = screened["status"].map(STATUS_RANK).astype(int)
+    ratio = screened["ratio"] if "ratio" in screened else pd.Series(np.nan, index=screened.index)
+    ordered = screened.assign(_rank=rank, _ratio=ratio.fillna(-np.inf)).sort_values(
+        ["_rank", "_ratio"], ascending=[True, False], kind="stable")
+    g = ordered.groupby(by, observed=True, sort=True)
+    out = g.agg(_rank=("_rank", "first"), n_rows=("_rank", "size"),
+                worst_limit_table=("limit_table", "first"), worst_ratio=("ratio", "first")).reset_index()
+    out.insert(len(by), "worst_status", np.asarray(STATUSES, dtype=object)[out.pop("_rank").to_numpy()])
+    return out

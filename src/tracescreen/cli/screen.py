@@ -6,6 +6,8 @@ import argparse
 from pathlib import Path
 
 from .. import outputs
+from ..decision import uncertainty_decision
+from ..periods import period_table
 from ..screening import STATUSES, screen
 from ..retest import retest_list
 from . import UserError
@@ -23,6 +25,10 @@ def register(sub) -> None:
     add_data_options(p)
     add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
+    p.add_argument("--guard-band", type=float, metavar="F",
+                   help="measurement-uncertainty decision rule (Eurachem/CITAC guide on compliance "
+                        "assessment): guard band g = F x the result's expanded uncertainty; reports beside "
+                        "each status whether the decision holds beyond g (e.g. 1 for g = U)")
     add_retest_options(p)
     p.set_defaults(func=run)
 
@@ -34,6 +40,10 @@ def run(args) -> int:
         warn("no --sites file: every limit table applies to every site")
     loaded = inputs.loaded
     screened = screen(loaded.accepted, inputs.limits, inputs.sites)
+    if args.guard_band is not None:
+        if not args.guard_band >= 0:
+            raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
+        screened = uncertainty_decision(screened, args.guard_band)
     out = Path(args.out)
     written = {
         "screening": outputs.write_csv(screened, out / "screening.csv"),
@@ -46,6 +56,9 @@ def run(args) -> int:
     extra = run_extra_outputs(args, inputs, screened, out)
     written.update(extra)
     print_summary(loaded, screened)
+    if args.guard_band is not None:
+        print(f"Uncertainty decision rule: guard band g = {args.guard_band:g} x expanded uncertainty U "
+              "(Eurachem/CITAC 2021); column uncertainty_decision")
     print(f"Retest flags: {len(retest)} rows" + "".join(
         f"\n  {r:<28} {n}" for r, n in retest["reason"].value_counts(sort=False).items()))
     print("\nOutputs:")
@@ -66,6 +79,7 @@ def limit_tables_table(limits):
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
     extra = write_statistics(args, inputs.loaded.accepted, screened, out)
+    extra["periods"] = outputs.write_csv(period_table(screened, inputs.limits), out / "periods.csv")
     return extra
 
 

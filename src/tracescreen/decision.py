@@ -1,0 +1,220 @@
+"""Decision conventions applied when comparing a result with a limit.
+
+Two conventions that real limits carry beside their values:
+
+Rounding (a table setting, ``rounding: significant_figures``)
+    The result is rounded to the limit's number of significant figures before the comparison, as
+    some regulators do ("0.0104 mg/L reported against an MCL of 0.010 mg/L is 0.010 and meets it").
+    Rounding is to the decimal place of the limit's last significant digit, halves rounded up; for
+    a result of the limit's order of magnitude this is the same as rounding the result to the
+    limit's significant figures, and for any other result the decision is the same. The number of
+    significant figures is the entry's ``significant_figures`` key, or counted from the value as
+    written in the table (``0.010`` has 2, ``10`` has 2, ``0.01`` has 1). For a hardness-formula
+    entry the computed criterion is rounded to ``significant_figures`` too (published criteria are
+    rounded to two significant figures, 40 CFR 132 Tables 1-2 footnote b).
+
+Measurement uncertainty (a per-run option, :func:`uncertainty_decision`)
+    Following the Eurachem/CITAC guide, a guard band g = f x U (U the result's expanded
+    uncertainty, f stated by the user, 1 by default) splits each side of the limit into a zone where
+    the decision holds beyond the uncertainty and a zone where it does not:
+    ``exceeds_beyond_uncertainty`` (x - g > L), ``exceeds_within_uncertainty`` (L < x <= L + g),
+    ``meets_within_uncertainty`` (L - g < x <= L), ``meets_beyond_uncertainty`` (x + g <= L).
+
+References
+----------
+.. [1] Bettencourt da Silva, R. and Williams, A. (eds.) (2021). Eurachem/CITAC Guide: Use of
+   uncertainty information in compliance assessment, 2nd ed. Eurachem. ISBN 978-0-948926-38-9.
+.. [2] 40 CFR part 132, Tables 1 and 2, footnote b: "The CMCd shall be rounded to two significant
+   digits" (criteria rounding).
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pandas as pd
+
+from . import limits as _limits
+from .frames import replace_at
+
+#: Relative tolerance of "equal" (same as screening; binary floating point cannot make an equal
+#: value exceed).
+REL_TOL = 1e-9
+
+ROUNDING_CHOICES = ("none", "significant_figures")
+
+UNCERTAINTY_DECISIONS = (
+    "exceeds_beyond_uncertainty", "exceeds_within_uncertainty", "meets_within_uncertainty",
+    "meets_beyond_uncertainty", "uncertainty_not_given",
+)
+
+_NUMBER = re.compile(r"^[+-]?(\d*)(?:\.(\d*))?(?:[eE][+-]?\d+)?$")
+
+
+def check_table(table: dict, rows: list[dict], name: str) -> None:
+    """Load-time check of ``significant_figures`` (a whole number >= 1) on each entry."""
+    for i, r in enumerate(rows, start=1):
+        s = r.get("significant_figures")
+        if s is not None and (isinstance(s, bool) or not isinstance(s, int) or s < 1):
+            raise _limits.LimitTableError(
+                f"{name}: entry {i} ({r['analyte']}): key 'significant_figures': '{s}' must be a whole number >= 1")
+
+
+_limits.SETTINGS["rounding"] = ROUNDING_CHOICES
+_limits.EXTRA_ENTRY_KEYS.append("significant_figures")
+_limits.TABLE_CHECKS.append(check_table)
+
+
+def significant_figures(text) -> float:
+    """Significant figures of a number as written (NaN if the text is not a plain number).
+
+    Leading zeros are not significant; every digit after the first non-zero one is, including
+    trailing zeros (``0.010`` -> 2, ``50`` -> 2, ``1.30`` -> 3, ``2`` -> 1, ``1e-3`` -> 1).
+    """
+    if text is None:
+        return np.nan
+    m = _NUMBER.match(str(text).strip())
+    if not m or not (m.group(1) or m.group(2)):
+        return np.nan
+    digits = (m.group(1) or "") + (m.group(2) or "")
+    stripped = digits.lstrip("0")
+    return float(len(stripped)) if stripped else 1.0
+
+
+def _half_up(x: np.ndarray) -> np.ndarray:
+    # round(., 9) first so that 10.499999999999998 (binary for 10.5) rounds as 10.5 does
+    return np.floor(np.round(x, 9) + 0.5)
+
+
+def round_to_limit_figures(value_ug_L, limit_ug_L, sig_figs) -> np.ndarray:
+    """Round results to the decimal place of the limit's last significant digit (halves up).
+
+    Parameters
+    ----------
+    value_ug_L : array-like
+        Results (or detection limits) [µg/L], >= 0.
+    limit_ug_L : array-like
+        Limits [µg/L], > 0.
+    sig_figs : array-like
+        Significant figures of each limit; NaN leaves the value unrounded.
+
+    Returns
+    -------
+    numpy.ndarray
+        Rounded values [µg/L].
+    """
+    v = np.asarray(value_ug_L, dtype=float)
+    lim = np.asarray(limit_ug_L, dtype=float)
+    s = np.asarray(sig_figs, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        exponent = np.floor(np.log10(lim * (1 + 1e-12))) - s + 1
+        quantum = 10.0 ** exponent
+        rounded = _half_up(v / quantum) * quantum
+    return np.where(np.isfinite(rounded) & (lim > 0), rounded, v)
+
+
+def round_significant(x, sig_figs) -> np.ndarray:
+    """Round to `sig_figs` significant figures, halves up (NaN sig_figs leaves x as is)."""
+    x = np.asarray(x, dtype=float)
+    return round_to_limit_figures(x, x, sig_figs)
+
+
+def table_rounding(tables: pd.DataFrame) -> dict[str, bool]:
+    """table_id -> whether the table's settings ask for rounding to significant figures."""
+    return {t: (s or {}).get("rounding", "none") == "significant_figures"
+            for t, s in zip(tables["table_id"], tables["settings"])}
+
+
+def entry_significant_figures(entries: pd.DataFrame) -> np.ndarray:
+    """Significant figures per entry: the ``significant_figures`` key, else counted from the value text."""
+    n = len(entries)
+    given = entries["significant_figures"].to_numpy(dtype=float) if "significant_figures" in entries else np.full(n, np.nan)
+    text = entries["value_text"] if "value_text" in entries else pd.Series([None] * n)
+    counted = np.array([significant_figures(t) for t in text], dtype=float)  # one per table entry
+    return np.where(np.isnan(given), counted, given)
+
+
+def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
+    """Re-decide single-sample rows of tables with ``rounding: significant_figures``.
+
+    Adds ``compared_value_ug_L`` (the rounded result, or detection limit for a non-detect) where
+    rounding applies; formula criteria of those tables are rounded to the entry's significant
+    figures first. Other rows are unchanged.
+    """
+    rounding = table_rounding(limits.tables)
+    out = screened
+    if "compared_value_ug_L" not in out:
+        out = out.assign(compared_value_ug_L=np.nan)
+    on = (out["limit_table"].isin([t for t, r in rounding.items() if r]).to_numpy()
+          & (out["basis"] == "single_sample").to_numpy() & out["limit_ug_L"].notna().to_numpy())
+    if not on.any():
+        return out
+    ents = limits.entries.set_index("entry_id")
+    sig = pd.Series(entry_significant_figures(limits.entries), index=limits.entries["entry_id"])
+    idx = np.flatnonzero(on)
+    rows = out.iloc[idx]
+    s = sig.reindex(rows["entry_id"]).to_numpy(dtype=float)
+    formula = ~np.isnan(ents["hf_m"].reindex(rows["entry_id"]).to_numpy(dtype=float))
+    limit = rows["limit_ug_L"].to_numpy(dtype=float)
+    limit = np.where(formula, round_significant(limit, s), limit)
+    det = rows["detected"].to_numpy(dtype=bool)
+    raw = np.where(det, rows["value_ug_L"].to_numpy(float), rows["detection_limit_ug_L"].to_numpy(float))
+    cmp = round_to_limit_figures(raw, limit, s)
+    from .screening import classify  # here: screening calls this module
+
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = cmp / limit
+    note = rows["note"].astype(str).to_numpy(dtype=object)
+    msg = np.where(np.isnan(s), "", "compared after rounding to " + pd.Series(s).fillna(0).astype(int).astype(str).to_numpy()
+                   + " significant figures").astype(object)
+    note = np.where(note == "", msg, np.where(msg == "", note, note + "; " + msg))
+    return out.assign(
+        limit_ug_L=replace_at(out["limit_ug_L"], idx, limit),
+        compared_value_ug_L=replace_at(out["compared_value_ug_L"], idx, cmp),
+        status=replace_at(out["status"], idx, classify(det, cmp, cmp, limit)),
+        ratio=replace_at(out["ratio"], idx, ratio),
+        note=replace_at(out["note"], idx, note),
+    )
+
+
+def uncertainty_decision(screened: pd.DataFrame, guard_band_factor: float = 1.0) -> pd.DataFrame:
+    """Add ``guard_band_ug_L`` and ``uncertainty_decision`` beside each detected result's status.
+
+    Parameters
+    ----------
+    screened : DataFrame
+        Screening rows (needs ``detected, value_ug_L, limit_ug_L, uncertainty_ug_L, basis``).
+    guard_band_factor : float
+        f in g = f x U, U the expanded uncertainty as reported (usually k = 2, about 95 %).
+
+    Returns
+    -------
+    DataFrame
+        A copy with the two columns; rows that are non-detects, period statistics or without a
+        limit get an empty decision (not applicable).
+
+    References
+    ----------
+    .. [1] Eurachem/CITAC Guide: Use of uncertainty information in compliance assessment, 2nd ed.
+       (2021), decision rules with a guard band.
+    """
+    if not np.isfinite(guard_band_factor) or guard_band_factor < 0:
+        raise ValueError("the guard band factor must be a number >= 0")
+    x = screened["value_ug_L"].to_numpy(dtype=float)
+    lim = screened["limit_ug_L"].to_numpy(dtype=float)
+    g = guard_band_factor * screened["uncertainty_ug_L"].to_numpy(dtype=float)
+    applies = (screened["detected"].to_numpy(dtype=bool) & ~np.isnan(lim)
+               & (screened["basis"] == "single_sample").to_numpy())
+    tol = lim * REL_TOL
+    with np.errstate(invalid="ignore"):
+        decision = np.select(
+            [np.isnan(g), x - g > lim + tol, x > lim + tol, x + g <= lim + tol],
+            ["uncertainty_not_given", "exceeds_beyond_uncertainty", "exceeds_within_uncertainty",
+             "meets_beyond_uncertainty"],
+            "meets_within_uncertainty").astype(object)
+    decision[~applies] = ""
+    out = screened.copy()
+    out["guard_band_ug_L"] = np.where(applies, g, np.nan)
+    out["uncertainty_decision"] = decision
+    return out

@@ -1,0 +1,505 @@
+"""Limits that apply to a statistic over time: running annual means and period percentiles.
+
+Some limits are not compared with each result but with a statistic of a site's results:
+
+``basis: running_annual_mean``
+    The mean of the site's results (same analyte and fraction) in the 12 months ending at each
+    sample: sampled on a day d with ``sample day - 12 months < d <= sample day``. Each result gets
+    the mean of its window (e.g. US EPA inorganic MCLs, 40 CFR 141.23(i)).
+``basis: percentile``
+    A percentile of the site's results in each monitoring period (``period``: calendar_year,
+    half_year, quarter, month), with ``percentile`` (e.g. 90) and ``percentile_method`` (e.g. the
+    US EPA lead and copper action levels, 40 CFR 141.80(c)). Every result of the period gets the
+    period's value; the limit in force on the period's last sample date applies.
+
+How non-detects enter the statistic is the table setting ``nondetect_rule``: ``zero``, ``half_dl``
+(half the detection limit), ``dl`` (the detection limit) or ``kaplan_meier`` (Kaplan-Meier mean or
+quantile with the Efron correction, :func:`tracescreen.censored.kaplan_meier_grouped`). Whatever the
+rule, the statistic is also computed with non-detects at zero and at their detection limit; these bounds bracket the statistic of the true
+values, and a non-detect is never made into an exceedance:
+
+- ``exceeds``: the rule's value is above the limit and so is the value with non-detects at zero;
+- ``nondetect_inconclusive``: the rule's value is above the limit only because of non-detects, or
+  every result is a non-detect and a detection limit is above the limit;
+- ``meets``: the rule's value is at or below the limit (a note says when it would not be with
+  non-detects at their detection limit);
+- ``nondetect_meets``: every result is a non-detect, all detection limits at or below the limit.
+
+Percentile methods (:data:`PERCENTILE_METHODS`): ``epa_lcr`` (40 CFR 141.80(c)(3): rank the n
+results, take the one numbered 0.9 n, rounded to the nearest whole number; with exactly 5 results
+the mean of the two highest; with fewer, the highest), ``nearest_rank`` (smallest value with at
+least p % of results at or below it; Hyndman & Fan type 1), ``linear`` (type 7), ``hazen``
+(type 5), ``weibull`` (type 6).
+
+:func:`apply_period_statuses` replaces the status of screening rows whose entry has a period basis;
+:func:`period_table` gives one row per period value with the results that formed it
+(``periods.csv``).
+
+References
+----------
+.. [1] 40 CFR 141.23(i): compliance with inorganic MCLs on a running annual average; 40 CFR
+   141.80(c)(1)-(3): lead and copper action levels on the 90th percentile of a monitoring period.
+.. [2] Hyndman, R. J. and Fan, Y. (1996). Sample quantiles in statistical packages. The American
+   Statistician 50(4): 361-365.
+.. [3] Helsel, D. R. (2012). Statistics for Censored Environmental Data Using Minitab and R, 2nd ed.
+   Wiley (substitution bounds; Kaplan-Meier).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from . import decision
+from . import limits as limits_mod
+from .units import clean_decimal
+from .censored import kaplan_meier_grouped
+from .frames import replace_at
+
+PERIOD_BASES = ("running_annual_mean", "percentile")
+NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
+NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
+                       "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
+PERIODS = ("calendar_year", "half_year", "quarter", "month")
+#: method name -> numpy.quantile method (None: the rule's own procedure)
+PERCENTILE_METHODS = {"epa_lcr": None, "nearest_rank": "inverted_cdf", "linear": "linear",
+                      "hazen": "hazen", "weibull": "weibull"}
+WINDOW_MONTHS = 12
+
+PERIOD_COLUMNS = [
+    "period_id", "limit_table", "use", "site_id", "analyte", "fraction", "basis", "duration", "statistic",
+    "period", "period_start", "period_end", "n_results", "n_nondetects", "nondetect_rule", "value_ug_L",
+    "value_nondetects_zero_ug_L", "value_nondetects_at_dl_ug_L", "limit_ug_L", "ratio", "status", "note",
+    "source", "results",
+]
+
+limits_mod.BASES["running_annual_mean"] = "mean of the site's results in the 12 months ending at each sample"
+limits_mod.BASES["percentile"] = "percentile of the site's results in each monitoring period"
+limits_mod.EXTRA_ENTRY_KEYS.extend(["percentile", "period", "percentile_method"])
+limits_mod.SETTINGS["nondetect_rule"] = NONDETECT_RULES
+limits_mod.SETTINGS["percentile_method"] = tuple(PERCENTILE_METHODS)
+
+
+def check_table(table: dict, rows: list[dict], name: str) -> None:
+    """Load-time checks of the period keys of one table (raises LimitTableError naming entry and key)."""
+    settings = table.get("settings") or {}
+    for i, r in enumerate(rows, start=1):
+        label = f"{name}: entry {i} ({r['analyte']})"
+        basis = r["basis"]
+        if basis in PERIOD_BASES and "nondetect_rule" not in settings:
+            raise limits_mod.LimitTableError(
+                f"{label}: basis '{basis}' needs the table setting 'nondetect_rule' "
+                f"(settings: {{nondetect_rule: {' | '.join(NONDETECT_RULES)}}})")
+        given = [k for k in ("percentile", "period", "percentile_method") if r.get(k) is not None]
+        if basis != "percentile":
+            if given:
+                raise limits_mod.LimitTableError(f"{label}: key '{given[0]}' only applies with basis 'percentile'")
+            continue
+        p = r.get("percentile")
+        if isinstance(p, bool) or not isinstance(p, (int, float)) or not 0 < p < 100:
+            raise limits_mod.LimitTableError(f"{label}: key 'percentile': needs a number between 0 and 100 (e.g. 90)")
+        if r.get("period") not in PERIODS:
+            raise limits_mod.LimitTableError(f"{label}: key 'period': '{r.get('period')}' is not one of {', '.join(PERIODS)}")
+        method = r.get("percentile_method") or settings.get("percentile_method")
+        if method not in PERCENTILE_METHODS:
+            raise limits_mod.LimitTableError(
+                f"{label}: key 'percentile_method': state one of {', '.join(PERCENTILE_METHODS)} "
+                f"(on the entry or in the table settings)")
+        if method == "epa_lcr" and float(p) != 90.0:
+            raise limits_mod.LimitTableError(f"{label}: key 'percentile_method': epa_lcr is defined for the 90th percentile only")
+
+
+limits_mod.TABLE_CHECKS.append(check_table)
+
+
+# --- statistics --------------------------------------------------------------------------------
+
+def substitute(value_ug_L, detection_limit_ug_L, detected, rule: str) -> np.ndarray:
+    """Values with non-detects replaced by 0, DL/2 or DL (``rule``; kaplan_meier uses DL here)."""
+    dl = np.asarray(detection_limit_ug_L, dtype=float)
+    nd_value = {"zero": np.zeros_like(dl), "half_dl": dl / 2.0}.get(rule, dl)
+    return np.where(np.asarray(detected, dtype=bool), np.asarray(value_ug_L, dtype=float), nd_value)
+
+
+def group_percentiles(values, group, p, method) -> np.ndarray:
+    """Percentile of `values` within each group, vectorised over groups.
+
+    Parameters
+    ----------
+    values : array of float
+        Concentrations [µg/L].
+    group : array of int
+        Group number 0..G-1 of each value (every group non-empty).
+    p : array of float
+        Percentile (0-100) per group.
+    method : array of str
+        Method per group (:data:`PERCENTILE_METHODS`).
+
+    Returns
+    -------
+    numpy.ndarray
+        One value per group; NaN for a group holding a NaN.
+    """
+    v_all = np.asarray(values, dtype=float)
+    g_all = np.asarray(group, dtype=np.int64)
+    order = np.lexsort((v_all, g_all))
+    v = v_all[order]
+    n_groups = int(g_all.max()) + 1 if g_all.size else 0
+    n = np.bincount(g_all, minlength=n_groups)
+    start = np.concatenate([[0], np.cumsum(n)[:-1]])
+    q = np.asarray(p, dtype=float) / 100.0
+    meth = np.asarray(method, dtype=object)
+    out = np.full(n_groups, np.nan)
+
+    def at(i):  # value at 0-based position i of each group
+        return v[start + np.clip(i, 0, n - 1)]
+
+    def interpolate(h):  # h: 0-based fractional position
+        h = np.clip(h, 0.0, n - 1.0)
+        lo = np.floor(h + 1e-9).astype(np.int64)
+        return at(lo) + (h - lo) * (at(lo + 1) - at(lo))
+
+    candidates = {
+        "epa_lcr": lambda: np.where(n < 5, at(n - 1), np.where(
+            n == 5, (at(n - 1) + at(n - 2)) / 2.0, at(np.floor(q * n + 0.5 + 1e-9).astype(np.int64) - 1))),
+        "nearest_rank": lambda: at(np.ceil(q * n - 1e-9).astype(np.int64) - 1),
+        "linear": lambda: interpolate((n - 1) * q),
+        "hazen": lambda: interpolate(n * q + 0.5 - 1.0),
+        "weibull": lambda: interpolate((n + 1) * q - 1.0),
+    }
+    for name in set(meth.tolist()):
+        m = meth == name
+        out[m] = candidates[name]()[m]
+    has_nan = np.bincount(g_all, weights=np.isnan(v_all).astype(float), minlength=n_groups) > 0
+    out[has_nan] = np.nan
+    return out
+
+
+def percentile(values, p: float, method: str) -> float:
+    """The p-th percentile (0 < p < 100) of one sample of values by a named method (see module doc)."""
+    values = np.asarray(values, dtype=float)
+    if values.size == 0:
+        return float("nan")
+    return float(group_percentiles(values, np.zeros(values.size, dtype=np.int64), [p], [method])[0])
+
+
+def period_bounds(sampled_at: pd.Series, period: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Label, first day and last day of the monitoring period of each date (vectorised)."""
+    t = pd.DatetimeIndex(sampled_at)
+    year = t.year.to_numpy()
+    ytxt = pd.Index(year.astype(str))
+    if period == "calendar_year":
+        first_month, months, label = np.ones_like(year), 12, ytxt
+    elif period == "half_year":
+        half = (t.month.to_numpy() - 1) // 6
+        first_month, months, label = half * 6 + 1, 6, ytxt + "-H" + pd.Index((half + 1).astype(str))
+    elif period == "quarter":
+        qtr = (t.month.to_numpy() - 1) // 3
+        first_month, months, label = qtr * 3 + 1, 3, ytxt + "-Q" + pd.Index((qtr + 1).astype(str))
+    elif period == "month":
+        first_month, months, label = t.month.to_numpy(), 1, pd.Index(t.strftime("%Y-%m"))
+    else:
+        raise ValueError(f"unknown period {period!r}")
+    start = pd.to_datetime(pd.DataFrame({"year": year, "month": first_month, "day": 1}))
+    end = start + pd.DateOffset(months=months) - pd.Timedelta(days=1)
+    return label.to_numpy(dtype=object), start.to_numpy(), end.to_numpy()
+
+
+def running_windows(series_code: np.ndarray, sampled_at, months: int = WINDOW_MONTHS):
+    """Window [start, stop) of each row: same series, day in (day - months, day]. Rows sorted by (series, date)."""
+    t = pd.DatetimeIndex(sampled_at)
+    day = t.to_numpy(dtype="datetime64[D]").astype(np.int64)
+    first = (t - pd.DateOffset(months=months)).to_numpy(dtype="datetime64[D]").astype(np.int64)
+    base = day.min() if day.size else 0
+    span = (day.max() - base if day.size else 0) + 800
+    code = np.asarray(series_code, dtype=np.int64) * span
+    key = code + (day - base + 400)
+    stop = np.searchsorted(key, key, side="right")
+    start = np.searchsorted(key, code + (first - base + 400), side="right")
+    return start, stop
+
+
+def _window_sums(x: np.ndarray, start: np.ndarray, stop: np.ndarray) -> np.ndarray:
+    cs = np.concatenate([[0.0], np.cumsum(x)])
+    return cs[stop] - cs[start]
+
+
+def _fmt(x) -> np.ndarray:
+    return np.char.mod("%.4g", np.asarray(x, dtype=float)).astype(object)
+
+
+def _decide(value, lower, upper, all_nd, limit, sig, rounding_on, rule):
+    """Statuses and notes of period values (vectorised; see module doc)."""
+    v, lo, up, lim = (np.asarray(a, dtype=float) for a in (value, lower, upper, limit))
+    if rounding_on.any():
+        v, lo, up = (np.where(rounding_on, decision.round_to_limit_figures(a, lim, sig), a) for a in (v, lo, up))
+    bound = lim * (1.0 + decision.REL_TOL)
+    with np.errstate(invalid="ignore"):
+        over, lo_over, up_over = v > bound, lo > bound, up > bound
+    status = np.select(
+        [np.isnan(lim), all_nd & up_over, all_nd, np.isnan(v), over & lo_over, over],
+        ["no_limit", "nondetect_inconclusive", "nondetect_meets", "no_limit", "exceeds", "nondetect_inconclusive"],
+        "meets").astype(object)
+    note = np.full(v.size, "", dtype=object)
+    mixed = ~all_nd & ~np.isnan(v) & ~np.isnan(lim)
+    m1 = mixed & over & ~lo_over
+    m2 = mixed & ~over & up_over
+    note[m1] = "above the limit only because of non-detects (" + _fmt(lo[m1]) + " with non-detects as zero): cannot decide"
+    note[m2] = ("meets with " + np.array([NONDETECT_RULE_TEXT[r] for r in np.asarray(rule)[m2]], dtype=object)
+                + "; " + _fmt(up[m2]) + " with non-detects at the detection limit")
+    return status, note
+
+
+def _join(a: np.ndarray, sep: str, b: np.ndarray) -> np.ndarray:
+    """a + sep + b element-wise, leaving out sep where either side is empty."""
+    a, b = np.asarray(a, dtype=object), np.asarray(b, dtype=object)
+    return np.where(a == "", b, np.where(b == "", a, a + sep + b))
+
+
+_ROW_COLUMNS = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "value_ug_L", "detected",
+                "detection_limit_ug_L", "limit_table", "duration", "basis", "limit_ug_L", "entry_id"]
+
+
+def _entry_params(rows: dict, limits) -> dict[str, np.ndarray]:
+    """Per row: non-detect rule, rounding, significant figures, percentile, period and method of its entry/table."""
+    tables = limits.tables
+    settings = {t: (s or {}) for t, s in zip(tables["table_id"], tables["settings"])}
+    tcode, tcat = pd.factorize(rows["limit_table"])
+    ecode, ecat = pd.factorize(rows["entry_id"])
+    ents = limits.entries.set_index("entry_id").reindex(ecat)
+    sig = pd.Series(decision.entry_significant_figures(limits.entries), index=limits.entries["entry_id"]).reindex(ecat)
+
+    def per_table(f):
+        return np.array([f(settings.get(t, {})) for t in tcat], dtype=object)[tcode]
+
+    def per_entry(k):
+        return ents[k].to_numpy(dtype=object)[ecode] if k in ents else np.full(ecode.size, None, dtype=object)
+
+    method = per_entry("percentile_method")
+    default_method = per_table(lambda s: s.get("percentile_method"))
+    return {
+        "rule": per_table(lambda s: s.get("nondetect_rule", "dl")),
+        "rounding": per_table(lambda s: s.get("rounding", "none") == "significant_figures").astype(bool),
+        "source": np.array([tables.set_index("table_id")["source"].get(t, "") for t in tcat], dtype=object)[tcode],
+        "use": np.array([tables.set_index("table_id")["use"].get(t, "") for t in tcat], dtype=object)[tcode],
+        "sig": sig.to_numpy(dtype=float)[ecode],
+        "percentile": pd.to_numeric(pd.Series(per_entry("percentile")), errors="coerce").to_numpy(dtype=float),
+        "period": per_entry("period"),
+        "percentile_method": np.where(pd.isna(method), default_method, method),
+    }
+
+
+def _describe(rows: dict) -> np.ndarray:
+    """'sample_id (YYYY-MM-DD): result_text' per row, for listing the results behind a value."""
+    day = pd.DatetimeIndex(rows["sampled_at"]).strftime("%Y-%m-%d").to_numpy(dtype=object)
+    return rows["sample_id"].astype(str).astype(object) + " (" + day + "): " + rows["result_text"].astype(str).astype(object)
+
+
+def _take(rows: dict, idx: np.ndarray) -> dict:
+    return {k: v[idx] for k, v in rows.items()}
+
+
+def _joined(rows: dict, start: np.ndarray, stop: np.ndarray) -> list[str]:
+    """The results rows[start:stop] described and joined with '; ', for each (start, stop)."""
+    d = _describe(rows)
+    return ["; ".join(d[s:e]) for s, e in zip(start, stop)]
+
+
+def _series_codes(rows: dict, extra: np.ndarray | None = None) -> np.ndarray:
+    """One integer per (table, duration, site, analyte, fraction[, extra]) series (mixed radix)."""
+    cols = [rows[k] for k in ("limit_table", "duration", "site_id", "analyte", "fraction")]
+    key = np.zeros(len(cols[0]), dtype=np.int64)
+    for c in cols + ([extra] if extra is not None else []):
+        codes, cats = pd.factorize(c)
+        key = key * max(len(cats), 1) + codes
+    return key
+
+
+def _values_at(col: pd.Series, pos: np.ndarray) -> np.ndarray:
+    """Values of a column at positions as numpy (text as object), decoding categoricals by code."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        cats = np.append(np.asarray(col.cat.categories.astype(object), dtype=object), "")
+        return cats[col.cat.codes.to_numpy()[pos]]  # code -1 (missing) -> ""
+    if pd.api.types.is_string_dtype(col.dtype):
+        return col.to_numpy(dtype=object)[pos]
+    return col.to_numpy()[pos]
+
+
+def evaluate(screened: pd.DataFrame, limits, with_results: bool = False) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """Period statistics for the screening rows whose entry has a period basis.
+
+    Parameters
+    ----------
+    screened : DataFrame
+        Screening rows (:func:`tracescreen.screening.screen` columns).
+    limits : LimitSet
+        The limit tables the rows were screened against (settings and entry keys).
+    with_results : bool
+        Also list, per period value, the results that formed it (slower; for ``periods.csv``).
+
+    Returns
+    -------
+    (per_row, periods)
+        ``per_row``: for the period rows (index: their positions in `screened`) ``status, ratio,
+        note, period_id, period_value_ug_L``. ``periods``: :data:`PERIOD_COLUMNS`, one row per value.
+    """
+    is_period = screened["basis"].isin(PERIOD_BASES).to_numpy() & (screened["sample_type"] == "sample").to_numpy()
+    pos = np.flatnonzero(is_period)
+    if pos.size == 0:
+        return (pd.DataFrame(columns=["status", "ratio", "note", "period_id", "period_value_ug_L"]),
+                pd.DataFrame(columns=PERIOD_COLUMNS))
+    rows = {c: _values_at(screened[c], pos) for c in _ROW_COLUMNS}
+    par = _entry_params(rows, limits)
+    per_rows, tables = [], []
+    for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles)):
+        sel = np.flatnonzero(rows["basis"] == basis)
+        if sel.size:
+            r, t = fn(_take(rows, sel), _take(par, sel), with_results)
+            r.index = pos[sel][r.index.to_numpy()]
+            r["period_no"] += sum(len(x) for x in tables)
+            per_rows.append(r)
+            tables.append(t)
+    periods = pd.concat(tables, ignore_index=True)
+    periods["period_id"] = "P" + pd.Series(np.arange(1, len(periods) + 1)).astype(str).str.zfill(6)
+    for c in ("value_ug_L", "value_nondetects_zero_ug_L", "value_nondetects_at_dl_ug_L", "ratio"):
+        periods[c] = clean_decimal(periods[c].to_numpy(dtype=float))
+    per_row = pd.concat(per_rows).sort_index()
+    per_row["period_id"] = periods["period_id"].to_numpy()[per_row.pop("period_no").to_numpy()]
+    for c in ("ratio", "period_value_ug_L"):
+        per_row[c] = clean_decimal(per_row[c].to_numpy(dtype=float))
+    return per_row, periods[PERIOD_COLUMNS]
+
+
+def _running_means(rows: pd.DataFrame, par: dict, with_results: bool):
+    code = _series_codes(rows)
+    order = np.lexsort((rows["sampled_at"].astype("datetime64[ns]"), code))
+    code, r, p = code[order], _take(rows, order), _take(par, order)
+    start, stop = running_windows(code, r["sampled_at"])
+    det = r["detected"].astype(bool)
+    val, dl = r["value_ug_L"].astype(float), r["detection_limit_ug_L"].astype(float)
+    n = (stop - start).astype(float)
+    n_nd = _window_sums((~det).astype(float), start, stop)
+    rule = p["rule"]
+    value = np.full(code.size, np.nan)
+    for name in ("zero", "half_dl", "dl"):
+        m = rule == name
+        if m.any():
+            value[m] = (_window_sums(substitute(val, dl, det, name), start, stop) / n)[m]
+    upper_values = substitute(val, dl, det, "dl")  # the censored-series convention: DL for a non-detect
+    lower = _window_sums(substitute(val, dl, det, "zero"), start, stop) / n
+    upper = _window_sums(upper_values, start, stop) / n
+    has_nan = _window_sums(np.isnan(upper_values).astype(float), start, stop) > 0
+    km = np.flatnonzero((rule == "kaplan_meier") & ~has_nan)
+    if km.size:  # every window as its own series (windows overlap), one vectorised pass
+        size = stop[km] - start[km]
+        take = np.repeat(start[km] - np.cumsum(size) + size, size) + np.arange(size.sum())
+        value[km] = kaplan_meier_grouped(upper_values[take], ~det[take], np.repeat(np.arange(km.size), size),
+                                         km.size, probs=())["mean"].to_numpy()
+    limit = r["limit_ug_L"].astype(float)
+    status, note = _decide(value, lower, upper, n_nd == n, limit, p["sig"], p["rounding"], rule)
+    day = pd.DatetimeIndex(r["sampled_at"]).normalize()
+    first_day = pd.Series(day).groupby(code).transform("min").to_numpy()
+    window_start = (day - pd.DateOffset(months=WINDOW_MONTHS) + pd.Timedelta(days=1)).to_numpy()
+    short = first_day > window_start
+    note = np.where(short, _join("less than 12 months of record", "; ", note), note)
+    rule_txt = np.array([NONDETECT_RULE_TEXT[x] for x in rule], dtype=object)
+    what = ("running annual mean " + _fmt(value) + " µg/L of " + n.astype(int).astype(str).astype(object)
+            + " results (" + rule_txt + ")")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = value / limit
+    per_row = pd.DataFrame({"status": status, "ratio": ratio, "note": _join(what, "; ", note),
+                            "period_value_ug_L": value, "period_no": np.arange(code.size)}, index=order)
+    periods = pd.DataFrame({
+        "limit_table": r["limit_table"], "use": p["use"], "site_id": r["site_id"],
+        "analyte": r["analyte"], "fraction": r["fraction"], "basis": "running_annual_mean",
+        "duration": r["duration"], "statistic": "mean",
+        "period": "12 months to " + day.strftime("%Y-%m-%d").to_numpy(dtype=object),
+        "period_start": window_start, "period_end": day.to_numpy(), "n_results": n.astype(int),
+        "n_nondetects": n_nd.astype(int), "nondetect_rule": rule, "value_ug_L": value,
+        "value_nondetects_zero_ug_L": lower, "value_nondetects_at_dl_ug_L": upper, "limit_ug_L": limit,
+        "ratio": ratio, "status": status, "note": note, "source": p["source"],
+        "results": _joined(r, start, stop) if with_results else "",
+    })
+    return per_row, periods
+
+
+def _percentiles(rows: pd.DataFrame, par: dict, with_results: bool):
+    label = np.empty(rows["basis"].size, dtype=object)
+    p_start = np.empty(rows["basis"].size, dtype="datetime64[ns]")
+    p_end = np.empty(rows["basis"].size, dtype="datetime64[ns]")
+    for period in pd.unique(par["period"]):  # at most four kinds
+        m = par["period"] == period
+        label[m], p_start[m], p_end[m] = period_bounds(rows["sampled_at"][m], period)
+    code = _series_codes(rows, label)
+    order = np.lexsort((rows["sampled_at"].astype("datetime64[ns]"), code))
+    code, r, p = code[order], _take(rows, order), _take(par, order)
+    label, p_start, p_end = label[order], p_start[order], p_end[order]
+    det = r["detected"].astype(bool)
+    val, dl = r["value_ug_L"].astype(float), r["detection_limit_ug_L"].astype(float)
+    starts = np.flatnonzero(np.concatenate([[True], np.diff(code) != 0]))
+    stops = np.append(starts[1:], code.size)
+    group = np.repeat(np.arange(starts.size), stops - starts)
+    last = stops - 1  # the limit in force on the period's last sample date applies
+    pct, method, rule = p["percentile"][last], p["percentile_method"][last], p["rule"][last]
+    lower = group_percentiles(substitute(val, dl, det, "zero"), group, pct, method)
+    upper = group_percentiles(substitute(val, dl, det, "dl"), group, pct, method)
+    value = np.full(starts.size, np.nan)
+    for name in ("zero", "half_dl", "dl"):
+        m = rule == name
+        if m.any():
+            value[m] = group_percentiles(substitute(val, dl, det, name), group, pct, method)[m]
+    censored = np.zeros(starts.size, dtype=bool)
+    km = (rule == "kaplan_meier") & (np.bincount(group, weights=np.isnan(dl) & ~det, minlength=starts.size) == 0)
+    for q in np.unique(pct[km]):  # Kaplan-Meier quantile: smallest x with F(x) >= q
+        groups = np.flatnonzero(km & (pct == q))
+        rows_in = np.isin(group, groups)
+        code = np.searchsorted(groups, group[rows_in])
+        est = kaplan_meier_grouped(substitute(val, dl, det, "dl")[rows_in], ~det[rows_in], code, groups.size,
+                                   probs=(q / 100.0,)).iloc[:, -1].to_numpy()
+        value[groups] = est
+        censored[groups] = np.isnan(est)  # below the smallest detect: only "< DL" is known
+    n = stops - starts
+    n_nd = np.bincount(group, weights=(~det).astype(float), minlength=starts.size).astype(int)
+    limit_all = r["limit_ug_L"].astype(float)
+    limit = limit_all[last]
+    status, note = _decide(value, lower, upper, (n_nd == n) | censored, limit, p["sig"][last], p["rounding"][last], rule)
+    lim_min = np.minimum.reduceat(np.nan_to_num(limit_all, nan=np.inf), starts)
+    lim_max = np.maximum.reduceat(np.nan_to_num(limit_all, nan=-np.inf), starts)
+    note = np.where(lim_min != lim_max, _join(note, "; ", "the limit changed within the period; the limit in force "
+                                                          "on the last sample date applies"), note)
+    stat = np.char.mod("%g", pct).astype(object) + "th percentile (" + method.astype(str).astype(object) + ")"
+    rule_txt = np.array([NONDETECT_RULE_TEXT[x] for x in rule], dtype=object)
+    what = (stat + " " + _fmt(value) + " µg/L of " + n.astype(str).astype(object) + " results in " + label[last]
+            + " (" + rule_txt + ")")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = value / limit
+    per_row = pd.DataFrame({"status": status[group], "ratio": ratio[group], "note": _join(what, "; ", note)[group],
+                            "period_value_ug_L": value[group], "period_no": group}, index=order)
+    periods = pd.DataFrame({
+        "limit_table": r["limit_table"][last], "use": p["use"][last], "site_id": r["site_id"][last],
+        "analyte": r["analyte"][last], "fraction": r["fraction"][last], "basis": "percentile",
+        "duration": r["duration"][last], "statistic": stat, "period": label[last],
+        "period_start": p_start[last], "period_end": p_end[last], "n_results": n, "n_nondetects": n_nd,
+        "nondetect_rule": rule, "value_ug_L": value, "value_nondetects_zero_ug_L": lower,
+        "value_nondetects_at_dl_ug_L": upper, "limit_ug_L": limit, "ratio": ratio, "status": status, "note": note,
+        "source": p["source"][last], "results": _joined(r, starts, stops) if with_results else "",
+    })
+    return per_row, periods
+
+
+def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
+    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``)."""
+    out = screened
+    if "period_id" not in out or "period_value_ug_L" not in out:
+        out = out.assign(period_id="", period_value_ug_L=np.nan)
+    per_row, _ = evaluate(out, limits)
+    if len(per_row):
+        where = per_row.index.to_numpy()
+        out = out.assign(**{c: replace_at(out[c], where, per_row[c].to_numpy())
+                            for c in ("status", "ratio", "note", "period_id", "period_value_ug_L")})
+    return out
+
+
+def period_table(screened: pd.DataFrame, limits) -> pd.DataFrame:
+    """One row per period value, with the results that formed it (the ``periods.csv`` table)."""
+    return evaluate(screened, limits, with_results=True)[1]
