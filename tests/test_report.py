@@ -101,3 +101,25 @@ def test_bad_retest_option_is_user_error(tmp_path, scenario_args, capsys):
     assert main(["screen", *scenario_args, "--holding-time", "mercury=soon", "--out", str(tmp_path)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "holding time" in err[0]
+
+
+def test_build_report_html_from_engine_objects():
+    """report_data + build_report_html (the dashboard's path) give a page with the caution first and computed summaries."""
+    from conftest import ROOT, SCENARIO
+    from tracescreen.limits import load_limits
+    from tracescreen.loading import LoadOptions, load_results
+    from tracescreen.columns import load_column_map
+    from tracescreen.screening import screen
+    from tracescreen.sites import load_sites
+
+    sites = load_sites(SCENARIO / "sites.csv")
+    limits = load_limits([ROOT / "limits", SCENARIO / "limits"])
+    files = sorted(SCENARIO.glob("lab_results_fernleigh_*.csv"))
+    loaded = load_results(files, LoadOptions(column_map=load_column_map(SCENARIO / "columns_eastbank.yaml")), sites)
+    screened = screen(loaded.accepted, limits, sites)
+    data = report.report_data(loaded, limits, screened, sites=sites)
+    page = report.build_report_html(data, site_ids=["KR02"])
+    assert page.index(CAUTION) < page.index('<section id="scope">')
+    assert 'id="summary-table"' in page and 'id="trends-table"' in page
+    assert set(data.retest["site_id"]) <= set(sites["site_id"])
+    assert set(report.report_tables(data, ["KR02"])["summary"]["site_id"]) == {"KR02"}

@@ -28,7 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy import optimize, stats
+from scipy import optimize, special, stats
 
 from tracescreen import grouped
 
@@ -435,6 +435,63 @@ def lognormal_mle(values, nondetect, probs=PROBS) -> dict:
     }
 
 
+def _lognormal_mle_rows(x, nd, valid, iterations=200):
+    """Censored lognormal MLE for each row of padded arrays by damped Newton steps.
+
+    The same likelihood as :func:`lognormal_mle` (which fits one series with scipy.optimize and
+    serves as its check), maximised over (mu, ln sigma) with the analytic gradient and Hessian,
+    halving a step until the likelihood does not decrease; a gradient step where the Hessian is
+    not negative definite. Returns (mu, sigma), NaN where fewer than 2 distinct detects.
+    """
+    det, ndv = valid & ~nd, valid & nd
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lx = np.log(np.where(valid & (x > 0), x, 1.0))
+    n_d = det.sum(axis=1)
+    ld = np.where(det, lx, np.nan)
+    distinct = (np.nanmax(np.where(det, lx, -np.inf), axis=1)
+                > np.nanmin(np.where(det, lx, np.inf), axis=1))
+    ok = distinct & (n_d >= 2) & ~(valid & ~(x > 0)).any(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mu = np.where(ok, np.nansum(ld, axis=1) / n_d, 0.0)
+        tau = np.where(ok, np.log(np.sqrt(np.nansum((ld - mu[:, None]) ** 2, axis=1) / (n_d - 1))), 0.0)
+
+    def loglik(mu, tau):
+        z = (lx - mu[:, None]) / np.exp(tau)[:, None]
+        return (np.where(det, -0.5 * z * z - tau[:, None], 0.0).sum(axis=1)
+                + np.where(ndv, special.log_ndtr(z), 0.0).sum(axis=1))
+
+    current = loglik(mu, tau)
+    for _ in range(iterations):
+        s = np.exp(tau)[:, None]
+        z = (lx - mu[:, None]) / s
+        h = np.exp(stats.norm.logpdf(z) - special.log_ndtr(z))  # inverse Mills ratio
+        hp = -h * (z + h)  # its derivative
+        gm = np.where(det, z / s, 0).sum(1) + np.where(ndv, -h / s, 0).sum(1)
+        gt = np.where(det, z * z - 1, 0).sum(1) + np.where(ndv, -h * z, 0).sum(1)
+        hmm = np.where(det, -1 / s**2, 0).sum(1) + np.where(ndv, hp / s**2, 0).sum(1)
+        hmt = np.where(det, -2 * z / s, 0).sum(1) + np.where(ndv, (hp * z + h) / s, 0).sum(1)
+        htt = np.where(det, -2 * z * z, 0).sum(1) + np.where(ndv, hp * z * z + h * z, 0).sum(1)
+        detH = hmm * htt - hmt**2
+        newton = (hmm < 0) & (detH > 0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            dm = np.where(newton, -(htt * gm - hmt * gt) / detH, gm / (np.abs(hmm) + 1.0))
+            dt = np.where(newton, -(hmm * gt - hmt * gm) / detH, gt / (np.abs(htt) + 1.0))
+        step = np.ones_like(mu)
+        todo = ok & ((np.abs(gm) + np.abs(gt)) > 1e-10)
+        if not todo.any():
+            break
+        for _ in range(40):  # backtracking, vectorised over series
+            trial = loglik(mu + step * dm, tau + step * dt)
+            worse = todo & ~(trial >= current)
+            if not worse.any():
+                break
+            step = np.where(worse, step / 2, step)
+        mu = np.where(todo, mu + step * dm, mu)
+        tau = np.where(todo, tau + step * dt, tau)
+        current = np.where(todo, loglik(mu, tau), current)
+    return np.where(ok, mu, np.nan), np.where(ok, np.exp(tau), np.nan)
+
+
 # --------------------------------------------------------------------------- all series
 
 
@@ -444,8 +501,7 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
 
     Series without non-detects always get the plain sample statistics (``sample_statistics``:
     mean, sd with n - 1, percentiles by numpy's linear interpolation). Otherwise ``method``:
-    ``kaplan_meier`` and ``ros`` (vectorised), ``mle_lognormal`` (a likelihood fit per series)
-    or a substitution (``substitution_zero``, ``substitution_half_dl``,
+    ``kaplan_meier``, ``ros``, ``mle_lognormal`` (all vectorised over series) or a substitution (``substitution_zero``, ``substitution_half_dl``,
     ``substitution_dl``; vectorised), whose name stays in the ``method`` column.
 
     Returns
@@ -477,9 +533,11 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
             mean, sd, q = _plain_rows(imputed, chunk.valid & np.isfinite(imputed), probs)
             out.iloc[chunk.groups] = np.column_stack([mean, sd, q])  # unfitted rows: NaN
     elif method == "mle_lognormal" and todo.any():
-        frame = pd.DataFrame({"x": x[todo], "nd": nd[todo], "g": codes[todo]})
-        for g, part in frame.groupby("g", sort=True):  # a likelihood fit per series (opt-in)
-            fit = lognormal_mle(part["x"].to_numpy(), part["nd"].to_numpy(), probs)
-            out.iloc[g] = np.concatenate([[fit["mean"], fit["sd"]], fit["quantiles"]])
+        for chunk in grouped.chunks(codes[todo], n_groups):
+            mu, sigma = _lognormal_mle_rows(chunk.take(x[todo], 1.0), chunk.take(nd[todo], False),
+                                            chunk.valid)
+            mean = np.exp(mu + sigma**2 / 2)
+            q = np.exp(mu[:, None] + sigma[:, None] * stats.norm.ppf(np.asarray(probs, float)))
+            out.iloc[chunk.groups] = np.column_stack([mean, mean * np.sqrt(np.expm1(sigma**2)), q])
     out["method"] = label
     return out

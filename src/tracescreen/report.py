@@ -272,6 +272,53 @@ def method_notes(data: ReportData) -> pd.DataFrame:
     return pd.DataFrame(notes, columns=["topic", "note"])
 
 
+def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataFrame | None = None,
+                sites: pd.DataFrame | None = None, retest_options=None, statistics: dict | None = None,
+                settings: dict | None = None) -> ReportData:
+    """Assemble a :class:`ReportData` from a loading result, the limit set and the screening table.
+
+    Parameters
+    ----------
+    loaded : tracescreen.loading.LoadResult
+        Accepted and rejected rows and the files read.
+    limits : tracescreen.limits.LimitSet
+    screened : pandas.DataFrame
+        ``screening.screen(loaded.accepted, limits, sites)``.
+    input_files : pandas.DataFrame, optional
+        Every input file with ``sha256`` (results, limit tables, sites); default the lab files of
+        ``loaded.files``. Row counts of ``loaded.files`` are added.
+    sites : pandas.DataFrame, optional
+    retest_options : tracescreen.retest.RetestOptions, optional
+    statistics : dict, optional
+        ``summary``, ``exceedances`` (rates per limit), ``trends`` tables and ``notes`` (list of
+        str); computed with each function's defaults when not given.
+    settings : dict, optional
+        Extra settings for the scope table (the retest thresholds are always listed).
+
+    Returns
+    -------
+    ReportData
+    """
+    from .retest import RetestOptions, retest_list
+    from .summary import exceedance_rates, summarise
+    from .trends import lowest_limits, trend_table
+
+    options = retest_options or RetestOptions()
+    if statistics is None:
+        statistics = {"summary": summarise(loaded.accepted), "exceedances": exceedance_rates(screened),
+                      "trends": trend_table(loaded.accepted, limits=lowest_limits(screened)), "notes": []}
+    files = loaded.files if input_files is None else input_files
+    counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded.files.columns]
+    if input_files is not None and counts and len(loaded.files):
+        files = files.merge(loaded.files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
+    return ReportData(
+        screening=screened, rejected=loaded.rejected, files=files, limit_tables=limits.tables,
+        limit_entries=limits.entries, retest=retest_list(screened, options),
+        summary=statistics.get("summary"), trends=statistics.get("trends"),
+        exceedance_rates=statistics.get("exceedances"), sites=sites,
+        settings={**(settings or {}), **options.describe()}, method_notes=list(statistics.get("notes", [])))
+
+
 def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
     """Every table of the report, by name, in report order (one workbook sheet each).
 

@@ -6,8 +6,7 @@ import argparse
 from pathlib import Path
 
 from .. import outputs
-from ..report import ReportData, build_report_html, report_tables
-from ..retest import retest_list
+from ..report import build_report_html, report_data, report_tables
 from ..screening import screen
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
@@ -48,21 +47,12 @@ def run(args) -> int:
             raise UserError(f"--site {', '.join(missing)}: no accepted results for this site")
         site_ids = list(dict.fromkeys(args.site))
     stats = statistics_tables(args, inputs.loaded.accepted, screened)
-    files = inputs.input_files
-    loaded_files = inputs.loaded.files
-    counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded_files.columns]
-    if counts and len(loaded_files):
-        files = files.merge(loaded_files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
-    data = ReportData(
-        screening=screened, rejected=inputs.loaded.rejected, files=files,
-        limit_tables=inputs.limits.tables, limit_entries=inputs.limits.entries,
-        retest=retest_list(screened, options), summary=stats["summary"], trends=stats["trends"],
-        exceedance_rates=stats["exceedances"], sites=inputs.sites,
+    data = report_data(
+        inputs.loaded, inputs.limits, screened, input_files=inputs.input_files, sites=inputs.sites,
+        retest_options=options, statistics=stats,
         settings={"non-detect method (summaries)": args.stats_method,
                   "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
-                                f"at least {args.min_trend_values} values",
-                  **options.describe()},
-        method_notes=stats["notes"])
+                                f"at least {args.min_trend_values} values"})
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
