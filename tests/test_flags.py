@@ -90,15 +90,24 @@ def test_first_exceedance_ignores_qc_samples():
 
 
 def test_uncertainty_straddles_limit_edges():
-    """9 ± 1 µg/L touches the 10 µg/L limit and is flagged; 8.9 ± 1 and 11.6 ± 1.5 are not (Eurachem/CITAC compliance guide)."""
-    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=9.0, uncertainty_ug_L=1.0),
-            dict(sample_id="B", sampled_at="2024-01-01", value=8.9, uncertainty_ug_L=1.0),
-            dict(sample_id="C", sampled_at="2024-01-01", value=11.0, uncertainty_ug_L=1.5),
-            dict(sample_id="D", sampled_at="2024-01-01", value=11.6, uncertainty_ug_L=1.5),
+    """Limit 10 µg/L, U = 1: flagged for 9 < x <= 11 (Eurachem/CITAC 2021 guard band g = U; x + U = L meets beyond U)."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=9.0, uncertainty_ug_L=1.0),   # x + U = L
+            dict(sample_id="B", sampled_at="2024-01-01", value=9.01, uncertainty_ug_L=1.0),
+            dict(sample_id="C", sampled_at="2024-01-01", value=11.0, uncertainty_ug_L=1.0),  # x - U = L
+            dict(sample_id="D", sampled_at="2024-01-01", value=11.01, uncertainty_ug_L=1.0),
             dict(sample_id="E", sampled_at="2024-01-01", value=9.9)]  # no uncertainty reported
     out = flags.uncertainty_straddles_limit(screening(rows, [WHO_LEAD])).set_index("sample_id")
-    assert sorted(out.index) == ["A", "C"]
+    assert sorted(out.index) == ["B", "C"]
     assert "reported above" in out.loc["C", "detail"]
+    assert "reported at or below" in out.loc["B", "detail"]
+
+
+def test_period_basis_rows_are_not_single_result_flags():
+    """A running-annual-mean row (40 CFR 141.23(i) basis) is judged in periods.csv, not as a first exceedance or near-limit result."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=12.0), dict(sample_id="B", sampled_at="2024-04-01", value=9.0)]
+    scr = screening(rows, [WHO_LEAD]).assign(basis="running_annual_mean")
+    assert flags.first_exceedance(scr).empty
+    assert flags.near_limit(scr).empty
 
 
 def test_modified_z_score_matches_scipy_mad():

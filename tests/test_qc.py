@@ -113,3 +113,10 @@ def test_retest_list_combines_reasons_and_sorts():
     with pytest.raises(ValueError):
         retest_list(screening(rows), RetestOptions(reasons=("nonsense",)))
     assert set(REASONS) >= set(out["reason"])
+
+
+def test_retest_list_keeps_period_basis_out_of_result_flags():
+    """retest_list reads the basis column: a running-annual-mean exceedance is not a single-result first exceedance."""
+    rows = [dict(sample_id="A", sampled_at="2024-01-01", value=12.0)]
+    scr = screening(rows).assign(basis="running_annual_mean")
+    assert retest_list(scr).empty

@@ -1,5 +1,6 @@
 """The site summary report (tracescreen.report): tables, workbook read-back, site selection, errors."""
 
+import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
@@ -10,7 +11,7 @@ from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 
 SHEETS = ["caution", "scope", "files", "limit_tables", "limit_entries", "status_matrix", "exceedances",
-          "summary", "trends", "retest", "rejected", "method_notes"]
+          "summary", "exceedance_rates", "trends", "retest", "rejected", "method_notes"]
 
 
 def _sheet(path, name) -> pd.DataFrame:
@@ -34,6 +35,20 @@ def test_workbook_rows_equal_screen_csv(demo_report, demo_screen_dir, name):
     assert list(sheet.columns) == list(csv.columns)
     assert len(sheet) == len(csv)
     pd.testing.assert_frame_equal(sheet.reset_index(drop=True), csv.reset_index(drop=True), check_dtype=False)
+
+
+@pytest.mark.parametrize("name, csv_name", [("summary", "summary"), ("trends", "trends"),
+                                            ("exceedance_rates", "exceedances")])
+def test_workbook_statistics_equal_screen_csv(demo_report, demo_screen_dir, name, csv_name):
+    """The workbook's summary, trends and exceedance-rate sheets equal summary.csv, trends.csv, exceedances.csv."""
+    csv = pd.read_csv(demo_screen_dir / f"{csv_name}.csv")
+    sheet = _sheet(demo_report["xlsx"], name)
+    assert list(sheet.columns) == list(csv.columns) and len(sheet) == len(csv) > 0
+    for c in csv.columns:
+        if pd.api.types.is_numeric_dtype(csv[c]):
+            np.testing.assert_allclose(sheet[c].astype(float), csv[c], rtol=1e-12, err_msg=c)
+        else:
+            assert (sheet[c].fillna("").astype(str) == csv[c].fillna("").astype(str)).all(), c
 
 
 def test_workbook_exceedances_equal_screening_csv(demo_report, demo_screen_dir):
@@ -86,3 +101,25 @@ def test_bad_retest_option_is_user_error(tmp_path, scenario_args, capsys):
     assert main(["screen", *scenario_args, "--holding-time", "mercury=soon", "--out", str(tmp_path)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "holding time" in err[0]
+
+
+def test_build_report_html_from_engine_objects():
+    """report_data + build_report_html (the dashboard's path) give a page with the caution first and computed summaries."""
+    from conftest import ROOT, SCENARIO
+    from tracescreen.limits import load_limits
+    from tracescreen.loading import LoadOptions, load_results
+    from tracescreen.columns import load_column_map
+    from tracescreen.screening import screen
+    from tracescreen.sites import load_sites
+
+    sites = load_sites(SCENARIO / "sites.csv")
+    limits = load_limits([ROOT / "limits", SCENARIO / "limits"])
+    files = sorted(SCENARIO.glob("lab_results_fernleigh_*.csv"))
+    loaded = load_results(files, LoadOptions(column_map=load_column_map(SCENARIO / "columns_eastbank.yaml")), sites)
+    screened = screen(loaded.accepted, limits, sites)
+    data = report.report_data(loaded, limits, screened, sites=sites)
+    page = report.build_report_html(data, site_ids=["KR02"])
+    assert page.index(CAUTION) < page.index('<section id="scope">')
+    assert 'id="summary-table"' in page and 'id="trends-table"' in page
+    assert set(data.retest["site_id"]) <= set(sites["site_id"])
+    assert set(report.report_tables(data, ["KR02"])["summary"]["site_id"]) == {"KR02"}

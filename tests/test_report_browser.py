@@ -121,3 +121,22 @@ def test_retest_and_rejected_rows_equal_csv(page, demo_screen_dir):
         shown = _table(page, table_id)
         assert len(shown) == len(csv)
         assert sorted(shown["reason"]) == sorted(csv["reason"])
+
+
+@pytest.mark.parametrize("table_id, name", [("summary-table", "summary"), ("trends-table", "trends")])
+def test_statistics_numbers_equal_csv(page, demo_screen_dir, table_id, name):
+    """Summary and trend tables on the page equal summary.csv / trends.csv of `screen` (numbers to 6 significant figures)."""
+    csv = pd.read_csv(demo_screen_dir / f"{name}.csv")
+    shown = _table(page, table_id)
+    assert list(shown.columns) == list(csv.columns) and len(shown) == len(csv) > 0
+    for c in csv.columns:
+        if pd.api.types.is_numeric_dtype(csv[c]):
+            np.testing.assert_allclose(pd.to_numeric(shown[c].replace("", np.nan)), csv[c], rtol=1e-5, err_msg=c)
+        else:
+            assert (shown[c] == csv[c].fillna("").astype(str)).all(), c
+
+
+def test_methods_named(page):
+    """The summaries name the non-detect method and the trends name the test used (issue 6)."""
+    assert "Non-detect method: kaplan_meier" in page.locator("#summaries").inner_text()
+    assert "Test used:" in page.locator("#trends").inner_text()

@@ -237,3 +237,14 @@ def test_crosses_limit_on_from_sen_line():
     low = limits.assign(limit_ug_L=5.0)  # already above at the last sample: no date
     r = trends.trend_table(data, limits=low).iloc[0]
     assert pd.isna(r["crosses_limit_on"]) and "already" in r["note"]
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.floats(0.0, 50.0), min_size=3, max_size=30))
+def test_censoring_nothing_changes_nothing(xs):
+    """All-detected flags give exactly the uncensored test and Sen slope (property; Helsel 2012 reduction)."""
+    y = np.round(np.array(xs), 1)
+    t = np.arange(y.size) / 4.0
+    a, b = _one(t, y), _one(t, y, np.zeros(y.size, bool))
+    for col in ("s", "var_s", "p_value", "slope_per_year", "slope_low", "slope_high", "intercept"):
+        assert a[col] == pytest.approx(b[col], nan_ok=True, rel=1e-15)

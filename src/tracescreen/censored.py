@@ -28,7 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy import optimize, stats
+from scipy import optimize, special, stats
 
 from tracescreen import grouped
 
@@ -237,6 +237,8 @@ def _plain_rows(x, valid, probs=PROBS):
     with np.errstate(invalid="ignore", divide="ignore"):
         mean = np.nansum(xv, axis=1) / n
         sd = np.sqrt(np.nansum((xv - mean[:, None]) ** 2, axis=1) / (n - 1))
+    mean = np.where(n > 0, mean, np.nan)
+    sd = np.where(n > 1, sd, np.nan)
     q = np.full((x.shape[0], len(probs)), np.nan)
     some = n > 0
     if some.any() and probs:
@@ -299,48 +301,78 @@ def ros(values, nondetect) -> np.ndarray:
        2nd ed., ch. 6. Wiley.
     """
     x, nd = _as_series(values, nondetect)
-    if not nd.any():
-        return x.copy()
-    if (~nd).sum() < 2 or (x <= 0).any():
-        return np.full(x.shape, np.nan)
-    dls = np.unique(x[nd])
-    if x.min() < dls[0]:
-        dls = np.concatenate(([x.min()], dls))
-    upper = np.append(dls[1:], np.inf)
-    xd, xc = x[~nd], x[nd]
-    A = ((xd[None, :] >= dls[:, None]) & (xd[None, :] < upper[:, None])).sum(axis=1)
-    B = (xc[None, :] <= dls[:, None]).sum(axis=1) + (xd[None, :] < dls[:, None]).sum(axis=1)
-    C = (xc[None, :] == dls[:, None]).sum(axis=1)
-    pe = np.zeros(dls.size + 1)
-    for j in range(dls.size - 1, -1, -1):  # recursion over detection limits (a few), not data
-        pe[j] = pe[j + 1] + (1 - pe[j + 1]) * (A[j] / (A[j] + B[j]) if A[j] + B[j] else 0.0)
-    pp = np.empty(x.size)
-    # detects: rank within their interval
-    d_idx = np.flatnonzero(~nd)
-    d_idx = d_idx[np.argsort(x[d_idx], kind="stable")]
-    j = np.searchsorted(dls, x[d_idx], side="right") - 1
-    rank = _rank_within(j)
-    pp[d_idx] = (1 - pe[j]) + (pe[j] - pe[j + 1]) * rank / (A[j] + 1)
-    # non-detects: rank within their detection limit; positions then assigned in sorted order
-    c_idx = np.flatnonzero(nd)
-    c_idx = c_idx[np.argsort(x[c_idx], kind="stable")]
-    jc = np.searchsorted(dls, x[c_idx], side="right") - 1
-    pp[c_idx] = np.sort((1 - pe[jc]) * _rank_within(jc) / (C[jc] + 1))
-    z = stats.norm.ppf(pp)
-    fit = stats.linregress(z[~nd], np.log(x[~nd]))
-    out = x.copy()
-    out[nd] = np.exp(fit.intercept + fit.slope * z[nd])
+    return _ros_rows(x[None, :], nd[None, :], np.ones((1, x.size), bool))[0]
+
+
+def _rank_in_runs(keys, live):
+    """1-based rank of each cell within its run of equal keys along the row (sorted keys)."""
+    g, m = keys.shape
+    new = np.ones((g, m), bool)
+    new[:, 1:] = (keys[:, 1:] != keys[:, :-1]) | ~live[:, :-1]
+    col = np.arange(m)
+    return (col - np.maximum.accumulate(np.where(new, col, 0), axis=1) + 1).astype(float)
+
+
+def _ros_rows(x, nd, valid):
+    """ROS for each row of padded arrays (see :func:`ros`); NaN where ROS cannot be fitted."""
+    g, m = x.shape
+    det, ndv = valid & ~nd, valid & nd
+    out = np.where(valid, x, np.nan)
+    fit = ndv.any(axis=1) & (det.sum(axis=1) >= 2) & ~(valid & ~(x > 0)).any(axis=1)
+    # detection limits per row (sorted, unique), padded with inf; min(x) first if below them
+    cens = np.sort(np.where(ndv, x, np.inf), axis=1)
+    first = np.isfinite(cens)
+    first[:, 1:] &= cens[:, 1:] != cens[:, :-1]
+    slot = np.cumsum(first, axis=1) - 1
+    dls = np.full((g, m + 2), np.inf)
+    r, c = np.nonzero(first)
+    dls[r, slot[r, c]] = cens[r, c]
+    xmin = np.where(valid, x, np.inf).min(axis=1)
+    lower = xmin < dls[:, 0]
+    dls[lower, 1:] = dls[lower, :-1]
+    dls[lower, 0] = xmin[lower]
+    k = np.isfinite(dls).sum(axis=1)
+    dl, up = dls[:, :-1, None], dls[:, 1:, None]
+    xx = x[:, None, :]
+    A = (det[:, None, :] & (xx >= dl) & (xx < up)).sum(axis=2)
+    B = (ndv[:, None, :] & (xx <= dl)).sum(axis=2) + (det[:, None, :] & (xx < dl)).sum(axis=2)
+    C = (ndv[:, None, :] & (xx == dl)).sum(axis=2)
+    pe = np.zeros((g, m + 2))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(A + B > 0, A / np.maximum(A + B, 1), 0.0)
+    for j in range(m, -1, -1):  # recursion over detection-limit index, vectorised over series
+        pe[:, j] = np.where(j < k, pe[:, j + 1] + (1 - pe[:, j + 1]) * share[:, j], 0.0)
+    # interval (detects) or own limit (non-detects): last DL <= x
+    idx = np.clip((dls[:, None, :] <= x[:, :, None]).sum(axis=2) - 1, 0, m)
+    pe_j = np.take_along_axis(pe, idx, 1)
+    pe_next = np.take_along_axis(pe, idx + 1, 1)
+    # detects ranked within their interval (ascending), non-detects within their limit
+    pp = np.full((g, m), np.nan)
+    for mask, count in ((det, A), (ndv, C)):
+        order = np.argsort(np.where(mask, x, np.inf), axis=1, kind="stable")
+        live = np.take_along_axis(mask, order, 1)
+        rank = _rank_in_runs(np.take_along_axis(idx, order, 1), live)
+        n_j = np.take_along_axis(count, np.take_along_axis(idx, order, 1), 1) + 1.0
+        pj, pn = np.take_along_axis(pe_j, order, 1), np.take_along_axis(pe_next, order, 1)
+        if mask is det:
+            val = (1 - pj) + (pj - pn) * rank / n_j
+        else:  # Helsel & Cohn: then sorted and given to the non-detects in ascending order
+            val = np.sort(np.where(live, (1 - pj) * rank / n_j, np.inf), axis=1)
+        scattered = np.empty((g, m))
+        np.put_along_axis(scattered, order, val, 1)
+        pp = np.where(mask, scattered, pp)
+    z = stats.norm.ppf(np.where(valid, pp, 0.5))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        lx = np.log(np.where(det, x, 1.0))
+        nd_ = det.sum(axis=1)
+        zm = np.where(det, z, 0).sum(axis=1) / nd_
+        lm = np.where(det, lx, 0).sum(axis=1) / nd_
+        dz = np.where(det, z - zm[:, None], 0)
+        slope = (dz * (lx - lm[:, None])).sum(axis=1) / (dz * dz).sum(axis=1)
+        imputed = np.exp(lm[:, None] + slope[:, None] * (z - zm[:, None]))
+    out = np.where(ndv, imputed, out)
+    out[~fit & ndv.any(axis=1)] = np.nan
     return out
-
-
-def _rank_within(keys: np.ndarray) -> np.ndarray:
-    """1-based rank of each element within its run of equal (sorted) keys."""
-    if keys.size == 0:
-        return keys.astype(float)
-    new = np.ones(keys.size, bool)
-    new[1:] = keys[1:] != keys[:-1]
-    starts = np.maximum.accumulate(np.where(new, np.arange(keys.size), 0))
-    return (np.arange(keys.size) - starts + 1).astype(float)
 
 
 # --------------------------------------------------------------------------- lognormal MLE
@@ -403,6 +435,63 @@ def lognormal_mle(values, nondetect, probs=PROBS) -> dict:
     }
 
 
+def _lognormal_mle_rows(x, nd, valid, iterations=200):
+    """Censored lognormal MLE for each row of padded arrays by damped Newton steps.
+
+    The same likelihood as :func:`lognormal_mle` (which fits one series with scipy.optimize and
+    serves as its check), maximised over (mu, ln sigma) with the analytic gradient and Hessian,
+    halving a step until the likelihood does not decrease; a gradient step where the Hessian is
+    not negative definite. Returns (mu, sigma), NaN where fewer than 2 distinct detects.
+    """
+    det, ndv = valid & ~nd, valid & nd
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lx = np.log(np.where(valid & (x > 0), x, 1.0))
+    n_d = det.sum(axis=1)
+    ld = np.where(det, lx, np.nan)
+    distinct = (np.nanmax(np.where(det, lx, -np.inf), axis=1)
+                > np.nanmin(np.where(det, lx, np.inf), axis=1))
+    ok = distinct & (n_d >= 2) & ~(valid & ~(x > 0)).any(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mu = np.where(ok, np.nansum(ld, axis=1) / n_d, 0.0)
+        tau = np.where(ok, np.log(np.sqrt(np.nansum((ld - mu[:, None]) ** 2, axis=1) / (n_d - 1))), 0.0)
+
+    def loglik(mu, tau):
+        z = (lx - mu[:, None]) / np.exp(tau)[:, None]
+        return (np.where(det, -0.5 * z * z - tau[:, None], 0.0).sum(axis=1)
+                + np.where(ndv, special.log_ndtr(z), 0.0).sum(axis=1))
+
+    current = loglik(mu, tau)
+    for _ in range(iterations):
+        s = np.exp(tau)[:, None]
+        z = (lx - mu[:, None]) / s
+        h = np.exp(stats.norm.logpdf(z) - special.log_ndtr(z))  # inverse Mills ratio
+        hp = -h * (z + h)  # its derivative
+        gm = np.where(det, z / s, 0).sum(1) + np.where(ndv, -h / s, 0).sum(1)
+        gt = np.where(det, z * z - 1, 0).sum(1) + np.where(ndv, -h * z, 0).sum(1)
+        hmm = np.where(det, -1 / s**2, 0).sum(1) + np.where(ndv, hp / s**2, 0).sum(1)
+        hmt = np.where(det, -2 * z / s, 0).sum(1) + np.where(ndv, (hp * z + h) / s, 0).sum(1)
+        htt = np.where(det, -2 * z * z, 0).sum(1) + np.where(ndv, hp * z * z + h * z, 0).sum(1)
+        detH = hmm * htt - hmt**2
+        newton = (hmm < 0) & (detH > 0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            dm = np.where(newton, -(htt * gm - hmt * gt) / detH, gm / (np.abs(hmm) + 1.0))
+            dt = np.where(newton, -(hmm * gt - hmt * gm) / detH, gt / (np.abs(htt) + 1.0))
+        step = np.ones_like(mu)
+        todo = ok & ((np.abs(gm) + np.abs(gt)) > 1e-10)
+        if not todo.any():
+            break
+        for _ in range(40):  # backtracking, vectorised over series
+            trial = loglik(mu + step * dm, tau + step * dt)
+            worse = todo & ~(trial >= current)
+            if not worse.any():
+                break
+            step = np.where(worse, step / 2, step)
+        mu = np.where(todo, mu + step * dm, mu)
+        tau = np.where(todo, tau + step * dt, tau)
+        current = np.where(todo, loglik(mu, tau), current)
+    return np.where(ok, mu, np.nan), np.where(ok, np.exp(tau), np.nan)
+
+
 # --------------------------------------------------------------------------- all series
 
 
@@ -412,8 +501,7 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
 
     Series without non-detects always get the plain sample statistics (``sample_statistics``:
     mean, sd with n - 1, percentiles by numpy's linear interpolation). Otherwise ``method``:
-    ``kaplan_meier`` (vectorised), ``ros``, ``mle_lognormal`` (per series: these fit a model to
-    each one) or a substitution (``substitution_zero``, ``substitution_half_dl``,
+    ``kaplan_meier``, ``ros``, ``mle_lognormal`` (all vectorised over series) or a substitution (``substitution_zero``, ``substitution_half_dl``,
     ``substitution_dl``; vectorised), whose name stays in the ``method`` column.
 
     Returns
@@ -439,15 +527,17 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
         km = kaplan_meier_grouped(x[todo], nd[todo], codes[todo], n_groups, probs)
         hit = np.unique(codes[todo])
         out.iloc[hit] = km.loc[hit, ["mean", "sd", *qcols]].to_numpy()
-    elif method in ("ros", "mle_lognormal") and todo.any():
-        frame = pd.DataFrame({"x": x[todo], "nd": nd[todo], "g": codes[todo]})
-        for g, part in frame.groupby("g", sort=True):  # model fit per series (opt-in methods)
-            if method == "ros":
-                imputed = ros(part["x"].to_numpy(), part["nd"].to_numpy())
-                mean, sd, q = _plain_rows(imputed[None, :], ~np.isnan(imputed)[None, :], probs)
-                out.iloc[g] = np.concatenate([mean, sd, q[0]])
-            else:
-                fit = lognormal_mle(part["x"].to_numpy(), part["nd"].to_numpy(), probs)
-                out.iloc[g] = np.concatenate([[fit["mean"], fit["sd"]], fit["quantiles"]])
+    elif method == "ros" and todo.any():
+        for chunk in grouped.chunks(codes[todo], n_groups, cells=lambda m: m * m):
+            imputed = _ros_rows(chunk.take(x[todo], 1.0), chunk.take(nd[todo], False), chunk.valid)
+            mean, sd, q = _plain_rows(imputed, chunk.valid & np.isfinite(imputed), probs)
+            out.iloc[chunk.groups] = np.column_stack([mean, sd, q])  # unfitted rows: NaN
+    elif method == "mle_lognormal" and todo.any():
+        for chunk in grouped.chunks(codes[todo], n_groups):
+            mu, sigma = _lognormal_mle_rows(chunk.take(x[todo], 1.0), chunk.take(nd[todo], False),
+                                            chunk.valid)
+            mean = np.exp(mu + sigma**2 / 2)
+            q = np.exp(mu[:, None] + sigma[:, None] * stats.norm.ppf(np.asarray(probs, float)))
+            out.iloc[chunk.groups] = np.column_stack([mean, mean * np.sqrt(np.expm1(sigma**2)), q])
     out["method"] = label
     return out

@@ -17,6 +17,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .decision import uncertainty_decision
+
 RETEST_COLUMNS = [
     "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
     "reason", "detail", "suggested_action",
@@ -26,7 +28,7 @@ RETEST_COLUMNS = [
 USED_COLUMNS = [
     "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
     "sample_type", "parent_sample_id", "detected", "value_ug_L", "detection_limit_ug_L", "uncertainty_ug_L",
-    "analysed_at", "status", "limit_ug_L", "limit_table", "use", "duration",
+    "analysed_at", "status", "limit_ug_L", "limit_table", "use", "duration", "basis",
 ]
 """Columns of the screening table that the flags and QC checks read."""
 
@@ -111,6 +113,17 @@ def site_samples(frame: pd.DataFrame) -> pd.DataFrame:
     return frame if mask.all() else frame[mask]
 
 
+def single_sample_rows(screening: pd.DataFrame) -> pd.DataFrame:
+    """Site-sample rows compared with single-sample limits (period bases such as running annual
+    means and percentiles are judged on periods, not on one result)."""
+    site = site_samples(screening)
+    if "basis" not in site.columns:
+        return site
+    basis = site["basis"].fillna("").astype(str)
+    mask = basis.isin(["single_sample", ""])
+    return site if mask.all() else site[mask]
+
+
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
     """One row per accepted result from the screening table (drops the per-limit repetition)."""
     key = [c for c in RESULT_KEY if c in screening.columns]
@@ -176,7 +189,7 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
     pandas.DataFrame
         Retest rows, reason ``first_exceedance``.
     """
-    site = site_samples(screening)
+    site = single_sample_rows(screening)
     exc = site[site["status"].eq("exceeds")]
     if exc.empty:
         return empty_retest()
@@ -235,7 +248,7 @@ def dl_too_high(screening: pd.DataFrame) -> pd.DataFrame:
     pandas.DataFrame
         Retest rows, reason ``dl_too_high``.
     """
-    site = site_samples(screening)
+    site = single_sample_rows(screening)
     inc = site[site["status"].eq("nondetect_inconclusive")]
     if inc.empty:
         return empty_retest()
@@ -271,7 +284,7 @@ def near_limit(screening: pd.DataFrame, fraction: float = 0.8) -> pd.DataFrame:
     """
     if not 0 < fraction <= 1:
         raise ValueError(f"near-limit fraction must be in (0, 1], got {fraction}")
-    site = site_samples(screening)
+    site = single_sample_rows(screening)
     key = [c for c in RESULT_KEY if c in site.columns] or None
     exceeded = site.loc[site["status"].eq("exceeds"), key] if key else None
     near = site[site["status"].eq("meets")
@@ -290,11 +303,13 @@ def near_limit(screening: pd.DataFrame, fraction: float = 0.8) -> pd.DataFrame:
 
 
 def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
-    """Detected results whose expanded uncertainty interval contains a limit.
+    """Detected results that are within their expanded uncertainty of a single-sample limit.
 
-    Flagged when ``value − U <= limit <= value + U`` (``U`` = ``uncertainty_ug_L``, the reported
-    expanded uncertainty), that is when the result can neither be said to be above nor below the
-    limit at the stated coverage.
+    Flagged when ``L − U < x <= L + U`` (``x`` the result, ``U`` = ``uncertainty_ug_L`` the reported
+    expanded uncertainty, ``L`` the limit): the decisions ``exceeds_within_uncertainty`` and
+    ``meets_within_uncertainty`` of :func:`tracescreen.decision.uncertainty_decision` with a guard
+    band of 1 × U, where the result cannot be said to be above or below the limit beyond its
+    uncertainty. (``x + U = L`` meets beyond the uncertainty; ``x − U = L`` exceeds within it.)
 
     Parameters
     ----------
@@ -308,22 +323,24 @@ def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
 
     References
     ----------
-    .. [1] Eurachem/CITAC Guide: Use of uncertainty information in compliance assessment,
-       A. Williams and B. Magnusson (eds.), 2nd edition, 2021 (first edition 2007; from memory).
+    .. [1] Bettencourt da Silva, R. and Williams, A. (eds.) (2021). Eurachem/CITAC Guide: Use of
+       uncertainty information in compliance assessment, 2nd ed. Eurachem.
     """
     if "uncertainty_ug_L" not in screening.columns:
         return empty_retest()
-    site = site_samples(screening)
-    u = site["uncertainty_ug_L"]
-    gap = (site["value_ug_L"] - site["limit_ug_L"]).abs()
-    hit = site[site["status"].isin(["meets", "exceeds"]) & u.notna()
-               & (gap <= u * (1 + _RTOL))]
+    site = single_sample_rows(screening)
+    site = site[site["uncertainty_ug_L"].notna() & site["limit_ug_L"].notna()]
+    if "basis" not in site.columns:
+        site = site.assign(basis="single_sample")
+    decided = uncertainty_decision(site, guard_band_factor=1.0)
+    hit = decided[decided["uncertainty_decision"].isin(["exceeds_within_uncertainty", "meets_within_uncertainty"])]
     if hit.empty:
         return empty_retest()
     key = [c for c in RESULT_KEY if c in hit.columns] or None
     hit = hit.assign(_g=(hit["value_ug_L"] - hit["limit_ug_L"]).abs() / hit["uncertainty_ug_L"])
     hit = hit.sort_values("_g", kind="stable").drop_duplicates(key)
-    side = np.where(hit["status"].eq("exceeds"), "reported above", "reported at or below")
+    side = np.where(hit["uncertainty_decision"].eq("exceeds_within_uncertainty"),
+                    "reported above", "reported at or below")
     detail = (_ug(hit["value_ug_L"]) + " ± " + _ug(hit["uncertainty_ug_L"])
               + " (expanded uncertainty) spans limit " + _ug(hit["limit_ug_L"]) + " ("
               + _limit_label(hit) + "); " + side + " the limit, but not beyond the uncertainty")

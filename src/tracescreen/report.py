@@ -67,8 +67,9 @@ class ReportData:
         ``LimitSet.tables`` and ``LimitSet.entries``.
     retest : pandas.DataFrame
         Retest list (``tracescreen.retest.retest_list``).
-    summary, trends : pandas.DataFrame or None
-        Outputs of the statistics modules (``summary.csv``, ``trends.csv``).
+    summary, trends, exceedance_rates : pandas.DataFrame or None
+        Outputs of the statistics modules (``summary.csv``, ``trends.csv``, ``exceedances.csv``:
+        count and proportion of results above each limit with a binomial interval).
     sites : pandas.DataFrame or None
         Sites table, if one was given.
     settings : dict
@@ -85,6 +86,7 @@ class ReportData:
     retest: pd.DataFrame
     summary: pd.DataFrame | None = None
     trends: pd.DataFrame | None = None
+    exceedance_rates: pd.DataFrame | None = None
     sites: pd.DataFrame | None = None
     settings: dict = field(default_factory=dict)
     method_notes: list = field(default_factory=list)
@@ -222,6 +224,13 @@ def limit_tables_used(data: ReportData, screening: pd.DataFrame) -> tuple[pd.Dat
     return tables, ent[cols].reset_index(drop=True)
 
 
+def _named(frame: pd.DataFrame | None, column: str) -> str:
+    """The distinct values of a text column, comma-separated ("" if absent)."""
+    if frame is None or column not in frame.columns:
+        return ""
+    return ", ".join(sorted(set(frame[column].dropna().astype(str)) - {""}))
+
+
 def method_notes(data: ReportData) -> pd.DataFrame:
     """Method notes as ``topic, note`` rows."""
     notes = [
@@ -247,13 +256,13 @@ def method_notes(data: ReportData) -> pd.DataFrame:
                    "their detection limit; lines: limits (dotted markers where the limit varies with "
                    "hardness)."),
     ]
-    if data.summary is not None and "method" in data.summary.columns:
-        methods = ", ".join(sorted(set(data.summary["method"].dropna().astype(str))))
-        notes.append(("summaries", "Non-detect method(s) used in the summaries: " + methods + "."))
-    if data.trends is not None and "test" in data.trends.columns:
-        tests = ", ".join(sorted(set(data.trends["test"].dropna().astype(str))))
-        notes.append(("trends", "Trend test(s) used: " + tests + ". A date where a trend line crosses a "
-                                "limit is an extrapolation, shown as an indication only."))
+    if _named(data.summary, "method"):
+        notes.append(("summaries", "Non-detect method(s) used in the summaries: " + _named(data.summary, "method")
+                      + ("; upper confidence limit on the mean: " + _named(data.summary, "ucl_method")
+                         if _named(data.summary, "ucl_method") else "") + "."))
+    if _named(data.trends, "test"):
+        notes.append(("trends", "Trend test(s) used: " + _named(data.trends, "test") + ". A date where a trend "
+                                "line crosses a limit is an extrapolation, shown as an indication only."))
     notes.append(("retest reasons", "first_exceedance, dl_too_high, near_limit, uncertainty_straddles_limit "
                                     "(Eurachem/CITAC guide on uncertainty in compliance assessment), "
                                     "history_outlier (modified z-score, Iglewicz & Hoaglin 1993), "
@@ -261,6 +270,53 @@ def method_notes(data: ReportData) -> pd.DataFrame:
                                     "holding_time_exceeded (40 CFR 136.3 Table II); see the detail column."))
     notes += [("note", str(n)) for n in data.method_notes]
     return pd.DataFrame(notes, columns=["topic", "note"])
+
+
+def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataFrame | None = None,
+                sites: pd.DataFrame | None = None, retest_options=None, statistics: dict | None = None,
+                settings: dict | None = None) -> ReportData:
+    """Assemble a :class:`ReportData` from a loading result, the limit set and the screening table.
+
+    Parameters
+    ----------
+    loaded : tracescreen.loading.LoadResult
+        Accepted and rejected rows and the files read.
+    limits : tracescreen.limits.LimitSet
+    screened : pandas.DataFrame
+        ``screening.screen(loaded.accepted, limits, sites)``.
+    input_files : pandas.DataFrame, optional
+        Every input file with ``sha256`` (results, limit tables, sites); default the lab files of
+        ``loaded.files``. Row counts of ``loaded.files`` are added.
+    sites : pandas.DataFrame, optional
+    retest_options : tracescreen.retest.RetestOptions, optional
+    statistics : dict, optional
+        ``summary``, ``exceedances`` (rates per limit), ``trends`` tables and ``notes`` (list of
+        str); computed with each function's defaults when not given.
+    settings : dict, optional
+        Extra settings for the scope table (the retest thresholds are always listed).
+
+    Returns
+    -------
+    ReportData
+    """
+    from .retest import RetestOptions, retest_list
+    from .summary import exceedance_rates, summarise
+    from .trends import lowest_limits, trend_table
+
+    options = retest_options or RetestOptions()
+    if statistics is None:
+        statistics = {"summary": summarise(loaded.accepted), "exceedances": exceedance_rates(screened),
+                      "trends": trend_table(loaded.accepted, limits=lowest_limits(screened)), "notes": []}
+    files = loaded.files if input_files is None else input_files
+    counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded.files.columns]
+    if input_files is not None and counts and len(loaded.files):
+        files = files.merge(loaded.files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
+    return ReportData(
+        screening=screened, rejected=loaded.rejected, files=files, limit_tables=limits.tables,
+        limit_entries=limits.entries, retest=retest_list(screened, options),
+        summary=statistics.get("summary"), trends=statistics.get("trends"),
+        exceedance_rates=statistics.get("exceedances"), sites=sites,
+        settings={**(settings or {}), **options.describe()}, method_notes=list(statistics.get("notes", [])))
 
 
 def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
@@ -276,7 +332,7 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
     -------
     dict of str to pandas.DataFrame
         ``caution, scope, files, limit_tables, limit_entries, status_matrix, exceedances, summary,
-        trends, retest, rejected, method_notes``.
+        exceedance_rates, trends, retest, rejected, method_notes``.
     """
     scr = _only_sites(data.screening, site_ids)
     tables, entries = limit_tables_used(data, scr)
@@ -290,6 +346,8 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
         "status_matrix": status_matrix(scr).reset_index(),
         "exceedances": exceedances(scr).reset_index(drop=True),
         "summary": (_only_sites(data.summary, site_ids) if data.summary is not None else empty).reset_index(drop=True),
+        "exceedance_rates": (_only_sites(data.exceedance_rates, site_ids) if data.exceedance_rates is not None
+                             else empty).reset_index(drop=True),
         "trends": (_only_sites(data.trends, site_ids) if data.trends is not None else empty).reset_index(drop=True),
         "retest": _only_sites(data.retest, site_ids).reset_index(drop=True),
         "rejected": data.rejected.reset_index(drop=True),
@@ -339,6 +397,7 @@ th,td{border:1px solid #d0d7de;padding:.2rem .45rem;text-align:left;vertical-ali
 th{background:#f3f4f6;position:sticky;top:0}.scroll{overflow:auto;max-height:34rem}
 .exceeds{background:#fecaca}.nondetect_inconclusive{background:#fde68a}.meets{background:#d1fae5}
 .nondetect_meets{background:#e0f2fe}.no_limit{background:#f3f4f6}.citation{margin:.2rem 0 .8rem 1rem}
+td[data-col=note],td[data-col=detail],td[data-col=suggested_action],td[data-col=source],td[data-col=value]{min-width:24rem}
 .none{color:#57606a;font-style:italic}.legend span{padding:.1rem .4rem;margin-right:.4rem;border:1px solid #d0d7de}
 """
 
@@ -393,15 +452,17 @@ def build_report_html(data: ReportData, site_ids=None, title: str | None = None)
     scr = _only_sites(data.screening, site_ids)
     title = title or ("tracescreen site summary: " + (", ".join(site_ids) if site_ids else "all sites"))
     figures = analyte_figures(scr)
-    summary_note = ""
-    if not tables["summary"].empty and "method" in tables["summary"].columns:
-        summary_note = ("<p>Non-detect method: " + html.escape(", ".join(
-            sorted(set(tables["summary"]["method"].dropna().astype(str))))) + " (column <code>method</code>).</p>")
-    trend_note = ""
-    if not tables["trends"].empty and "test" in tables["trends"].columns:
-        trend_note = ("<p>Test used: " + html.escape(", ".join(
-            sorted(set(tables["trends"]["test"].dropna().astype(str))))) + " (column <code>test</code>). "
-            "Dates where a trend line reaches a limit are extrapolations: an indication only.</p>")
+    summary_note = trend_note = ""
+    if _named(tables["summary"], "method"):
+        summary_note = ("<p>Non-detect method: " + html.escape(_named(tables["summary"], "method"))
+                        + " (column <code>method</code>)"
+                        + ("; upper confidence limit on the mean: " + html.escape(_named(tables["summary"], "ucl_method"))
+                           if _named(tables["summary"], "ucl_method") else "") + ".</p>")
+    if _named(tables["trends"], "test"):
+        trend_note = ("<p>Test used: " + html.escape(_named(tables["trends"], "test")) + " (column <code>test</code>)"
+                      + ("; slope: " + html.escape(_named(tables["trends"], "slope_method"))
+                         if _named(tables["trends"], "slope_method") else "")
+                      + ". Dates where a trend line reaches a limit are extrapolations: an indication only.</p>")
     bodies = {
         "scope": table_html(tables["scope"], "scope-table") + "<h3>Files read</h3>"
                  + table_html(tables["files"], "files-table"),
@@ -410,7 +471,12 @@ def build_report_html(data: ReportData, site_ids=None, title: str | None = None)
         "exceedances": table_html(tables["exceedances"], "exceedances-table"),
         "charts": figure_divs(figures) if figures else '<p class="none">No site-sample results to plot.</p>',
         "summaries": summary_note + (table_html(tables["summary"], "summary-table") if data.summary is not None
-                                     else '<p class="none">Summaries were not computed for this run.</p>'),
+                                     else '<p class="none">Summaries were not computed for this run.</p>')
+                     + ("<h3>Results above each limit</h3><p>Count and proportion of results above each "
+                        "applicable limit, with a 95 % binomial (Clopper-Pearson) interval; non-detects with "
+                        "a detection limit above the limit are counted as undecided.</p>"
+                        + table_html(tables["exceedance_rates"], "exceedance-rates-table")
+                        if data.exceedance_rates is not None else ""),
         "trends": trend_note + (table_html(tables["trends"], "trends-table") if data.trends is not None
                                 else '<p class="none">Trends were not computed for this run.</p>'),
         "retest": table_html(tables["retest"], "retest-table"),

@@ -56,8 +56,8 @@ def censored_series(results: pd.DataFrame) -> pd.DataFrame:
     return results.assign(value=value.astype(float), nondetect=nondetect)
 
 
-def _join_notes(parts: list[tuple[np.ndarray, pd.Series | str]], size: int) -> np.ndarray:
-    """Join the messages whose condition holds, per row, with "; "."""
+def join_notes(parts: list[tuple[np.ndarray, pd.Series | str]], size: int) -> np.ndarray:
+    """Per row, join with "; " the messages whose condition holds (``parts``: (condition, text))."""
     out = pd.Series([""] * size, dtype=object)
     for cond, text in parts:
         cond = np.asarray(cond, bool)
@@ -154,7 +154,7 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     maxdet = out["max_detected"].to_numpy(float)
     with np.errstate(invalid="ignore"):
         high_dl = np.bincount(codes[nd & (x > maxdet[codes])], minlength=g)
-    out["note"] = _join_notes([
+    out["note"] = join_notes([
         (only_counts, "more than 80 % non-detects: only counts, maximum and proportions above "
                       "limits are reported (Helsel 2012)"),
         (few & ~only_counts, "fewer than 3 detected values: no mean (Helsel 2012)"),
@@ -234,7 +234,7 @@ def exceedance_rates(screened: pd.DataFrame, confidence: float = 0.95) -> pd.Dat
     ).reset_index()
     out["proportion_above"] = out["n_above"] / out["n"]
     out["ci95_low"], out["ci95_high"] = clopper_pearson(out["n_above"], out["n"], confidence)
-    out["note"] = _join_notes([
+    out["note"] = join_notes([
         (out["n_undecided"].to_numpy() > 0, _fmt(out["n_undecided"]) + " non-detect(s) with the "
          "detection limit above the limit: undecided, counted as not above"),
     ], len(out))

@@ -46,6 +46,7 @@ from scipy import stats
 
 from tracescreen import grouped
 from tracescreen.censored import _km_rows
+from tracescreen.summary import censored_series, join_notes, site_samples
 
 #: Days per year used to turn dates into decimal years (Julian year).
 DAYS_PER_YEAR = 365.25
@@ -391,8 +392,6 @@ def lowest_limits(screened: pd.DataFrame) -> pd.DataFrame:
     cols = keys + ["limit_ug_L", "limit_table"]
     if screened is None or screened.empty or "limit_ug_L" not in screened:
         return pd.DataFrame(columns=cols)
-    from tracescreen.summary import site_samples
-
     d = site_samples(screened)
     basis = d["basis"].fillna("") if "basis" in d else pd.Series("", index=d.index)
     d = d[d["limit_ug_L"].notna() & basis.isin(["", "single_sample"])]
@@ -435,8 +434,6 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         lowest limit on the last sampling date, reaches it (an indication only: extrapolation
         is uncertain).
     """
-    from tracescreen.summary import censored_series, site_samples
-
     data = censored_series(site_samples(results))
     codes, table = grouped.group_codes(data, ["site_id", "analyte", "fraction"])
     g = len(table)
@@ -487,7 +484,7 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     n_dl = data[data["nondetect"]].groupby(codes[data["nondetect"].to_numpy()])["value"].nunique()
     n_dl = n_dl.reindex(range(g), fill_value=0).to_numpy()
     fmt = pd.Series(limit).map(lambda v: f"{v:g}")
-    out["note"] = _notes(g, [
+    out["note"] = join_notes([
         (few, f"fewer than {min_n} values: no direction given (common practice)"),
         (nd_share.to_numpy() > 0.8, "more than 80 % non-detects: the test mostly sees detection "
                                     "limits (Helsel 2012)"),
@@ -503,11 +500,5 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (n_seasons > 1, "seasonal Kendall: values compared within the same season"),
         (lost > 0, pd.Series(lost).astype(str) + " result(s) without value, detection limit or "
                                                  "date left out"),
-    ])
+    ], g)
     return out[TABLE_COLUMNS]
-
-
-def _notes(size: int, parts) -> np.ndarray:
-    from tracescreen.summary import _join_notes
-
-    return _join_notes(parts, size)

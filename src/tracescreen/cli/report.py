@@ -6,8 +6,7 @@ import argparse
 from pathlib import Path
 
 from .. import outputs
-from ..report import ReportData, build_report_html, report_tables
-from ..retest import retest_list
+from ..report import build_report_html, report_data, report_tables
 from ..screening import screen
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
@@ -24,19 +23,14 @@ def register(sub) -> None:
                     "method notes, with the caution first.",
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
+    add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
     p.add_argument("--site", action="append", metavar="ID",
                    help="report only this site (repeat for several; default all)")
     p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
     p.add_argument("--title", help="report title (default names the sites)")
     add_retest_options(p)
-    add_statistics_options(p)
     p.set_defaults(func=run)
-
-
-def statistics(args, inputs, screened) -> tuple:
-    """Summary and trend tables for the report, and method notes."""
-    return statistics_tables(args, inputs.loaded.accepted, screened)
 
 
 def run(args) -> int:
@@ -52,18 +46,13 @@ def run(args) -> int:
         if missing:
             raise UserError(f"--site {', '.join(missing)}: no accepted results for this site")
         site_ids = list(dict.fromkeys(args.site))
-    summary, trends, notes = statistics(args, inputs, screened)
-    files = inputs.input_files
-    loaded_files = inputs.loaded.files
-    counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded_files.columns]
-    if counts and len(loaded_files):
-        files = files.merge(loaded_files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
-    data = ReportData(
-        screening=screened, rejected=inputs.loaded.rejected, files=files,
-        limit_tables=inputs.limits.tables, limit_entries=inputs.limits.entries,
-        retest=retest_list(screened, options), summary=summary, trends=trends, sites=inputs.sites,
-        settings=options.describe(),
-        method_notes=notes)
+    stats = statistics_tables(args, inputs.loaded.accepted, screened)
+    data = report_data(
+        inputs.loaded, inputs.limits, screened, input_files=inputs.input_files, sites=inputs.sites,
+        retest_options=options, statistics=stats,
+        settings={"non-detect method (summaries)": args.stats_method,
+                  "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
+                                f"at least {args.min_trend_values} values"})
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")

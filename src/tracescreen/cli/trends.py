@@ -55,28 +55,31 @@ def _trends(args, accepted, screened) -> pd.DataFrame:
                        min_n=args.min_trend_values, limits=lowest_limits(screened))
 
 
-def statistics_tables(args, accepted: pd.DataFrame, screened: pd.DataFrame) -> tuple:
-    """(summary, trends, method notes as text) as the statistics options say."""
-    summary = summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed)
-    trends = _trends(args, accepted, screened)
-    notes = [
-        f"Summaries: non-detects by {args.stats_method} (Helsel 2012); series without non-detects use "
-        "plain sample statistics; ucl95_mean by a seeded percentile bootstrap "
-        f"(B={args.bootstrap}, seed={args.seed}).",
-        f"Trends: Mann-Kendall or seasonal Kendall (seasonal: {args.seasonal}) at alpha = {args.alpha}; "
-        "non-detects count as ties where the order is unknown; Sen or Akritas-Theil-Sen slope per "
-        "year from the sampling dates.",
-    ]
-    return summary, trends, notes
+def statistics_tables(args, accepted: pd.DataFrame, screened: pd.DataFrame) -> dict:
+    """The statistics tables as the options say: ``summary``, ``exceedances`` (rates per limit),
+    ``trends``, and ``notes`` (method notes as text)."""
+    return {
+        "summary": summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed),
+        "exceedances": exceedance_rates(screened),
+        "trends": _trends(args, accepted, screened),
+        "notes": [
+            f"Summaries: non-detects by {args.stats_method} (Helsel 2012); series without non-detects use "
+            "plain sample statistics; ucl95_mean by a seeded percentile bootstrap "
+            f"(B={args.bootstrap}, seed={args.seed}).",
+            f"Trends: Mann-Kendall or seasonal Kendall (seasonal: {args.seasonal}) at alpha = {args.alpha}; "
+            "non-detects count as ties where the order is unknown; Sen or Akritas-Theil-Sen slope per "
+            "year from the sampling dates.",
+        ],
+    }
 
 
 def write_statistics(args, accepted: pd.DataFrame, screened: pd.DataFrame, out: Path) -> dict:
     """Write summary.csv, exceedances.csv and trends.csv; return {name: path}."""
-    summary, trends, _ = statistics_tables(args, accepted, screened)
+    tables = statistics_tables(args, accepted, screened)
     return {
-        "summary": outputs.write_csv(summary, out / "summary.csv"),
-        "exceedance": outputs.write_csv(exceedance_rates(screened), out / "exceedances.csv"),
-        "trends": outputs.write_csv(trends, out / "trends.csv"),
+        "summary": outputs.write_csv(tables["summary"], out / "summary.csv"),
+        "exceedance": outputs.write_csv(tables["exceedances"], out / "exceedances.csv"),
+        "trends": outputs.write_csv(tables["trends"], out / "trends.csv"),
     }
 
 
