@@ -340,6 +340,8 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
             f"{where}: required column(s) {', '.join(missing)} not found (headers: "
             f"{', '.join(map(str, cells.columns[:12]))}); give a column mapping with --columns"
         )
+    if n == 0:  # a header without data rows: nothing accepted, nothing rejected
+        return normalise_empty(), pd.DataFrame(columns=["file", "sheet", "row", "reason", *cells.columns])
 
     def col(c: str) -> pd.Series:
         if c in found:
