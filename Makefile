@@ -4,7 +4,7 @@ VENV   ?= .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed-stamp
 
-.PHONY: setup run screen test bench bench-dashboard clean
+.PHONY: setup run screen report test bench bench-dashboard clean
 
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
@@ -26,12 +26,16 @@ run: setup
 screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
 
+report: setup
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) --out out/demo/report.html --xlsx out/demo/report.xlsx
+
 test: setup
 	$(PY) -m pytest
 
 bench: setup
 	$(PY) bench/bench_screen.py
 	$(PY) bench/bench_stats.py
+	$(PY) bench/bench_retest.py
 
 bench-dashboard: setup
 	$(PY) bench/bench_dashboard.py
