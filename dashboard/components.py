@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
-from dash import dash_table, dcc, html
+from dash import Input, Output, callback, dash_table, dcc, html
 
 from tracescreen.caution import CAUTION
 
-from dashboard.data import SessionData
-from dashboard.tables import LONG_TEXT_COLUMNS
+from dashboard.data import SessionData, current_session
+from dashboard.tables import LONG_TEXT_COLUMNS, table_page
 from dashboard.palette import STATUS_COLOUR, STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER
 
 
@@ -102,3 +102,33 @@ def data_table(table_id: str, columns: list, page_size: int = 25, server_side: b
         style_header={"fontWeight": "600", "backgroundColor": "#f1f3f5"},
         **kwargs,
     )
+
+
+def register_filter_options(prefix: str) -> None:
+    """Callback filling the filter controls made by :func:`filter_controls` from the session's data."""
+
+    @callback(
+        Output(f"{prefix}-uses", "options"), Output(f"{prefix}-tables", "options"),
+        Output(f"{prefix}-fraction", "options"), Output(f"{prefix}-dates", "min_date_allowed"),
+        Output(f"{prefix}-dates", "max_date_allowed"), Output(f"{prefix}-campaigns", "options"),
+        Input("dataset-key", "data"),
+    )
+    def fill_filter_options(dataset_key):
+        return filter_options(current_session(dataset_key))
+
+
+def register_server_table(prefix: str, frame_for, page_size: int) -> None:
+    """Callback serving the pages of table ``{prefix}-table`` from ``frame_for(session)``, with its
+    ``{prefix}-count`` text and ``{prefix}-error`` message (filter, sort and paging on the server)."""
+
+    @callback(
+        Output(f"{prefix}-table", "data"), Output(f"{prefix}-table", "page_count"),
+        Output(f"{prefix}-count", "children"), Output(f"{prefix}-error", "children"),
+        Output(f"{prefix}-table", "tooltip_data"),
+        Input("dataset-key", "data"), Input(f"{prefix}-table", "page_current"),
+        Input(f"{prefix}-table", "page_size"), Input(f"{prefix}-table", "sort_by"),
+        Input(f"{prefix}-table", "filter_query"),
+    )
+    def serve_table_page(dataset_key, page_current, size, sort_by, filter_query):
+        frame = frame_for(current_session(dataset_key))
+        return table_page(frame, page_current, size or page_size, sort_by, filter_query)

@@ -5,7 +5,6 @@ Screenshots of every page go to test-output/screenshots/ (git-ignored) for a hum
 
 from __future__ import annotations
 
-import io
 import threading
 from pathlib import Path
 

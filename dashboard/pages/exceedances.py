@@ -3,14 +3,13 @@
 import dash
 from dash import Input, Output, State, callback, dcc, html
 
-from dashboard.components import data_table, page_header, status_legend
+from dashboard.components import data_table, register_server_table, page_header, status_legend
 from dashboard.data import current_session
 from dashboard.palette import STATUS_COLOUR
 from dashboard.tables import (
     FilterError,
     exceedance_rows,
     query_table,
-    table_page,
     to_csv_bytes,
     to_xlsx_bytes,
 )
@@ -52,15 +51,7 @@ def layout(**_query):
     ])
 
 
-@callback(
-    Output("exc-table", "data"), Output("exc-table", "page_count"), Output("exc-count", "children"),
-    Output("exc-error", "children"), Output("exc-table", "tooltip_data"),
-    Input("dataset-key", "data"), Input("exc-table", "page_current"), Input("exc-table", "page_size"),
-    Input("exc-table", "sort_by"), Input("exc-table", "filter_query"),
-)
-def update_exceedance_table(dataset_key, page_current, page_size, sort_by, filter_query):
-    rows = exceedance_rows(current_session(dataset_key))
-    return table_page(rows, page_current, page_size or PAGE_SIZE, sort_by, filter_query)
+register_server_table("exc", exceedance_rows, PAGE_SIZE)
 
 
 def download(session, kind, sort_by, filter_query):

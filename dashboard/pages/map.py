@@ -3,7 +3,7 @@
 import dash
 from dash import Input, Output, callback, dcc, html
 
-from dashboard.components import filter_controls, filter_options, page_header, status_legend
+from dashboard.components import filter_controls, page_header, register_filter_options, status_legend
 from dashboard.data import current_session
 from dashboard.figures import map_figure
 from dashboard.matrix import Filters, cached_status_counts, site_worst
@@ -21,14 +21,7 @@ def layout(**_query):
     ])
 
 
-@callback(
-    Output("mp-uses", "options"), Output("mp-tables", "options"), Output("mp-fraction", "options"),
-    Output("mp-dates", "min_date_allowed"), Output("mp-dates", "max_date_allowed"),
-    Output("mp-campaigns", "options"),
-    Input("dataset-key", "data"),
-)
-def map_filter_options(dataset_key):
-    return filter_options(current_session(dataset_key))
+register_filter_options("mp")
 
 
 @callback(

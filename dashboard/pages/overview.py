@@ -3,7 +3,7 @@
 import dash
 from dash import Input, Output, callback, html
 
-from dashboard.components import filter_controls, filter_options, page_header, status_legend
+from dashboard.components import filter_controls, page_header, register_filter_options, status_legend
 from dashboard.data import current_session
 from dashboard.matrix import Filters, cached_status_counts, matrix_table, status_badges
 
@@ -22,14 +22,7 @@ def layout(**_query):
     ])
 
 
-@callback(
-    Output("ov-uses", "options"), Output("ov-tables", "options"), Output("ov-fraction", "options"),
-    Output("ov-dates", "min_date_allowed"), Output("ov-dates", "max_date_allowed"),
-    Output("ov-campaigns", "options"),
-    Input("dataset-key", "data"),
-)
-def overview_filter_options(dataset_key):
-    return filter_options(current_session(dataset_key))
+register_filter_options("ov")
 
 
 def render_overview(session, uses, tables, fraction, start, end, campaigns):

@@ -3,10 +3,9 @@
 import dash
 from dash import Input, Output, callback, html
 
-from dashboard.components import data_table, page_header
+from dashboard.components import data_table, register_server_table, page_header
 from dashboard.data import current_session
 from dashboard.quality import file_table, reason_table, rejected_frame
-from dashboard.tables import table_page
 
 dash.register_page(__name__, path="/quality", name="Data quality", order=5,
                    title="tracescreen · data quality")
@@ -39,12 +38,4 @@ def update_quality_summary(dataset_key):
     return file_table(session), reason_table(session), [{"name": c, "id": c} for c in frame.columns]
 
 
-@callback(
-    Output("dq-table", "data"), Output("dq-table", "page_count"), Output("dq-count", "children"),
-    Output("dq-error", "children"), Output("dq-table", "tooltip_data"),
-    Input("dataset-key", "data"), Input("dq-table", "page_current"), Input("dq-table", "page_size"),
-    Input("dq-table", "sort_by"), Input("dq-table", "filter_query"),
-)
-def update_rejected_table(dataset_key, page_current, page_size, sort_by, filter_query):
-    frame = rejected_frame(current_session(dataset_key))
-    return table_page(frame, page_current, page_size or PAGE_SIZE, sort_by, filter_query)
+register_server_table("dq", rejected_frame, PAGE_SIZE)

@@ -3,11 +3,11 @@
 import dash
 from dash import Input, Output, State, callback, dcc, html
 
-from dashboard.components import data_table, page_header
+from dashboard.components import data_table, register_server_table, page_header
 from dashboard.data import current_session
 from dashboard.retest import reason_totals, retest_available, retest_frame
 from dashboard.quality import html_table
-from dashboard.tables import table_page, to_csv_bytes
+from dashboard.tables import to_csv_bytes
 
 dash.register_page(__name__, path="/retest", name="Retest list", order=4,
                    title="tracescreen · retest list")
@@ -42,15 +42,7 @@ def update_retest_reasons(dataset_key):
     return html_table(reason_totals(frame), "rt-reasons-table") if frame is not None else ""
 
 
-@callback(
-    Output("rt-table", "data"), Output("rt-table", "page_count"), Output("rt-count", "children"),
-    Output("rt-error", "children"), Output("rt-table", "tooltip_data"),
-    Input("dataset-key", "data"), Input("rt-table", "page_current"), Input("rt-table", "page_size"),
-    Input("rt-table", "sort_by"), Input("rt-table", "filter_query"),
-)
-def update_retest_table(dataset_key, page_current, page_size, sort_by, filter_query):
-    frame = retest_frame(current_session(dataset_key))
-    return table_page(frame, page_current, page_size or PAGE_SIZE, sort_by, filter_query)
+register_server_table("rt", retest_frame, PAGE_SIZE)
 
 
 @callback(Output("rt-download", "data"), Input("rt-csv-btn", "n_clicks"),
