@@ -65,6 +65,7 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     build_s = time.perf_counter() - t0
     overview = sys.modules["pages.overview"].update_overview  # dash.callback returns the function itself
     chart = sys.modules["pages.site"].update_site_chart
+    trend = sys.modules["pages.site"].update_site_trend
     from dashboard.data import current_session
     from dashboard.series import _pairs
 
@@ -82,20 +83,22 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
         ch_inputs = [(*pairs[(i * 7) % len(pairs)], "total", "linear") for i in range(n_calls)]
         ch_inputs = [(s, a, f if f in session.fractions else session.fractions[0], sc) for s, a, f, sc in ch_inputs]
         out = {"build_s": build_s, "n_results": n_results, "n_rows": n_rows, "n_series": len(pairs)}
-        for name, fn, inputs in (("overview", overview, ov_inputs), ("site chart", chart, ch_inputs)):
+        tr_inputs = [({"key": "base", "site": s, "analyte": a, "fraction": f},) for s, a, f, _ in ch_inputs]
+        for name, fn, inputs in (("overview", overview, ov_inputs), ("site chart", chart, ch_inputs),
+                                 ("trend", trend, tr_inputs)):
             for phase in ("cold", "warm"):
                 ms = []
                 for args in inputs:
                     t = time.perf_counter()
-                    fn("base", *args)
+                    fn(*args) if name == "trend" else fn("base", *args)
                     ms.append((time.perf_counter() - t) * 1000)
                 out[f"{name} {phase}"] = ms
         # the largest series, drawn with WebGL
         big = max(pairs, key=lambda p: len(session.series(p[0], p[1], "total")))
         t = time.perf_counter()
-        fig, _ = chart("base", big[0], big[1], "total", "log")
+        fig, _, _ = chart("base", big[0], big[1], "total", "log")
         out["largest series"] = (big, len(session.series(big[0], big[1], "total")),
-                                 (time.perf_counter() - t) * 1000, fig.data[0].type)
+                                 (time.perf_counter() - t) * 1000, fig["data"][0]["type"])
     return out
 
 
@@ -165,16 +168,17 @@ def main() -> None:
         t = time.perf_counter()
         pd.read_csv(path)
         read_s = time.perf_counter() - t
-        print(f"{args.n:,} generated results; reference pandas.read_csv: {read_s:.2f} s")
+        print(f"{args.n:,} generated results; reference pandas.read_csv: {read_s:.2f} s", flush=True)
 
         cb = time_callbacks(path, args.calls)
         print(f"\nIn-process app: load + screen + index {cb['build_s']:.1f} s "
               f"({cb['build_s'] / read_s:.1f}x the bare read); {cb['n_results']:,} results, "
               f"{cb['n_rows']:,} screening rows, {cb['n_series']} site x metal series")
-        for key in ("overview cold", "overview warm", "site chart cold", "site chart warm"):
+        for key in ("overview cold", "overview warm", "site chart cold", "site chart warm", "trend cold",
+                    "trend warm"):
             ms = cb[key]
             flag = "ok" if np.percentile(ms, 95) <= 150 else "ABOVE GOAL"
-            print(f"  {key:<16} {_stats(ms)}   [{flag}: p95 goal 150 ms]")
+            print(f"  {key:<16} {_stats(ms)}   [{flag}: p95 goal 150 ms]", flush=True)
         (site, metal), n_rows, ms, kind = cb["largest series"]
         print(f"  largest series {site}/{metal}: {n_rows:,} screening rows, chart callback {ms:.0f} ms, trace {kind}")
 

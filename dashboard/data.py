@@ -20,13 +20,13 @@ from typing import Any, Callable
 import numpy as np
 import pandas as pd
 
-from dashboard.palette import STATUS_ORDER, STATUS_RANK
+from dashboard.palette import STATUS_RANK
 
 BASE_KEY = "base"
 STORE_EXTENSION = "tracescreen"
 
-#: columns of the screening output kept as plain numbers or dates; every other text column
-#: becomes categorical (a million results repeat a handful of sites, analytes and sources)
+#: date columns of the screening output; every text column becomes categorical (a million results
+#: repeat a handful of sites, analytes and sources)
 _NUMERIC_OR_DATE = ("sampled_at", "analysed_at")
 
 
@@ -165,7 +165,10 @@ def _categorical(values: pd.Series) -> pd.Series:
     ordered = sorted(cat.cat.categories)
     if list(cat.cat.categories) != ordered:
         cat = cat.cat.reorder_categories(ordered)
-    return cat
+    # object-dtype categories: taking the text of a few rows is then a plain numpy take
+    objects = pd.Index(np.array(ordered, dtype=object), dtype=object)
+    return pd.Series(pd.Categorical.from_codes(cat.cat.codes.to_numpy(), categories=objects),
+                     index=values.index, name=values.name)
 
 
 def _campaign_labels(accepted: pd.DataFrame) -> pd.Series:
@@ -284,12 +287,11 @@ def text_values(series: pd.Series) -> np.ndarray:
     shares categories with the whole, and converting all of them would dominate a callback.
     """
     if isinstance(series.dtype, pd.CategoricalDtype):
-        codes = series.cat.codes.to_numpy()
-        cats = series.cat.categories
+        codes = series.array.codes
+        cats = np.asarray(series.dtype.categories, dtype=object)  # no copy for object categories
         out = np.full(len(codes), "", dtype=object)
         used = codes >= 0
-        if len(cats):
-            out[used] = np.asarray(cats.take(codes[used]), dtype=object)
+        out[used] = cats[codes[used]]
         return out
     return series.astype(object).where(series.notna(), "").astype(str).to_numpy(dtype=object)
 
@@ -463,11 +465,12 @@ __all__ = [
     "DataStore",
     "Inputs",
     "SessionData",
-    "STATUS_ORDER",
     "accepted_from_session",
     "build_session",
     "current_session",
     "current_store",
     "file_counts",
     "load_inputs",
+    "plain_frame",
+    "text_values",
 ]

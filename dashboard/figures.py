@@ -31,26 +31,33 @@ def _wrap(text: str, width: int = 70) -> str:
     return "<br>".join(textwrap.wrap(text, width)) if text else ""
 
 
+def is_site_sample(rows: pd.DataFrame) -> np.ndarray:
+    """Mask of site-sample rows (QC rows left out), without materialising the text column."""
+    if "sample_type" not in rows.columns:
+        return np.ones(len(rows), dtype=bool)
+    return text_values(rows["sample_type"]) == "sample"
+
+
 def result_points(rows: pd.DataFrame) -> pd.DataFrame:
     """One point per site-sample result: its plotted value and its worst screening row.
 
     ``y`` is the detected value, or the detection limit for a non-detect [µg/L]. ``status`` is the
     worst status among the result's limits, and the limit columns come from that row.
     """
-    if "sample_type" in rows.columns:
-        rows = rows[(rows["sample_type"].astype(str) == "sample").to_numpy()]
-    if rows.empty:
-        return rows.assign(y=pd.Series(dtype=float))
-    rank = rows["status"].astype(str).map(STATUS_RANK).fillna(-1).to_numpy()
-    rid = rows["_rid"].to_numpy()
-    order = np.lexsort((-rank, rid))
+    status = text_values(rows["status"])
+    rank = np.array([STATUS_RANK.get(x, -1) for x in status], dtype=np.int8) if len(rows) else np.zeros(0, np.int8)
+    keep = np.flatnonzero(is_site_sample(rows))
+    if not len(keep):
+        return rows.iloc[0:0].assign(y=pd.Series(dtype=float))
+    rid = rows["_rid"].to_numpy()[keep]
+    order = np.lexsort((-rank[keep], rid))
     rid_sorted = rid[order]
-    first = order[np.r_[True, rid_sorted[1:] != rid_sorted[:-1]]]
-    pts = rows.iloc[np.sort(first)].copy()
+    first = np.sort(keep[order[np.r_[True, rid_sorted[1:] != rid_sorted[:-1]]]])
+    pts = rows.iloc[first].copy()
     detected = pts["detected"].to_numpy(dtype=bool)
     pts["y"] = np.where(detected, pts["value_ug_L"].to_numpy(float),
                         pts["detection_limit_ug_L"].to_numpy(float))
-    pts["status"] = pts["status"].astype(str)
+    pts["status"] = status[first]
     return pts
 
 
@@ -60,24 +67,30 @@ def limit_steps(rows: pd.DataFrame) -> list[dict]:
     A fixed limit gives a flat line; a hardness-dependent one follows the hardness of each sample;
     an entry with effective dates is drawn only where it was in force.
     """
-    if "sample_type" in rows.columns:
-        rows = rows[(rows["sample_type"].astype(str) == "sample").to_numpy()]
-    rows = rows[rows["limit_ug_L"].notna().to_numpy()]
+    limit = rows["limit_ug_L"].to_numpy(float)
+    keep = np.flatnonzero(is_site_sample(rows) & np.isfinite(limit))
+    if not len(keep):
+        return []
+    cols = [c for c in ("limit_table", "duration", "basis", "source", "use") if c in rows.columns]
+    text = {c: text_values(rows[c].iloc[keep]) for c in cols}
+    empty = np.full(len(keep), "", dtype=object)
+    key = np.char.add(np.char.add(text.get("limit_table", empty).astype(str), "\x1f"),
+                      np.char.add(text.get("duration", empty).astype(str), "\x1f" )) 
+    key = np.char.add(key, text.get("basis", empty).astype(str))
+    dates = rows["sampled_at"].to_numpy()[keep]
+    values = limit[keep]
     out = []
-    keys = [c for c in ("limit_table", "duration", "basis") if c in rows.columns]
-    if rows.empty:
-        return out
-    for key, grp in rows.groupby(keys, observed=True, sort=True, dropna=False):
-        key = key if isinstance(key, tuple) else (key,)
-        grp = grp.sort_values("sampled_at", kind="stable").drop_duplicates("sampled_at")
-        table = str(key[0])
-        duration = str(key[1]) if len(key) > 1 and isinstance(key[1], str) and key[1] else ""
-        source = str(grp["source"].iloc[0]) if "source" in grp else ""
-        use = str(grp["use"].iloc[0]) if "use" in grp else ""
+    for k in np.unique(key):
+        idx = np.flatnonzero(key == k)
+        idx = idx[np.argsort(dates[idx], kind="stable")]
+        x, first = np.unique(dates[idx], return_index=True)  # one step per sampling date
+        y = values[idx][first]
         out.append({
-            "table": table, "duration": duration, "use": use, "source": source,
-            "x": grp["sampled_at"].to_numpy(), "y": grp["limit_ug_L"].to_numpy(float),
-            "varies": bool(grp["limit_ug_L"].nunique() > 1),
+            "table": str(text["limit_table"][idx[0]]) if "limit_table" in text else "",
+            "duration": str(text["duration"][idx[0]]) if "duration" in text else "",
+            "use": str(text["use"][idx[0]]) if "use" in text else "",
+            "source": str(text["source"][idx[0]]) if "source" in text else "",
+            "x": x, "y": y, "varies": bool(len(np.unique(y)) > 1),
         })
     return out
 
@@ -127,24 +140,29 @@ def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
     webgl = len(pts) > WEBGL_THRESHOLD
     data = []
     status_of = pts["status"].to_numpy() if len(pts) else np.array([], dtype=object)
+    # text of the hover columns once for all points, then split by status
+    blank = np.full(len(pts), "", dtype=object)
+    texts = [text_values(pts[c]) if c in pts else blank for c in _POINT_COLUMNS[:-2]]
+    limit_num = pts["limit_ug_L"].to_numpy(float) if len(pts) else np.zeros(0)
+    limit_txt = np.char.mod("%.4g", limit_num).astype(object)
+    limit_txt[~np.isfinite(limit_num)] = "–"
+    sources = text_values(pts["source"]) if "source" in pts else blank
+    wrapped = {u: _wrap(u) for u in set(sources)}
+    custom_all = np.column_stack([*texts, limit_txt, [wrapped[u] for u in sources]]) if len(pts) else None
+    x_all = _dates(pts["sampled_at"]) if len(pts) else None
+    y_all = pts["y"].to_numpy(float) if len(pts) else None
     for status in (*STATUS_ORDER, "qc_sample"):
-        sub = pts[status_of == status]
-        if sub.empty:
+        m = status_of == status
+        n = int(m.sum())
+        if not n:
             continue
-        custom = np.column_stack([text_values(sub[c]) if c in sub else np.full(len(sub), "", object)
-                                  for c in _POINT_COLUMNS[:-2]])
-        limit = np.char.mod("%.4g", sub["limit_ug_L"].to_numpy(float)).astype(object)
-        limit[~np.isfinite(sub["limit_ug_L"].to_numpy(float))] = "–"
-        sources = text_values(sub["source"]) if "source" in sub else np.full(len(sub), "", object)
-        wrapped = {u: _wrap(u) for u in set(sources)}
-        custom = np.column_stack([custom, limit, [wrapped[u] for u in sources]])
         data.append({
             "type": "scattergl" if webgl else "scatter", "mode": "markers",
-            "x": _dates(sub["sampled_at"]), "y": sub["y"].to_numpy(float),
-            "name": f"{STATUS_LABEL[status]} ({len(sub)})",
+            "x": x_all[m], "y": y_all[m],
+            "name": f"{STATUS_LABEL[status]} ({n})",
             "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 9,
                        "line": {"width": 1.5, "color": STATUS_COLOUR[status]}},
-            "customdata": custom.tolist(),
+            "customdata": custom_all[m].tolist(),
             "hovertemplate": (
                 "%{x|%Y-%m-%d}<br>Result as reported: <b>%{customdata[0]} %{customdata[1]}</b>"
                 " (plotted %{y:.4g} µg/L)<br>Sample %{customdata[2]} · lab %{customdata[3]}"

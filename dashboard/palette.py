@@ -71,7 +71,3 @@ LIMIT_DASHES: tuple[str, ...] = ("dash", "dot", "dashdot", "longdash", "longdash
 LIMIT_COLOUR = "#0072B2"  # Okabe-Ito blue
 TREND_COLOUR = "#000000"
 
-
-def status_text(status: str) -> str:
-    """Glyph and label of a status, e.g. ``"▲ Above limit"`` (unknown statuses pass through)."""
-    return f"{STATUS_GLYPH.get(status, '?')} {STATUS_LABEL.get(status, status)}"

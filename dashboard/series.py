@@ -6,7 +6,7 @@ import numpy as np
 from dash import html
 
 from dashboard.data import SessionData
-from dashboard.figures import result_points, site_metal_figure, trend_trace
+from dashboard.figures import is_site_sample, result_points, site_metal_figure, trend_trace
 from dashboard.palette import STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER
 from dashboard.trend import series_trend
 
@@ -64,7 +64,7 @@ def _series_view(session: SessionData, site, analyte, fraction, log_y):
     title = f"{session.site_name(site)} ({site}) · {analyte}, {fraction}"
     pts = result_points(rows)
     fig = site_metal_figure(rows, title, log_y=log_y)
-    n_qc = int((rows["sample_type"].astype(str) != "sample").sum()) if "sample_type" in rows else 0
+    n_qc = int((~is_site_sample(rows)).sum())
     counts = pts["status"].value_counts() if len(pts) else {}
     items = [html.Li(f"{STATUS_GLYPH[s]} {STATUS_LABEL[s]}: {int(counts[s])}")
              for s in STATUS_ORDER if s in counts]

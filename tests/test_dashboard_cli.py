@@ -1,0 +1,75 @@
+"""`tracescreen dashboard` and `python -m dashboard`: options, user errors, and a real start."""
+
+from __future__ import annotations
+
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+
+import pytest
+from dashboard_support import ROOT, scenario_paths
+
+from tracescreen.cli import build_parser
+from tracescreen.cli.dashboard import result_files, to_argv
+
+
+def test_options_forwarded_to_the_dashboard_process():
+    """Every reading option given to `tracescreen dashboard` reaches `python -m dashboard` unchanged."""
+    args = build_parser().parse_args(
+        ["dashboard", "a.csv", "--results", "b.xlsx", "--limits", "L1", "--limits", "L2", "--sites", "s.csv",
+         "--columns", "c.yaml", "--date-order", "dmy", "--decimal-comma", "--port", "9000"])
+    assert result_files(args) == ["a.csv", "b.xlsx"]
+    argv = to_argv(args)
+    from dashboard.__main__ import build_parser as dash_parser
+
+    again = dash_parser().parse_args(argv)
+    for name in ("limits", "sites", "columns", "date_order", "decimal_comma", "port", "host", "debug"):
+        assert getattr(again, name) == getattr(args, name), name
+    assert result_files(again) == ["a.csv", "b.xlsx"]
+    assert args.host == "127.0.0.1" and not args.debug  # local only and no debug unless asked
+
+
+def test_missing_file_is_a_one_line_error(tmp_path):
+    """A missing results file ends with exit code 2 and one line, no traceback (issue 2 rule)."""
+    proc = subprocess.run([sys.executable, "-m", "dashboard", "--results", str(tmp_path / "missing.csv"),
+                           "--limits", str(ROOT / "limits")], capture_output=True, text=True, cwd=ROOT, timeout=120)
+    assert proc.returncode == 2
+    lines = [ln for ln in proc.stderr.splitlines() if ln.startswith("tracescreen")]
+    assert len(lines) == 1 and "missing.csv" in lines[0]
+    assert "Traceback" not in proc.stderr
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.mark.slow
+def test_tracescreen_dashboard_serves_the_scenario_on_localhost():
+    """`tracescreen dashboard` on the scenario answers on 127.0.0.1 with the app page."""
+    p = scenario_paths()
+    port = _free_port()
+    cmd = [str(ROOT / ".venv" / "bin" / "tracescreen"), "dashboard", *map(str, p["results"]),
+           "--sites", str(p["sites"]), "--columns", str(p["columns"]), "--port", str(port)]
+    for lim in p["limits"]:
+        cmd += ["--limits", str(lim)]
+    if not (ROOT / ".venv" / "bin" / "tracescreen").exists():
+        cmd[0:2] = [sys.executable, "-m", "tracescreen", "dashboard"]
+    proc = subprocess.Popen(cmd, cwd=ROOT, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    try:
+        deadline = time.monotonic() + 120
+        while True:
+            assert proc.poll() is None, proc.stderr.read().decode()[-2000:]
+            try:
+                page = urllib.request.urlopen(f"http://127.0.0.1:{port}/", timeout=2).read().decode()
+                break
+            except OSError:
+                assert time.monotonic() < deadline, "dashboard did not start within 120 s"
+                time.sleep(0.5)
+        assert "tracescreen" in page and "_dash-config" in page
+    finally:
+        proc.terminate()
+        proc.wait(10)
