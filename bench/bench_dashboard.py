@@ -63,6 +63,8 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     t0 = time.perf_counter()
     app = create_app([path], _limits(), options=LoadOptions(default_fraction="total"))
     build_s = time.perf_counter() - t0
+    print(f"  ... app built in {build_s:.1f} s, process memory {_peak_mb(os.getpid(), 'VmRSS'):.0f} MB "
+          f"(peak {_peak_mb(os.getpid()):.0f} MB)", flush=True)
     overview = sys.modules["pages.overview"].update_overview  # dash.callback returns the function itself
     chart = sys.modules["pages.site"].update_site_chart
     trend = sys.modules["pages.site"].update_site_trend
@@ -93,6 +95,8 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
                     fn(*args) if name == "trend" else fn("base", *args)
                     ms.append((time.perf_counter() - t) * 1000)
                 out[f"{name} {phase}"] = ms
+                print(f"  ... {name} {phase} done, process memory {_peak_mb(os.getpid(), 'VmRSS'):.0f} MB",
+                      flush=True)
         # the largest series, drawn with WebGL
         big = max(pairs, key=lambda p: len(session.series(p[0], p[1], "total")))
         t = time.perf_counter()
@@ -102,9 +106,9 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     return out
 
 
-def _peak_mb(pid: int) -> float:
+def _peak_mb(pid: int, field: str = "VmHWM") -> float:
     for line in Path(f"/proc/{pid}/status").read_text().splitlines():
-        if line.startswith("VmHWM:"):
+        if line.startswith(field + ":"):
             return int(line.split()[1]) / 1024
     return float("nan")
 

@@ -28,8 +28,12 @@ register_filter_options("ov")
 def render_overview(session, uses, tables, fraction, start, end, campaigns):
     """Totals badges and the matrix for a session and the filter values (plain function)."""
     filters = Filters.from_controls(uses, tables, fraction, start, end, campaigns)
-    counts = cached_status_counts(session, filters)
-    return status_badges(counts.sum(axis=(0, 1))), matrix_table(session, counts, filters.fraction)
+
+    def render():
+        counts = cached_status_counts(session, filters)
+        return status_badges(counts.sum(axis=(0, 1))), matrix_table(session, counts, filters.fraction)
+
+    return session.cached("overview_view", (filters,), render)
 
 
 @callback(
