@@ -601,6 +601,41 @@ class Workspace:
                 return raw.cells.assign(row=raw.rows)[["row", *raw.cells.columns]]
         raise WorkspaceError(f"no sheet '{sheet}' in stored file {name}")
 
+    def current_count(self) -> int:
+        """Number of current results (stored minus superseded), without loading them."""
+        return self.con.execute("SELECT (SELECT coalesce(sum(rows_stored), 0) FROM files) - "
+                                "(SELECT count(*) FROM supersessions)").fetchone()[0]
+
+    def load_result(self, sites: pd.DataFrame | None = None,
+                    sites_name: str = "the sites file") -> loading.LoadResult:
+        """The current results as a ``loading.LoadResult``, as if the lab files were read now.
+
+        ``rejected`` holds every row rejected at import (with its original cells) and, when
+        ``sites`` is given, the current results whose site is not in it. ``files`` has one line per
+        stored file and sheet; its ``accepted`` counts the current results from it.
+        """
+        with self.reading():
+            acc = self.current_results()
+            rej = self.rejected_rows()
+            files = self.sheets()
+            superseded = self.con.execute("SELECT count(*) FROM supersessions").fetchone()[0]
+        cells = pd.DataFrame([json.loads(c) for c in rej["cells"]], index=rej.index, dtype=str)
+        rejected = pd.concat([rej[["file", "sheet", "row", "reason"]], cells], axis=1)
+        if sites is not None:
+            unknown = ~acc["site_id"].isin(sites["site_id"]).to_numpy()
+            if unknown.any():
+                out = acc.loc[unknown, ["file", "sheet", "row", "site_id", "sample_id", "sampled_at",
+                                        "analyte", "fraction", "result_text", "unit"]].astype(str)
+                out.insert(3, "reason", "site '" + out["site_id"] + f"' is not in {sites_name}")
+                rejected = pd.concat([rejected, out], ignore_index=True)
+                acc = acc[~unknown].reset_index(drop=True)
+        for col, df in (("accepted", acc), ("rejected", rejected)):
+            n = df.groupby(["file", "sheet"], observed=True).size()
+            files[col] = [int(n.get((f, s), 0)) for f, s in zip(files["file"], files["sheet"])]
+        warnings = [f"workspace {self.directory}: {len(acc)} current results from {len(files)} file "
+                    f"sheets; {superseded} superseded results are kept in its history, not screened"]
+        return loading.LoadResult(acc, rejected, files, warnings)
+
     def last_import_id(self) -> int | None:
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]
 

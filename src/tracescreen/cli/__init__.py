@@ -18,6 +18,9 @@ COMMANDS = [
     "screen",
     "trends",
     "report",
+    "import_",
+    "history",
+    "export",
 ]
 
 
@@ -30,8 +33,10 @@ def _user_error_types() -> tuple[type[BaseException], ...]:
     from ..limits import LimitTableError
     from ..loading import LoadError
     from ..sites import SitesError
+    from ..workspace import WorkspaceError
 
-    return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError)
+    return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
+            WorkspaceError)
 
 
 def build_parser() -> argparse.ArgumentParser:
