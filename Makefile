@@ -4,7 +4,7 @@ VENV   ?= .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed-stamp
 
-.PHONY: setup run screen test bench clean
+.PHONY: setup run screen report test bench clean
 
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
@@ -23,12 +23,16 @@ DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
 run: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
 
+report: setup
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) --out out/demo/report.html --xlsx out/demo/report.xlsx
+
 test: setup
 	$(PY) -m pytest
 
 bench: setup
 	$(PY) bench/bench_screen.py
 	$(PY) bench/bench_stats.py
+	$(PY) bench/bench_retest.py
 
 clean:
 	rm -rf $(VENV) out test-output
