@@ -11,6 +11,7 @@ import pytest
 
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
+from tracescreen.sites import load_sites
 from tracescreen.workspace import open_workspace
 
 pytestmark = pytest.mark.slow
@@ -94,3 +95,24 @@ def test_workspace_user_errors_exit_2(tmp_path):
         assert p.returncode == 2, (args, p.stderr)
         assert "Traceback" not in p.stderr and want in p.stderr
         assert len(p.stderr.strip().splitlines()) == 1
+
+
+def test_dashboard_reads_the_workspace(tmp_path, scenario_args):
+    """The dashboard built on a workspace holds its current results and rejected rows; the
+    `tracescreen dashboard --workspace` options reach `python -m dashboard`."""
+    from dashboard.app import create_app, describe_dataset
+    from dashboard.data import STORE_EXTENSION
+    from tracescreen.cli import build_parser
+    from tracescreen.cli.dashboard import to_argv
+
+    files, limits, sites, columns = _split(scenario_args)
+    ws = tmp_path / "ws"
+    assert main(["import", *files, "--workspace", str(ws), "--columns", columns]) == 0
+    app = create_app(limits=limits[1::2], sites=sites, workspace=ws)
+    session = app.server.extensions[STORE_EXTENSION].base_session()
+    with open_workspace(ws) as w:
+        want = w.load_result(load_sites(sites), "sites.csv")
+    assert describe_dataset(session).startswith(f"{len(want.accepted):,} results")
+    assert f"{len(want.rejected):,} rows rejected" in describe_dataset(session)
+    args = build_parser().parse_args(["dashboard", "--workspace", str(ws), *limits, "--sites", sites])
+    assert to_argv(args)[:2] == ["--workspace", str(ws)]

@@ -98,7 +98,7 @@ CREATE INDEX segments_by_file ON segments(file_id);
 """
 
 
-class WorkspaceError(Exception):
+class WorkspaceError(ValueError):
     """A workspace that cannot be used as asked (the message says which and why)."""
 
 
