@@ -76,7 +76,7 @@ def test_running_annual_mean_bounds_and_note(tmp_path):
     row = per.iloc[4]
     assert (row["value_nondetects_zero_ug_L"], row["value_nondetects_at_dl_ug_L"]) == pytest.approx((8.5, 10.5))
     assert row["status"] == "meets"
-    assert "10.5 with non-detects at the detection limit" in row["note"]
+    assert "above the limit with non-detects at their detection limit" in row["note"]
 
 
 @pytest.mark.parametrize("rule, expected_5, status_5, expected_6", [
@@ -175,7 +175,8 @@ def test_percentile_nondetect_rules(tmp_path):
                {"sampled_at": "2022-04-01", "value": 30.0}])
     _, per_zero = pct(tmp_path, rows, "zero")
     assert per_zero["value_ug_L"].iloc[0] == 0.0 and per_zero["status"].iloc[0] == "meets"
-    assert "20 with non-detects at the detection limit" in per_zero["note"].iloc[0]
+    assert "above the limit with non-detects at their detection limit" in per_zero["note"].iloc[0]
+    assert per_zero["value_nondetects_at_dl_ug_L"].iloc[0] == 20.0
     _, per_half = pct(tmp_path, rows, "half_dl")
     assert per_half["value_ug_L"].iloc[0] == 10.0 and per_half["status"].iloc[0] == "meets"
     _, per_dl = pct(tmp_path, rows, "dl")

@@ -39,12 +39,18 @@ def replace_at(col: pd.Series, positions: np.ndarray, values):
     """
     positions = np.asarray(positions, dtype=np.int64)
     if isinstance(col.dtype, pd.CategoricalDtype):
-        vals = pd.Index(np.asarray(values, dtype=object)).astype(str)
+        if not isinstance(values, pd.Categorical):
+            values = pd.Categorical(np.asarray(values, dtype=object).astype(str))
         cats = col.cat.categories
-        categories = cats.append(pd.Index(vals.unique()).difference(cats))
+        new = pd.Index(values.categories.astype(str))
+        categories = cats.append(new.difference(cats))
         codes = col.cat.codes.to_numpy().astype(np.int64)  # room for new categories
-        codes[positions] = categories.get_indexer(vals)
+        codes[positions] = categories.get_indexer(new)[values.codes]  # recode via the categories only
         return pd.Categorical.from_codes(codes, categories=categories, ordered=col.cat.ordered)
+    if isinstance(col.dtype, pd.Int64Dtype):
+        arr = col.array.copy()
+        arr[positions] = np.asarray(values, dtype=np.int64)
+        return arr
     if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
         arr = col.to_numpy(dtype=object, copy=True)
         arr[positions] = np.asarray(values, dtype=object)

@@ -57,6 +57,8 @@ from .censored import kaplan_meier_grouped
 from .frames import replace_at
 
 PERIOD_BASES = ("running_annual_mean", "percentile")
+#: Statuses a period value can take, in the severity order of :data:`tracescreen.screening.STATUSES`.
+STATUS_ORDER = ["exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit"]
 NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
@@ -224,12 +226,13 @@ def _window_sums(x: np.ndarray, start: np.ndarray, stop: np.ndarray) -> np.ndarr
     return cs[stop] - cs[start]
 
 
-def _fmt(x) -> np.ndarray:
-    return np.char.mod("%.4g", np.asarray(x, dtype=float)).astype(object)
+#: Notes on period values whose decision depends on the non-detects (kind 1 and 2 of :func:`_decide`).
+DECISION_NOTES = ("", "above the limit only because of non-detects: cannot decide",
+                  "meets; above the limit with non-detects at their detection limit")
 
 
-def _decide(value, lower, upper, all_nd, limit, sig, rounding_on, rule):
-    """Statuses and notes of period values (vectorised; see module doc)."""
+def _decide(value, lower, upper, all_nd, limit, sig, rounding_on):
+    """Status and note kind (index in :data:`DECISION_NOTES`) of period values (vectorised; see module doc)."""
     v, lo, up, lim = (np.asarray(a, dtype=float) for a in (value, lower, upper, limit))
     if rounding_on.any():
         v, lo, up = (np.where(rounding_on, decision.round_to_limit_figures(a, lim, sig), a) for a in (v, lo, up))
@@ -240,20 +243,30 @@ def _decide(value, lower, upper, all_nd, limit, sig, rounding_on, rule):
         [np.isnan(lim), all_nd & up_over, all_nd, np.isnan(v), over & lo_over, over],
         ["no_limit", "nondetect_inconclusive", "nondetect_meets", "no_limit", "exceeds", "nondetect_inconclusive"],
         "meets").astype(object)
-    note = np.full(v.size, "", dtype=object)
     mixed = ~all_nd & ~np.isnan(v) & ~np.isnan(lim)
-    m1 = mixed & over & ~lo_over
-    m2 = mixed & ~over & up_over
-    note[m1] = "above the limit only because of non-detects (" + _fmt(lo[m1]) + " with non-detects as zero): cannot decide"
-    note[m2] = ("meets with " + np.array([NONDETECT_RULE_TEXT[r] for r in np.asarray(rule)[m2]], dtype=object)
-                + "; " + _fmt(up[m2]) + " with non-detects at the detection limit")
-    return status, note
+    kind = np.where(mixed & over & ~lo_over, 1, np.where(mixed & ~over & up_over, 2, 0))
+    return pd.Categorical(status, categories=STATUS_ORDER), kind
 
 
-def _join(a: np.ndarray, sep: str, b: np.ndarray) -> np.ndarray:
-    """a + sep + b element-wise, leaving out sep where either side is empty."""
-    a, b = np.asarray(a, dtype=object), np.asarray(b, dtype=object)
-    return np.where(a == "", b, np.where(b == "", a, a + sep + b))
+def _combo_text(columns: list, render) -> pd.Categorical:
+    """Text per row from a few low-cardinality columns, rendered once per distinct combination."""
+    n = len(columns[0])
+    key = np.zeros(n, dtype=np.int64)
+    cats = []
+    for col in columns:
+        codes, uniques = pd.factorize(np.asarray(col))
+        key = key * max(len(uniques), 1) + codes
+        cats.append(np.asarray(uniques, dtype=object))
+    uniq, inv = np.unique(key, return_inverse=True)
+    texts = []
+    for k in uniq.tolist():  # distinct combinations, not rows
+        parts = []
+        for c in reversed(cats):
+            k, i = divmod(k, max(len(c), 1))
+            parts.append(c[i])
+        texts.append(render(*reversed(parts)))
+    categories, inv2 = np.unique(np.array(texts, dtype=object).astype(str), return_inverse=True)
+    return pd.Categorical.from_codes(inv2[inv.ravel()], categories=categories)
 
 
 _ROW_COLUMNS = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "value_ug_L", "detected",
@@ -325,7 +338,8 @@ def _values_at(col: pd.Series, pos: np.ndarray) -> np.ndarray:
     return col.to_numpy()[pos]
 
 
-def evaluate(screened: pd.DataFrame, limits, with_results: bool = False) -> tuple[pd.DataFrame, pd.DataFrame]:
+def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
+             with_table: bool = True) -> tuple[pd.DataFrame, pd.DataFrame | None]:
     """Period statistics for the screening rows whose entry has a period basis.
 
     Parameters
@@ -336,6 +350,8 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False) -> tupl
         The limit tables the rows were screened against (settings and entry keys).
     with_results : bool
         Also list, per period value, the results that formed it (slower; for ``periods.csv``).
+    with_table : bool
+        Build the ``periods`` table (False: only ``per_row``, for screening).
 
     Returns
     -------
@@ -354,23 +370,25 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False) -> tupl
     for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles)):
         sel = np.flatnonzero(rows["basis"] == basis)
         if sel.size:
-            r, t = fn(_take(rows, sel), _take(par, sel), with_results)
+            r, t = fn(_take(rows, sel), _take(par, sel), with_results, with_table)
             r.index = pos[sel][r.index.to_numpy()]
-            r["period_no"] += sum(len(x) for x in tables)
+            r["period_no"] += sum(len(x["status"]) for x in tables)
             per_rows.append(r)
             tables.append(t)
-    periods = pd.concat(tables, ignore_index=True)
-    periods["period_id"] = "P" + pd.Series(np.arange(1, len(periods) + 1)).astype(str).str.zfill(6)
-    for c in ("value_ug_L", "value_nondetects_zero_ug_L", "value_nondetects_at_dl_ug_L", "ratio"):
-        periods[c] = clean_decimal(periods[c].to_numpy(dtype=float))
     per_row = pd.concat(per_rows).sort_index()
-    per_row["period_id"] = periods["period_id"].to_numpy()[per_row.pop("period_no").to_numpy()]
+    per_row["period_id"] = per_row.pop("period_no").to_numpy() + 1
     for c in ("ratio", "period_value_ug_L"):
         per_row[c] = clean_decimal(per_row[c].to_numpy(dtype=float))
+    if not with_table:
+        return per_row, None
+    periods = pd.concat([pd.DataFrame(t) for t in tables], ignore_index=True)
+    periods["period_id"] = np.arange(1, len(periods) + 1)
+    for c in ("value_ug_L", "value_nondetects_zero_ug_L", "value_nondetects_at_dl_ug_L", "ratio"):
+        periods[c] = clean_decimal(periods[c].to_numpy(dtype=float))
     return per_row, periods[PERIOD_COLUMNS]
 
 
-def _running_means(rows: pd.DataFrame, par: dict, with_results: bool):
+def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
     code = _series_codes(rows)
     order = np.lexsort((rows["sampled_at"].astype("datetime64[ns]"), code))
     code, r, p = code[order], _take(rows, order), _take(par, order)
@@ -396,20 +414,21 @@ def _running_means(rows: pd.DataFrame, par: dict, with_results: bool):
         value[km] = kaplan_meier_grouped(upper_values[take], ~det[take], np.repeat(np.arange(km.size), size),
                                          km.size, probs=())["mean"].to_numpy()
     limit = r["limit_ug_L"].astype(float)
-    status, note = _decide(value, lower, upper, n_nd == n, limit, p["sig"], p["rounding"], rule)
+    status, kind = _decide(value, lower, upper, n_nd == n, limit, p["sig"], p["rounding"])
     day = pd.DatetimeIndex(r["sampled_at"]).normalize()
     first_day = pd.Series(day).groupby(code).transform("min").to_numpy()
     window_start = (day - pd.DateOffset(months=WINDOW_MONTHS) + pd.Timedelta(days=1)).to_numpy()
     short = first_day > window_start
-    note = np.where(short, _join("less than 12 months of record", "; ", note), note)
-    rule_txt = np.array([NONDETECT_RULE_TEXT[x] for x in rule], dtype=object)
-    what = ("running annual mean " + _fmt(value) + " µg/L of " + n.astype(int).astype(str).astype(object)
-            + " results (" + rule_txt + ")")
+    note = _combo_text([n.astype(int), rule, short, kind], lambda k, ru, sh, kd: "; ".join(filter(None, [
+        f"running annual mean of {k} results ({NONDETECT_RULE_TEXT[ru]})",
+        "less than 12 months of record" if sh else "", DECISION_NOTES[kd]])))
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = value / limit
-    per_row = pd.DataFrame({"status": status, "ratio": ratio, "note": _join(what, "; ", note),
+    per_row = pd.DataFrame({"status": status, "ratio": ratio, "note": note,
                             "period_value_ug_L": value, "period_no": np.arange(code.size)}, index=order)
-    periods = pd.DataFrame({
+    if not with_table:
+        return per_row, {"status": status}
+    periods = {
         "limit_table": r["limit_table"], "use": p["use"], "site_id": r["site_id"],
         "analyte": r["analyte"], "fraction": r["fraction"], "basis": "running_annual_mean",
         "duration": r["duration"], "statistic": "mean",
@@ -419,11 +438,11 @@ def _running_means(rows: pd.DataFrame, par: dict, with_results: bool):
         "value_nondetects_zero_ug_L": lower, "value_nondetects_at_dl_ug_L": upper, "limit_ug_L": limit,
         "ratio": ratio, "status": status, "note": note, "source": p["source"],
         "results": _joined(r, start, stop) if with_results else "",
-    })
+    }
     return per_row, periods
 
 
-def _percentiles(rows: pd.DataFrame, par: dict, with_results: bool):
+def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     label = np.empty(rows["basis"].size, dtype=object)
     p_start = np.empty(rows["basis"].size, dtype="datetime64[ns]")
     p_end = np.empty(rows["basis"].size, dtype="datetime64[ns]")
@@ -462,20 +481,22 @@ def _percentiles(rows: pd.DataFrame, par: dict, with_results: bool):
     n_nd = np.bincount(group, weights=(~det).astype(float), minlength=starts.size).astype(int)
     limit_all = r["limit_ug_L"].astype(float)
     limit = limit_all[last]
-    status, note = _decide(value, lower, upper, (n_nd == n) | censored, limit, p["sig"][last], p["rounding"][last], rule)
+    status, kind = _decide(value, lower, upper, (n_nd == n) | censored, limit, p["sig"][last], p["rounding"][last])
     lim_min = np.minimum.reduceat(np.nan_to_num(limit_all, nan=np.inf), starts)
     lim_max = np.maximum.reduceat(np.nan_to_num(limit_all, nan=-np.inf), starts)
-    note = np.where(lim_min != lim_max, _join(note, "; ", "the limit changed within the period; the limit in force "
-                                                          "on the last sample date applies"), note)
     stat = np.char.mod("%g", pct).astype(object) + "th percentile (" + method.astype(str).astype(object) + ")"
-    rule_txt = np.array([NONDETECT_RULE_TEXT[x] for x in rule], dtype=object)
-    what = (stat + " " + _fmt(value) + " µg/L of " + n.astype(str).astype(object) + " results in " + label[last]
-            + " (" + rule_txt + ")")
+    note = _combo_text([stat, n, label[last], rule, kind, lim_min != lim_max],
+                       lambda st, k, lab, ru, kd, ch: "; ".join(filter(None, [
+                           f"{st} of {k} results in {lab} ({NONDETECT_RULE_TEXT[ru]})", DECISION_NOTES[kd],
+                           "the limit changed within the period; the limit in force on the last sample date "
+                           "applies" if ch else ""])))
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = value / limit
-    per_row = pd.DataFrame({"status": status[group], "ratio": ratio[group], "note": _join(what, "; ", note)[group],
+    per_row = pd.DataFrame({"status": status[group], "ratio": ratio[group], "note": note[group],
                             "period_value_ug_L": value[group], "period_no": group}, index=order)
-    periods = pd.DataFrame({
+    if not with_table:
+        return per_row, {"status": status}
+    periods = {
         "limit_table": r["limit_table"][last], "use": p["use"][last], "site_id": r["site_id"][last],
         "analyte": r["analyte"][last], "fraction": r["fraction"][last], "basis": "percentile",
         "duration": r["duration"][last], "statistic": stat, "period": label[last],
@@ -483,7 +504,7 @@ def _percentiles(rows: pd.DataFrame, par: dict, with_results: bool):
         "nondetect_rule": rule, "value_ug_L": value, "value_nondetects_zero_ug_L": lower,
         "value_nondetects_at_dl_ug_L": upper, "limit_ug_L": limit, "ratio": ratio, "status": status, "note": note,
         "source": p["source"][last], "results": _joined(r, starts, stops) if with_results else "",
-    })
+    }
     return per_row, periods
 
 
@@ -491,11 +512,11 @@ def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
     """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``)."""
     out = screened
     if "period_id" not in out or "period_value_ug_L" not in out:
-        out = out.assign(period_id="", period_value_ug_L=np.nan)
-    per_row, _ = evaluate(out, limits)
+        out = out.assign(period_id=pd.array([pd.NA] * len(out), dtype="Int64"), period_value_ug_L=np.nan)
+    per_row, _ = evaluate(out, limits, with_table=False)
     if len(per_row):
         where = per_row.index.to_numpy()
-        out = out.assign(**{c: replace_at(out[c], where, per_row[c].to_numpy())
+        out = out.assign(**{c: replace_at(out[c], where, per_row[c].array)
                             for c in ("status", "ratio", "note", "period_id", "period_value_ug_L")})
     return out
 

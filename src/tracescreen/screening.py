@@ -202,7 +202,7 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds)
     out = pd.DataFrame(cols)
     out["compared_value_ug_L"] = np.nan
-    out["period_id"] = ""
+    out["period_id"] = pd.array([pd.NA] * len(out), dtype="Int64")  # periods.py fills period rows
     out["period_value_ug_L"] = np.nan
     out = decision.apply_rounding(out, limits)  # tables that compare after rounding
     out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
