@@ -4,7 +4,7 @@ VENV   ?= .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed-stamp
 
-.PHONY: setup run screen report test bench clean
+.PHONY: setup run screen report test bench bench-dashboard clean
 
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
@@ -21,6 +21,9 @@ DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
                 --columns scenario_data/columns_eastbank.yaml
 
 run: setup
+	$(VENV)/bin/tracescreen dashboard $(DEMO_DATA) --host 127.0.0.1 --port 8050
+
+screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
 
 report: setup
@@ -33,6 +36,9 @@ bench: setup
 	$(PY) bench/bench_screen.py
 	$(PY) bench/bench_stats.py
 	$(PY) bench/bench_retest.py
+
+bench-dashboard: setup
+	$(PY) bench/bench_dashboard.py
 
 clean:
 	rm -rf $(VENV) out test-output

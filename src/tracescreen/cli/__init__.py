@@ -18,6 +18,7 @@ COMMANDS = [
     "screen",
     "trends",
     "report",
+    "dashboard",
 ]
 
 

@@ -1,0 +1,219 @@
+"""Figure builders (plain functions returning plotly figures; no Dash callbacks here)."""
+
+from __future__ import annotations
+
+import math
+import textwrap
+
+import numpy as np
+import pandas as pd
+
+from dashboard.data import text_values
+
+from dashboard.palette import (
+    LIMIT_COLOUR,
+    LIMIT_DASHES,
+    STATUS_COLOUR,
+    STATUS_LABEL,
+    STATUS_ORDER,
+    STATUS_RANK,
+    STATUS_SYMBOL,
+    TREND_COLOUR,
+)
+
+#: above this many points a series is drawn with WebGL (``Scattergl``)
+WEBGL_THRESHOLD = 2000
+_POINT_COLUMNS = ("result_text", "unit", "sample_id", "lab", "batch", "qualifier",
+                  "limit_table", "limit_ug_L", "source")
+
+
+def _wrap(text: str, width: int = 70) -> str:
+    return "<br>".join(textwrap.wrap(text, width)) if text else ""
+
+
+def result_points(rows: pd.DataFrame) -> pd.DataFrame:
+    """One point per site-sample result: its plotted value and its worst screening row.
+
+    ``y`` is the detected value, or the detection limit for a non-detect [µg/L]. ``status`` is the
+    worst status among the result's limits, and the limit columns come from that row.
+    """
+    if "sample_type" in rows.columns:
+        rows = rows[(rows["sample_type"].astype(str) == "sample").to_numpy()]
+    if rows.empty:
+        return rows.assign(y=pd.Series(dtype=float))
+    rank = rows["status"].astype(str).map(STATUS_RANK).fillna(-1).to_numpy()
+    rid = rows["_rid"].to_numpy()
+    order = np.lexsort((-rank, rid))
+    rid_sorted = rid[order]
+    first = order[np.r_[True, rid_sorted[1:] != rid_sorted[:-1]]]
+    pts = rows.iloc[np.sort(first)].copy()
+    detected = pts["detected"].to_numpy(dtype=bool)
+    pts["y"] = np.where(detected, pts["value_ug_L"].to_numpy(float),
+                        pts["detection_limit_ug_L"].to_numpy(float))
+    pts["status"] = pts["status"].astype(str)
+    return pts
+
+
+def limit_steps(rows: pd.DataFrame) -> list[dict]:
+    """Each applicable limit of a series as a step line following the sampling dates.
+
+    A fixed limit gives a flat line; a hardness-dependent one follows the hardness of each sample;
+    an entry with effective dates is drawn only where it was in force.
+    """
+    if "sample_type" in rows.columns:
+        rows = rows[(rows["sample_type"].astype(str) == "sample").to_numpy()]
+    rows = rows[rows["limit_ug_L"].notna().to_numpy()]
+    out = []
+    keys = [c for c in ("limit_table", "duration", "basis") if c in rows.columns]
+    if rows.empty:
+        return out
+    for key, grp in rows.groupby(keys, observed=True, sort=True, dropna=False):
+        key = key if isinstance(key, tuple) else (key,)
+        grp = grp.sort_values("sampled_at", kind="stable").drop_duplicates("sampled_at")
+        table = str(key[0])
+        duration = str(key[1]) if len(key) > 1 and isinstance(key[1], str) and key[1] else ""
+        source = str(grp["source"].iloc[0]) if "source" in grp else ""
+        use = str(grp["use"].iloc[0]) if "use" in grp else ""
+        out.append({
+            "table": table, "duration": duration, "use": use, "source": source,
+            "x": grp["sampled_at"].to_numpy(), "y": grp["limit_ug_L"].to_numpy(float),
+            "varies": bool(grp["limit_ug_L"].nunique() > 1),
+        })
+    return out
+
+
+def _dates(values) -> np.ndarray:
+    """Dates as ISO text for plotly (cheap to serialise, exact to the second)."""
+    arr = np.asarray(values, dtype="datetime64[s]")
+    return np.datetime_as_string(arr, unit="s")
+
+
+def _layout(**extra) -> dict:
+    """Plain white layout shared by the figures (a literal: no template object to copy)."""
+    axis = {"gridcolor": "#e6e9ec", "zerolinecolor": "#c9ced4", "linecolor": "#8a939c", "ticks": "outside"}
+    base = {"paper_bgcolor": "white", "plot_bgcolor": "white", "font": {"family": "system-ui, sans-serif"},
+            "hoverlabel": {"align": "left"}, "xaxis": dict(axis), "yaxis": dict(axis),
+            "legend": {"orientation": "h", "yanchor": "top", "y": -0.14, "x": 0}}
+    for key, value in extra.items():
+        base[key] = {**base[key], **value} if isinstance(value, dict) and isinstance(base.get(key), dict) else value
+    return base
+
+
+def trend_trace(trend: dict) -> dict:
+    """The trend line as a plotly trace (``trend``: ``x``, ``y`` [µg/L], ``label``)."""
+    return {"type": "scatter", "mode": "lines", "x": _dates(trend["x"]).tolist(), "y": list(trend["y"]),
+            "name": f"Trend: {trend.get('label', '')}", "line": {"color": TREND_COLOUR, "width": 2},
+            "hovertemplate": "Trend %{y:.4g} µg/L on %{x|%Y-%m-%d}<extra></extra>", "meta": {"role": "trend"}}
+
+
+def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
+                      log_y: bool = False) -> dict:
+    """Results over time with limits, exceedances and (optionally) a trend line, as a plotly dict.
+
+    Built as plain dicts (no figure-object validation), which keeps the chart callback fast.
+
+    Parameters
+    ----------
+    rows : DataFrame
+        Screened rows of one site, analyte and fraction (``SessionData.series``).
+    title : str
+        Figure title.
+    trend : dict, optional
+        ``{"x": [t0, t1], "y": [c0, c1], "label": str}``: a trend line [µg/L] and its test result.
+    log_y : bool
+        Logarithmic concentration axis.
+    """
+    pts = result_points(rows)
+    webgl = len(pts) > WEBGL_THRESHOLD
+    data = []
+    status_of = pts["status"].to_numpy() if len(pts) else np.array([], dtype=object)
+    for status in (*STATUS_ORDER, "qc_sample"):
+        sub = pts[status_of == status]
+        if sub.empty:
+            continue
+        custom = np.column_stack([text_values(sub[c]) if c in sub else np.full(len(sub), "", object)
+                                  for c in _POINT_COLUMNS[:-2]])
+        limit = np.char.mod("%.4g", sub["limit_ug_L"].to_numpy(float)).astype(object)
+        limit[~np.isfinite(sub["limit_ug_L"].to_numpy(float))] = "–"
+        sources = text_values(sub["source"]) if "source" in sub else np.full(len(sub), "", object)
+        wrapped = {u: _wrap(u) for u in set(sources)}
+        custom = np.column_stack([custom, limit, [wrapped[u] for u in sources]])
+        data.append({
+            "type": "scattergl" if webgl else "scatter", "mode": "markers",
+            "x": _dates(sub["sampled_at"]), "y": sub["y"].to_numpy(float),
+            "name": f"{STATUS_LABEL[status]} ({len(sub)})",
+            "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 9,
+                       "line": {"width": 1.5, "color": STATUS_COLOUR[status]}},
+            "customdata": custom.tolist(),
+            "hovertemplate": (
+                "%{x|%Y-%m-%d}<br>Result as reported: <b>%{customdata[0]} %{customdata[1]}</b>"
+                " (plotted %{y:.4g} µg/L)<br>Sample %{customdata[2]} · lab %{customdata[3]}"
+                " · batch %{customdata[4]} · qualifier %{customdata[5]}"
+                "<br>Limit: %{customdata[6]} %{customdata[7]} µg/L<br>Source: %{customdata[8]}"
+                f"<extra>{STATUS_LABEL[status]}</extra>"
+            ),
+            "meta": {"role": "result", "status": status},
+        })
+    for i, lim in enumerate(limit_steps(rows)):
+        label = f"Limit: {lim['table']}" + (f" ({lim['duration']})" if lim["duration"] else "")
+        data.append({
+            "type": "scatter", "mode": "lines", "x": _dates(lim["x"]), "y": lim["y"], "name": label,
+            "line": {"shape": "hv", "color": LIMIT_COLOUR, "width": 2, "dash": LIMIT_DASHES[i % len(LIMIT_DASHES)]},
+            "hovertemplate": (f"{label}<br>%{{y:.4g}} µg/L on %{{x|%Y-%m-%d}}"
+                              + (" (hardness-dependent)" if lim["varies"] else "")
+                              + f"<br>Use: {lim['use']}<br>Source: {_wrap(lim['source'])}<extra></extra>"),
+            "meta": {"role": "limit", "table": lim["table"], "varies": lim["varies"]},
+        })
+    if trend:
+        data.append(trend_trace(trend))
+    layout = _layout(
+        title={"text": title, "x": 0.01}, margin={"l": 60, "r": 20, "t": 60, "b": 40}, height=520,
+        yaxis={"title": {"text": "Concentration [µg/L] (non-detects at their detection limit)"},
+               "type": "log" if log_y else "linear", **({} if log_y else {"rangemode": "tozero"})},
+        xaxis={"title": {"text": "Sampling date"}, "type": "date"},
+        uirevision=title, meta={"webgl": webgl, "n_points": int(len(pts))},
+    )
+    if pts.empty:
+        layout["annotations"] = [{"text": "No site-sample results for this selection", "showarrow": False,
+                                  "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}]
+    return {"data": data, "layout": layout}
+
+
+def map_figure(site_table: pd.DataFrame) -> dict:
+    """Sites by longitude and latitude, marked by worst status, with no tile server needed.
+
+    The axes are plain degrees with the east-west scale shrunk by cos(latitude), so distances
+    look right at the catchment's latitude (an equirectangular view).
+    """
+    located = site_table.dropna(subset=[c for c in ("latitude", "longitude") if c in site_table])
+    if "latitude" not in located or located.empty:
+        return {"data": [], "layout": _layout(annotations=[{
+            "text": "No site coordinates (give a sites file with latitude and longitude)",
+            "showarrow": False, "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}])}
+    data = []
+    for status in STATUS_ORDER:
+        sub = located[located["worst"] == status]
+        if sub.empty:
+            continue
+        names = sub["name"].fillna("").astype(str) if "name" in sub else sub["site_id"]
+        data.append({
+            "type": "scatter", "mode": "markers+text", "x": sub["longitude"].to_numpy(float),
+            "y": sub["latitude"].to_numpy(float), "text": sub["site_id"].astype(str).tolist(),
+            "textposition": "top center", "name": f"{STATUS_LABEL[status]} ({len(sub)})",
+            "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 16,
+                       "line": {"width": 2, "color": STATUS_COLOUR[status]}},
+            "customdata": np.column_stack([sub["site_id"].astype(str), names, sub["n_results"],
+                                           sub["n_exceeds"]]).tolist(),
+            "hovertemplate": ("<b>%{customdata[1]}</b> (%{customdata[0]})<br>"
+                              f"Worst: {STATUS_LABEL[status]}<br>%{{customdata[2]}} results, "
+                              "%{customdata[3]} above a limit<br>%{y:.4f}° N, %{x:.4f}° E<extra></extra>"),
+            "meta": {"role": "sites", "status": status},
+        })
+    lat0 = float(located["latitude"].mean())
+    layout = _layout(
+        height=620, margin={"l": 60, "r": 20, "t": 30, "b": 40},
+        xaxis={"title": {"text": "Longitude [°]"}, "scaleanchor": "y",
+               "scaleratio": max(math.cos(math.radians(lat0)), 0.05), "constrain": "domain"},
+        yaxis={"title": {"text": "Latitude [°]"}},
+    )
+    return {"data": data, "layout": layout}

@@ -1,0 +1,111 @@
+"""Limit-table logic: the loaded tables, their entries in words, and the sites each applies to."""
+
+from __future__ import annotations
+
+import math
+
+import pandas as pd
+from dash import html
+
+from dashboard.data import SessionData
+
+ENTRY_COLUMNS = ["analyte", "fraction", "limit", "hardness_range", "duration", "basis",
+                 "effective_from", "effective_to", "note"]
+
+
+def _num(v) -> bool:
+    return v is not None and not (isinstance(v, float) and math.isnan(v)) and v is not pd.NA
+
+
+def _fmt(v) -> str:
+    return f"{float(v):.6g}"
+
+
+def formula_text(entry) -> str:
+    """A limit entry in words: a value [µg/L] or its hardness formula (H = hardness, mg/L CaCO3).
+
+    The hardness form is the exponential one of US EPA's hardness-dependent criteria,
+    exp(m·ln H + b) × CF, with CF a number or CF = a + s·ln H (40 CFR 131.36(b)(2)).
+    """
+    get = entry.get if hasattr(entry, "get") else lambda k, d=None: getattr(entry, k, d)
+    if _num(get("value_ug_L")):
+        return f"{_fmt(get('value_ug_L'))} µg/L"
+    m, b = get("hf_m"), get("hf_b")
+    if not (_num(m) and _num(b)):
+        return ""
+    text = f"exp({_fmt(m)}·ln H {'+' if float(b) >= 0 else '−'} {_fmt(abs(float(b)))})"
+    cf, a, slope = get("hf_cf"), get("hf_cf_intercept"), get("hf_cf_ln_slope")
+    if _num(cf) and float(cf) != 1.0:
+        text += f" × {_fmt(cf)}"
+    elif _num(a) and _num(slope):  # CF = a + slope·ln H (the slope is negative in the EPA tables)
+        text += f" × ({_fmt(a)} {'+' if float(slope) >= 0 else '−'} {_fmt(abs(float(slope)))}·ln H)"
+    return text + " µg/L"
+
+
+def _date(v) -> str:
+    return "" if v is None or pd.isna(v) else str(pd.Timestamp(v).date())
+
+
+def entry_rows(entries: pd.DataFrame) -> list[dict]:
+    """Entries of one table as display rows."""
+    rows = []
+    for e in entries.to_dict("records"):
+        lo, hi = e.get("hardness_min"), e.get("hardness_max")
+        rng = ""
+        if _num(lo) or _num(hi):
+            rng = f"{_fmt(lo) if _num(lo) else '…'}–{_fmt(hi) if _num(hi) else '…'} mg/L CaCO3"
+        rows.append({
+            "analyte": e.get("analyte", ""), "fraction": e.get("fraction", ""),
+            "limit": formula_text(e), "hardness_range": rng,
+            "duration": e.get("duration") or "", "basis": e.get("basis") or "",
+            "effective_from": _date(e.get("effective_from")), "effective_to": _date(e.get("effective_to")),
+            "note": e.get("note") or "",
+        })
+    return rows
+
+
+def sites_for_use(session: SessionData, use: str) -> list[str] | None:
+    """Site ids whose uses include ``use``; ``None`` when no sites file was given (all apply)."""
+    if session.sites is None:
+        return None
+    sites = session.sites
+    has = sites["uses"].map(lambda u: use in (u if isinstance(u, (tuple, list)) else str(u).split(";")))
+    return sorted(sites.loc[has, "site_id"].astype(str))
+
+
+def table_sections(session: SessionData) -> list:
+    """One section per loaded limit table: citation, use, unit, entries, sites."""
+    tables, entries = session.limits.tables, session.limits.entries
+    out = []
+    for t in tables.to_dict("records"):
+        tid = str(t.get("table_id"))
+        ents = entries[entries["table_id"].astype(str) == tid]
+        sites = sites_for_use(session, str(t.get("use")))
+        if sites is None:
+            applies = "every site (no sites file was given)"
+        elif sites:
+            applies = ", ".join(f"{s} ({session.site_name(s)})" for s in sites)
+        else:
+            applies = "no site lists this use"
+        meta = [
+            html.Dt("Source"), html.Dd(str(t.get("source", "")), className="citation"),
+            html.Dt("Protects use"), html.Dd(str(t.get("use", ""))),
+            html.Dt("Unit in the table"), html.Dd(str(t.get("unit", ""))),
+            html.Dt("Applies to sites"), html.Dd(applies, className="applies"),
+        ]
+        if t.get("url"):
+            meta += [html.Dt("Link"), html.Dd(html.A(str(t["url"]), href=str(t["url"])))]
+        if t.get("notes"):
+            meta += [html.Dt("Notes"), html.Dd(str(t["notes"]))]
+        rows = entry_rows(ents)
+        out.append(html.Section([
+            html.H3(f"{tid} — {t.get('name', '')}"),
+            html.Dl(meta, className="meta"),
+            html.Details([
+                html.Summary(f"{len(rows)} entries"),
+                html.Table([html.Thead(html.Tr([html.Th(c) for c in ENTRY_COLUMNS])),
+                            html.Tbody([html.Tr([html.Td(r[c]) for c in ENTRY_COLUMNS]) for r in rows])],
+                           className="plain"),
+            ], open=len(rows) <= 40),
+        ], className="limit-table", id=f"table-{tid}"))
+    return out

@@ -1,0 +1,1 @@
+"""Dash pages (imported by Dash from their files; not to be imported directly)."""

@@ -1,0 +1,85 @@
+"""Exceedances: every row above a limit or undecided (DL above the limit); CSV and XLSX download."""
+
+import dash
+from dash import Input, Output, State, callback, dcc, html
+
+from dashboard.components import data_table, page_header, status_legend
+from dashboard.data import current_session
+from dashboard.palette import STATUS_COLOUR
+from dashboard.tables import (
+    FilterError,
+    exceedance_rows,
+    query_table,
+    table_page,
+    to_csv_bytes,
+    to_xlsx_bytes,
+)
+
+dash.register_page(__name__, path="/exceedances", name="Exceedances", order=3,
+                   title="tracescreen · exceedances")
+
+PAGE_SIZE = 25
+#: on screen the deciding columns come first; downloads keep the engine's column order
+SHOWN = [("site_id", "Site"), ("sampled_at", "Sampled"), ("analyte", "Metal"), ("fraction", "Fraction"),
+         ("status", "Status"), ("result_text", "Result as reported"), ("unit", "Unit"),
+         ("limit_ug_L", "Limit [µg/L]"), ("ratio", "Ratio"), ("limit_table", "Limit table"),
+         ("duration", "Duration"), ("use", "Use"), ("sample_id", "Sample"),
+         ("value_ug_L", "Value [µg/L]"), ("detection_limit_ug_L", "DL [µg/L]"),
+         ("source", "Source"), ("note", "Note")]
+_STATUS_STYLE = [
+    {"if": {"filter_query": f'{{status}} = "{s}"', "column_id": "status"},
+     "color": STATUS_COLOUR[s], "fontWeight": "600"}
+    for s in ("exceeds", "nondetect_inconclusive")
+]
+
+
+def layout(**_query):
+    return html.Div([
+        page_header("Exceedances", "Every site-sample result above a limit (exceeds) or that cannot "
+                    "be decided because its detection limit is above the limit "
+                    "(nondetect_inconclusive), with the limit, the ratio result/limit and the "
+                    "limit's source. Type in the row under the headers to filter (e.g. > 2 in "
+                    "ratio); click a header to sort. Downloads hold the filtered, sorted rows."),
+        status_legend(),
+        html.Div([
+            html.Button("Download CSV", id="exc-csv-btn", className="button"),
+            html.Button("Download XLSX", id="exc-xlsx-btn", className="button"),
+            html.Span(id="exc-count", className="count-text"),
+        ], className="toolbar"),
+        html.Div(id="exc-error", className="error", role="alert"),
+        data_table("exc-table", SHOWN, page_size=PAGE_SIZE, style_data_conditional=_STATUS_STYLE),
+        dcc.Download(id="exc-download"),
+    ])
+
+
+@callback(
+    Output("exc-table", "data"), Output("exc-table", "page_count"), Output("exc-count", "children"),
+    Output("exc-error", "children"), Output("exc-table", "tooltip_data"),
+    Input("dataset-key", "data"), Input("exc-table", "page_current"), Input("exc-table", "page_size"),
+    Input("exc-table", "sort_by"), Input("exc-table", "filter_query"),
+)
+def update_exceedance_table(dataset_key, page_current, page_size, sort_by, filter_query):
+    rows = exceedance_rows(current_session(dataset_key))
+    return table_page(rows, page_current, page_size or PAGE_SIZE, sort_by, filter_query)
+
+
+def download(session, kind, sort_by, filter_query):
+    """The ``dcc.Download`` payload of the filtered, sorted exceedance rows (plain function)."""
+    try:
+        rows = query_table(exceedance_rows(session), filter_query, sort_by)
+    except FilterError:
+        rows = exceedance_rows(session)
+    if kind == "xlsx":
+        return dcc.send_bytes(to_xlsx_bytes(rows), "exceedances.xlsx")
+    return dcc.send_bytes(to_csv_bytes(rows), "exceedances.csv")
+
+
+@callback(
+    Output("exc-download", "data"),
+    Input("exc-csv-btn", "n_clicks"), Input("exc-xlsx-btn", "n_clicks"),
+    State("dataset-key", "data"), State("exc-table", "sort_by"), State("exc-table", "filter_query"),
+    prevent_initial_call=True,
+)
+def download_exceedances(_csv, _xlsx, dataset_key, sort_by, filter_query):
+    kind = "xlsx" if dash.ctx.triggered_id == "exc-xlsx-btn" else "csv"
+    return download(current_session(dataset_key), kind, sort_by, filter_query)

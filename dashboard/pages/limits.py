@@ -1,0 +1,26 @@
+"""Limit tables: every loaded table with its citation, use, unit, entries and sites."""
+
+import dash
+from dash import Input, Output, callback, html
+
+from dashboard.components import page_header
+from dashboard.data import current_session
+from dashboard.limit_tables import table_sections
+
+dash.register_page(__name__, path="/limits", name="Limit tables", order=6,
+                   title="tracescreen · limit tables")
+
+
+def layout(**_query):
+    return html.Div([
+        page_header("Limit tables", "The limit tables this session screens against. Each entry applies "
+                    "to a result of the same metal and fraction at a site whose uses include the "
+                    "table's use, when the sampling date falls in the entry's effective dates. "
+                    "Hardness formulas use H, the sample hardness as mg/L CaCO3."),
+        html.Div(id="limits-list"),
+    ])
+
+
+@callback(Output("limits-list", "children"), Input("dataset-key", "data"))
+def update_limits(dataset_key):
+    return table_sections(current_session(dataset_key))

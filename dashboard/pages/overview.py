@@ -1,0 +1,49 @@
+"""Overview: sites x metals, worst status in the selected period, with counts and totals."""
+
+import dash
+from dash import Input, Output, callback, html
+
+from dashboard.components import filter_controls, filter_options, page_header, status_legend
+from dashboard.data import current_session
+from dashboard.matrix import Filters, cached_status_counts, matrix_table, status_badges
+
+dash.register_page(__name__, path="/", name="Overview", order=0, title="tracescreen · overview")
+
+
+def layout(**_query):
+    return html.Div([
+        page_header("Overview", "Worst screening status of every site and metal over the selected "
+                    "period. Each cell: status shape and words, then results above a limit / all "
+                    "results. Click a cell to open that site and metal."),
+        filter_controls("ov"),
+        html.Div(id="ov-totals"),
+        status_legend(),
+        html.Div(id="ov-matrix", className="matrix-wrap"),
+    ])
+
+
+@callback(
+    Output("ov-uses", "options"), Output("ov-tables", "options"), Output("ov-fraction", "options"),
+    Output("ov-dates", "min_date_allowed"), Output("ov-dates", "max_date_allowed"),
+    Output("ov-campaigns", "options"),
+    Input("dataset-key", "data"),
+)
+def overview_filter_options(dataset_key):
+    return filter_options(current_session(dataset_key))
+
+
+def render_overview(session, uses, tables, fraction, start, end, campaigns):
+    """Totals badges and the matrix for a session and the filter values (plain function)."""
+    filters = Filters.from_controls(uses, tables, fraction, start, end, campaigns)
+    counts = cached_status_counts(session, filters)
+    return status_badges(counts.sum(axis=(0, 1))), matrix_table(session, counts, filters.fraction)
+
+
+@callback(
+    Output("ov-totals", "children"), Output("ov-matrix", "children"),
+    Input("dataset-key", "data"), Input("ov-uses", "value"), Input("ov-tables", "value"),
+    Input("ov-fraction", "value"), Input("ov-dates", "start_date"), Input("ov-dates", "end_date"),
+    Input("ov-campaigns", "value"),
+)
+def update_overview(dataset_key, uses, tables, fraction, start, end, campaigns):
+    return render_overview(current_session(dataset_key), uses, tables, fraction, start, end, campaigns)

@@ -1,0 +1,59 @@
+"""Retest list: results a reviewer should send back for confirmation, with reason and action."""
+
+import dash
+from dash import Input, Output, State, callback, dcc, html
+
+from dashboard.components import data_table, page_header
+from dashboard.data import current_session
+from dashboard.retest import reason_totals, retest_available, retest_frame
+from dashboard.quality import html_table
+from dashboard.tables import table_page, to_csv_bytes
+
+dash.register_page(__name__, path="/retest", name="Retest list", order=4,
+                   title="tracescreen · retest list")
+PAGE_SIZE = 20
+#: what to act on first; the CSV download keeps the engine's column order
+COLUMNS = ["site_id", "sampled_at", "analyte", "fraction", "reason", "detail", "suggested_action",
+           "sample_id", "lab", "batch"]
+
+
+def layout(**_query):
+    if not retest_available():
+        return html.Div([
+            page_header("Retest list", "Results flagged for a confirmatory retest."),
+            html.P("This installation of the engine has no retest flags (tracescreen.retest); the "
+                   "list appears here once it is installed.", className="notice"),
+        ])
+    return html.Div([
+        page_header("Retest list", "Results a reviewer should send back for confirmation: one row per "
+                    "result and reason, with what a laboratory can act on and a suggested action."),
+        html.Div(id="rt-reasons"),
+        html.Div([html.Button("Download CSV", id="rt-csv-btn", className="button"),
+                  html.Span(id="rt-count", className="count-text")], className="toolbar"),
+        html.Div(id="rt-error", className="error", role="alert"),
+        data_table("rt-table", COLUMNS, page_size=PAGE_SIZE),
+        dcc.Download(id="rt-download"),
+    ])
+
+
+@callback(Output("rt-reasons", "children"), Input("dataset-key", "data"))
+def update_retest_reasons(dataset_key):
+    frame = retest_frame(current_session(dataset_key))
+    return html_table(reason_totals(frame), "rt-reasons-table") if frame is not None else ""
+
+
+@callback(
+    Output("rt-table", "data"), Output("rt-table", "page_count"), Output("rt-count", "children"),
+    Output("rt-error", "children"), Output("rt-table", "tooltip_data"),
+    Input("dataset-key", "data"), Input("rt-table", "page_current"), Input("rt-table", "page_size"),
+    Input("rt-table", "sort_by"), Input("rt-table", "filter_query"),
+)
+def update_retest_table(dataset_key, page_current, page_size, sort_by, filter_query):
+    frame = retest_frame(current_session(dataset_key))
+    return table_page(frame, page_current, page_size or PAGE_SIZE, sort_by, filter_query)
+
+
+@callback(Output("rt-download", "data"), Input("rt-csv-btn", "n_clicks"),
+          State("dataset-key", "data"), prevent_initial_call=True)
+def download_retest(_n, dataset_key):
+    return dcc.send_bytes(to_csv_bytes(retest_frame(current_session(dataset_key))), "retest.csv")

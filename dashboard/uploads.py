@@ -1,0 +1,139 @@
+"""Upload logic: decode a dropped lab file, cap its size, preview what the engine accepts."""
+
+from __future__ import annotations
+
+import base64
+import binascii
+from dataclasses import dataclass
+from pathlib import Path
+
+import pandas as pd
+
+from dashboard.data import DataStore
+
+RESULT_SUFFIXES = (".csv", ".xlsx")
+MAPPING_SUFFIXES = (".yaml", ".yml")
+
+
+class UploadError(ValueError):
+    """An upload that cannot be used; the message is shown as is."""
+
+
+@dataclass
+class UploadPreview:
+    """What the engine made of one uploaded file, before it joins the session."""
+
+    token: str
+    filename: str
+    rows_read: int
+    accepted: int
+    rejected: pd.DataFrame
+
+
+def human_size(n: int) -> str:
+    """Bytes as a short text (``20 MB``)."""
+    for unit in ("bytes", "kB", "MB", "GB"):
+        if n < 1000 or unit == "GB":
+            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
+        n /= 1000
+    return f"{n} bytes"  # pragma: no cover
+
+
+def decode_upload(contents: str | None, filename: str | None, max_bytes: int,
+                  suffixes: tuple[str, ...] = RESULT_SUFFIXES) -> bytes:
+    """Bytes of a ``dcc.Upload`` value (``data:<type>;base64,<data>``), checked and size-capped."""
+    if not contents or not filename:
+        raise UploadError("No file received.")
+    if Path(filename).suffix.lower() not in suffixes:
+        raise UploadError(f"{filename}: expected a {' or '.join(s[1:].upper() for s in suffixes)} file.")
+    _, _, data = contents.partition(",")
+    # the base64 text is 4/3 of the file: refuse before decoding anything too large
+    if len(data) * 3 // 4 > max_bytes + 3:
+        raise UploadError(
+            f"{filename} is about {human_size(len(data) * 3 // 4)}; uploads are limited to "
+            f"{human_size(max_bytes)}. Split the file, or start the dashboard on it with --results."
+        )
+    try:
+        raw = base64.b64decode(data, validate=True)
+    except (binascii.Error, ValueError) as exc:
+        raise UploadError(f"{filename}: the upload could not be decoded ({exc}).") from exc
+    if len(raw) > max_bytes:
+        raise UploadError(f"{filename} is {human_size(len(raw))}; uploads are limited to {human_size(max_bytes)}.")
+    if not raw:
+        raise UploadError(f"{filename} is empty.")
+    return raw
+
+
+def preview_upload(store: DataStore, contents: str | None, filename: str | None,
+                   mapping_contents: str | None = None, mapping_filename: str | None = None) -> UploadPreview:
+    """Keep the upload on disk and run the engine's loader on it (with the optional mapping).
+
+    Raises :class:`UploadError` for a file that cannot be used at all (the loader's own message).
+    """
+    raw = decode_upload(contents, filename, store.max_upload_bytes)
+    mapping = None
+    if mapping_contents:
+        mapping = decode_upload(mapping_contents, mapping_filename, store.max_upload_bytes, MAPPING_SUFFIXES)
+    token = store.save_upload(Path(filename).name, raw, mapping)
+    try:
+        loaded = store.load_upload(token)
+    except (ValueError, OSError, KeyError) as exc:
+        raise UploadError(str(exc).strip() or f"{filename}: could not be read.") from exc
+    accepted, rejected = len(loaded.accepted), loaded.rejected
+    return UploadPreview(token, Path(filename).name, accepted + len(rejected), accepted, rejected)
+
+
+def add_token(dataset_key: str | None, token: str) -> str:
+    """The dataset key after adding an upload (adding the same upload twice is a no-op)."""
+    key = dataset_key or "base"
+    parts = key.split("+")
+    return key if token in parts[1:] else "+".join([*parts, token])
+
+
+# ---- views (plain functions called by the page's callbacks) ------------------------------------
+def upload_preview_view(store: DataStore, file: dict | None, mapping: dict | None):
+    """Preview block, pending token and the add button's ``disabled`` for an upload."""
+    from dash import dash_table, html
+
+    if not file:
+        return "", None, True
+    try:
+        prev = preview_upload(store, file.get("contents"), file.get("filename"),
+                              (mapping or {}).get("contents"), (mapping or {}).get("filename"))
+    except UploadError as exc:
+        return html.Div(str(exc), className="error", id="up-error"), None, True
+    rej = prev.rejected
+    shown = rej.head(500)
+    cols = [c for c in ("file", "sheet", "row", "reason") if c in shown.columns]
+    cols += [c for c in shown.columns if c not in cols]
+    block = [
+        html.P([html.B(prev.filename), f": {prev.rows_read:,} rows read, ",
+                html.Span(f"{prev.accepted:,} accepted", id="up-accepted"), ", ",
+                html.Span(f"{len(rej):,} rejected", id="up-rejected"), "."], className="summary"),
+    ]
+    if len(rej):
+        block.append(html.P("Rejected rows and reasons" + (" (first 500)" if len(rej) > 500 else "") + ":"))
+        block.append(dash_table.DataTable(
+            id="up-rejected-table", columns=[{"name": c, "id": c} for c in cols],
+            data=shown[cols].astype(str).to_dict("records"), page_size=15,
+            style_table={"overflowX": "auto"},
+            style_cell={"fontFamily": "inherit", "fontSize": "13px", "textAlign": "left",
+                        "whiteSpace": "normal", "maxWidth": "420px"},
+            style_data_conditional=[{"if": {"column_id": "reason"}, "fontWeight": "600"}],
+        ))
+    if prev.accepted == 0:
+        block.append(html.P("Nothing in this file can be added.", className="error"))
+    return html.Div(block), (prev.token if prev.accepted else None), prev.accepted == 0
+
+
+def add_upload_view(session_for, token: str | None, dataset_key: str | None):
+    """New dataset key and a confirmation after adding a previewed upload to the session."""
+    from dash import html, no_update
+
+    if not token:
+        return no_update, html.P("Preview a file with accepted rows first.", className="error")
+    key = add_token(dataset_key, token)
+    session = session_for(key)
+    n_results = int(session.rid.max()) + 1 if len(session.rid) else 0
+    return key, html.P(f"Added. This session now holds {n_results:,} results; every page shows "
+                       "them.", id="up-added-text", className="ok")

@@ -1,0 +1,69 @@
+"""``tracescreen dashboard``: start the dashboard in its own process (``python -m dashboard``).
+
+The engine never imports the dashboard package: this command checks that it is installed and
+replaces itself with ``python -m dashboard`` and the same options.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import os
+import subprocess
+import sys
+
+from .common import add_data_options
+
+
+def add_dashboard_options(p: argparse.ArgumentParser) -> None:
+    """The dashboard's options (shared by ``tracescreen dashboard`` and ``python -m dashboard``)."""
+    add_data_options(p, results_required=False)
+    p.add_argument("--results", nargs="+", default=[], dest="results_option", metavar="FILE",
+                   help="lab result files (CSV or XLSX), as an option instead of positional")
+    p.add_argument("--host", default="127.0.0.1",
+                   help="address to listen on; the default serves this machine only")
+    p.add_argument("--port", type=int, default=8050, help="port to listen on")
+    p.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
+    p.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+
+
+def result_files(args: argparse.Namespace) -> list[str]:
+    """Lab files given positionally or with ``--results``."""
+    return [*args.results, *args.results_option]
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "dashboard", help="start the dashboard (a local web page) on results and limit tables",
+        description="Start the tracescreen dashboard: overview matrix, map, site charts, exceedances, "
+                    "retest list, data quality, limit tables and uploads, at http://HOST:PORT/.",
+        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+    add_dashboard_options(p)
+    p.set_defaults(func=run)
+
+
+def to_argv(args: argparse.Namespace) -> list[str]:
+    """The options of ``args`` as a ``python -m dashboard`` command line."""
+    argv = ["--results", *map(str, result_files(args))]
+    for path in args.limits:
+        argv += ["--limits", str(path)]
+    for opt in ("sites", "columns", "date_order", "encoding", "default_fraction", "sheet"):
+        if getattr(args, opt, None):
+            argv += [f"--{opt.replace('_', '-')}", str(getattr(args, opt))]
+    argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
+    return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else [])
+
+
+def run(args) -> int:
+    from . import UserError
+
+    if not result_files(args):
+        raise UserError("give lab result files (positional or --results FILE ...)")
+    if importlib.util.find_spec("dashboard") is None:
+        raise UserError("the dashboard package is not installed (pip install -e . in the project folder)")
+    command = [sys.executable, "-m", "dashboard", *to_argv(args)]
+    sys.stdout.flush()
+    sys.stderr.flush()
+    if os.name == "posix":
+        os.execv(sys.executable, command)  # the dashboard takes over this process
+    return subprocess.call(command)
