@@ -420,7 +420,7 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
     window_start = (day - pd.DateOffset(months=WINDOW_MONTHS) + pd.Timedelta(days=1)).to_numpy()
     short = first_day > window_start
     note = _combo_text([n.astype(int), rule, short, kind], lambda k, ru, sh, kd: "; ".join(filter(None, [
-        f"running annual mean of {k} results ({NONDETECT_RULE_TEXT[ru]})",
+        f"running annual mean of {k} result{'' if k == 1 else 's'} ({NONDETECT_RULE_TEXT[ru]})",
         "less than 12 months of record" if sh else "", DECISION_NOTES[kd]])))
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = value / limit
@@ -487,7 +487,7 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     stat = np.char.mod("%g", pct).astype(object) + "th percentile (" + method.astype(str).astype(object) + ")"
     note = _combo_text([stat, n, label[last], rule, kind, lim_min != lim_max],
                        lambda st, k, lab, ru, kd, ch: "; ".join(filter(None, [
-                           f"{st} of {k} results in {lab} ({NONDETECT_RULE_TEXT[ru]})", DECISION_NOTES[kd],
+                           f"{st} of {k} result{'' if k == 1 else 's'} in {lab} ({NONDETECT_RULE_TEXT[ru]})", DECISION_NOTES[kd],
                            "the limit changed within the period; the limit in force on the last sample date "
                            "applies" if ch else ""])))
     with np.errstate(invalid="ignore", divide="ignore"):
