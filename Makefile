@@ -20,8 +20,13 @@ DEMO_LIMITS  := $(foreach f,$(wildcard limits/*.yaml) scenario_data/limits,--lim
 DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
                 --columns scenario_data/columns_eastbank.yaml
 
+DEMO_WS      := out/demo-workspace
+
+# the demo lab files go into a workspace (a re-run adds nothing); the dashboard reads the workspace
 run: setup
-	$(VENV)/bin/tracescreen dashboard $(DEMO_DATA) --host 127.0.0.1 --port 8050
+	$(VENV)/bin/tracescreen import $(DEMO_RESULTS) --workspace $(DEMO_WS) --columns scenario_data/columns_eastbank.yaml
+	$(VENV)/bin/tracescreen dashboard --workspace $(DEMO_WS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
+		--host 127.0.0.1 --port 8050
 
 screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
@@ -36,6 +41,7 @@ bench: setup
 	$(PY) bench/bench_screen.py
 	$(PY) bench/bench_stats.py
 	$(PY) bench/bench_retest.py
+	$(PY) bench/bench_workspace.py
 
 bench-dashboard: setup
 	$(PY) bench/bench_dashboard.py

@@ -27,13 +27,14 @@ def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     results = result_files(args)
-    if not results:
-        parser.error("give lab result files (positional or --results FILE ...)")
+    if bool(results) == bool(args.workspace):
+        parser.error("give lab result files (positional or --results FILE ...) or --workspace DIR")
     from dashboard.app import create_app
 
     print("Loading and screening ...", file=sys.stderr)
     try:
-        app = create_app(results, args.limits, args.sites, options=load_options(args),
+        app = create_app(results or None, args.limits, args.sites, options=load_options(args),
+                         workspace=args.workspace,
                          max_upload_bytes=int(args.max_upload_mb * 1e6))
     except (ValueError, OSError, KeyError) as exc:
         lines = str(exc).strip().splitlines()

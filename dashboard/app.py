@@ -15,7 +15,7 @@ from dashboard.data import BASE_KEY, STORE_EXTENSION, DataStore, Inputs, load_in
 DEFAULT_MAX_UPLOAD_BYTES = 20 * 1000 * 1000
 
 
-def create_app(results=None, limits=None, sites=None, columns=None, *, options=None,
+def create_app(results=None, limits=None, sites=None, columns=None, *, options=None, workspace=None,
                inputs: Inputs | None = None,
                max_upload_bytes: int = DEFAULT_MAX_UPLOAD_BYTES, upload_dir=None,
                preload: bool = True) -> Dash:
@@ -33,6 +33,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         Column-mapping YAML for result files with unusual headers.
     options : tracescreen.loading.LoadOptions, optional
         How to read the files (date order, decimal comma, ...); overrides ``columns``.
+    workspace : path, optional
+        A workspace folder (``tracescreen import``): its current results instead of ``results``.
     inputs : Inputs, optional
         Already loaded inputs (instead of the paths above), e.g. from a workspace.
     max_upload_bytes : int
@@ -43,9 +45,9 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         Load and screen the base data now rather than on the first request.
     """
     if inputs is None:
-        if results is None or limits is None:
-            raise ValueError("create_app needs result files and limit tables (or inputs=...)")
-        base = lambda: load_inputs(results, limits, sites, columns, options)  # noqa: E731
+        if (results is None and workspace is None) or limits is None:
+            raise ValueError("create_app needs result files (or a workspace) and limit tables (or inputs=...)")
+        base = lambda: load_inputs(results, limits, sites, columns, options, workspace)  # noqa: E731
     else:
         base = inputs
     store = DataStore(base, upload_dir=upload_dir, max_upload_bytes=max_upload_bytes)

@@ -118,22 +118,30 @@ class SessionData:
 
 
 # ---- building ---------------------------------------------------------------------------------
-def load_inputs(results, limits, sites=None, columns=None, options=None) -> Inputs:
+def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None) -> Inputs:
     """Load result files, limit tables and sites with the engine (user errors raise ValueError).
 
     ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
-    the optional ``columns`` mapping file.
+    the optional ``columns`` mapping file. With ``workspace`` (a folder), the current results of
+    that workspace are used instead of ``results`` (one consistent state, even during an import).
     """
     from tracescreen.limits import load_limits
     from tracescreen.loading import load_results
     from tracescreen.sites import load_sites
 
-    paths = [Path(p) for p in ([results] if isinstance(results, (str, Path)) else results)]
+    paths = [Path(p) for p in ([results] if isinstance(results, (str, Path)) else results or [])]
     site_frame = load_sites(sites) if sites is not None else None
     limit_set = load_limits(limits)
     opts = options if options is not None else load_options(columns)
     sites_name = Path(sites).name if sites is not None else "the sites file"
-    loaded = load_results(paths, opts, sites=site_frame, sites_name=sites_name)
+    if workspace is not None:
+        from tracescreen.workspace import open_workspace
+
+        with open_workspace(workspace) as ws:
+            loaded = ws.load_result(site_frame, sites_name)
+        paths = [Path(workspace)]
+    else:
+        loaded = load_results(paths, opts, sites=site_frame, sites_name=sites_name)
     return Inputs(
         accepted=loaded.accepted,
         rejected=loaded.rejected,

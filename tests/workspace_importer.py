@@ -22,9 +22,9 @@ def main() -> None:
     ap.add_argument("file")
     ap.add_argument("--kill-at", default="")
     ap.add_argument("--pause", type=float, default=0.0)
-    ap.add_argument("--segment-rows", type=int, default=2000)
+    ap.add_argument("--part-bytes", type=int, default=16384)
     args = ap.parse_args()
-    workspace.SEGMENT_ROWS = args.segment_rows  # many segments: many points inside the transaction
+    workspace.PART_BYTES = args.part_bytes  # many stored parts: many points inside the transaction
     phase, _, nth = args.kill_at.partition(":")
     seen = 0
 

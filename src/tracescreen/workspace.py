@@ -9,7 +9,7 @@ Relational tables hold what is small and queried (imports, files, sheets, reject
 their reasons and cells, supersessions, screening runs). Each lab file's bytes are kept
 (zstd-compressed, checked against the file's SHA-256), so the original cells of every row stay
 available exactly as reported. The accepted results are stored column-wise, as Arrow IPC [3]_
-segments in a BLOB column, so that they load back into the accepted-results DataFrame faster
+file per lab file, split into parts in a BLOB column, so that they load back into the accepted-results DataFrame faster
 than re-reading the lab files.
 
 Identity of a result (``RESULT_KEY``): site, sample, sampling date-time, analyte, fraction and
@@ -54,9 +54,9 @@ from .columns import load_column_map
 WORKSPACE_FILE = "workspace.sqlite"
 SCHEMA_VERSION = 1
 APPLICATION_ID = 0x54534357  # "TSCW": marks the SQLite file as a tracescreen workspace
-SEGMENT_ROWS = 250_000
+PART_BYTES = 16 * 1024 * 1024   # a stored results file is split into BLOB parts of at most this size
 _HASHES = ["key_hash", "value_hash"]
-_IPC = ipc.IpcWriteOptions(compression="zstd")
+_IPC = ipc.IpcWriteOptions(compression="lz4")
 
 _SCHEMA = """
 CREATE TABLE workspace_info (key TEXT PRIMARY KEY, value TEXT NOT NULL);
@@ -82,7 +82,7 @@ CREATE TABLE originals (
     file_id INTEGER PRIMARY KEY REFERENCES files(file_id), codec TEXT NOT NULL, data BLOB NOT NULL);
 CREATE TABLE segments (
     segment_id INTEGER PRIMARY KEY, file_id INTEGER NOT NULL REFERENCES files(file_id),
-    n_rows INTEGER NOT NULL, sha256 TEXT NOT NULL, data BLOB NOT NULL);
+    part INTEGER NOT NULL, sha256 TEXT NOT NULL, data BLOB NOT NULL, UNIQUE (file_id, part));
 CREATE TABLE rejected (
     file_id INTEGER NOT NULL REFERENCES files(file_id), sheet TEXT NOT NULL, row INTEGER NOT NULL,
     reason TEXT NOT NULL, cells TEXT NOT NULL, PRIMARY KEY (file_id, sheet, row));
@@ -98,7 +98,7 @@ CREATE INDEX segments_by_file ON segments(file_id);
 """
 
 
-class WorkspaceError(Exception):
+class WorkspaceError(ValueError):
     """A workspace that cannot be used as asked (the message says which and why)."""
 
 
@@ -174,7 +174,7 @@ def file_sha256(path: str | Path) -> str:
 
 
 # --------------------------------------------------------------------------------------------
-# segments: Arrow IPC files, zstd-compressed buffers
+# stored results: one Arrow IPC file per lab file, LZ4-compressed buffers
 # --------------------------------------------------------------------------------------------
 
 _TEXT = pa.dictionary(pa.int32(), pa.large_string())
@@ -186,8 +186,9 @@ _STORED = pa.schema(
 
 
 def _encode(table: pa.Table) -> bytes:
-    """One segment: the stored columns and types (text as dictionaries), an Arrow IPC file."""
-    table = table.select(_STORED.names).cast(_STORED).unify_dictionaries()
+    """A file's stored results: the stored columns and types, one Arrow IPC record batch (one
+    dictionary per text column, so that loading back needs no dictionary unification)."""
+    table = table.select(_STORED.names).cast(_STORED).combine_chunks()
     sink = pa.BufferOutputStream()
     with ipc.new_file(sink, table.schema, options=_IPC) as writer:
         writer.write_table(table)
@@ -479,12 +480,12 @@ class Workspace:
         self.con.execute("INSERT INTO originals VALUES (?, 'zstd', ?)", (file_id, b.original))
         table = table.append_column("result_id", pa.array(ids)).append_column(
             "key_hash", pa.array(k)).append_column("value_hash", pa.array(v))
-        parts = [table.slice(i, SEGMENT_ROWS) for i in range(0, table.num_rows, SEGMENT_ROWS)]
-        with ThreadPoolExecutor(2) as pool:
-            for part, data in zip(parts, pool.map(_encode, parts)):
-                self.con.execute("INSERT INTO segments VALUES (NULL, ?, ?, ?, ?)",
-                                 (file_id, part.num_rows, _sha256(data), data))
-                say(f"stored a segment of {part.num_rows} results")
+        data = _encode(table)
+        for part, start in enumerate(range(0, len(data), PART_BYTES)):
+            piece = data[start:start + PART_BYTES]
+            self.con.execute("INSERT INTO segments VALUES (NULL, ?, ?, ?, ?)",
+                             (file_id, part, _sha256(piece), piece))
+            say(f"stored a segment of {len(piece)} bytes")
         if len(b.rejected):
             self._put_rejected(file_id, b.rejected)
         if len(superseded):
@@ -510,7 +511,10 @@ class Workspace:
     def _load_table(self, columns: list[str] | None = None, current: bool = True) -> pa.Table:
         """Stored results (current only, or all) as one Arrow table, in one snapshot."""
         def fetch(con):
-            blobs = [r[0] for r in con.execute("SELECT data FROM segments ORDER BY segment_id")]
+            parts: dict[int, list[bytes]] = {}
+            for file_id, data in con.execute("SELECT file_id, data FROM segments ORDER BY file_id, part"):
+                parts.setdefault(file_id, []).append(data)
+            blobs = [b"".join(p) if len(p) > 1 else p[0] for p in parts.values()]
             gone = np.fromiter((r[0] for r in con.execute("SELECT result_id FROM supersessions")),
                                dtype=np.int64)
             return blobs, gone
@@ -600,6 +604,41 @@ class Workspace:
             if raw.sheet == sheet:
                 return raw.cells.assign(row=raw.rows)[["row", *raw.cells.columns]]
         raise WorkspaceError(f"no sheet '{sheet}' in stored file {name}")
+
+    def current_count(self) -> int:
+        """Number of current results (stored minus superseded), without loading them."""
+        return self.con.execute("SELECT (SELECT coalesce(sum(rows_stored), 0) FROM files) - "
+                                "(SELECT count(*) FROM supersessions)").fetchone()[0]
+
+    def load_result(self, sites: pd.DataFrame | None = None,
+                    sites_name: str = "the sites file") -> loading.LoadResult:
+        """The current results as a ``loading.LoadResult``, as if the lab files were read now.
+
+        ``rejected`` holds every row rejected at import (with its original cells) and, when
+        ``sites`` is given, the current results whose site is not in it. ``files`` has one line per
+        stored file and sheet; its ``accepted`` counts the current results from it.
+        """
+        with self.reading():
+            acc = self.current_results()
+            rej = self.rejected_rows()
+            files = self.sheets()
+            superseded = self.con.execute("SELECT count(*) FROM supersessions").fetchone()[0]
+        cells = pd.DataFrame([json.loads(c) for c in rej["cells"]], index=rej.index, dtype=str)
+        rejected = pd.concat([rej[["file", "sheet", "row", "reason"]], cells], axis=1)
+        if sites is not None:
+            unknown = ~acc["site_id"].isin(sites["site_id"]).to_numpy()
+            if unknown.any():
+                out = acc.loc[unknown, ["file", "sheet", "row", "site_id", "sample_id", "sampled_at",
+                                        "analyte", "fraction", "result_text", "unit"]].astype(str)
+                out.insert(3, "reason", "site '" + out["site_id"] + f"' is not in {sites_name}")
+                rejected = pd.concat([rejected, out], ignore_index=True)
+                acc = acc[~unknown].reset_index(drop=True)
+        for col, df in (("accepted", acc), ("rejected", rejected)):
+            n = df.groupby(["file", "sheet"], observed=True).size()
+            files[col] = [int(n.get((f, s), 0)) for f, s in zip(files["file"], files["sheet"])]
+        warnings = [f"workspace {self.directory}: {len(acc)} current results from {len(files)} file "
+                    f"sheets; {superseded} superseded results are kept in its history, not screened"]
+        return loading.LoadResult(acc, rejected, files, warnings)
 
     def last_import_id(self) -> int | None:
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]

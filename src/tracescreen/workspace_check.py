@@ -83,23 +83,24 @@ def _check_originals(con, files) -> list[str]:
 
 def _check_segments(con, files) -> list[str]:
     problems = []
-    seen = {f: 0 for f in files}
-    for seg_id, fid, n_rows, digest, data in con.execute(
-            "SELECT segment_id, file_id, n_rows, sha256, data FROM segments"):
+    parts: dict[int, list[bytes]] = {}
+    for seg_id, fid, digest, data in con.execute(
+            "SELECT segment_id, file_id, sha256, data FROM segments ORDER BY file_id, part"):
         if hashlib.sha256(data).hexdigest() != digest:
-            problems.append(f"segment {seg_id}: content does not match its SHA-256")
+            problems.append(f"segment {seg_id} of {files[fid][1]}: content does not match its SHA-256")
+        parts.setdefault(fid, []).append(data)
+    for fid, (_, name, *_, first, stored) in files.items():
+        if fid not in parts:
+            if stored:
+                problems.append(f"{name}: {stored} results recorded, none stored")
             continue
         try:
-            ids = workspace._decode(data, ["result_id"]).column("result_id").to_numpy()
+            ids = workspace._decode(b"".join(parts[fid]), ["result_id"]).column("result_id").to_numpy()
         except (pa.ArrowException, OSError) as exc:
-            problems.append(f"segment {seg_id}: unreadable ({exc})")
+            problems.append(f"{name}: stored results unreadable ({exc})")
             continue
-        first, stored = files[fid][9], files[fid][10]
-        if len(ids) != n_rows:
-            problems.append(f"segment {seg_id}: {len(ids)} rows, {n_rows} recorded")
-        if len(ids) and (ids.min() < first or ids.max() >= first + stored):
-            problems.append(f"segment {seg_id}: result ids outside the range of {files[fid][1]}")
-        seen[fid] += len(ids)
-    problems += [f"{files[f][1]}: {n} results in segments, {files[f][10]} recorded"
-                 for f, n in seen.items() if n != files[f][10]]
+        if len(ids) != stored:
+            problems.append(f"{name}: {len(ids)} results stored, {stored} recorded")
+        elif len(ids) and (ids.min() != first or ids.max() != first + stored - 1 or len(set(ids)) != stored):
+            problems.append(f"{name}: stored result ids are not {first}..{first + stored - 1}")
     return problems

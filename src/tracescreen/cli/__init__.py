@@ -19,6 +19,9 @@ COMMANDS = [
     "trends",
     "report",
     "dashboard",
+    "import_",
+    "history",
+    "export",
 ]
 
 
@@ -31,8 +34,10 @@ def _user_error_types() -> tuple[type[BaseException], ...]:
     from ..limits import LimitTableError
     from ..loading import LoadError
     from ..sites import SitesError
+    from ..workspace import WorkspaceError
 
-    return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError)
+    return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
+            WorkspaceError)
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -16,16 +16,27 @@ from ..limits import LimitSet, load_limits
 from ..loading import LoadOptions, LoadResult, load_results
 from ..parsing import DATE_ORDERS
 from ..sites import load_sites
+from ..workspace import open_workspace
+from . import UserError
 
 
 def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) -> None:
     """Add the options that say which results, limit tables and sites to read."""
-    p.add_argument("results", nargs="*" if not results_required else "+", metavar="RESULTS",
-                   help="lab result files (CSV or XLSX)")
+    p.add_argument("results", nargs="*", metavar="RESULTS",
+                   help="lab result files (CSV or XLSX); or use --workspace")
+    p.add_argument("--workspace", metavar="DIR",
+                   help="use the current results of this workspace (see 'tracescreen import') instead of "
+                        "lab files; the run is recorded in it with the SHA-256 of the limit tables and sites")
     p.add_argument("--limits", required=True, metavar="PATH", action="append",
                    help="limit table (YAML) or folder of tables; repeat for several")
     p.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
                    "hardness_mg_L); without it every table applies to every site")
+    add_reading_options(p)
+    p.set_defaults(results_required=results_required)
+
+
+def add_reading_options(p: argparse.ArgumentParser) -> None:
+    """Add the options that say how to read lab files."""
     p.add_argument("--columns", metavar="FILE", help="YAML mapping of the lab's headers to canonical columns")
     p.add_argument("--date-order", choices=DATE_ORDERS, default="iso",
                    help="how to read dates that are not ISO 8601: dmy (04/03/2021 = 4 March) or mdy; "
@@ -67,12 +78,27 @@ def load_inputs(args) -> Inputs:
     if args.sites:
         rows.append({"kind": "sites", "file": Path(args.sites).name, "path": args.sites, "sheet": "",
                      "sha256": _sha(args.sites)})
+    if getattr(args, "workspace", None):
+        with open_workspace(args.workspace) as ws:
+            ws.record_screening_run(args.command, len(loaded.accepted), limits.tables["path"], args.sites,
+                                    {"accepted": len(loaded.accepted), "rejected": len(loaded.rejected)})
     return Inputs(loaded, limits, sites, pd.DataFrame(rows))
 
 
 def results_from_args(args, sites: pd.DataFrame | None) -> LoadResult:
-    """The lab results the command should use (lab files given on the command line)."""
+    """The lab results the command should use: the lab files given, or the current results of
+    ``--workspace`` (results of sites not in ``sites`` then rejected, as the loader does)."""
     name = Path(args.sites).name if getattr(args, "sites", None) else "the sites file"
+    if getattr(args, "workspace", None):
+        if args.results:
+            raise UserError("give lab result files or --workspace DIR, not both")
+        with open_workspace(args.workspace) as ws:
+            loaded = ws.load_result(sites, name)
+        for msg in loaded.warnings:
+            warn(msg)
+        return loaded
+    if not args.results and getattr(args, "results_required", True):
+        raise UserError("no lab result files given (give files, or --workspace DIR)")
     return load_results(args.results, load_options(args), sites, sites_name=name)
 
 

@@ -44,7 +44,9 @@ def register(sub) -> None:
 
 def to_argv(args: argparse.Namespace) -> list[str]:
     """The options of ``args`` as a ``python -m dashboard`` command line."""
-    argv = ["--results", *map(str, result_files(args))]
+    argv = ["--results", *map(str, result_files(args))] if result_files(args) else []
+    if getattr(args, "workspace", None):
+        argv += ["--workspace", str(args.workspace)]
     for path in args.limits:
         argv += ["--limits", str(path)]
     for opt in ("sites", "columns", "date_order", "encoding", "default_fraction", "sheet"):
@@ -57,8 +59,8 @@ def to_argv(args: argparse.Namespace) -> list[str]:
 def run(args) -> int:
     from . import UserError
 
-    if not result_files(args):
-        raise UserError("give lab result files (positional or --results FILE ...)")
+    if bool(result_files(args)) == bool(getattr(args, "workspace", None)):
+        raise UserError("give lab result files (positional or --results FILE ...) or --workspace DIR")
     if importlib.util.find_spec("dashboard") is None:
         raise UserError("the dashboard package is not installed (pip install -e . in the project folder)")
     command = [sys.executable, "-m", "dashboard", *to_argv(args)]
