@@ -8,9 +8,9 @@ a crash, SIGKILL). The database runs in write-ahead-log mode [2]_: a reader (the
 Relational tables hold what is small and queried (imports, files, sheets, rejected rows with
 their reasons and cells, supersessions, screening runs). Each lab file's bytes are kept
 (zstd-compressed, checked against the file's SHA-256), so the original cells of every row stay
-available exactly as reported. The accepted results are stored column-wise, as Arrow IPC [3]_
-file per lab file, split into parts in a BLOB column, so that they load back into the accepted-results DataFrame faster
-than re-reading the lab files.
+available exactly as reported. The accepted results are stored column-wise, one Arrow IPC [3]_
+file per lab file split into BLOB parts, so that they load back into the accepted-results
+DataFrame faster than re-reading the lab files.
 
 Identity of a result (``RESULT_KEY``): site, sample, sampling date-time, analyte, fraction and
 laboratory. A file whose SHA-256 is already stored adds nothing. Otherwise, per key, the
