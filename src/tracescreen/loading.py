@@ -302,6 +302,12 @@ def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list
 # normalising
 # --------------------------------------------------------------------------------------------
 
+def constant_text(value: str, n: int) -> pd.Series:
+    """A text column of ``n`` copies of ``value`` (built in Arrow, not from Python objects)."""
+    arr = pa.repeat(pa.scalar(str(value), pa.large_string()), n)
+    return pd.Series(pd.array(arr, dtype=pd.StringDtype("pyarrow", na_value=np.nan)))
+
+
 def mapping_applies(headers, column_map: ColumnMap) -> bool:
     """A mapping's ``defaults`` apply only to files that have at least one of its mapped headers."""
     from .columns import header_key
@@ -346,7 +352,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     def col(c: str) -> pd.Series:
         if c in found:
             return cells[found[c]].str.strip()
-        return pd.Series(np.full(n, defaults.get(c, ""), dtype=object), dtype=str)
+        return constant_text(defaults.get(c, ""), n)
 
     reasons = _reasons(n)
     if "__field_count_error__" in cells.columns:
