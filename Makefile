@@ -24,7 +24,8 @@ DEMO_WS      := out/demo-workspace
 
 # the demo lab files go into a workspace (a re-run adds nothing); the dashboard reads the workspace
 run: setup
-	$(VENV)/bin/tracescreen import $(DEMO_RESULTS) --workspace $(DEMO_WS) --columns scenario_data/columns_eastbank.yaml
+	$(VENV)/bin/tracescreen import $(DEMO_RESULTS) --workspace $(DEMO_WS) --columns scenario_data/columns_eastbank.yaml \
+		--sites scenario_data/sites.csv
 	$(VENV)/bin/tracescreen dashboard --workspace $(DEMO_WS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
 		--host 127.0.0.1 --port 8050
 

@@ -90,7 +90,8 @@ def test_limit_entries_show_value_or_hardness_formula(demo_report):
 def test_site_selection(tmp_path, scenario_args):
     """--site restricts the tables to the chosen site; an unknown site is a one-line user error (exit 2)."""
     html, xlsx = tmp_path / "r.html", tmp_path / "r.xlsx"
-    assert main(["report", *scenario_args, "--site", "KR02", "--out", str(html), "--xlsx", str(xlsx)]) == 0
+    assert main(["report", *scenario_args, "--site", "KR02", "--bootstrap", "20", "--out", str(html),
+                 "--xlsx", str(xlsx)]) == 0
     for name in ("exceedances", "retest", "status_matrix"):
         assert set(_sheet(xlsx, name)["site_id"]) == {"KR02"}
     assert main(["report", *scenario_args, "--site", "NOPE", "--out", str(html)]) == 2
@@ -123,3 +124,18 @@ def test_build_report_html_from_engine_objects():
     assert 'id="summary-table"' in page and 'id="trends-table"' in page
     assert set(data.retest["site_id"]) <= set(sites["site_id"])
     assert set(report.report_tables(data, ["KR02"])["summary"]["site_id"]) == {"KR02"}
+
+
+def test_markup_in_data_is_escaped():
+    """Text from lab files is shown as text: a sample id holding markup cannot add a script to the page (HTML escaping)."""
+    import numpy as np
+
+    rows = [dict(sample_id="<script>alert(1)</script>", sampled_at="2024-01-01", value=12.0)]
+    scr = screening(rows)
+    empty = pd.DataFrame({"table_id": [], "name": [], "source": [], "use": [], "unit": []})
+    data = report.ReportData(scr, pd.DataFrame({"file": [], "row": [], "reason": []}),
+                             pd.DataFrame({"file": ["lab.csv"], "sha256": ["0" * 64]}), empty,
+                             pd.DataFrame({"table_id": [], "value_ug_L": np.array([], float)}), scr.iloc[:0])
+    page = report.build_report_html(data)
+    assert "<script>alert(1)" not in page
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in page

@@ -58,7 +58,10 @@ def run(args) -> int:
     out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
     print(f"Report: {out}")
     if args.xlsx:
-        path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx)
+        try:
+            path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx)
+        except ValueError as exc:  # a table longer than a sheet holds
+            raise UserError(f"--xlsx {args.xlsx}: {exc}") from None
         print(f"Workbook: {path}")
     print_caution()
     return 0
