@@ -59,3 +59,13 @@ def test_user_errors_exit_2_without_traceback(tmp_path, scenario_args):
         assert p.returncode == 2, p.stderr
         assert "Traceback" not in p.stderr and want in p.stderr
         assert len(p.stderr.strip().splitlines()) == 1
+
+
+def test_a_run_with_no_accepted_rows_still_succeeds(tmp_path, capsys):
+    """A file whose only row is rejected: screen, trends and report exit 0 with empty tables (no traceback)."""
+    f = tmp_path / "one_bad_row.csv"
+    f.write_text("site_id,sample_id,sampled_at,analyte,fraction,result,unit\nS1,A,2021-13-40,Lead,total,1,ug/L\n")
+    assert main(["screen", str(f), "--limits", "limits", "--out", str(tmp_path / "s")]) == 0
+    assert main(["trends", str(f), "--limits", "limits", "--out", str(tmp_path / "t")]) == 0
+    assert main(["report", str(f), "--limits", "limits", "--out", str(tmp_path / "r.html")]) == 0
+    assert len(pd.read_csv(tmp_path / "s" / "rejected.csv")) == 1

@@ -109,6 +109,8 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     if method not in censored.METHODS:
         raise ValueError(f"unknown method {method!r}; choose one of {', '.join(censored.METHODS)}")
     data = censored_series(site_samples(results))
+    if data.empty:  # nothing accepted (or only QC samples): an empty table, not an error
+        return pd.DataFrame({c: pd.Series(dtype=object) for c in SUMMARY_COLUMNS})
     unusable = data["value"].isna().to_numpy()
     codes, table = grouped.group_codes(data, KEYS)
     g = len(table)

@@ -13,7 +13,7 @@ from ..censored import METHODS
 from ..limits import load_limits
 from ..screening import screen
 from ..summary import exceedance_rates, summarise
-from ..trends import MIN_VALUES, lowest_limits, trend_table
+from ..trends import MIN_VALUES, TABLE_COLUMNS as TREND_TABLE_COLUMNS, lowest_limits, trend_table
 from .common import add_data_options, print_caution, results_from_args, warn
 from ..sites import load_sites
 
@@ -51,6 +51,8 @@ def add_statistics_options(p: argparse.ArgumentParser) -> None:
 
 
 def _trends(args, accepted, screened) -> pd.DataFrame:
+    if not (accepted["sample_type"].astype(str) == "sample").any():  # nothing to test: empty table
+        return pd.DataFrame({c: pd.Series(dtype=object) for c in TREND_TABLE_COLUMNS})
     return trend_table(accepted, alpha=args.alpha, seasonal=args.seasonal,
                        min_n=args.min_trend_values, limits=lowest_limits(screened))
 
