@@ -142,3 +142,12 @@ def test_several_uses_give_several_rows_and_worst_status(tmp_path, limits):
     assert out["status"].tolist() == ["exceeds", "meets"]
     w = worst_status(out, ["site_id"])
     assert w["worst_status"].tolist() == ["exceeds"] and w["n_rows"].tolist() == [2]
+
+
+def test_take_column_keeps_missing_text_as_empty():
+    """A plain text column with a missing value is taken as "" (not the text 'nan', not an error)."""
+    from tracescreen.screening import take_column
+
+    col = pd.Series(["a", np.nan, "b"], dtype=object)
+    out = take_column(col, np.array([1, 0, 2, 1]))
+    assert list(out) == ["", "a", "b", ""]

@@ -261,7 +261,7 @@ def take_column(col: pd.Series, positions: np.ndarray):
     if isinstance(col.dtype, pd.CategoricalDtype):
         return pd.Categorical.from_codes(col.cat.codes.to_numpy()[positions], dtype=col.dtype)
     if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
-        codes, uniques = pd.factorize(col, use_na_sentinel=False)
+        codes, uniques = pd.factorize(col.fillna(""), use_na_sentinel=False)  # missing text is ""
         return pd.Categorical.from_codes(codes[positions], categories=pd.Index(uniques, dtype=object).astype(str))
     return col.to_numpy()[positions]
 
