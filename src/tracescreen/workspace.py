@@ -36,7 +36,6 @@ import json
 import sqlite3
 import tempfile
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
 from typing import Callable, Iterable
@@ -44,19 +43,18 @@ from typing import Callable, Iterable
 import numpy as np
 import pandas as pd
 import pyarrow as pa
-import pyarrow.feather as feather
-import pyarrow.ipc as ipc
 
 from . import __version__, loading
 from .revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
 from .columns import load_column_map
+from .import_outcomes import FileBatch, FileOutcome, ImportSummary
+from .result_blobs import _STORED, _decode, _encode, _to_frame  # noqa: F401 (workspace_check uses _decode)
 
 WORKSPACE_FILE = "workspace.sqlite"
 SCHEMA_VERSION = 1
 APPLICATION_ID = 0x54534357  # "TSCW": marks the SQLite file as a tracescreen workspace
 PART_BYTES = 16 * 1024 * 1024   # a stored results file is split into BLOB parts of at most this size
 _HASHES = ["key_hash", "value_hash"]
-_IPC = ipc.IpcWriteOptions(compression="lz4")
 
 _SCHEMA = """
 CREATE TABLE workspace_info (key TEXT PRIMARY KEY, value TEXT NOT NULL);
@@ -102,64 +100,6 @@ class WorkspaceError(ValueError):
     """A workspace that cannot be used as asked (the message says which and why)."""
 
 
-@dataclass
-class FileBatch:
-    """One lab file read and normalised, ready to be stored (see :func:`read_file`)."""
-
-    name: str
-    path: str
-    sha256: str
-    size_bytes: int
-    original: bytes                     # the file's bytes, zstd-compressed
-    sheets: list[dict] = field(default_factory=list)
-    accepted: pd.DataFrame | None = None
-    rejected: pd.DataFrame | None = None
-
-
-@dataclass
-class FileOutcome:
-    """What an import did with one file."""
-
-    name: str
-    sha256: str
-    status: str                         # "stored" or "already imported"
-    rows_read: int = 0
-    new: int = 0
-    unchanged: int = 0
-    revised: int = 0
-    superseded: int = 0
-    rejected: int = 0
-    note: str = ""
-
-
-@dataclass
-class ImportSummary:
-    """Counts of one import; ``import_id`` is None when nothing was added."""
-
-    import_id: int | None
-    files: list[FileOutcome]
-
-    def total(self, attr: str) -> int:
-        return sum(getattr(f, attr) for f in self.files)
-
-    def lines(self) -> list[str]:
-        out = []
-        for f in self.files:
-            if f.status != "stored":
-                out.append(f"{f.name}: {f.status} ({f.note}); nothing added")
-            else:
-                out.append(f"{f.name}: {f.rows_read} rows read: {f.new} new, {f.unchanged} unchanged, "
-                           f"{f.revised} revised (superseding {f.superseded} earlier), "
-                           f"{f.rejected} rejected")
-        if self.import_id is None:
-            out.append("Nothing imported: the workspace is unchanged.")
-        else:
-            out.append(f"Import {self.import_id}: {self.total('rows_read')} rows read: "
-                       f"{self.total('new')} new, {self.total('unchanged')} unchanged, "
-                       f"{self.total('revised')} revised, {self.total('rejected')} rejected")
-        return out
-
-
 def _now() -> str:
     return datetime.now(timezone.utc).isoformat(timespec="milliseconds")
 
@@ -171,42 +111,6 @@ def _sha256(data: bytes) -> str:
 def file_sha256(path: str | Path) -> str:
     """SHA-256 (FIPS 180-4) of a file's bytes, as hex."""
     return _sha256(Path(path).read_bytes())
-
-
-# --------------------------------------------------------------------------------------------
-# stored results: one Arrow IPC file per lab file, LZ4-compressed buffers
-# --------------------------------------------------------------------------------------------
-
-_TEXT = pa.dictionary(pa.int32(), pa.large_string())
-_STORED = pa.schema(
-    [(c, _TEXT if c in loading.TEXT_COLUMNS else
-      pa.int64() if c == "row" else pa.timestamp("ns") if c in ("sampled_at", "analysed_at") else
-      pa.bool_() if c == "detected" else pa.float64()) for c in loading.ACCEPTED_COLUMNS]
-    + [("result_id", pa.int64()), ("key_hash", pa.uint64()), ("value_hash", pa.uint64())])
-
-
-def _encode(table: pa.Table) -> bytes:
-    """A file's stored results: the stored columns and types, one Arrow IPC record batch (one
-    dictionary per text column, so that loading back needs no dictionary unification)."""
-    table = table.select(_STORED.names).cast(_STORED).combine_chunks()
-    sink = pa.BufferOutputStream()
-    with ipc.new_file(sink, table.schema, options=_IPC) as writer:
-        writer.write_table(table)
-    return sink.getvalue().to_pybytes()
-
-
-def _to_frame(table: pa.Table) -> pd.DataFrame:
-    """Arrow results -> DataFrame; text columns become categoricals with sorted categories."""
-    df = table.to_pandas(split_blocks=True)
-    for c in df.columns.intersection(loading.TEXT_COLUMNS):
-        cats = df[c].cat.categories
-        if not cats.is_monotonic_increasing:
-            df[c] = df[c].cat.reorder_categories(cats.sort_values())
-    return df
-
-
-def _decode(data: bytes, columns: list[str] | None = None) -> pa.Table:
-    return feather.read_table(pa.BufferReader(data), columns=columns)
 
 
 # --------------------------------------------------------------------------------------------
