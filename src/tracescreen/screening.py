@@ -175,7 +175,7 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         remark[formula & (H > ent["hardness_max"].to_numpy(float))] = 3
         remark[formula & np.isnan(H)] = 4
     n_lone_kinds = 2 + len(QC_NOTES)
-    qc_kind = results["sample_type"].astype(str).map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy()
+    qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
                          np.where(had_candidate[lone], 0, 1))
     note_key = np.concatenate([e_pos * len(HARDNESS_REMARKS) + remark, -1 - lone_kind])
@@ -202,7 +202,8 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds)
     out = pd.DataFrame(cols)
     out["compared_value_ug_L"] = np.nan
-    out["period_id"] = pd.array([pd.NA] * len(out), dtype="Int64")  # periods.py fills period rows
+    out["period_id"] = pd.arrays.IntegerArray(np.zeros(len(out), dtype=np.int64),  # periods.py fills period rows
+                                              np.ones(len(out), dtype=bool))
     out["period_value_ug_L"] = np.nan
     out = decision.apply_rounding(out, limits)  # tables that compare after rounding
     out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
@@ -229,7 +230,7 @@ def _days(dates: pd.Series) -> np.ndarray:
 
 def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int) -> pd.Categorical:
     """Note text per row from its key (entry x hardness remark, or a no-limit / QC kind), built per distinct key."""
-    uniq, inv = np.unique(keys, return_inverse=True)
+    inv, uniq = pd.factorize(keys)
     text = []
     for k in uniq:  # a handful of distinct keys, not rows
         if k < 0:
