@@ -144,10 +144,18 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
     name = path.name
     if b"\x00" in data[:4096]:
         raise LoadError(f"{name}: binary data, not a CSV text file")
-    text = _decode(data, name, opts.encoding)
-    if not text.strip():
+    utf8 = opts.encoding.lower().replace("-", "").replace("_", "") in ("utf8", "utf8sig")
+    if utf8:  # Arrow reads the bytes and checks they are UTF-8; the whole text is decoded only if needed
+        body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
+        text = None
+        head_text = body[:1 << 20].decode("utf-8", errors="replace")
+    else:
+        text = _decode(data, name, opts.encoding)
+        body = text.encode("utf-8")
+        head_text = text[:1 << 20]
+    if not body.strip():
         raise LoadError(f"{name}: the file is empty")
-    head_lines = text[:1 << 20].splitlines()[:HEADER_SEARCH_ROWS]
+    head_lines = head_text.splitlines()[:HEADER_SEARCH_ROWS]
     first = next((ln for ln in head_lines if ln.strip()), "")
     delim = max([",", ";", "\t", "|"], key=first.count)
     head = list(csv.reader(head_lines, delimiter=delim))
@@ -160,10 +168,6 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
         invalid.append(row.text)
         return "skip"
 
-    if opts.encoding.lower().replace("-", "").replace("_", "") in ("utf8", "utf8sig"):
-        body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
-    else:
-        body = text.encode("utf-8")
     try:
         table = pacsv.read_csv(
             pa.BufferReader(body),
@@ -180,6 +184,7 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
         cells, rows = None, None
     if invalid:
         # Exact, slower path: Python's csv module keeps every record with its line number.
+        text = _decode(data, name, opts.encoding) if text is None else text  # names a non-UTF-8 byte
         cells, rows, (bad_cells, bad_rows) = _read_csv_exact(text, delim, h, headers)
         raw = _finish(name, str(path), "", h + 1, cells, rows)
         raw.cells = pd.concat([raw.cells, bad_cells], ignore_index=True).fillna("")
