@@ -30,6 +30,7 @@ from pandas.api.types import union_categoricals
 from . import analytes, parsing, units
 from .coded import CodedText, derived_categorical, joint_codes
 from .columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
+from .memory import release_unused
 
 HEADER_SEARCH_ROWS = 30
 
@@ -558,4 +559,5 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
                           "accepted": len(acc), "rejected": len(rej), "blank_rows": raw.blank_rows})
     acc = concat_accepted(accepted) if accepted else normalise_empty()
     rej = pd.concat(rejected, ignore_index=True) if rejected else pd.DataFrame(columns=["file", "sheet", "row", "reason"])
+    release_unused()  # the files' text is gone; give its memory back before screening allocates
     return LoadResult(acc, rej, pd.DataFrame(files), warnings)

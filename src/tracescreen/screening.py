@@ -35,6 +35,7 @@ import pandas as pd
 from . import decision, periods
 from . import limits as limits_mod
 from .hardness import sample_hardness
+from .memory import release_unused
 from .sites import site_uses
 
 REL_TOL = 1e-9
@@ -209,7 +210,9 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     # copy=False: one block per column, nothing copied or consolidated (a screening table is large)
     out = pd.DataFrame({c: cols[c] for c in SCREENING_COLUMNS}, copy=False)
     out = decision.apply_rounding(out, limits)  # tables that compare after rounding
-    return periods.apply_period_statuses(out, limits)  # running annual means and percentiles
+    out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
+    release_unused()
+    return out
 
 
 NUMERIC_ENTRY_COLUMNS = ["value_ug_L", "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope",
