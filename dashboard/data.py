@@ -20,6 +20,7 @@ from typing import Any, Callable
 import numpy as np
 import pandas as pd
 
+from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
 
 BASE_KEY = "base"
@@ -77,8 +78,9 @@ class SessionData:
     campaign_code: np.ndarray
     day: np.ndarray  # sampling date as int64 days since 1970-01-01
     series_key: np.ndarray
-    cache: dict = field(default_factory=dict, repr=False)
-    lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
+    memo: Memo = field(default_factory=Memo, repr=False)
+    _derived: dict = field(default_factory=dict, repr=False)
+    _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
 
     # ---- look-ups -------------------------------------------------------------------------
     def site_name(self, site_id: str) -> str:
@@ -101,20 +103,19 @@ class SessionData:
         lo, hi = np.searchsorted(self.series_key, [k, k + 1])
         return self.screened.iloc[lo:hi]
 
-    def cached(self, name: str, args: tuple, compute: Callable[[], Any], size: int = 32) -> Any:
-        """Per-session memo keyed by ``(name, args)``, keeping the ``size`` most recent values."""
-        key = (name, args)
-        with self.lock:
-            memo = self.cache.setdefault(name, OrderedDict())
-            if key in memo:
-                memo.move_to_end(key)
-                return memo[key]
-        value = compute()
-        with self.lock:
-            memo[key] = value
-            while len(memo) > size:
-                memo.popitem(last=False)
-        return value
+    def cached(self, name: str, args: tuple, compute: Callable[[], Any], size: int | None = None) -> Any:
+        """Per-session memo of a view keyed by ``(name, args)``: the least recently used values
+        go first, at most ``size`` per name (default :data:`dashboard.memo.DEFAULT_ENTRIES`) and
+        :data:`dashboard.memo.DEFAULT_BYTES` for the session (:class:`dashboard.memo.Memo`)."""
+        return self.memo.get(name, args, compute, entries=size)
+
+    def derived(self, name: str, compute: Callable[[], Any]) -> Any:
+        """A value derived once from the whole session (the exceedance rows, the retest list):
+        kept as long as the session, outside the views' byte budget."""
+        with self._derived_lock:
+            if name not in self._derived:
+                self._derived[name] = compute()
+            return self._derived[name]
 
 
 # ---- building ---------------------------------------------------------------------------------
@@ -313,6 +314,25 @@ def plain_frame(frame: pd.DataFrame) -> pd.DataFrame:
     return out
 
 
+def engine_frame(frame: pd.DataFrame) -> pd.DataFrame:
+    """The engine's text convention for a slice of session rows: missing text is "" again.
+
+    Categorical columns stay categorical (the codes of missing values point to an added ""
+    category); no text is materialised, so this is cheap on a million rows.
+    """
+    out = {}
+    for col in frame.columns:
+        values = frame[col]
+        if isinstance(values.dtype, pd.CategoricalDtype) and "" not in values.dtype.categories:
+            codes = values.array.codes
+            cats = values.dtype.categories
+            codes = np.where(codes < 0, len(cats), codes)
+            values = pd.Series(pd.Categorical.from_codes(codes, categories=cats.append(pd.Index([""], dtype=cats.dtype))),
+                               index=frame.index, name=col)
+        out[col] = values
+    return pd.DataFrame(out, index=frame.index)
+
+
 def accepted_from_session(session: SessionData) -> pd.DataFrame:
     """The accepted result rows behind a session (one row per result, engine columns only)."""
     starts = np.flatnonzero(np.r_[True, session.rid[1:] != session.rid[:-1]]) if len(session.rid) else []
@@ -477,6 +497,7 @@ __all__ = [
     "build_session",
     "current_session",
     "current_store",
+    "engine_frame",
     "file_counts",
     "load_inputs",
     "plain_frame",
