@@ -67,9 +67,9 @@ def row_mask(session: SessionData, f: Filters) -> np.ndarray:
     if f.fraction:
         mask &= _allowed(session.fraction_code, session.fractions, (f.fraction,))
     if f.start:
-        mask &= session.day >= np.datetime64(f.start, "D").astype(np.int64)
+        mask &= session.day >= int(np.datetime64(f.start, "D").astype(np.int64))  # a Python int keeps int32
     if f.end:
-        mask &= session.day <= np.datetime64(f.end, "D").astype(np.int64)
+        mask &= session.day <= int(np.datetime64(f.end, "D").astype(np.int64))
     if f.campaigns:
         mask &= _allowed(session.campaign_code, session.campaigns, f.campaigns)
     return mask
