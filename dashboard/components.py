@@ -6,7 +6,7 @@ from dash import Input, Output, callback, dash_table, dcc, html
 
 from tracescreen.caution import CAUTION
 
-from dashboard.data import SessionData, current_session
+from dashboard.data import NO_DAY, SessionData, current_session
 from dashboard.tables import LONG_TEXT_COLUMNS, table_page
 from dashboard.palette import STATUS_COLOUR, STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER
 
@@ -67,7 +67,7 @@ def filter_options(session: SessionData) -> tuple:
         tables.append({"label": f"{t} — {names.get(t, t)}", "value": t})
     fractions = [{"label": "all fractions", "value": "all"}] + [
         {"label": f, "value": f} for f in session.fractions]
-    days = session.day
+    days = session.day[session.day != NO_DAY]
     lo = str(days.min().astype("datetime64[D]")) if len(days) else None
     hi = str(days.max().astype("datetime64[D]")) if len(days) else None
     return ([{"label": u, "value": u} for u in session.uses], tables, fractions, lo, hi,

@@ -20,9 +20,12 @@ from typing import Any, Callable
 import numpy as np
 import pandas as pd
 
+from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
 
 BASE_KEY = "base"
+#: ``SessionData.day`` of a result without a sampling date
+NO_DAY = int(np.iinfo(np.int32).min)
 STORE_EXTENSION = "tracescreen"
 
 #: date columns of the screening output; every text column becomes categorical (a million results
@@ -75,10 +78,11 @@ class SessionData:
     table_code: np.ndarray
     use_code: np.ndarray
     campaign_code: np.ndarray
-    day: np.ndarray  # sampling date as int64 days since 1970-01-01
+    day: np.ndarray  # sampling date as int32 days since 1970-01-01 (NO_DAY when undated)
     series_key: np.ndarray
-    cache: dict = field(default_factory=dict, repr=False)
-    lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
+    memo: Memo = field(default_factory=Memo, repr=False)
+    _derived: dict = field(default_factory=dict, repr=False)
+    _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
 
     # ---- look-ups -------------------------------------------------------------------------
     def site_name(self, site_id: str) -> str:
@@ -101,20 +105,19 @@ class SessionData:
         lo, hi = np.searchsorted(self.series_key, [k, k + 1])
         return self.screened.iloc[lo:hi]
 
-    def cached(self, name: str, args: tuple, compute: Callable[[], Any], size: int = 32) -> Any:
-        """Per-session memo keyed by ``(name, args)``, keeping the ``size`` most recent values."""
-        key = (name, args)
-        with self.lock:
-            memo = self.cache.setdefault(name, OrderedDict())
-            if key in memo:
-                memo.move_to_end(key)
-                return memo[key]
-        value = compute()
-        with self.lock:
-            memo[key] = value
-            while len(memo) > size:
-                memo.popitem(last=False)
-        return value
+    def cached(self, name: str, args: tuple, compute: Callable[[], Any], size: int | None = None) -> Any:
+        """Per-session memo of a view keyed by ``(name, args)``: the least recently used values
+        go first, at most ``size`` per name (default :data:`dashboard.memo.DEFAULT_ENTRIES`) and
+        :data:`dashboard.memo.DEFAULT_BYTES` for the session (:class:`dashboard.memo.Memo`)."""
+        return self.memo.get(name, args, compute, entries=size)
+
+    def derived(self, name: str, compute: Callable[[], Any]) -> Any:
+        """A value derived once from the whole session (the exceedance rows, the retest list):
+        kept as long as the session, outside the views' byte budget."""
+        with self._derived_lock:
+            if name not in self._derived:
+                self._derived[name] = compute()
+            return self._derived[name]
 
 
 # ---- building ---------------------------------------------------------------------------------
@@ -164,18 +167,20 @@ def load_options(columns=None):
 
 def _categorical(values: pd.Series) -> pd.Series:
     """Text column as a categorical with sorted text categories; "" and missing are missing."""
-    if isinstance(values.dtype, pd.CategoricalDtype) and all(isinstance(c, str) for c in values.cat.categories):
+    if isinstance(values.dtype, pd.CategoricalDtype) and values.cat.categories.inferred_type in ("string", "empty"):
         cat = values
     else:
         cat = values.astype("str").astype("category")  # pandas' str dtype keeps missing as NA
     if "" in cat.cat.categories:
         cat = cat.cat.remove_categories([""])
-    ordered = sorted(cat.cat.categories)
-    if list(cat.cat.categories) != ordered:
-        cat = cat.cat.reorder_categories(ordered)
+    cats = cat.cat.categories
+    if not cats.is_monotonic_increasing:  # vectorised: a million sample ids sort in milliseconds
+        cat = cat.cat.reorder_categories(cats.sort_values())
+        cats = cat.cat.categories
     # object-dtype categories: taking the text of a few rows is then a plain numpy take
-    objects = pd.Index(np.array(ordered, dtype=object), dtype=object)
-    return pd.Series(pd.Categorical.from_codes(cat.cat.codes.to_numpy(), categories=objects),
+    objects = pd.Index(np.asarray(cats, dtype=object), dtype=object)
+    dtype = pd.CategoricalDtype(objects)
+    return pd.Series(pd.Categorical.from_codes(cat.cat.codes.to_numpy(), dtype=dtype, validate=False),
                      index=values.index, name=values.name)
 
 
@@ -201,12 +206,15 @@ def file_counts(accepted: pd.DataFrame, rejected: pd.DataFrame) -> pd.DataFrame:
     return out.reset_index(names="file")[["file", "rows_read", "accepted", "rejected"]]
 
 
-def build_session(inputs: Inputs, key: str = BASE_KEY) -> SessionData:
-    """Screen the accepted results with the engine and precompute the dashboard's indexes."""
+def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = False) -> SessionData:
+    """Screen the accepted results with the engine and precompute the dashboard's indexes.
+
+    With ``release_input``, ``inputs.accepted`` is emptied as soon as its sorted copy is made
+    (the session keeps every accepted column), so the two are not both held while screening.
+    """
     from tracescreen.screening import screen
 
-    acc = inputs.accepted.copy()
-    acc["campaign"] = _campaign_labels(acc)
+    acc = inputs.accepted.assign(campaign=_categorical(_campaign_labels(inputs.accepted)))
     order = np.lexsort(
         (
             acc["row"].to_numpy() if "row" in acc else np.arange(len(acc)),
@@ -215,15 +223,25 @@ def build_session(inputs: Inputs, key: str = BASE_KEY) -> SessionData:
         )
     )
     acc = acc.iloc[order].reset_index(drop=True)
+    files = inputs.files
+    if files is None or not isinstance(files, pd.DataFrame) or files.empty:
+        inputs.files = file_counts(inputs.accepted, inputs.rejected)
+    if release_input:
+        inputs.accepted = inputs.accepted.iloc[0:0]
     rid = np.arange(len(acc), dtype=np.int64)
     # The engine keeps each result's provenance columns; `row` carries the result's position
     # through screening (a file name can repeat across uploads) and is put back afterwards.
     file_row = acc["row"].to_numpy() if "row" in acc else rid + 1
-    screened = screen(acc.assign(row=rid), inputs.limits, inputs.sites)
+    campaign = acc["campaign"]
+    screened = screen(acc.drop(columns="campaign").assign(row=rid), inputs.limits, inputs.sites)
+    del acc
     screened["_rid"] = screened["row"].to_numpy(dtype=np.int64)
-    screened = screened.sort_values("_rid", kind="stable").reset_index(drop=True)
-    screened["row"] = file_row[screened["_rid"].to_numpy()]
-    screened["campaign"] = acc["campaign"].to_numpy()[screened["_rid"].to_numpy()]
+    if not screened["_rid"].is_monotonic_increasing:
+        screened = screened.sort_values("_rid", kind="stable").reset_index(drop=True)
+    result_of_row = screened["_rid"].to_numpy()
+    screened["row"] = file_row[result_of_row]
+    screened["campaign"] = pd.Categorical.from_codes(campaign.cat.codes.to_numpy()[result_of_row],
+                                                     dtype=campaign.dtype, validate=False)
     for col in screened.columns:
         if col in _NUMERIC_OR_DATE or col == "_rid":
             continue
@@ -234,12 +252,14 @@ def build_session(inputs: Inputs, key: str = BASE_KEY) -> SessionData:
 
 
 def _codes(screened: pd.DataFrame, col: str) -> tuple[np.ndarray, list[str]]:
+    """Category codes of a column (the categorical's own small integer array, -1 for missing)
+    and its category names."""
     if col not in screened.columns:
-        return np.full(len(screened), -1, dtype=np.int32), []
+        return np.full(len(screened), -1, dtype=np.int8), []
     cat = screened[col]
     if not isinstance(cat.dtype, pd.CategoricalDtype):
         cat = _categorical(cat)
-    return cat.cat.codes.to_numpy().astype(np.int32), [str(c) for c in cat.cat.categories]
+    return cat.cat.codes.to_numpy(), [str(c) for c in cat.cat.categories]
 
 
 def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
@@ -253,11 +273,14 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
     status_codes = screened["status"].cat.codes.to_numpy()
     rank = np.where(status_codes >= 0, rank_of[status_codes], -1).astype(np.int8)
     if "sample_type" in screened.columns:
-        rank[(screened["sample_type"].astype(str) != "sample").to_numpy()] = -1
-    day = screened["sampled_at"].to_numpy().astype("datetime64[D]").astype(np.int64)
+        rank[(screened["sample_type"] != "sample").to_numpy()] = -1  # compared on the codes
+    dates = screened["sampled_at"].to_numpy().astype("datetime64[D]")
+    day = np.where(np.isnat(dates), NO_DAY, dates.astype(np.int64)).astype(np.int32)
     series_key = (
         site_code.astype(np.int64) * len(analytes) + analyte_code
     ) * max(len(fractions), 1) + fraction_code
+    if len(series_key) and series_key.max() < np.iinfo(np.int32).max:
+        series_key = series_key.astype(np.int32)
     files = inputs.files
     if files is None or not isinstance(files, pd.DataFrame) or files.empty:
         files = file_counts(inputs.accepted, inputs.rejected)
@@ -313,6 +336,25 @@ def plain_frame(frame: pd.DataFrame) -> pd.DataFrame:
     return out
 
 
+def engine_frame(frame: pd.DataFrame) -> pd.DataFrame:
+    """The engine's text convention for a slice of session rows: missing text is "" again.
+
+    Categorical columns stay categorical (the codes of missing values point to an added ""
+    category); no text is materialised, so this is cheap on a million rows.
+    """
+    out = {}
+    for col in frame.columns:
+        values = frame[col]
+        if isinstance(values.dtype, pd.CategoricalDtype) and "" not in values.dtype.categories:
+            codes = values.array.codes
+            cats = values.dtype.categories
+            codes = np.where(codes < 0, len(cats), codes)
+            values = pd.Series(pd.Categorical.from_codes(codes, categories=cats.append(pd.Index([""], dtype=cats.dtype))),
+                               index=frame.index, name=col)
+        out[col] = values
+    return pd.DataFrame(out, index=frame.index)
+
+
 def accepted_from_session(session: SessionData) -> pd.DataFrame:
     """The accepted result rows behind a session (one row per result, engine columns only)."""
     starts = np.flatnonzero(np.r_[True, session.rid[1:] != session.rid[:-1]]) if len(session.rid) else []
@@ -320,6 +362,23 @@ def accepted_from_session(session: SessionData) -> pd.DataFrame:
              "limit_ug_L", "ratio", "status", "source", "note", "_rid", "campaign"}
     acc = session.screened.iloc[starts]
     return plain_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
+
+
+def release_free_heap() -> None:
+    """Hand memory freed after a build back to the operating system.
+
+    Loading and screening a million results frees more than a gigabyte of short-lived arrays;
+    glibc's allocator keeps those pages in the process (resident) unless asked to trim them.
+    Does nothing where the C library has no ``malloc_trim`` (macOS, Windows, musl).
+    """
+    import ctypes
+    import ctypes.util
+
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
+        libc.malloc_trim(0)
+    except (OSError, AttributeError):
+        pass
 
 
 # ---- the per-app store ------------------------------------------------------------------------
@@ -408,9 +467,8 @@ class DataStore:
         """The screened base data (built once and kept; the loaded rows are then released)."""
         with self._lock:
             if self._base_session is None:
-                inputs = self.base_inputs()
-                self._base_session = build_session(inputs, BASE_KEY)
-                inputs.accepted = inputs.accepted.iloc[0:0]
+                self._base_session = build_session(self.base_inputs(), BASE_KEY, release_input=True)
+                release_free_heap()
             return self._base_session
 
     def get(self, key: str | None) -> SessionData:
@@ -427,6 +485,7 @@ class DataStore:
             self._cache[key] = session
             while len(self._cache) > self._cache_size:
                 self._cache.popitem(last=False)
+        release_free_heap()
         return session
 
     def _build(self, tokens: list[str]) -> SessionData:
@@ -470,6 +529,7 @@ def current_session(key: str | None) -> SessionData:
 
 __all__ = [
     "BASE_KEY",
+    "NO_DAY",
     "DataStore",
     "Inputs",
     "SessionData",
@@ -477,8 +537,10 @@ __all__ = [
     "build_session",
     "current_session",
     "current_store",
+    "engine_frame",
     "file_counts",
     "load_inputs",
     "plain_frame",
+    "release_free_heap",
     "text_values",
 ]

@@ -13,7 +13,7 @@ from urllib.parse import quote_plus
 
 import numpy as np
 import pandas as pd
-from dash import dcc, html
+from dash import html
 
 from dashboard.data import SessionData
 from dashboard.palette import STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER, STATUS_SHORT
@@ -67,9 +67,9 @@ def row_mask(session: SessionData, f: Filters) -> np.ndarray:
     if f.fraction:
         mask &= _allowed(session.fraction_code, session.fractions, (f.fraction,))
     if f.start:
-        mask &= session.day >= np.datetime64(f.start, "D").astype(np.int64)
+        mask &= session.day >= int(np.datetime64(f.start, "D").astype(np.int64))  # a Python int keeps int32
     if f.end:
-        mask &= session.day <= np.datetime64(f.end, "D").astype(np.int64)
+        mask &= session.day <= int(np.datetime64(f.end, "D").astype(np.int64))
     if f.campaigns:
         mask &= _allowed(session.campaign_code, session.campaigns, f.campaigns)
     return mask
@@ -173,44 +173,47 @@ def status_badges(totals: np.ndarray, element_id: str = "status-totals") -> html
     )
 
 
-def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None = None) -> dcc.Markdown:
-    """Sites x metals table; each cell shows the worst status (glyph and words) and counts and
-    links to that site and metal.
+def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None = None) -> str:
+    """Sites x metals table as HTML text; each cell shows the worst status (glyph and words) and
+    counts and links to that site and metal.
 
-    The table is sent as one HTML fragment rather than hundreds of Dash components, which the
-    browser draws in a fraction of the time; ``assets/links.js`` keeps its links inside the app.
-    (Void tags are written self-closed, ``<br/>``: the Markdown component drops a fragment with
-    a bare ``<br>``.)
+    The table is sent as text and put in place by the browser's own HTML parser
+    (``assets/matrix.js``), which draws hundreds of cells far sooner than as many Dash components
+    or a Markdown component would; ``assets/links.js`` keeps its links inside the app. Every
+    piece of text is escaped here.
     """
     frame = matrix_frame(session, counts)
     if frame.empty:
-        return dcc.Markdown("No results match these filters.", id="matrix-empty")
+        return "<p id='matrix-empty'>No results match these filters.</p>"
     analytes = sorted(frame["analyte"].unique())
     cells = {(r.site_id, r.analyte): r for r in frame.itertuples(index=False)}
-    e = escape
+
+    def e(text) -> str:
+        return escape(str(text), quote=True)
+
     q_site = {sid: quote_plus(str(sid)) for sid in frame["site_id"].unique()}
     q_metal = {a: quote_plus(str(a)) for a in analytes}
     tail = f"&amp;fraction={quote_plus(fraction)}" if fraction else ""
-    parts = ['<table class="matrix" id="matrix-table"><thead><tr><th>Site</th>']
-    parts += [f'<th scope="col">{e(a)}</th>' for a in analytes]
+    parts = ["<table class='matrix' id='matrix-table'><thead><tr><th>Site</th>"]
+    parts += [f"<th scope='col'>{e(a)}</th>" for a in analytes]
     parts.append("</tr></thead><tbody>")
     for site_id in sorted(frame["site_id"].unique()):
         name = session.site_name(site_id)
-        parts.append(f'<tr><th scope="row"><span class="site-id">{e(site_id)}</span>'
-                     + (f'<br/><span class="site-name">{e(name)}</span>' if name != site_id else "") + "</th>")
+        parts.append(f"<tr><th scope='row'><span class='site-id'>{e(site_id)}</span>"
+                     + (f"<br><span class='site-name'>{e(name)}</span>" if name != site_id else "") + "</th>")
         for a in analytes:
             r = cells.get((site_id, a))
             if r is None:
-                parts.append('<td class="empty">–</td>')
+                parts.append("<td class='empty'>–</td>")
                 continue
-            title = (f"{site_id} · {a}: worst {STATUS_LABEL[r.worst]}; {r.n_results} results, "
-                     f"{r.exceeds} above a limit")
+            title = f"{site_id} · {a}: worst {STATUS_LABEL[r.worst]}; {r.exceeds} of {r.n_results} results above a limit"
+            # kept short (a thousand cells): the status is the cell's class, the line break a
+            # newline (the link's white-space is pre-line)
             parts.append(
-                f'<td class="cell status-{r.worst}" data-site="{e(site_id)}" data-analyte="{e(a)}" '
-                f'data-status="{r.worst}"><a class="app-link" href="/site?site={q_site[site_id]}&amp;analyte={q_metal[a]}{tail}" '
-                f'title="{e(title)}"><span class="glyph">{STATUS_GLYPH[r.worst]}</span> '
-                f'{STATUS_SHORT[r.worst]}<br/>{r.exceeds}/{r.n_results}</a></td>'
+                f"<td class='cell status-{r.worst}' data-site='{e(site_id)}' data-analyte='{e(a)}'>"
+                f"<a href='/site?site={q_site[site_id]}&amp;analyte={q_metal[a]}{tail}' title='{e(title)}'>"
+                f"<b class='glyph'>{STATUS_GLYPH[r.worst]}</b> {STATUS_SHORT[r.worst]}\n{r.exceeds}/{r.n_results}</a></td>"
             )
         parts.append("</tr>")
     parts.append("</tbody></table>")
-    return dcc.Markdown("".join(parts), dangerously_allow_html=True, className="matrix-md")
+    return "".join(parts)

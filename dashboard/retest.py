@@ -7,7 +7,7 @@ import importlib.util
 
 import pandas as pd
 
-from dashboard.data import SessionData, plain_frame
+from dashboard.data import SessionData, engine_frame
 
 
 def retest_available() -> bool:
@@ -22,10 +22,10 @@ def retest_frame(session: SessionData) -> pd.DataFrame | None:
 
     def compute():
         module = importlib.import_module("tracescreen.retest")
-        return module.retest_list(plain_frame(session.screened.drop(columns=["_rid", "campaign"],
+        return module.retest_list(engine_frame(session.screened.drop(columns=["_rid", "campaign"],
                                                                      errors="ignore")))
 
-    return session.cached("retest", (), compute, size=1)
+    return session.derived("retest", compute)
 
 
 def reason_totals(frame: pd.DataFrame) -> pd.DataFrame:

@@ -32,7 +32,7 @@ def _pairs(session: SessionData) -> dict[str, list[str]]:
                 out.setdefault(session.site_ids[s], []).append(session.analytes[a])
         return out
 
-    return session.cached("site_analytes", (), compute, size=1)
+    return session.derived("site_analytes", compute)
 
 
 def analyte_options(session: SessionData, site: str | None) -> list[dict]:

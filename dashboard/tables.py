@@ -32,7 +32,7 @@ def exceedance_rows(session: SessionData) -> pd.DataFrame:
         cols = [c for c in EXCEEDANCE_COLUMNS if c in scr.columns]
         return scr.loc[mask, cols].reset_index(drop=True)
 
-    return session.cached("exceedance_rows", (), compute, size=1)
+    return session.derived("exceedance_rows", compute)
 
 
 # ---- DataTable "custom" filtering ----------------------------------------------------------------

@@ -6,7 +6,7 @@ import importlib.util
 
 import pandas as pd
 
-from dashboard.data import plain_frame
+from dashboard.data import engine_frame
 
 DIRECTION_WORDS = {"increasing": "increasing", "decreasing": "decreasing", "no_trend": "no significant trend",
                    "too_few": "too few values for a direction"}
@@ -43,8 +43,8 @@ def series_trend(rows: pd.DataFrame, points: pd.DataFrame, alpha: float = 0.05) 
     from tracescreen.trends import decimal_years, lowest_limits, trend_table
 
     keys = ["site_id", "analyte", "fraction", "sampled_at", "sample_type"]
-    pts = plain_frame(points[keys + ["detected", "value_ug_L", "detection_limit_ug_L"]])
-    lim = plain_frame(rows[keys + ["limit_ug_L", "limit_table", "basis"]])
+    pts = engine_frame(points[keys + ["detected", "value_ug_L", "detection_limit_ug_L"]])
+    lim = engine_frame(rows[keys + ["limit_ug_L", "limit_table", "basis"]])
     table = trend_table(pts, alpha=alpha, limits=lowest_limits(lim))
     if table.empty:
         return None

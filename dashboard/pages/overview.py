@@ -1,7 +1,7 @@
 """Overview: sites x metals, worst status in the selected period, with counts and totals."""
 
 import dash
-from dash import Input, Output, callback, html
+from dash import ClientsideFunction, Input, Output, callback, clientside_callback, dcc, html
 
 from dashboard.components import filter_controls, page_header, register_filter_options, status_legend
 from dashboard.data import current_session
@@ -18,6 +18,8 @@ def layout(**_query):
         filter_controls("ov"),
         html.Div(id="ov-totals"),
         status_legend(),
+        # the matrix arrives as HTML text in the store; assets/matrix.js puts it in the div
+        dcc.Store(id="ov-matrix-html"),
         html.Div(id="ov-matrix", className="matrix-wrap"),
     ])
 
@@ -37,10 +39,14 @@ def render_overview(session, uses, tables, fraction, start, end, campaigns):
 
 
 @callback(
-    Output("ov-totals", "children"), Output("ov-matrix", "children"),
+    Output("ov-totals", "children"), Output("ov-matrix-html", "data"),
     Input("dataset-key", "data"), Input("ov-uses", "value"), Input("ov-tables", "value"),
     Input("ov-fraction", "value"), Input("ov-dates", "start_date"), Input("ov-dates", "end_date"),
     Input("ov-campaigns", "value"),
 )
 def update_overview(dataset_key, uses, tables, fraction, start, end, campaigns):
     return render_overview(current_session(dataset_key), uses, tables, fraction, start, end, campaigns)
+
+
+clientside_callback(ClientsideFunction("tracescreen", "showMatrix"), Output("ov-matrix", "className"),
+                    Input("ov-matrix-html", "data"))

@@ -87,20 +87,29 @@ def _pair_scores(dy, det_i, det_j, nd_i, nd_j):
     return gt.astype(np.int8) - lt.astype(np.int8)
 
 
-def _daniels_variance(a, b, first, second, valid, season, n_seasons):
+def _daniels_variance(a, b, i, j, valid, season, n_seasons):
     """Exact permutation variance of S = sum over pairs a_p b_p, per season, summed (Daniels 1944).
 
     With full antisymmetric matrices A, B over the values of one season (n of them):
     Var = [2/(n(n-1)) sum A^2 sum B^2 + 4/(n(n-1)(n-2)) (sum_i A_i.^2 - sum A^2)
-    (sum_i B_i.^2 - sum B^2)] / 4. ``first``/``second`` are the pair -> value incidence matrices.
+    (sum_i B_i.^2 - sum B^2)] / 4. Pair p joins value ``i[p]`` (earlier) and ``j[p]`` (later);
+    the row sums are accumulated by value with ``bincount`` (memory of the order of the pairs,
+    not pairs x values).
     """
+    g, m = valid.shape
     onehot = ((season[:, :, None] == np.arange(n_seasons)) & valid[:, :, None]).astype(float)
+    off = (np.arange(g) * m)[:, None]
+    at_i, at_j = (off + i).ravel(), (off + j).ravel()
+
+    def by_value(at, w):
+        return np.bincount(at, weights=w, minlength=g * m).reshape(g, m)
+
     out = []
-    signed, both = (first - second).astype(np.float32), (first + second).astype(np.float32)
-    for w in (a.astype(np.float32), b.astype(np.float32)):
-        # integer counts below 2^24: exact in float32
-        row = (w @ signed).astype(float)  # A_i. for each value i
-        sq = (np.abs(w) @ both).astype(float)  # sum_j A_ij^2 for each value i
+    for w in (a, b):
+        w = w.ravel().astype(float)
+        row = by_value(at_i, w) - by_value(at_j, w)  # A_i. for each value i
+        w2 = np.abs(w)  # scores are -1, 0, 1: A_ij^2 = |A_ij|
+        sq = by_value(at_i, w2) + by_value(at_j, w2)  # sum_j A_ij^2 for each value i
         out.append((np.einsum("gi,gis->gs", row**2, onehot), np.einsum("gi,gis->gs", sq, onehot)))
     (ra, sa2), (rb, sb2) = out
     n = onehot.sum(axis=1)
@@ -172,11 +181,7 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
         b = np.sign(dy).astype(np.int8)
     s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
     if any_nd or (pair & (dt == 0)).any():
-        first = np.zeros((i.size, m))
-        first[np.arange(i.size), i] = 1.0
-        second = np.zeros((i.size, m))
-        second[np.arange(i.size), j] = 1.0
-        var_s = _daniels_variance(a, b, first, second, valid, season, n_seasons)
+        var_s = _daniels_variance(a, b, i, j, valid, season, n_seasons)
     else:
         var_s = _kendall_tie_variance(y, valid, season, n_seasons)
     n_s = np.stack([(valid & (season == k)).sum(axis=1) for k in range(n_seasons)], axis=1)

@@ -1,0 +1,57 @@
+"""The dashboard's per-session memo stays within its bounds, and engine frames keep the engine's text convention."""
+
+import numpy as np
+import pandas as pd
+
+from dashboard.data import engine_frame, plain_frame
+from dashboard.memo import Memo, approx_nbytes
+
+
+def test_memo_keeps_at_most_entries_per_name_least_recent_out():
+    """With 3 entries per name, the 4th value evicts the least recently used one of that name only (LRU, common practice)."""
+    memo = Memo(entries=3, max_bytes=10**9)
+    calls = []
+
+    def value(k):
+        calls.append(k)
+        return k
+
+    for k in range(3):
+        memo.get("view", (k,), lambda k=k: value(k))
+    memo.get("other", (0,), lambda: value("other"))
+    memo.get("view", (0,), lambda: value("again"))  # a hit: (0,) becomes the most recent
+    memo.get("view", (3,), lambda: value(3))
+    assert ("view", (1,)) not in memo.keys()
+    assert {("view", (0,)), ("view", (2,)), ("view", (3,)), ("other", (0,))} == set(memo.keys())
+    assert calls == [0, 1, 2, "other", 3]
+
+
+def test_memo_bytes_stay_under_the_cap_and_oversized_values_are_not_kept():
+    """Values of 1 MB each under a 3.5 MB cap: never more than 3 kept; a 5 MB value is returned, not kept (arithmetic)."""
+    memo = Memo(entries=100, max_bytes=3_500_000)
+    for k in range(10):
+        memo.get("chart", (k,), lambda: np.zeros(125_000))  # 1,000,000 bytes
+        assert memo.nbytes <= memo.max_bytes
+    assert len(memo) == 3
+    assert [k[1][0] for k in memo.keys()] == [7, 8, 9]
+    big = memo.get("chart", ("big",), lambda: np.zeros(625_000))
+    assert big.nbytes == 5_000_000 and ("chart", ("big",)) not in memo.keys()
+    assert len(memo) == 3
+
+
+def test_memo_size_estimate_counts_array_and_text_buffers():
+    """The estimate is at least the arrays' buffers and the strings' lengths (numpy nbytes; arithmetic)."""
+    fig = {"data": [{"x": np.zeros(1000), "customdata": [["a" * 100] * 9] * 50}], "layout": {"title": "t"}}
+    assert approx_nbytes(fig) >= 8000 + 50 * 9 * 100
+
+
+def test_engine_frame_gives_empty_text_for_missing_and_keeps_categoricals():
+    """Missing text becomes "" as in the engine's tables (DEVELOPERS.md data model); values and dtype otherwise unchanged."""
+    cat = pd.Categorical(["a", None, "b", None], categories=pd.Index(["a", "b"], dtype=object))
+    frame = pd.DataFrame({"t": cat, "v": [1.0, 2.0, np.nan, 4.0]}, index=[10, 11, 12, 13])
+    out = engine_frame(frame)
+    assert isinstance(out["t"].dtype, pd.CategoricalDtype)
+    assert list(out["t"].astype(str)) == ["a", "", "b", ""]
+    assert list(out.index) == [10, 11, 12, 13]
+    pd.testing.assert_series_equal(out["v"], frame["v"])
+    assert list(plain_frame(frame)["t"]) == list(out["t"].astype(str))
