@@ -22,6 +22,7 @@ import pandas as pd
 
 from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
+from dashboard.screen_parts import PART_ROWS, screen_in_parts
 
 BASE_KEY = "base"
 #: ``SessionData.day`` of a result without a sampling date
@@ -206,8 +207,12 @@ def file_counts(accepted: pd.DataFrame, rejected: pd.DataFrame) -> pd.DataFrame:
     return out.reset_index(names="file")[["file", "rows_read", "accepted", "rejected"]]
 
 
-def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = False) -> SessionData:
+def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = False,
+                  part_rows: int = PART_ROWS) -> SessionData:
     """Screen the accepted results with the engine and precompute the dashboard's indexes.
+
+    Large inputs are screened in parts of whole sites of about ``part_rows`` results
+    (:mod:`dashboard.screen_parts`), which bounds the memory the screening needs at once.
 
     With ``release_input``, ``inputs.accepted`` is emptied as soon as its sorted copy is made
     (the session keeps every accepted column), so the two are not both held while screening.
@@ -215,14 +220,17 @@ def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = Fal
     from tracescreen.screening import screen
 
     acc = inputs.accepted.assign(campaign=_categorical(_campaign_labels(inputs.accepted)))
+    site_codes = _categorical(acc["site_id"]).cat.codes.to_numpy()
     order = np.lexsort(
         (
             acc["row"].to_numpy() if "row" in acc else np.arange(len(acc)),
             acc["sampled_at"].to_numpy(),
-            *(_categorical(acc[c]).cat.codes.to_numpy() for c in ("fraction", "analyte", "site_id")),
+            *(_categorical(acc[c]).cat.codes.to_numpy() for c in ("fraction", "analyte")),
+            site_codes,
         )
     )
     acc = acc.iloc[order].reset_index(drop=True)
+    site_codes = site_codes[order]
     files = inputs.files
     if files is None or not isinstance(files, pd.DataFrame) or files.empty:
         inputs.files = file_counts(inputs.accepted, inputs.rejected)
@@ -233,7 +241,8 @@ def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = Fal
     # through screening (a file name can repeat across uploads) and is put back afterwards.
     file_row = acc["row"].to_numpy() if "row" in acc else rid + 1
     campaign = acc["campaign"]
-    screened = screen(acc.drop(columns="campaign").assign(row=rid), inputs.limits, inputs.sites)
+    screened = screen_in_parts(acc.drop(columns="campaign").assign(row=rid), site_codes,
+                               lambda part: screen(part, inputs.limits, inputs.sites), _categorical, part_rows)
     del acc
     screened["_rid"] = screened["row"].to_numpy(dtype=np.int64)
     if not screened["_rid"].is_monotonic_increasing:

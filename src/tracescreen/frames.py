@@ -31,6 +31,27 @@ def plain_text(df: pd.DataFrame, columns=None) -> pd.DataFrame:
     return out
 
 
+def _as_text_categorical(values) -> pd.Categorical:
+    """Values as a categorical of their text, ``str(v)`` per distinct value.
+
+    Factorised first, so only the distinct values are turned into text: converting millions of
+    notes with ``ndarray.astype(str)`` would build a fixed-width unicode array as wide as the
+    longest note (gigabytes for a million rows).
+    """
+    arr = np.asarray(values, dtype=object)
+    missing = pd.isna(arr)
+    if missing.any():  # None and NaN keep their own text, as str() gives it
+        arr = arr.copy()
+        arr[missing] = [str(v) for v in arr[missing]]
+    codes, uniques = pd.factorize(arr)
+    text = pd.Index([str(u) for u in uniques], dtype=object)
+    if not text.is_unique:  # distinct values with the same text (1 and "1"): merge them
+        merged, text = pd.factorize(text)
+        codes = merged[codes]
+        text = pd.Index(text, dtype=object)
+    return pd.Categorical.from_codes(codes, categories=text.astype(str))
+
+
 def replace_at(col: pd.Series, positions: np.ndarray, values):
     """Values of ``col`` with ``values`` put at ``positions``, ready to assign as a column.
 
@@ -40,7 +61,7 @@ def replace_at(col: pd.Series, positions: np.ndarray, values):
     positions = np.asarray(positions, dtype=np.int64)
     if isinstance(col.dtype, pd.CategoricalDtype):
         if not isinstance(values, pd.Categorical):
-            values = pd.Categorical(np.asarray(values, dtype=object).astype(str))
+            values = _as_text_categorical(values)
         cats = col.cat.categories
         new = pd.Index(values.categories.astype(str))
         categories = cats.append(new.difference(cats))
