@@ -28,7 +28,6 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy import optimize, special, stats
 
 from tracescreen import grouped
 
@@ -315,6 +314,7 @@ def _rank_in_runs(keys, live):
 
 def _ros_rows(x, nd, valid):
     """ROS for each row of padded arrays (see :func:`ros`); NaN where ROS cannot be fitted."""
+    from scipy import stats  # imported on use (a slow import)
     g, m = x.shape
     det, ndv = valid & ~nd, valid & nd
     out = np.where(valid, x, np.nan)
@@ -404,6 +404,7 @@ def lognormal_mle(values, nondetect, probs=PROBS) -> dict:
     .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
        2nd ed., ch. 5. Wiley.
     """
+    from scipy import optimize, stats  # imported on use (a slow import)
     x, nd = _as_series(values, nondetect)
     nan = {"mu": np.nan, "sigma": np.nan, "mean": np.nan, "sd": np.nan,
            "quantiles": np.full(len(probs), np.nan)}
@@ -443,6 +444,7 @@ def _lognormal_mle_rows(x, nd, valid, iterations=200):
     halving a step until the likelihood does not decrease; a gradient step where the Hessian is
     not negative definite. Returns (mu, sigma), NaN where fewer than 2 distinct detects.
     """
+    from scipy import special, stats  # imported on use (a slow import)
     det, ndv = valid & ~nd, valid & nd
     with np.errstate(divide="ignore", invalid="ignore"):
         lx = np.log(np.where(valid & (x > 0), x, 1.0))
@@ -509,6 +511,7 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
     DataFrame
         One row per group code: ``mean``, ``sd``, ``q<100 p>`` [µg/L], ``method``.
     """
+    from scipy import stats  # imported on use (a slow import)
     if method not in METHODS:
         raise ValueError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
     x, nd = _as_series(values, nondetect)

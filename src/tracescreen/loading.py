@@ -25,9 +25,12 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.csv as pacsv
+from pandas.api.types import union_categoricals
 
 from . import analytes, parsing, units
+from .coded import CodedText, derived_categorical, joint_codes
 from .columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
+from .memory import release_unused
 
 HEADER_SEARCH_ROWS = 30
 
@@ -142,10 +145,18 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
     name = path.name
     if b"\x00" in data[:4096]:
         raise LoadError(f"{name}: binary data, not a CSV text file")
-    text = _decode(data, name, opts.encoding)
-    if not text.strip():
+    utf8 = opts.encoding.lower().replace("-", "").replace("_", "") in ("utf8", "utf8sig")
+    if utf8:  # Arrow reads the bytes and checks they are UTF-8; the whole text is decoded only if needed
+        body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
+        text = None
+        head_text = body[:1 << 20].decode("utf-8", errors="replace")
+    else:
+        text = _decode(data, name, opts.encoding)
+        body = text.encode("utf-8")
+        head_text = text[:1 << 20]
+    if not body.strip():
         raise LoadError(f"{name}: the file is empty")
-    head_lines = text[:1 << 20].splitlines()[:HEADER_SEARCH_ROWS]
+    head_lines = head_text.splitlines()[:HEADER_SEARCH_ROWS]
     first = next((ln for ln in head_lines if ln.strip()), "")
     delim = max([",", ";", "\t", "|"], key=first.count)
     head = list(csv.reader(head_lines, delimiter=delim))
@@ -158,10 +169,6 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
         invalid.append(row.text)
         return "skip"
 
-    if opts.encoding.lower().replace("-", "").replace("_", "") in ("utf8", "utf8sig"):
-        body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
-    else:
-        body = text.encode("utf-8")
     try:
         table = pacsv.read_csv(
             pa.BufferReader(body),
@@ -178,6 +185,7 @@ def _read_csv(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
         cells, rows = None, None
     if invalid:
         # Exact, slower path: Python's csv module keeps every record with its line number.
+        text = _decode(data, name, opts.encoding) if text is None else text  # names a non-UTF-8 byte
         cells, rows, (bad_cells, bad_rows) = _read_csv_exact(text, delim, h, headers)
         raw = _finish(name, str(path), "", h + 1, cells, rows)
         raw.cells = pd.concat([raw.cells, bad_cells], ignore_index=True).fillna("")
@@ -270,6 +278,8 @@ def _finish(name, path, sheet, header_row, cells, rows) -> RawTable:
     blank = np.ones(len(cells), dtype=bool)
     for c in cells.columns:  # a loop over columns, not rows
         blank &= (cells[c] == "").to_numpy()
+    if not blank.any():
+        return RawTable(name, path, sheet, header_row, cells, rows, 0)
     return RawTable(name, path, sheet, header_row, cells[~blank].reset_index(drop=True), rows[~blank],
                     int(blank.sum()))
 
@@ -302,22 +312,12 @@ def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list
 # normalising
 # --------------------------------------------------------------------------------------------
 
-def constant_text(value: str, n: int) -> pd.Series:
-    """A text column of ``n`` copies of ``value`` (built in Arrow, not from Python objects)."""
-    arr = pa.repeat(pa.scalar(str(value), pa.large_string()), n)
-    return pd.Series(pd.array(arr, dtype=pd.StringDtype("pyarrow", na_value=np.nan)))
-
-
 def mapping_applies(headers, column_map: ColumnMap) -> bool:
     """A mapping's ``defaults`` apply only to files that have at least one of its mapped headers."""
     from .columns import header_key
 
     mapped = {header_key(h) for h in column_map.columns}
     return not mapped or any(header_key(h) in mapped for h in headers)
-
-
-def _reasons(n: int) -> np.ndarray:
-    return np.full(n, "", dtype=object)
 
 
 def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
@@ -330,10 +330,28 @@ def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
     reasons[mask] = joined + m
 
 
+def _quoted(col: CodedText, mask: np.ndarray, before: str, after: str) -> np.ndarray:
+    """Messages ``before'text'after`` for the rows in ``mask`` (built only for those rows)."""
+    return before + "'" + col.text_at(mask) + "'" + after
+
+
+_FRACTIONS = np.array(["", "total", "dissolved"], dtype=object)  # fraction codes 0, 1, 2
+_NAME_FRACTION_CODE = {"total": 1, "dissolved": 2, "conflict": 3}
+
+
+def _fraction_codes(per_value) -> np.ndarray:
+    return np.array([_NAME_FRACTION_CODE.get(v, 0) if isinstance(v, str) else 0 for v in per_value], dtype=np.int8)
+
+
 def normalise(raw: RawTable, options: LoadOptions | None = None,
               site_ids: set[str] | None = None, sites_name: str = "sites file"
               ) -> tuple[pd.DataFrame, pd.DataFrame]:
-    """Turn one raw table into accepted rows (contract columns) and rejected rows (with reasons)."""
+    """Turn one raw table into accepted rows (contract columns) and rejected rows (with reasons).
+
+    Each text column is coded once (:class:`tracescreen.coded.CodedText`) and every parser runs on
+    distinct values (or distinct combinations of result, qualifier, detection limit, uncertainty
+    and unit), never per row; rows take the answers by integer indexing.
+    """
     opts = options or LoadOptions()
     cells = raw.cells
     n = len(cells)
@@ -349,123 +367,127 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     if n == 0:  # a header without data rows: nothing accepted, nothing rejected
         return normalise_empty(), pd.DataFrame(columns=["file", "sheet", "row", "reason", *cells.columns])
 
-    def col(c: str) -> pd.Series:
+    def col(c: str) -> CodedText:
         if c in found:
-            return cells[found[c]].str.strip()
-        return constant_text(defaults.get(c, ""), n)
+            return CodedText.from_series(cells[found[c]])
+        return CodedText.constant(defaults.get(c, ""), n)
 
-    reasons = _reasons(n)
+    reasons = np.full(n, "", dtype=object)
     if "__field_count_error__" in cells.columns:
         fc = cells["__field_count_error__"].to_numpy(dtype=object)
         _add(reasons, fc != "", fc[fc != ""])
 
     site, sample = col("site_id"), col("sample_id")
-    _add(reasons, (site == "").to_numpy(), "site_id is empty")
-    _add(reasons, (sample == "").to_numpy(), "sample_id is empty")
+    _add(reasons, site.equals(""), "site_id is empty")
+    _add(reasons, sample.equals(""), "sample_id is empty")
     if site_ids is not None:
-        unknown_site = ~site.isin(site_ids).to_numpy() & (site != "").to_numpy()
-        _add(reasons, unknown_site, ("site '" + site[unknown_site] + f"' is not in {sites_name}").to_numpy())
+        unknown_site = site.rows(~site.values.isin(site_ids) & (site.values != ""))
+        _add(reasons, unknown_site, _quoted(site, unknown_site, "site ", f" is not in {sites_name}"))
 
     sampled_text = col("sampled_at")
-    sampled_at, bad_date = parsing.parse_dates(sampled_text, opts.date_order)
-    _add(reasons, (sampled_text == "").to_numpy(), "sampled_at is empty")
+    dates, bad = parsing.parse_dates(sampled_text.series(), opts.date_order)
+    sampled_at, bad_date = sampled_text.rows(dates), sampled_text.rows(bad)
+    _add(reasons, sampled_text.equals(""), "sampled_at is empty")
     hint = "" if opts.date_order != "iso" else " (ISO 8601 expected, e.g. 2021-03-04; use --date-order dmy or mdy for other forms)"
-    _add(reasons, bad_date, ("sampled_at '" + sampled_text[bad_date] + "' is not a date" + hint).to_numpy())
-    future = sampled_at > np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=1))
+    _add(reasons, bad_date, _quoted(sampled_text, bad_date, "sampled_at ", " is not a date" + hint))
+    future = sampled_text.rows(dates > np.datetime64(pd.Timestamp.now().normalize() + pd.Timedelta(days=1)))
     _add(reasons, future, "sampled_at is in the future")
 
     analyte_text = col("analyte")
-    names, name_fraction = analytes.match_analytes(analyte_text)
-    no_name = pd.isna(names).astype(bool)
-    conflict_name = name_fraction == "conflict"
-    _add(reasons, no_name & (analyte_text == "").to_numpy(), "analyte is empty")
-    unk = no_name & (analyte_text != "").to_numpy() & ~conflict_name
-    _add(reasons, unk, ("analyte '" + analyte_text[unk] + "' is not in the analyte registry").to_numpy())
+    names, name_fraction = analytes.match_analytes(analyte_text.series())
+    v_no_name = pd.isna(names).astype(bool)
+    no_name = analyte_text.rows(v_no_name)
+    name_code = analyte_text.rows(_fraction_codes(name_fraction))
+    conflict_name = name_code == 3
+    _add(reasons, no_name & analyte_text.equals(""), "analyte is empty")
+    unk = analyte_text.rows(v_no_name & (analyte_text.values != "")) & ~conflict_name
+    _add(reasons, unk, _quoted(analyte_text, unk, "analyte ", " is not in the analyte registry"))
     _add(reasons, conflict_name, "analyte name names both total and dissolved")
 
     frac_text = col("fraction")
-    fraction, bad_frac = parsing.parse_vocabulary(frac_text, parsing.FRACTION_VOCAB)
-    _add(reasons, bad_frac, ("fraction '" + frac_text[bad_frac] + "' is not total or dissolved").to_numpy())
-    name_frac = np.where(conflict_name, None, name_fraction)
-    both = (~pd.isna(fraction) & ~pd.isna(name_frac) & (fraction != name_frac)) if n else np.zeros(0, bool)
-    _add(reasons, both, "fraction column and analyte name disagree")
-    fraction = np.where(pd.isna(fraction).astype(bool), name_frac, fraction) if n else fraction
+    v_fraction, v_bad_frac = parsing.parse_vocabulary(frac_text.series(), parsing.FRACTION_VOCAB)
+    bad_frac = frac_text.rows(v_bad_frac)
+    _add(reasons, bad_frac, _quoted(frac_text, bad_frac, "fraction ", " is not total or dissolved"))
+    given = frac_text.rows(_fraction_codes(v_fraction))
+    from_name = np.where(conflict_name, 0, name_code)
+    _add(reasons, (given > 0) & (from_name > 0) & (given != from_name), "fraction column and analyte name disagree")
+    fraction = np.where(given == 0, from_name, given)
     if opts.default_fraction:
-        fraction = np.where(pd.isna(fraction).astype(bool), opts.default_fraction, fraction)
-    no_frac = pd.isna(fraction).astype(bool) & ~bad_frac & ~conflict_name if n else np.zeros(0, bool)
-    _add(reasons, no_frac, "fraction not given (no fraction column value, none in the analyte name; "
-                           "use --default-fraction to set one)")
+        fraction = np.where(fraction == 0, _NAME_FRACTION_CODE[opts.default_fraction], fraction)
+    _add(reasons, (fraction == 0) & ~bad_frac & ~conflict_name,
+         "fraction not given (no fraction column value, none in the analyte name; use --default-fraction to set one)")
 
     unit_text = col("unit")
-    factor = units.factors_for(unit_text)
-    bad_unit = np.isnan(factor)
-    _add(reasons, bad_unit & (unit_text == "").to_numpy(), "unit is empty")
-    bu = bad_unit & (unit_text != "").to_numpy()
-    _add(reasons, bu, ("unit '" + unit_text[bu] + "' is not a concentration unit tracescreen knows").to_numpy())
+    v_factor = units.factors_for(unit_text.series())
+    bad_unit = unit_text.rows(np.isnan(v_factor))
+    _add(reasons, bad_unit & unit_text.equals(""), "unit is empty")
+    bu = bad_unit & ~unit_text.equals("")
+    _add(reasons, bu, _quoted(unit_text, bu, "unit ", " is not a concentration unit tracescreen knows"))
 
-    qualifier = col("qualifier")
-    res_text = col("result")
-    parsed = parsing.parse_results(res_text, qualifier, col("detection_limit"), opts.decimal_comma)
+    # a result, its qualifier, detection limit, uncertainty and unit: parsed once per combination
+    qualifier, res_text, dl_text, unc_text = col("qualifier"), col("result"), col("detection_limit"), col("uncertainty")
+    combo, first = joint_codes(res_text.codes, qualifier.codes, dl_text.codes, unc_text.codes, unit_text.codes)
+
+    def at_first(c: CodedText) -> pd.Series:
+        return pd.Series(c.values.take(c.codes[first]), dtype="str")
+
+    parsed = parsing.parse_results(at_first(res_text), at_first(qualifier), at_first(dl_text), opts.decimal_comma)
     perr = parsed["error"]
-    has_err = ~pd.isna(perr).astype(bool) if n else np.zeros(0, bool)
-    _add(reasons, has_err, perr[has_err])
+    has_err = ~pd.isna(perr).astype(bool)
+    _add(reasons, has_err[combo], perr[combo[has_err[combo]]])
 
     st_text = col("sample_type")
-    sample_type, bad_st = parsing.parse_vocabulary(st_text, parsing.SAMPLE_TYPE_VOCAB)
-    _add(reasons, bad_st, ("sample_type '" + st_text[bad_st] + "' is not sample, field_duplicate, "
-                                                            "field_blank or lab_blank").to_numpy())
+    v_sample_type, v_bad_st = parsing.parse_vocabulary(st_text.series(), parsing.SAMPLE_TYPE_VOCAB)
+    bad_st = st_text.rows(v_bad_st)
+    _add(reasons, bad_st, _quoted(st_text, bad_st, "sample_type ", " is not sample, field_duplicate, "
+                                                                   "field_blank or lab_blank"))
     parent = col("parent_sample_id")
-    dup_no_parent = (sample_type == "field_duplicate") & (parent == "").to_numpy()
+    dup_no_parent = st_text.rows(v_sample_type == "field_duplicate") & parent.equals("")
     _add(reasons, dup_no_parent, "field duplicate without parent_sample_id")
 
     an_text = col("analysed_at")
-    analysed_at, bad_an = parsing.parse_dates(an_text, opts.date_order)
-    _add(reasons, bad_an, ("analysed_at '" + an_text[bad_an] + "' is not a date").to_numpy())
+    an_dates, an_bad = parsing.parse_dates(an_text.series(), opts.date_order)
+    bad_an = an_text.rows(an_bad)
+    _add(reasons, bad_an, _quoted(an_text, bad_an, "analysed_at ", " is not a date"))
 
     hard_text = col("hardness_mg_L")
-    hardness = parsing.to_number(hard_text, opts.decimal_comma).to_numpy()
-    bad_h = ((hard_text != "").to_numpy() & np.isnan(hardness)) | (hardness < 0)
-    _add(reasons, bad_h, ("hardness '" + hard_text[bad_h] + "' is not a non-negative number").to_numpy())
+    v_hardness = parsing.to_number(hard_text.series(), opts.decimal_comma).to_numpy()
+    bad_h = hard_text.rows(((hard_text.values != "") & np.isnan(v_hardness)) | (v_hardness < 0))
+    _add(reasons, bad_h, _quoted(hard_text, bad_h, "hardness ", " is not a non-negative number"))
 
-    unc_text = col("uncertainty")
-    unc, bad_unc = parsing.parse_uncertainty(unc_text, parsed["value"], opts.decimal_comma)
-    _add(reasons, bad_unc, ("uncertainty '" + unc_text[bad_unc] + "' is not a number or a percentage").to_numpy())
+    unc, v_bad_unc = parsing.parse_uncertainty(at_first(unc_text), parsed["value"], opts.decimal_comma)
+    bad_unc = v_bad_unc[combo]
+    _add(reasons, bad_unc, _quoted(unc_text, bad_unc, "uncertainty ", " is not a number or a percentage"))
 
     rejected_mask = reasons != ""
     ok = ~rejected_mask
-
-    def text(values) -> pd.Categorical:
-        """Accepted rows of a text column as a categorical (factorise once, integer take)."""
-        cat = pd.Categorical(values if not isinstance(values, np.ndarray) else pd.Series(values, dtype=object).astype(str))
-        return cat[ok] if not ok.all() else cat
-
+    okc = combo[ok]
+    factor = v_factor[unit_text.codes[first]]  # per combination
+    n_ok = int(ok.sum())
     acc = pd.DataFrame({
-        "file": pd.Categorical(np.full(int(ok.sum()), raw.file, dtype=object)),
-        "sheet": pd.Categorical(np.full(int(ok.sum()), raw.sheet, dtype=object)),
+        "file": pd.Categorical.from_codes(np.zeros(n_ok, dtype=np.int8), categories=pd.Index([raw.file], dtype="str")),
+        "sheet": pd.Categorical.from_codes(np.zeros(n_ok, dtype=np.int8), categories=pd.Index([raw.sheet], dtype="str")),
         "row": raw.rows[ok],
-        "site_id": text(site),
-        "sample_id": text(sample),
+        "site_id": site.categorical(ok),
+        "sample_id": sample.categorical(ok),
         "sampled_at": sampled_at[ok],
-        "analyte": text(np.where(no_name, "", names)),
-        "fraction": text(np.where(pd.isna(fraction).astype(bool) if n else np.zeros(0, bool), "", fraction)),
-        "result_text": text(res_text),
-        "unit": text(unit_text),
-        "value_ug_L": units.clean_decimal(parsed["value"][ok] * factor[ok]),
-        "detected": parsed["detected"][ok],
-        "detection_limit_ug_L": units.clean_decimal(parsed["detection_limit"][ok] * factor[ok]),
-        "qualifier": text(qualifier),
-        "sample_type": text(np.where(sample_type == None, "sample", sample_type)),  # noqa: E711
-        "parent_sample_id": text(parent),
-        "lab": text(col("lab")),
-        "batch": text(col("batch")),
-        "analysed_at": analysed_at[ok],
-        "hardness_mg_L": hardness[ok],
-        "uncertainty_ug_L": units.clean_decimal(unc[ok] * factor[ok]),
+        "analyte": derived_categorical(np.where(v_no_name, "", names), analyte_text.codes, ok),
+        "fraction": derived_categorical(_FRACTIONS, fraction, ok),
+        "result_text": res_text.categorical(ok),
+        "unit": unit_text.categorical(ok),
+        "value_ug_L": units.clean_decimal(parsed["value"] * factor)[okc],
+        "detected": parsed["detected"][okc],
+        "detection_limit_ug_L": units.clean_decimal(parsed["detection_limit"] * factor)[okc],
+        "qualifier": qualifier.categorical(ok),
+        "sample_type": derived_categorical(np.where(pd.isna(v_sample_type).astype(bool), "sample", v_sample_type),
+                                           st_text.codes, ok),
+        "parent_sample_id": parent.categorical(ok),
+        "lab": col("lab").categorical(ok),
+        "batch": col("batch").categorical(ok),
+        "analysed_at": an_text.rows(an_dates)[ok],
+        "hardness_mg_L": hard_text.rows(v_hardness)[ok],
+        "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
     })
-    for c in TEXT_COLUMNS:
-        cats = acc[c].cat.categories
-        if len(cats) and not isinstance(cats.dtype, pd.StringDtype):
-            acc[c] = acc[c].cat.rename_categories(cats.astype(str))
     rej_cells = cells.loc[rejected_mask].drop(columns=["__field_count_error__"], errors="ignore")
     rej = pd.concat([
         pd.DataFrame({"file": raw.file, "sheet": raw.sheet, "row": raw.rows[rejected_mask],
@@ -481,7 +503,8 @@ def empty_accepted() -> pd.DataFrame:
 
 
 def normalise_empty() -> pd.DataFrame:
-    cols = {c: pd.Series(pd.Categorical([]), dtype="category") if c in TEXT_COLUMNS else pd.Series(dtype=str)
+    no_text = pd.Categorical([], categories=pd.Index([], dtype="str"))
+    cols = {c: pd.Series(no_text) if c in TEXT_COLUMNS else pd.Series(dtype=str)
             for c in ACCEPTED_COLUMNS}
     for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L"):
         cols[c] = pd.Series(dtype=float)
@@ -493,14 +516,16 @@ def normalise_empty() -> pd.DataFrame:
 
 
 def concat_accepted(frames: list[pd.DataFrame]) -> pd.DataFrame:
-    """Concatenate accepted tables, keeping text columns categorical (union of categories)."""
+    """Concatenate accepted tables, keeping text columns categorical (union of sorted categories)."""
     if len(frames) == 1:
         return frames[0]
-    out = pd.concat([f.astype({c: object for c in TEXT_COLUMNS if c in f}) for f in frames], ignore_index=True)
-    for c in TEXT_COLUMNS:
-        if c in out:
-            out[c] = pd.Categorical(out[c].astype(str))
-    return out
+    text = [c for c in frames[0].columns if c in TEXT_COLUMNS]
+    out = pd.concat([f.drop(columns=text) for f in frames], ignore_index=True)
+    for c in text:  # categories are unions of the files' categories (codes are recoded, not text)
+        cats = [pd.Categorical(f[c]) for f in frames]
+        cats = [x.set_categories(x.categories.astype("str")) for x in cats]  # one categories dtype
+        out[c] = union_categoricals(cats, sort_categories=True)
+    return out[frames[0].columns]
 
 
 def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame | None = None,
@@ -534,4 +559,5 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
                           "accepted": len(acc), "rejected": len(rej), "blank_rows": raw.blank_rows})
     acc = concat_accepted(accepted) if accepted else normalise_empty()
     rej = pd.concat(rejected, ignore_index=True) if rejected else pd.DataFrame(columns=["file", "sheet", "row", "reason"])
+    release_unused()  # the files' text is gone; give its memory back before screening allocates
     return LoadResult(acc, rej, pd.DataFrame(files), warnings)

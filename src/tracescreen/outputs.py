@@ -11,7 +11,10 @@ References
 
 from __future__ import annotations
 
+import os
 import re
+from collections import deque
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
@@ -32,9 +35,9 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
     """Copy of ``df`` whose text cells and column names cannot start a spreadsheet formula.
 
     Only text is changed: numbers, negative ones included, stay numbers, also in a column of mixed
-    (object) type.
+    (object) type. Columns are replaced, never changed in place (the copy shares unchanged data).
     """
-    out = df.copy()
+    out = df.copy(deep=False)
     out.columns = [neutralise_text(str(c)) for c in out.columns]
     for c in out.columns:
         s = out[c]
@@ -54,14 +57,15 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
 
 
 def _format_dates(df: pd.DataFrame) -> pd.DataFrame:
-    out = df.copy()
+    """Dates as ISO text (with the time only where a column has one), as categoricals of the distinct dates."""
+    out = df.copy(deep=False)
     for c in out.columns:
         if pd.api.types.is_datetime64_any_dtype(out[c]):
             codes, uniq = pd.factorize(out[c])
             has_time = (uniq != uniq.normalize()).any() if len(uniq) else False
-            text = np.asarray(uniq.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d"), dtype=object)
-            vals = np.where(codes >= 0, text[np.maximum(codes, 0)] if len(text) else "", "")
-            out[c] = pd.Series(vals, index=out.index, dtype=str)
+            text = pd.Index(uniq.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d"), dtype="str")
+            text = text.append(pd.Index([""], dtype="str"))  # NaT: empty text
+            out[c] = pd.Categorical.from_codes(np.where(codes < 0, len(text) - 1, codes), categories=text)
     return out
 
 
@@ -70,8 +74,28 @@ def prepare(df: pd.DataFrame) -> pd.DataFrame:
     return neutralise_formulas(_format_dates(df))
 
 
+#: Rows per block when writing CSV: blocks are rendered in parallel and written in order, so that
+#: memory holds a few blocks of text, never the whole file.
+CSV_BLOCK_ROWS = 1 << 16
+
+
+def _csv_block(table: pa.Table, header: bool) -> pa.Buffer:
+    """One block of rows as CSV bytes (categoricals written as their text)."""
+    table = pa.Table.from_arrays(
+        [c.cast(c.type.value_type) if pa.types.is_dictionary(c.type) else c for c in table.columns],
+        names=table.column_names)
+    sink = pa.BufferOutputStream()
+    pacsv.write_csv(table, sink, write_options=pacsv.WriteOptions(include_header=header, quoting_style="needed",
+                                                                  batch_size=1 << 16))
+    return sink.getvalue()
+
+
 def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
-    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path."""
+    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path.
+
+    Blocks of :data:`CSV_BLOCK_ROWS` rows are rendered by Arrow's CSV writer on all cores (Arrow
+    releases the interpreter lock) and written in order.
+    """
     p = Path(path)
     p.parent.mkdir(parents=True, exist_ok=True)
     safe = prepare(df)
@@ -79,10 +103,16 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
         if safe[c].dtype == object:
             safe[c] = safe[c].where(safe[c].isna(), safe[c].astype(str))
     table = pa.Table.from_pandas(safe, preserve_index=False)
-    table = pa.Table.from_arrays(  # categoricals arrive as dictionaries: write their values
-        [c.cast(c.type.value_type) if pa.types.is_dictionary(c.type) else c for c in table.columns],
-        names=table.column_names)
-    pacsv.write_csv(table, p, write_options=pacsv.WriteOptions(quoting_style="needed", batch_size=1 << 16))
+    starts = range(0, max(table.num_rows, 1), CSV_BLOCK_ROWS)
+    workers = max(1, min(os.cpu_count() or 1, 4))
+    with open(p, "wb") as f, ThreadPoolExecutor(workers) as pool:
+        pending = deque()
+        for i in starts:
+            pending.append(pool.submit(_csv_block, table.slice(i, CSV_BLOCK_ROWS), i == 0))
+            if len(pending) > workers:  # a bounded number of blocks in memory
+                f.write(pending.popleft().result())
+        while pending:
+            f.write(pending.popleft().result())
     return p
 
 

@@ -49,6 +49,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+from pandas.api.types import union_categoricals
 
 from . import decision
 from . import limits as limits_mod
@@ -331,8 +332,11 @@ def _series_codes(rows: dict, extra: np.ndarray | None = None) -> np.ndarray:
 def _values_at(col: pd.Series, pos: np.ndarray) -> np.ndarray:
     """Values of a column at positions as numpy (text as object), decoding categoricals by code."""
     if isinstance(col.dtype, pd.CategoricalDtype):
+        codes = col.cat.codes.to_numpy()[pos]
+        if (codes >= 0).all():  # stays coded: takes and sorts below move integers, not strings
+            return pd.Categorical.from_codes(codes, dtype=col.dtype)
         cats = np.append(np.asarray(col.cat.categories.astype(object), dtype=object), "")
-        return cats[col.cat.codes.to_numpy()[pos]]  # code -1 (missing) -> ""
+        return cats[codes]  # code -1 (missing) -> ""
     if pd.api.types.is_string_dtype(col.dtype):
         return col.to_numpy(dtype=object)[pos]
     return col.to_numpy()[pos]
@@ -375,7 +379,8 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
             r["period_no"] += sum(len(x["status"]) for x in tables)
             per_rows.append(r)
             tables.append(t)
-    per_row = pd.concat(per_rows).sort_index()
+    notes = union_categoricals([pd.Categorical(r.pop("note")) for r in per_rows])  # stays categorical
+    per_row = pd.concat(per_rows).assign(note=notes).sort_index()
     per_row["period_id"] = per_row.pop("period_no").to_numpy() + 1
     for c in ("ratio", "period_value_ug_L"):
         per_row[c] = clean_decimal(per_row[c].to_numpy(dtype=float))

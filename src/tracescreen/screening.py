@@ -35,6 +35,7 @@ import pandas as pd
 from . import decision, periods
 from . import limits as limits_mod
 from .hardness import sample_hardness
+from .memory import release_unused
 from .sites import site_uses
 
 REL_TOL = 1e-9
@@ -156,9 +157,11 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     lone = np.flatnonzero(~covered)
 
     H = hard["hardness_used_mg_L"].to_numpy()[r_pos]
-    ent = num.iloc[e_pos]
-    limit = limits_mod.evaluate(ent, H)
-    formula = limits_mod.is_formula(ent)
+    limit = num["value_ug_L"].to_numpy(dtype=float)[e_pos]
+    formula = limits_mod.is_formula(num)[e_pos]
+    fi = np.flatnonzero(formula)  # hardness-dependent pairs: the formula is evaluated for these only
+    ent = num.iloc[e_pos[fi]]
+    limit[fi] = limits_mod.evaluate(ent, H[fi])
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
@@ -168,14 +171,13 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         ratio = np.where(det[r_pos], val[r_pos], dl[r_pos]) / limit
 
     # note = hardness remark (code 0-4) combined with the entry's own note
+    remark = np.zeros(len(r_pos), dtype=np.int64)
     with np.errstate(invalid="ignore"):
-        remark = np.zeros(len(r_pos), dtype=np.int64)
-        remark[formula] = 1
-        remark[formula & (H < ent["hardness_min"].to_numpy(float))] = 2
-        remark[formula & (H > ent["hardness_max"].to_numpy(float))] = 3
-        remark[formula & np.isnan(H)] = 4
+        h = H[fi]
+        remark[fi] = np.select([np.isnan(h), h > ent["hardness_max"].to_numpy(float),
+                                h < ent["hardness_min"].to_numpy(float)], [4, 3, 2], 1)
     n_lone_kinds = 2 + len(QC_NOTES)
-    qc_kind = results["sample_type"].astype(str).map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy()
+    qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
                          np.where(had_candidate[lone], 0, 1))
     note_key = np.concatenate([e_pos * len(HARDNESS_REMARKS) + remark, -1 - lone_kind])
@@ -186,7 +188,8 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     e_all = np.concatenate([e_pos, np.full(len(lone), -1)])[order]
     cols = {}
     for c in results.columns:  # take by position; text columns as categoricals (integer take)
-        cols[c] = take_column(results[c], rp)
+        if c in SCREENING_COLUMNS:
+            cols[c] = take_column(results[c], rp)
     cols["hardness_used_mg_L"] = hard["hardness_used_mg_L"].to_numpy()[rp]
     cols["hardness_origin"] = take_column(hard["hardness_origin"], rp)
     for c, src in (("limit_table", "table_id"), ("use", "use"), ("duration", "duration"), ("basis", "basis"),
@@ -200,13 +203,16 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["status"] = pd.Categorical.from_codes(np.concatenate([status, lone_status])[order].astype(np.int8),
                                                categories=list(STATUSES))
     cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds)
-    out = pd.DataFrame(cols)
-    out["compared_value_ug_L"] = np.nan
-    out["period_id"] = pd.array([pd.NA] * len(out), dtype="Int64")  # periods.py fills period rows
-    out["period_value_ug_L"] = np.nan
+    cols["compared_value_ug_L"] = np.full(len(rp), np.nan)
+    cols["period_id"] = pd.arrays.IntegerArray(np.zeros(len(rp), dtype=np.int64),  # periods.py fills period rows
+                                               np.ones(len(rp), dtype=bool))
+    cols["period_value_ug_L"] = np.full(len(rp), np.nan)
+    # copy=False: one block per column, nothing copied or consolidated (a screening table is large)
+    out = pd.DataFrame({c: cols[c] for c in SCREENING_COLUMNS}, copy=False)
     out = decision.apply_rounding(out, limits)  # tables that compare after rounding
     out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
-    return out[SCREENING_COLUMNS]
+    release_unused()
+    return out
 
 
 NUMERIC_ENTRY_COLUMNS = ["value_ug_L", "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope",
@@ -229,7 +235,7 @@ def _days(dates: pd.Series) -> np.ndarray:
 
 def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int) -> pd.Categorical:
     """Note text per row from its key (entry x hardness remark, or a no-limit / QC kind), built per distinct key."""
-    uniq, inv = np.unique(keys, return_inverse=True)
+    inv, uniq = pd.factorize(keys)
     text = []
     for k in uniq:  # a handful of distinct keys, not rows
         if k < 0:

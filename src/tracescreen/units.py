@@ -33,7 +33,11 @@ _MICRO = ("\u00b5", "\u03bc")  # MICRO SIGN and GREEK SMALL LETTER MU: both seen
 
 @functools.lru_cache(maxsize=1)
 def _registry() -> pint.UnitRegistry:
-    return pint.UnitRegistry()
+    """pint's default registry; its parsed definitions are cached on disk (pint's own cache)."""
+    try:
+        return pint.UnitRegistry(cache_folder=":auto:")
+    except OSError:  # no writable cache folder: parse the definitions each time
+        return pint.UnitRegistry()
 
 
 def normalise_unit_text(text: str) -> str:

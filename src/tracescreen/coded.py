@@ -1,0 +1,120 @@
+"""Text columns as one code per row plus their distinct values: each distinct text is parsed once.
+
+A lab file of 1,000,000 rows repeats a few hundred site ids, a few thousand dates and a handful of
+units, analyte names and qualifiers. The loader turns every text column into a :class:`CodedText`
+(codes into the column's distinct, whitespace-stripped values), runs the parsers of
+:mod:`tracescreen.parsing`, :mod:`tracescreen.units` and :mod:`tracescreen.analytes` on the
+distinct values only, and takes the answers back to the rows by integer indexing. Columns that are
+parsed together (a result with its qualifier, detection limit, uncertainty and unit) are coded
+jointly by :func:`joint_codes`, so each distinct combination is parsed once.
+
+The parsers give the same answer for a value wherever it occurs, so this is exact, not an
+approximation: the rows get exactly what parsing every row would give them.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+_STR = "str"  # pandas' default string dtype (Arrow-backed)
+
+
+@dataclass(frozen=True)
+class CodedText:
+    """A text column as ``codes`` (one per row) into ``values`` (distinct, stripped, unique)."""
+
+    codes: np.ndarray
+    values: pd.Index
+
+    @classmethod
+    def from_series(cls, s: pd.Series) -> CodedText:
+        """Code a column of text (missing text counts as ""); surrounding whitespace is dropped."""
+        codes, uniq = pd.factorize(s.fillna("") if s.hasnans else s)
+        values = pd.Index(uniq, dtype=_STR)
+        stripped = values.str.strip()
+        if not (stripped == values).all():  # " S01" and "S01" become one value
+            recode, values = pd.factorize(stripped)
+            codes = recode[codes]
+            values = pd.Index(values, dtype=_STR)
+        return cls(codes.astype(np.int64, copy=False), values)
+
+    @classmethod
+    def constant(cls, text: str, n: int) -> CodedText:
+        """``n`` rows of the same text (a column the file does not have, or its mapped default)."""
+        return cls(np.zeros(n, dtype=np.int64), pd.Index([str(text).strip()], dtype=_STR))
+
+    def __len__(self) -> int:
+        return len(self.codes)
+
+    def series(self) -> pd.Series:
+        """The distinct values as a Series (what the parsers are given)."""
+        return pd.Series(self.values, dtype=_STR)
+
+    def rows(self, per_value) -> np.ndarray:
+        """A per-value answer (array aligned with ``values``) taken to the rows."""
+        return np.asarray(per_value)[self.codes]
+
+    def equals(self, text: str) -> np.ndarray:
+        """Rows whose text is ``text`` (bool array)."""
+        return self.rows(np.asarray(self.values == text, dtype=bool))
+
+    def text_at(self, mask: np.ndarray) -> np.ndarray:
+        """The texts of the rows in ``mask`` (object array), for messages."""
+        return np.asarray(self.values.take(self.codes[mask]), dtype=object)
+
+    def categorical(self, keep: np.ndarray | None = None) -> pd.Categorical:
+        """The rows in ``keep`` as a categorical whose categories are every value, sorted."""
+        return sorted_categorical(self.codes, self.values, keep)
+
+
+def sorted_categorical(codes: np.ndarray, values, keep: np.ndarray | None = None) -> pd.Categorical:
+    """Categorical of ``values[codes]`` (rows in ``keep``) with sorted str categories.
+
+    ``values`` must be unique. Sorted categories make sorting and grouping by the column follow the
+    text, as ``pandas.Categorical(texts)`` would.
+    """
+    values = pd.Index(values, dtype=_STR)
+    order = values.argsort()
+    rank = np.empty(len(order), dtype=np.int64)
+    rank[order] = np.arange(len(order))
+    c = rank[codes] if keep is None or keep.all() else rank[codes[keep]]
+    return pd.Categorical.from_codes(c, categories=values[order])
+
+
+def derived_categorical(per_value_text, codes: np.ndarray, keep: np.ndarray | None = None) -> pd.Categorical:
+    """Categorical of a text derived per value (several values may give the same text).
+
+    Categories are the texts of values some row has (``per_value_text`` may list more).
+    """
+    text = np.asarray(per_value_text, dtype=object)
+    present = np.bincount(codes, minlength=len(text)) > 0
+    dcodes, dvalues = pd.factorize(pd.Series(np.where(present, text, None), dtype=object))
+    return sorted_categorical(dcodes[codes], pd.Index(dvalues, dtype=_STR), keep)
+
+
+def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """One code per distinct combination of several code columns, and a first row of each.
+
+    Returns
+    -------
+    (codes, first) : int64 arrays
+        ``codes`` per row; ``first[k]`` is a row holding combination ``k``.
+    """
+    n = len(codes[0])
+    joint = np.zeros(n, dtype=np.int64)
+    width = 1
+    for c in codes:
+        k = int(c.max()) + 1 if n else 1
+        if width * k >= 2**62:  # keep the mixed-radix number inside int64
+            joint, uniq = pd.factorize(joint)
+            width = len(uniq)
+        joint = joint * k + c
+        width *= k
+    joint = pd.factorize(joint)[0].astype(np.int64, copy=False)
+    # factorize numbers combinations in order of first appearance: a first row is where the
+    # running maximum of the codes grows
+    first = np.flatnonzero(np.diff(np.maximum.accumulate(joint), prepend=-1) > 0) if n else joint
+    return joint, first
