@@ -25,6 +25,8 @@ import numpy as np
 import pandas as pd
 import yaml
 
+from .yamlfiles import SAFE_LOADER
+
 #: Words that put a fraction into an analyte name, and the fraction they mean.
 #: dissolved: passed through a 0.45 µm filter before acidification (common practice);
 #: total: unfiltered, total recoverable.
@@ -73,7 +75,7 @@ def cas_check_digit_ok(cas: str) -> bool:
 def registry() -> tuple[Analyte, ...]:
     """The shipped analyte registry."""
     text = resources.files("tracescreen").joinpath("data/analytes.yaml").read_text("utf-8")
-    rows = yaml.safe_load(text)["analytes"]
+    rows = yaml.load(text, Loader=SAFE_LOADER)["analytes"]
     return tuple(
         Analyte(r["name"], r["symbol"], str(r["cas"]), tuple(r.get("synonyms") or ())) for r in rows
     )

@@ -25,6 +25,8 @@ from pathlib import Path
 
 import yaml
 
+from .yamlfiles import SAFE_LOADER
+
 REQUIRED = ("site_id", "sample_id", "sampled_at", "analyte", "result", "unit")
 OPTIONAL = (
     "fraction",
@@ -102,7 +104,7 @@ def load_column_map(path: str | Path) -> ColumnMap:
     """Read a ``--columns`` YAML file (see the module docstring for its form)."""
     p = Path(path)
     try:
-        data = yaml.safe_load(p.read_text(encoding="utf-8"))
+        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
     except FileNotFoundError:
         raise ColumnMapError(f"{p}: column-mapping file not found") from None
     except (yaml.YAMLError, UnicodeDecodeError) as exc:

@@ -21,6 +21,7 @@ import pandas as pd
 import yaml
 
 from . import analytes, units
+from .yamlfiles import SAFE_LOADER
 
 TABLE_KEYS_REQUIRED = ("id", "name", "source", "use", "unit", "entries")
 TABLE_KEYS_OPTIONAL = ("url", "notes", "settings")
@@ -214,7 +215,7 @@ TABLE_CHECKS: list = []
 def _value_texts(text: str) -> list[str | None]:
     """Each entry's ``value`` exactly as written (``0.010`` keeps its trailing zero), by entry position."""
     try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
+        root = yaml.compose(text, Loader=SAFE_LOADER)
     except yaml.YAMLError:
         return []
     entries = next((v for k, v in getattr(root, "value", []) if getattr(k, "value", None) == "entries"), None)
@@ -250,7 +251,7 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
     p = Path(path)
     name = p.name
     try:
-        data = yaml.safe_load(p.read_text(encoding="utf-8"))
+        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
     except FileNotFoundError:
         raise LimitTableError(f"{p}: limit table not found") from None
     except UnicodeDecodeError:
