@@ -351,17 +351,18 @@ def engine_frame(frame: pd.DataFrame) -> pd.DataFrame:
     Categorical columns stay categorical (the codes of missing values point to an added ""
     category); no text is materialised, so this is cheap on a million rows.
     """
-    out = {}
+    changed = {}
     for col in frame.columns:
         values = frame[col]
         if isinstance(values.dtype, pd.CategoricalDtype) and "" not in values.dtype.categories:
             codes = values.array.codes
+            if not (codes < 0).any():
+                continue
             cats = values.dtype.categories
             codes = np.where(codes < 0, len(cats), codes)
-            values = pd.Series(pd.Categorical.from_codes(codes, categories=cats.append(pd.Index([""], dtype=cats.dtype))),
-                               index=frame.index, name=col)
-        out[col] = values
-    return pd.DataFrame(out, index=frame.index)
+            dtype = pd.CategoricalDtype(cats.append(pd.Index([""], dtype=cats.dtype)))
+            changed[col] = pd.Categorical.from_codes(codes, dtype=dtype, validate=False)
+    return frame.assign(**changed) if changed else frame
 
 
 def accepted_from_session(session: SessionData) -> pd.DataFrame:

@@ -120,7 +120,7 @@ def trend_trace(trend: dict) -> dict:
 
 
 def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
-                      log_y: bool = False) -> dict:
+                      log_y: bool = False, points: pd.DataFrame | None = None) -> dict:
     """Results over time with limits, exceedances and (optionally) a trend line, as a plotly dict.
 
     Built as plain dicts (no figure-object validation), which keeps the chart callback fast.
@@ -135,8 +135,10 @@ def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
         ``{"x": [t0, t1], "y": [c0, c1], "label": str}``: a trend line [µg/L] and its test result.
     log_y : bool
         Logarithmic concentration axis.
+    points : DataFrame, optional
+        ``result_points(rows)`` when the caller has it already.
     """
-    pts = result_points(rows)
+    pts = result_points(rows) if points is None else points
     webgl = len(pts) > WEBGL_THRESHOLD
     data = []
     status_of = pts["status"].to_numpy() if len(pts) else np.array([], dtype=object)

@@ -25,7 +25,8 @@ DEFAULT_BYTES = 64 * 2**20
 def approx_nbytes(value: Any, _depth: int = 0) -> int:
     """Rough size of a value in bytes: arrays and frames by their buffers, containers summed.
 
-    Strings count their length; Dash components count their properties; anything else its
+    A categorical counts its codes only (see :func:`_column_nbytes`). Strings count their length;
+    Dash components count their properties; anything else its
     ``sys.getsizeof``. Nesting deeper than 12 levels counts as 64 bytes (figures and layouts are
     shallow).
     """
@@ -35,9 +36,10 @@ def approx_nbytes(value: Any, _depth: int = 0) -> int:
         if value.dtype == object:
             return value.nbytes + sum(approx_nbytes(v, _depth + 1) for v in value.ravel())
         return value.nbytes
-    if isinstance(value, (pd.DataFrame, pd.Series, pd.Index)):
-        usage = value.memory_usage(deep=False, index=True)
-        return int(usage.sum()) if isinstance(usage, pd.Series) else int(usage)
+    if isinstance(value, pd.DataFrame):
+        return sum(_column_nbytes(value[c]) for c in value.columns) + value.index.memory_usage()
+    if isinstance(value, (pd.Series, pd.Index)):
+        return _column_nbytes(value)
     if isinstance(value, (str, bytes)):
         return len(value) + 49
     if isinstance(value, dict):
@@ -48,6 +50,14 @@ def approx_nbytes(value: Any, _depth: int = 0) -> int:
     if callable(to_json):  # a Dash component
         return approx_nbytes(to_json().get("props", {}), _depth + 1)
     return sys.getsizeof(value)
+
+
+def _column_nbytes(values) -> int:
+    """Bytes of one column; a categorical counts its codes only (its categories are shared with the
+    session's whole frame, and counting them per cached slice would overstate it many times)."""
+    if isinstance(values.dtype, pd.CategoricalDtype):
+        return int(values.array.codes.nbytes) if hasattr(values, "array") else int(values.codes.nbytes)
+    return int(values.memory_usage(deep=False)) if hasattr(values, "memory_usage") else 0
 
 
 class Memo:

@@ -59,11 +59,20 @@ def series_view(session: SessionData, site, analyte, fraction, log_y: bool = Fal
                           lambda: _series_view(session, site, analyte, fraction, log_y))
 
 
+def series_points(session: SessionData, site, analyte, fraction):
+    """Screened rows of one series and its points (:func:`dashboard.figures.result_points`),
+    kept per session for the chart and the trend that follows it."""
+    def compute():
+        rows = session.series(site, analyte, fraction)
+        return rows, result_points(rows)
+
+    return session.cached("series_points", (site, analyte, fraction), compute, size=8)
+
+
 def _series_view(session: SessionData, site, analyte, fraction, log_y):
-    rows = session.series(site, analyte, fraction)
+    rows, pts = series_points(session, site, analyte, fraction)
     title = f"{session.site_name(site)} ({site}) · {analyte}, {fraction}"
-    pts = result_points(rows)
-    fig = site_metal_figure(rows, title, log_y=log_y)
+    fig = site_metal_figure(rows, title, log_y=log_y, points=pts)
     n_qc = int((~is_site_sample(rows)).sum())
     counts = pts["status"].value_counts() if len(pts) else {}
     items = [html.Li(f"{STATUS_GLYPH[s]} {STATUS_LABEL[s]}: {int(counts[s])}")
@@ -84,8 +93,7 @@ def trend_view(session: SessionData, site, analyte, fraction):
     Kept apart from :func:`series_view` so the chart shows at once and the statistics follow.
     """
     def compute():
-        rows = session.series(site, analyte, fraction)
-        pts = result_points(rows)
+        rows, pts = series_points(session, site, analyte, fraction)
         trend = series_trend(rows, pts) if len(pts) else None
         if trend is None:
             return None, ""

@@ -45,6 +45,14 @@ def test_memo_size_estimate_counts_array_and_text_buffers():
     assert approx_nbytes(fig) >= 8000 + 50 * 9 * 100
 
 
+def test_memo_counts_a_categorical_slice_by_its_codes_not_the_shared_categories():
+    """A 10-row slice of a categorical with 100,000 categories counts 10 code bytes, not the categories (numpy nbytes)."""
+    cats = pd.Index([f"L{i}" for i in range(100_000)], dtype=object)
+    col = pd.Series(pd.Categorical.from_codes(np.arange(100_000), categories=cats))
+    frame = pd.DataFrame({"sample_id": col, "value": np.zeros(100_000)}).iloc[:10]
+    assert approx_nbytes(frame) < 1_000
+
+
 def test_engine_frame_gives_empty_text_for_missing_and_keeps_categoricals():
     """Missing text becomes "" as in the engine's tables (DEVELOPERS.md data model); values and dtype otherwise unchanged."""
     cat = pd.Categorical(["a", None, "b", None], categories=pd.Index(["a", "b"], dtype=object))
