@@ -374,6 +374,15 @@ def accepted_from_session(session: SessionData) -> pd.DataFrame:
     return plain_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
 
 
+def session_nbytes(session: SessionData) -> int:
+    """Estimated bytes a session holds: its screened rows and index arrays."""
+    from dashboard.memo import approx_nbytes
+
+    arrays = (session.rank, session.site_code, session.analyte_code, session.fraction_code, session.table_code,
+              session.use_code, session.campaign_code, session.day, session.series_key)
+    return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
+
+
 def release_free_heap() -> None:
     """Hand memory freed after a build back to the operating system.
 
@@ -412,10 +421,14 @@ class DataStore:
     max_upload_bytes : int
         Size cap of one uploaded file [bytes].
     cache_size : int
-        How many dataset keys are kept screened in memory.
+        How many dataset keys with uploads are kept screened in memory (besides the base data).
+    cache_bytes : int
+        Bytes those sessions may hold together [bytes]; the least recently used go first, but the
+        most recent one is always kept (a million-result base makes each upload session as large).
     """
 
-    def __init__(self, base, upload_dir=None, max_upload_bytes: int = 20 * 2**20, cache_size: int = 3):
+    def __init__(self, base, upload_dir=None, max_upload_bytes: int = 20 * 2**20, cache_size: int = 3,
+                 cache_bytes: int = 400 * 2**20):
         self._base = base
         self._base_inputs: Inputs | None = None
         self._tmp = None
@@ -428,6 +441,7 @@ class DataStore:
         self._base_session: SessionData | None = None
         self._cache: OrderedDict[str, SessionData] = OrderedDict()
         self._cache_size = cache_size
+        self._cache_bytes = int(cache_bytes)
         self._lock = threading.RLock()
 
     # base
@@ -493,7 +507,8 @@ class DataStore:
         session = self._build(tokens)
         with self._lock:
             self._cache[key] = session
-            while len(self._cache) > self._cache_size:
+            while len(self._cache) > 1 and (len(self._cache) > self._cache_size
+                                            or sum(map(session_nbytes, self._cache.values())) > self._cache_bytes):
                 self._cache.popitem(last=False)
         release_free_heap()
         return session
@@ -552,5 +567,6 @@ __all__ = [
     "load_inputs",
     "plain_frame",
     "release_free_heap",
+    "session_nbytes",
     "text_values",
 ]
