@@ -22,7 +22,7 @@ import pandas as pd
 
 from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
-from dashboard.screen_parts import PART_ROWS, screen_in_parts
+from dashboard.screen_parts import PART_ROWS, join_frames, screen_in_parts
 
 BASE_KEY = "base"
 #: ``SessionData.day`` of a result without a sampling date
@@ -366,12 +366,13 @@ def engine_frame(frame: pd.DataFrame) -> pd.DataFrame:
 
 
 def accepted_from_session(session: SessionData) -> pd.DataFrame:
-    """The accepted result rows behind a session (one row per result, engine columns only)."""
+    """The accepted result rows behind a session (one row per result, engine columns only; text as
+    categoricals with "" for missing, see :func:`engine_frame`)."""
     starts = np.flatnonzero(np.r_[True, session.rid[1:] != session.rid[:-1]]) if len(session.rid) else []
     added = {"hardness_used_mg_L", "hardness_origin", "limit_table", "use", "duration", "basis",
              "limit_ug_L", "ratio", "status", "source", "note", "_rid", "campaign"}
     acc = session.screened.iloc[starts]
-    return plain_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
+    return engine_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
 
 
 def session_nbytes(session: SessionData) -> int:
@@ -525,10 +526,9 @@ class DataStore:
             rejected.append(loaded.rejected)
             files.append(loaded.files)
             kept.append(token)
-        merged = pd.concat(accepted, ignore_index=True)
-        for col in merged.columns:  # the engine writes missing text as "", never NaN
-            if merged[col].dtype == object or pd.api.types.is_string_dtype(merged[col].dtype):
-                merged[col] = merged[col].fillna("")
+        # categorical text joined category-wise; the engine writes missing text as "", never NaN
+        merged = engine_frame(join_frames(accepted))
+        del accepted
         inputs = Inputs(
             accepted=merged,
             rejected=pd.concat([r for r in rejected if len(r)] or [base.rejected], ignore_index=True),
@@ -537,7 +537,8 @@ class DataStore:
             files=pd.concat(files, ignore_index=True),
             sources=base.sources + tuple(f"upload {t}" for t in kept),
         )
-        return build_session(inputs, "+".join([BASE_KEY, *kept]))
+        del merged
+        return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)
 
 
 def current_store() -> DataStore:
