@@ -22,7 +22,7 @@ import pandas as pd
 
 from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
-from dashboard.screen_parts import PART_ROWS, screen_in_parts
+from dashboard.screen_parts import PART_ROWS, join_frames, screen_in_parts
 
 BASE_KEY = "base"
 #: ``SessionData.day`` of a result without a sampling date
@@ -366,12 +366,22 @@ def engine_frame(frame: pd.DataFrame) -> pd.DataFrame:
 
 
 def accepted_from_session(session: SessionData) -> pd.DataFrame:
-    """The accepted result rows behind a session (one row per result, engine columns only)."""
+    """The accepted result rows behind a session (one row per result, engine columns only; text as
+    categoricals with "" for missing, see :func:`engine_frame`)."""
     starts = np.flatnonzero(np.r_[True, session.rid[1:] != session.rid[:-1]]) if len(session.rid) else []
     added = {"hardness_used_mg_L", "hardness_origin", "limit_table", "use", "duration", "basis",
              "limit_ug_L", "ratio", "status", "source", "note", "_rid", "campaign"}
     acc = session.screened.iloc[starts]
-    return plain_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
+    return engine_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
+
+
+def session_nbytes(session: SessionData) -> int:
+    """Estimated bytes a session holds: its screened rows and index arrays."""
+    from dashboard.memo import approx_nbytes
+
+    arrays = (session.rank, session.site_code, session.analyte_code, session.fraction_code, session.table_code,
+              session.use_code, session.campaign_code, session.day, session.series_key)
+    return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
 
 
 def release_free_heap() -> None:
@@ -412,10 +422,14 @@ class DataStore:
     max_upload_bytes : int
         Size cap of one uploaded file [bytes].
     cache_size : int
-        How many dataset keys are kept screened in memory.
+        How many dataset keys with uploads are kept screened in memory (besides the base data).
+    cache_bytes : int
+        Bytes those sessions may hold together [bytes]; the least recently used go first, but the
+        most recent one is always kept (a million-result base makes each upload session as large).
     """
 
-    def __init__(self, base, upload_dir=None, max_upload_bytes: int = 20 * 2**20, cache_size: int = 3):
+    def __init__(self, base, upload_dir=None, max_upload_bytes: int = 20 * 2**20, cache_size: int = 3,
+                 cache_bytes: int = 400 * 2**20):
         self._base = base
         self._base_inputs: Inputs | None = None
         self._tmp = None
@@ -428,6 +442,7 @@ class DataStore:
         self._base_session: SessionData | None = None
         self._cache: OrderedDict[str, SessionData] = OrderedDict()
         self._cache_size = cache_size
+        self._cache_bytes = int(cache_bytes)
         self._lock = threading.RLock()
 
     # base
@@ -493,7 +508,8 @@ class DataStore:
         session = self._build(tokens)
         with self._lock:
             self._cache[key] = session
-            while len(self._cache) > self._cache_size:
+            while len(self._cache) > 1 and (len(self._cache) > self._cache_size
+                                            or sum(map(session_nbytes, self._cache.values())) > self._cache_bytes):
                 self._cache.popitem(last=False)
         release_free_heap()
         return session
@@ -510,10 +526,9 @@ class DataStore:
             rejected.append(loaded.rejected)
             files.append(loaded.files)
             kept.append(token)
-        merged = pd.concat(accepted, ignore_index=True)
-        for col in merged.columns:  # the engine writes missing text as "", never NaN
-            if merged[col].dtype == object or pd.api.types.is_string_dtype(merged[col].dtype):
-                merged[col] = merged[col].fillna("")
+        # categorical text joined category-wise; the engine writes missing text as "", never NaN
+        merged = engine_frame(join_frames(accepted))
+        del accepted
         inputs = Inputs(
             accepted=merged,
             rejected=pd.concat([r for r in rejected if len(r)] or [base.rejected], ignore_index=True),
@@ -522,7 +537,8 @@ class DataStore:
             files=pd.concat(files, ignore_index=True),
             sources=base.sources + tuple(f"upload {t}" for t in kept),
         )
-        return build_session(inputs, "+".join([BASE_KEY, *kept]))
+        del merged
+        return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)
 
 
 def current_store() -> DataStore:
@@ -552,5 +568,6 @@ __all__ = [
     "load_inputs",
     "plain_frame",
     "release_free_heap",
+    "session_nbytes",
     "text_values",
 ]

@@ -74,14 +74,45 @@ def screen_in_parts(accepted: pd.DataFrame, site_codes: np.ndarray, screen: Call
             part["period_id"] = ids + offset
             offset += int(ids.max())
         parts.append(part)
-    columns = list(parts[0].columns)
+    return join_frames(parts, consume=True)
+
+
+def _is_text(values: pd.Series) -> bool:
+    dtype = values.dtype
+    return dtype == object or pd.api.types.is_string_dtype(dtype) or isinstance(dtype, pd.CategoricalDtype)
+
+
+def _object_categorical(values: pd.Series) -> pd.Categorical:
+    """A text column as a categorical with object-dtype categories (missing stays missing)."""
+    if not isinstance(values.dtype, pd.CategoricalDtype):
+        values = values.astype("category")
+    cats = values.cat.categories
+    objects = pd.Index(np.asarray(cats, dtype=object), dtype=object)
+    return pd.Categorical.from_codes(values.cat.codes.to_numpy(), dtype=pd.CategoricalDtype(objects), validate=False)
+
+
+def join_frames(frames: list[pd.DataFrame], consume: bool = False) -> pd.DataFrame:
+    """Rows of ``frames`` one after the other, text columns joined category-wise.
+
+    ``pd.concat`` turns categoricals with different categories into plain text, which for a
+    million rows costs as much memory as the table itself; here their categories are united and
+    only the codes are re-mapped. Columns missing from a frame are missing values there. With
+    ``consume``, each frame's column is dropped as soon as it is joined (less memory at once).
+    """
+    columns = list(dict.fromkeys(c for f in frames for c in f.columns))
     joined = {}
     for col in columns:
-        pieces = [p[col] for p in parts]
-        if all(isinstance(p.dtype, pd.CategoricalDtype) for p in pieces):
-            joined[col] = pd.Series(union_categoricals(pieces, ignore_order=True))
+        pieces = [f[col].reset_index(drop=True) if col in f.columns
+                  else pd.Series(np.full(len(f), np.nan)) for f in frames]
+        present = [p for f, p in zip(frames, pieces) if col in f.columns]
+        if all(_is_text(p) for p in present):
+            cats = [_object_categorical(p) for p in pieces]
+            joined[col] = pd.Series(union_categoricals(cats, ignore_order=True)) if len(cats) > 1 else pd.Series(cats[0])
         else:
             joined[col] = pd.concat(pieces, ignore_index=True)
-        for p in parts:  # release each part's column as soon as it is joined
-            del p[col]
-    return pd.DataFrame(joined)
+        if consume:
+            for f in frames:
+                if col in f.columns:
+                    del f[col]
+    # side by side without consolidating same-dtype columns into 2-D blocks (a copy of them all)
+    return pd.concat([v.rename(c) for c, v in joined.items()], axis=1) if joined else pd.DataFrame()

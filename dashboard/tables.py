@@ -28,7 +28,7 @@ def exceedance_rows(session: SessionData) -> pd.DataFrame:
         scr = session.screened
         mask = scr["status"].isin(ATTENTION_STATUSES).to_numpy()
         if "sample_type" in scr.columns:
-            mask = mask & (scr["sample_type"].astype(str) == "sample").to_numpy()
+            mask = mask & (scr["sample_type"] == "sample").to_numpy(dtype=bool)  # on the codes
         cols = [c for c in EXCEEDANCE_COLUMNS if c in scr.columns]
         return scr.loc[mask, cols].reset_index(drop=True)
 

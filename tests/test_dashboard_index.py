@@ -87,3 +87,18 @@ def test_screening_in_parts_equals_screening_at_once():
     assert (a.isna() == b.isna()).all() and a.notna().any()
     pairs = pd.DataFrame({"a": a, "b": b}).dropna().drop_duplicates()
     assert pairs["a"].is_unique and pairs["b"].is_unique  # one-to-one
+
+
+def test_join_frames_equals_concat_and_keeps_text_categorical():
+    """Joining frames with differently categorised text gives pandas.concat's values, text as one categorical."""
+    from dashboard.screen_parts import join_frames
+
+    a = pd.DataFrame({"site_id": pd.Categorical(["S2", "S1"]), "v": [1.0, 2.0], "lab": ["x", None]})
+    b = pd.DataFrame({"site_id": pd.Categorical(["S3", "S2", None]), "v": [3.0, np.nan, 5.0]})
+    out = join_frames([a.copy(), b.copy()])
+    ref = pd.concat([a.astype({"site_id": object}), b.astype({"site_id": object})], ignore_index=True)
+    assert isinstance(out["site_id"].dtype, pd.CategoricalDtype) and isinstance(out["lab"].dtype, pd.CategoricalDtype)
+    assert out["site_id"].astype(object).where(out["site_id"].notna(), None).tolist() == \
+        ref["site_id"].where(ref["site_id"].notna(), None).tolist()
+    np.testing.assert_array_equal(out["v"].to_numpy(), ref["v"].to_numpy())
+    assert out["lab"].iloc[0] == "x" and out["lab"].iloc[1:].isna().all()

@@ -63,3 +63,21 @@ def test_engine_frame_gives_empty_text_for_missing_and_keeps_categoricals():
     assert list(out.index) == [10, 11, 12, 13]
     pd.testing.assert_series_equal(out["v"], frame["v"])
     assert list(plain_frame(frame)["t"]) == list(out["t"].astype(str))
+
+
+def test_store_keeps_upload_sessions_within_bytes_but_always_the_latest(tmp_path):
+    """With a 1-byte budget only the most recently used upload session stays screened; with room, up to cache_size stay (LRU)."""
+    from dashboard_support import scenario_inputs
+
+    from dashboard.data import DataStore
+
+    header = "site_id,sample_id,sampled_at,analyte,fraction,result,unit\n"
+    tight = DataStore(scenario_inputs(), upload_dir=tmp_path, cache_bytes=1)
+    roomy = DataStore(scenario_inputs(), upload_dir=tmp_path, cache_size=2)
+    tokens = [tight.save_upload(f"u{i}.csv", (header + f"KR01,UP-{i},2025-11-0{i + 1},zinc,total,1{i},ug/L\n").encode(),
+                                None) for i in range(3)]
+    for store in (tight, roomy):
+        for t in tokens:
+            store.get(f"base+{t}")
+    assert list(tight._cache) == [f"base+{tokens[2]}"]
+    assert list(roomy._cache) == [f"base+{tokens[1]}", f"base+{tokens[2]}"]
