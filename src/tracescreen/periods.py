@@ -294,7 +294,8 @@ def _entry_params(rows: dict, limits) -> dict[str, np.ndarray]:
     return {
         "rule": per_table(lambda s: s.get("nondetect_rule", "dl")),
         "rounding": per_table(lambda s: s.get("rounding", "none") == "significant_figures").astype(bool),
-        "source": np.array([tables.set_index("table_id")["source"].get(t, "") for t in tcat], dtype=object)[tcode],
+        # the table's title, as in screening.csv (full citations: limit_tables.csv, once per table)
+        "source": np.array([tables.set_index("table_id")["name"].get(t, "") for t in tcat], dtype=object)[tcode],
         "use": np.array([tables.set_index("table_id")["use"].get(t, "") for t in tcat], dtype=object)[tcode],
         "sig": sig.to_numpy(dtype=float)[ecode],
         "percentile": pd.to_numeric(pd.Series(per_entry("percentile")), errors="coerce").to_numpy(dtype=float),
