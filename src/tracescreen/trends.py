@@ -87,14 +87,15 @@ def _pair_scores(dy, det_i, det_j, nd_i, nd_j):
     return gt.astype(np.int8) - lt.astype(np.int8)
 
 
-def _daniels_variance(a, b, i, j, valid, season, n_seasons):
+def _daniels_variance(a, b, i, j, valid, season, n_seasons, time_ties=True):
     """Exact permutation variance of S = sum over pairs a_p b_p, per season, summed (Daniels 1944).
 
     With full antisymmetric matrices A, B over the values of one season (n of them):
     Var = [2/(n(n-1)) sum A^2 sum B^2 + 4/(n(n-1)(n-2)) (sum_i A_i.^2 - sum A^2)
     (sum_i B_i.^2 - sum B^2)] / 4. Pair p joins value ``i[p]`` (earlier) and ``j[p]`` (later);
     the row sums are accumulated by value with ``bincount`` (memory of the order of the pairs,
-    not pairs x values).
+    not pairs x values). Without ties in time (``time_ties`` False) the time scores' sums are
+    counted directly from each value's place in its season.
     """
     g, m = valid.shape
     onehot = ((season[:, :, None] == np.arange(n_seasons)) & valid[:, :, None]).astype(float)
@@ -105,7 +106,15 @@ def _daniels_variance(a, b, i, j, valid, season, n_seasons):
         return np.bincount(at, weights=w, minlength=g * m).reshape(g, m)
 
     out = []
-    for w in (a, b):
+    if not time_ties:
+        # every same-season pair is in time order (a = +1): A_i. = later - earlier values of i's
+        # season and sum_j A_ij^2 = n_season - 1, counted directly (the same integers)
+        earlier = ((np.cumsum(onehot, axis=1) - onehot) * onehot).sum(axis=2)
+        n_own = (onehot * onehot.sum(axis=1, keepdims=True)).sum(axis=2)
+        row = np.where(valid, n_own - 1 - 2 * earlier, 0.0)
+        sq = np.where(valid, n_own - 1, 0.0)
+        out.append((np.einsum("gi,gis->gs", row**2, onehot), np.einsum("gi,gis->gs", sq, onehot)))
+    for w in ((b,) if not time_ties else (a, b)):
         w = w.ravel().astype(float)
         row = by_value(at_i, w) - by_value(at_j, w)  # A_i. for each value i
         w2 = np.abs(w)  # scores are -1, 0, 1: A_ij^2 = |A_ij|
@@ -180,8 +189,9 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     else:
         b = np.sign(dy).astype(np.int8)
     s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
-    if any_nd or (pair & (dt == 0)).any():
-        var_s = _daniels_variance(a, b, i, j, valid, season, n_seasons)
+    time_ties = bool((pair & (dt == 0)).any())
+    if any_nd or time_ties:
+        var_s = _daniels_variance(a, b, i, j, valid, season, n_seasons, time_ties)
     else:
         var_s = _kendall_tie_variance(y, valid, season, n_seasons)
     n_s = np.stack([(valid & (season == k)).sum(axis=1) for k in range(n_seasons)], axis=1)
