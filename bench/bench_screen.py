@@ -98,6 +98,9 @@ def run_screen(path: Path, out: Path) -> dict:
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=1_000_000)
+    ap.add_argument("--cli", action="store_true",
+                    help="also time the whole `tracescreen screen` command (statistics, trends, retest list, "
+                         "periods; minutes at 1,000,000 results)")
     ap.add_argument("--child", nargs=2, help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child:
@@ -116,6 +119,13 @@ def main() -> None:
         p = subprocess.run([sys.executable, __file__, "--child", str(f), str(tmp)], capture_output=True, text=True,
                            check=True)
         r = json.loads(p.stdout.strip().splitlines()[-1])
+        if args.cli:
+            t = time.perf_counter()
+            subprocess.run([sys.executable, "-m", "tracescreen", "screen", str(f), "--limits", str(ROOT / "limits"),
+                            "--default-fraction", "total", "--out", str(tmp / "cli")], check=True,
+                           capture_output=True, cwd=ROOT)
+            r["cli_s"] = time.perf_counter() - t
+            r["cli_peak_mb"] = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
     print(f"pandas.read_csv (reference): {t_ref:6.2f} s")
     print(f"tracescreen screen total:    {r['total_s']:6.2f} s  (load {r['load_s']:.2f}, screen {r['screen_s']:.2f}, "
           f"write {r['write_s']:.2f})")
@@ -125,6 +135,9 @@ def main() -> None:
           f"({r['out_mb']:.0f} MB of CSV)")
     print(f"Arrow CSV writer alone on the finished table (single thread): {r['bare_write_s']:6.2f} s "
           f"= {r['bare_write_s'] / t_ref:.1f}x read_csv: the floor set by the size of the output")
+    if "cli_s" in r:
+        print(f"whole `tracescreen screen` command (all outputs): {r['cli_s']:6.1f} s = {r['cli_s'] / t_ref:.0f}x "
+              f"read_csv, peak {r['cli_peak_mb']:.0f} MB")
     print(f"load average (1 min) at the end: {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores")
 
 
