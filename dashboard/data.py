@@ -20,6 +20,8 @@ from typing import Any, Callable
 import numpy as np
 import pandas as pd
 
+from tracescreen.memory import release_unused
+
 from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
 from dashboard.screen_parts import PART_ROWS, join_frames, screen_in_parts
@@ -384,23 +386,6 @@ def session_nbytes(session: SessionData) -> int:
     return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
 
 
-def release_free_heap() -> None:
-    """Hand memory freed after a build back to the operating system.
-
-    Loading and screening a million results frees more than a gigabyte of short-lived arrays;
-    glibc's allocator keeps those pages in the process (resident) unless asked to trim them.
-    Does nothing where the C library has no ``malloc_trim`` (macOS, Windows, musl).
-    """
-    import ctypes
-    import ctypes.util
-
-    try:
-        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
-        libc.malloc_trim(0)
-    except (OSError, AttributeError):
-        pass
-
-
 # ---- the per-app store ------------------------------------------------------------------------
 def content_token(*parts: bytes) -> str:
     """Short content hash naming an upload (same bytes, same token)."""
@@ -493,7 +478,7 @@ class DataStore:
         with self._lock:
             if self._base_session is None:
                 self._base_session = build_session(self.base_inputs(), BASE_KEY, release_input=True)
-                release_free_heap()
+                release_unused()
             return self._base_session
 
     def get(self, key: str | None) -> SessionData:
@@ -511,7 +496,7 @@ class DataStore:
             while len(self._cache) > 1 and (len(self._cache) > self._cache_size
                                             or sum(map(session_nbytes, self._cache.values())) > self._cache_bytes):
                 self._cache.popitem(last=False)
-        release_free_heap()
+        release_unused()
         return session
 
     def _build(self, tokens: list[str]) -> SessionData:
@@ -567,7 +552,6 @@ __all__ = [
     "file_counts",
     "load_inputs",
     "plain_frame",
-    "release_free_heap",
     "session_nbytes",
     "text_values",
 ]
