@@ -10,8 +10,8 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from .frames import plain_text
 from . import flags, qc
+from .frames import plain_text
 
 REASONS = (
     "first_exceedance", "dl_too_high", "near_limit", "uncertainty_straddles_limit",
@@ -105,13 +105,15 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     unknown = set(o.reasons) - set(REASONS)
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
-    screening = plain_text(screening[[c for c in flags.USED_COLUMNS if c in screening.columns]])
-    results = flags.results_from_screening(screening)
+    screening = screening[[c for c in flags.USED_COLUMNS if c in screening.columns]]
+    # selected once while text is still categorical (fast), then as plain text for the messages
+    results = plain_text(flags.results_from_screening(screening))
+    single = plain_text(flags.single_sample_rows(screening))  # what the four result flags look at
     checks = {
-        "first_exceedance": lambda: flags.first_exceedance(screening, lookback=o.lookback),
-        "dl_too_high": lambda: flags.dl_too_high(screening),
-        "near_limit": lambda: flags.near_limit(screening, fraction=o.near_limit_fraction),
-        "uncertainty_straddles_limit": lambda: flags.uncertainty_straddles_limit(screening),
+        "first_exceedance": lambda: flags.first_exceedance(single, lookback=o.lookback),
+        "dl_too_high": lambda: flags.dl_too_high(single),
+        "near_limit": lambda: flags.near_limit(single, fraction=o.near_limit_fraction),
+        "uncertainty_straddles_limit": lambda: flags.uncertainty_straddles_limit(single),
         "history_outlier": lambda: flags.history_outlier(
             results, z_threshold=o.outlier_z, min_prior=o.outlier_min_prior),
         "duplicate_disagrees": lambda: qc.duplicate_disagrees(
