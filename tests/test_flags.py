@@ -157,3 +157,28 @@ def test_format_number_significant_figures():
     """Four significant figures, no trailing .0, NaN empty (display convention)."""
     out = flags.format_number(pd.Series([0.123456, 123456.0, 2.0, np.nan, 0.0, -3.14159]))
     assert list(out) == ["0.1235", "123500", "2", "", "0", "-3.142"]
+
+
+def test_expanding_modified_z_equals_direct_definition():
+    """Sorted-history modified z-scores equal modified_z_score against each row's explicit earlier values and
+    numpy.median of them (Iglewicz & Hoaglin 1993 definition), with ties, a zero MAD and series of many lengths."""
+    from tracescreen.flags import expanding_modified_z, modified_z_score
+
+    rng = np.random.default_rng(5)
+    for trial in range(60):
+        lens = rng.integers(1, 30, rng.integers(1, 8))
+        pos = np.concatenate([np.arange(n) for n in lens])
+        x = np.log(np.round(rng.lognormal(0, 1, len(pos)), int(rng.integers(0, 3))) + 0.01)
+        if trial % 4 == 0:
+            x = np.round(x)  # many equal values: the MAD is often zero
+        min_prior = int(rng.integers(1, 9))
+        z, med = expanding_modified_z(x, pos, min_prior)
+        start = np.arange(len(x)) - pos
+        for r in range(len(x)):
+            if pos[r] < min_prior:
+                assert np.isnan(z[r]) and np.isnan(med[r])
+                continue
+            hist = x[start[r]:r]
+            ref = modified_z_score(x[r:r + 1], hist[None, :])[0]
+            assert med[r] == np.median(hist)
+            assert (np.isnan(ref) and np.isnan(z[r])) or z[r] == pytest.approx(ref, rel=1e-12)

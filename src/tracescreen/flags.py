@@ -379,6 +379,82 @@ def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
     return np.where((mad > 0) | (mean_ad > 0), z, np.nan)
 
 
+def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
+    """k-th smallest (0-based) of the union of two ascending sequences per row (vectorised).
+
+    ``a_at(t)`` / ``b_at(t)`` give the t-th element of each row's sequences (t an int array),
+    ``n_a``, ``n_b`` their lengths. Binary search on how many elements come from ``a``.
+    """
+    lo = np.maximum(0, k + 1 - n_b)
+    hi = np.minimum(k + 1, n_a)
+    while (lo < hi).any():
+        mid = (lo + hi) // 2
+        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.maximum(k - mid, 0)))
+        take_more &= (mid < n_a) & (k - mid >= 0) & (k - mid < n_b)
+        lo = np.where(take_more, mid + 1, lo)
+        hi = np.where((lo < hi) & ~take_more, mid, hi)
+    na = lo
+    nb = k + 1 - na
+    from_a = np.where(na > 0, a_at(np.maximum(na - 1, 0)), -np.inf)
+    from_b = np.where(nb > 0, b_at(np.maximum(nb - 1, 0)), -np.inf)
+    return np.maximum(from_a, from_b)
+
+
+def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`modified_z_score` of each value against all earlier values of its series, and their median.
+
+    ``x`` holds series one after another in time order; ``pos[r]`` is row r's place in its series
+    (0 for the first). Rows with fewer than ``min_prior`` earlier values get NaN.
+
+    Each series' history is kept sorted as it grows (one insertion per step, vectorised over
+    series), so the median is read off the middle and the median absolute deviation is the
+    middle of two sorted runs of deviations (left and right of the median), found by binary
+    search: the same numbers as sorting every history, without the sorts.
+    """
+    n = len(x)
+    z = np.full(n, np.nan)
+    med_out = np.full(n, np.nan)
+    if n == 0:
+        return z, med_out
+    firsts = np.flatnonzero(pos == 0)
+    length = np.diff(np.append(firsts, n))
+    by_length = np.argsort(-length, kind="stable")  # longest first: the live series are a prefix
+    firsts, length = firsts[by_length], length[by_length]
+    hist = np.full((len(firsts), int(length.max())), np.inf)  # each series' sorted history, +inf after
+    for i in range(hist.shape[1]):  # step i: the value at place i of every series long enough
+        k = int(np.count_nonzero(length > i))
+        rows = firsts[:k] + i
+        h = hist[:k, :i]  # a view
+        xr = x[rows]
+        if i >= min_prior:
+            med = (h[:, (i - 1) // 2] + h[:, i // 2]) / 2.0
+            n_left = np.count_nonzero(h < med[:, None], axis=1)  # below the median: deviations med - h
+            n_right = i - n_left
+            rix = np.arange(k)
+
+            def left(t):  # t-th smallest deviation left of the median (values read downwards)
+                return med - h[rix, np.clip(n_left - 1 - t, 0, i - 1)]
+
+            def right(t):
+                return h[rix, np.clip(n_left + t, 0, i - 1)] - med
+
+            mad = (_kth_of_two_sorted(left, n_left, right, n_right, np.full(k, (i - 1) // 2))
+                   + _kth_of_two_sorted(left, n_left, right, n_right, np.full(k, i // 2))) / 2.0
+            with np.errstate(divide="ignore", invalid="ignore"):
+                zr = 0.6745 * (xr - med) / mad
+            flat = ~(mad > 0)
+            if flat.any():  # MAD zero: the scaled mean absolute deviation (see modified_z_score)
+                zr[flat] = modified_z_score(xr[flat], h[flat])
+            z[rows], med_out[rows] = zr, med
+        # insert this step's value into its series' sorted history
+        p = np.count_nonzero(h < xr[:, None], axis=1)
+        col = np.arange(i + 1)
+        grown = np.take_along_axis(hist[:k, :i + 1], np.where(col <= p[:, None], col, col - 1), axis=1)
+        grown[np.arange(k), p] = xr
+        hist[:k, :i + 1] = grown
+    return z, med_out
+
+
 def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
                     min_prior: int = 8) -> pd.DataFrame:
     """Detected results far outside their own series' earlier detected values.
@@ -414,16 +490,7 @@ def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
         return empty_retest()
     x = np.log(det["value_ug_L"].to_numpy(dtype=float))
     pos = det.groupby(SERIES_KEY, sort=False).cumcount().to_numpy()
-    start = np.arange(len(det)) - pos  # row of the first detect of each row's series
-    z = np.full(len(det), np.nan)
-    med = np.full(len(det), np.nan)
-    order = np.argsort(pos, kind="stable")
-    bounds = np.searchsorted(pos[order], np.arange(pos.max() + 2))
-    for i in range(max(min_prior, 1), pos.max() + 1):  # loop over positions, vectorised over series
-        rows = order[bounds[i]:bounds[i + 1]]
-        hist = x[start[rows][:, None] + np.arange(i)]
-        z[rows] = modified_z_score(x[rows], hist)
-        med[rows] = np.median(hist, axis=1)
+    z, med = expanding_modified_z(x, pos, max(min_prior, 1))
     flag = np.abs(z) > z_threshold
     out = det[flag].assign(_z=z[flag], _med=np.exp(med[flag]), _n=pos[flag])
     if out.empty:
