@@ -26,6 +26,10 @@ References
 
 from __future__ import annotations
 
+import os
+from collections import deque
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 import pandas as pd
 
@@ -213,13 +217,24 @@ def bootstrap_ucl_km_grouped(
     x, nd = _as_series(values, nondetect)
     rng = np.random.default_rng(seed)
     ucl = np.full(n_groups, np.nan)
-    for chunk in grouped.chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
-        xv, ndv = chunk.take(x, np.inf), chunk.take(nd, False)
-        g, m = xv.shape
-        n = chunk.valid.sum(axis=1)
-        pick = (rng.random((g, n_boot, m)) * n[:, None, None]).astype(np.int64)
-        means = km_means_of_resamples(xv, ndv, chunk.valid, pick)
+
+    def one(chunk, pick):
+        means = km_means_of_resamples(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, pick)
         ucl[chunk.groups] = np.quantile(means, level, axis=1)
+
+    # resamples are drawn in chunk order (the same numbers for a seed however many cores); the
+    # chunks are computed on worker threads (numpy releases the interpreter lock), two at a time
+    workers = max(1, min(os.cpu_count() or 1, 2))
+    with ThreadPoolExecutor(workers) as pool:
+        running = deque()
+        for chunk in grouped.chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
+            n = chunk.valid.sum(axis=1)
+            pick = (rng.random((len(n), n_boot, chunk.valid.shape[1])) * n[:, None, None]).astype(np.int64)
+            running.append(pool.submit(one, chunk, pick))
+            if len(running) >= workers:
+                running.popleft().result()
+        while running:
+            running.popleft().result()
     return ucl
 
 
