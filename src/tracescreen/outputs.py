@@ -98,17 +98,30 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
     """
     p = Path(path)
     p.parent.mkdir(parents=True, exist_ok=True)
-    safe = prepare(df)
-    for c in safe.columns:  # a column of mixed Python objects: write each value as text
-        if safe[c].dtype == object:
-            safe[c] = safe[c].where(safe[c].isna(), safe[c].astype(str))
-    table = pa.Table.from_pandas(safe, preserve_index=False)
-    starts = range(0, max(table.num_rows, 1), CSV_BLOCK_ROWS)
+    dated = _format_dates(df)
+    # columns of Python objects (long texts, mixed values) are made safe and turned into Arrow
+    # text block by block, so that a large text column is never held twice in full
+    objects = [c for c in dated.columns if dated[c].dtype == object]
+    table = pa.Table.from_pandas(neutralise_formulas(dated.drop(columns=objects)), preserve_index=False)
+    if table.num_columns == 0:  # only object columns: a placeholder keeps the row count
+        table = pa.table({"\x00rows": pa.nulls(len(dated))})
+    names = [neutralise_text(str(c)) for c in dated.columns]
+
+    def block(i: int) -> pa.Table:
+        t = table.slice(i, CSV_BLOCK_ROWS)
+        part = neutralise_formulas(dated[objects].iloc[i:i + CSV_BLOCK_ROWS])
+        for c in part.columns:
+            v = part[c]
+            v = v.where(v.isna(), v.astype(str))  # each value as text; missing stays empty
+            t = t.append_column(c, pa.Array.from_pandas(v.astype(object)))
+        return t.select(names)
+
+    starts = range(0, max(len(dated), 1), CSV_BLOCK_ROWS)
     workers = max(1, min(os.cpu_count() or 1, 4))
     with open(p, "wb") as f, ThreadPoolExecutor(workers) as pool:
         pending = deque()
         for i in starts:
-            pending.append(pool.submit(_csv_block, table.slice(i, CSV_BLOCK_ROWS), i == 0))
+            pending.append(pool.submit(_csv_block, block(i), i == 0))
             if len(pending) > workers:  # a bounded number of blocks in memory
                 f.write(pending.popleft().result())
         while pending:
