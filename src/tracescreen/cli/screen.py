@@ -7,6 +7,7 @@ from pathlib import Path
 
 from .. import outputs
 from ..decision import uncertainty_decision
+from ..memory import release_unused
 from ..periods import period_table
 from ..screening import STATUSES, screen
 from ..retest import retest_list
@@ -51,8 +52,10 @@ def run(args) -> int:
         "inputs": outputs.write_csv(inputs.input_files, out / "inputs.csv"),
         "limits": outputs.write_csv(limit_tables_table(inputs.limits), out / "limit_tables.csv"),
     }
+    release_unused()
     retest = retest_list(screened, flag_options)
     written["retest"] = outputs.write_csv(retest, out / "retest.csv")
+    release_unused()
     extra = run_extra_outputs(args, inputs, screened, out)
     written.update(extra)
     print_summary(loaded, screened)
@@ -79,6 +82,7 @@ def limit_tables_table(limits):
 def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
     """Further output tables (statistics, periods, retest flags) as their modules land."""
     extra = write_statistics(args, inputs.loaded.accepted, screened, out)
+    release_unused()  # each output's working memory is freed before the next one
     extra["periods"] = outputs.write_csv(period_table(screened, inputs.limits), out / "periods.csv")
     return extra
 
