@@ -8,7 +8,7 @@ from numpy.testing import assert_allclose
 from statsmodels.duration.survfunc import SurvfuncRight
 from statsmodels.imputation.ros import impute_ros
 
-from tracescreen import censored
+from tracescreen import bootstrap, censored
 
 # Check case (15 values, detection limits 0.5 and 1.0) from /work/shared/docs/censored-statistics.md;
 # its KM, ROS and MLE values were computed there with lifelines, statsmodels and by hand.
@@ -175,8 +175,8 @@ def test_grouped_ros_and_mle_match_single_series():
 def test_bootstrap_ucl_is_seeded_and_above_mean():
     """The bootstrap UCL on the KM mean is reproducible with a seed and lies above the KM mean (Efron & Tibshirani 1993)."""
     codes = np.zeros(15, int)
-    a = censored.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
-    b = censored.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
+    a = bootstrap.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
+    b = bootstrap.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
     assert a[0] == b[0]
     assert 1.789333 < a[0] < 4.0
 
@@ -184,7 +184,7 @@ def test_bootstrap_ucl_is_seeded_and_above_mean():
 def test_bootstrap_ucl_without_censoring_near_t_interval():
     """Uncensored: the bootstrap 95 % UCL is close to the Student-t UCL mean + t(0.95) s/sqrt(n) (within 10 %)."""
     x = np.random.default_rng(9).normal(10, 2, 60)
-    ucl = censored.bootstrap_ucl_km_grouped(x, np.zeros(60, bool), np.zeros(60, int), 1, n_boot=4000)
+    ucl = bootstrap.bootstrap_ucl_km_grouped(x, np.zeros(60, bool), np.zeros(60, int), 1, n_boot=4000)
     from scipy import stats
     t_ucl = x.mean() + stats.t.ppf(0.95, 59) * x.std(ddof=1) / np.sqrt(60)
     assert abs((ucl[0] - x.mean()) / (t_ucl - x.mean()) - 1) < 0.1
@@ -254,7 +254,7 @@ def test_bootstrap_resample_means_equal_kaplan_meier_of_each_resample():
         valid[i, :n] = True
     n_boot = 40
     pick = (rng.random((len(sizes), n_boot, m)) * np.array(sizes)[:, None, None]).astype(np.int64)
-    got = censored.km_means_of_resamples(x, nd, valid, pick)
+    got = bootstrap.km_means_of_resamples(x, nd, valid, pick)
     for i, n in enumerate(sizes):
         for b in range(n_boot):
             take = pick[i, b, :n]

@@ -24,7 +24,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from tracescreen import censored, grouped
+from tracescreen import bootstrap, censored, grouped
 
 KEYS = ["site_id", "analyte", "fraction"]
 
@@ -125,11 +125,11 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
                                  max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
     st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
     if method in censored.SUBSTITUTION:
-        ucl = censored.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
+        ucl = bootstrap.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
                                                 np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed)
         ucl_method = f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
     else:
-        ucl = censored.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed)
+        ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed)
         ucl_method = f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
     out = table.copy()
     out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd
