@@ -248,3 +248,11 @@ def test_censoring_nothing_changes_nothing(xs):
     a, b = _one(t, y), _one(t, y, np.zeros(y.size, bool))
     for col in ("s", "var_s", "p_value", "slope_per_year", "slope_low", "slope_high", "intercept"):
         assert a[col] == pytest.approx(b[col], nan_ok=True, rel=1e-15)
+
+
+def test_series_of_one_value_gives_no_statistic_instead_of_an_error():
+    """A series with a single result (censored or not) has no pairs: S = 0 and no slope (common practice)."""
+    for nd in (np.array([True]), np.array([False])):
+        r = trends.mann_kendall_grouped(np.array([2021.2]), np.array([0.5]), nd, np.zeros(1, int), 1).iloc[0]
+        assert r["n"] == 1 and r["s"] == 0
+        assert np.isnan(r["slope_per_year"])

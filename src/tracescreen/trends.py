@@ -170,6 +170,10 @@ def _pick(sorted_vals, k):
 
 def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     """Trend statistics for each row of padded arrays sorted by time (see the module docstring)."""
+    if t.shape[1] < 2:  # series of one value: pad with an empty cell so that the pair arrays exist
+        t, y = (np.pad(a, ((0, 0), (0, 2 - a.shape[1])), constant_values=np.nan) for a in (t, y))
+        nd, valid = (np.pad(a, ((0, 0), (0, 2 - a.shape[1])), constant_values=False) for a in (nd, valid))
+        season = np.pad(season, ((0, 0), (0, 2 - season.shape[1])), constant_values=0)
     g, m = t.shape
     det = valid & ~nd
     nd = valid & nd
