@@ -14,14 +14,11 @@ References
 
 from __future__ import annotations
 
-import os
-from collections import deque
-from concurrent.futures import ThreadPoolExecutor
-
 import numpy as np
 
 from tracescreen import grouped
 from tracescreen.censored import _as_series
+from tracescreen.parallel import ordered_map, workers
 
 
 def bootstrap_ucl_km_grouped(
@@ -53,19 +50,13 @@ def bootstrap_ucl_km_grouped(
         means = km_means_of_resamples(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, pick)
         ucl[chunk.groups] = np.quantile(means, level, axis=1)
 
-    # resamples are drawn in chunk order (the same numbers for a seed however many cores); the
-    # chunks are computed on worker threads (numpy releases the interpreter lock), two at a time
-    workers = max(1, min(os.cpu_count() or 1, 2))
-    with ThreadPoolExecutor(workers) as pool:
-        running = deque()
+    def drawn():  # resamples drawn in chunk order: the same numbers for a seed however many cores
         for chunk in grouped.chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
             n = chunk.valid.sum(axis=1)
-            pick = (rng.random((len(n), n_boot, chunk.valid.shape[1])) * n[:, None, None]).astype(np.int64)
-            running.append(pool.submit(one, chunk, pick))
-            if len(running) >= workers:
-                running.popleft().result()
-        while running:
-            running.popleft().result()
+            yield chunk, (rng.random((len(n), n_boot, chunk.valid.shape[1])) * n[:, None, None]).astype(np.int64)
+
+    for _ in ordered_map(one, drawn(), workers(2)):  # chunks on worker threads, two at a time
+        pass
     return ucl
 
 

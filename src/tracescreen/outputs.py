@@ -11,16 +11,15 @@ References
 
 from __future__ import annotations
 
-import os
 import re
-from collections import deque
-from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.csv as pacsv
+
+from .parallel import ordered_map, workers
 
 FORMULA_START = r"^[=+\-@\t\r]"
 XLSX_MAX_ROWS = 1_048_576
@@ -116,16 +115,10 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
             t = t.append_column(c, pa.Array.from_pandas(v.astype(object)))
         return t.select(names)
 
-    starts = range(0, max(len(dated), 1), CSV_BLOCK_ROWS)
-    workers = max(1, min(os.cpu_count() or 1, 4))
-    with open(p, "wb") as f, ThreadPoolExecutor(workers) as pool:
-        pending = deque()
-        for i in starts:
-            pending.append(pool.submit(_csv_block, block(i), i == 0))
-            if len(pending) > workers:  # a bounded number of blocks in memory
-                f.write(pending.popleft().result())
-        while pending:
-            f.write(pending.popleft().result())
+    blocks = ((block(i), i == 0) for i in range(0, max(len(dated), 1), CSV_BLOCK_ROWS))
+    with open(p, "wb") as f:
+        for data in ordered_map(_csv_block, blocks, workers(4)):
+            f.write(data)
     return p
 
 
