@@ -389,8 +389,8 @@ def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
     hi = np.minimum(k + 1, n_a)
     while (lo < hi).any():
         mid = (lo + hi) // 2
-        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.maximum(k - mid, 0)))
-        take_more &= (mid < n_a) & (k - mid >= 0) & (k - mid < n_b)
+        # while lo < hi, mid < n_a and 0 <= k - mid < n_b; elsewhere the indices are only clipped
+        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.clip(k - mid, 0, None)))
         lo = np.where(take_more, mid + 1, lo)
         hi = np.where((lo < hi) & ~take_more, mid, hi)
     na = lo
