@@ -63,7 +63,7 @@ def _limits() -> list[str]:
 
 def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     """Build the app in this process and time the two callbacks called directly."""
-    from tracescreen.loading import LoadOptions
+    from tracescreen.io.loading import LoadOptions
 
     from dashboard.app import create_app
 

@@ -4,7 +4,7 @@ Generates N site-sample results (default 1,000,000; quarterly series of 40 value
 and fraction, 20 % non-detects, a few blanks, duplicates and late analyses), one limit per result,
 writes them as CSV and times, in the same run:
   reference  pandas.read_csv of that CSV
-  retest     tracescreen.retest.retest_list on the in-memory table
+  retest     tracescreen.retest.listing.retest_list on the in-memory table
 and prints both and their ratio.  Usage: python bench/bench_retest.py [N]
 """
 
@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from tracescreen.retest import retest_list
+from tracescreen.retest.listing import retest_list
 
 
 def make_screening(n: int, seed: int = 7) -> pd.DataFrame:

@@ -65,10 +65,10 @@ def make_file(path: Path, n: int, seed: int = 1) -> None:
 def run_screen(path: Path, out: Path) -> dict:
     """Run one screen in this process; returns timings."""
     sys.path.insert(0, str(ROOT / "src"))
-    from tracescreen import outputs
-    from tracescreen.limits import load_limits
-    from tracescreen.loading import LoadOptions, load_results
-    from tracescreen.screening import screen
+    from tracescreen.report import writers as outputs
+    from tracescreen.limits.load import load_limits
+    from tracescreen.io.loading import LoadOptions, load_results
+    from tracescreen.screening.compare import screen
 
     t0 = time.perf_counter()
     limits = load_limits(sorted((ROOT / "limits").glob("*.yaml")))

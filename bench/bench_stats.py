@@ -23,7 +23,8 @@ import numpy as np
 import pymannkendall as mk
 from statsmodels.duration.survfunc import SurvfuncRight
 
-from tracescreen import censored, trends
+from tracescreen.statistics import censored
+from tracescreen.statistics import trends
 
 N_SERIES, N_VALUES, SEED = 5000, 40, 20240601
 PROBS = (0.5, 0.9, 0.95)

@@ -3,7 +3,7 @@
 Generates a lab CSV of N results (default 1,000,000; canonical headers, 20 % non-detects, µg/L and
 mg/L) and times, in the same run:
   reference  pandas.read_csv of that CSV (best of 3)
-  loader     tracescreen.loading.load_results of the CSV (parsing only, nothing stored; once)
+  loader     tracescreen.io.loading.load_results of the CSV (parsing only, nothing stored; once)
   import     Workspace.import_files into an empty workspace (read, parse, hash, store, commit; best of 2)
   load back  Workspace.current_results, the accepted-results DataFrame (best of 3)
 and prints the figures and the ratios to the reference. Goals (issue 7): import <= 4x the bare
@@ -20,8 +20,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from tracescreen import loading
-from tracescreen.workspace import open_workspace
+from tracescreen.io import loading
+from tracescreen.store.workspace import open_workspace
 
 ANALYTES = ["arsenic", "cadmium", "copper", "lead", "mercury", "nickel", "zinc", "chromium"]
 

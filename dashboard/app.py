@@ -31,7 +31,7 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         Sites CSV (uses, coordinates, default hardness).
     columns : path, optional
         Column-mapping YAML for result files with unusual headers.
-    options : tracescreen.loading.LoadOptions, optional
+    options : tracescreen.io.loading.LoadOptions, optional
         How to read the files (date order, decimal comma, ...); overrides ``columns``.
     workspace : path, optional
         A workspace folder (``tracescreen import``): its current results instead of ``results``.
@@ -72,7 +72,7 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
     if preload:
         store.base_session()
         if trends_available():  # import the statistics now, not in the first chart's callback
-            import tracescreen.trends  # noqa: F401
+            import tracescreen.statistics.trends  # noqa: F401
     # Claim the page callbacks (registered with dash.callback when the pages were imported) for
     # this app now rather than on its first request, so several apps can live in one process.
     with app.server.test_request_context():

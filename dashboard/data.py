@@ -20,7 +20,7 @@ from typing import Any, Callable
 import numpy as np
 import pandas as pd
 
-from tracescreen.memory import release_unused
+from tracescreen._internal.memory import release_unused
 
 from dashboard.memo import Memo
 from dashboard.palette import STATUS_RANK
@@ -42,11 +42,11 @@ class Inputs:
 
     accepted: pd.DataFrame
     rejected: pd.DataFrame
-    limits: Any  # tracescreen.limits.LimitSet
+    limits: Any  # tracescreen.limits.load.LimitSet
     sites: pd.DataFrame | None
     files: pd.DataFrame | None = None
     sources: tuple[str, ...] = ()
-    options: Any = None  # tracescreen.loading.LoadOptions used for the base files
+    options: Any = None  # tracescreen.io.loading.LoadOptions used for the base files
     sites_name: str = "the sites file"
 
 
@@ -131,9 +131,9 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
     the optional ``columns`` mapping file. With ``workspace`` (a folder), the current results of
     that workspace are used instead of ``results`` (one consistent state, even during an import).
     """
-    from tracescreen.limits import load_limits
-    from tracescreen.loading import load_results
-    from tracescreen.sites import load_sites
+    from tracescreen.limits.load import load_limits
+    from tracescreen.io.loading import load_results
+    from tracescreen.io.sites import load_sites
 
     paths = [Path(p) for p in ([results] if isinstance(results, (str, Path)) else results or [])]
     site_frame = load_sites(sites) if sites is not None else None
@@ -141,7 +141,7 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
     opts = options if options is not None else load_options(columns)
     sites_name = Path(sites).name if sites is not None else "the sites file"
     if workspace is not None:
-        from tracescreen.workspace import open_workspace
+        from tracescreen.store.workspace import open_workspace
 
         with open_workspace(workspace) as ws:
             loaded = ws.load_result(site_frame, sites_name)
@@ -162,8 +162,8 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
 
 def load_options(columns=None):
     """The engine's LoadOptions with an optional column-mapping YAML file."""
-    from tracescreen.columns import load_column_map
-    from tracescreen.loading import LoadOptions
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.io.loading import LoadOptions
 
     return LoadOptions(column_map=load_column_map(columns) if columns else None)
 
@@ -219,7 +219,7 @@ def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = Fal
     With ``release_input``, ``inputs.accepted`` is emptied as soon as its sorted copy is made
     (the session keeps every accepted column), so the two are not both held while screening.
     """
-    from tracescreen.screening import screen
+    from tracescreen.screening.compare import screen
 
     acc = inputs.accepted.assign(campaign=_categorical(_campaign_labels(inputs.accepted)))
     site_codes = _categorical(acc["site_id"]).cat.codes.to_numpy()
@@ -457,7 +457,7 @@ class DataStore:
 
     def load_upload(self, token: str):
         """Load one kept upload with the engine; returns the engine's LoadResult."""
-        from tracescreen.loading import load_results
+        from tracescreen.io.loading import load_results
 
         folder = self.upload_path(token)
         if not token.isalnum() or not folder.is_dir():

@@ -11,8 +11,8 @@ from dashboard.data import SessionData, engine_frame
 
 
 def retest_available() -> bool:
-    """Whether the installed engine has the retest flags (``tracescreen.retest.retest_list``)."""
-    return importlib.util.find_spec("tracescreen.retest") is not None
+    """Whether the installed engine has the retest flags (``tracescreen.retest.listing.retest_list``)."""
+    return importlib.util.find_spec("tracescreen.retest.listing") is not None
 
 
 def retest_frame(session: SessionData) -> pd.DataFrame | None:
@@ -21,7 +21,7 @@ def retest_frame(session: SessionData) -> pd.DataFrame | None:
         return None
 
     def compute():
-        module = importlib.import_module("tracescreen.retest")
+        module = importlib.import_module("tracescreen.retest.listing")
         return module.retest_list(engine_frame(session.screened.drop(columns=["_rid", "campaign"],
                                                                      errors="ignore")))
 

@@ -174,14 +174,14 @@ def _written(writer, df, suffix: str, *args) -> bytes:
 
 def to_csv_bytes(df: pd.DataFrame) -> bytes:
     """The rows as the engine writes CSV (ISO dates, formula-safe text; ``tracescreen.outputs``)."""
-    from tracescreen.outputs import write_csv
+    from tracescreen.report.writers import write_csv
 
     return _written(write_csv, df, ".csv")
 
 
 def to_xlsx_bytes(df: pd.DataFrame, sheet: str = "exceedances") -> bytes:
     """The rows as the engine writes XLSX (one sheet; ``tracescreen.outputs``)."""
-    from tracescreen.outputs import write_xlsx
+    from tracescreen.report.writers import write_xlsx
 
     return _written(write_xlsx, df, ".xlsx", sheet)
 

@@ -14,7 +14,7 @@ DIRECTION_WORDS = {"increasing": "increasing", "decreasing": "decreasing", "no_t
 
 def trends_available() -> bool:
     """Whether the installed engine has the trend statistics."""
-    return importlib.util.find_spec("tracescreen.trends") is not None
+    return importlib.util.find_spec("tracescreen.statistics.trends") is not None
 
 
 def _g(v, fmt: str = ".3g") -> str:
@@ -40,7 +40,7 @@ def series_trend(rows: pd.DataFrame, points: pd.DataFrame, alpha: float = 0.05) 
     """
     if not trends_available() or points.empty:
         return None
-    from tracescreen.trends import decimal_years, lowest_limits, trend_table
+    from tracescreen.statistics.trends import decimal_years, lowest_limits, trend_table
 
     keys = ["site_id", "analyte", "fraction", "sampled_at", "sample_type"]
     pts = engine_frame(points[keys + ["detected", "value_ug_L", "detection_limit_ug_L"]])

@@ -24,11 +24,11 @@ def scenario_paths() -> dict:
 @lru_cache(maxsize=1)
 def engine_view():
     """The scenario loaded and screened by the engine alone (no dashboard code)."""
-    from tracescreen.columns import load_column_map
-    from tracescreen.limits import load_limits
-    from tracescreen.loading import LoadOptions, load_results
-    from tracescreen.screening import screen
-    from tracescreen.sites import load_sites
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.limits.load import load_limits
+    from tracescreen.io.loading import LoadOptions, load_results
+    from tracescreen.screening.compare import screen
+    from tracescreen.io.sites import load_sites
 
     p = scenario_paths()
     sites = load_sites(p["sites"])

@@ -3,7 +3,7 @@
 import pandas as pd
 import pytest
 
-from tracescreen import analytes
+from tracescreen.io import analytes
 
 
 def test_registry_has_at_least_25_analytes_with_valid_cas():

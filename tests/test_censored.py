@@ -8,7 +8,8 @@ from numpy.testing import assert_allclose
 from statsmodels.duration.survfunc import SurvfuncRight
 from statsmodels.imputation.ros import impute_ros
 
-from tracescreen import bootstrap, censored
+from tracescreen.statistics import bootstrap
+from tracescreen.statistics import censored
 
 # Check case (15 values, detection limits 0.5 and 1.0) from /work/shared/docs/censored-statistics.md;
 # its KM, ROS and MLE values were computed there with lifelines, statsmodels and by hand.

@@ -6,8 +6,8 @@ import pandas as pd
 from lab_files import write_csv
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
-from tracescreen.summary import EXCEEDANCE_COLUMNS, SUMMARY_COLUMNS
-from tracescreen.trends import TABLE_COLUMNS
+from tracescreen.statistics.summary import EXCEEDANCE_COLUMNS, SUMMARY_COLUMNS
+from tracescreen.statistics.trends import TABLE_COLUMNS
 
 
 def _lab_file(tmp_path):

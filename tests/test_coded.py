@@ -5,7 +5,7 @@ import pandas as pd
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from tracescreen.coded import CodedText, derived_categorical, joint_codes, sorted_categorical
+from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes, sorted_categorical
 
 TEXTS = st.lists(st.sampled_from(["a", " a", "a ", "b", "", "  ", "B", "µg/L", "ug/L", "<0.5"]), min_size=1, max_size=60)
 

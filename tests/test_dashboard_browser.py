@@ -138,7 +138,7 @@ def test_upload_with_bad_row_shows_rejection_reason(page, dash_url, tmp_path):
     """An uploaded file's bad row is listed with the engine's reason; adding it grows the session."""
     from playwright.sync_api import expect
 
-    from tracescreen.loading import load_results
+    from tracescreen.io.loading import load_results
 
     lab = tmp_path / "extra_results.csv"
     lab.write_text("site_id,sample_id,sampled_at,analyte,fraction,result,unit\n"
@@ -174,7 +174,7 @@ def test_exceedance_download_equals_engine_rows(page, dash_url, tmp_path):
     """The CSV download holds exactly the engine's exceeds / nondetect_inconclusive rows, as the engine writes them."""
     from playwright.sync_api import expect
 
-    from tracescreen.outputs import write_csv
+    from tracescreen.report.writers import write_csv
 
     page.goto(dash_url + "/exceedances")
     expect(page.locator("#exc-count")).to_contain_text("rows", timeout=20_000)

@@ -20,7 +20,7 @@ from dashboard.quality import reason_counts, rejected_frame
 from dashboard.series import series_view, trend_view
 from dashboard.tables import FilterError, exceedance_rows, filter_mask, query_table, table_page, to_csv_bytes
 from dashboard.uploads import UploadError, add_token, decode_upload, preview_upload
-from tracescreen.screening import worst_status
+from tracescreen.screening.compare import worst_status
 
 
 @pytest.fixture(scope="module")
@@ -146,7 +146,7 @@ def test_exceedance_rows_equal_engine_rows(session):
 
 def test_exceedance_csv_is_written_by_the_engine_writer(session, tmp_path):
     """The CSV download is the engine's CSV writer output (same header, rows and number text)."""
-    from tracescreen.outputs import write_csv
+    from tracescreen.report.writers import write_csv
 
     rows = exceedance_rows(session)
     data = to_csv_bytes(rows)
@@ -241,7 +241,7 @@ def test_upload_preview_shows_engine_rejection_and_joins_session(store, session,
             "KR01,UP-1,2025-11-03,zinc,total,12,ug/L\n"
             "KR01,UP-2,2025-11-31,zinc,total,15,ug/L\n")
     prev = preview_upload(store, _as_upload(text), "upload.csv")
-    from tracescreen.loading import load_results
+    from tracescreen.io.loading import load_results
 
     path = tmp_path / "upload.csv"
     path.write_text(text)
@@ -277,7 +277,7 @@ def test_site_chart_shows_engine_trend(session):
     """KR02 dissolved zinc (the scenario's rising site): the chart's trend text and line are the
     engine's trend_table result for that series (Mann-Kendall / Sen, tested against pymannkendall
     in test_trends.py)."""
-    from tracescreen.trends import decimal_years, trend_table
+    from tracescreen.statistics.trends import decimal_years, trend_table
 
     acc = engine_view()[0].accepted
     sel = acc[(acc["site_id"] == "KR02") & (acc["analyte"] == "zinc") & (acc["fraction"] == "dissolved")]

@@ -8,10 +8,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tracescreen import decision
+from tracescreen.screening import decision
 from tracescreen.cli import main
-from tracescreen.limits import LimitTableError, load_limits
-from tracescreen.screening import STATUSES, screen, worst_status
+from tracescreen.limits.load import LimitTableError, load_limits
+from tracescreen.screening.compare import STATUSES, screen, worst_status
 
 from flag_frames import results as make_results
 
@@ -164,7 +164,7 @@ def test_every_table_of_every_use_applies_and_worst_status_is_the_strictest(tmp_
     sites.write_text("site_id,name,latitude,longitude,uses,hardness_mg_L\n"
                      "S1,both,52.0,-3.0,drinking_water;freshwater_aquatic,100\nS2,river,52.1,-3.1,freshwater_aquatic,100\n",
                      encoding="utf-8")
-    from tracescreen.sites import load_sites
+    from tracescreen.io.sites import load_sites
 
     lim = load_limits([lim_dw, lim_fw])
     res = make_results([{"site_id": "S1", "sampled_at": "2021-01-01", "value": 12.0},

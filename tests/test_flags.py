@@ -1,4 +1,4 @@
-"""Retest flags (tracescreen.flags) on constructed cases at their threshold edges."""
+"""Retest flags (tracescreen.retest.flags) on constructed cases at their threshold edges."""
 
 import numpy as np
 import pandas as pd
@@ -6,8 +6,8 @@ import pytest
 import scipy.stats
 
 from flag_frames import screening
-from tracescreen import flags
-from tracescreen.flags import RETEST_COLUMNS
+from tracescreen.retest import flags
+from tracescreen.retest.flags import RETEST_COLUMNS
 
 # WHO Guidelines for Drinking-water Quality, 4th ed. incl. 1st and 2nd addenda (2022), Annex 3:
 # lead 0.01 mg/L = 10 µg/L; EU Directive 2020/2184 Annex I Part B: lead 5 µg/L from 2036-01-12.
@@ -162,7 +162,7 @@ def test_format_number_significant_figures():
 def test_expanding_modified_z_equals_direct_definition():
     """Sorted-history modified z-scores equal modified_z_score against each row's explicit earlier values and
     numpy.median of them (Iglewicz & Hoaglin 1993 definition), with ties, a zero MAD and series of many lengths."""
-    from tracescreen.flags import expanding_modified_z, modified_z_score
+    from tracescreen.retest.flags import expanding_modified_z, modified_z_score
 
     rng = np.random.default_rng(5)
     for trial in range(60):

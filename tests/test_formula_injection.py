@@ -9,7 +9,7 @@ import csv
 import openpyxl
 import pandas as pd
 
-from tracescreen import outputs
+from tracescreen.report import writers as outputs
 from tracescreen.cli import main
 
 DANGEROUS = ["=HYPERLINK(\"http://x\",\"y\")", "+1+2", "-2+3", "@SUM(A1:A2)", "\tcmd"]

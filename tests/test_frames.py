@@ -3,7 +3,7 @@
 import numpy as np
 import pandas as pd
 
-from tracescreen.frames import replace_at
+from tracescreen._internal.frames import replace_at
 
 
 def test_replace_at_categorical_with_text_equals_plain_assignment():

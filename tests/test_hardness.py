@@ -4,7 +4,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tracescreen.hardness import hardness_from_calcium_magnesium, sample_hardness
+from tracescreen.screening.hardness import hardness_from_calcium_magnesium, sample_hardness
 
 
 def test_standard_methods_2340b_example():

@@ -5,7 +5,7 @@ import textwrap
 import numpy as np
 import pytest
 
-from tracescreen.limits import LimitTableError, hardness_formula_limit, load_limits
+from tracescreen.limits.load import LimitTableError, hardness_formula_limit, load_limits
 
 GOOD = """\
 id: t1

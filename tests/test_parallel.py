@@ -2,7 +2,7 @@
 
 import time
 
-from tracescreen.parallel import ordered_map
+from tracescreen._internal.parallel import ordered_map
 
 
 def test_results_in_input_order_even_when_early_blocks_are_slow():

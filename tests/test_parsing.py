@@ -4,8 +4,9 @@ import numpy as np
 import pandas as pd
 from hypothesis import given, settings, strategies as st
 
-from tracescreen import loading, parsing
-from tracescreen.loading import LoadOptions, load_results
+from tracescreen.io import loading
+from tracescreen.io import cells as parsing
+from tracescreen.io.loading import LoadOptions, load_results
 
 from lab_files import write_csv
 

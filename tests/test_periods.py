@@ -12,9 +12,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tracescreen import periods
-from tracescreen.limits import LimitTableError, load_limits
-from tracescreen.screening import screen
+from tracescreen.screening import periods
+from tracescreen.limits.load import LimitTableError, load_limits
+from tracescreen.screening.compare import screen
 
 from flag_frames import results as make_results
 

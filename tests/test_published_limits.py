@@ -16,7 +16,7 @@ import pandas as pd
 import pytest
 import yaml
 
-from tracescreen import limits as limits_mod
+from tracescreen.limits import load as limits_mod
 
 from published_values import HARDNESS_RANGE, PUBLISHED_TABLES, UG_L_PER_UNIT, Published
 

@@ -1,12 +1,12 @@
-"""QC checks (tracescreen.qc) on constructed cases at their threshold edges."""
+"""QC checks (tracescreen.retest.qc) on constructed cases at their threshold edges."""
 
 import pandas as pd
 import pytest
 
 from flag_frames import results, screening
-from tracescreen import qc
-from tracescreen.flags import RETEST_COLUMNS
-from tracescreen.retest import REASONS, RetestOptions, retest_list
+from tracescreen.retest import qc
+from tracescreen.retest.flags import RETEST_COLUMNS
+from tracescreen.retest.listing import REASONS, RetestOptions, retest_list
 
 
 def _pair(a, b, dl=1.0, a_nd=False, b_nd=False, tag="P"):

@@ -1,4 +1,4 @@
-"""The site summary report (tracescreen.report): tables, workbook read-back, site selection, errors."""
+"""The site summary report (tracescreen.report.html): tables, workbook read-back, site selection, errors."""
 
 import numpy as np
 import openpyxl
@@ -6,7 +6,7 @@ import pandas as pd
 import pytest
 
 from flag_frames import screening
-from tracescreen import report
+from tracescreen.report import html as report
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 
@@ -107,11 +107,11 @@ def test_bad_retest_option_is_user_error(tmp_path, scenario_args, capsys):
 def test_build_report_html_from_engine_objects():
     """report_data + build_report_html (the dashboard's path) give a page with the caution first and computed summaries."""
     from conftest import ROOT, SCENARIO
-    from tracescreen.limits import load_limits
-    from tracescreen.loading import LoadOptions, load_results
-    from tracescreen.columns import load_column_map
-    from tracescreen.screening import screen
-    from tracescreen.sites import load_sites
+    from tracescreen.limits.load import load_limits
+    from tracescreen.io.loading import LoadOptions, load_results
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.screening.compare import screen
+    from tracescreen.io.sites import load_sites
 
     sites = load_sites(SCENARIO / "sites.csv")
     limits = load_limits([ROOT / "limits", SCENARIO / "limits"])

@@ -3,8 +3,8 @@
 import pandas as pd
 import pytest
 
-from tracescreen.flags import RETEST_COLUMNS
-from tracescreen.retest import REASONS
+from tracescreen.retest.flags import RETEST_COLUMNS
+from tracescreen.retest.listing import REASONS
 
 
 @pytest.fixture(scope="module")

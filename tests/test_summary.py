@@ -6,7 +6,7 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy import stats
 
-from tracescreen import summary
+from tracescreen.statistics import summary
 
 # Check case from /work/shared/docs/censored-statistics.md (KM mean 1.789333, median 0.8).
 CHECK_X = [0.5, 0.5, 0.5, 0.6, 0.8, 1.0, 1.0, 1.0, 1.2, 1.5, 1.9, 2.4, 3.1, 4.6, 7.5]

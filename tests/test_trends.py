@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy import stats
 
-from tracescreen import trends
+from tracescreen.statistics import trends
 
 RNG = np.random.default_rng(2024)
 UNCENSORED = {

@@ -5,7 +5,7 @@ import pandas as pd
 import pint
 import pytest
 
-from tracescreen import units
+from tracescreen.io import units
 
 UREG = pint.UnitRegistry()
 

@@ -11,9 +11,9 @@ import pandas as pd
 import pyarrow.dataset as ds
 import pytest
 
-from tracescreen import loading
-from tracescreen.export import export_parquet
-from tracescreen.workspace import WorkspaceError, open_workspace
+from tracescreen.io import loading
+from tracescreen.store.parquet import export_parquet
+from tracescreen.store.workspace import WorkspaceError, open_workspace
 from workspace_support import assert_same_state, lab_rows, same_results, snapshot, write_lab_csv
 
 

@@ -11,8 +11,8 @@ import pytest
 
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
-from tracescreen.sites import load_sites
-from tracescreen.workspace import open_workspace
+from tracescreen.io.sites import load_sites
+from tracescreen.store.workspace import open_workspace
 
 pytestmark = pytest.mark.slow
 

@@ -16,7 +16,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from tracescreen.workspace import open_workspace
+from tracescreen.store.workspace import open_workspace
 from workspace_support import assert_same_state, lab_rows, snapshot, write_lab_csv
 
 IMPORTER = Path(__file__).with_name("workspace_importer.py")

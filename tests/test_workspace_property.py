@@ -6,8 +6,8 @@ import pint
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from tracescreen import loading
-from tracescreen.workspace import open_workspace
+from tracescreen.io import loading
+from tracescreen.store.workspace import open_workspace
 from workspace_support import HEADER, same_results
 
 UREG = pint.UnitRegistry()

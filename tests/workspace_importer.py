@@ -13,7 +13,7 @@ import signal
 import sys
 import time
 
-from tracescreen import workspace
+from tracescreen.store import workspace
 
 
 def main() -> None:

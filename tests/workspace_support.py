@@ -7,8 +7,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from tracescreen import loading
-from tracescreen.workspace import open_workspace
+from tracescreen.io import loading
+from tracescreen.store.workspace import open_workspace
 
 HEADER = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result", "unit",
           "detection_limit", "lab"]

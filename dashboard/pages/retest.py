@@ -21,7 +21,7 @@ def layout(**_query):
     if not retest_available():
         return html.Div([
             page_header("Retest list", "Results flagged for a confirmatory retest."),
-            html.P("This installation of the engine has no retest flags (tracescreen.retest); the "
+            html.P("This installation of the engine has no retest flags (tracescreen.retest.listing); the "
                    "list appears here once it is installed.", className="notice"),
         ])
     return html.Div([

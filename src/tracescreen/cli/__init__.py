@@ -11,7 +11,7 @@ import argparse
 import importlib
 import sys
 
-from ..caution import CAUTION
+from tracescreen.caution import CAUTION
 
 #: Sub-command modules, in the order ``--help`` lists them.
 COMMANDS = [
@@ -30,11 +30,11 @@ class UserError(Exception):
 
 
 def _user_error_types() -> tuple[type[BaseException], ...]:
-    from ..columns import ColumnMapError
-    from ..limits import LimitTableError
-    from ..loading import LoadError
-    from ..sites import SitesError
-    from ..workspace import WorkspaceError
+    from tracescreen.io.columns import ColumnMapError
+    from tracescreen.limits.load import LimitTableError
+    from tracescreen.io.loading import LoadError
+    from tracescreen.io.sites import SitesError
+    from tracescreen.store.workspace import WorkspaceError
 
     return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
             WorkspaceError)
@@ -46,7 +46,7 @@ def build_parser() -> argparse.ArgumentParser:
         description="Screen trace-metal results from water monitoring against cited limit tables.",
         epilog=CAUTION,
     )
-    from .. import __version__
+    from tracescreen import __version__
 
     parser.add_argument("--version", action="version", version=f"tracescreen {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")

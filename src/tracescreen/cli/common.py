@@ -10,13 +10,13 @@ from pathlib import Path
 
 import pandas as pd
 
-from ..caution import CAUTION
-from ..columns import load_column_map
-from ..limits import LimitSet, load_limits
-from ..loading import LoadOptions, LoadResult, load_results
-from ..parsing import DATE_ORDERS
-from ..sites import load_sites
-from ..workspace import open_workspace
+from tracescreen.caution import CAUTION
+from tracescreen.io.columns import load_column_map
+from tracescreen.limits.load import LimitSet, load_limits
+from tracescreen.io.loading import LoadOptions, LoadResult, load_results
+from tracescreen.io.cells import DATE_ORDERS
+from tracescreen.io.sites import load_sites
+from tracescreen.store.workspace import open_workspace
 from . import UserError
 
 

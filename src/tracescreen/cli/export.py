@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import argparse
 
-from ..export import export_parquet
-from ..workspace import open_workspace
+from tracescreen.store.parquet import export_parquet
+from tracescreen.store.workspace import open_workspace
 from .common import print_caution
 
 

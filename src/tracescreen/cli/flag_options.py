@@ -6,8 +6,8 @@ import re
 
 import pandas as pd
 
-from ..qc import HOLDING_TIMES
-from ..retest import REASONS, RetestOptions
+from tracescreen.retest.qc import HOLDING_TIMES
+from tracescreen.retest.listing import REASONS, RetestOptions
 
 _DURATION = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(h|d|m)\s*$", re.IGNORECASE)
 

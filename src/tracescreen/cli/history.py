@@ -7,7 +7,7 @@ import json
 
 import pandas as pd
 
-from ..workspace import open_workspace
+from tracescreen.store.workspace import open_workspace
 from . import UserError
 from .common import print_caution
 

@@ -6,8 +6,8 @@ import argparse
 import sys
 from pathlib import Path
 
-from ..sites import load_sites
-from ..workspace import open_workspace
+from tracescreen.io.sites import load_sites
+from tracescreen.store.workspace import open_workspace
 from .common import add_reading_options, load_options, print_caution
 
 

@@ -5,12 +5,12 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from .. import outputs
-from ..decision import uncertainty_decision
-from ..memory import release_unused
-from ..periods import period_table
-from ..screening import STATUSES, screen
-from ..retest import retest_list
+from tracescreen.report import writers as outputs
+from tracescreen.screening.decision import uncertainty_decision
+from tracescreen._internal.memory import release_unused
+from tracescreen.screening.periods import period_table
+from tracescreen.screening.compare import STATUSES, screen
+from tracescreen.retest.listing import retest_list
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 from .flag_options import add_retest_options, retest_options

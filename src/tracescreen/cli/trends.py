@@ -8,14 +8,14 @@ from pathlib import Path
 
 import pandas as pd
 
-from .. import outputs
-from ..censored import METHODS
-from ..limits import load_limits
-from ..screening import screen
-from ..summary import exceedance_rates, summarise
-from ..trends import MIN_VALUES, TABLE_COLUMNS as TREND_TABLE_COLUMNS, lowest_limits, trend_table
+from tracescreen.report import writers as outputs
+from tracescreen.statistics.censored import METHODS
+from tracescreen.limits.load import load_limits
+from tracescreen.screening.compare import screen
+from tracescreen.statistics.summary import exceedance_rates, summarise
+from tracescreen.statistics.trends import MIN_VALUES, TABLE_COLUMNS as TREND_TABLE_COLUMNS, lowest_limits, trend_table
 from .common import add_data_options, print_caution, results_from_args, warn
-from ..sites import load_sites
+from tracescreen.io.sites import load_sites
 
 
 def _probability(text: str) -> float:

@@ -1,6 +1,6 @@
 """Integrity check of a workspace: the database, every stored file and segment, every count.
 
-Run inside one read transaction (:meth:`tracescreen.workspace.Workspace.check`), so it checks
+Run inside one read transaction (:meth:`tracescreen.store.workspace.Workspace.check`), so it checks
 one consistent state even while an import is running in another process.
 
 References
@@ -15,7 +15,7 @@ import sqlite3
 
 import pyarrow as pa
 
-from . import workspace
+from tracescreen.store import workspace
 
 
 def check_workspace(con: sqlite3.Connection) -> list[str]:

@@ -44,11 +44,12 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 
-from . import __version__, loading
-from .revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
-from .columns import load_column_map
-from .import_outcomes import FileBatch, FileOutcome, ImportSummary
-from .result_blobs import _STORED, _decode, _encode, _to_frame  # noqa: F401 (workspace_check uses _decode)
+from tracescreen import __version__
+from tracescreen.io import loading
+from tracescreen.store.revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
+from tracescreen.io.columns import load_column_map
+from tracescreen.store.outcomes import FileBatch, FileOutcome, ImportSummary
+from tracescreen.store.blobs import _STORED, _decode, _encode, _to_frame  # noqa: F401 (workspace_check uses _decode)
 
 WORKSPACE_FILE = "workspace.sqlite"
 SCHEMA_VERSION = 1
@@ -567,7 +568,7 @@ class Workspace:
     # ---- integrity -------------------------------------------------------------------------
     def check(self) -> list[str]:
         """Check the database, every stored file, segment and count; return the problems found."""
-        from .workspace_check import check_workspace
+        from tracescreen.store.check import check_workspace
 
         return self._read(check_workspace)
 

@@ -1,7 +1,7 @@
 """Quality-control checks: field duplicates, blanks, dissolved vs total, holding times.
 
 Each check takes the accepted results (or the screening table; the per-limit repetition is dropped)
-and returns retest rows (:data:`tracescreen.flags.RETEST_COLUMNS`). Blanks and field duplicates are
+and returns retest rows (:data:`tracescreen.retest.flags.RETEST_COLUMNS`). Blanks and field duplicates are
 QC samples: they are never screened against limits as if they were site samples; here they are used
 to judge the site samples of their pair or batch.
 
@@ -17,7 +17,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .flags import (
+from tracescreen.retest.flags import (
     _RTOL, _ug, empty_retest, format_date, format_number, results_from_screening, retest_rows,
     site_samples,
 )

@@ -16,11 +16,11 @@ from datetime import datetime, timezone
 import numpy as np
 import pandas as pd
 
-from .frames import plain_text
-from . import __version__
-from .caution import CAUTION
-from .flags import format_date, format_number, site_samples
-from .report_figures import analyte_figures, figure_divs, plotly_script
+from tracescreen._internal.frames import plain_text
+from tracescreen import __version__
+from tracescreen.caution import CAUTION
+from tracescreen.retest.flags import format_date, format_number, site_samples
+from tracescreen.report.figures import analyte_figures, figure_divs, plotly_script
 
 STATUS_ORDER = ["exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit"]
 """Statuses from worst to least concern (a result's status in the matrix is its worst)."""
@@ -66,7 +66,7 @@ class ReportData:
     limit_tables, limit_entries : pandas.DataFrame
         ``LimitSet.tables`` and ``LimitSet.entries``.
     retest : pandas.DataFrame
-        Retest list (``tracescreen.retest.retest_list``).
+        Retest list (``tracescreen.retest.listing.retest_list``).
     summary, trends, exceedance_rates : pandas.DataFrame or None
         Outputs of the statistics modules (``summary.csv``, ``trends.csv``, ``exceedances.csv``:
         count and proportion of results above each limit with a binomial interval).
@@ -279,16 +279,16 @@ def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataF
 
     Parameters
     ----------
-    loaded : tracescreen.loading.LoadResult
+    loaded : tracescreen.io.loading.LoadResult
         Accepted and rejected rows and the files read.
-    limits : tracescreen.limits.LimitSet
+    limits : tracescreen.limits.load.LimitSet
     screened : pandas.DataFrame
         ``screening.screen(loaded.accepted, limits, sites)``.
     input_files : pandas.DataFrame, optional
         Every input file with ``sha256`` (results, limit tables, sites); default the lab files of
         ``loaded.files``. Row counts of ``loaded.files`` are added.
     sites : pandas.DataFrame, optional
-    retest_options : tracescreen.retest.RetestOptions, optional
+    retest_options : tracescreen.retest.listing.RetestOptions, optional
     statistics : dict, optional
         ``summary``, ``exceedances`` (rates per limit), ``trends`` tables and ``notes`` (list of
         str); computed with each function's defaults when not given.
@@ -299,9 +299,9 @@ def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataF
     -------
     ReportData
     """
-    from .retest import RetestOptions, retest_list
-    from .summary import exceedance_rates, summarise
-    from .trends import lowest_limits, trend_table
+    from tracescreen.retest.listing import RetestOptions, retest_list
+    from tracescreen.statistics.summary import exceedance_rates, summarise
+    from tracescreen.statistics.trends import lowest_limits, trend_table
 
     options = retest_options or RetestOptions()
     if statistics is None:

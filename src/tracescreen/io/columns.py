@@ -25,7 +25,7 @@ from pathlib import Path
 
 import yaml
 
-from .yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import SAFE_LOADER
 
 REQUIRED = ("site_id", "sample_id", "sampled_at", "analyte", "result", "unit")
 OPTIONAL = (

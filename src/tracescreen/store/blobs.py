@@ -9,7 +9,7 @@ import pyarrow as pa
 import pyarrow.feather as feather
 import pyarrow.ipc as ipc
 
-from . import loading
+from tracescreen.io import loading
 
 _IPC = ipc.IpcWriteOptions(compression="lz4")
 

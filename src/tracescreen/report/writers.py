@@ -19,7 +19,7 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.csv as pacsv
 
-from .parallel import ordered_map, workers
+from tracescreen._internal.parallel import ordered_map, workers
 
 FORMULA_START = r"^[=+\-@\t\r]"
 XLSX_MAX_ROWS = 1_048_576

@@ -44,9 +44,9 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from tracescreen import grouped
-from tracescreen.censored import _km_rows
-from tracescreen.summary import censored_series, join_notes, site_samples
+from tracescreen.statistics import grouped
+from tracescreen.statistics.censored import _km_rows
+from tracescreen.statistics.summary import censored_series, join_notes, site_samples
 
 #: Days per year used to turn dates into decimal years (Julian year).
 DAYS_PER_YEAR = 365.25

@@ -32,11 +32,12 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from . import decision, periods
-from . import limits as limits_mod
-from .hardness import sample_hardness
-from .memory import release_unused
-from .sites import site_uses
+from tracescreen.screening import decision
+from tracescreen.screening import periods
+from tracescreen.limits import load as limits_mod
+from tracescreen.screening.hardness import sample_hardness
+from tracescreen._internal.memory import release_unused
+from tracescreen.io.sites import site_uses
 
 REL_TOL = 1e-9
 STATUSES = ("exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit", "qc_sample")

@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 
-from . import loading
+from tracescreen.io import loading
 
 RESULT_KEY = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab"]
 PROVENANCE = ["file", "sheet", "row"]

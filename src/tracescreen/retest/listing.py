@@ -1,6 +1,6 @@
 """The retest list: every retest flag and QC check on a screening table, with its options.
 
-``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.flags.RETEST_COLUMNS`):
+``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.retest.flags.RETEST_COLUMNS`):
 one row per flagged result and reason (several reasons give several rows).
 """
 
@@ -10,8 +10,9 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from . import flags, qc
-from .frames import plain_text
+from tracescreen.retest import flags
+from tracescreen.retest import qc
+from tracescreen._internal.frames import plain_text
 
 REASONS = (
     "first_exceedance", "dl_too_high", "near_limit", "uncertainty_straddles_limit",
@@ -43,7 +44,7 @@ class RetestOptions:
     dissolved_percent, dissolved_min_multiple, dissolved_abs_multiple : float
         Dissolved vs total rule (30 %, 5 × DL, 2 × DL; common practice).
     holding_times : dict or None
-        Analyte → holding time; ``None`` uses :data:`tracescreen.qc.HOLDING_TIMES`.
+        Analyte → holding time; ``None`` uses :data:`tracescreen.retest.qc.HOLDING_TIMES`.
     reasons : tuple of str
         Reasons to compute (default all).
     """
@@ -98,7 +99,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     Returns
     -------
     pandas.DataFrame
-        Columns :data:`tracescreen.flags.RETEST_COLUMNS`, sorted by site, sampling date, sample,
+        Columns :data:`tracescreen.retest.flags.RETEST_COLUMNS`, sorted by site, sampling date, sample,
         analyte, fraction and reason (in :data:`REASONS` order).
     """
     o = options or RetestOptions()

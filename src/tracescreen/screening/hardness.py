@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .coded import joint_codes
+from tracescreen._internal.coded import joint_codes
 
 #: Molar-mass ratios CaCO3/Ca and CaCO3/Mg (Standard Methods 2340 B): 100.087/40.078, 100.087/24.305.
 CA_TO_CACO3 = 2.497

@@ -14,7 +14,7 @@ Some limits are not compared with each result but with a statistic of a site's r
 
 How non-detects enter the statistic is the table setting ``nondetect_rule``: ``zero``, ``half_dl``
 (half the detection limit), ``dl`` (the detection limit) or ``kaplan_meier`` (Kaplan-Meier mean or
-quantile with the Efron correction, :func:`tracescreen.censored.kaplan_meier_grouped`). Whatever the
+quantile with the Efron correction, :func:`tracescreen.statistics.censored.kaplan_meier_grouped`). Whatever the
 rule, the statistic is also computed with non-detects at zero and at their detection limit; these bounds bracket the statistic of the true
 values, and a non-detect is never made into an exceedance:
 
@@ -51,14 +51,14 @@ import numpy as np
 import pandas as pd
 from pandas.api.types import union_categoricals
 
-from . import decision
-from . import limits as limits_mod
-from .units import clean_decimal
-from .censored import kaplan_meier_grouped
-from .frames import replace_at
+from tracescreen.screening import decision
+from tracescreen.limits import load as limits_mod
+from tracescreen.io.units import clean_decimal
+from tracescreen.statistics.censored import kaplan_meier_grouped
+from tracescreen._internal.frames import replace_at
 
 PERIOD_BASES = ("running_annual_mean", "percentile")
-#: Statuses a period value can take, in the severity order of :data:`tracescreen.screening.STATUSES`.
+#: Statuses a period value can take, in the severity order of :data:`tracescreen.screening.compare.STATUSES`.
 STATUS_ORDER = ["exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit"]
 NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
@@ -350,7 +350,7 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
     Parameters
     ----------
     screened : DataFrame
-        Screening rows (:func:`tracescreen.screening.screen` columns).
+        Screening rows (:func:`tracescreen.screening.compare.screen` columns).
     limits : LimitSet
         The limit tables the rows were screened against (settings and entry keys).
     with_results : bool

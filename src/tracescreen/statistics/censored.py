@@ -29,7 +29,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen import grouped
+from tracescreen.statistics import grouped
 
 #: Percentiles reported by the summary (as probabilities).
 PROBS = (0.5, 0.9, 0.95)

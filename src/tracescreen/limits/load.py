@@ -20,8 +20,9 @@ import numpy as np
 import pandas as pd
 import yaml
 
-from . import analytes, units
-from .yamlfiles import SAFE_LOADER
+from tracescreen.io import analytes
+from tracescreen.io import units
+from tracescreen._internal.yamlfiles import SAFE_LOADER
 
 TABLE_KEYS_REQUIRED = ("id", "name", "source", "use", "unit", "entries")
 TABLE_KEYS_OPTIONAL = ("url", "notes", "settings")
@@ -354,4 +355,5 @@ def evaluate(entries: pd.DataFrame, hardness_mg_L) -> np.ndarray:
 
 
 # Modules that add bases, entry keys and settings register them on import.
-from . import decision, periods  # noqa: E402,F401
+from tracescreen.screening import decision  # noqa: E402,F401
+from tracescreen.screening import periods  # noqa: E402,F401

@@ -16,9 +16,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from tracescreen import grouped
-from tracescreen.censored import _as_series
-from tracescreen.parallel import ordered_map, workers
+from tracescreen.statistics import grouped
+from tracescreen.statistics.censored import _as_series
+from tracescreen._internal.parallel import ordered_map, workers
 
 
 def bootstrap_ucl_km_grouped(
@@ -74,7 +74,7 @@ def km_means_of_resamples(x, nd, valid, pick) -> np.ndarray:
     Returns
     -------
     ndarray, shape (g, B)
-        The KM mean of each resample: exactly :func:`tracescreen.censored.kaplan_meier` of ``x[i, pick[i, b, :n_i]]``.
+        The KM mean of each resample: exactly :func:`tracescreen.statistics.censored.kaplan_meier` of ``x[i, pick[i, b, :n_i]]``.
 
     Notes
     -----

@@ -24,7 +24,9 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from tracescreen import bootstrap, censored, grouped
+from tracescreen.statistics import bootstrap
+from tracescreen.statistics import censored
+from tracescreen.statistics import grouped
 
 KEYS = ["site_id", "analyte", "fraction"]
 

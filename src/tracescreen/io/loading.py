@@ -27,10 +27,12 @@ import pyarrow as pa
 import pyarrow.csv as pacsv
 from pandas.api.types import union_categoricals
 
-from . import analytes, parsing, units
-from .coded import CodedText, derived_categorical, joint_codes
-from .columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
-from .memory import release_unused
+from tracescreen.io import analytes
+from tracescreen.io import cells as parsing
+from tracescreen.io import units
+from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
+from tracescreen.io.columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
+from tracescreen._internal.memory import release_unused
 
 HEADER_SEARCH_ROWS = 30
 
@@ -314,7 +316,7 @@ def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list
 
 def mapping_applies(headers, column_map: ColumnMap) -> bool:
     """A mapping's ``defaults`` apply only to files that have at least one of its mapped headers."""
-    from .columns import header_key
+    from tracescreen.io.columns import header_key
 
     mapped = {header_key(h) for h in column_map.columns}
     return not mapped or any(header_key(h) in mapped for h in headers)
@@ -348,7 +350,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
               ) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Turn one raw table into accepted rows (contract columns) and rejected rows (with reasons).
 
-    Each text column is coded once (:class:`tracescreen.coded.CodedText`) and every parser runs on
+    Each text column is coded once (:class:`tracescreen._internal.coded.CodedText`) and every parser runs on
     distinct values (or distinct combinations of result, qualifier, detection limit, uncertainty
     and unit), never per row; rows take the answers by integer indexing.
     """

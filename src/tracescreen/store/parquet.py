@@ -22,8 +22,8 @@ from pathlib import Path
 import pyarrow as pa
 import pyarrow.dataset as ds
 
-from .caution import CAUTION
-from .workspace import Workspace, WorkspaceError
+from tracescreen.caution import CAUTION
+from tracescreen.store.workspace import Workspace, WorkspaceError
 
 
 def export_parquet(ws: Workspace, dest: str | Path, history: bool = False) -> list[Path]:
@@ -52,7 +52,7 @@ def export_parquet(ws: Workspace, dest: str | Path, history: bool = False) -> li
     table = pa.Table.from_pandas(df, preserve_index=False)
     table = table.replace_schema_metadata({**(table.schema.metadata or {}),
                                            b"tracescreen.caution": CAUTION.encode(),
-                                           b"tracescreen.workspace": str(ws.path.resolve()).encode()})
+                                           b"tracescreen.store.workspace": str(ws.path.resolve()).encode()})
     dest.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=f".{dest.name}.", dir=dest.parent))
     try:

@@ -35,8 +35,8 @@ import re
 import numpy as np
 import pandas as pd
 
-from . import limits as _limits
-from .frames import replace_at
+from tracescreen.limits import load as _limits
+from tracescreen._internal.frames import replace_at
 
 #: Relative tolerance of "equal" (same as screening; binary floating point cannot make an equal
 #: value exceed).
@@ -161,7 +161,7 @@ def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
     det = rows["detected"].to_numpy(dtype=bool)
     raw = np.where(det, rows["value_ug_L"].to_numpy(float), rows["detection_limit_ug_L"].to_numpy(float))
     cmp = round_to_limit_figures(raw, limit, s)
-    from .screening import classify  # here: screening calls this module
+    from tracescreen.screening.compare import classify  # here: screening calls this module
 
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = cmp / limit

@@ -25,7 +25,7 @@ import numpy as np
 import pandas as pd
 import yaml
 
-from .yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import SAFE_LOADER
 
 #: Words that put a fraction into an analyte name, and the fraction they mean.
 #: dissolved: passed through a 0.45 µm filter before acidification (common practice);
