@@ -148,9 +148,14 @@ def test_monotone_series_give_extreme_s(n, rising):
 
 
 @settings(max_examples=40, deadline=None)
-@given(st.lists(st.floats(0.1, 100), min_size=4, max_size=30), st.floats(0.01, 1000))
+@given(st.lists(st.floats(0.1, 100), min_size=4, max_size=30), st.integers(-7, 10).map(lambda e: 2.0 ** e))
 def test_scaling_concentrations_scales_slopes(xs, k):
-    """Multiplying concentrations (and DLs) by k multiplies slope, interval and intercept by k; S unchanged (property)."""
+    """Multiplying concentrations (and DLs) by k multiplies slope, interval and intercept by k; S unchanged (property).
+
+    k is a power of two, so ``y * k`` is exact in binary floating point and keeps every order and
+    tie of ``y``; an arbitrary k can round two values 1 ulp apart into one (92.0 and
+    91.99999999999999 times 712.8 became equal: S 3 vs 4), which is float rounding, not the method.
+    """
     y = np.array(xs)
     nd = y < np.median(y)
     y = np.where(nd, np.round(np.median(y), 2), y)
