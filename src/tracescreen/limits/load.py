@@ -24,28 +24,16 @@ from tracescreen.io import analytes
 from tracescreen.io import units
 from tracescreen._internal.yamlfiles import SAFE_LOADER
 
-TABLE_KEYS_REQUIRED = ("id", "name", "source", "use", "unit", "entries")
-TABLE_KEYS_OPTIONAL = ("url", "notes", "settings")
-ENTRY_KEYS_REQUIRED = ("analyte", "fraction")
-ENTRY_KEYS_OPTIONAL = ("value", "hardness_formula", "hardness_range", "basis", "duration",
-                       "effective_from", "effective_to", "note")
-FORMULA_KEYS = ("m", "b", "cf")
-CF_KEYS = ("intercept", "ln_hardness")
-FRACTIONS = ("total", "dissolved")
-#: Bases of comparison an entry may use; other modules register theirs here.
-BASES = {"single_sample": "each result is compared with the limit"}
-#: Table settings and a checker for each value (other modules register theirs here).
-SETTINGS: dict[str, tuple[str, ...]] = {}
+from tracescreen.limits.schema import (  # noqa: F401  (re-exported: the format is declared there)
+    BASES, CF_KEYS, ENTRY_KEYS_OPTIONAL, ENTRY_KEYS_REQUIRED, EXTRA_ENTRY_KEYS, FORMULA_KEYS, FRACTIONS,
+    SETTINGS, TABLE_CHECKS, TABLE_KEYS_OPTIONAL, TABLE_KEYS_REQUIRED, LimitTableError,
+)
 
 ENTRY_COLUMNS = [
     "entry_id", "table_id", "use", "source", "analyte", "fraction", "basis", "duration", "value_ug_L",
     "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope", "hardness_min", "hardness_max",
     "effective_from", "effective_to", "note",
 ]
-
-
-class LimitTableError(ValueError):
-    """A limit table that cannot be used (message names file, entry and key)."""
 
 
 @dataclass
@@ -202,15 +190,8 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
 
 
 def _extra_entry_keys() -> tuple[str, ...]:
-    """Entry keys registered by modules that add bases (e.g. period statistics)."""
-    return tuple(EXTRA_ENTRY_KEYS)
-
-
-#: Extra entry keys allowed by registered bases (e.g. ``percentile``); modules append here.
-EXTRA_ENTRY_KEYS: list[str] = []
-#: Checks run on each loaded table, ``check(table, rows, file_name)``, raising LimitTableError;
-#: modules that add bases or settings append theirs here.
-TABLE_CHECKS: list = []
+    """Entry keys beyond the plain ones (rounding, percentile bases): :data:`schema.EXTRA_ENTRY_KEYS`."""
+    return EXTRA_ENTRY_KEYS
 
 
 def _value_texts(text: str) -> list[str | None]:
@@ -353,7 +334,3 @@ def evaluate(entries: pd.DataFrame, hardness_mg_L) -> np.ndarray:
     ) * entries["unit_factor"].to_numpy(float)
     return np.where(is_formula(entries), formula, fixed)
 
-
-# Modules that add bases, entry keys and settings register them on import.
-from tracescreen.screening import decision  # noqa: E402,F401
-from tracescreen.screening import periods  # noqa: E402,F401

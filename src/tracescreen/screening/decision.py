@@ -35,14 +35,12 @@ import re
 import numpy as np
 import pandas as pd
 
-from tracescreen.limits import load as _limits
+from tracescreen.limits.schema import ROUNDING_CHOICES, check_significant_figures  # noqa: F401
 from tracescreen._internal.frames import replace_at
 
 #: Relative tolerance of "equal" (same as screening; binary floating point cannot make an equal
 #: value exceed).
 REL_TOL = 1e-9
-
-ROUNDING_CHOICES = ("none", "significant_figures")
 
 UNCERTAINTY_DECISIONS = (
     "exceeds_beyond_uncertainty", "exceeds_within_uncertainty", "meets_within_uncertainty",
@@ -52,18 +50,7 @@ UNCERTAINTY_DECISIONS = (
 _NUMBER = re.compile(r"^[+-]?(\d*)(?:\.(\d*))?(?:[eE][+-]?\d+)?$")
 
 
-def check_table(table: dict, rows: list[dict], name: str) -> None:
-    """Load-time check of ``significant_figures`` (a whole number >= 1) on each entry."""
-    for i, r in enumerate(rows, start=1):
-        s = r.get("significant_figures")
-        if s is not None and (isinstance(s, bool) or not isinstance(s, int) or s < 1):
-            raise _limits.LimitTableError(
-                f"{name}: entry {i} ({r['analyte']}): key 'significant_figures': '{s}' must be a whole number >= 1")
-
-
-_limits.SETTINGS["rounding"] = ROUNDING_CHOICES
-_limits.EXTRA_ENTRY_KEYS.append("significant_figures")
-_limits.TABLE_CHECKS.append(check_table)
+check_table = check_significant_figures
 
 
 def significant_figures(text) -> float:

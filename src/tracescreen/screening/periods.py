@@ -52,18 +52,17 @@ import pandas as pd
 from pandas.api.types import union_categoricals
 
 from tracescreen.screening import decision
-from tracescreen.limits import load as limits_mod
+from tracescreen.limits.schema import (  # noqa: F401
+    NONDETECT_RULES, PERCENTILE_METHOD_NAMES, PERIOD_BASES, PERIODS, check_period_keys,
+)
 from tracescreen.io.units import clean_decimal
 from tracescreen.statistics.censored import kaplan_meier_grouped
 from tracescreen._internal.frames import replace_at
 
-PERIOD_BASES = ("running_annual_mean", "percentile")
 #: Statuses a period value can take, in the severity order of :data:`tracescreen.screening.compare.STATUSES`.
 STATUS_ORDER = ["exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit"]
-NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
-PERIODS = ("calendar_year", "half_year", "quarter", "month")
 #: method name -> numpy.quantile method (None: the rule's own procedure)
 PERCENTILE_METHODS = {"epa_lcr": None, "nearest_rank": "inverted_cdf", "linear": "linear",
                       "hazen": "hazen", "weibull": "weibull"}
@@ -76,43 +75,8 @@ PERIOD_COLUMNS = [
     "source", "results",
 ]
 
-limits_mod.BASES["running_annual_mean"] = "mean of the site's results in the 12 months ending at each sample"
-limits_mod.BASES["percentile"] = "percentile of the site's results in each monitoring period"
-limits_mod.EXTRA_ENTRY_KEYS.extend(["percentile", "period", "percentile_method"])
-limits_mod.SETTINGS["nondetect_rule"] = NONDETECT_RULES
-limits_mod.SETTINGS["percentile_method"] = tuple(PERCENTILE_METHODS)
-
-
-def check_table(table: dict, rows: list[dict], name: str) -> None:
-    """Load-time checks of the period keys of one table (raises LimitTableError naming entry and key)."""
-    settings = table.get("settings") or {}
-    for i, r in enumerate(rows, start=1):
-        label = f"{name}: entry {i} ({r['analyte']})"
-        basis = r["basis"]
-        if basis in PERIOD_BASES and "nondetect_rule" not in settings:
-            raise limits_mod.LimitTableError(
-                f"{label}: basis '{basis}' needs the table setting 'nondetect_rule' "
-                f"(settings: {{nondetect_rule: {' | '.join(NONDETECT_RULES)}}})")
-        given = [k for k in ("percentile", "period", "percentile_method") if r.get(k) is not None]
-        if basis != "percentile":
-            if given:
-                raise limits_mod.LimitTableError(f"{label}: key '{given[0]}' only applies with basis 'percentile'")
-            continue
-        p = r.get("percentile")
-        if isinstance(p, bool) or not isinstance(p, (int, float)) or not 0 < p < 100:
-            raise limits_mod.LimitTableError(f"{label}: key 'percentile': needs a number between 0 and 100 (e.g. 90)")
-        if r.get("period") not in PERIODS:
-            raise limits_mod.LimitTableError(f"{label}: key 'period': '{r.get('period')}' is not one of {', '.join(PERIODS)}")
-        method = r.get("percentile_method") or settings.get("percentile_method")
-        if method not in PERCENTILE_METHODS:
-            raise limits_mod.LimitTableError(
-                f"{label}: key 'percentile_method': state one of {', '.join(PERCENTILE_METHODS)} "
-                f"(on the entry or in the table settings)")
-        if method == "epa_lcr" and float(p) != 90.0:
-            raise limits_mod.LimitTableError(f"{label}: key 'percentile_method': epa_lcr is defined for the 90th percentile only")
-
-
-limits_mod.TABLE_CHECKS.append(check_table)
+check_table = check_period_keys
+assert tuple(PERCENTILE_METHODS) == PERCENTILE_METHOD_NAMES, "schema and periods disagree on percentile methods"
 
 
 # --- statistics --------------------------------------------------------------------------------

@@ -15,7 +15,8 @@ import sqlite3
 
 import pyarrow as pa
 
-from tracescreen.store import workspace
+from tracescreen.store.blobs import _decode
+from tracescreen.store.schema import SCHEMA_VERSION
 
 
 def check_workspace(con: sqlite3.Connection) -> list[str]:
@@ -23,7 +24,7 @@ def check_workspace(con: sqlite3.Connection) -> list[str]:
     problems = [f"database: {r[0]}" for r in con.execute("PRAGMA integrity_check") if r[0] != "ok"]
     problems += [f"foreign key: table {r[0]} row {r[1]} refers to a missing {r[2]} row"
                  for r in con.execute("PRAGMA foreign_key_check")]
-    if con.execute("PRAGMA user_version").fetchone()[0] != workspace.SCHEMA_VERSION:
+    if con.execute("PRAGMA user_version").fetchone()[0] != SCHEMA_VERSION:
         problems.append("workspace format differs from this tracescreen's")
     if problems:
         return problems
@@ -95,7 +96,7 @@ def _check_segments(con, files) -> list[str]:
                 problems.append(f"{name}: {stored} results recorded, none stored")
             continue
         try:
-            ids = workspace._decode(b"".join(parts[fid]), ["result_id"]).column("result_id").to_numpy()
+            ids = _decode(b"".join(parts[fid]), ["result_id"]).column("result_id").to_numpy()
         except (pa.ArrowException, OSError) as exc:
             problems.append(f"{name}: stored results unreadable ({exc})")
             continue

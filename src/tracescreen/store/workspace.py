@@ -49,52 +49,14 @@ from tracescreen.io import loading
 from tracescreen.store.revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
 from tracescreen.io.columns import load_column_map
 from tracescreen.store.outcomes import FileBatch, FileOutcome, ImportSummary
-from tracescreen.store.blobs import _STORED, _decode, _encode, _to_frame  # noqa: F401 (workspace_check uses _decode)
+from tracescreen.store.blobs import _STORED, _decode, _encode, _to_frame  # noqa: F401
+from tracescreen.store.schema import _SCHEMA, APPLICATION_ID, SCHEMA_VERSION  # noqa: F401
 
 WORKSPACE_FILE = "workspace.sqlite"
-SCHEMA_VERSION = 1
-APPLICATION_ID = 0x54534357  # "TSCW": marks the SQLite file as a tracescreen workspace
 PART_BYTES = 16 * 1024 * 1024   # a stored results file is split into BLOB parts of at most this size
 _HASHES = ["key_hash", "value_hash"]
 
-_SCHEMA = """
-CREATE TABLE workspace_info (key TEXT PRIMARY KEY, value TEXT NOT NULL);
-CREATE TABLE imports (
-    import_id INTEGER PRIMARY KEY, started_at TEXT NOT NULL, finished_at TEXT NOT NULL,
-    tool_version TEXT NOT NULL, read_options TEXT NOT NULL,
-    columns_file TEXT, columns_sha256 TEXT, columns_text TEXT, sites_file TEXT, sites_sha256 TEXT,
-    files INTEGER NOT NULL, rows_read INTEGER NOT NULL, rows_new INTEGER NOT NULL,
-    rows_unchanged INTEGER NOT NULL, rows_revised INTEGER NOT NULL,
-    rows_superseded INTEGER NOT NULL, rows_rejected INTEGER NOT NULL);
-CREATE TABLE files (
-    file_id INTEGER PRIMARY KEY, import_id INTEGER NOT NULL REFERENCES imports(import_id),
-    name TEXT NOT NULL, path TEXT NOT NULL, sha256 TEXT NOT NULL UNIQUE, size_bytes INTEGER NOT NULL,
-    rows_read INTEGER NOT NULL, rows_new INTEGER NOT NULL, rows_unchanged INTEGER NOT NULL,
-    rows_revised INTEGER NOT NULL, rows_superseded INTEGER NOT NULL, rows_rejected INTEGER NOT NULL,
-    first_result_id INTEGER NOT NULL, rows_stored INTEGER NOT NULL);
-CREATE TABLE sheets (
-    file_id INTEGER NOT NULL REFERENCES files(file_id), sheet TEXT NOT NULL,
-    header_row INTEGER NOT NULL, header TEXT NOT NULL, rows_read INTEGER NOT NULL,
-    rows_accepted INTEGER NOT NULL, rows_rejected INTEGER NOT NULL, blank_rows INTEGER NOT NULL,
-    PRIMARY KEY (file_id, sheet));
-CREATE TABLE originals (
-    file_id INTEGER PRIMARY KEY REFERENCES files(file_id), codec TEXT NOT NULL, data BLOB NOT NULL);
-CREATE TABLE segments (
-    segment_id INTEGER PRIMARY KEY, file_id INTEGER NOT NULL REFERENCES files(file_id),
-    part INTEGER NOT NULL, sha256 TEXT NOT NULL, data BLOB NOT NULL, UNIQUE (file_id, part));
-CREATE TABLE rejected (
-    file_id INTEGER NOT NULL REFERENCES files(file_id), sheet TEXT NOT NULL, row INTEGER NOT NULL,
-    reason TEXT NOT NULL, cells TEXT NOT NULL, PRIMARY KEY (file_id, sheet, row));
-CREATE TABLE supersessions (
-    result_id INTEGER PRIMARY KEY, import_id INTEGER NOT NULL REFERENCES imports(import_id),
-    file_id INTEGER NOT NULL REFERENCES files(file_id));
-CREATE TABLE screening_runs (
-    run_id INTEGER PRIMARY KEY, run_at TEXT NOT NULL, tool_version TEXT NOT NULL,
-    command TEXT NOT NULL, last_import_id INTEGER, results INTEGER NOT NULL,
-    limits TEXT NOT NULL, limits_sha256 TEXT NOT NULL, sites_file TEXT, sites_sha256 TEXT,
-    summary TEXT NOT NULL);
-CREATE INDEX segments_by_file ON segments(file_id);
-"""
+
 
 
 class WorkspaceError(ValueError):

@@ -1,0 +1,116 @@
+"""The engine's layout stays readable: no import cycle, no module past its size, engine never imports the dashboard.
+
+Source of the rule: this project's DEVELOPERS.md ("Architecture"); the checks read the source
+files with the standard library's ``ast`` (module-level imports only: a function-level import is
+deferred and cannot form an import-time cycle).
+"""
+
+from __future__ import annotations
+
+import ast
+from pathlib import Path
+
+import pytest
+
+PKG = Path(__file__).resolve().parents[1] / "src" / "tracescreen"
+
+
+def _module_name(path: Path) -> str:
+    parts = path.relative_to(PKG.parent).with_suffix("").parts
+    return ".".join(parts[:-1] if parts[-1] == "__init__" else parts)
+
+
+def _modules() -> dict[str, Path]:
+    return {_module_name(p): p for p in PKG.rglob("*.py")}
+
+
+def _top_level_imports(path: Path, name: str, known: set[str]) -> set[str]:
+    """Engine modules imported at module level by the module at ``path``."""
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    pkg = name if path.name == "__init__.py" else name.rpartition(".")[0]
+    out: set[str] = set()
+    for node in tree.body:
+        if isinstance(node, ast.Import):
+            targets = [a.name for a in node.names]
+        elif isinstance(node, ast.ImportFrom):
+            base = node.module or ""
+            if node.level:
+                anchor = pkg.split(".")
+                anchor = anchor[: len(anchor) - (node.level - 1)]
+                base = ".".join(anchor + ([base] if base else []))
+            targets = [f"{base}.{a.name}" if f"{base}.{a.name}" in known else base for a in node.names]
+        else:
+            continue
+        for t in targets:
+            while t and t not in known:
+                t = t.rpartition(".")[0]
+            if t and t != name:
+                out.add(t)
+    return out
+
+
+def _graph() -> dict[str, set[str]]:
+    mods = _modules()
+    known = set(mods)
+    return {m: _top_level_imports(p, m, known) for m, p in mods.items()}
+
+
+def _find_cycle(graph: dict[str, set[str]]) -> list[str] | None:
+    state: dict[str, int] = {}
+    stack: list[str] = []
+
+    def visit(m: str) -> list[str] | None:
+        state[m] = 1
+        stack.append(m)
+        for n in sorted(graph.get(m, ())):
+            if state.get(n) == 1:
+                return stack[stack.index(n):] + [n]
+            if n not in state:
+                found = visit(n)
+                if found:
+                    return found
+        stack.pop()
+        state[m] = 2
+        return None
+
+    for m in sorted(graph):
+        if m not in state:
+            found = visit(m)
+            if found:
+                return found
+    return None
+
+
+def test_cycle_finder_finds_a_cycle():
+    """The checker itself bites: a two-module cycle and a three-module cycle are found (common practice)."""
+    assert _find_cycle({"a": {"b"}, "b": {"a"}}) == ["a", "b", "a"]
+    assert _find_cycle({"a": {"b"}, "b": {"c"}, "c": {"a"}, "d": set()}) == ["a", "b", "c", "a"]
+    assert _find_cycle({"a": {"b"}, "b": set()}) is None
+
+
+def test_import_graph_sees_real_edges():
+    """The graph is read right: a known import is present (screening.compare imports limits.load)."""
+    g = _graph()
+    assert "tracescreen.limits.load" in g["tracescreen.screening.compare"]
+    assert "tracescreen.limits.schema" in g["tracescreen.limits.load"]
+
+
+def test_no_import_cycle():
+    cycle = _find_cycle(_graph())
+    assert cycle is None, "import cycle: " + " -> ".join(cycle)
+
+
+def test_engine_never_imports_dashboard():
+    for path in PKG.rglob("*.py"):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        for node in ast.walk(tree):
+            names = [a.name for a in node.names] if isinstance(node, ast.Import) else (
+                [node.module or ""] if isinstance(node, ast.ImportFrom) else [])
+            assert not any(n == "dashboard" or n.startswith("dashboard.") for n in names), path
+
+
+@pytest.mark.xfail(reason="modules over 400 lines are still to be split (DEVELOPERS.md, 'Layout: still to do')",
+                   strict=True)
+def test_no_module_over_400_lines():
+    long = {m: len(p.read_text(encoding="utf-8").splitlines()) for m, p in _modules().items()}
+    assert not {m: n for m, n in long.items() if n > 400}
