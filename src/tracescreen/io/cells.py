@@ -26,6 +26,8 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
+from tracescreen.io import qualifiers
+
 ND_WORDS = frozenset({
     "nd", "n.d.", "n.d", "notdetected", "not detected", "bdl", "belowdetectionlimit",
     "below detection limit", "<dl", "<lor", "<mdl", "<rl", "<lod", "<loq", "<pql", "u",
@@ -37,6 +39,28 @@ FRACTION_VOCAB = {
     "dissolved": "dissolved", "d": "dissolved", "diss": "dissolved", "filtered": "dissolved",
     "soluble": "dissolved", "f": "dissolved",
 }
+
+def _fractions_from_data() -> dict[str, str]:
+    """WQX ``ResultSampleFractionText`` values and lab fraction codes of ``data/fractions.yaml``
+    (total or dissolved only; the others, e.g. suspended, stay unreadable and are reported)."""
+    from pathlib import Path
+
+    import yaml
+
+    from tracescreen._internal.yamlfiles import SAFE_LOADER
+
+    data = yaml.load((Path(__file__).resolve().parents[1] / "data" / "fractions.yaml").read_text(encoding="utf-8"),
+                     Loader=SAFE_LOADER)
+    out: dict[str, str] = {}
+    for section in ("wqx_fraction", "lab_codes"):
+        for e in data.get(section) or []:
+            if e.get("fraction") in ("total", "dissolved"):
+                out.setdefault(re.sub(r"[\s_\-]+", "", str(e["code"]).strip().lower()), e["fraction"])
+    return out
+
+
+for _k, _v in _fractions_from_data().items():
+    FRACTION_VOCAB.setdefault(_k, _v)
 
 SAMPLE_TYPE_VOCAB = {
     "sample": "sample", "": "sample", "normal": "sample", "regular": "sample", "primary": "sample",
@@ -87,7 +111,8 @@ def to_number(text: pd.Series, decimal_comma: bool = False) -> pd.Series:
 
 
 def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.Series,
-                  decimal_comma: bool = False) -> dict[str, np.ndarray]:
+                  decimal_comma: bool = False, remark: pd.Series | None = None,
+                  condition: pd.Series | None = None) -> dict[str, np.ndarray]:
     """Parse result cells into value, detected flag and detection limit (all in the row's unit).
 
     Parameters
@@ -96,17 +121,29 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
         The cells as reported ("" where empty).
     decimal_comma : bool
         Read ``,`` as the decimal separator.
+    remark, condition : pandas.Series of str, optional
+        A remark-code column (USGS NWIS ``remark_cd``) and a detection-condition column (WQX
+        ``ResultDetectionConditionText``), read with their own vocabularies
+        (:mod:`tracescreen.io.qualifiers`).
 
     Returns
     -------
     dict of numpy arrays
         ``value`` (float, NaN for non-detects), ``detected`` (bool), ``detection_limit`` (float),
-        ``error`` (object: None or a reason text for cells that cannot be used).
+        ``error`` (object: None or a reason text for cells that cannot be used), ``meaning``
+        (object: the qualifier meanings found, ``;``-joined, with ``unknown:CODE`` for codes in no
+        vocabulary).
     """
     n = len(result)
     res = result.fillna("").astype(str).str.strip()
-    qual = qualifier.fillna("").astype(str).str.strip().str.upper()
     dl_text = detection_limit.fillna("").astype(str).str.strip()
+    read = [qualifiers.read_column(qualifier.fillna("").astype(str), "qualifier")]
+    if remark is not None:
+        read.append(qualifiers.read_column(remark.fillna("").astype(str), "remark_code"))
+    if condition is not None:
+        read.append(qualifiers.read_column(condition.fillna("").astype(str), "detection_condition"))
+    meaning = qualifiers.combine(*read).to_numpy(dtype=object)
+    unknown_codes = qualifiers.combine(*[pd.DataFrame({"meanings": r["unknown"]}) for r in read]).to_numpy(dtype=object)
 
     value = to_number(res, decimal_comma).to_numpy(dtype=float, copy=True)
     dl_col = to_number(dl_text, decimal_comma).to_numpy(dtype=float, copy=True)
@@ -115,7 +152,7 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
     bad_dl = (dl_text != "").to_numpy() & np.isnan(dl_col)
     error[bad_dl] = ("detection limit '" + dl_text[bad_dl] + "' is not a number").to_numpy()
 
-    qual_u = qual.str.contains("U", regex=False).to_numpy(dtype=bool, copy=True)
+    qual_u = qualifiers.has_meaning(meaning, qualifiers.NONDETECT_MEANINGS).copy()
     numeric = ~np.isnan(value)
     detected = numeric.copy()
     dl = dl_col.copy()
@@ -146,8 +183,12 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
         # "0.5 U" / "1.2 J": number followed by qualifier letters
         nq_ok = numq[0].notna().to_numpy()
         nq_val = pd.to_numeric(numq[0], errors="coerce").to_numpy(dtype=float)
-        nq_letters = numq[1].fillna("").str.upper().to_numpy()
-        nq_u = nq_ok & (np.char.find(nq_letters.astype(str), "U") >= 0)
+        nq_read = qualifiers.read_column(numq[1].fillna("").astype(str), "qualifier")
+        nq_u = nq_ok & qualifiers.has_meaning(nq_read["meanings"], qualifiers.NONDETECT_MEANINGS)
+        nq_meaning = nq_read["meanings"].to_numpy(dtype=object)
+        add = nq_ok & (nq_meaning != "")
+        cur = meaning[idx[add]]
+        meaning[idx[add]] = np.where(cur == "", nq_meaning[add], cur + ";" + nq_meaning[add])
         nq_det = nq_ok & ~nq_u
         value[idx[nq_det]] = nq_val[nq_det]
         detected[idx[nq_det]] = True
@@ -158,7 +199,7 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
         detected[idx[nd_word]] = False
         unknown = ~(lt_ok | gt_ok | nq_ok | nd_word)
         blank_unknown = unknown & is_blank
-        error[idx[blank_unknown]] = "result is empty (and no U qualifier)"
+        error[idx[blank_unknown]] = "result is empty (and no non-detect qualifier or detection condition)"
         other = unknown & ~is_blank
         error[idx[other]] = ("result '" + sub[other] + "' is not a number, '<x' or a non-detect code").to_numpy()
 
@@ -168,13 +209,21 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
     detected[num_u] = False
     value[~detected] = np.nan
 
+    rejected = qualifiers.has_meaning(meaning, {"rejected"}) & (error == None)  # noqa: E711 (object array)
+    error[rejected] = "rejected by the laboratory or data review (qualifier of an unusable result): not screened"
+    above = qualifiers.has_meaning(meaning, {"above_range"}) & detected & (error == None)  # noqa: E711
+    error[above] = "result is above the calibrated or reported range (qualifier) and cannot be screened"
+
     nd_no_dl = ~detected & np.isnan(dl) & (error == None)  # noqa: E711 (object array)
     error[nd_no_dl] = "non-detect without a detection limit"
     neg = (value < 0) | (dl < 0)
     error[neg & (error == None)] = "negative concentration or detection limit"  # noqa: E711
     zero_dl = ~detected & (dl == 0)
     error[zero_dl & (error == None)] = "non-detect with a detection limit of zero"  # noqa: E711
-    return {"value": value, "detected": detected, "detection_limit": dl, "error": error}
+    has_unknown = unknown_codes != ""
+    unk = np.where(has_unknown, "unknown:" + pd.Series(unknown_codes, dtype=object).str.replace(";", ";unknown:", regex=False).to_numpy(dtype=object), "")
+    meaning = np.where(has_unknown, np.where(meaning == "", unk, meaning + ";" + unk), meaning)
+    return {"value": value, "detected": detected, "detection_limit": dl, "error": error, "meaning": meaning}
 
 
 def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:

@@ -40,13 +40,13 @@ ACCEPTED_COLUMNS = [
     "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction",
     "result_text", "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier",
     "sample_type", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L",
-    "uncertainty_ug_L",
+    "uncertainty_ug_L", "qualifier_meaning",
 ]
 
 
 #: Text columns of the accepted table (held as pandas categoricals of str).
 TEXT_COLUMNS = ("file", "sheet", "site_id", "sample_id", "analyte", "fraction", "result_text", "unit",
-                "qualifier", "sample_type", "parent_sample_id", "lab", "batch")
+                "qualifier", "sample_type", "parent_sample_id", "lab", "batch", "qualifier_meaning")
 
 
 class LoadError(ValueError):
@@ -428,12 +428,16 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
 
     # a result, its qualifier, detection limit, uncertainty and unit: parsed once per combination
     qualifier, res_text, dl_text, unc_text = col("qualifier"), col("result"), col("detection_limit"), col("uncertainty")
-    combo, first = joint_codes(res_text.codes, qualifier.codes, dl_text.codes, unc_text.codes, unit_text.codes)
+    remark, condition = col("remark_code"), col("detection_condition")
+    combo, first = joint_codes(res_text.codes, qualifier.codes, dl_text.codes, unc_text.codes, unit_text.codes,
+                               remark.codes, condition.codes)
 
     def at_first(c: CodedText) -> pd.Series:
         return pd.Series(c.values.take(c.codes[first]), dtype="str")
 
-    parsed = parsing.parse_results(at_first(res_text), at_first(qualifier), at_first(dl_text), opts.decimal_comma)
+    parsed = parsing.parse_results(at_first(res_text), at_first(qualifier), at_first(dl_text), opts.decimal_comma,
+                                   remark=at_first(remark) if "remark_code" in found else None,
+                                   condition=at_first(condition) if "detection_condition" in found else None)
     perr = parsed["error"]
     has_err = ~pd.isna(perr).astype(bool)
     _add(reasons, has_err[combo], perr[combo[has_err[combo]]])
@@ -489,6 +493,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "analysed_at": an_text.rows(an_dates)[ok],
         "hardness_mg_L": hard_text.rows(v_hardness)[ok],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
+        "qualifier_meaning": pd.Categorical(parsed["meaning"][okc].astype(str)),
     })
     rej_cells = cells.loc[rejected_mask].drop(columns=["__field_count_error__"], errors="ignore")
     rej = pd.concat([

@@ -45,7 +45,7 @@ STATUS_RANK = {s: i for i, s in enumerate(STATUSES)}
 
 SCREENING_COLUMNS = [
     "site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "unit", "value_ug_L",
-    "detected", "detection_limit_ug_L", "qualifier", "sample_type", "hardness_used_mg_L",
+    "detected", "detection_limit_ug_L", "qualifier", "qualifier_meaning", "sample_type", "hardness_used_mg_L",
     "hardness_origin", "limit_table", "use", "duration", "basis", "limit_ug_L", "ratio", "status",
     "source", "note", "entry_id", "lab", "batch", "parent_sample_id", "analysed_at", "uncertainty_ug_L",
     "file", "sheet", "row", "compared_value_ug_L", "period_id", "period_value_ug_L",
@@ -208,6 +208,8 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["period_id"] = pd.arrays.IntegerArray(np.zeros(len(rp), dtype=np.int64),  # periods.py fills period rows
                                                np.ones(len(rp), dtype=bool))
     cols["period_value_ug_L"] = np.full(len(rp), np.nan)
+    if "qualifier_meaning" not in cols:  # results built before qualifiers were read (older frames)
+        cols["qualifier_meaning"] = pd.Categorical(np.full(len(rp), "", dtype=object))
     # copy=False: one block per column, nothing copied or consolidated (a screening table is large)
     out = pd.DataFrame({c: cols[c] for c in SCREENING_COLUMNS}, copy=False)
     out = decision.apply_rounding(out, limits)  # tables that compare after rounding

@@ -391,7 +391,7 @@ class Workspace:
         if not blobs:
             return _STORED.empty_table().select(want)
         need = want if not (current and len(gone)) or "result_id" in want else want + ["result_id"]
-        tables = [_decode(b, need) for b in blobs]
+        tables = [_decode_stored(b, need) for b in blobs]
         table = pa.concat_tables(tables) if len(tables) > 1 else tables[0]
         if current and len(gone):
             keep = ~np.isin(table.column("result_id").to_numpy(), gone)
@@ -539,3 +539,20 @@ def _input_record(path) -> tuple[str | None, str | None]:
     if not path:
         return None, None
     return str(Path(path).resolve()), file_sha256(path)
+
+
+#: Columns added to the stored results after workspaces were first written, with the value an
+#: older stored file gets for them when read (they are derived from stored columns, never hashed).
+_ADDED_COLUMNS = {"qualifier_meaning": ""}
+
+
+def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
+    """One stored file's results with ``columns``; columns it predates are filled (:data:`_ADDED_COLUMNS`)."""
+    have = set(_decode(blob, []).schema.names) if any(c in _ADDED_COLUMNS for c in columns) else set(columns)
+    table = _decode(blob, [c for c in columns if c in have])
+    for c in columns:
+        if c not in have:
+            table = table.append_column(c, pa.array([_ADDED_COLUMNS[c]] * table.num_rows, type=pa.string())
+                                        .dictionary_encode())
+    return table.select(columns)
+
