@@ -48,6 +48,7 @@ class Inputs:
     sources: tuple[str, ...] = ()
     options: Any = None  # tracescreen.io.loading.LoadOptions used for the base files
     sites_name: str = "the sites file"
+    set_aside: pd.DataFrame | None = None  # rows that are not results to screen (lab QC, other analytes)
 
 
 @dataclass
@@ -62,6 +63,7 @@ class SessionData:
     key: str
     screened: pd.DataFrame
     rejected: pd.DataFrame
+    set_aside: pd.DataFrame
     files: pd.DataFrame
     limits: Any
     sites: pd.DataFrame | None
@@ -157,6 +159,7 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
         sources=tuple(str(p) for p in paths),
         options=opts,
         sites_name=sites_name,
+        set_aside=loaded.set_aside,
     )
 
 
@@ -195,6 +198,10 @@ def _campaign_labels(accepted: pd.DataFrame) -> pd.Series:
     q = accepted["sampled_at"].dt.quarter.astype("Int64").astype(str)
     y = accepted["sampled_at"].dt.year.astype("Int64").astype(str)
     return (y + "-Q" + q).where(accepted["sampled_at"].notna(), "undated")
+
+
+def _no_rows() -> pd.DataFrame:
+    return pd.DataFrame(columns=["file", "sheet", "row", "reason"])
 
 
 def file_counts(accepted: pd.DataFrame, rejected: pd.DataFrame) -> pd.DataFrame:
@@ -299,6 +306,7 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
         key=key,
         screened=screened,
         rejected=inputs.rejected,
+        set_aside=inputs.set_aside if inputs.set_aside is not None else _no_rows(),
         files=files,
         limits=inputs.limits,
         sites=inputs.sites,
@@ -502,6 +510,7 @@ class DataStore:
     def _build(self, tokens: list[str]) -> SessionData:
         base = self.base_session()
         accepted, rejected, files, kept = [accepted_from_session(base)], [base.rejected], [base.files], []
+        aside = [base.set_aside]
         for token in tokens:
             try:
                 loaded = self.load_upload(token)
@@ -509,6 +518,7 @@ class DataStore:
                 continue
             accepted.append(loaded.accepted)
             rejected.append(loaded.rejected)
+            aside.append(loaded.set_aside)
             files.append(loaded.files)
             kept.append(token)
         # categorical text joined category-wise; the engine writes missing text as "", never NaN
@@ -517,6 +527,7 @@ class DataStore:
         inputs = Inputs(
             accepted=merged,
             rejected=pd.concat([r for r in rejected if len(r)] or [base.rejected], ignore_index=True),
+            set_aside=pd.concat([r for r in aside if len(r)] or [base.set_aside], ignore_index=True),
             limits=base.limits,
             sites=base.sites,
             files=pd.concat(files, ignore_index=True),

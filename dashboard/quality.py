@@ -1,4 +1,5 @@
-"""Data-quality logic: per-file counts, rejection reasons, rejected rows (plain functions)."""
+"""Data-quality logic: per-file counts, rejection reasons, rejected rows and rows set aside (plain
+functions)."""
 
 from __future__ import annotations
 
@@ -6,6 +7,7 @@ import pandas as pd
 from dash import html
 
 from dashboard.data import SessionData
+from tracescreen.io.loading import SET_ASIDE_PREFIX
 
 _FIRST = ["file", "sheet", "row", "reason"]
 
@@ -19,6 +21,30 @@ def rejected_frame(session: SessionData) -> pd.DataFrame:
     return rej[first + [c for c in rej.columns if c not in first]]
 
 
+def set_aside_frame(session: SessionData) -> pd.DataFrame:
+    """Rows set aside (not results to screen: lab QC, reference material, analytes tracescreen does
+    not screen, results qualified unusable): ``file, sheet, row, reason`` first, then the cells."""
+    aside = getattr(session, "set_aside", None)
+    if aside is None or aside.empty:
+        return pd.DataFrame(columns=_FIRST)
+    aside = aside.assign(reason=aside["reason"].astype(str).str.removeprefix(SET_ASIDE_PREFIX))
+    first = [c for c in _FIRST if c in aside.columns]
+    return aside[first + [c for c in aside.columns if c not in first]]
+
+
+def _counts(reasons: pd.Series) -> pd.DataFrame:
+    kind = reasons.astype(str).str.replace(r"'[^']*'", "'…'", regex=True).str.strip()
+    return kind.value_counts().rename_axis("problem").reset_index(name="rows")
+
+
+def set_aside_counts(session: SessionData) -> pd.DataFrame:
+    """Rows set aside per kind, most frequent first (quoted values grouped as in :func:`reason_counts`)."""
+    aside = set_aside_frame(session)
+    if aside.empty:
+        return pd.DataFrame({"problem": [], "rows": []})
+    return _counts(aside["reason"]).rename(columns={"problem": "kind"})
+
+
 def reason_counts(session: SessionData) -> pd.DataFrame:
     """Rejected rows per reason, most frequent first.
 
@@ -28,9 +54,7 @@ def reason_counts(session: SessionData) -> pd.DataFrame:
     rej = rejected_frame(session)
     if rej.empty:
         return pd.DataFrame({"problem": [], "rows": []})
-    kind = rej["reason"].astype(str).str.replace(r"'[^']*'", "'…'", regex=True).str.strip()
-    out = kind.value_counts().rename_axis("problem").reset_index(name="rows")
-    return out
+    return _counts(rej["reason"])
 
 
 def html_table(frame: pd.DataFrame, table_id: str) -> html.Table:
@@ -40,7 +64,7 @@ def html_table(frame: pd.DataFrame, table_id: str) -> html.Table:
     return html.Table([head, body], id=table_id, className="plain")
 
 
-FILE_COLUMNS = ["file", "sheet", "rows_read", "accepted", "rejected", "blank_rows", "sha256"]
+FILE_COLUMNS = ["file", "sheet", "rows_read", "accepted", "set_aside", "rejected", "blank_rows", "sha256"]
 
 
 def file_table(session: SessionData) -> html.Table:
@@ -59,3 +83,11 @@ def reason_table(session: SessionData):
         return html.P("No rejected rows.")
     counts["rows"] = counts["rows"].astype(object).map(int)
     return html_table(counts, "dq-reasons-table")
+
+
+def set_aside_table(session: SessionData):
+    counts = set_aside_counts(session)
+    if counts.empty:
+        return html.P("No rows set aside.")
+    counts["rows"] = counts["rows"].astype(object).map(int)
+    return html_table(counts, "dq-aside-kinds-table")

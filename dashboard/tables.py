@@ -8,9 +8,11 @@ import numpy as np
 import pandas as pd
 
 from dashboard.data import SessionData
+from tracescreen import vocabulary
 
-#: rows that need attention: above a limit, or undecided because the detection limit is too high
-ATTENTION_STATUSES = ("exceeds", "nondetect_inconclusive")
+#: rows that need attention: above a limit, or undecided (detection limit too high, or above the
+#: calibrated range at or below the limit)
+ATTENTION_STATUSES = vocabulary.ATTENTION
 EXCEEDANCE_COLUMNS = [
     "site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "unit",
     "value_ug_L", "detection_limit_ug_L", "limit_table", "use", "duration", "limit_ug_L",

@@ -7,6 +7,8 @@ from pathlib import Path
 
 import pandas as pd
 
+from tracescreen import vocabulary
+
 ROOT = Path(__file__).resolve().parents[1]
 SCENARIO = ROOT / "scenario_data"
 
@@ -41,7 +43,7 @@ def engine_view():
 def engine_attention_rows() -> pd.DataFrame:
     """The engine's site-sample rows that exceed or are undecided."""
     screened = engine_view()[3]
-    keep = screened["status"].isin(["exceeds", "nondetect_inconclusive"]) & (screened["sample_type"] == "sample")
+    keep = screened["status"].isin(vocabulary.ATTENTION) & (screened["sample_type"] == "sample")
     return screened[keep]
 
 

@@ -1,3 +1,4 @@
+import re
 """The command line end to end on the demo scenario, and its handling of user errors."""
 
 import subprocess
@@ -11,15 +12,16 @@ from tracescreen.cli import COMMANDS, main
 
 
 def test_screen_scenario_end_to_end(tmp_path, scenario_args, capsys):
-    """Screen the demo scenario: exit 0, outputs written, rows read = accepted + rejected (issue 2 rule)."""
+    """Screen the demo scenario: exit 0, outputs written, rows read = accepted + set aside + rejected (project rule)."""
     code = main(["screen", *scenario_args, "--out", str(tmp_path)])
     out = capsys.readouterr().out
     assert code == 0
     screening = pd.read_csv(tmp_path / "screening.csv")
     rejected = pd.read_csv(tmp_path / "rejected.csv")
     line = next(ln for ln in out.splitlines() if ln.startswith("Rows read:"))
-    read, acc, rej = (int(x) for x in line.replace(":", "").split()[2::2][:3])
-    assert read == acc + rej and rej == len(rejected) > 0
+    read, acc, aside, rej = (int(x) for x in re.findall(r"\d+", line)[:4])
+    assert read == acc + aside + rej and rej == len(rejected) > 0
+    assert aside == len(pd.read_csv(tmp_path / "not_screened.csv"))
     # every accepted result appears in screening.csv at least once
     assert screening.drop_duplicates(["file", "sheet", "row"]).shape[0] == acc
     assert set(screening["status"]) >= {"exceeds", "meets", "nondetect_meets", "qc_sample"}

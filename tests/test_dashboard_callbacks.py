@@ -16,7 +16,7 @@ from dashboard.figures import WEBGL_THRESHOLD, map_figure, result_points, site_m
 from dashboard.limit_tables import formula_text, sites_for_use
 from dashboard.matrix import Filters, matrix_frame, site_worst, status_counts
 from dashboard.palette import STATUS_COLOUR, STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER, STATUS_SYMBOL
-from dashboard.quality import reason_counts, rejected_frame
+from dashboard.quality import reason_counts, rejected_frame, set_aside_counts, set_aside_frame
 from dashboard.series import series_view, trend_view
 from dashboard.tables import FilterError, exceedance_rows, filter_mask, query_table, table_page, to_csv_bytes
 from dashboard.uploads import UploadError, add_token, decode_upload, preview_upload
@@ -214,12 +214,16 @@ def test_limit_formula_in_words_and_sites_per_use(session):
 
 
 def test_data_quality_lists_every_rejected_row(session):
-    """Every rejected row is listed with its reason; per-file counts add up (rows read = accepted + rejected)."""
+    """Every rejected and set-aside row is listed with its reason; per-file counts add up
+    (rows read = accepted + set aside + rejected)."""
     loaded = engine_view()[0]
     assert len(rejected_frame(session)) == len(loaded.rejected) > 0
     assert reason_counts(session)["rows"].sum() == len(loaded.rejected)
+    assert len(set_aside_frame(session)) == len(loaded.set_aside)
+    assert set_aside_counts(session)["rows"].sum() == len(loaded.set_aside)
+    assert not set_aside_frame(session)["reason"].str.startswith("not screened:").any()
     f = session.files
-    assert (f["rows_read"] == f["accepted"] + f["rejected"]).all()
+    assert (f["rows_read"] == f["accepted"] + f["set_aside"] + f["rejected"]).all()
 
 
 def _as_upload(text: str, name: str = "lab.csv") -> str:

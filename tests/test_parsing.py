@@ -66,16 +66,19 @@ def test_unusable_cells_are_rejected_with_reasons(tmp_path):
             "S1,A,2021-03-04,Lead,total,1\n")
     res = _load(tmp_path, body)
     reasons = res.rejected["reason"].tolist()
-    assert len(res.accepted) == 0 and len(reasons) == 8
+    assert len(reasons) == 6
     assert "is not a date" in reasons[0]
-    assert "not in the analyte registry" in reasons[1]
-    assert "mg/kg" in reasons[2]
-    assert "above the reported range" in reasons[3]
-    assert "without a detection limit" in reasons[4]
-    assert "negative" in reasons[5]
-    assert "fraction not given" in reasons[6]
-    assert "expected 9 fields" in reasons[7]
-    assert res.rejected["row"].tolist() == [2, 3, 4, 5, 6, 7, 8, 9]
+    assert "mg/kg" in reasons[1]
+    assert "without a detection limit" in reasons[2]
+    assert "negative" in reasons[3]
+    assert "fraction not given" in reasons[4]
+    assert "expected 9 fields" in reasons[5]
+    assert res.rejected["row"].tolist() == [2, 4, 6, 7, 8, 9]
+    # '>50' is kept as "at least 50 µg/L" (above the calibrated range), not thrown away (issue 11)
+    assert res.accepted["row"].tolist() == [5] and res.accepted["value_ug_L"].tolist() == [50.0]
+    assert res.accepted["qualifier_meaning"].astype(str).tolist() == ["above_range"]
+    # an analyte tracescreen does not screen is set aside (counted, listed), not an error in the file
+    assert res.set_aside["row"].tolist() == [3] and "not in the analyte registry" in res.set_aside["reason"].iloc[0]
 
 
 def test_decimal_comma_only_with_option(tmp_path):
@@ -136,15 +139,16 @@ ROW = st.tuples(st.sampled_from(["S1", "S2", ""]), st.sampled_from(["2021-01-05"
 @settings(max_examples=60, deadline=None)
 @given(rows=st.lists(ROW, min_size=1, max_size=40))
 def test_row_conservation(tmp_path_factory, rows):
-    """Property: rows read = accepted + rejected, and every rejected row has a reason (project rule)."""
+    """Property: rows read = accepted + set aside + rejected, and every row not accepted has a reason (project rule)."""
     d = tmp_path_factory.mktemp("prop")
     body = "".join(f"{s},X{i},{d_},{a},{f},\"{r}\",{u},{dl},{q}\n" for i, (s, d_, a, f, r, u, dl, q) in enumerate(rows))
     res = load_results([write_csv(d, HEAD + body)])
     read = int(res.files["rows_read"].sum()) + int(res.files["blank_rows"].sum())
     assert read == len(rows)
-    assert int(res.files["rows_read"].sum()) == len(res.accepted) + len(res.rejected)
-    assert (res.rejected["reason"].str.len() > 0).all()
-    assert sorted(res.accepted["row"].tolist() + res.rejected["row"].tolist()) == list(range(2, 2 + int(res.files["rows_read"].sum()))) or res.files["blank_rows"].sum() > 0
+    assert int(res.files["rows_read"].sum()) == len(res.accepted) + len(res.set_aside) + len(res.rejected)
+    assert (res.files["rows_read"] == res.files["accepted"] + res.files["set_aside"] + res.files["rejected"]).all()
+    assert (res.rejected["reason"].str.len() > 0).all() and (res.set_aside["reason"].str.len() > 0).all()
+    assert sorted(res.accepted["row"].tolist() + res.set_aside["row"].tolist() + res.rejected["row"].tolist()) == list(range(2, 2 + int(res.files["rows_read"].sum()))) or res.files["blank_rows"].sum() > 0
 
 
 def test_xlsx_with_title_rows_dates_and_numbers(tmp_path):

@@ -129,9 +129,25 @@ def test_detection_condition_not_detected_is_a_nondetect(tmp_path):
 def test_rejected_result_is_never_a_finding(tmp_path):
     """A lead result of 12 µg/L qualified R (unusable, NFG) must not appear as an exceedance."""
     loaded, out = _screen(tmp_path, "S1,A,2021-03-04,Lead,total,12,ug/L,,R\nS1,B,2021-03-05,Lead,total,12,ug/L,,J+\n")
-    assert len(loaded.rejected) == 1 and "rejected" in loaded.rejected["reason"].iloc[0]
+    assert len(loaded.rejected) == 0  # not an error in the file: set aside, with its reason, and counted
+    assert len(loaded.set_aside) == 1 and "unusable" in loaded.set_aside["reason"].iloc[0]
     assert list(out["sample_id"]) == ["B"] and out.iloc[0].status == "exceeds"
     assert out.iloc[0].qualifier_meaning == "estimated_high"  # bias kept for the report and retest flags
+
+
+def test_lab_qc_rows_are_set_aside_not_rejected(tmp_path):
+    """LCS and matrix-spike rows of a lab deliverable are not results for screening (sample_types.yaml, common practice)."""
+    loaded, out = _screen(tmp_path, "S1,A,2021-03-04,Lead,total,9.8,ug/L,LCS\nS1,B,2021-03-04,Lead,total,3,ug/L,N\n"
+                                    "S1,C,2021-03-04,Lead,total,25,ug/L,MS\n",
+                          head="site_id,sample_id,sampled_at,analyte,fraction,result,unit,sample_type")
+    assert list(out["sample_id"]) == ["B"] and len(loaded.rejected) == 0
+    assert len(loaded.set_aside) == 2 and loaded.set_aside["reason"].str.contains("laboratory QC sample").all()
+    assert int(loaded.files["set_aside"].sum()) == 2
+
+
+def test_analyte_outside_the_registry_is_set_aside(tmp_path):
+    loaded, out = _screen(tmp_path, "S1,A,2021-03-04,Nitrate,total,3,mg/L,,\n")
+    assert len(loaded.accepted) == 0 and len(loaded.rejected) == 0 and len(loaded.set_aside) == 1
 
 
 def test_duplicate_qualifier_stays_detected(tmp_path):
@@ -149,16 +165,22 @@ def test_real_wqp_narrowresult_file_reads_without_a_mapping():
     """
     raw = pd.read_csv(WQP, dtype=str, keep_default_na=False)
     loaded = load_results([WQP], LoadOptions(date_order="mdy"))
-    assert len(loaded.accepted) + len(loaded.rejected) == len(raw) == 50
+    assert len(loaded.accepted) + len(loaded.set_aside) + len(loaded.rejected) == len(raw) == 50
     nd_rows = set((np.flatnonzero(raw["ResultDetectionConditionText"] == "Not Detected") + 2).tolist())
     assert len(nd_rows) == 15
     acc = loaded.accepted
     assert not set(acc["row"]) & nd_rows  # no non-detect is screened as detected
     rej = loaded.rejected.set_index("row")
-    assert all("non-detect without a detection limit" in rej.loc[r, "reason"] for r in nd_rows)
-    # the R / Rejected row is not screened
+    nd_metal = [r for r in nd_rows if r in rej.index]
+    assert all("non-detect without a detection limit" in rej.loc[r, "reason"] for r in nd_metal)
+    assert len(nd_metal) >= 12
+    # the R / Rejected row and the analytes outside the registry (nutrients, bacteria, hardness
+    # for now) are set aside, not rejected: rejected.csv shows only what needs attention
+    aside = loaded.set_aside.set_index("row")
     r_row = int(np.flatnonzero(raw["MeasureQualifierCode"] == "R")[0]) + 2
-    assert "rejected" in rej.loc[r_row, "reason"]
+    assert "unusable" in aside.loc[r_row, "reason"]
+    assert {"Organic carbon", "Orthophosphate", "Escherichia coli"} <= set(aside["CharacteristicName"])
+    assert not set(aside.index) & set(rej.index) and not set(aside.index) & set(acc["row"])
     # fractions read from the WQX vocabulary: 'Filtered, field' is dissolved, 'Unfiltered, field' total
     frac = dict(zip(raw.index + 2, raw["ResultSampleFractionText"]))
     for row, f in zip(acc["row"], acc["fraction"].astype(str)):
@@ -166,3 +188,33 @@ def test_real_wqp_narrowresult_file_reads_without_a_mapping():
                      "Dissolved": "dissolved", "Total": "total"}[frac[row]]
     out = screen(acc, load_limits(LIMITS / "us_epa_npdwr_inorganics.yaml"))
     assert not (out["status"] == "exceeds").any()
+
+
+@pytest.mark.parametrize("cell,remark,status", [
+    (">50", "", "exceeds"),               # at least 50 µg/L against 10: a certain exceedance
+    (">5", "", "above_range_inconclusive"),  # at least 5 against 10: cannot decide
+    ("50", ">", "exceeds"),               # NWIS remark '>' "greater than" (usgs_remark_table)
+])
+def test_above_range_is_at_least_the_value(tmp_path, cell, remark, status):
+    """Issue 11: '>x' is kept as "at least x" (before: thrown away), exceeds when x > limit (logic of
+    the bound; common practice), undecided otherwise, and listed for dilution and reanalysis."""
+    from tracescreen.retest.listing import retest_list
+
+    loaded, out = _screen(tmp_path, f"S1,A,2021-03-04,Lead,total,{cell},ug/L,{remark},\n",
+                          head="site_id,sample_id,sampled_at,analyte,fraction,result,unit,remark_cd,qualifier")
+    assert len(loaded.rejected) == 0 and out.iloc[0].status == status
+    assert out.iloc[0].value_ug_L == float(cell.lstrip(">")) and "above_range" in out.iloc[0].qualifier_meaning
+    flags = retest_list(out)
+    assert "above_range" in set(flags["reason"])
+    assert "dilute and reanalyse" in flags.loc[flags["reason"] == "above_range", "suggested_action"].iloc[0]
+
+
+def test_exceedance_detail_states_the_qualifier_bias(tmp_path):
+    """NFG 2020: J+ estimated, biased high (an exceedance is weak); J- biased low (firm)."""
+    from tracescreen.retest.listing import retest_list
+
+    loaded, out = _screen(tmp_path, "S1,A,2021-03-04,Lead,total,12,ug/L,,J+\nS2,B,2021-03-04,Lead,total,12,ug/L,,J-\n")
+    flags = retest_list(out).set_index("site_id")
+    first = flags[flags["reason"] == "first_exceedance"]["detail"]
+    assert "biased high" in first["S1"] and "weak" in first["S1"]
+    assert "biased low" in first["S2"] and "firm" in first["S2"]

@@ -94,12 +94,14 @@ def test_replicates_compare_as_a_multiset(tmp_path, ws_dir):
 
 
 def test_rejected_rows_are_stored_with_reason_file_and_cells(tmp_path, ws_dir):
-    """Rows read = stored + rejected; each rejected row keeps its reason, file and original cells."""
+    """Rows read = stored + set aside + rejected; each row not stored keeps its reason, file and
+    original cells (an analyte outside the registry is set aside, not rejected)."""
     rows = lab_rows(16)
     rows.loc[3, "unit"] = "mg/kg"
     rows.loc[9, "analyte"] = "unobtainium"
     summary = _import(ws_dir, write_lab_csv(tmp_path / "a.csv", rows))
-    assert summary.total("rows_read") == 16 == summary.total("new") + summary.total("rejected")
+    assert summary.total("rows_read") == 16 == summary.total("new") + summary.total("set_aside") + summary.total("rejected")
+    assert (summary.total("set_aside"), summary.total("rejected")) == (1, 1)
     with open_workspace(ws_dir) as ws:
         rej = ws.rejected_rows()
     assert list(rej["row"]) == [5, 11] and set(rej["file"]) == {"a.csv"}

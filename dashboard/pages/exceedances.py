@@ -7,6 +7,7 @@ from dashboard.components import data_table, register_server_table, page_header,
 from dashboard.data import current_session
 from dashboard.palette import STATUS_COLOUR
 from dashboard.tables import (
+    ATTENTION_STATUSES,
     FilterError,
     exceedance_rows,
     query_table,
@@ -28,7 +29,7 @@ SHOWN = [("site_id", "Site"), ("sampled_at", "Sampled"), ("analyte", "Metal"), (
 _STATUS_STYLE = [
     {"if": {"filter_query": f'{{status}} = "{s}"', "column_id": "status"},
      "color": STATUS_COLOUR[s], "fontWeight": "600"}
-    for s in ("exceeds", "nondetect_inconclusive")
+    for s in ATTENTION_STATUSES
 ]
 
 
@@ -36,7 +37,8 @@ def layout(**_query):
     return html.Div([
         page_header("Exceedances", "Every site-sample result above a limit (exceeds) or that cannot "
                     "be decided because its detection limit is above the limit "
-                    "(nondetect_inconclusive), with the limit, the ratio result/limit and the "
+                    "(nondetect_inconclusive) or because it is reported above the calibrated range at "
+                    "a value at or below the limit (above_range_inconclusive), with the limit, the ratio result/limit and the "
                     "limit's source. Type in the row under the headers to filter (e.g. > 2 in "
                     "ratio); click a header to sort. Downloads hold the filtered, sorted rows."),
         status_legend(),

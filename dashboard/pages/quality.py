@@ -1,11 +1,12 @@
-"""Data quality: rows read, accepted and rejected per file; every rejected row with its reason."""
+"""Data quality: rows read, accepted, set aside and rejected per file; every row not accepted with
+its reason."""
 
 import dash
 from dash import Input, Output, callback, html
 
 from dashboard.components import data_table, register_server_table, page_header
 from dashboard.data import current_session
-from dashboard.quality import file_table, reason_table, rejected_frame
+from dashboard.quality import file_table, reason_table, rejected_frame, set_aside_frame, set_aside_table
 
 dash.register_page(__name__, path="/quality", name="Data quality", order=5,
                    title="tracescreen · data quality")
@@ -14,9 +15,10 @@ PAGE_SIZE = 20
 
 def layout(**_query):
     return html.Div([
-        page_header("Data quality", "Nothing is dropped silently: every row of every file is either "
-                    "accepted or listed here with the reason it could not be used (rows read = "
-                    "accepted + rejected)."),
+        page_header("Data quality", "Nothing is dropped silently: every row of every file is "
+                    "accepted, set aside (not a result to screen: laboratory QC, reference material, "
+                    "analytes tracescreen does not screen, results qualified unusable) or rejected "
+                    "with the reason it could not be used (rows read = accepted + set aside + rejected)."),
         html.H3("Rows per file"),
         html.Div(id="dq-files"),
         html.H3("Rejections by reason"),
@@ -25,17 +27,26 @@ def layout(**_query):
         html.Span(id="dq-count", className="count-text"),
         html.Div(id="dq-error", className="error", role="alert"),
         data_table("dq-table", ["file", "sheet", "row", "reason"], page_size=PAGE_SIZE),
+        html.H3("Set aside, not screened, by kind"),
+        html.Div(id="dq-aside-kinds"),
+        html.H3("Rows set aside"),
+        html.Span(id="dq-aside-count", className="count-text"),
+        html.Div(id="dq-aside-error", className="error", role="alert"),
+        data_table("dq-aside-table", ["file", "sheet", "row", "reason"], page_size=PAGE_SIZE),
     ])
 
 
 @callback(
     Output("dq-files", "children"), Output("dq-reasons", "children"), Output("dq-table", "columns"),
+    Output("dq-aside-kinds", "children"), Output("dq-aside-table", "columns"),
     Input("dataset-key", "data"),
 )
 def update_quality_summary(dataset_key):
     session = current_session(dataset_key)
-    frame = rejected_frame(session)
-    return file_table(session), reason_table(session), [{"name": c, "id": c} for c in frame.columns]
+    frame, aside = rejected_frame(session), set_aside_frame(session)
+    return (file_table(session), reason_table(session), [{"name": c, "id": c} for c in frame.columns],
+            set_aside_table(session), [{"name": c, "id": c} for c in aside.columns])
 
 
 register_server_table("dq", rejected_frame, PAGE_SIZE)
+register_server_table("dq-aside", set_aside_frame, PAGE_SIZE)

@@ -49,6 +49,7 @@ def run(args) -> int:
     written = {
         "screening": outputs.write_csv(screened, out / "screening.csv"),
         "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv"),
+        "not_screened": outputs.write_csv(loaded.set_aside, out / "not_screened.csv"),
         "inputs": outputs.write_csv(inputs.input_files, out / "inputs.csv"),
         "limits": outputs.write_csv(limit_tables_table(inputs.limits), out / "limit_tables.csv"),
     }
@@ -90,11 +91,13 @@ def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
 def print_summary(loaded, screened) -> None:
     f = loaded.files
     read, acc, rej = int(f["rows_read"].sum()), len(loaded.accepted), len(loaded.rejected)
-    print(f"Rows read: {read}  accepted: {acc}  rejected: {rej}" + (
+    aside = len(loaded.set_aside)
+    print(f"Rows read: {read}  accepted: {acc}  set aside (not screened): {aside}  rejected: {rej}" + (
         f"  (blank rows skipped: {int(f['blank_rows'].sum())})" if int(f["blank_rows"].sum()) else ""))
     for r in f.itertuples():
         where = r.file + (f" [{r.sheet}]" if r.sheet else "")
-        print(f"  {where}: {r.rows_read} read, {r.accepted} accepted, {r.rejected} rejected")
+        print(f"  {where}: {r.rows_read} read, {r.accepted} accepted, {getattr(r, 'set_aside', 0)} set aside, "
+              f"{r.rejected} rejected")
     counts = screened["status"].value_counts()
     print("Status (result x limit rows):")
     for s in STATUSES:

@@ -73,6 +73,35 @@ SAMPLE_TYPE_VOCAB = {
     "methodblank": "lab_blank", "mb": "lab_blank", "lb": "lab_blank",
 }
 
+#: Sample kinds of ``data/sample_types.yaml`` that are set aside (not results for screening), by
+#: kind; the kinds kept are the four above (equipment and trip blanks are judged as field blanks).
+SET_ASIDE_KINDS = {"lab_qc": "laboratory QC sample", "reference_material": "reference material",
+                   "field_measurement": "field measurement, not a laboratory result"}
+_KIND_AS = {"sample": "sample", "field_duplicate": "field_duplicate", "field_blank": "field_blank",
+            "lab_blank": "lab_blank", "equipment_blank": "field_blank", "trip_blank": "field_blank"}
+
+
+def _sample_types_from_data() -> dict[str, str]:
+    """WQX ActivityTypeCode values, NWIS sample_type_cd and lab codes of ``data/sample_types.yaml``:
+    normalised code -> canonical sample type, or ``set_aside:<kind>`` for rows not screened."""
+    from pathlib import Path
+
+    import yaml
+
+    from tracescreen._internal.yamlfiles import SAFE_LOADER
+
+    data = yaml.load((Path(__file__).resolve().parents[1] / "data" / "sample_types.yaml").read_text(encoding="utf-8"),
+                     Loader=SAFE_LOADER)
+    out: dict[str, str] = {}
+    for section in ("wqx_activity_type", "lab_codes", "nwis_sample_type"):
+        for e in data.get(section) or []:
+            kind = e.get("kind")
+            target = _KIND_AS.get(kind) or (f"set_aside:{kind}" if kind in SET_ASIDE_KINDS else None)
+            if target:
+                out.setdefault(re.sub(r"[\s_\-]+", "", str(e["code"]).strip().lower()), target)
+    return out
+
+
 DATE_ORDERS = ("iso", "dmy", "mdy")
 
 _DMY_FORMATS = ("%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y", "%d/%m/%y", "%d.%m.%y")
@@ -130,7 +159,8 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
     -------
     dict of numpy arrays
         ``value`` (float, NaN for non-detects), ``detected`` (bool), ``detection_limit`` (float),
-        ``error`` (object: None or a reason text for cells that cannot be used), ``meaning``
+        ``error`` (object: None or a reason text for cells that cannot be used), ``set_aside``
+        (object: None or why a usable cell is not a result to screen, e.g. qualifier R), ``meaning``
         (object: the qualifier meanings found, ``;``-joined, with ``unknown:CODE`` for codes in no
         vocabulary).
     """
@@ -177,8 +207,16 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
         dl[idx[lt_ok]] = np.where(np.isnan(dl_col[idx[lt_ok]]), lt_val[lt_ok], dl_col[idx[lt_ok]])
         detected[idx[lt_ok]] = False
 
+        # ">x": above the calibrated or reported range, kept as "at least x" (meaning above_range);
+        # screening decides exceeds when x is above the limit, else above_range_inconclusive
         gt_ok = gt.notna().to_numpy()
-        error[idx[gt_ok]] = ("result '" + sub[gt_ok] + "' is above the reported range and cannot be screened").to_numpy()
+        gt_val = pd.to_numeric(gt, errors="coerce").to_numpy(dtype=float)
+        value[idx[gt_ok]] = gt_val[gt_ok]
+        detected[idx[gt_ok]] = True
+        cur = meaning[idx[gt_ok]]
+        meaning[idx[gt_ok]] = np.where(cur == "", "above_range",
+                                       np.where(pd.Series(cur, dtype=object).str.contains("above_range", regex=False),
+                                                cur, cur + ";above_range"))
 
         # "0.5 U" / "1.2 J": number followed by qualifier letters
         nq_ok = numq[0].notna().to_numpy()
@@ -210,9 +248,10 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
     value[~detected] = np.nan
 
     rejected = qualifiers.has_meaning(meaning, {"rejected"}) & (error == None)  # noqa: E711 (object array)
-    error[rejected] = "rejected by the laboratory or data review (qualifier of an unusable result): not screened"
-    above = qualifiers.has_meaning(meaning, {"above_range"}) & detected & (error == None)  # noqa: E711
-    error[above] = "result is above the calibrated or reported range (qualifier) and cannot be screened"
+    set_aside = np.full(n, None, dtype=object)
+    set_aside[rejected] = "result qualified as unusable (rejected by the laboratory or data review)"
+    # a number qualified above the calibrated range (remark '>', 'Above Operating Range') is kept
+    # as "at least" that number, like ">x" (meaning above_range); screening decides
 
     nd_no_dl = ~detected & np.isnan(dl) & (error == None)  # noqa: E711 (object array)
     error[nd_no_dl] = "non-detect without a detection limit"
@@ -223,7 +262,8 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
     has_unknown = unknown_codes != ""
     unk = np.where(has_unknown, "unknown:" + pd.Series(unknown_codes, dtype=object).str.replace(";", ";unknown:", regex=False).to_numpy(dtype=object), "")
     meaning = np.where(has_unknown, np.where(meaning == "", unk, meaning + ";" + unk), meaning)
-    return {"value": value, "detected": detected, "detection_limit": dl, "error": error, "meaning": meaning}
+    return {"value": value, "detected": detected, "detection_limit": dl, "error": error, "meaning": meaning,
+            "set_aside": set_aside}
 
 
 def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:
@@ -297,3 +337,7 @@ def parse_uncertainty(text: pd.Series, value: np.ndarray, decimal_comma: bool = 
     out = np.where(is_pct, num / 100.0 * value, num)
     bad = ((s != "").to_numpy() & np.isnan(num)) | (num < 0)
     return out, bad
+
+
+for _k, _v in _sample_types_from_data().items():
+    SAMPLE_TYPE_VOCAB.setdefault(_k, _v)

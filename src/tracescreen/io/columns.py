@@ -34,6 +34,7 @@ OPTIONAL = (
     "qualifier",
     "remark_code",
     "detection_condition",
+    "result_status",
     "sample_type",
     "parent_sample_id",
     "lab",
@@ -68,6 +69,8 @@ HEADER_VARIANTS: dict[str, tuple[str, ...]] = {
     # USGS NWIS remark code column (remark_cd) and WQX ResultDetectionConditionText
     "remark_code": ("remarkcd", "remarkcode", "remark"),
     "detection_condition": ("resultdetectionconditiontext", "detectioncondition", "detectionconditiontext"),
+    # WQX ResultStatusIdentifier (Accepted, Final, Preliminary, Rejected, Validated ...)
+    "result_status": ("resultstatusidentifier", "resultstatus"),
     "sample_type": ("activitytypecode", "sampletypecd", "sampletype", "type", "qctype", "sampleclass", "qcsampletype"),
     "parent_sample_id": ("parentsampleid", "parentsample", "parent", "duplicateof", "parentid"),
     "lab": ("lab", "laboratory", "labname", "laboratoryname"),

@@ -80,12 +80,29 @@ class LoadOptions:
 
 @dataclass
 class LoadResult:
-    """Accepted rows, rejected rows with reasons, and one line per file read."""
+    """Accepted rows, rows set aside (not results for screening), rejected rows with reasons, and
+    one line per file read. Rows read = accepted + set aside + rejected."""
 
     accepted: pd.DataFrame
     rejected: pd.DataFrame
     files: pd.DataFrame
     warnings: list[str] = field(default_factory=list)
+    set_aside: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=["file", "sheet", "row", "reason"]))
+
+
+#: Reasons of rows set aside start with this (they are stored with the rejected rows of a
+#: workspace, so that its counts stay rows read = stored + rejected, and told apart by it).
+SET_ASIDE_PREFIX = "not screened: "
+
+
+def split_set_aside(rows: pd.DataFrame) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """(rejected, set aside) rows of a table of rows not accepted, told apart by their reason; the
+    reasons of the rows set aside are returned without :data:`SET_ASIDE_PREFIX`."""
+    aside = rows["reason"].astype(str).str.startswith(SET_ASIDE_PREFIX).to_numpy(dtype=bool) if len(rows) else \
+        np.zeros(0, dtype=bool)
+    out = rows[aside].reset_index(drop=True)
+    out["reason"] = out["reason"].astype(str).str.removeprefix(SET_ASIDE_PREFIX)
+    return rows[~aside].reset_index(drop=True), out
 
 
 # --------------------------------------------------------------------------------------------
@@ -332,6 +349,11 @@ def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
     reasons[mask] = joined + m
 
 
+def _vocab_equals(col: CodedText, word: str) -> np.ndarray:
+    """Per distinct value: does the text equal ``word`` (case and spaces ignored)?"""
+    return np.asarray(pd.Series(col.values, dtype=object).astype(str).str.strip().str.lower() == word, dtype=bool)
+
+
 def _quoted(col: CodedText, mask: np.ndarray, before: str, after: str) -> np.ndarray:
     """Messages ``before'text'after`` for the rows in ``mask`` (built only for those rows)."""
     return before + "'" + col.text_at(mask) + "'" + after
@@ -403,7 +425,8 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     conflict_name = name_code == 3
     _add(reasons, no_name & analyte_text.equals(""), "analyte is empty")
     unk = analyte_text.rows(v_no_name & (analyte_text.values != "")) & ~conflict_name
-    _add(reasons, unk, _quoted(analyte_text, unk, "analyte ", " is not in the analyte registry"))
+    aside = np.full(n, "", dtype=object)  # rows that are not results to screen (set aside, not rejected)
+    _add(aside, unk, _quoted(analyte_text, unk, "analyte ", " is not in the analyte registry (not screened by tracescreen)"))
     _add(reasons, conflict_name, "analyte name names both total and dissolved")
 
     frac_text = col("fraction")
@@ -438,12 +461,25 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     parsed = parsing.parse_results(at_first(res_text), at_first(qualifier), at_first(dl_text), opts.decimal_comma,
                                    remark=at_first(remark) if "remark_code" in found else None,
                                    condition=at_first(condition) if "detection_condition" in found else None)
+    pa_side = parsed["set_aside"]
+    has_aside = ~pd.isna(pa_side).astype(bool)
+    _add(aside, has_aside[combo], pa_side[combo[has_aside[combo]]])
+    status_text = col("result_status")
+    st_rej = status_text.rows(_vocab_equals(status_text, "rejected"))
+    _add(aside, st_rej, "result status 'Rejected' (unusable)")
     perr = parsed["error"]
     has_err = ~pd.isna(perr).astype(bool)
     _add(reasons, has_err[combo], perr[combo[has_err[combo]]])
 
     st_text = col("sample_type")
     v_sample_type, v_bad_st = parsing.parse_vocabulary(st_text.series(), parsing.SAMPLE_TYPE_VOCAB)
+    st_kind = pd.Series(v_sample_type, dtype=object).fillna("").astype(str)
+    st_aside = st_text.rows(st_kind.str.startswith("set_aside:").to_numpy(dtype=bool))
+    if st_aside.any():
+        kinds = st_text.rows(st_kind.str.removeprefix("set_aside:").map(
+            lambda k: parsing.SET_ASIDE_KINDS.get(k, k)).to_numpy(dtype=object))
+        _add(aside, st_aside, kinds[st_aside] + " (sample type '" + st_text.text_at(st_aside) + "')")
+    v_sample_type = np.where(st_kind.str.startswith("set_aside:").to_numpy(dtype=bool), "sample", v_sample_type)
     bad_st = st_text.rows(v_bad_st)
     _add(reasons, bad_st, _quoted(st_text, bad_st, "sample_type ", " is not sample, field_duplicate, "
                                                                    "field_blank or lab_blank"))
@@ -465,6 +501,8 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     bad_unc = v_bad_unc[combo]
     _add(reasons, bad_unc, _quoted(unc_text, bad_unc, "uncertainty ", " is not a number or a percentage"))
 
+    aside_mask = aside != ""
+    reasons = np.where(aside_mask, SET_ASIDE_PREFIX + aside.astype(str), reasons).astype(object)
     rejected_mask = reasons != ""
     ok = ~rejected_mask
     okc = combo[ok]
@@ -563,8 +601,12 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
             rejected.append(rej)
             files.append({"file": raw.file, "path": raw.path, "sheet": raw.sheet, "sha256": digest,
                           "header_row": raw.header_row, "rows_read": len(raw.cells),
-                          "accepted": len(acc), "rejected": len(rej), "blank_rows": raw.blank_rows})
+                          "accepted": len(acc), "set_aside": int(rej["reason"].astype(str)
+                                                                 .str.startswith(SET_ASIDE_PREFIX).sum()),
+                          "rejected": int((~rej["reason"].astype(str).str.startswith(SET_ASIDE_PREFIX)).sum()),
+                          "blank_rows": raw.blank_rows})
     acc = concat_accepted(accepted) if accepted else normalise_empty()
     rej = pd.concat(rejected, ignore_index=True) if rejected else pd.DataFrame(columns=["file", "sheet", "row", "reason"])
+    rej, aside = split_set_aside(rej)
     release_unused()  # the files' text is gone; give its memory back before screening allocates
-    return LoadResult(acc, rej, pd.DataFrame(files), warnings)
+    return LoadResult(acc, rej, pd.DataFrame(files), warnings, aside)

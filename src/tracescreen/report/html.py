@@ -17,21 +17,16 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.frames import plain_text
-from tracescreen import __version__
+from tracescreen import __version__, vocabulary
 from tracescreen.caution import CAUTION
 from tracescreen.retest.flags import format_date, format_number, site_samples
 from tracescreen.report.figures import analyte_figures, figure_divs, plotly_script
 
-STATUS_ORDER = ["exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit"]
+STATUS_ORDER = list(vocabulary.RANKED)
 """Statuses from worst to least concern (a result's status in the matrix is its worst)."""
 
-STATUS_TEXT = {
-    "exceeds": "exceeds",
-    "nondetect_inconclusive": "undecided (DL above limit)",
-    "meets": "meets",
-    "nondetect_meets": "non-detect, meets",
-    "no_limit": "no limit",
-}
+#: legend text: the status's glyph and label, as on the dashboard (tracescreen.vocabulary)
+STATUS_TEXT = {s: f"{vocabulary.GLYPH[s]} {vocabulary.LABEL[s]}" for s in vocabulary.STATUSES}
 
 SECTIONS = [
     ("scope", "Job and scope"),
@@ -240,7 +235,9 @@ def method_notes(data: ReportData) -> pd.DataFrame:
         ("statuses", "exceeds: detected and above the limit; meets: detected and at or below it; "
                      "nondetect_meets: not detected at a detection limit at or below the limit; "
                      "nondetect_inconclusive: not detected, but the detection limit is above the limit, so "
-                     "nothing is decided; no_limit: no applicable limit (see the note column). A non-detect "
+                     "nothing is decided; above_range_inconclusive: reported above the calibrated range "
+                     "(>x) with x at or below the limit, so nothing is decided (a >x with x above the "
+                     "limit exceeds); no_limit: no applicable limit (see the note column). A non-detect "
                      "is neither zero nor an exceedance."),
         ("status matrix", "Each cell gives the worst status of the site-sample results of that site, "
                           "analyte and fraction over all applicable limits, as k/n: k results of n with that "
@@ -263,7 +260,7 @@ def method_notes(data: ReportData) -> pd.DataFrame:
     if _named(data.trends, "test"):
         notes.append(("trends", "Trend test(s) used: " + _named(data.trends, "test") + ". A date where a trend "
                                 "line crosses a limit is an extrapolation, shown as an indication only."))
-    notes.append(("retest reasons", "first_exceedance, dl_too_high, near_limit, uncertainty_straddles_limit "
+    notes.append(("retest reasons", "first_exceedance, above_range (dilute and reanalyse), dl_too_high, near_limit, uncertainty_straddles_limit "
                                     "(Eurachem/CITAC guide on uncertainty in compliance assessment), "
                                     "history_outlier (modified z-score, Iglewicz & Hoaglin 1993), "
                                     "duplicate_disagrees, blank_contamination, dissolved_exceeds_total, "
@@ -388,15 +385,15 @@ def table_html(df: pd.DataFrame, table_id: str, cell_class: pd.DataFrame | None 
             f"<tbody>\n{body}</tbody></table></div>")
 
 
-_CSS = """
+_STATUS_CSS = "".join(f".{s}{{background:{vocabulary.TINT[s]}}}" for s in vocabulary.STATUSES)
+_CSS = _STATUS_CSS + """
 body{font-family:system-ui,-apple-system,"Segoe UI",sans-serif;margin:0 auto;max-width:1200px;padding:1rem 1.5rem;color:#1d2329}
 h1{font-size:1.6rem;margin:.3rem 0}h2{border-bottom:2px solid #d0d7de;padding-bottom:.2rem;margin-top:2.2rem}
 .caution{border:3px solid #9a3412;background:#fff7ed;padding:.8rem 1rem;font-size:1.05rem;margin:.8rem 0}
 nav a{margin-right:.9rem}table{border-collapse:collapse;font-size:.85rem;margin:.4rem 0}
 th,td{border:1px solid #d0d7de;padding:.2rem .45rem;text-align:left;vertical-align:top}
 th{background:#f3f4f6;position:sticky;top:0}.scroll{overflow:auto;max-height:34rem}
-.exceeds{background:#fecaca}.nondetect_inconclusive{background:#fde68a}.meets{background:#d1fae5}
-.nondetect_meets{background:#e0f2fe}.no_limit{background:#f3f4f6}.citation{margin:.2rem 0 .8rem 1rem}
+.citation{margin:.2rem 0 .8rem 1rem}
 td[data-col=note],td[data-col=detail],td[data-col=suggested_action],td[data-col=source],td[data-col=value]{min-width:24rem}
 .none{color:#57606a;font-style:italic}.legend span{padding:.1rem .4rem;margin-right:.4rem;border:1px solid #d0d7de}
 """

@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 
 from tracescreen.screening.decision import uncertainty_decision
+from tracescreen.vocabulary import REL_TOL
 
 RETEST_COLUMNS = [
     "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
@@ -28,7 +29,7 @@ RETEST_COLUMNS = [
 USED_COLUMNS = [
     "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch",
     "sample_type", "parent_sample_id", "detected", "value_ug_L", "detection_limit_ug_L", "uncertainty_ug_L",
-    "analysed_at", "status", "limit_ug_L", "limit_table", "use", "duration", "basis",
+    "analysed_at", "status", "limit_ug_L", "limit_table", "use", "duration", "basis", "qualifier_meaning",
 ]
 """Columns of the screening table that the flags and QC checks read."""
 
@@ -61,12 +62,15 @@ SUGGESTED_ACTIONS = {
     "dissolved_exceeds_total": (
         "Check filtration, preservation and sample labels; ask the laboratory to reanalyse both "
         "fractions."),
+    "above_range": (
+        "Above the calibrated range: ask the laboratory to dilute and reanalyse the sample (the "
+        "result is only a lower bound)."),
     "holding_time_exceeded": (
         "The result is outside its holding time: resample and analyse within the holding time."),
 }
 """Suggested action for each reason code (common practice)."""
 
-_RTOL = 1e-9  # relative tolerance for threshold comparisons (floating-point error of conversions)
+_RTOL = REL_TOL  # relative tolerance for threshold comparisons (floating-point error of conversions)
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -229,8 +233,54 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
                  "last exceedance on " + format_date(flagged["_prev_at"]) + ", beyond the look-back ("
                  + window + ")")), index=flagged.index)
     detail = ("first exceedance of this site and analyte: " + _ug(flagged["value_ug_L"])
-              + " > limit " + _ug(flagged["limit_ug_L"]) + " (" + _limit_label(flagged) + "); " + history)
+              + " > limit " + _ug(flagged["limit_ug_L"]) + " (" + _limit_label(flagged) + "); " + history
+              + bias_note(flagged))
     return retest_rows(flagged, "first_exceedance", detail)
+
+
+#: What a qualifier's bias says of an exceedance (NFG 2020: J+ estimated, biased high; J-
+#: estimated, biased low): a value biased high may really be lower (weak), one biased low is at
+#: least as high (firm); a lower bound (above the calibrated range) is certain.
+_BIAS_NOTES = (("estimated_high", "; exceeds, biased high (qualifier J+: weak, the true value may be lower)"),
+               ("estimated_low", "; exceeds, biased low (qualifier J-: firm, the true value may be higher)"),
+               ("above_range", "; reported above the calibrated range: the true value is at least this"))
+
+
+def bias_note(frame: pd.DataFrame) -> pd.Series:
+    """Text to add to an exceedance's detail for the bias its qualifiers state ("" if none)."""
+    if "qualifier_meaning" not in frame.columns:
+        return pd.Series("", index=frame.index)
+    from tracescreen.io.qualifiers import has_meaning
+
+    meaning = frame["qualifier_meaning"].fillna("").astype(str).to_numpy(dtype=object)
+    out = np.full(len(frame), "", dtype=object)
+    for key, text in _BIAS_NOTES:
+        out = np.where(has_meaning(meaning, {key}), out + text, out)
+    return pd.Series(out, index=frame.index, dtype=object)
+
+
+def above_range(screening: pd.DataFrame) -> pd.DataFrame:
+    """Site-sample results reported above the calibrated range (``>x``, remark ``>``, WQX
+    'Above Operating Range'): the value is only a lower bound, so the sample should be diluted
+    and reanalysed (common practice).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``above_range``; one per result.
+    """
+    site = site_samples(screening)
+    if "qualifier_meaning" not in site.columns or site.empty:
+        return empty_retest()
+    from tracescreen.io.qualifiers import has_meaning
+
+    hit = site[has_meaning(site["qualifier_meaning"].fillna("").astype(str).to_numpy(dtype=object), {"above_range"})]
+    if hit.empty:
+        return empty_retest()
+    hit = hit.drop_duplicates([c for c in RESULT_KEY if c in hit.columns] or None)
+    detail = ("reported above the calibrated range: at least " + _ug(hit["value_ug_L"])
+              + "; status " + hit["status"].astype(str))
+    return retest_rows(hit, "above_range", detail)
 
 
 def dl_too_high(screening: pd.DataFrame) -> pd.DataFrame:

@@ -15,7 +15,7 @@ from tracescreen.retest import qc
 from tracescreen._internal.frames import plain_text
 
 REASONS = (
-    "first_exceedance", "dl_too_high", "near_limit", "uncertainty_straddles_limit",
+    "first_exceedance", "above_range", "dl_too_high", "near_limit", "uncertainty_straddles_limit",
     "history_outlier", "duplicate_disagrees", "blank_contamination", "dissolved_exceeds_total",
     "holding_time_exceeded",
 )
@@ -112,6 +112,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     single = plain_text(flags.single_sample_rows(screening))  # what the four result flags look at
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(single, lookback=o.lookback),
+        "above_range": lambda: flags.above_range(single),
         "dl_too_high": lambda: flags.dl_too_high(single),
         "near_limit": lambda: flags.near_limit(single, fraction=o.near_limit_fraction),
         "uncertainty_straddles_limit": lambda: flags.uncertainty_straddles_limit(single),

@@ -5,26 +5,9 @@ table applies to every site when no sites file is given), the analyte and fracti
 and the entry is in force on the sampling date. Each (result, entry) pair gives one output row; a
 result with no applicable entry gives one row with status ``no_limit``.
 
-Statuses (in order of severity, :data:`STATUSES`):
-
-``exceeds``
-    detected and value > limit.
-``nondetect_inconclusive``
-    not detected, but the detection limit is above the limit: the result cannot decide; a lower
-    detection limit is needed. A non-detect is never an exceedance.
-``meets``
-    detected and value <= limit (a value equal to the limit meets it).
-``nondetect_meets``
-    not detected, with detection limit <= limit.
-``no_limit``
-    no applicable entry, or hardness unknown for a hardness-dependent entry (see ``note``).
-``qc_sample``
-    field blanks, lab blanks and field duplicates: quality-control samples, not screened as site
-    samples (the retest checks use them).
-
-Comparisons allow a relative tolerance of :data:`REL_TOL` so that unit conversion cannot turn an
-equal value into an exceedance through binary floating-point error (0.007 mg/L is
-7.000000000000001 µg/L in binary arithmetic).
+The statuses, their order of severity and the comparison tolerance are defined once, in
+:mod:`tracescreen.vocabulary` (``exceeds``, ``above_range_inconclusive``,
+``nondetect_inconclusive``, ``meets``, ``nondetect_meets``, ``no_limit``, ``qc_sample``).
 """
 
 from __future__ import annotations
@@ -39,9 +22,7 @@ from tracescreen.screening.hardness import sample_hardness
 from tracescreen._internal.memory import release_unused
 from tracescreen.io.sites import site_uses
 
-REL_TOL = 1e-9
-STATUSES = ("exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit", "qc_sample")
-STATUS_RANK = {s: i for i, s in enumerate(STATUSES)}
+from tracescreen.vocabulary import REL_TOL, STATUS_CODE as STATUS_RANK, STATUSES  # noqa: F401 (re-exported)
 
 SCREENING_COLUMNS = [
     "site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "unit", "value_ug_L",
@@ -52,7 +33,8 @@ SCREENING_COLUMNS = [
 ]
 
 
-def classify(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: float = REL_TOL) -> np.ndarray:
+def classify(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: float = REL_TOL,
+             above_range=None) -> np.ndarray:
     """Status of each result against one limit each (vectorised).
 
     Parameters
@@ -66,7 +48,7 @@ def classify(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: fl
     or ``no_limit`` where the limit is NaN.
     """
     return np.asarray(STATUSES, dtype=object)[status_codes(detected, value_ug_L, detection_limit_ug_L, limit_ug_L,
-                                                           rel_tol)]
+                                                           rel_tol, above_range)]
 
 
 def _codes(values: pd.Series, categories: pd.Index) -> np.ndarray:
@@ -167,7 +149,8 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
     dl = results["detection_limit_ug_L"].to_numpy(dtype=float)
-    status = status_codes(det[r_pos], val[r_pos], dl[r_pos], limit, rel_tol)
+    above = _above_range(results)
+    status = status_codes(det[r_pos], val[r_pos], dl[r_pos], limit, rel_tol, above[r_pos])
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = np.where(det[r_pos], val[r_pos], dl[r_pos]) / limit
 
@@ -253,16 +236,37 @@ def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int) -> pd.C
     return pd.Categorical.from_codes(inv2[inv], categories=cats)
 
 
-def status_codes(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: float = REL_TOL) -> np.ndarray:
-    """Like :func:`classify`, as positions in :data:`STATUSES` (int8)."""
+def status_codes(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol: float = REL_TOL,
+                 above_range=None) -> np.ndarray:
+    """Like :func:`classify`, as positions in :data:`STATUSES` (int8).
+
+    ``above_range`` (bool per result, optional) marks results reported above the calibrated range
+    (``>x``, value x): the true value is at least x, so x above the limit is a certain exceedance
+    and x at or below it cannot decide (``above_range_inconclusive``).
+    """
     det = np.asarray(detected, dtype=bool)
     lim = np.asarray(limit_ug_L, dtype=float)
     bound = lim * (1.0 + rel_tol)
     with np.errstate(invalid="ignore"):
         over = np.where(det, np.asarray(value_ug_L, float) > bound, np.asarray(detection_limit_ug_L, float) > bound)
-    code = np.where(det, np.where(over, 0, 2), np.where(over, 1, 3)).astype(np.int8)
-    code[np.isnan(lim)] = STATUS_RANK["no_limit"]
+    c = STATUS_RANK
+    code = np.where(det, np.where(over, c["exceeds"], c["meets"]),
+                    np.where(over, c["nondetect_inconclusive"], c["nondetect_meets"])).astype(np.int8)
+    if above_range is not None:
+        code[np.asarray(above_range, dtype=bool) & det & ~over] = c["above_range_inconclusive"]
+    code[np.isnan(lim)] = c["no_limit"]
     return code
+
+
+def _above_range(results: pd.DataFrame) -> np.ndarray:
+    """Results reported above the calibrated range (meaning ``above_range``, see io/qualifiers)."""
+    if "qualifier_meaning" not in results.columns:
+        return np.zeros(len(results), dtype=bool)
+    from tracescreen.io.qualifiers import has_meaning
+
+    codes, uniq = pd.factorize(results["qualifier_meaning"])  # per distinct text, not per row
+    hit = has_meaning(np.asarray(uniq, dtype=object).astype(str), {"above_range"})
+    return np.where(codes >= 0, hit[np.maximum(codes, 0)] if len(hit) else False, False)
 
 
 def take_column(col: pd.Series, positions: np.ndarray):

@@ -38,9 +38,7 @@ import pandas as pd
 from tracescreen.limits.schema import ROUNDING_CHOICES, check_significant_figures  # noqa: F401
 from tracescreen._internal.frames import replace_at
 
-#: Relative tolerance of "equal" (same as screening; binary floating point cannot make an equal
-#: value exceed).
-REL_TOL = 1e-9
+from tracescreen.vocabulary import REL_TOL  # relative tolerance of "equal", shared with screening
 
 UNCERTAINTY_DECISIONS = (
     "exceeds_beyond_uncertainty", "exceeds_within_uncertainty", "meets_within_uncertainty",

@@ -58,9 +58,10 @@ from tracescreen.limits.schema import (  # noqa: F401
 from tracescreen.io.units import clean_decimal
 from tracescreen.statistics.censored import kaplan_meier_grouped
 from tracescreen._internal.frames import replace_at
+from tracescreen.vocabulary import RANKED
 
-#: Statuses a period value can take, in the severity order of :data:`tracescreen.screening.compare.STATUSES`.
-STATUS_ORDER = ["exceeds", "nondetect_inconclusive", "meets", "nondetect_meets", "no_limit"]
+#: Statuses a period value can take, in the severity order of :data:`tracescreen.vocabulary.STATUSES`.
+STATUS_ORDER = list(RANKED)
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
 #: method name -> numpy.quantile method (None: the rule's own procedure)

@@ -34,6 +34,7 @@ class FileOutcome:
     revised: int = 0
     superseded: int = 0
     rejected: int = 0
+    set_aside: int = 0                  # not results to screen (lab QC, other analytes, unusable)
     note: str = ""
 
 
@@ -55,11 +56,12 @@ class ImportSummary:
             else:
                 out.append(f"{f.name}: {f.rows_read} rows read: {f.new} new, {f.unchanged} unchanged, "
                            f"{f.revised} revised (superseding {f.superseded} earlier), "
-                           f"{f.rejected} rejected")
+                           f"{f.set_aside} set aside (not screened), {f.rejected} rejected")
         if self.import_id is None:
             out.append("Nothing imported: the workspace is unchanged.")
         else:
             out.append(f"Import {self.import_id}: {self.total('rows_read')} rows read: "
                        f"{self.total('new')} new, {self.total('unchanged')} unchanged, "
-                       f"{self.total('revised')} revised, {self.total('rejected')} rejected")
+                       f"{self.total('revised')} revised, {self.total('set_aside')} set aside (not screened), "
+                       f"{self.total('rejected')} rejected")
         return out

@@ -1,6 +1,8 @@
 """The workspace's SQLite schema and format number (one place, read by the workspace and its check).
 
 The design (why SQLite in WAL mode, what each table holds) is in DEVELOPERS.md "The workspace".
+``rows_rejected`` counts every row not stored: rejected rows and rows set aside (not results to
+screen), told apart by their reason in table ``rejected`` (``loading.SET_ASIDE_PREFIX``).
 """
 
 SCHEMA_VERSION = 1

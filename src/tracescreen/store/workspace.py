@@ -303,7 +303,8 @@ class Workspace:
                 outcome, current, next_id = self._store_file(import_id, b, current, next_id, say)
                 outcomes.append(outcome)
             totals = [sum(getattr(o, a) for o in outcomes)
-                      for a in ("rows_read", "new", "unchanged", "revised", "superseded", "rejected")]
+                      for a in ("rows_read", "new", "unchanged", "revised", "superseded")]
+            totals.append(sum(o.rejected + o.set_aside for o in outcomes))  # rows not stored
             self.con.execute(
                 "UPDATE imports SET finished_at = ?, files = ?, rows_read = ?, rows_new = ?, "
                 "rows_unchanged = ?, rows_revised = ?, rows_superseded = ?, rows_rejected = ? "
@@ -336,11 +337,14 @@ class Workspace:
         ids = np.arange(next_id, next_id + table.num_rows, dtype=np.int64)
         o = FileOutcome(b.name, b.sha256, "stored", sum(s["rows_read"] for s in b.sheets),
                         int((status == "new").sum()), int((status == "unchanged").sum()),
-                        int((status == "revised").sum()), len(superseded), len(b.rejected))
+                        int((status == "revised").sum()), len(superseded))
+        if b.rejected is not None and len(b.rejected):
+            not_kept, aside = loading.split_set_aside(b.rejected)
+            o.rejected, o.set_aside = len(not_kept), len(aside)
         file_id = self.con.execute(
             "INSERT INTO files VALUES (NULL, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING file_id",
             (import_id, b.name, b.path, b.sha256, b.size_bytes, o.rows_read, o.new, o.unchanged,
-             o.revised, o.superseded, o.rejected, next_id, len(ids))).fetchone()[0]
+             o.revised, o.superseded, o.rejected + o.set_aside, next_id, len(ids))).fetchone()[0]
         self.con.executemany(
             "INSERT INTO sheets VALUES (:file_id, :sheet, :header_row, :header, :rows_read, "
             ":rows_accepted, :rows_rejected, :blank_rows)", [{"file_id": file_id, **s} for s in b.sheets])
@@ -500,12 +504,13 @@ class Workspace:
                 out.insert(3, "reason", "site '" + out["site_id"] + f"' is not in {sites_name}")
                 rejected = pd.concat([rejected, out], ignore_index=True)
                 acc = acc[~unknown].reset_index(drop=True)
-        for col, df in (("accepted", acc), ("rejected", rejected)):
+        rejected, set_aside = loading.split_set_aside(rejected)
+        for col, df in (("accepted", acc), ("set_aside", set_aside), ("rejected", rejected)):
             n = df.groupby(["file", "sheet"], observed=True).size()
             files[col] = [int(n.get((f, s), 0)) for f, s in zip(files["file"], files["sheet"])]
         warnings = [f"workspace {self.directory}: {len(acc)} current results from {len(files)} file "
                     f"sheets; {superseded} superseded results are kept in its history, not screened"]
-        return loading.LoadResult(acc, rejected, files, warnings)
+        return loading.LoadResult(acc, rejected, files, warnings, set_aside)
 
     def last_import_id(self) -> int | None:
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]
