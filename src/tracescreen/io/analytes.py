@@ -90,6 +90,13 @@ def _lookup() -> dict[str, str]:
     return table
 
 
+@functools.lru_cache(maxsize=1)
+def symbol_of() -> dict[str, str]:
+    """Canonical name -> element symbol (``chromium(vi)`` -> ``Cr``: a species is reported as its
+    element, e.g. NWIS "micrograms per liter as Cr")."""
+    return {a.name: re.sub(r"\(.*\)$", "", a.symbol) for a in registry()}
+
+
 def canonical_names() -> list[str]:
     """Canonical names of every registry analyte."""
     return [a.name for a in registry()]

@@ -241,6 +241,13 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
         other = unknown & ~is_blank
         error[idx[other]] = ("result '" + sub[other] + "' is not a number, '<x' or a non-detect code").to_numpy()
 
+    # A detected 0 is the "none found" convention of old records, not a measured zero: with a
+    # detection-limit column it is a non-detect at that limit; without one it is set aside (a
+    # non-detect whose limit is unknown cannot be screened). README, "Results of exactly 0".
+    zero = detected & (value == 0) & ~qual_u
+    qual_u |= zero & ~np.isnan(dl_col)
+    zero_no_dl = zero & np.isnan(dl_col)
+
     # A number with qualifier U: not detected at that number (or at the DL column if given)
     num_u = ~np.isnan(value) & qual_u
     dl[num_u] = np.where(np.isnan(dl_col[num_u]), value[num_u], dl_col[num_u])
@@ -250,10 +257,14 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
     rejected = qualifiers.has_meaning(meaning, {"rejected"}) & (error == None)  # noqa: E711 (object array)
     set_aside = np.full(n, None, dtype=object)
     set_aside[rejected] = "result qualified as unusable (rejected by the laboratory or data review)"
+    zero_aside = zero_no_dl & ~rejected & (error == None)  # noqa: E711 (object array)
+    set_aside[zero_aside] = ("result 0 reported as detected: the old 'none found' convention, a non-detect "
+                             "whose detection limit is not given")
+    value[zero_aside], detected[zero_aside] = np.nan, False
     # a number qualified above the calibrated range (remark '>', 'Above Operating Range') is kept
     # as "at least" that number, like ">x" (meaning above_range); screening decides
 
-    nd_no_dl = ~detected & np.isnan(dl) & (error == None)  # noqa: E711 (object array)
+    nd_no_dl = ~detected & np.isnan(dl) & (error == None) & ~zero_aside  # noqa: E711 (object array)
     error[nd_no_dl] = "non-detect without a detection limit"
     neg = (value < 0) | (dl < 0)
     error[neg & (error == None)] = "negative concentration or detection limit"  # noqa: E711
@@ -269,10 +280,15 @@ def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.S
 def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:
     """Parse distinct date strings; NaT where none of the allowed forms fits."""
     s = pd.Series(uniques.astype(str), index=uniques).str.strip()
+    # a time-zone name after a time ("10:30 EST", "10:30:00 UTC") is read, not applied: dates are
+    # kept in the local clock time the sample was taken in (README, "Dates and times")
+    s = s.str.replace(r"(\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?)\s+[A-Za-z]{1,5}$", r"\1", regex=True)
+    # so is a UTC offset ("2021-03-04T10:30:00-05:00" is 10:30 local time on 4 March)
+    s = s.str.replace(r"(\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?)\s*(?:Z|[+-]\d{2}:?\d{2})$", r"\1", regex=True)
     iso = pd.to_datetime(s, format="ISO8601", errors="coerce")
     if order == "iso":
         # ISO 8601 only: YYYY-MM-DD with optional time; reject "2020-13-01" and day-first text
-        looks_iso = s.str.match(r"^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?(Z|[+-]\d{2}:?\d{2})?$")
+        looks_iso = s.str.match(r"^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?$")
         out = iso.where(looks_iso.to_numpy())
     else:
         formats = _DMY_FORMATS if order == "dmy" else _MDY_FORMATS
@@ -284,8 +300,24 @@ def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:
                     break
                 out[missing] = pd.to_datetime(s[missing], format=f + t, errors="coerce")
     if getattr(out.dt, "tz", None) is not None:
-        out = out.dt.tz_convert("UTC").dt.tz_localize(None)
+        out = out.dt.tz_localize(None)
     return out
+
+
+def join_date_time(dates: pd.Series, times: pd.Series) -> pd.Series:
+    """A date cell and a time cell as one date-time text (per distinct pair, given as Series).
+
+    A date cell that is a spreadsheet date-time at midnight (``2021-03-04 00:00:00``) loses its
+    midnight; ``1330`` and ``13:30`` are both 13:30; an empty time leaves the date as it is.
+
+    >>> list(join_date_time(pd.Series(["2021-03-04 00:00:00", "05/23/2024", "2024-05-23"]),
+    ...                     pd.Series(["13:30:00", "1330", ""])))
+    ['2021-03-04 13:30:00', '05/23/2024 13:30', '2024-05-23']
+    """
+    d = dates.fillna("").astype(str).str.strip().str.replace(r"[ T]00:00(:00)?$", "", regex=True)
+    t = times.fillna("").astype(str).str.strip()
+    t = t.str.replace(r"^(\d{1,2})(\d{2})$", r"\1:\2", regex=True)
+    return pd.Series(np.where((t != "") & (d != ""), d + " " + t, d), index=dates.index, dtype=object)
 
 
 def parse_dates(text: pd.Series, order: str = "iso") -> tuple[np.ndarray, np.ndarray]:

@@ -42,6 +42,9 @@ OPTIONAL = (
     "analysed_at",
     "hardness_mg_L",
     "uncertainty",
+    "parameter_code",
+    "sampled_time",
+    "sampled_time_zone",
 )
 CANONICAL = REQUIRED + OPTIONAL
 
@@ -81,6 +84,15 @@ HEADER_VARIANTS: dict[str, tuple[str, ...]] = {
                       "hardnessmgcaco3l", "hardnessmglascaco3", "hardnesscaco3", "hardnessmglcaco3"),
     "uncertainty": ("uncertainty", "expandeduncertainty", "measurementuncertainty", "mu", "uncert",
                     "uncertaintyk2"),
+    # USGS parameter code: NWIS parm_cd, WQX USGSPCode (io/parameter_codes.py)
+    "parameter_code": ("parmcd", "usgspcode", "parametercd", "parametercode", "pcode"),
+    # time of sampling beside a date column: WQX ActivityStartTime/Time, NWIS sample_tm
+    "sampled_time": ("activitystarttimetime", "sampletm", "sampletime", "timesampled", "samplingtime",
+                     "collectiontime", "timecollected"),
+    # its time zone (WQX ActivityStartTime/TimeZoneCode, NWIS tz_cd / sample_start_time_datum_cd):
+    # read, not applied; dates are kept in the local clock time as reported (README)
+    "sampled_time_zone": ("activitystarttimetimezonecode", "tzcd", "samplestarttimedatumcd", "timezone",
+                          "timezonecode"),
 }
 
 

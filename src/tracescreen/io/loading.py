@@ -15,6 +15,7 @@ Problems with a whole file (missing, unreadable, not UTF-8, no recognisable colu
 from __future__ import annotations
 
 import csv
+import datetime as dt
 import hashlib
 import io
 import zipfile
@@ -29,7 +30,7 @@ from pandas.api.types import union_categoricals
 
 from tracescreen.io import analytes
 from tracescreen.io import cells as parsing
-from tracescreen.io import units
+from tracescreen.io import hardness_rows, parameter_codes, units
 from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
 from tracescreen.io.columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
 from tracescreen._internal.memory import release_unused
@@ -64,6 +65,7 @@ class RawTable:
     cells: pd.DataFrame            # original headers, all text ("" for empty)
     rows: np.ndarray               # 1-based row number in the file of each row of ``cells``
     blank_rows: int = 0
+    notes: list[str] = field(default_factory=list)  # what the reader skipped (workbook sheets)
 
 
 @dataclass
@@ -240,12 +242,18 @@ def _read_csv_exact(text: str, delim: str, h: int, headers: list[str]):
 
 
 def _cell_text(v) -> str:
+    """Text of a workbook cell: Excel date, date-time, time and duration cells in ISO form."""
     if v is None:
         return ""
     if isinstance(v, float) and v.is_integer() and abs(v) < 1e15:
         return str(int(v))
-    if hasattr(v, "isoformat"):
-        return v.isoformat(sep=" ") if hasattr(v, "hour") else v.isoformat()
+    if isinstance(v, dt.datetime):
+        return v.isoformat(sep=" ")
+    if isinstance(v, (dt.date, dt.time)):
+        return v.isoformat()
+    if isinstance(v, dt.timedelta):  # a time cell past 24 h, or a duration: as hh:mm:ss
+        secs = int(round(v.total_seconds()))
+        return f"{secs // 3600:02d}:{secs % 3600 // 60:02d}:{secs % 60:02d}"
     return str(v).strip()
 
 
@@ -270,12 +278,13 @@ def _read_xlsx(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
         records = [[_cell_text(v) for v in r] for r in wb[sheet].iter_rows(values_only=True)]
         try:
             h = _find_header(records, f"{name} [{sheet}]", opts.column_map)
-        except LoadError:
+            headers = _unique_headers(records[h])
+            _check_required(headers, f"{name} [{sheet}]", opts)
+        except LoadError as exc:
             if opts.sheet:
                 raise
-            skipped.append(sheet)
+            skipped.append(f"{name}: sheet '{sheet}' skipped: {str(exc).split(': ', 1)[-1]}")
             continue
-        headers = _unique_headers(records[h])
         n = len(headers)
         body = [(r + [""] * n)[:n] for r in records[h + 1:]]
         extra_cells = [any(x for x in r[n:]) for r in records[h + 1:]]
@@ -289,7 +298,23 @@ def _read_xlsx(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
     wb.close()
     if not out:
         raise LoadError(f"{name}: no sheet has recognisable columns (sheets: {', '.join(names)})")
+    out[0].notes.extend(skipped)
     return out, digest
+
+
+def _check_required(headers: list[str], where: str, opts: LoadOptions) -> None:
+    """LoadError naming the required columns a header row lacks (mapped defaults and parameter
+    codes count)."""
+    found = recognise_columns(headers, opts.column_map)
+    if "parameter_code" in found:
+        found = {**found, "analyte": "", "unit": ""}
+    if {"site_id", "sampled_at"} <= set(found):
+        found = {**found, "sample_id": ""}  # identified by site and time (see normalise)
+    defaults = opts.column_map.defaults if opts.column_map and mapping_applies(headers, opts.column_map) else {}
+    missing = [c for c in REQUIRED if c not in found and c not in defaults]
+    if missing:
+        raise LoadError(f"{where}: required column(s) {', '.join(missing)} not found (headers: "
+                        f"{', '.join(map(str, headers[:12]))}); give a column mapping with --columns")
 
 
 def _finish(name, path, sheet, header_row, cells, rows) -> RawTable:
@@ -349,6 +374,14 @@ def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
     reasons[mask] = joined + m
 
 
+def _joined(a: CodedText, b: CodedText, join) -> CodedText:
+    """Two text columns joined into one by ``join`` (called once per distinct pair)."""
+    pair, first = joint_codes(a.codes, b.codes)
+    text = join(pd.Series(a.values.take(a.codes[first]), dtype=object),
+                pd.Series(b.values.take(b.codes[first]), dtype=object))
+    return CodedText.from_series(pd.Series(text.to_numpy(dtype=object)[pair], dtype=object))
+
+
 def _vocab_equals(col: CodedText, word: str) -> np.ndarray:
     """Per distinct value: does the text equal ``word`` (case and spaces ignored)?"""
     return np.asarray(pd.Series(col.values, dtype=object).astype(str).str.strip().str.lower() == word, dtype=bool)
@@ -380,9 +413,15 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     cells = raw.cells
     n = len(cells)
     found = recognise_columns(list(cells.columns), opts.column_map)
+    cells, found = parameter_codes.fill_from_codes(cells, found)  # NWIS parm_cd / WQX USGSPCode
     defaults = opts.column_map.defaults if opts.column_map and mapping_applies(cells.columns, opts.column_map) else {}
-    missing = [c for c in REQUIRED if c not in found and c not in defaults]
     where = f"{raw.file}" + (f" [{raw.sheet}]" if raw.sheet else "")
+    no_sample_id = "sample_id" not in found and "sample_id" not in defaults
+    if no_sample_id and {"site_id", "sampled_at"} <= set(found):  # NWIS: a sample is a site and a time
+        found = {**found, "sample_id": found["site_id"]}
+        raw.notes.append(f"{where}: no sample id column: each sample is identified by its site and "
+                         "sampling date and time")
+    missing = [c for c in REQUIRED if c not in found and c not in defaults]
     if missing:
         raise LoadError(
             f"{where}: required column(s) {', '.join(missing)} not found (headers: "
@@ -402,6 +441,9 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         _add(reasons, fc != "", fc[fc != ""])
 
     site, sample = col("site_id"), col("sample_id")
+    if no_sample_id:
+        sample = _joined(site, _joined(col("sampled_at"), col("sampled_time"), parsing.join_date_time),
+                         lambda a, b: a + " " + b)
     _add(reasons, site.equals(""), "site_id is empty")
     _add(reasons, sample.equals(""), "sample_id is empty")
     if site_ids is not None:
@@ -409,6 +451,8 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         _add(reasons, unknown_site, _quoted(site, unknown_site, "site ", f" is not in {sites_name}"))
 
     sampled_text = col("sampled_at")
+    if "sampled_time" in found:  # a date column and a time column (WQX, NWIS): one date-time
+        sampled_text = _joined(sampled_text, col("sampled_time"), parsing.join_date_time)
     dates, bad = parsing.parse_dates(sampled_text.series(), opts.date_order)
     sampled_at, bad_date = sampled_text.rows(dates), sampled_text.rows(bad)
     _add(reasons, sampled_text.equals(""), "sampled_at is empty")
@@ -424,9 +468,11 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     name_code = analyte_text.rows(_fraction_codes(name_fraction))
     conflict_name = name_code == 3
     _add(reasons, no_name & analyte_text.equals(""), "analyte is empty")
-    unk = analyte_text.rows(v_no_name & (analyte_text.values != "")) & ~conflict_name
+    is_hardness = analyte_text.rows(hardness_rows.is_hardness_name(analyte_text.series()))
+    unk = analyte_text.rows(v_no_name & (analyte_text.values != "")) & ~conflict_name & ~is_hardness
     aside = np.full(n, "", dtype=object)  # rows that are not results to screen (set aside, not rejected)
     _add(aside, unk, _quoted(analyte_text, unk, "analyte ", " is not in the analyte registry (not screened by tracescreen)"))
+    _add(aside, is_hardness, "hardness result: used as the hardness of the sample's metal results")
     _add(reasons, conflict_name, "analyte name names both total and dissolved")
 
     frac_text = col("fraction")
@@ -443,11 +489,19 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
          "fraction not given (no fraction column value, none in the analyte name; use --default-fraction to set one)")
 
     unit_text = col("unit")
-    v_factor = units.factors_for(unit_text.series())
+    v_unit_plain, v_species = units.split_species(unit_text.series())  # "ug/L as Cr" -> ug/L, Cr
+    v_factor = units.factors_for(v_unit_plain)
     bad_unit = unit_text.rows(np.isnan(v_factor))
     _add(reasons, bad_unit & unit_text.equals(""), "unit is empty")
     bu = bad_unit & ~unit_text.equals("")
     _add(reasons, bu, _quoted(unit_text, bu, "unit ", " is not a concentration unit tracescreen knows"))
+    species = unit_text.rows(v_species.to_numpy(dtype=object))
+    symbol = analyte_text.rows(np.asarray(pd.Series(names, dtype=object).map(analytes.symbol_of()).fillna(""),
+                                          dtype=object))
+    wrong_sp = (species != "") & ~is_hardness & ~v_no_name[analyte_text.codes] & \
+        (pd.Series(species, dtype=object).str.lower().to_numpy() != pd.Series(symbol, dtype=object).str.lower().to_numpy())
+    _add(reasons, wrong_sp, _quoted(unit_text, wrong_sp, "unit ", " states a species other than the element "
+                                                                  "(a molar-mass conversion is not guessed)"))
 
     # a result, its qualifier, detection limit, uncertainty and unit: parsed once per combination
     qualifier, res_text, dl_text, unc_text = col("qualifier"), col("result"), col("detection_limit"), col("uncertainty")
@@ -496,6 +550,14 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     v_hardness = parsing.to_number(hard_text.series(), opts.decimal_comma).to_numpy()
     bad_h = hard_text.rows(((hard_text.values != "") & np.isnan(v_hardness)) | (v_hardness < 0))
     _add(reasons, bad_h, _quoted(hard_text, bad_h, "hardness ", " is not a non-negative number"))
+    row_hardness = hard_text.rows(v_hardness)
+    if is_hardness.any():  # hardness result rows [mg/L as CaCO3] -> hardness of the same sample
+        ok_h = is_hardness & parsed["detected"][combo] & pd.isna(parsed["error"][combo]).astype(bool) \
+            & ~np.isnan(v_factor[unit_text.codes]) & np.isin(species, ["", "CaCO3", "caco3"])
+        h_mg_L = parsed["value"][combo] * v_factor[unit_text.codes] / 1000.0
+        sample_code, _ = joint_codes(site.codes, sample.codes)
+        from_rows = hardness_rows.hardness_of_samples(sample_code, ok_h, h_mg_L)
+        row_hardness = np.where(np.isnan(row_hardness), from_rows, row_hardness)
 
     unc, v_bad_unc = parsing.parse_uncertainty(at_first(unc_text), parsed["value"], opts.decimal_comma)
     bad_unc = v_bad_unc[combo]
@@ -529,11 +591,12 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "lab": col("lab").categorical(ok),
         "batch": col("batch").categorical(ok),
         "analysed_at": an_text.rows(an_dates)[ok],
-        "hardness_mg_L": hard_text.rows(v_hardness)[ok],
+        "hardness_mg_L": row_hardness[ok],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
         "qualifier_meaning": pd.Categorical(parsed["meaning"][okc].astype(str)),
     })
-    rej_cells = cells.loc[rejected_mask].drop(columns=["__field_count_error__"], errors="ignore")
+    rej_cells = cells.loc[rejected_mask]
+    rej_cells = rej_cells.drop(columns=[c for c in rej_cells.columns if str(c).startswith("__")])
     rej = pd.concat([
         pd.DataFrame({"file": raw.file, "sheet": raw.sheet, "row": raw.rows[rejected_mask],
                       "reason": reasons[rejected_mask].astype(str)}),
@@ -597,6 +660,7 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
         raws, digest = read_raw(path, opts)
         for raw in raws:
             acc, rej = normalise(raw, opts, site_ids, sites_name)
+            warnings.extend(raw.notes)
             accepted.append(acc)
             rejected.append(rej)
             files.append({"file": raw.file, "path": raw.path, "sheet": raw.sheet, "sha256": digest,

@@ -8,6 +8,12 @@ density is taken as 1 kg/L: ppm = mg/L, ppb = µg/L, ppt = ng/L (parts per *tril
 thousand). This is the usual convention for trace metals in fresh water; it does not hold for
 brines or sea water reported on a mass basis.
 
+A unit may name the species the value is expressed as: ``ug/L as Cr``, ``mg/l as N``,
+``mg/L as CaCO3``, ``mg/l CaCO3`` (USGS NWIS and WQX write units so). :func:`split_species`
+separates the two; the loader accepts a metal's own element symbol (``ug/L as Cr`` for chromium)
+and CaCO3 for hardness, and rejects any other species (a result "as CrO4" would need a molar-mass
+conversion that is not guessed).
+
 References
 ----------
 .. [1] Bureau International des Poids et Mesures (2019). The International System of Units (SI),
@@ -29,6 +35,29 @@ TARGET_UNIT = "microgram / liter"
 PARTS_PER = {"ppm": "mg/L", "ppb": "ug/L", "ppt": "ng/L"}
 
 _MICRO = ("\u00b5", "\u03bc")  # MICRO SIGN and GREEK SMALL LETTER MU: both seen in lab files
+
+
+_SPECIES_RE = re.compile(r"^\s*(?P<unit>.*?\S)\s*(?:\bas\s+(?P<sp>[A-Za-z][A-Za-z0-9()]*)|\s(?P<caco3>CaCO3))\s*$",
+                         re.IGNORECASE)
+
+
+def split_species(units: pd.Series) -> tuple[pd.Series, pd.Series]:
+    """Unit text without its species suffix, and the species ("" if none), per distinct value.
+
+    >>> u, sp = split_species(pd.Series(["ug/L as Cr", "mg/l CaCO3", "mg/L"]))
+    >>> list(u), list(sp)
+    (['ug/L', 'mg/l', 'mg/L'], ['Cr', 'CaCO3', ''])
+    """
+    s = units.fillna("").astype(str)
+    codes, uniq = pd.factorize(s)
+    m = pd.Series(np.asarray(uniq, dtype=object), dtype=object).str.extract(_SPECIES_RE)
+    has = m["unit"].notna().to_numpy()
+    unit = np.where(has, m["unit"].fillna("").to_numpy(dtype=object), np.asarray(uniq, dtype=object))
+    sp = np.where(has, m["sp"].fillna(m["caco3"]).fillna("").to_numpy(dtype=object), "")
+    if not len(uniq):
+        return s.copy(), pd.Series("", index=s.index, dtype=object)
+    return (pd.Series(unit[codes], index=s.index, dtype=object),
+            pd.Series(sp[codes], index=s.index, dtype=object))
 
 
 @functools.lru_cache(maxsize=1)
