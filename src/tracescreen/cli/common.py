@@ -31,6 +31,10 @@ def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) 
                    help="limit table (YAML) or folder of tables; repeat for several")
     p.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
                    "hardness_mg_L); without it every table applies to every site")
+    p.add_argument("--same-fraction-only", dest="cross_fraction", action="store_false",
+                   help="compare results only with limits of their own fraction; by default a dissolved result "
+                        "above a total limit exceeds it and a total result within a dissolved criterion meets it "
+                        "(total >= dissolved), when the sample has no result of the limit's fraction")
     add_reading_options(p)
     p.set_defaults(results_required=results_required)
 

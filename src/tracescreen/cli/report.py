@@ -38,7 +38,7 @@ def run(args) -> int:
     inputs = load_inputs(args)
     if inputs.sites is None:
         warn("no --sites file: every limit table applies to every site")
-    screened = screen(inputs.loaded.accepted, inputs.limits, inputs.sites)
+    screened = screen(inputs.loaded.accepted, inputs.limits, inputs.sites, cross_fraction=args.cross_fraction)
     site_ids = None
     if args.site:
         known = set(screened["site_id"])

@@ -40,7 +40,7 @@ def run(args) -> int:
     if inputs.sites is None:
         warn("no --sites file: every limit table applies to every site")
     loaded = inputs.loaded
-    screened = screen(loaded.accepted, inputs.limits, inputs.sites)
+    screened = screen(loaded.accepted, inputs.limits, inputs.sites, cross_fraction=args.cross_fraction)
     if args.guard_band is not None:
         if not args.guard_band >= 0:
             raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")

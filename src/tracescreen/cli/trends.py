@@ -104,7 +104,7 @@ def run(args) -> int:
     if sites is None:
         warn("no --sites file: every limit table applies to every site")
     loaded = results_from_args(args, sites)
-    table = _trends(args, loaded.accepted, screen(loaded.accepted, limits, sites))
+    table = _trends(args, loaded.accepted, screen(loaded.accepted, limits, sites, cross_fraction=args.cross_fraction))
     out = Path(args.out)
     paths = {"trends": outputs.write_csv(table, out / "trends.csv"),
              "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv")}

@@ -15,7 +15,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen.screening import decision
+from tracescreen.screening import decision, fractions
 from tracescreen.screening import periods
 from tracescreen.limits import load as limits_mod
 from tracescreen.screening.hardness import sample_hardness
@@ -29,7 +29,7 @@ SCREENING_COLUMNS = [
     "detected", "detection_limit_ug_L", "qualifier", "qualifier_meaning", "sample_type", "hardness_used_mg_L",
     "hardness_origin", "limit_table", "use", "duration", "basis", "limit_ug_L", "ratio", "status",
     "source", "note", "entry_id", "lab", "batch", "parent_sample_id", "analysed_at", "uncertainty_ug_L",
-    "file", "sheet", "row", "compared_value_ug_L", "period_id", "period_value_ug_L",
+    "file", "sheet", "row", "compared_value_ug_L", "period_id", "period_value_ug_L", "limit_fraction",
 ]
 
 
@@ -95,7 +95,7 @@ def applicable_pairs(results: pd.DataFrame, limits: limits_mod.LimitSet,
 
 
 def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFrame | None = None,
-           rel_tol: float = REL_TOL) -> pd.DataFrame:
+           rel_tol: float = REL_TOL, cross_fraction: bool = True) -> pd.DataFrame:
     """Screen accepted results against limit tables.
 
     Parameters
@@ -109,6 +109,10 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         site.
     rel_tol : float
         Relative tolerance of the comparison (default :data:`REL_TOL`).
+    cross_fraction : bool
+        Decide across fractions where that is certain (a dissolved result above a total limit
+        exceeds it; a total result within a dissolved criterion meets it; see
+        :mod:`tracescreen.screening.fractions`). Default True.
 
     Returns
     -------
@@ -121,36 +125,50 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     n = len(results)
     hard = sample_hardness(results, sites)
     qc = (results["sample_type"] != "sample").to_numpy()
-    r_pos, e_pos = applicable_pairs(results, limits, sites)
-    keep = ~qc[r_pos]
-    r_pos, e_pos = r_pos[keep], e_pos[keep]
-    had_candidate = np.zeros(n, dtype=bool)
-    had_candidate[r_pos] = True
-
     entries = limits.entries
+    r_pos, e_pos = applicable_pairs(results, limits, sites)
+    cross = np.zeros(len(r_pos), dtype=bool)
+    if cross_fraction:
+        r_x, e_x = applicable_pairs(fractions.swapped(results), limits, sites)
+        keep_x = fractions.lacks_other_fraction(results)[r_x] & \
+            (entries["basis"].astype(str).to_numpy(dtype=object)[e_x] == "single_sample")
+        r_x, e_x = r_x[keep_x], e_x[keep_x]
+        r_pos, e_pos = np.concatenate([r_pos, r_x]), np.concatenate([e_pos, e_x])
+        cross = np.concatenate([cross, np.ones(len(r_x), dtype=bool)])
+    keep = ~qc[r_pos]
+    r_pos, e_pos, cross = r_pos[keep], e_pos[keep], cross[keep]
+    had_candidate = np.zeros(n, dtype=bool)
+    had_candidate[r_pos[~cross]] = True
+
     num = entries[NUMERIC_ENTRY_COLUMNS]  # only numbers are taken per pair; text is coded below
     day = _days(results["sampled_at"])[r_pos]
     lo = _days(entries["effective_from"])[e_pos]
     hi = _days(entries["effective_to"])[e_pos]
     in_force = ((lo == _NAT_DAY) | (day >= lo)) & ((hi == _NAT_DAY) | (day <= hi))
-    r_pos, e_pos = r_pos[in_force], e_pos[in_force]
-
-    covered = np.zeros(n, dtype=bool)
-    covered[r_pos] = True
-    lone = np.flatnonzero(~covered)
+    r_pos, e_pos, cross = r_pos[in_force], e_pos[in_force], cross[in_force]
 
     H = hard["hardness_used_mg_L"].to_numpy()[r_pos]
     limit = num["value_ug_L"].to_numpy(dtype=float)[e_pos]
     formula = limits_mod.is_formula(num)[e_pos]
     fi = np.flatnonzero(formula)  # hardness-dependent pairs: the formula is evaluated for these only
-    ent = num.iloc[e_pos[fi]]
-    limit[fi] = limits_mod.evaluate(ent, H[fi])
+    limit[fi] = limits_mod.evaluate(num.iloc[e_pos[fi]], H[fi])
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
     dl = results["detection_limit_ug_L"].to_numpy(dtype=float)
     above = _above_range(results)
     status = status_codes(det[r_pos], val[r_pos], dl[r_pos], limit, rel_tol, above[r_pos])
+    if cross.any():  # cross-fraction pairs stay only where they decide (screening/fractions.py)
+        e_frac = entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos]
+        stay = ~cross | fractions.deciding(status, e_frac)
+        r_pos, e_pos, cross, H, limit, status = (a[stay] for a in (r_pos, e_pos, cross, H, limit, status))
+        formula = limits_mod.is_formula(num)[e_pos]
+        fi = np.flatnonzero(formula)
+    ent = num.iloc[e_pos[fi]]
+
+    covered = np.zeros(n, dtype=bool)
+    covered[r_pos] = True
+    lone = np.flatnonzero(~covered)
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = np.where(det[r_pos], val[r_pos], dl[r_pos]) / limit
 
@@ -164,7 +182,7 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
                          np.where(had_candidate[lone], 0, 1))
-    note_key = np.concatenate([e_pos * len(HARDNESS_REMARKS) + remark, -1 - lone_kind])
+    note_key = np.concatenate([(e_pos * len(HARDNESS_REMARKS) + remark) * 2 + cross, -1 - lone_kind])
 
     rp = np.concatenate([r_pos, lone])
     order = np.argsort(rp, kind="stable")  # back to input order; a result's entries stay in table order
@@ -186,7 +204,9 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     lone_status = np.where(qc[lone], STATUS_RANK["qc_sample"], STATUS_RANK["no_limit"])
     cols["status"] = pd.Categorical.from_codes(np.concatenate([status, lone_status])[order].astype(np.int8),
                                                categories=list(STATUSES))
-    cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds)
+    cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds,
+                          entries["fraction"].astype(str).to_numpy(dtype=object))
+    cols["limit_fraction"] = entry_attribute(entries["fraction"], e_all)
     cols["compared_value_ug_L"] = np.full(len(rp), np.nan)
     cols["period_id"] = pd.arrays.IntegerArray(np.zeros(len(rp), dtype=np.int64),  # periods.py fills period rows
                                                np.ones(len(rp), dtype=bool))
@@ -219,8 +239,9 @@ def _days(dates: pd.Series) -> np.ndarray:
     return np.where(ns == _NAT_DAY, _NAT_DAY, np.floor_divide(ns, 86_400_000_000_000))
 
 
-def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int) -> pd.Categorical:
-    """Note text per row from its key (entry x hardness remark, or a no-limit / QC kind), built per distinct key."""
+def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray) -> pd.Categorical:
+    """Note text per row from its key (entry x hardness remark x cross-fraction, or a no-limit /
+    QC kind), built per distinct key."""
     inv, uniq = pd.factorize(keys)
     text = []
     for k in uniq:  # a handful of distinct keys, not rows
@@ -229,8 +250,10 @@ def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int) -> pd.C
             text.append(LONE_NOTES[kind] if kind < 2 else
                         f"{QC_NOTES[kind - 2]}: quality-control sample, not screened against limits")
             continue
-        e, r = divmod(int(k), len(HARDNESS_REMARKS))
-        parts = [p for p in (HARDNESS_REMARKS[r], entry_notes[e]) if p]
+        e_r, x = divmod(int(k), 2)
+        e, r = divmod(e_r, len(HARDNESS_REMARKS))
+        parts = [p for p in (fractions.CROSS_NOTES.get(entry_fractions[e], "") if x else "",
+                             HARDNESS_REMARKS[r], entry_notes[e]) if p]
         text.append("; ".join(parts))
     cats, inv2 = np.unique(np.array(text, dtype=object).astype(str), return_inverse=True)
     return pd.Categorical.from_codes(inv2[inv], categories=cats)
