@@ -18,6 +18,7 @@ import csv
 import datetime as dt
 import hashlib
 import io
+import re
 import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -30,7 +31,7 @@ from pandas.api.types import union_categoricals
 
 from tracescreen.io import analytes
 from tracescreen.io import cells as parsing
-from tracescreen.io import hardness_rows, parameter_codes, units
+from tracescreen.io import chemistry_rows, hardness_rows, parameter_codes, units
 from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
 from tracescreen.io.columns import CANONICAL, REQUIRED, ColumnMap, recognise_columns, score_header_row
 from tracescreen._internal.memory import release_unused
@@ -41,8 +42,10 @@ ACCEPTED_COLUMNS = [
     "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction",
     "result_text", "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier",
     "sample_type", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L",
-    "uncertainty_ug_L", "qualifier_meaning",
+    "uncertainty_ug_L", "qualifier_meaning", "ph", "doc_mg_L", "temperature_C",
 ]
+#: Water-chemistry inputs of computed limits (io/chemistry_rows.py), NaN when not reported.
+INPUT_COLUMNS = ("ph", "doc_mg_L", "temperature_C")
 
 
 #: Text columns of the accepted table (held as pandas categoricals of str).
@@ -374,6 +377,33 @@ def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
     reasons[mask] = joined + m
 
 
+def _chemistry_inputs(analyte_text, fraction, aside, parsed, combo, unit_text, v_unit_plain, v_factor,
+                      site, sample) -> dict[str, np.ndarray]:
+    """pH, DOC and temperature rows: set aside with their reason, their values spread to the sample's
+    rows (io/chemistry_rows.py). Returns column -> value per row."""
+    n = len(fraction)
+    kind = chemistry_rows.input_kind(analyte_text.series(), np.zeros(len(analyte_text.values), dtype=bool))
+    kind = analyte_text.rows(kind.astype(object))
+    when_dissolved = analyte_text.rows(chemistry_rows.input_kind(
+        analyte_text.series(), np.ones(len(analyte_text.values), dtype=bool)).astype(object))
+    kind = np.where((kind == "") & (when_dissolved == "doc") & (fraction == 2), "doc", kind)
+    is_input = kind != ""
+    if not is_input.any():
+        return {c: np.full(n, np.nan) for c in INPUT_COLUMNS}
+    words = np.array([chemistry_rows.WORDS.get(k, "") for k in kind], dtype=object)
+    other = np.array([re.sub(r"analyte '.*?' is not in the analyte registry \(not screened by tracescreen\)(; )?", "", a)
+                      for a in aside[is_input]], dtype=object)  # other reasons (e.g. a rejected result) stay
+    aside[is_input] = words[is_input] + " result: used as an input of the sample's computed limits" + \
+        np.where(other == "", "", "; " + other)
+    ok = is_input & parsed["detected"][combo] & pd.isna(parsed["error"][combo]).astype(bool)
+    ok[is_input] &= other == ""
+    vals = chemistry_rows.input_values(kind, np.where(ok, parsed["value"][combo], np.nan),
+                                       np.asarray(v_unit_plain, dtype=object)[unit_text.codes],
+                                       v_factor[unit_text.codes])
+    sample_code, _ = joint_codes(site.codes, sample.codes)
+    return chemistry_rows.inputs_of_samples(sample_code, np.where(ok, kind, ""), vals)
+
+
 def _joined(a: CodedText, b: CodedText, join) -> CodedText:
     """Two text columns joined into one by ``join`` (called once per distinct pair)."""
     pair, first = joint_codes(a.codes, b.codes)
@@ -559,6 +589,9 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         from_rows = hardness_rows.hardness_of_samples(sample_code, ok_h, h_mg_L)
         row_hardness = np.where(np.isnan(row_hardness), from_rows, row_hardness)
 
+    chem = _chemistry_inputs(analyte_text, fraction, aside, parsed, combo, unit_text, v_unit_plain, v_factor,
+                             site, sample)
+
     unc, v_bad_unc = parsing.parse_uncertainty(at_first(unc_text), parsed["value"], opts.decimal_comma)
     bad_unc = v_bad_unc[combo]
     _add(reasons, bad_unc, _quoted(unc_text, bad_unc, "uncertainty ", " is not a number or a percentage"))
@@ -594,6 +627,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "hardness_mg_L": row_hardness[ok],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
         "qualifier_meaning": pd.Categorical(parsed["meaning"][okc].astype(str)),
+        **{c: chem[c][ok] for c in INPUT_COLUMNS},
     })
     rej_cells = cells.loc[rejected_mask]
     rej_cells = rej_cells.drop(columns=[c for c in rej_cells.columns if str(c).startswith("__")])
@@ -614,7 +648,7 @@ def normalise_empty() -> pd.DataFrame:
     no_text = pd.Categorical([], categories=pd.Index([], dtype="str"))
     cols = {c: pd.Series(no_text) if c in TEXT_COLUMNS else pd.Series(dtype=str)
             for c in ACCEPTED_COLUMNS}
-    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L"):
+    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L") + INPUT_COLUMNS:
         cols[c] = pd.Series(dtype=float)
     cols["row"] = pd.Series(dtype="int64")
     cols["detected"] = pd.Series(dtype=bool)

@@ -15,10 +15,11 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen.screening import decision, fractions
+from tracescreen.screening import decision, fractions, frequency
 from tracescreen.screening import periods
-from tracescreen.limits import load as limits_mod
+from tracescreen.limits import forms, load as limits_mod, scope
 from tracescreen.screening.hardness import sample_hardness
+from tracescreen.screening.inputs import USED_COLUMNS, sample_inputs
 from tracescreen._internal.memory import release_unused
 from tracescreen.io.sites import site_uses
 
@@ -30,6 +31,7 @@ SCREENING_COLUMNS = [
     "hardness_origin", "limit_table", "use", "duration", "basis", "limit_ug_L", "ratio", "status",
     "source", "note", "entry_id", "lab", "batch", "parent_sample_id", "analysed_at", "uncertainty_ug_L",
     "file", "sheet", "row", "compared_value_ug_L", "period_id", "period_value_ug_L", "limit_fraction",
+    "ph_used", "doc_used_mg_L", "temperature_used_C", "limit_scope",
 ]
 
 
@@ -77,6 +79,7 @@ def applicable_pairs(results: pd.DataFrame, limits: limits_mod.LimitSet,
         su = site_uses(sites)
     ent = entries.iloc[e_idx][["use", "analyte", "fraction"]].assign(_e=e_idx)
     pairs = su.drop_duplicates().merge(ent, on="use")
+    pairs = pairs[scope.keep_pairs(pairs, entries, limits.tables, sites)]
     p_site = _codes(pairs["site_id"], pd.Index(site_cat))
     p_ana = _codes(pairs["analyte"], pd.Index(ana_cat))
     p_fr = _codes(pairs["fraction"], pd.Index(fr_cat))
@@ -148,10 +151,14 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     r_pos, e_pos, cross = r_pos[in_force], e_pos[in_force], cross[in_force]
 
     H = hard["hardness_used_mg_L"].to_numpy()[r_pos]
+    chem = sample_inputs(results, sites)
     limit = num["value_ug_L"].to_numpy(dtype=float)[e_pos]
-    formula = limits_mod.is_formula(num)[e_pos]
-    fi = np.flatnonzero(formula)  # hardness-dependent pairs: the formula is evaluated for these only
-    limit[fi] = limits_mod.evaluate(num.iloc[e_pos[fi]], H[fi])
+    formula = limits_mod.is_formula(entries)[e_pos]
+    fi = np.flatnonzero(formula)  # computed limits: evaluated for these pairs only
+    form_remark = np.zeros(len(r_pos), dtype=np.int64)
+    pair_inputs = {"hardness": H[fi], **{k: v[r_pos[fi]] for k, (v, _) in chem.items()}}
+    limit[fi], form_remark[fi] = limits_mod.evaluate_pairs(entries, e_pos[fi], pair_inputs)
+    limit[fi] = _round_criteria(limit[fi], e_pos[fi], entries, limits.tables)
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
@@ -161,8 +168,9 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     if cross.any():  # cross-fraction pairs stay only where they decide (screening/fractions.py)
         e_frac = entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos]
         stay = ~cross | fractions.deciding(status, e_frac)
-        r_pos, e_pos, cross, H, limit, status = (a[stay] for a in (r_pos, e_pos, cross, H, limit, status))
-        formula = limits_mod.is_formula(num)[e_pos]
+        r_pos, e_pos, cross, H, limit, status, form_remark = (
+            a[stay] for a in (r_pos, e_pos, cross, H, limit, status, form_remark))
+        formula = limits_mod.is_formula(entries)[e_pos]
         fi = np.flatnonzero(formula)
     ent = num.iloc[e_pos[fi]]
 
@@ -178,11 +186,14 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         h = H[fi]
         remark[fi] = np.select([np.isnan(h), h > ent["hardness_max"].to_numpy(float),
                                 h < ent["hardness_min"].to_numpy(float)], [4, 3, 2], 1)
+    has_form = entries["form"].notna().to_numpy(dtype=bool)[e_pos] if "form" in entries else np.zeros(len(e_pos), bool)
+    remark[has_form] = len(HARDNESS_REMARKS) + form_remark[has_form]  # limits/forms.py remarks follow
     n_lone_kinds = 2 + len(QC_NOTES)
     qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
                          np.where(had_candidate[lone], 0, 1))
-    note_key = np.concatenate([(e_pos * len(HARDNESS_REMARKS) + remark) * 2 + cross, -1 - lone_kind])
+    n_remarks = len(HARDNESS_REMARKS) + len(forms.REMARKS)
+    note_key = np.concatenate([(e_pos * n_remarks + remark) * 2 + cross, -1 - lone_kind])
 
     rp = np.concatenate([r_pos, lone])
     order = np.argsort(rp, kind="stable")  # back to input order; a result's entries stay in table order
@@ -205,7 +216,12 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["status"] = pd.Categorical.from_codes(np.concatenate([status, lone_status])[order].astype(np.int8),
                                                categories=list(STATUSES))
     cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds,
-                          entries["fraction"].astype(str).to_numpy(dtype=object))
+                          entries["fraction"].astype(str).to_numpy(dtype=object),
+                          entries["inputs"].astype(str).to_numpy(dtype=object) if "inputs" in entries else None)
+    for k, c in USED_COLUMNS.items():
+        cols[c] = chem[k][0][rp]
+    cols["limit_scope"] = entry_attribute(entries["scope"] if "scope" in entries else pd.Series([""] * len(entries)),
+                                          e_all)
     cols["limit_fraction"] = entry_attribute(entries["fraction"], e_all)
     cols["compared_value_ug_L"] = np.full(len(rp), np.nan)
     cols["period_id"] = pd.arrays.IntegerArray(np.zeros(len(rp), dtype=np.int64),  # periods.py fills period rows
@@ -215,6 +231,7 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         cols["qualifier_meaning"] = pd.Categorical(np.full(len(rp), "", dtype=object))
     # copy=False: one block per column, nothing copied or consolidated (a screening table is large)
     out = pd.DataFrame({c: cols[c] for c in SCREENING_COLUMNS}, copy=False)
+    out = frequency.apply_sampling_frequency(out, limits)  # yearly-or-less points: each result decides
     out = decision.apply_rounding(out, limits)  # tables that compare after rounding
     out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
     release_unused()
@@ -233,14 +250,25 @@ QC_NOTES = ("field_duplicate", "field_blank", "lab_blank")
 _NAT_DAY = np.iinfo(np.int64).min
 
 
+def _round_criteria(limit: np.ndarray, e_pos: np.ndarray, entries: pd.DataFrame, tables: pd.DataFrame) -> np.ndarray:
+    """Computed criteria rounded to the table's ``criteria_significant_figures`` where it sets one
+    (e.g. 40 CFR 131.38(b)(2): "Final CMC and CCC values should be rounded to two significant figures")."""
+    figures = {t: (s or {}).get("criteria_significant_figures") for t, s in zip(tables["table_id"], tables["settings"])}
+    if not any(v for v in figures.values()):
+        return limit
+    per_entry = entries["table_id"].map(figures).astype(float).to_numpy()
+    return decision.round_significant(limit, per_entry[e_pos])
+
+
 def _days(dates: pd.Series) -> np.ndarray:
     """Whole days since 1970 as int64 (NaT stays the int64 minimum), for fast date comparisons."""
     ns = pd.to_datetime(dates).astype("datetime64[ns]").to_numpy().view(np.int64)
     return np.where(ns == _NAT_DAY, _NAT_DAY, np.floor_divide(ns, 86_400_000_000_000))
 
 
-def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray) -> pd.Categorical:
-    """Note text per row from its key (entry x hardness remark x cross-fraction, or a no-limit /
+def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray,
+           entry_inputs: np.ndarray | None = None) -> pd.Categorical:
+    """Note text per row from its key (entry x limit remark x cross-fraction, or a no-limit /
     QC kind), built per distinct key."""
     inv, uniq = pd.factorize(keys)
     text = []
@@ -251,9 +279,14 @@ def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_f
                         f"{QC_NOTES[kind - 2]}: quality-control sample, not screened against limits")
             continue
         e_r, x = divmod(int(k), 2)
-        e, r = divmod(e_r, len(HARDNESS_REMARKS))
+        e, r = divmod(e_r, len(HARDNESS_REMARKS) + len(forms.REMARKS))
+        if r < len(HARDNESS_REMARKS):
+            remark = HARDNESS_REMARKS[r]
+        else:
+            used = ", ".join(forms.INPUTS[i][0] for i in str(entry_inputs[e]).split(",") if i)
+            remark = forms.REMARKS[r - len(HARDNESS_REMARKS)] or (f"limit computed from {used}" if used else "")
         parts = [p for p in (fractions.CROSS_NOTES.get(entry_fractions[e], "") if x else "",
-                             HARDNESS_REMARKS[r], entry_notes[e]) if p]
+                             remark, entry_notes[e]) if p]
         text.append("; ".join(parts))
     cats, inv2 = np.unique(np.array(text, dtype=object).astype(str), return_inverse=True)
     return pd.Categorical.from_codes(inv2[inv], categories=cats)

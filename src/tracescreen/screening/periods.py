@@ -26,8 +26,10 @@ values, and a non-detect is never made into an exceedance:
 - ``nondetect_meets``: every result is a non-detect, all detection limits at or below the limit.
 
 Percentile methods (:data:`PERCENTILE_METHODS`): ``epa_lcr`` (40 CFR 141.80(c)(3): rank the n
-results, take the one numbered 0.9 n, rounded to the nearest whole number; with exactly 5 results
-the mean of the two highest; with fewer, the highest), ``nearest_rank`` (smallest value with at
+results, take the one numbered 0.9 n; the rule states no rounding for a non-integer 0.9 n, and this
+reading rounds to the nearest whole number, halves up, as a state worksheet does [4]_; with exactly
+5 results the mean of the two highest; with fewer, the highest), ``epa_lcr_next_whole`` (the same,
+0.9 n raised to the next whole number: the nearest-rank reading), ``nearest_rank`` (smallest value with at
 least p % of results at or below it; Hyndman & Fan type 1), ``linear`` (type 7), ``hazen``
 (type 5), ``weibull`` (type 6).
 
@@ -41,6 +43,9 @@ References
    141.80(c)(1)-(3): lead and copper action levels on the 90th percentile of a monitoring period.
 .. [2] Hyndman, R. J. and Fan, Y. (1996). Sample quantiles in statistical packages. The American
    Statistician 50(4): 361-365.
+.. [4] "Lead and Copper 90th Percentile Examples", state drinking-water programme worksheet (stored
+   copy: studylib.net doc 9493621): "If this is not a whole number, round to the nearest whole
+   number. Round down ... if the decimal is 0.4 or less and round up ... if 0.5 or higher."
 .. [3] Helsel, D. R. (2012). Statistics for Censored Environmental Data Using Minitab and R, 2nd ed.
    Wiley (substitution bounds; Kaplan-Meier).
 """
@@ -65,7 +70,8 @@ STATUS_ORDER = list(RANKED)
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
 #: method name -> numpy.quantile method (None: the rule's own procedure)
-PERCENTILE_METHODS = {"epa_lcr": None, "nearest_rank": "inverted_cdf", "linear": "linear",
+PERCENTILE_METHODS = {"epa_lcr": None, "epa_lcr_next_whole": None, "nearest_rank": "inverted_cdf",
+                      "linear": "linear",
                       "hazen": "hazen", "weibull": "weibull"}
 WINDOW_MONTHS = 12
 
@@ -130,6 +136,8 @@ def group_percentiles(values, group, p, method) -> np.ndarray:
     candidates = {
         "epa_lcr": lambda: np.where(n < 5, at(n - 1), np.where(
             n == 5, (at(n - 1) + at(n - 2)) / 2.0, at(np.floor(q * n + 0.5 + 1e-9).astype(np.int64) - 1))),
+        "epa_lcr_next_whole": lambda: np.where(n < 5, at(n - 1), np.where(
+            n == 5, (at(n - 1) + at(n - 2)) / 2.0, at(np.ceil(q * n - 1e-9).astype(np.int64) - 1))),
         "nearest_rank": lambda: at(np.ceil(q * n - 1e-9).astype(np.int64) - 1),
         "linear": lambda: interpolate((n - 1) * q),
         "hazen": lambda: interpolate(n * q + 0.5 - 1.0),
