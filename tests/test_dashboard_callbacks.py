@@ -20,7 +20,7 @@ from dashboard.quality import reason_counts, rejected_frame, set_aside_counts, s
 from dashboard.series import series_view, trend_view
 from dashboard.tables import FilterError, exceedance_rows, filter_mask, query_table, table_page, to_csv_bytes
 from dashboard.uploads import UploadError, add_token, decode_upload, preview_upload
-from tracescreen.screening.compare import worst_status
+from tracescreen.screening.status import worst_status
 
 
 @pytest.fixture(scope="module")

@@ -89,9 +89,9 @@ def test_cycle_finder_finds_a_cycle():
 
 
 def test_import_graph_sees_real_edges():
-    """The graph is read right: a known import is present (screening.compare imports limits.load)."""
+    """The graph is read right: a known import is present (screening.screen imports limits.load)."""
     g = _graph()
-    assert "tracescreen.limits.load" in g["tracescreen.screening.compare"]
+    assert "tracescreen.limits.load" in g["tracescreen.screening.screen"]
     assert "tracescreen.limits.schema" in g["tracescreen.limits.load"]
 
 

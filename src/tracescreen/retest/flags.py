@@ -17,7 +17,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen.screening.decision import uncertainty_decision
+from tracescreen.screening.uncertainty import uncertainty_decision
 from tracescreen.vocabulary import REL_TOL
 
 RETEST_COLUMNS = [
@@ -357,7 +357,7 @@ def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
 
     Flagged when ``L − U < x <= L + U`` (``x`` the result, ``U`` = ``uncertainty_ug_L`` the reported
     expanded uncertainty, ``L`` the limit): the decisions ``exceeds_within_uncertainty`` and
-    ``meets_within_uncertainty`` of :func:`tracescreen.screening.decision.uncertainty_decision` with a guard
+    ``meets_within_uncertainty`` of :func:`tracescreen.screening.uncertainty.uncertainty_decision` with a guard
     band of 1 × U, where the result cannot be said to be above or below the limit beyond its
     uncertainty. (``x + U = L`` meets beyond the uncertainty; ``x − U = L`` exceeds within it.)
 
