@@ -84,3 +84,35 @@ def inputs_of_samples(sample_code: np.ndarray, kind: np.ndarray, values: np.ndar
             per = np.where(count > 0, total / count, np.nan)
         out[col] = per[sample_code] if len(sample_code) else np.zeros(0)
     return out
+
+
+_UNKNOWN_ANALYTE = re.compile(r"analyte '.*?' is not in the analyte registry \(not screened by tracescreen\)(; )?")
+
+
+def sample_inputs_from_rows(analyte_text, dissolved: np.ndarray, aside: np.ndarray, parsed: dict, combo: np.ndarray,
+                            unit_codes: np.ndarray, unit_plain, ug_per_L_factor: np.ndarray,
+                            sample_code: np.ndarray) -> dict[str, np.ndarray]:
+    """The loader's step for input rows: mark them set aside with their reason (in ``aside``, in place;
+    other reasons such as a rejected result stay) and return column -> value per row of the sample.
+
+    ``analyte_text`` is the analyte column (coded text), ``dissolved`` a bool per row, ``parsed`` and
+    ``combo`` the parsed results per distinct combination and each row's combination, ``unit_codes``
+    each row's distinct-unit code into ``unit_plain`` / ``ug_per_L_factor``.
+    """
+    n = len(dissolved)
+    names = analyte_text.series()
+    kind = analyte_text.rows(input_kind(names, np.zeros(len(names), dtype=bool)).astype(object))
+    doc_if_dissolved = analyte_text.rows(input_kind(names, np.ones(len(names), dtype=bool)).astype(object))
+    kind = np.where((kind == "") & (doc_if_dissolved == "doc") & dissolved, "doc", kind)
+    is_input = kind != ""
+    if not is_input.any():
+        return {c: np.full(n, np.nan) for c in COLUMNS.values()}
+    other = np.array([_UNKNOWN_ANALYTE.sub("", a) for a in aside[is_input]], dtype=object)
+    words = np.array([WORDS[k] for k in kind[is_input]], dtype=object)
+    aside[is_input] = words + " result: used as an input of the sample's computed limits" + \
+        np.where(other == "", "", "; " + other)
+    ok = is_input & parsed["detected"][combo] & pd.isna(parsed["error"][combo]).astype(bool)
+    ok[is_input] &= other == ""
+    values = input_values(kind, np.where(ok, parsed["value"][combo], np.nan),
+                          np.asarray(unit_plain, dtype=object)[unit_codes], np.asarray(ug_per_L_factor)[unit_codes])
+    return inputs_of_samples(sample_code, np.where(ok, kind, ""), values)

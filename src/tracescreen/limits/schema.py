@@ -40,7 +40,7 @@ ROUNDING_CHOICES = ("none", "significant_figures")
 NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
 #: Monitoring periods of a percentile basis.
 PERIODS = ("calendar_year", "half_year", "quarter", "month")
-#: Percentile readings (screening/periods.PERCENTILE_METHODS maps each to its procedure).
+#: Percentile readings (screening/percentiles.PERCENTILE_METHODS maps each to its procedure).
 PERCENTILE_METHOD_NAMES = ("epa_lcr", "epa_lcr_next_whole", "nearest_rank", "linear", "hazen", "weibull")
 #: What ``infrequent_basis`` may say: where a point is sampled once a year or less, each single
 #: result decides instead of the running annual mean (40 CFR 141.23(i)(2)).
