@@ -415,19 +415,19 @@ ADWG_2011 = [
         ("selenium", 0.01, "health"), ("silver", 0.1, "health"), ("uranium", 0.017, "health"), ("zinc", 3, "aesthetic"))],
 ]
 
-#: table id -> (file name in limits/, published records)
+#: table id -> (file in limits/: the default set at the top, further tables in a folder per region; records)
 PUBLISHED_TABLES = {
     "who_gdwq_2022": ("who_gdwq_2022.yaml", WHO_GDWQ_2022),
     "us_epa_npdwr_inorganics": ("us_epa_npdwr_inorganics.yaml", US_EPA_NPDWR),
     "eu_dwd_2020_2184": ("eu_dwd_2020_2184.yaml", EU_DWD_2020_2184),
     "us_epa_nrwqc_freshwater_aquatic_life": ("us_epa_nrwqc_freshwater_aquatic_life.yaml", US_EPA_NRWQC_FRESHWATER),
     "eu_dwd_98_83": ("eu_dwd_98_83.yaml", EU_DWD_98_83),
-    "us_epa_nsdwr_secondary": ("us_epa_nsdwr_secondary.yaml", US_EPA_NSDWR),
-    "eu_eqs_2008_105": ("eu_eqs_2008_105.yaml", EU_EQS),
-    "ccme_freshwater_aquatic_life": ("ccme_freshwater_aquatic_life.yaml", CCME_FRESHWATER),
-    "health_canada_gcdwq": ("health_canada_gcdwq.yaml", HEALTH_CANADA),
-    "anzg_2018_freshwater_toxicants": ("anzg_2018_freshwater_toxicants.yaml", ANZG_FRESHWATER),
-    "adwg_2011": ("adwg_2011.yaml", ADWG_2011),
+    "us_epa_nsdwr_secondary": ("us/us_epa_nsdwr_secondary.yaml", US_EPA_NSDWR),
+    "eu_eqs_2008_105": ("eu/eu_eqs_2008_105.yaml", EU_EQS),
+    "ccme_freshwater_aquatic_life": ("canada/ccme_freshwater_aquatic_life.yaml", CCME_FRESHWATER),
+    "health_canada_gcdwq": ("canada/health_canada_gcdwq.yaml", HEALTH_CANADA),
+    "anzg_2018_freshwater_toxicants": ("australia_new_zealand/anzg_2018_freshwater_toxicants.yaml", ANZG_FRESHWATER),
+    "adwg_2011": ("australia_new_zealand/adwg_2011.yaml", ADWG_2011),
 }
 
 #: µg/L per unit, by definition of the SI prefixes (1 mg = 1000 µg).

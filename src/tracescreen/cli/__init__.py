@@ -22,6 +22,7 @@ COMMANDS = [
     "import_",
     "history",
     "export",
+    "limits",
 ]
 
 

@@ -20,6 +20,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from tracescreen._internal.coded import joint_codes
 from tracescreen._internal.frames import replace_at
 
 #: Median interval between sampling days [days] from which a series counts as sampled yearly or less
@@ -29,13 +30,17 @@ NOTE = ("sampled once a year or less: each result decides, not the running annua
         "(40 CFR 141.23(i)(2); a confirmation sample may be averaged in where the State requires)")
 
 
+def _codes(col: pd.Series, rows: np.ndarray) -> np.ndarray:
+    """Integer code per selected row (categorical codes where the column is categorical)."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        return col.cat.codes.to_numpy()[rows].astype(np.int64) + 1
+    return pd.factorize(col.to_numpy()[rows])[0].astype(np.int64) + 1
+
+
 def infrequent_series(screened: pd.DataFrame, rows: np.ndarray) -> np.ndarray:
     """For screening rows ``rows``: True where the row's series is sampled once a year or less."""
-    sub = screened.iloc[rows]
-    key = pd.MultiIndex.from_arrays([sub["limit_table"].astype(str), sub["site_id"].astype(str),
-                                     sub["analyte"].astype(str), sub["fraction"].astype(str)])
-    code, _ = pd.factorize(key)
-    day = pd.to_datetime(sub["sampled_at"]).dt.normalize().to_numpy()
+    code, _ = joint_codes(*(_codes(screened[c], rows) for c in ("limit_table", "site_id", "analyte", "fraction")))
+    day = pd.to_datetime(screened["sampled_at"].to_numpy()[rows]).normalize().to_numpy()
     frame = pd.DataFrame({"g": code, "d": day}).drop_duplicates().sort_values(["g", "d"])
     gaps = frame.groupby("g")["d"].diff().dt.days
     median_gap = gaps.groupby(frame["g"]).median()  # NaN for a series of one sampling day

@@ -20,6 +20,7 @@ import pandas as pd
 from tracescreen._internal.frames import entry_attribute, take_column
 from tracescreen._internal.memory import release_unused
 from tracescreen.limits import forms, load as limits_mod
+from tracescreen.limits.in_force import round_criteria
 from tracescreen.screening import fractions, frequency, periods, rounding
 from tracescreen.screening.inputs import USED_COLUMNS, sample_inputs
 from tracescreen.screening.applicability import applicable_pairs, cross_fraction_pairs, in_force
@@ -92,7 +93,7 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     form_remark = np.zeros(len(r_pos), dtype=np.int64)
     pair_inputs = {"hardness": H[fi], **{k: v[r_pos[fi]] for k, (v, _) in chem.items()}}
     limit[fi], form_remark[fi] = limits_mod.evaluate_pairs(entries, e_pos[fi], pair_inputs)
-    limit[fi] = _round_criteria(limit[fi], e_pos[fi], entries, limits.tables)
+    limit[fi] = round_criteria(limit[fi], e_pos[fi], entries, limits.tables)
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
@@ -181,16 +182,6 @@ HARDNESS_REMARKS = ("", "hardness-dependent limit",
 LONE_NOTES = ("no limit entry in force on the sampling date",
               "no limit for this analyte and fraction in the tables for this site's uses")
 QC_NOTES = ("field_duplicate", "field_blank", "lab_blank")
-def _round_criteria(limit: np.ndarray, e_pos: np.ndarray, entries: pd.DataFrame, tables: pd.DataFrame) -> np.ndarray:
-    """Computed criteria rounded to the table's ``criteria_significant_figures`` where it sets one
-    (e.g. 40 CFR 131.38(b)(2): "Final CMC and CCC values should be rounded to two significant figures")."""
-    figures = {t: (s or {}).get("criteria_significant_figures") for t, s in zip(tables["table_id"], tables["settings"])}
-    if not any(v for v in figures.values()):
-        return limit
-    per_entry = entries["table_id"].map(figures).astype(float).to_numpy()
-    return rounding.round_significant(limit, per_entry[e_pos])
-
-
 def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray,
            entry_inputs: np.ndarray | None = None) -> pd.Categorical:
     """Note text per row from its key (entry x limit remark x cross-fraction, or a no-limit /
