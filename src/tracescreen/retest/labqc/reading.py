@@ -255,7 +255,7 @@ def empty_qc() -> pd.DataFrame:
                          for c in QC_COLUMNS})
 
 
-def _csv_records(text: str) -> pd.DataFrame:
+def csv_records(text: str) -> pd.DataFrame:
     """A CSV text as a table of text cells, rows of any length (a title block above the header)."""
     lines = text.lstrip("\ufeff").splitlines()
     head = "\n".join(lines[:20])
@@ -283,7 +283,7 @@ def read_qc_file(path: str | Path, column_map: ColumnMap | None = None, date_ord
         if p.suffix.lower() in (".xlsx", ".xlsm"):
             sheets = pd.read_excel(p, sheet_name=None, header=None, dtype=str)
         else:
-            sheets = {"": _csv_records(p.read_text(encoding=encoding))}
+            sheets = {"": csv_records(p.read_text(encoding=encoding))}
     except (UnicodeDecodeError, csv.Error, ValueError, OSError) as exc:
         raise ValueError(f"{p.name}: cannot read the QC file ({exc.__class__.__name__}: {str(exc)[:120]})") from None
     parts = []

@@ -38,8 +38,9 @@ def fmt(values, digits: int = 4) -> np.ndarray:
 
     QC tables are small (one row per QC measurement), so this is a plain comprehension.
     """
-    return np.array(["" if not np.isfinite(v) else f"{v:.{digits}g}" for v in np.asarray(values, dtype=float)],
-                    dtype=object)
+    return np.array(["" if not np.isfinite(v) else
+                     np.format_float_positional(float(f"{v:.{digits}g}"), trim="-")
+                     for v in np.asarray(values, dtype=float)], dtype=object)
 
 
 def edges(lab_low, lab_high, window: Window) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
