@@ -94,3 +94,15 @@ def test_errors_are_one_line(tmp_path, capsys):
     assert main(["labqc", *args, "--out", str(tmp_path / "o")]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "missing.csv: QC file not found" in err
+
+
+def test_screen_reviews_the_lab_qc_rows_of_its_files(tmp_path, capsys):
+    args = _batch(tmp_path)[:3]          # lab file and QC file, no calibration
+    limits = Path(__file__).resolve().parents[1] / "limits" / "who_gdwq_2022.yaml"
+    rc = main(["screen", *args, "--limits", str(limits), "--out", str(tmp_path / "out")])
+    assert rc == 0, capsys.readouterr().err
+    r = pd.read_csv(tmp_path / "out" / "retest.csv")
+    low = r[r["reason"] == "spike_recovery_low"]
+    assert sorted(low["sample_id"]) == ["A1", "A2", "A3"]
+    assert "suggested_action" in r.columns and low["suggested_action"].str.contains("re-digest").all()
+    assert (tmp_path / "out" / "qc_verdicts.csv").is_file() and (tmp_path / "out" / "qc_batches.csv").is_file()

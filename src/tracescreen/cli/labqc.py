@@ -72,10 +72,7 @@ def run(args) -> int:
     if loaded is not None:
         _print_rows(loaded)
         review = review_lab_qc(accepted, qc, windows)
-        written["qc_rows"] = outputs.write_csv(review.qc, out / "qc_rows.csv")
-        written["verdicts"] = outputs.write_csv(review.verdicts, out / "qc_verdicts.csv")
-        written["qualified"] = outputs.write_csv(review.qualified, out / "qualified_results.csv")
-        written["batches"] = outputs.write_csv(review.batches, out / "qc_batches.csv")
+        written.update(write_review(review, out))
         retest_parts.append(review.retest)
         if qc.empty:
             warn("no laboratory QC rows found in the files: ask the laboratory for the QC summary of each batch")
@@ -100,6 +97,26 @@ def run(args) -> int:
         print(f"  {name:<12} {path}")
     print_caution()
     return 0
+
+
+def write_review(review, out: Path) -> dict:
+    """Write a review's tables; returns {name: path}."""
+    return {"qc_rows": outputs.write_csv(review.qc, out / "qc_rows.csv"),
+            "verdicts": outputs.write_csv(review.verdicts, out / "qc_verdicts.csv"),
+            "qualified": outputs.write_csv(review.qualified, out / "qualified_results.csv"),
+            "batches": outputs.write_csv(review.batches, out / "qc_batches.csv")}
+
+
+def review_for_screen(args, loaded):
+    """The laboratory QC review of ``screen``'s load (None when the files carry no QC rows)."""
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.retest.labqc.review import review_load
+
+    try:
+        return review_load(loaded, getattr(args, "qc", None) or (),
+                           load_column_map(args.columns) if args.columns else None, args.date_order, args.encoding)
+    except ValueError as exc:
+        raise UserError(str(exc)) from None
 
 
 def _print_rows(loaded) -> None:

@@ -21,8 +21,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen.retest.labqc.reasons import RETEST_COLUMNS
 from tracescreen.retest.labqc.verdicts import fmt
+from tracescreen.retest.rows import RETEST_COLUMNS, empty_retest
 
 REASONS = ("above_calibration_range", "below_calibration_range", "dl_not_supported")
 SUGGESTED_ACTIONS = {
@@ -58,8 +58,7 @@ def check_results(results: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
     """Retest rows (:data:`RETEST_COLUMNS`) for results outside their calibration or with
     detection limits the calibration does not support."""
     if results is None or results.empty or ranges.empty:
-        return pd.DataFrame({c: pd.Series(dtype="datetime64[us]" if c == "sampled_at" else object)
-                             for c in RETEST_COLUMNS})
+        return empty_retest()
     res = results[results["sample_type"].astype(str) != "lab_blank"].reset_index(drop=True)
     an = res["analyte"].astype(str).to_numpy()
     batch = res["batch"].astype(object).fillna("").astype(str).to_numpy() if "batch" in res else np.full(len(res), "")
@@ -93,7 +92,7 @@ def check_results(results: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
             part["reason"], part["detail"], part["suggested_action"] = reason, detail[mask], SUGGESTED_ACTIONS[reason]
             parts.append(part)
     if not parts:
-        return check_results(None, ranges)
+        return empty_retest()
     out = pd.concat(parts, ignore_index=True)
     for c in RETEST_COLUMNS:
         if c not in out.columns:
