@@ -68,7 +68,7 @@ def run_screen(path: Path, out: Path) -> dict:
     from tracescreen.report import writers as outputs
     from tracescreen.limits.load import load_limits
     from tracescreen.io.loading import LoadOptions, load_results
-    from tracescreen.screening.compare import screen
+    from tracescreen.screening.screen import screen
 
     t0 = time.perf_counter()
     limits = load_limits(sorted((ROOT / "limits").glob("*.yaml")))

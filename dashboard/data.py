@@ -226,7 +226,7 @@ def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = Fal
     With ``release_input``, ``inputs.accepted`` is emptied as soon as its sorted copy is made
     (the session keeps every accepted column), so the two are not both held while screening.
     """
-    from tracescreen.screening.compare import screen
+    from tracescreen.screening.screen import screen
 
     acc = inputs.accepted.assign(campaign=_categorical(_campaign_labels(inputs.accepted)))
     site_codes = _categorical(acc["site_id"]).cat.codes.to_numpy()

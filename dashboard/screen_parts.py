@@ -1,6 +1,6 @@
 """Screening a large session in parts of whole sites, to bound the dashboard's peak memory.
 
-The engine's :func:`tracescreen.screening.compare.screen` holds several working copies of its output while
+The engine's :func:`tracescreen.screening.screen.screen` holds several working copies of its output while
 it runs (the period statuses, the rounding decisions); for a million results that is more than a
 gigabyte on top of the result. Everything it computes stays within one site (the applicable limits
 follow the site's uses, hardness is per site and sample, running means and percentiles are per

@@ -29,7 +29,7 @@ def engine_view():
     from tracescreen.io.columns import load_column_map
     from tracescreen.limits.load import load_limits
     from tracescreen.io.loading import LoadOptions, load_results
-    from tracescreen.screening.compare import screen
+    from tracescreen.screening.screen import screen
     from tracescreen.io.sites import load_sites
 
     p = scenario_paths()

@@ -9,7 +9,7 @@ import pytest
 
 from tracescreen.limits.load import load_limits
 from tracescreen.io.loading import LoadOptions, load_results
-from tracescreen.screening.compare import screen
+from tracescreen.screening.screen import screen
 
 from lab_files import write_csv
 

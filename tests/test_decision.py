@@ -8,10 +8,12 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tracescreen.screening import decision
+from tracescreen.screening import rounding, uncertainty
 from tracescreen.cli import main
 from tracescreen.limits.load import LimitTableError, load_limits
-from tracescreen.screening.compare import STATUSES, screen, worst_status
+from tracescreen.screening.screen import screen
+from tracescreen.screening.status import worst_status
+from tracescreen.vocabulary import STATUSES
 
 from flag_frames import results as make_results
 
@@ -32,7 +34,7 @@ def table(tmp_path, entries: str, settings: str = "{rounding: significant_figure
 ])
 def test_significant_figures_as_written(text, figures):
     """Significant figures of a limit as written: leading zeros not counted, trailing zeros counted (common practice)."""
-    got = decision.significant_figures(text)
+    got = rounding.significant_figures(text)
     assert (np.isnan(got) and np.isnan(figures)) or got == figures
 
 
@@ -136,7 +138,7 @@ def test_guard_band_zones(value, u, factor, expected):
     res = make_results([{"sampled_at": "2021-01-01", "value": value, "uncertainty_ug_L": u}])
     scr = pd.DataFrame({"detected": [True], "value_ug_L": [value], "limit_ug_L": [10.0],
                         "uncertainty_ug_L": res["uncertainty_ug_L"], "basis": ["single_sample"]})
-    out = decision.uncertainty_decision(scr, factor)
+    out = uncertainty.uncertainty_decision(scr, factor)
     assert out["uncertainty_decision"].tolist() == [expected]
     assert out["guard_band_ug_L"].iloc[0] == pytest.approx(factor * u, nan_ok=True)
 
@@ -145,9 +147,9 @@ def test_guard_band_not_applied_to_nondetects_or_missing_limits():
     """Non-detects and rows without a limit get no uncertainty decision (empty)."""
     scr = pd.DataFrame({"detected": [False, True], "value_ug_L": [np.nan, 5.0], "limit_ug_L": [10.0, np.nan],
                         "uncertainty_ug_L": [1.0, 1.0], "basis": ["single_sample"] * 2})
-    assert decision.uncertainty_decision(scr)["uncertainty_decision"].tolist() == ["", ""]
+    assert uncertainty.uncertainty_decision(scr)["uncertainty_decision"].tolist() == ["", ""]
     with pytest.raises(ValueError):
-        decision.uncertainty_decision(scr, -1.0)
+        uncertainty.uncertainty_decision(scr, -1.0)
 
 
 # --- several uses per site: every table applies, the overview takes the strictest status --------

@@ -12,9 +12,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tracescreen.screening import periods
+from tracescreen.screening import percentiles, periods
 from tracescreen.limits.load import LimitTableError, load_limits
-from tracescreen.screening.compare import screen
+from tracescreen.screening.screen import screen
 
 from flag_frames import results as make_results
 
@@ -155,7 +155,7 @@ def test_percentile_five_results_mean_of_two_highest(tmp_path):
 @pytest.mark.parametrize("n, rank", [(4, 4), (6, 5), (8, 7), (10, 9), (12, 11), (15, 14), (18, 16), (25, 23)])
 def test_epa_lcr_rank(n, rank):
     """Rank = 0.9 n rounded to the nearest whole number, halves up (6 -> 5.4 -> 5th; 15 -> 13.5 -> 14th; n < 5: highest)."""
-    assert periods.percentile(np.arange(1.0, n + 1), 90, "epa_lcr") == float(rank)
+    assert percentiles.percentile(np.arange(1.0, n + 1), 90, "epa_lcr") == float(rank)
 
 
 @pytest.mark.parametrize("method, expected", [
@@ -165,7 +165,7 @@ def test_epa_lcr_rank(n, rank):
 ])
 def test_percentile_methods_hyndman_fan(method, expected):
     """Named methods give Hyndman & Fan (1996) sample quantiles, worked by hand for 1..10 at p = 90."""
-    assert periods.percentile(np.arange(1.0, 11.0), 90, method) == pytest.approx(expected)
+    assert percentiles.percentile(np.arange(1.0, 11.0), 90, method) == pytest.approx(expected)
 
 
 def test_percentile_nondetect_rules(tmp_path):

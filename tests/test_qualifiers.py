@@ -25,7 +25,7 @@ from lab_files import write_csv
 from tracescreen.io import qualifiers
 from tracescreen.io.loading import LoadOptions, load_results
 from tracescreen.limits.load import load_limits
-from tracescreen.screening.compare import screen
+from tracescreen.screening.screen import screen
 
 DATA = Path(__file__).parent / "data"
 LIMITS = Path(__file__).resolve().parents[1] / "limits"

@@ -110,7 +110,7 @@ def test_build_report_html_from_engine_objects():
     from tracescreen.limits.load import load_limits
     from tracescreen.io.loading import LoadOptions, load_results
     from tracescreen.io.columns import load_column_map
-    from tracescreen.screening.compare import screen
+    from tracescreen.screening.screen import screen
     from tracescreen.io.sites import load_sites
 
     sites = load_sites(SCENARIO / "sites.csv")

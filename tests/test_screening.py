@@ -8,7 +8,8 @@ import pytest
 
 from tracescreen.limits.load import load_limits
 from tracescreen.io.loading import LoadOptions, load_results
-from tracescreen.screening.compare import classify, screen, worst_status
+from tracescreen.screening.screen import screen
+from tracescreen.screening.status import classify, worst_status
 
 from lab_files import write_csv
 
@@ -146,7 +147,7 @@ def test_several_uses_give_several_rows_and_worst_status(tmp_path, limits):
 
 def test_take_column_keeps_missing_text_as_empty():
     """A plain text column with a missing value is taken as "" (not the text 'nan', not an error)."""
-    from tracescreen.screening.compare import take_column
+    from tracescreen._internal.frames import take_column
 
     col = pd.Series(["a", np.nan, "b"], dtype=object)
     out = take_column(col, np.array([1, 0, 2, 1]))

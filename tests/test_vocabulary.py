@@ -6,7 +6,9 @@ import re
 from pathlib import Path
 
 from tracescreen import vocabulary
-from tracescreen.screening import compare, periods
+import numpy as np
+
+from tracescreen.screening import status
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -22,12 +24,17 @@ def test_every_status_has_a_label_colour_shape_and_tint():
 def test_engine_and_dashboard_share_one_order():
     from dashboard import palette
 
-    assert compare.STATUSES == vocabulary.STATUSES and tuple(periods.STATUS_ORDER) == vocabulary.RANKED
+    # the status rules give categoricals in the vocabulary's order (codes = positions in STATUSES)
+    single = status.status_codes([True, True, False, False], [2.0, 0.5, np.nan, np.nan], [0.1, 0.1, 2.0, 0.1],
+                                 [1.0, 1.0, 1.0, np.nan])
+    assert [vocabulary.STATUSES[c] for c in single] == ["exceeds", "meets", "nondetect_inconclusive", "no_limit"]
+    period, _ = status.statistic_status([2.0], [2.0], [2.0], [False], [1.0])
+    assert tuple(period.categories) == vocabulary.RANKED and list(period) == ["exceeds"]
     assert palette.STATUS_ORDER == vocabulary.RANKED
     # the dashboard ranks worst highest, the engine codes worst lowest: the same order either way
     by_rank = sorted(palette.STATUS_RANK, key=palette.STATUS_RANK.get, reverse=True)
     assert tuple(by_rank) == vocabulary.RANKED
-    assert [compare.STATUS_RANK[s] for s in vocabulary.RANKED] == sorted(compare.STATUS_RANK[s] for s in vocabulary.RANKED)
+    assert [vocabulary.STATUS_CODE[s] for s in vocabulary.RANKED] == sorted(vocabulary.STATUS_CODE[s] for s in vocabulary.RANKED)
 
 
 def test_dashboard_css_uses_the_vocabulary_colours():

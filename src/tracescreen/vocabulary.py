@@ -1,6 +1,6 @@
 """The status vocabulary, defined once: names in order of severity, labels, colours and shapes.
 
-Screening (:mod:`tracescreen.screening.compare`), period rules, the report and the dashboard all
+Screening (:mod:`tracescreen.screening.screen`), period rules, the report and the dashboard all
 read the statuses from here, so that a status has one name, one rank, one label, one colour and
 one shape everywhere.
 

@@ -118,3 +118,24 @@ def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     # running maximum of the codes grows
     first = np.flatnonzero(np.diff(np.maximum.accumulate(joint), prepend=-1) > 0) if n else joint
     return joint, first
+
+
+def combo_text(columns: list, render) -> pd.Categorical:
+    """Text per row from a few low-cardinality columns, rendered once per distinct combination."""
+    n = len(columns[0])
+    key = np.zeros(n, dtype=np.int64)
+    cats = []
+    for col in columns:
+        codes, uniques = pd.factorize(np.asarray(col))
+        key = key * max(len(uniques), 1) + codes
+        cats.append(np.asarray(uniques, dtype=object))
+    uniq, inv = np.unique(key, return_inverse=True)
+    texts = []
+    for k in uniq.tolist():  # distinct combinations, not rows
+        parts = []
+        for c in reversed(cats):
+            k, i = divmod(k, max(len(c), 1))
+            parts.append(c[i])
+        texts.append(render(*reversed(parts)))
+    categories, inv2 = np.unique(np.array(texts, dtype=object).astype(str), return_inverse=True)
+    return pd.Categorical.from_codes(inv2[inv.ravel()], categories=categories)

@@ -79,3 +79,21 @@ def replace_at(col: pd.Series, positions: np.ndarray, values):
     arr = col.to_numpy(copy=True)
     arr[positions] = values
     return arr
+
+
+def take_column(col: pd.Series, positions: np.ndarray):
+    """Values of ``col`` at ``positions``; text columns come back as categoricals (fast integer take)."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        return pd.Categorical.from_codes(col.cat.codes.to_numpy()[positions], dtype=col.dtype)
+    if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
+        codes, uniques = pd.factorize(col.fillna(""), use_na_sentinel=False)  # missing text is ""
+        return pd.Categorical.from_codes(codes[positions], categories=pd.Index(uniques, dtype=object).astype(str))
+    return col.to_numpy()[positions]
+
+
+def entry_attribute(values: pd.Series, e_pos: np.ndarray) -> pd.Categorical:
+    """Attribute of the entry at each position (-1: no entry -> empty text), as a categorical."""
+    text = values.astype(str).to_numpy(dtype=object)
+    cats, inv = np.unique(np.append(text, ""), return_inverse=True)
+    codes = inv[np.where(e_pos < 0, len(text), e_pos)]
+    return pd.Categorical.from_codes(codes, categories=cats.astype(str))

@@ -7,7 +7,7 @@ from pathlib import Path
 
 from tracescreen.report import writers as outputs
 from tracescreen.report.html import build_report_html, report_data, report_tables
-from tracescreen.screening.compare import screen
+from tracescreen.screening.screen import screen
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 from .flag_options import add_retest_options, retest_options

@@ -6,10 +6,11 @@ import argparse
 from pathlib import Path
 
 from tracescreen.report import writers as outputs
-from tracescreen.screening.decision import uncertainty_decision
+from tracescreen.screening.uncertainty import uncertainty_decision
 from tracescreen._internal.memory import release_unused
 from tracescreen.screening.periods import period_table
-from tracescreen.screening.compare import STATUSES, screen
+from tracescreen.screening.screen import screen
+from tracescreen.vocabulary import STATUSES
 from tracescreen.retest.listing import retest_list
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn

@@ -11,7 +11,7 @@ import pandas as pd
 from tracescreen.report import writers as outputs
 from tracescreen.statistics.censored import METHODS
 from tracescreen.limits.load import load_limits
-from tracescreen.screening.compare import screen
+from tracescreen.screening.screen import screen
 from tracescreen.statistics.summary import exceedance_rates, summarise
 from tracescreen.statistics.trends import MIN_VALUES, TABLE_COLUMNS as TREND_TABLE_COLUMNS, lowest_limits, trend_table
 from .common import add_data_options, print_caution, results_from_args, warn

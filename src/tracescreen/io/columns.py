@@ -169,3 +169,10 @@ def recognise_columns(headers: list[str], column_map: ColumnMap | None = None) -
 def score_header_row(cells: list[str], column_map: ColumnMap | None = None) -> int:
     """How many canonical columns a candidate header row names (used to find the header row)."""
     return len(recognise_columns([c for c in cells if c], column_map))
+
+
+def mapping_applies(headers, column_map: ColumnMap) -> bool:
+    """A mapping's ``defaults`` apply only to files that have at least one of its mapped headers."""
+    mapped = {header_key(h) for h in column_map.columns}
+    return not mapped or any(header_key(h) in mapped for h in headers)
+

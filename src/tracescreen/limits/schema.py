@@ -37,7 +37,7 @@ ROUNDING_CHOICES = ("none", "significant_figures")
 NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
 #: Monitoring periods of a percentile basis.
 PERIODS = ("calendar_year", "half_year", "quarter", "month")
-#: Percentile readings (screening/periods.PERCENTILE_METHODS maps each to its procedure).
+#: Percentile readings (screening/percentiles.PERCENTILE_METHODS maps each to its procedure).
 PERCENTILE_METHOD_NAMES = ("epa_lcr", "nearest_rank", "linear", "hazen", "weibull")
 
 #: Table settings and the values each may take.

@@ -19,7 +19,8 @@ import pandas as pd
 from tracescreen._internal.frames import plain_text
 from tracescreen import __version__, vocabulary
 from tracescreen.caution import CAUTION
-from tracescreen.retest.flags import format_date, format_number, site_samples
+from tracescreen._internal.text import format_date, format_number
+from tracescreen.retest.rows import site_samples
 from tracescreen.report.figures import analyte_figures, figure_divs, plotly_script
 
 STATUS_ORDER = list(vocabulary.RANKED)

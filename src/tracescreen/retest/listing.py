@@ -1,6 +1,6 @@
 """The retest list: every retest flag and QC check on a screening table, with its options.
 
-``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.retest.flags.RETEST_COLUMNS`):
+``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.retest.rows.RETEST_COLUMNS`):
 one row per flagged result and reason (several reasons give several rows).
 """
 
@@ -10,8 +10,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from tracescreen.retest import flags
-from tracescreen.retest import qc
+from tracescreen.retest import outliers, qc_checks as qc, result_flags as flags, rows
 from tracescreen._internal.frames import plain_text
 
 REASONS = (
@@ -44,7 +43,7 @@ class RetestOptions:
     dissolved_percent, dissolved_min_multiple, dissolved_abs_multiple : float
         Dissolved vs total rule (30 %, 5 × DL, 2 × DL; common practice).
     holding_times : dict or None
-        Analyte → holding time; ``None`` uses :data:`tracescreen.retest.qc.HOLDING_TIMES`.
+        Analyte → holding time; ``None`` uses :data:`tracescreen.retest.qc_checks.HOLDING_TIMES`.
     reasons : tuple of str
         Reasons to compute (default all).
     """
@@ -99,24 +98,24 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     Returns
     -------
     pandas.DataFrame
-        Columns :data:`tracescreen.retest.flags.RETEST_COLUMNS`, sorted by site, sampling date, sample,
+        Columns :data:`tracescreen.retest.rows.RETEST_COLUMNS`, sorted by site, sampling date, sample,
         analyte, fraction and reason (in :data:`REASONS` order).
     """
     o = options or RetestOptions()
     unknown = set(o.reasons) - set(REASONS)
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
-    screening = screening[[c for c in flags.USED_COLUMNS if c in screening.columns]]
+    screening = screening[[c for c in rows.USED_COLUMNS if c in screening.columns]]
     # selected once while text is still categorical (fast), then as plain text for the messages
-    results = plain_text(flags.results_from_screening(screening))
-    single = plain_text(flags.single_sample_rows(screening))  # what the four result flags look at
+    results = plain_text(rows.results_from_screening(screening))
+    single = plain_text(rows.single_sample_rows(screening))  # what the four result flags look at
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(single, lookback=o.lookback),
         "above_range": lambda: flags.above_range(single),
         "dl_too_high": lambda: flags.dl_too_high(single),
         "near_limit": lambda: flags.near_limit(single, fraction=o.near_limit_fraction),
         "uncertainty_straddles_limit": lambda: flags.uncertainty_straddles_limit(single),
-        "history_outlier": lambda: flags.history_outlier(
+        "history_outlier": lambda: outliers.history_outlier(
             results, z_threshold=o.outlier_z, min_prior=o.outlier_min_prior),
         "duplicate_disagrees": lambda: qc.duplicate_disagrees(
             results, o.duplicate_rpd_percent, o.duplicate_rpd_min_multiple, o.duplicate_abs_multiple),
@@ -128,7 +127,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     parts = [checks[r]() for r in REASONS if r in o.reasons]
     parts = [p for p in parts if not p.empty]
     if not parts:
-        return flags.empty_retest()
+        return rows.empty_retest()
     out = pd.concat(parts, ignore_index=True)
     out["_order"] = out["reason"].map({r: i for i, r in enumerate(REASONS)})
     out = out.sort_values(["site_id", "sampled_at", "sample_id", "analyte", "fraction", "_order"],

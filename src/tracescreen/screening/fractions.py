@@ -12,7 +12,7 @@ Any other cross-fraction comparison decides nothing and gives no row. A cross-fr
 made only where the sample has no result of the limit's own fraction for that analyte (that
 result is screened directly) and only for single-sample limits (period rules pool results of the
 entry's own fraction). Rows decided so carry ``limit_fraction`` (the entry's fraction, different
-from the result's) and a note. :func:`tracescreen.screening.compare.screen` makes these pairs
+from the result's) and a note. :func:`tracescreen.screening.screen.screen` makes these pairs
 unless ``cross_fraction=False``.
 """
 
@@ -34,7 +34,7 @@ CROSS_NOTES = {
 
 def swapped(results: pd.DataFrame) -> pd.DataFrame:
     """The results with total and dissolved swapped (other fractions kept), to find the entries of
-    the other fraction with :func:`tracescreen.screening.compare.applicable_pairs`."""
+    the other fraction with :func:`tracescreen.screening.applicability.applicable_pairs`."""
     frac = results["fraction"].astype(str)
     return results.assign(fraction=frac.map(_SWAP).fillna(frac).to_numpy(dtype=object))
 

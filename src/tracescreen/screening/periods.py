@@ -25,11 +25,8 @@ values, and a non-detect is never made into an exceedance:
   non-detects at their detection limit);
 - ``nondetect_meets``: every result is a non-detect, all detection limits at or below the limit.
 
-Percentile methods (:data:`PERCENTILE_METHODS`): ``epa_lcr`` (40 CFR 141.80(c)(3): rank the n
-results, take the one numbered 0.9 n, rounded to the nearest whole number; with exactly 5 results
-the mean of the two highest; with fewer, the highest), ``nearest_rank`` (smallest value with at
-least p % of results at or below it; Hyndman & Fan type 1), ``linear`` (type 7), ``hazen``
-(type 5), ``weibull`` (type 6).
+Percentile methods: :mod:`tracescreen.screening.percentiles`. The status of a period value follows
+:func:`tracescreen.screening.status.statistic_status`.
 
 :func:`apply_period_statuses` replaces the status of screening rows whose entry has a period basis;
 :func:`period_table` gives one row per period value with the results that formed it
@@ -51,22 +48,17 @@ import numpy as np
 import pandas as pd
 from pandas.api.types import union_categoricals
 
-from tracescreen.screening import decision
-from tracescreen.limits.schema import (  # noqa: F401
-    NONDETECT_RULES, PERCENTILE_METHOD_NAMES, PERIOD_BASES, PERIODS, check_period_keys,
-)
-from tracescreen.io.units import clean_decimal
-from tracescreen.statistics.censored import kaplan_meier_grouped
+from tracescreen._internal.coded import combo_text
 from tracescreen._internal.frames import replace_at
-from tracescreen.vocabulary import RANKED
+from tracescreen.io.units import clean_decimal
+from tracescreen.limits.schema import PERIOD_BASES
+from tracescreen.screening.percentiles import group_percentiles, substitute
+from tracescreen.screening.rounding import entry_significant_figures, round_to_limit_figures
+from tracescreen.screening.status import statistic_status
+from tracescreen.statistics.censored import kaplan_meier_grouped
 
-#: Statuses a period value can take, in the severity order of :data:`tracescreen.vocabulary.STATUSES`.
-STATUS_ORDER = list(RANKED)
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
-#: method name -> numpy.quantile method (None: the rule's own procedure)
-PERCENTILE_METHODS = {"epa_lcr": None, "nearest_rank": "inverted_cdf", "linear": "linear",
-                      "hazen": "hazen", "weibull": "weibull"}
 WINDOW_MONTHS = 12
 
 PERIOD_COLUMNS = [
@@ -76,79 +68,6 @@ PERIOD_COLUMNS = [
     "source", "results",
 ]
 
-check_table = check_period_keys
-assert tuple(PERCENTILE_METHODS) == PERCENTILE_METHOD_NAMES, "schema and periods disagree on percentile methods"
-
-
-# --- statistics --------------------------------------------------------------------------------
-
-def substitute(value_ug_L, detection_limit_ug_L, detected, rule: str) -> np.ndarray:
-    """Values with non-detects replaced by 0, DL/2 or DL (``rule``; kaplan_meier uses DL here)."""
-    dl = np.asarray(detection_limit_ug_L, dtype=float)
-    nd_value = {"zero": np.zeros_like(dl), "half_dl": dl / 2.0}.get(rule, dl)
-    return np.where(np.asarray(detected, dtype=bool), np.asarray(value_ug_L, dtype=float), nd_value)
-
-
-def group_percentiles(values, group, p, method) -> np.ndarray:
-    """Percentile of `values` within each group, vectorised over groups.
-
-    Parameters
-    ----------
-    values : array of float
-        Concentrations [µg/L].
-    group : array of int
-        Group number 0..G-1 of each value (every group non-empty).
-    p : array of float
-        Percentile (0-100) per group.
-    method : array of str
-        Method per group (:data:`PERCENTILE_METHODS`).
-
-    Returns
-    -------
-    numpy.ndarray
-        One value per group; NaN for a group holding a NaN.
-    """
-    v_all = np.asarray(values, dtype=float)
-    g_all = np.asarray(group, dtype=np.int64)
-    order = np.lexsort((v_all, g_all))
-    v = v_all[order]
-    n_groups = int(g_all.max()) + 1 if g_all.size else 0
-    n = np.bincount(g_all, minlength=n_groups)
-    start = np.concatenate([[0], np.cumsum(n)[:-1]])
-    q = np.asarray(p, dtype=float) / 100.0
-    meth = np.asarray(method, dtype=object)
-    out = np.full(n_groups, np.nan)
-
-    def at(i):  # value at 0-based position i of each group
-        return v[start + np.clip(i, 0, n - 1)]
-
-    def interpolate(h):  # h: 0-based fractional position
-        h = np.clip(h, 0.0, n - 1.0)
-        lo = np.floor(h + 1e-9).astype(np.int64)
-        return at(lo) + (h - lo) * (at(lo + 1) - at(lo))
-
-    candidates = {
-        "epa_lcr": lambda: np.where(n < 5, at(n - 1), np.where(
-            n == 5, (at(n - 1) + at(n - 2)) / 2.0, at(np.floor(q * n + 0.5 + 1e-9).astype(np.int64) - 1))),
-        "nearest_rank": lambda: at(np.ceil(q * n - 1e-9).astype(np.int64) - 1),
-        "linear": lambda: interpolate((n - 1) * q),
-        "hazen": lambda: interpolate(n * q + 0.5 - 1.0),
-        "weibull": lambda: interpolate((n + 1) * q - 1.0),
-    }
-    for name in set(meth.tolist()):
-        m = meth == name
-        out[m] = candidates[name]()[m]
-    has_nan = np.bincount(g_all, weights=np.isnan(v_all).astype(float), minlength=n_groups) > 0
-    out[has_nan] = np.nan
-    return out
-
-
-def percentile(values, p: float, method: str) -> float:
-    """The p-th percentile (0 < p < 100) of one sample of values by a named method (see module doc)."""
-    values = np.asarray(values, dtype=float)
-    if values.size == 0:
-        return float("nan")
-    return float(group_percentiles(values, np.zeros(values.size, dtype=np.int64), [p], [method])[0])
 
 
 def period_bounds(sampled_at: pd.Series, period: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -198,41 +117,11 @@ DECISION_NOTES = ("", "above the limit only because of non-detects: cannot decid
 
 
 def _decide(value, lower, upper, all_nd, limit, sig, rounding_on):
-    """Status and note kind (index in :data:`DECISION_NOTES`) of period values (vectorised; see module doc)."""
+    """Status and note kind (index in :data:`DECISION_NOTES`) of period values, after the table's rounding."""
     v, lo, up, lim = (np.asarray(a, dtype=float) for a in (value, lower, upper, limit))
     if rounding_on.any():
-        v, lo, up = (np.where(rounding_on, decision.round_to_limit_figures(a, lim, sig), a) for a in (v, lo, up))
-    bound = lim * (1.0 + decision.REL_TOL)
-    with np.errstate(invalid="ignore"):
-        over, lo_over, up_over = v > bound, lo > bound, up > bound
-    status = np.select(
-        [np.isnan(lim), all_nd & up_over, all_nd, np.isnan(v), over & lo_over, over],
-        ["no_limit", "nondetect_inconclusive", "nondetect_meets", "no_limit", "exceeds", "nondetect_inconclusive"],
-        "meets").astype(object)
-    mixed = ~all_nd & ~np.isnan(v) & ~np.isnan(lim)
-    kind = np.where(mixed & over & ~lo_over, 1, np.where(mixed & ~over & up_over, 2, 0))
-    return pd.Categorical(status, categories=STATUS_ORDER), kind
-
-
-def _combo_text(columns: list, render) -> pd.Categorical:
-    """Text per row from a few low-cardinality columns, rendered once per distinct combination."""
-    n = len(columns[0])
-    key = np.zeros(n, dtype=np.int64)
-    cats = []
-    for col in columns:
-        codes, uniques = pd.factorize(np.asarray(col))
-        key = key * max(len(uniques), 1) + codes
-        cats.append(np.asarray(uniques, dtype=object))
-    uniq, inv = np.unique(key, return_inverse=True)
-    texts = []
-    for k in uniq.tolist():  # distinct combinations, not rows
-        parts = []
-        for c in reversed(cats):
-            k, i = divmod(k, max(len(c), 1))
-            parts.append(c[i])
-        texts.append(render(*reversed(parts)))
-    categories, inv2 = np.unique(np.array(texts, dtype=object).astype(str), return_inverse=True)
-    return pd.Categorical.from_codes(inv2[inv.ravel()], categories=categories)
+        v, lo, up = (np.where(rounding_on, round_to_limit_figures(a, lim, sig), a) for a in (v, lo, up))
+    return statistic_status(v, lo, up, all_nd, lim)
 
 
 _ROW_COLUMNS = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "value_ug_L", "detected",
@@ -246,7 +135,7 @@ def _entry_params(rows: dict, limits) -> dict[str, np.ndarray]:
     tcode, tcat = pd.factorize(rows["limit_table"])
     ecode, ecat = pd.factorize(rows["entry_id"])
     ents = limits.entries.set_index("entry_id").reindex(ecat)
-    sig = pd.Series(decision.entry_significant_figures(limits.entries), index=limits.entries["entry_id"]).reindex(ecat)
+    sig = pd.Series(entry_significant_figures(limits.entries), index=limits.entries["entry_id"]).reindex(ecat)
 
     def per_table(f):
         return np.array([f(settings.get(t, {})) for t in tcat], dtype=object)[tcode]
@@ -315,7 +204,7 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
     Parameters
     ----------
     screened : DataFrame
-        Screening rows (:func:`tracescreen.screening.compare.screen` columns).
+        Screening rows (:func:`tracescreen.screening.screen.screen` columns).
     limits : LimitSet
         The limit tables the rows were screened against (settings and entry keys).
     with_results : bool
@@ -390,7 +279,7 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
     first_day = pd.Series(day).groupby(code).transform("min").to_numpy()
     window_start = (day - pd.DateOffset(months=WINDOW_MONTHS) + pd.Timedelta(days=1)).to_numpy()
     short = first_day > window_start
-    note = _combo_text([n.astype(int), rule, short, kind], lambda k, ru, sh, kd: "; ".join(filter(None, [
+    note = combo_text([n.astype(int), rule, short, kind], lambda k, ru, sh, kd: "; ".join(filter(None, [
         f"running annual mean of {k} result{'' if k == 1 else 's'} ({NONDETECT_RULE_TEXT[ru]})",
         "less than 12 months of record" if sh else "", DECISION_NOTES[kd]])))
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -456,7 +345,7 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     lim_min = np.minimum.reduceat(np.nan_to_num(limit_all, nan=np.inf), starts)
     lim_max = np.maximum.reduceat(np.nan_to_num(limit_all, nan=-np.inf), starts)
     stat = np.char.mod("%g", pct).astype(object) + "th percentile (" + method.astype(str).astype(object) + ")"
-    note = _combo_text([stat, n, label[last], rule, kind, lim_min != lim_max],
+    note = combo_text([stat, n, label[last], rule, kind, lim_min != lim_max],
                        lambda st, k, lab, ru, kd, ch: "; ".join(filter(None, [
                            f"{st} of {k} result{'' if k == 1 else 's'} in {lab} ({NONDETECT_RULE_TEXT[ru]})", DECISION_NOTES[kd],
                            "the limit changed within the period; the limit in force on the last sample date "

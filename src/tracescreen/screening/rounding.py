@@ -1,31 +1,14 @@
-"""Decision conventions applied when comparing a result with a limit.
+"""Rounding a result to the limit's significant figures before the comparison (a table setting).
 
-Two conventions that real limits carry beside their values:
-
-Rounding (a table setting, ``rounding: significant_figures``)
-    The result is rounded to the limit's number of significant figures before the comparison, as
-    some regulators do ("0.0104 mg/L reported against an MCL of 0.010 mg/L is 0.010 and meets it").
-    Rounding is to the decimal place of the limit's last significant digit, halves rounded up; for
-    a result of the limit's order of magnitude this is the same as rounding the result to the
-    limit's significant figures, and for any other result the decision is the same. The number of
-    significant figures is the entry's ``significant_figures`` key, or counted from the value as
-    written in the table (``0.010`` has 2, ``10`` has 2, ``0.01`` has 1). For a hardness-formula
-    entry the computed criterion is rounded to ``significant_figures`` too (published criteria are
-    rounded to two significant figures, 40 CFR 132 Tables 1-2 footnote b).
-
-Measurement uncertainty (a per-run option, :func:`uncertainty_decision`)
-    Following the Eurachem/CITAC guide, a guard band g = f x U (U the result's expanded
-    uncertainty, f stated by the user, 1 by default) splits each side of the limit into a zone where
-    the decision holds beyond the uncertainty and a zone where it does not:
-    ``exceeds_beyond_uncertainty`` (x - g > L), ``exceeds_within_uncertainty`` (L < x <= L + g),
-    ``meets_within_uncertainty`` (L - g < x <= L), ``meets_beyond_uncertainty`` (x + g <= L).
-
-References
-----------
-.. [1] Bettencourt da Silva, R. and Williams, A. (eds.) (2021). Eurachem/CITAC Guide: Use of
-   uncertainty information in compliance assessment, 2nd ed. Eurachem. ISBN 978-0-948926-38-9.
-.. [2] 40 CFR part 132, Tables 1 and 2, footnote b: "The CMCd shall be rounded to two significant
-   digits" (criteria rounding).
+Tables with ``rounding: significant_figures`` compare the result rounded to the limit's number of
+significant figures, as some regulators do ("0.0104 mg/L reported against an MCL of 0.010 mg/L is
+0.010 and meets it"). Rounding is to the decimal place of the limit's last significant digit,
+halves rounded up; for a result of the limit's order of magnitude this is the same as rounding the
+result to the limit's significant figures, and for any other result the decision is the same. The
+number of significant figures is the entry's ``significant_figures`` key, or counted from the value
+as written in the table (``0.010`` has 2, ``10`` has 2, ``0.01`` has 1). For a hardness-formula
+entry the computed criterion is rounded to ``significant_figures`` too (published criteria are
+rounded to two significant figures, [CFR40-132]_ Tables 1-2 footnote b).
 """
 
 from __future__ import annotations
@@ -35,20 +18,10 @@ import re
 import numpy as np
 import pandas as pd
 
-from tracescreen.limits.schema import ROUNDING_CHOICES, check_significant_figures  # noqa: F401
 from tracescreen._internal.frames import replace_at
-
-from tracescreen.vocabulary import REL_TOL  # relative tolerance of "equal", shared with screening
-
-UNCERTAINTY_DECISIONS = (
-    "exceeds_beyond_uncertainty", "exceeds_within_uncertainty", "meets_within_uncertainty",
-    "meets_beyond_uncertainty", "uncertainty_not_given",
-)
+from tracescreen.screening.status import classify
 
 _NUMBER = re.compile(r"^[+-]?(\d*)(?:\.(\d*))?(?:[eE][+-]?\d+)?$")
-
-
-check_table = check_significant_figures
 
 
 def significant_figures(text) -> float:
@@ -146,8 +119,6 @@ def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
     det = rows["detected"].to_numpy(dtype=bool)
     raw = np.where(det, rows["value_ug_L"].to_numpy(float), rows["detection_limit_ug_L"].to_numpy(float))
     cmp = round_to_limit_figures(raw, limit, s)
-    from tracescreen.screening.compare import classify  # here: screening calls this module
-
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = cmp / limit
     note = rows["note"].astype(str).to_numpy(dtype=object)
@@ -161,45 +132,3 @@ def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
         ratio=replace_at(out["ratio"], idx, ratio),
         note=replace_at(out["note"], idx, note),
     )
-
-
-def uncertainty_decision(screened: pd.DataFrame, guard_band_factor: float = 1.0) -> pd.DataFrame:
-    """Add ``guard_band_ug_L`` and ``uncertainty_decision`` beside each detected result's status.
-
-    Parameters
-    ----------
-    screened : DataFrame
-        Screening rows (needs ``detected, value_ug_L, limit_ug_L, uncertainty_ug_L, basis``).
-    guard_band_factor : float
-        f in g = f x U, U the expanded uncertainty as reported (usually k = 2, about 95 %).
-
-    Returns
-    -------
-    DataFrame
-        A copy with the two columns; rows that are non-detects, period statistics or without a
-        limit get an empty decision (not applicable).
-
-    References
-    ----------
-    .. [1] Eurachem/CITAC Guide: Use of uncertainty information in compliance assessment, 2nd ed.
-       (2021), decision rules with a guard band.
-    """
-    if not np.isfinite(guard_band_factor) or guard_band_factor < 0:
-        raise ValueError("the guard band factor must be a number >= 0")
-    x = screened["value_ug_L"].to_numpy(dtype=float)
-    lim = screened["limit_ug_L"].to_numpy(dtype=float)
-    g = guard_band_factor * screened["uncertainty_ug_L"].to_numpy(dtype=float)
-    applies = (screened["detected"].to_numpy(dtype=bool) & ~np.isnan(lim)
-               & (screened["basis"] == "single_sample").to_numpy())
-    tol = lim * REL_TOL
-    with np.errstate(invalid="ignore"):
-        decision = np.select(
-            [np.isnan(g), x - g > lim + tol, x > lim + tol, x + g <= lim + tol],
-            ["uncertainty_not_given", "exceeds_beyond_uncertainty", "exceeds_within_uncertainty",
-             "meets_beyond_uncertainty"],
-            "meets_within_uncertainty").astype(object)
-    decision[~applies] = ""
-    out = screened.copy()
-    out["guard_band_ug_L"] = np.where(applies, g, np.nan)
-    out["uncertainty_decision"] = decision
-    return out

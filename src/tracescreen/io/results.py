@@ -1,0 +1,88 @@
+"""The accepted-results table (the contract between reading and screening) and the load outcome.
+
+Every data row of every file read ends up in exactly one of three tables: ``accepted`` (results to
+screen, :data:`ACCEPTED_COLUMNS`), ``set_aside`` (rows that are not results for screening: lab QC,
+analytes outside the registry, results qualified unusable) or ``rejected`` (rows that need
+attention, with the reason). Rows read = accepted + set aside + rejected, per file.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+from pandas.api.types import union_categoricals
+
+ACCEPTED_COLUMNS = [
+    "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction",
+    "result_text", "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier",
+    "sample_type", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L",
+    "uncertainty_ug_L", "qualifier_meaning",
+]
+
+
+#: Text columns of the accepted table (held as pandas categoricals of str).
+TEXT_COLUMNS = ("file", "sheet", "site_id", "sample_id", "analyte", "fraction", "result_text", "unit",
+                "qualifier", "sample_type", "parent_sample_id", "lab", "batch", "qualifier_meaning")
+
+
+@dataclass
+class LoadResult:
+    """Accepted rows, rows set aside (not results for screening), rejected rows with reasons, and
+    one line per file read. Rows read = accepted + set aside + rejected."""
+
+    accepted: pd.DataFrame
+    rejected: pd.DataFrame
+    files: pd.DataFrame
+    warnings: list[str] = field(default_factory=list)
+    set_aside: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=["file", "sheet", "row", "reason"]))
+
+
+#: Reasons of rows set aside start with this (they are stored with the rejected rows of a
+#: workspace, so that its counts stay rows read = stored + rejected, and told apart by it).
+SET_ASIDE_PREFIX = "not screened: "
+
+
+def split_set_aside(rows: pd.DataFrame) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """(rejected, set aside) rows of a table of rows not accepted, told apart by their reason; the
+    reasons of the rows set aside are returned without :data:`SET_ASIDE_PREFIX`."""
+    aside = rows["reason"].astype(str).str.startswith(SET_ASIDE_PREFIX).to_numpy(dtype=bool) if len(rows) else \
+        np.zeros(0, dtype=bool)
+    out = rows[aside].reset_index(drop=True)
+    out["reason"] = out["reason"].astype(str).str.removeprefix(SET_ASIDE_PREFIX)
+    return rows[~aside].reset_index(drop=True), out
+
+
+
+
+def empty_accepted() -> pd.DataFrame:
+    """An accepted-results table with no rows and the contract's columns and types."""
+    return normalise_empty()
+
+
+def normalise_empty() -> pd.DataFrame:
+    no_text = pd.Categorical([], categories=pd.Index([], dtype="str"))
+    cols = {c: pd.Series(no_text) if c in TEXT_COLUMNS else pd.Series(dtype=str)
+            for c in ACCEPTED_COLUMNS}
+    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L"):
+        cols[c] = pd.Series(dtype=float)
+    cols["row"] = pd.Series(dtype="int64")
+    cols["detected"] = pd.Series(dtype=bool)
+    cols["sampled_at"] = pd.Series(dtype="datetime64[ns]")
+    cols["analysed_at"] = pd.Series(dtype="datetime64[ns]")
+    return pd.DataFrame(cols)
+
+
+def concat_accepted(frames: list[pd.DataFrame]) -> pd.DataFrame:
+    """Concatenate accepted tables, keeping text columns categorical (union of sorted categories)."""
+    if len(frames) == 1:
+        return frames[0]
+    text = [c for c in frames[0].columns if c in TEXT_COLUMNS]
+    out = pd.concat([f.drop(columns=text) for f in frames], ignore_index=True)
+    for c in text:  # categories are unions of the files' categories (codes are recoded, not text)
+        cats = [pd.Categorical(f[c]) for f in frames]
+        cats = [x.set_categories(x.categories.astype("str")) for x in cats]  # one categories dtype
+        out[c] = union_categoricals(cats, sort_categories=True)
+    return out[frames[0].columns]
+

@@ -1,0 +1,103 @@
+"""Which limit entries apply to which results.
+
+An entry applies to a result when the entry's table protects one of the site's water uses (every
+table applies to every site when no sites file is given), the analyte and fraction are the same,
+and the entry is in force on the sampling date (``effective_from`` / ``effective_to``, inclusive
+days). Across fractions (total >= dissolved) an entry of the other fraction may decide too:
+:mod:`tracescreen.screening.fractions`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from tracescreen.io.sites import site_uses
+from tracescreen.screening import fractions
+
+#: int64 day number of a missing date (NaT)
+NAT_DAY = np.iinfo(np.int64).min
+
+
+def _codes(values: pd.Series, categories: pd.Index) -> np.ndarray:
+    return categories.get_indexer(values)
+
+
+def applicable_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) -> tuple[np.ndarray, np.ndarray]:
+    """Result positions and entry positions of every (result, entry) candidate pair.
+
+    Candidates share site use, analyte and fraction; dates are checked by :func:`in_force`.
+
+    Parameters
+    ----------
+    results : DataFrame
+        Accepted results (``site_id, analyte, fraction``).
+    limits : LimitSet
+        Loaded limit tables.
+    sites : DataFrame or None
+        Sites with their uses; None: every table applies to every site.
+
+    Returns
+    -------
+    (r_pos, e_pos) : two int arrays of equal length
+        Positions in ``results`` and in ``limits.entries``, grouped by result in input order.
+    """
+    entries = limits.entries
+    e_ok = np.ones(len(entries), dtype=bool)  # every basis; period bases are decided by periods.py
+    site_code, site_cat = pd.factorize(results["site_id"])
+    ana_code, ana_cat = pd.factorize(results["analyte"])
+    fr_code, fr_cat = pd.factorize(results["fraction"])
+    n_a, n_f = max(len(ana_cat), 1), max(len(fr_cat), 1)
+    r_key = (site_code.astype(np.int64) * n_a + ana_code) * n_f + fr_code
+
+    e_idx = np.flatnonzero(e_ok)
+    if sites is None:
+        su = pd.DataFrame({"site_id": np.repeat(site_cat.to_numpy(), len(limits.tables)),
+                           "use": np.tile(limits.tables["use"].to_numpy(), len(site_cat))})
+    else:
+        su = site_uses(sites)
+    ent = entries.iloc[e_idx][["use", "analyte", "fraction"]].assign(_e=e_idx)
+    pairs = su.drop_duplicates().merge(ent, on="use")
+    p_site = _codes(pairs["site_id"], pd.Index(site_cat))
+    p_ana = _codes(pairs["analyte"], pd.Index(ana_cat))
+    p_fr = _codes(pairs["fraction"], pd.Index(fr_cat))
+    keep = (p_site >= 0) & (p_ana >= 0) & (p_fr >= 0)
+    p_key = ((p_site.astype(np.int64) * n_a + p_ana) * n_f + p_fr)[keep]
+    p_entry = pairs["_e"].to_numpy()[keep]
+    order = np.argsort(p_key, kind="stable")
+    p_key, p_entry = p_key[order], p_entry[order]
+    start = np.searchsorted(p_key, r_key, side="left")
+    stop = np.searchsorted(p_key, r_key, side="right")
+    counts = stop - start
+    r_pos = np.repeat(np.arange(len(results)), counts)
+    offsets = np.arange(len(r_pos)) - np.repeat(np.cumsum(counts) - counts, counts)
+    e_pos = p_entry[np.repeat(start, counts) + offsets]
+    return r_pos, e_pos
+
+
+def cross_fraction_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) -> tuple[np.ndarray, np.ndarray]:
+    """Candidate pairs of results with single-sample entries of the other fraction.
+
+    Only for results whose sample has no result of the entry's own fraction for that analyte
+    (:func:`tracescreen.screening.fractions.lacks_other_fraction`); whether a pair decides is known
+    only after comparison (:func:`tracescreen.screening.fractions.deciding`).
+    """
+    r_x, e_x = applicable_pairs(fractions.swapped(results), limits, sites)
+    keep_x = fractions.lacks_other_fraction(results)[r_x] & \
+        (limits.entries["basis"].astype(str).to_numpy(dtype=object)[e_x] == "single_sample")
+    return r_x[keep_x], e_x[keep_x]
+
+
+def days(dates: pd.Series) -> np.ndarray:
+    """Whole days since 1970 as int64 (NaT stays :data:`NAT_DAY`), for fast date comparisons."""
+    ns = pd.to_datetime(dates).astype("datetime64[ns]").to_numpy().view(np.int64)
+    return np.where(ns == NAT_DAY, NAT_DAY, np.floor_divide(ns, 86_400_000_000_000))
+
+
+def in_force(results: pd.DataFrame, entries: pd.DataFrame, r_pos: np.ndarray, e_pos: np.ndarray) -> np.ndarray:
+    """True where entry ``e_pos`` is in force on the sampling day of result ``r_pos`` (inclusive days;
+    a missing ``effective_from`` / ``effective_to`` is open)."""
+    day = days(results["sampled_at"])[r_pos]
+    lo = days(entries["effective_from"])[e_pos]
+    hi = days(entries["effective_to"])[e_pos]
+    return ((lo == NAT_DAY) | (day >= lo)) & ((hi == NAT_DAY) | (day <= hi))
