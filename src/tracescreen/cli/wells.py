@@ -106,7 +106,7 @@ def run(args) -> int:
     from tracescreen.io.network import NetworkError, read_network
     from tracescreen.io.sites import load_sites
     from tracescreen.limits.load import load_limits
-    from tracescreen.screening.compare import screen
+    from tracescreen.screening.screen import screen
     from tracescreen.statistics.background.run import well_statistics
 
     design = design_from_args(args)

@@ -35,7 +35,9 @@ import pandas as pd
 from scipy import stats
 
 from tracescreen.statistics import censored
-from tracescreen.statistics.trends import decimal_years, mann_kendall_grouped
+from tracescreen.statistics.mann_kendall import mann_kendall_grouped
+from tracescreen.statistics.ros import ros
+from tracescreen.statistics.series import decimal_years
 
 from .design import Design
 from .outliers import screen_outliers
@@ -64,7 +66,7 @@ def _complete_set(x: np.ndarray, nd: np.ndarray) -> np.ndarray:
     if not nd.any():
         return x
     try:
-        return np.asarray(censored.ros(x, nd), dtype=float)
+        return np.asarray(ros(x, nd), dtype=float)
     except (ValueError, np.linalg.LinAlgError):
         return x[~nd]
 

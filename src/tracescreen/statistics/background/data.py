@@ -25,7 +25,7 @@ import numpy as np
 import pandas as pd
 
 from tracescreen.io.qualifiers import ESTIMATED_MEANINGS
-from tracescreen.statistics.summary import censored_series, site_samples
+from tracescreen.statistics.series import censored_series, site_samples
 
 from .design import Design
 

@@ -29,7 +29,8 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from tracescreen.statistics.trends import date_from_decimal_year, decimal_years, mann_kendall_grouped
+from tracescreen.statistics.mann_kendall import mann_kendall_grouped
+from tracescreen.statistics.series import date_from_decimal_year, decimal_years
 from tracescreen.vocabulary import REL_TOL
 
 from . import confidence as ci
