@@ -18,6 +18,7 @@ COMMANDS = [
     "screen",
     "trends",
     "wells",
+    "labqc",
     "report",
     "dashboard",
     "import_",
