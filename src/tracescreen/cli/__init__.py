@@ -17,6 +17,7 @@ from tracescreen.caution import CAUTION
 COMMANDS = [
     "screen",
     "trends",
+    "wells",
     "labqc",
     "report",
     "dashboard",
