@@ -72,10 +72,7 @@ def run(args) -> int:
     if loaded is not None:
         _print_rows(loaded)
         review = review_lab_qc(accepted, qc, windows)
-        written["qc_rows"] = outputs.write_csv(review.qc, out / "qc_rows.csv")
-        written["verdicts"] = outputs.write_csv(review.verdicts, out / "qc_verdicts.csv")
-        written["qualified"] = outputs.write_csv(review.qualified, out / "qualified_results.csv")
-        written["batches"] = outputs.write_csv(review.batches, out / "qc_batches.csv")
+        written.update(write_review(review, out))
         retest_parts.append(review.retest)
         if qc.empty:
             warn("no laboratory QC rows found in the files: ask the laboratory for the QC summary of each batch")
@@ -88,7 +85,9 @@ def run(args) -> int:
         for text in review.batches["narrative"]:
             print(f"\n{text}")
     if args.calibration:
-        written.update(_calibration(args, accepted, out, retest_parts))
+        cal_written, cal_retest, _ = calibration_review(args, accepted, out)
+        written.update(cal_written)
+        retest_parts.append(cal_retest)
     retest = pd.concat([p for p in retest_parts if len(p)], ignore_index=True) if any(len(p) for p in retest_parts) \
         else (retest_parts[0] if retest_parts else pd.DataFrame())
     if retest_parts:
@@ -102,13 +101,37 @@ def run(args) -> int:
     return 0
 
 
+def write_review(review, out: Path) -> dict:
+    """Write a review's tables; returns {name: path}."""
+    return {"qc_rows": outputs.write_csv(review.qc, out / "qc_rows.csv"),
+            "verdicts": outputs.write_csv(review.verdicts, out / "qc_verdicts.csv"),
+            "qualified": outputs.write_csv(review.qualified, out / "qualified_results.csv"),
+            "batches": outputs.write_csv(review.batches, out / "qc_batches.csv")}
+
+
+def review_for_screen(args, loaded):
+    """The laboratory QC review of ``screen``'s load (None when the files carry no QC rows)."""
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.retest.labqc.review import review_load
+
+    try:
+        return review_load(loaded, getattr(args, "qc", None) or (),
+                           load_column_map(args.columns) if args.columns else None, args.date_order, args.encoding)
+    except ValueError as exc:
+        raise UserError(str(exc)) from None
+
+
 def _print_rows(loaded) -> None:
     f = loaded.files
     print(f"Rows read: {int(f['rows_read'].sum())}  accepted: {len(loaded.accepted)}  set aside (not screened): "
           f"{len(loaded.set_aside)}  rejected: {len(loaded.rejected)}")
 
 
-def _calibration(args, accepted, out: Path, retest_parts: list) -> dict:
+def calibration_review(args, accepted, out: Path):
+    """Fit the calibration files of ``args.calibration``, write their tables and check the results.
+
+    Returns ({name: path}, retest rows, the per-analyte ranges and supported detection limits).
+    """
     from tracescreen.retest.calibration.checks import analyte_ranges, check_results
     from tracescreen.retest.calibration.fit import fit_curves
     from tracescreen.retest.calibration.limits import curve_limits, mdl
@@ -136,6 +159,5 @@ def _calibration(args, accepted, out: Path, retest_parts: list) -> dict:
         print(f"  {r.analyte} run {r.run or '-'}: {r.weighting} fit, slope {r.slope:.5g}, intercept {r.intercept:.4g}, "
               f"r {r.r:.5f}, LOD {r.lod_ug_L:.3g} ug/L, LOQ {r.loq_ug_L:.3g} ug/L"
               + (f", lack-of-fit p {r.lack_of_fit_p:.3g}" if pd.notna(r.lack_of_fit_p) else ""))
-    if len(accepted):
-        retest_parts.append(check_results(accepted, analyte_ranges(limits, mdls)))
-    return written
+    ranges = analyte_ranges(limits, mdls)
+    return written, check_results(accepted, ranges) if len(accepted) else check_results(None, ranges), ranges

@@ -11,6 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from tracescreen.retest.rows import RETEST_COLUMNS, empty_retest
+
 REASONS = (
     "calibration_check_failed", "blank_affects_result", "control_sample_out", "spike_recovery_low",
     "spike_recovery_high", "lab_duplicate_disagrees", "interference_check_failed", "serial_dilution_disagrees",
@@ -51,9 +53,6 @@ SUGGESTED_ACTIONS = {
 }
 """Suggested action for each reason (common practice)."""
 
-RETEST_COLUMNS = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch", "reason",
-                  "detail", "suggested_action"]
-"""The columns of ``retest.csv`` (the same as :data:`tracescreen.retest.flags.RETEST_COLUMNS`)."""
 
 
 def _take(results: pd.DataFrame, pos: np.ndarray) -> pd.DataFrame:
@@ -87,8 +86,7 @@ def retest_rows(results: pd.DataFrame, links: pd.DataFrame, missing_pos: np.ndar
         rows["detail"] = "no laboratory QC rows for batch '" + rows["batch"] + "' (other batches have them)"
         parts.append(rows)
     if not parts:
-        return pd.DataFrame({c: pd.Series(dtype="datetime64[us]" if c == "sampled_at" else object)
-                             for c in RETEST_COLUMNS})
+        return empty_retest()
     out = pd.concat(parts, ignore_index=True)
     out["suggested_action"] = out["reason"].map(SUGGESTED_ACTIONS)
     out["_order"] = out["reason"].map({r: i for i, r in enumerate(REASONS)})

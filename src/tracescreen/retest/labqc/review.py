@@ -142,3 +142,19 @@ def qc_table(set_aside: pd.DataFrame | None = None, accepted: pd.DataFrame | Non
     parts += [read_qc_file(p, column_map, date_order, encoding) for p in qc_files]
     parts = [p for p in parts if len(p)]
     return pd.concat(parts, ignore_index=True) if parts else empty_qc()
+
+
+def review_load(loaded, qc_files=(), column_map: ColumnMap | None = None, date_order: str = "iso",
+                encoding: str = "utf-8", windows: dict[str, Window] | None = None) -> LabQcReview | None:
+    """The laboratory QC review of a load, or None when it has no laboratory QC rows.
+
+    The review runs when the lab files carry QC rows (set aside by the loader) or QC files are
+    given; the laboratory blanks among the accepted results then join it. A load without any
+    laboratory QC rows gets no review (its lab blanks stay with the ``blank_contamination`` check).
+    """
+    lab_rows = qc_table(loaded.set_aside, None, qc_files, column_map, date_order, encoding)
+    if lab_rows.empty:
+        return None
+    blanks = qc_from_results(loaded.accepted)
+    qc = pd.concat([lab_rows, blanks], ignore_index=True) if len(blanks) else lab_rows
+    return review_lab_qc(loaded.accepted, qc, windows)

@@ -11,6 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from tracescreen._internal.text import format_number
 from tracescreen.retest.labqc.windows import Window, judge
 
 VERDICT_COLUMNS = [
@@ -34,13 +35,9 @@ _WORDS = {"recovery": "recovery", "rpd": "RPD", "percent_difference": "%D", "bla
 
 
 def fmt(values, digits: int = 4) -> np.ndarray:
-    """Numbers as short text (``g`` format, ``digits`` significant figures); NaN as ``""``.
-
-    QC tables are small (one row per QC measurement), so this is a plain comprehension.
-    """
-    return np.array(["" if not np.isfinite(v) else
-                     np.format_float_positional(float(f"{v:.{digits}g}"), trim="-")
-                     for v in np.asarray(values, dtype=float)], dtype=object)
+    """Numbers as text with ``digits`` significant figures (NaN as ``""``), as an object array that
+    concatenates with other text arrays (:func:`tracescreen._internal.text.format_number`)."""
+    return format_number(np.asarray(values, dtype=float), digits).to_numpy(dtype=object)
 
 
 def edges(lab_low, lab_high, window: Window) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
