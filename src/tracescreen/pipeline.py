@@ -145,20 +145,12 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
         With a workspace, record the run in it under this command name.
     """
     from tracescreen._internal.hashing import file_sha256
-    from tracescreen.io.loading import load_results
     from tracescreen.io.sites import load_sites
     from tracescreen.limits.load import load_limits
 
     limits = load_limits(list(inputs.limits))
     sites = load_sites(inputs.sites) if inputs.sites else None
-    sites_name = Path(inputs.sites).name if inputs.sites else "the sites file"
-    if inputs.workspace:
-        from tracescreen.store.workspace import open_workspace
-
-        with open_workspace(inputs.workspace) as ws:
-            loaded = ws.load_result(sites, sites_name)
-    else:
-        loaded = load_results(inputs.results, inputs.reading, sites, sites_name=sites_name)
+    loaded = read_results(inputs, sites)
     rows = [{"kind": "results", "file": r.file, "path": r.path, "sheet": r.sheet, "sha256": r.sha256}
             for r in loaded.files.itertuples()] if len(loaded.files) else []
     rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": file_sha256(p)}
@@ -175,6 +167,20 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
     import pandas as pd
 
     return Loaded(loaded, limits, sites, pd.DataFrame(rows))
+
+
+def read_results(inputs: Inputs, sites=None):
+    """The lab results of a run: the lab files of ``inputs``, or its workspace's current results
+    (:class:`tracescreen.io.loading.LoadResult`; results of sites not in ``sites`` are rejected)."""
+    sites_name = Path(inputs.sites).name if inputs.sites else "the sites file"
+    if inputs.workspace:
+        from tracescreen.store.workspace import open_workspace
+
+        with open_workspace(inputs.workspace) as ws:
+            return ws.load_result(sites, sites_name)
+    from tracescreen.io.loading import load_results
+
+    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name)
 
 
 def screen(data: Loaded, options: Options) -> tuple[Any, Any]:
@@ -230,12 +236,12 @@ def trends(accepted, screened, options: StatisticsOptions):
                        min_n=options.min_trend_values, limits=lowest_limits(screened))
 
 
-def retest(screened, options: RetestOptions):
-    """Step 4: the retest list (``retest.csv``)."""
+def retest(screened, options: RetestOptions, lab_qc=None):
+    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the others."""
     from tracescreen._internal.memory import release_unused
     from tracescreen.retest.listing import retest_list
 
-    out = retest_list(screened, options)
+    out = retest_list(screened, options, lab_qc=lab_qc)
     release_unused()
     return out
 

@@ -17,11 +17,14 @@ from tracescreen.caution import CAUTION
 COMMANDS = [
     "screen",
     "trends",
+    "wells",
+    "labqc",
     "report",
     "dashboard",
     "import_",
     "history",
     "export",
+    "limits",
 ]
 
 

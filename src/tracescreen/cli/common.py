@@ -58,7 +58,7 @@ def load_options(args):
                        encoding=args.encoding, default_fraction=args.default_fraction, sheet=args.sheet)
 
 
-def pipeline_inputs(args):
+def pipeline_inputs(args, limits: bool = True):
     """The run's :class:`tracescreen.pipeline.Inputs` from the data options (user errors raise)."""
     from tracescreen.pipeline import Inputs
 
@@ -67,8 +67,19 @@ def pipeline_inputs(args):
         raise UserError("give lab result files or --workspace DIR, not both")
     if not workspace and not args.results and getattr(args, "results_required", True):
         raise UserError("no lab result files given (give files, or --workspace DIR)")
-    return Inputs(results=tuple(args.results), limits=tuple(args.limits), sites=args.sites, workspace=workspace,
-                  reading=None if workspace else load_options(args))
+    return Inputs(results=tuple(args.results), limits=tuple(args.limits) if limits else (),
+                  sites=getattr(args, "sites", None), workspace=workspace, reading=None if workspace else load_options(args))
+
+
+def results_from_args(args, sites=None):
+    """The lab results a command uses: the lab files given, or the current results of ``--workspace``
+    (results of sites not in ``sites`` then rejected, as the loader does); the loader's warnings are shown."""
+    from tracescreen.pipeline import read_results
+
+    loaded = read_results(pipeline_inputs(args, limits=False), sites)
+    for msg in loaded.warnings:
+        warn(msg)
+    return loaded
 
 
 def announce(data) -> None:

@@ -10,11 +10,19 @@ import pandas as pd
 
 from tracescreen._internal.frames import plain_text
 from tracescreen.retest import outliers, qc_checks as qc, result_flags as flags, rows
+from tracescreen.retest.calibration.checks import REASONS as CALIBRATION_REASONS
+from tracescreen.retest.labqc.reasons import REASONS as LAB_QC_REASONS
 from tracescreen.retest.options import REASONS, RetestOptions
 
-__all__ = ["REASONS", "RetestOptions", "retest_list"]
+__all__ = ["LISTED_REASONS", "REASONS", "RetestOptions", "retest_list"]
 
-def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -> pd.DataFrame:
+LISTED_REASONS = REASONS + LAB_QC_REASONS + CALIBRATION_REASONS
+"""Every reason code of ``retest.csv`` in listing order: the checks on the screening table, then
+the laboratory QC review (:mod:`tracescreen.retest.labqc.reasons`) and the calibration checks
+(:mod:`tracescreen.retest.calibration.checks`), whose rows are built by their review and passed in."""
+
+def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
+                lab_qc: pd.DataFrame | None = None) -> pd.DataFrame:
     """All retest flags and QC checks on a screening table.
 
     Parameters
@@ -22,12 +30,15 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     screening : pandas.DataFrame
         The screening table (DEVELOPERS.md contract), including QC samples (status ``qc_sample``).
     options : RetestOptions, optional
+    lab_qc : pandas.DataFrame, optional
+        Retest rows of the laboratory QC review and calibration checks
+        (:attr:`tracescreen.retest.labqc.review.LabQcReview.retest`), listed with the others.
 
     Returns
     -------
     pandas.DataFrame
         Columns :data:`tracescreen.retest.rows.RETEST_COLUMNS`, sorted by site, sampling date, sample,
-        analyte, fraction and reason (in :data:`REASONS` order).
+        analyte, fraction and reason (in :data:`LISTED_REASONS` order).
     """
     o = options or RetestOptions()
     unknown = set(o.reasons) - set(REASONS)
@@ -52,12 +63,12 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
             results, o.dissolved_percent, o.dissolved_min_multiple, o.dissolved_abs_multiple),
         "holding_time_exceeded": lambda: qc.holding_time_exceeded(results, o.holding_times),
     }
-    parts = [checks[r]() for r in REASONS if r in o.reasons]
+    parts = [checks[r]() for r in REASONS if r in o.reasons] + ([lab_qc] if lab_qc is not None else [])
     parts = [p for p in parts if not p.empty]
     if not parts:
         return rows.empty_retest()
     out = pd.concat(parts, ignore_index=True)
-    out["_order"] = out["reason"].map({r: i for i, r in enumerate(REASONS)})
+    out["_order"] = out["reason"].map({r: i for i, r in enumerate(LISTED_REASONS)})
     out = out.sort_values(["site_id", "sampled_at", "sample_id", "analyte", "fraction", "_order"],
                           kind="stable")
     return out.drop(columns="_order").reset_index(drop=True)

@@ -77,8 +77,12 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
 
     References
     ----------
-    .. [1] US EPA, National Functional Guidelines for Inorganic Superfund Methods Data Review
-       (duplicate RPD and the ±RL rule near the reporting limit; from memory).
+    .. [1] US EPA (2020), National Functional Guidelines for Inorganic Superfund Methods Data Review
+       [USEPA2020NFG]: the guideline gives no numeric criterion for field duplicates (the 30 % is
+       common practice of project plans). Its laboratory-duplicate rule has the same shape, RPD
+       <= 20 % when both results are >= 5 x the quantitation limit, else |A - B| <= the
+       quantitation limit (from memory); the laboratory QC review applies it to the lab's own
+       duplicates (retest reason ``lab_duplicate_disagrees``, :mod:`tracescreen.retest.labqc.precision`).
     """
     res = results_from_screening(results)
     dup = res[res["sample_type"].eq("field_duplicate") & res["parent_sample_id"].fillna("").ne("")]
@@ -125,8 +129,11 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0) -> pd.Data
     results : pandas.DataFrame
         Accepted results.
     multiple : float
-        Default 5 (the 5 × blank rule, common practice; US EPA National Functional Guidelines for
-        inorganic data review use multiples of the blank, from memory).
+        Default 5: the 5 × blank rule of the editions of the US EPA National Functional Guidelines
+        for inorganic data review before the quantitation-limit tiers (from memory; common
+        practice). The 2020 edition qualifies by the blank's and the quantitation limit's tiers;
+        the laboratory QC review applies them to the lab's calibration and method blanks
+        (retest reason ``blank_affects_result``, :mod:`tracescreen.retest.labqc.blanks`).
 
     Returns
     -------
