@@ -13,11 +13,11 @@ import pandas as pd
 
 from tracescreen.io import analytes
 from tracescreen.io import cells as parsing
-from tracescreen.io import hardness_rows, parameter_codes, units
+from tracescreen.io import chemistry_rows, hardness_rows, parameter_codes, units
 from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
 from tracescreen.io.columns import REQUIRED, mapping_applies, recognise_columns
 from tracescreen.io.files import LoadError, LoadOptions, RawTable
-from tracescreen.io.results import SET_ASIDE_PREFIX, normalise_empty
+from tracescreen.io.results import INPUT_COLUMNS, SET_ASIDE_PREFIX, normalise_empty
 
 
 def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
@@ -215,6 +215,10 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         from_rows = hardness_rows.hardness_of_samples(sample_code, ok_h, h_mg_L)
         row_hardness = np.where(np.isnan(row_hardness), from_rows, row_hardness)
 
+    sample_code, _ = joint_codes(site.codes, sample.codes)  # pH, DOC, temperature rows -> the sample's inputs
+    chem = chemistry_rows.sample_inputs_from_rows(analyte_text, fraction == 2, aside, parsed, combo, unit_text.codes,
+                                                  v_unit_plain, v_factor, sample_code)
+
     unc, v_bad_unc = parsing.parse_uncertainty(at_first(unc_text), parsed["value"], opts.decimal_comma)
     bad_unc = v_bad_unc[combo]
     _add(reasons, bad_unc, _quoted(unc_text, bad_unc, "uncertainty ", " is not a number or a percentage"))
@@ -250,6 +254,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "hardness_mg_L": row_hardness[ok],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
         "qualifier_meaning": pd.Categorical(parsed["meaning"][okc].astype(str)),
+        **{c: chem[c][ok] for c in INPUT_COLUMNS},
     })
     rej_cells = cells.loc[rejected_mask]
     rej_cells = rej_cells.drop(columns=[c for c in rej_cells.columns if str(c).startswith("__")])
