@@ -54,11 +54,11 @@ from tracescreen.limits.schema import PERIOD_BASES
 from tracescreen.screening.percentiles import group_percentiles, substitute
 from tracescreen.screening.rounding import entry_significant_figures, round_to_limit_figures
 from tracescreen.screening.status import statistic_status
+from tracescreen.screening.windows import WINDOW_MONTHS, period_bounds, running_windows, window_sums
 from tracescreen.statistics.censored import kaplan_meier_grouped
 
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
-WINDOW_MONTHS = 12
 
 PERIOD_COLUMNS = [
     "period_id", "limit_table", "use", "site_id", "analyte", "fraction", "basis", "duration", "statistic",
@@ -67,47 +67,6 @@ PERIOD_COLUMNS = [
     "source", "results",
 ]
 
-
-
-def period_bounds(sampled_at: pd.Series, period: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Label, first day and last day of the monitoring period of each date (vectorised)."""
-    t = pd.DatetimeIndex(sampled_at)
-    year = t.year.to_numpy()
-    ytxt = pd.Index(year.astype(str))
-    if period == "calendar_year":
-        first_month, months, label = np.ones_like(year), 12, ytxt
-    elif period == "half_year":
-        half = (t.month.to_numpy() - 1) // 6
-        first_month, months, label = half * 6 + 1, 6, ytxt + "-H" + pd.Index((half + 1).astype(str))
-    elif period == "quarter":
-        qtr = (t.month.to_numpy() - 1) // 3
-        first_month, months, label = qtr * 3 + 1, 3, ytxt + "-Q" + pd.Index((qtr + 1).astype(str))
-    elif period == "month":
-        first_month, months, label = t.month.to_numpy(), 1, pd.Index(t.strftime("%Y-%m"))
-    else:
-        raise ValueError(f"unknown period {period!r}")
-    start = pd.to_datetime(pd.DataFrame({"year": year, "month": first_month, "day": 1}))
-    end = start + pd.DateOffset(months=months) - pd.Timedelta(days=1)
-    return label.to_numpy(dtype=object), start.to_numpy(), end.to_numpy()
-
-
-def running_windows(series_code: np.ndarray, sampled_at, months: int = WINDOW_MONTHS):
-    """Window [start, stop) of each row: same series, day in (day - months, day]. Rows sorted by (series, date)."""
-    t = pd.DatetimeIndex(sampled_at)
-    day = t.to_numpy(dtype="datetime64[D]").astype(np.int64)
-    first = (t - pd.DateOffset(months=months)).to_numpy(dtype="datetime64[D]").astype(np.int64)
-    base = day.min() if day.size else 0
-    span = (day.max() - base if day.size else 0) + 800
-    code = np.asarray(series_code, dtype=np.int64) * span
-    key = code + (day - base + 400)
-    stop = np.searchsorted(key, key, side="right")
-    start = np.searchsorted(key, code + (first - base + 400), side="right")
-    return start, stop
-
-
-def _window_sums(x: np.ndarray, start: np.ndarray, stop: np.ndarray) -> np.ndarray:
-    cs = np.concatenate([[0.0], np.cumsum(x)])
-    return cs[stop] - cs[start]
 
 
 #: Notes on period values whose decision depends on the non-detects (kind 1 and 2 of :func:`_decide`).
@@ -256,17 +215,17 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
     det = r["detected"].astype(bool)
     val, dl = r["value_ug_L"].astype(float), r["detection_limit_ug_L"].astype(float)
     n = (stop - start).astype(float)
-    n_nd = _window_sums((~det).astype(float), start, stop)
+    n_nd = window_sums((~det).astype(float), start, stop, code)
     rule = p["rule"]
     value = np.full(code.size, np.nan)
     for name in ("zero", "half_dl", "dl"):
         m = rule == name
         if m.any():
-            value[m] = (_window_sums(substitute(val, dl, det, name), start, stop) / n)[m]
+            value[m] = (window_sums(substitute(val, dl, det, name), start, stop, code) / n)[m]
     upper_values = substitute(val, dl, det, "dl")  # the censored-series convention: DL for a non-detect
-    lower = _window_sums(substitute(val, dl, det, "zero"), start, stop) / n
-    upper = _window_sums(upper_values, start, stop) / n
-    has_nan = _window_sums(np.isnan(upper_values).astype(float), start, stop) > 0
+    lower = window_sums(substitute(val, dl, det, "zero"), start, stop, code) / n
+    upper = window_sums(upper_values, start, stop, code) / n
+    has_nan = window_sums(np.isnan(upper_values).astype(float), start, stop, code) > 0
     km = np.flatnonzero((rule == "kaplan_meier") & ~has_nan)
     if km.size:  # every window as its own series (windows overlap), one vectorised pass
         size = stop[km] - start[km]
@@ -381,17 +340,24 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     return per_row, periods
 
 
-def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
-    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``)."""
+def period_statuses(screened: pd.DataFrame, limits, with_table: bool = False,
+                    with_results: bool = True) -> tuple[pd.DataFrame, pd.DataFrame | None]:
+    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``),
+    and the periods table when ``with_table`` (computed in the same pass; :data:`PERIOD_COLUMNS`)."""
     out = screened
     if "period_id" not in out or "period_value_ug_L" not in out:
         out = out.assign(period_id=pd.array([pd.NA] * len(out), dtype="Int64"), period_value_ug_L=np.nan)
-    per_row, _ = evaluate(out, limits, with_table=False)
+    per_row, table = evaluate(out, limits, with_results=with_table and with_results, with_table=with_table)
     if len(per_row):
         where = per_row.index.to_numpy()
         out = out.assign(**{c: replace_at(out[c], where, per_row[c].array)
                             for c in ("status", "ratio", "note", "period_id", "period_value_ug_L")})
-    return out
+    return out, table
+
+
+def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
+    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``)."""
+    return period_statuses(screened, limits)[0]
 
 
 def period_table(screened: pd.DataFrame, limits) -> pd.DataFrame:

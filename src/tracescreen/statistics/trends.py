@@ -13,18 +13,15 @@ import pandas as pd
 
 from tracescreen._internal.text import join_notes
 from tracescreen.statistics.mann_kendall import TREND_COLUMNS, mann_kendall_grouped
+from tracescreen.statistics.options import MIN_VALUES
 from tracescreen.statistics.series import (
     censored_series, date_from_decimal_year, decimal_years, group_codes, site_samples,
 )
-
 
 TABLE_COLUMNS = ["site_id", "analyte", "fraction", "n", "n_nondetect", "first_sampled",
                  "last_sampled", "test", "s", "var_s", "z", "p_value", "tau", "slope_per_year",
                  "slope_low", "slope_high", "slope_method", "intercept", "direction",
                  "lowest_limit_ug_L", "lowest_limit_table", "crosses_limit_on", "note"]
-
-#: Fewer values than this: no trend direction (common practice).
-MIN_VALUES = 8
 
 #: Crossing dates further than this beyond the last sample are not given (years).
 HORIZON_YEARS = 50.0
@@ -188,6 +185,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (out["n_nondetect"].to_numpy() > 0, "non-detects: pairs of unknown order counted as ties "
                                             "(censored Kendall, Helsel 2012)"),
         (n_dl > 1, "several detection limits in the record"),
+        ((out["var_s"].to_numpy(float) == 0) & (out["n"].to_numpy() >= 2),
+         "all values tied (e.g. every result below the same detection limit): S = 0, z = 0, p = 1"),
         (rising & (line_last >= limit), "trend line already at or above the lowest limit ("
          + fmt + " µg/L)"),
         (far, f"at this slope the line would reach the lowest limit more than {horizon_years:g} "
