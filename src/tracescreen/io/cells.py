@@ -27,6 +27,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from tracescreen.io import qualifiers
+from tracescreen.vocabulary import DATE_ORDERS
 
 ND_WORDS = frozenset({
     "nd", "n.d.", "n.d", "notdetected", "not detected", "bdl", "belowdetectionlimit",
@@ -101,8 +102,6 @@ def _sample_types_from_data() -> dict[str, str]:
                 out.setdefault(re.sub(r"[\s_\-]+", "", str(e["code"]).strip().lower()), target)
     return out
 
-
-DATE_ORDERS = ("iso", "dmy", "mdy")
 
 _DMY_FORMATS = ("%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y", "%d/%m/%y", "%d.%m.%y")
 _MDY_FORMATS = ("%m/%d/%Y", "%m-%d-%Y", "%m/%d/%y")
