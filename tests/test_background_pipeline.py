@@ -116,6 +116,7 @@ def test_resample_must_come_before_the_next_evaluation_and_nondetects_never_exce
     seq = out["retest_sequence"]
     assert list(seq["comparison"]) == ["above", "above", "inconclusive", "within"]
     assert list(seq["status"]) == ["initial_exceedance", "initial_exceedance", "inconclusive", "not_confirmed"]
+    assert "closed as resample_missing" in seq["note"].iloc[1] and seq["note"].iloc[0] == ""
     st = out["well_status"].iloc[0]
     assert st["n_resamples_missing"] == 1 and st["latest_status"] == "not_confirmed"
 
