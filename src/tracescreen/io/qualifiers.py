@@ -46,6 +46,7 @@ COLUMN_NAMESPACES: dict[str, tuple[str, ...]] = {
     "qualifier": ("validation", "wqx_measure_qualifier", "wqx_detection_condition"),
     "remark_code": ("usgs_remark",),
     "detection_condition": ("wqx_detection_condition",),
+    "value_qualifier": ("usgs_value_qualifier",),
 }
 #: Namespaces whose codes are phrases, matched without case.
 PHRASE_NAMESPACES = frozenset({"wqx_detection_condition"})
@@ -159,3 +160,10 @@ def has_meaning(meanings: pd.Series | np.ndarray, wanted: frozenset[str] | set[s
     uniq, idx = np.unique(arr.astype(str), return_inverse=True)
     hit = np.array([bool(wanted.intersection(u.split(";"))) for u in uniq], dtype=bool)
     return hit[idx] if len(uniq) else np.zeros(0, dtype=bool)
+
+
+def knows(code: str, column: str = "qualifier") -> bool:
+    """Is ``code`` (one code or phrase) in the vocabularies a ``column`` is read with?"""
+    codes, phrases = _lookups(COLUMN_NAMESPACES[column])
+    text = str(code).strip()
+    return text in codes or " ".join(text.lower().split()) in phrases

@@ -23,7 +23,8 @@ from tracescreen.io import loading
 RESULT_KEY = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab"]
 PROVENANCE = ["file", "sheet", "row"]
 VALUE_COLUMNS = [c for c in loading.ACCEPTED_COLUMNS
-                 if c not in RESULT_KEY + PROVENANCE + ["result_text", "unit", "qualifier_meaning"]]
+                 if c not in RESULT_KEY + PROVENANCE + ["result_text", "unit", "qualifier_meaning",
+                                                         "quantitation_limit_ug_L"]]
 
 
 _MIX = np.uint64(0x100000001B3)           # 64-bit FNV prime, mixes the column hashes of a row

@@ -548,7 +548,7 @@ def _input_record(path) -> tuple[str | None, str | None]:
 
 #: Columns added to the stored results after workspaces were first written, with the value an
 #: older stored file gets for them when read (they are derived from stored columns, never hashed).
-_ADDED_COLUMNS = {"qualifier_meaning": ""}
+_ADDED_COLUMNS = {"qualifier_meaning": "", "quantitation_limit_ug_L": float("nan")}
 
 
 def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
@@ -557,7 +557,9 @@ def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
     table = _decode(blob, [c for c in columns if c in have])
     for c in columns:
         if c not in have:
-            table = table.append_column(c, pa.array([_ADDED_COLUMNS[c]] * table.num_rows, type=pa.string())
-                                        .dictionary_encode())
+            fill = _ADDED_COLUMNS[c]
+            col = pa.array([fill] * table.num_rows, type=pa.string()).dictionary_encode() if isinstance(fill, str) \
+                else pa.array(np.full(table.num_rows, fill), type=pa.float64())
+            table = table.append_column(c, col)
     return table.select(columns)
 
