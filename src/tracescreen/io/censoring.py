@@ -86,9 +86,8 @@ def _first(*arrays: np.ndarray) -> np.ndarray:
     return out
 
 
-def resolve_limits(numbers: dict[str, pd.Series], factors: dict[str, np.ndarray], types: dict[str, pd.Series],
-                   row_factor: np.ndarray, decimal_comma: bool = False,
-                   namespaces: tuple[str, ...] = ("wqx", "nwis", "lab")) -> Limits:
+def resolve_limits(numbers: dict[str, pd.Series], factors: dict[str, np.ndarray], types: dict[str, np.ndarray],
+                   row_factor: np.ndarray, decimal_comma: bool = False) -> Limits:
     """Limits of each combination in the result's unit.
 
     Parameters
@@ -97,8 +96,8 @@ def resolve_limits(numbers: dict[str, pd.Series], factors: dict[str, np.ndarray]
         ``detection``, ``quantitation``, ``reported``, ``reported_2``: the limit cells.
     factors : dict of str -> float array
         The factor to µg/L of each limit's own unit (NaN where it has none: the result's unit).
-    types : dict of str -> Series of text
-        ``reported``, ``reported_2``: the limit types.
+    types : dict of str -> object array
+        ``reported``, ``reported_2``: the class of each limit's type (:func:`limit_classes`).
     row_factor : float array
         Factor to µg/L of the result's unit.
     """
@@ -115,7 +114,7 @@ def resolve_limits(numbers: dict[str, pd.Series], factors: dict[str, np.ndarray]
         num[bad] = np.nan
         f = factors.get(name, np.full(n, np.nan))
         values[name] = num * np.where(np.isnan(f), row_factor, f) / row_factor
-    cls = {k: codelists.classify(t.fillna("").astype(str), "limit_types", namespaces) for k, t in types.items()}
+    cls = types
 
     def of(kind: str) -> np.ndarray:
         got = [np.where(cls[k] == kind, values[k], np.nan) for k in ("reported", "reported_2") if k in cls]
@@ -127,6 +126,11 @@ def resolve_limits(numbers: dict[str, pd.Series], factors: dict[str, np.ndarray]
     reported = _first(of("censoring"), of("detection"), untyped, of("quantitation"))
     return Limits(censor=_first(reported, det_col), detection=_first(det_col, of("detection"), untyped),
                   quantitation=_first(q_col, of("quantitation")), upper=of("upper"), error=error)
+
+
+def limit_classes(values, namespaces: tuple[str, ...] = ("wqx", "nwis", "lab")) -> np.ndarray:
+    """The class of each distinct limit-type text (``data/limit_types.yaml``; ``""`` if unknown)."""
+    return codelists.classify(values, "limit_types", namespaces)
 
 
 def _add_meaning(meaning: np.ndarray, mask: np.ndarray, word: str) -> None:

@@ -212,7 +212,7 @@ def _header_in(cells: pd.DataFrame, header: str) -> str | None:
     return keyed.get(header_key(header))
 
 
-def _coded(codes: np.ndarray, per_value) -> CodedText:
+def coded_per_value(codes: np.ndarray, per_value) -> CodedText:
     """Coded text from a text per code (several codes may give the same text)."""
     texts = pd.Series(np.asarray(per_value, dtype=object), dtype=object).fillna("").astype(str).str.strip()
     recode, uniq = pd.factorize(texts)
@@ -223,7 +223,7 @@ def _translate(text: CodedText, table: dict[str, str]) -> CodedText:
     """Each distinct value through ``table`` (exact text first, then without case)."""
     lower = {k.strip().lower(): v for k, v in table.items()}
     exact = {k.strip(): v for k, v in table.items()}
-    return _coded(text.codes, [exact.get(v, lower.get(v.lower(), v)) for v in text.values])
+    return coded_per_value(text.codes, [exact.get(v, lower.get(v.lower(), v)) for v in text.values])
 
 
 def _joined(parts: list[CodedText], dates: bool) -> CodedText:
@@ -239,7 +239,7 @@ def _joined(parts: list[CodedText], dates: bool) -> CodedText:
     for t in texts[1:]:
         t = t.astype(str).str.strip()
         out = pd.Series(np.where(t == "", out, np.where(out == "", t, out + " " + t)), dtype=object)
-    return _coded(combo, out)
+    return coded_per_value(combo, out)
 
 
 def _derived(base: CodedText, source: CodedText, d: Derivation) -> CodedText:
@@ -256,7 +256,7 @@ def _derived(base: CodedText, source: CodedText, d: Derivation) -> CodedText:
     combo, first = joint_codes(source.codes, fallback.codes)
     per = np.where(hit[source.codes[first]], got[source.codes[first]],
                    np.asarray(fallback.values.take(fallback.codes[first]), dtype=object))
-    return _coded(combo, per)
+    return coded_per_value(combo, per)
 
 
 def column_text(cells: pd.DataFrame, found: dict[str, str], name: str, column_map: ColumnMap | None,

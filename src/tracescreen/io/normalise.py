@@ -52,7 +52,10 @@ class _Rows:
         self._add(self.aside, mask, msg)
 
     def reasons(self) -> np.ndarray:
-        return np.where(self.aside != "", SET_ASIDE_PREFIX + self.aside.astype(str), self.reject).astype(object)
+        out = self.reject.copy()
+        aside = self.aside != ""
+        out[aside] = SET_ASIDE_PREFIX + self.aside[aside].astype(str)
+        return out
 
 
 def _quoted(col: CodedText, mask: np.ndarray, before: str, after: str) -> np.ndarray:
@@ -65,7 +68,7 @@ def _joined(a: CodedText, b: CodedText, join) -> CodedText:
     pair, first = joint_codes(a.codes, b.codes)
     text = join(pd.Series(a.values.take(a.codes[first]), dtype=object),
                 pd.Series(b.values.take(b.codes[first]), dtype=object))
-    return CodedText.from_series(pd.Series(text.to_numpy(dtype=object)[pair], dtype=object))
+    return mapping.coded_per_value(pair, text)
 
 
 def _fraction_codes(per_value) -> np.ndarray:
@@ -76,6 +79,8 @@ def _first_text(*cols: CodedText) -> CodedText:
     """Per row, the first non-empty text of several columns."""
     out = cols[0]
     for c in cols[1:]:
+        if (c.values == "").all():  # a column the file does not have
+            continue
         out = _joined(out, c, lambda a, b: pd.Series(np.where(a.astype(str) != "", a, b), dtype=object))
     return out
 
@@ -218,8 +223,9 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         numbers={"detection": at_first(texts["detection_limit"]), "quantitation": at_first(texts["quantitation_limit"]),
                  "reported": at_first(texts["limit_value"]), "reported_2": at_first(texts["limit_value_2"])},
         factors={k: _factors(t)[t.codes[first]] for k, t in limit_unit_text.items()},
-        types={"reported": at_first(texts["limit_type"]), "reported_2": at_first(texts["limit_type_2"])},
-        row_factor=row_factor, decimal_comma=opts.decimal_comma, namespaces=wqx.LIMIT_TYPE_NAMESPACES)
+        types={k: censoring.limit_classes(texts[c].values, wqx.LIMIT_TYPE_NAMESPACES)[texts[c].codes[first]]
+               for k, c in (("reported", "limit_type"), ("reported_2", "limit_type_2"))},
+        row_factor=row_factor, decimal_comma=opts.decimal_comma)
     parsed = censoring.parse_results(
         at_first(texts["result"]), at_first(texts["qualifier"]), lim, opts.decimal_comma,
         remark=at_first(texts["remark_code"]) if gives("remark_code") else None,
