@@ -24,7 +24,7 @@ import pymannkendall as mk
 from statsmodels.duration.survfunc import SurvfuncRight
 
 from tracescreen.statistics import censored
-from tracescreen.statistics import trends
+from tracescreen.statistics import mann_kendall as trends
 
 N_SERIES, N_VALUES, SEED = 5000, 40, 20240601
 PROBS = (0.5, 0.9, 0.95)

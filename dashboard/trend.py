@@ -40,7 +40,8 @@ def series_trend(rows: pd.DataFrame, points: pd.DataFrame, alpha: float = 0.05) 
     """
     if not trends_available() or points.empty:
         return None
-    from tracescreen.statistics.trends import decimal_years, lowest_limits, trend_table
+    from tracescreen.statistics.series import decimal_years
+    from tracescreen.statistics.trends import lowest_limits, trend_table
 
     keys = ["site_id", "analyte", "fraction", "sampled_at", "sample_type"]
     pts = engine_frame(points[keys + ["detected", "value_ug_L", "detection_limit_ug_L"]])

@@ -10,6 +10,8 @@ from statsmodels.imputation.ros import impute_ros
 
 from tracescreen.statistics import bootstrap
 from tracescreen.statistics import censored
+from tracescreen.statistics.lognormal import lognormal_mle
+from tracescreen.statistics.ros import ros
 
 # Check case (15 values, detection limits 0.5 and 1.0) from /work/shared/docs/censored-statistics.md;
 # its KM, ROS and MLE values were computed there with lifelines, statsmodels and by hand.
@@ -106,7 +108,7 @@ def test_km_without_nondetects_is_sample_statistics(xs):
 
 def test_ros_check_case():
     """ROS mean 1.700152 and sd 2.043878: shared check case (statsmodels impute_ros)."""
-    imputed = censored.ros(CHECK_X, CHECK_ND)
+    imputed = ros(CHECK_X, CHECK_ND)
     assert_allclose([imputed.mean(), imputed.std(ddof=1)], [1.700152, 2.043878], atol=5e-7)
 
 
@@ -119,26 +121,26 @@ def test_ros_matches_statsmodels(seed):
     nd = true < dl
     x = np.where(nd, dl, true)
     assert x[nd].max() <= x[~nd].max()  # statsmodels drops NDs above the largest detect
-    ours = np.sort(censored.ros(x, nd))
+    ours = np.sort(ros(x, nd))
     ref = np.sort(impute_ros(x, nd))
     assert_allclose(ours, ref, rtol=1e-12)
 
 
 def test_ros_too_few_detects_is_nan():
     """With one detect there is no regression line: ROS returns NaN (no silent substitution, Helsel 2012 ch. 6)."""
-    assert np.isnan(censored.ros([1.0, 1.0, 3.0], [True, True, False])).all()
+    assert np.isnan(ros([1.0, 1.0, 3.0], [True, True, False])).all()
 
 
 def test_mle_check_case():
     """Lognormal MLE mu -0.0828755, sigma 1.187899, mean 1.863910: shared check case."""
-    r = censored.lognormal_mle(CHECK_X, CHECK_ND)
+    r = lognormal_mle(CHECK_X, CHECK_ND)
     assert_allclose([r["mu"], r["sigma"], r["mean"]], [-0.0828755, 1.187899, 1.863910], atol=2e-6)
 
 
 def test_mle_uncensored_is_closed_form():
     """Without censoring the lognormal MLE is the mean and the ddof=0 sd of ln x (closed form, Cohen 1959)."""
     x = np.random.default_rng(5).lognormal(1.0, 0.6, 40)
-    r = censored.lognormal_mle(x, np.zeros(40, bool))
+    r = lognormal_mle(x, np.zeros(40, bool))
     assert_allclose(r["mu"], np.log(x).mean(), atol=1e-8)
     assert_allclose(r["sigma"], np.log(x).std(ddof=0), atol=1e-8)
 
@@ -195,7 +197,7 @@ def test_ros_edge_layouts_match_statsmodels():
     """ROS equals impute_ros with a detect below the lowest DL and detects equal to a DL (rtol 1e-12)."""
     x = np.array([0.2, 0.5, 0.5, 0.5, 1.0, 1.0, 0.7, 1.0, 1.3, 2.2, 3.5, 0.9, 5.0, 2.0, 2.0])
     nd = np.array([0, 1, 1, 0, 1, 0, 0, 1, 0, 0, 0, 0, 0, 1, 0], bool)
-    assert_allclose(np.sort(censored.ros(x, nd)), np.sort(impute_ros(x, nd)), rtol=1e-12)
+    assert_allclose(np.sort(ros(x, nd)), np.sort(impute_ros(x, nd)), rtol=1e-12)
 
 
 def test_grouped_ros_equals_single_series():
@@ -212,7 +214,7 @@ def test_grouped_ros_equals_single_series():
     table = censored.censored_statistics_grouped(x, nd, codes, 30, method="ros")
     assert table.loc[0, ["mean", "sd", "q50"]].isna().all()
     for g in range(1, 30):
-        one = censored.ros(x[codes == g], nd[codes == g])
+        one = ros(x[codes == g], nd[codes == g])
         assert table.loc[g, "mean"] == pytest.approx(one.mean(), rel=1e-12, nan_ok=True)
         assert table.loc[g, "q90"] == pytest.approx(np.percentile(one, 90), rel=1e-12, nan_ok=True)
 
@@ -233,7 +235,7 @@ def test_grouped_mle_matches_scipy_fit_per_series():
     for g in range(41):
         if not nd[codes == g].any():
             continue
-        one = censored.lognormal_mle(x[codes == g], nd[codes == g])
+        one = lognormal_mle(x[codes == g], nd[codes == g])
         assert table.loc[g, "mean"] == pytest.approx(one["mean"], rel=1e-7, nan_ok=True)
         assert table.loc[g, "q90"] == pytest.approx(one["quantiles"][1], rel=1e-7, nan_ok=True)
     assert table.loc[40, "mean"] == pytest.approx(1.863910, abs=2e-6)  # shared check case

@@ -281,7 +281,8 @@ def test_site_chart_shows_engine_trend(session):
     """KR02 dissolved zinc (the scenario's rising site): the chart's trend text and line are the
     engine's trend_table result for that series (Mann-Kendall / Sen, tested against pymannkendall
     in test_trends.py)."""
-    from tracescreen.statistics.trends import decimal_years, trend_table
+    from tracescreen.statistics.series import decimal_years
+    from tracescreen.statistics.trends import trend_table
 
     acc = engine_view()[0].accepted
     sel = acc[(acc["site_id"] == "KR02") & (acc["analyte"] == "zinc") & (acc["fraction"] == "dissolved")]

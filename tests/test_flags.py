@@ -1,4 +1,4 @@
-"""Retest flags (tracescreen.retest.flags) on constructed cases at their threshold edges."""
+"""Retest flags (tracescreen.retest.result_flags, retest.outliers) on constructed cases at their threshold edges."""
 
 import numpy as np
 import pandas as pd
@@ -6,8 +6,9 @@ import pytest
 import scipy.stats
 
 from flag_frames import screening
-from tracescreen.retest import flags
-from tracescreen.retest.flags import RETEST_COLUMNS
+from tracescreen._internal.text import format_number
+from tracescreen.retest import outliers, result_flags as flags
+from tracescreen.retest.rows import RETEST_COLUMNS
 
 # WHO Guidelines for Drinking-water Quality, 4th ed. incl. 1st and 2nd addenda (2022), Annex 3:
 # lead 0.01 mg/L = 10 µg/L; EU Directive 2020/2184 Annex I Part B: lead 5 µg/L from 2036-01-12.
@@ -115,7 +116,7 @@ def test_modified_z_score_matches_scipy_mad():
     rng = np.random.default_rng(1)
     hist = rng.normal(size=(50, 12))
     x = rng.normal(scale=4, size=50)
-    z = flags.modified_z_score(x, hist)
+    z = outliers.modified_z_score(x, hist)
     ref = (x - np.median(hist, axis=1)) / scipy.stats.median_abs_deviation(hist, axis=1, scale="normal")
     # 0.6745 (Iglewicz & Hoaglin) vs scipy's 1/1.4826 = 0.67449: relative difference < 1e-4
     np.testing.assert_allclose(z, ref, rtol=1e-4)
@@ -128,10 +129,10 @@ def test_history_outlier_threshold_and_min_prior():
     lo = np.exp(3.4 / 0.6745)
     for last, expect in ((hi, ["Q8"]), (lo, []), (1 / hi, ["Q8"])):
         rows = _series(list(np.exp(logs)) + [last])
-        out = flags.history_outlier(screening(rows, [("none", 1e9)]))
+        out = outliers.history_outlier(screening(rows, [("none", 1e9)]))
         assert list(out["sample_id"]) == expect
     rows = _series(list(np.exp(logs[1:])) + [hi])  # only 7 earlier detects
-    assert flags.history_outlier(screening(rows, [("none", 1e9)])).empty
+    assert outliers.history_outlier(screening(rows, [("none", 1e9)])).empty
 
 
 def test_history_outlier_ignores_nondetects_and_other_series():
@@ -140,29 +141,29 @@ def test_history_outlier_ignores_nondetects_and_other_series():
     rows = _series(list(np.exp(logs)) + [np.exp(6.0)])
     rows[3] = dict(rows[3], nd=True)  # now only 7 earlier detects
     other = [dict(r, site_id="S2", sample_id="O" + r["sample_id"]) for r in _series(list(np.exp(logs)))]
-    out = flags.history_outlier(screening(rows + other, [("none", 1e9)]))
+    out = outliers.history_outlier(screening(rows + other, [("none", 1e9)]))
     assert out.empty
 
 
 def test_history_outlier_constant_history_uses_mean_absolute_deviation():
     """With MAD = 0 the mean absolute deviation ×1.253314 scales the score (common practice); all-equal history scores nothing."""
     rows = _series([1, 1, 1, 1, 1, 1, 2, 1, 50])
-    out = flags.history_outlier(screening(rows, [("none", 1e9)]))
+    out = outliers.history_outlier(screening(rows, [("none", 1e9)]))
     assert list(out["sample_id"]) == ["Q8"]
     rows = _series([1] * 8 + [50])
-    assert flags.history_outlier(screening(rows, [("none", 1e9)])).empty
+    assert outliers.history_outlier(screening(rows, [("none", 1e9)])).empty
 
 
 def test_format_number_significant_figures():
     """Four significant figures, no trailing .0, NaN empty (display convention)."""
-    out = flags.format_number(pd.Series([0.123456, 123456.0, 2.0, np.nan, 0.0, -3.14159]))
+    out = format_number(pd.Series([0.123456, 123456.0, 2.0, np.nan, 0.0, -3.14159]))
     assert list(out) == ["0.1235", "123500", "2", "", "0", "-3.142"]
 
 
 def test_expanding_modified_z_equals_direct_definition():
     """Sorted-history modified z-scores equal modified_z_score against each row's explicit earlier values and
     numpy.median of them (Iglewicz & Hoaglin 1993 definition), with ties, a zero MAD and series of many lengths."""
-    from tracescreen.retest.flags import expanding_modified_z, modified_z_score
+    from tracescreen.retest.outliers import expanding_modified_z, modified_z_score
 
     rng = np.random.default_rng(5)
     for trial in range(60):

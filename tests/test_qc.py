@@ -1,11 +1,11 @@
-"""QC checks (tracescreen.retest.qc) on constructed cases at their threshold edges."""
+"""QC checks (tracescreen.retest.qc_checks) on constructed cases at their threshold edges."""
 
 import pandas as pd
 import pytest
 
 from flag_frames import results, screening
-from tracescreen.retest import qc
-from tracescreen.retest.flags import RETEST_COLUMNS
+from tracescreen.retest import qc_checks as qc
+from tracescreen.retest.rows import RETEST_COLUMNS
 from tracescreen.retest.listing import REASONS, RetestOptions, retest_list
 
 

@@ -1,4 +1,4 @@
-"""The site summary report (tracescreen.report.html): tables, workbook read-back, site selection, errors."""
+"""The site summary report (tracescreen.report.tables, report.html): tables, workbook read-back, site selection, errors."""
 
 import numpy as np
 import openpyxl
@@ -6,7 +6,7 @@ import pandas as pd
 import pytest
 
 from flag_frames import screening
-from tracescreen.report import html as report
+from tracescreen.report import html as report_html, tables as report
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 
@@ -119,7 +119,7 @@ def test_build_report_html_from_engine_objects():
     loaded = load_results(files, LoadOptions(column_map=load_column_map(SCENARIO / "columns_eastbank.yaml")), sites)
     screened = screen(loaded.accepted, limits, sites)
     data = report.report_data(loaded, limits, screened, sites=sites)
-    page = report.build_report_html(data, site_ids=["KR02"])
+    page = report_html.build_report_html(data, site_ids=["KR02"])
     assert page.index(CAUTION) < page.index('<section id="scope">')
     assert 'id="summary-table"' in page and 'id="trends-table"' in page
     assert set(data.retest["site_id"]) <= set(sites["site_id"])
@@ -136,6 +136,6 @@ def test_markup_in_data_is_escaped():
     data = report.ReportData(scr, pd.DataFrame({"file": [], "row": [], "reason": []}),
                              pd.DataFrame({"file": ["lab.csv"], "sha256": ["0" * 64]}), empty,
                              pd.DataFrame({"table_id": [], "value_ug_L": np.array([], float)}), scr.iloc[:0])
-    page = report.build_report_html(data)
+    page = report_html.build_report_html(data)
     assert "<script>alert(1)" not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in page

@@ -7,7 +7,8 @@ import pandas as pd
 import pytest
 
 from tracescreen.caution import CAUTION
-from tracescreen.report.html import SECTIONS, STATUS_ORDER
+from tracescreen.report.html import SECTIONS
+from tracescreen.report.tables import STATUS_ORDER
 
 pytestmark = pytest.mark.browser
 playwright = pytest.importorskip("playwright.sync_api")

@@ -3,7 +3,7 @@
 import pandas as pd
 import pytest
 
-from tracescreen.retest.flags import RETEST_COLUMNS
+from tracescreen.retest.rows import RETEST_COLUMNS
 from tracescreen.retest.listing import REASONS
 
 

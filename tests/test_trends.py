@@ -11,7 +11,8 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy import stats
 
-from tracescreen.statistics import trends
+from tracescreen.statistics import mann_kendall, trends
+from tracescreen.statistics.series import date_from_decimal_year, decimal_years
 
 RNG = np.random.default_rng(2024)
 UNCENSORED = {
@@ -24,7 +25,7 @@ UNCENSORED = {
 
 
 def _one(times, y, nd=None, seasons=None, **kw):
-    return trends.mann_kendall(times, y, nd, seasons, **kw)
+    return mann_kendall.mann_kendall(times, y, nd, seasons, **kw)
 
 
 @pytest.mark.parametrize("name", list(UNCENSORED))
@@ -83,7 +84,7 @@ def test_variance_is_exact_permutation_variance_with_censoring_and_time_ties():
     r = _one(t, y, nd)
     perms = np.array(list(itertools.permutations(range(7))))
     codes = np.repeat(np.arange(len(perms)), 7)
-    s_all = trends.mann_kendall_grouped(np.tile(t, len(perms)), y[perms].ravel(), nd[perms].ravel(),
+    s_all = mann_kendall.mann_kendall_grouped(np.tile(t, len(perms)), y[perms].ravel(), nd[perms].ravel(),
                                         codes, len(perms))["s"].to_numpy()
     assert r["s"] in s_all
     assert_allclose(r["var_s"], np.var(s_all), rtol=1e-12)
@@ -133,7 +134,7 @@ def test_ats_without_censoring_is_the_sen_median(ys):
     """Forcing the ATS search on uncensored data gives the Theil-Sen median of scipy.stats.theilslopes (property)."""
     y = np.array(ys, float)
     t = np.arange(y.size, dtype=float)
-    r = trends.mann_kendall_grouped(t, y, None, np.zeros(y.size, int), 1, force_ats=True).iloc[0]
+    r = mann_kendall.mann_kendall_grouped(t, y, None, np.zeros(y.size, int), 1, force_ats=True).iloc[0]
     assert r["slope_per_year"] == pytest.approx(stats.theilslopes(y, t).slope, abs=1e-12)
 
 
@@ -175,7 +176,7 @@ def test_grouped_equals_single_series_with_mixed_lengths():
     y = rng.lognormal(0, 1, codes.size).round(2)
     nd = rng.random(codes.size) < 0.2
     y = np.where(nd, 0.5, y)
-    table = trends.mann_kendall_grouped(t, y, nd, codes, 25)
+    table = mann_kendall.mann_kendall_grouped(t, y, nd, codes, 25)
     for g in (0, 7, 24):
         one = _one(t[codes == g], y[codes == g], nd[codes == g])
         for col in ("s", "var_s", "p_value", "slope_per_year", "slope_low", "slope_high", "intercept"):
@@ -185,11 +186,11 @@ def test_grouped_equals_single_series_with_mixed_lengths():
 def test_slope_is_per_year_from_real_dates():
     """Values rising 3 µg/L per 365.25 days give a Sen slope of 3 per year from the dates (not the row index)."""
     dates = pd.to_datetime(["2020-01-01", "2020-03-15", "2021-01-01", "2022-06-30", "2023-01-10"])
-    t = trends.decimal_years(dates)
+    t = decimal_years(dates)
     y = 10 + 3 * (t - t[0])
     r = _one(t, y)
     assert r["slope_per_year"] == pytest.approx(3.0, rel=1e-12)
-    back = trends.date_from_decimal_year(t)
+    back = date_from_decimal_year(t)
     assert (back.dt.normalize() == dates).all()
 
 
@@ -231,7 +232,7 @@ def test_table_direction_too_few_and_qc_left_out():
 def test_crosses_limit_on_from_sen_line():
     """y = 1 + 2 per year reaches a 20 µg/L limit 9.5 years after the first sample (line arithmetic)."""
     dates = pd.date_range("2018-01-01", periods=12, freq="100D")
-    t = trends.decimal_years(dates)
+    t = decimal_years(dates)
     data = _series("A", dates, 1 + 2 * (t - t[0]))
     limits = pd.DataFrame({"site_id": ["A"], "analyte": "arsenic", "fraction": "dissolved",
                            "limit_ug_L": [20.0], "limit_table": ["x"]})
@@ -258,6 +259,6 @@ def test_censoring_nothing_changes_nothing(xs):
 def test_series_of_one_value_gives_no_statistic_instead_of_an_error():
     """A series with a single result (censored or not) has no pairs: S = 0 and no slope (common practice)."""
     for nd in (np.array([True]), np.array([False])):
-        r = trends.mann_kendall_grouped(np.array([2021.2]), np.array([0.5]), nd, np.zeros(1, int), 1).iloc[0]
+        r = mann_kendall.mann_kendall_grouped(np.array([2021.2]), np.array([0.5]), nd, np.zeros(1, int), 1).iloc[0]
         assert r["n"] == 1 and r["s"] == 0
         assert np.isnan(r["slope_per_year"])

@@ -13,7 +13,7 @@ import signal
 import sys
 import time
 
-from tracescreen.store import workspace
+from tracescreen.store import importing, workspace
 
 
 def main() -> None:
@@ -24,7 +24,7 @@ def main() -> None:
     ap.add_argument("--pause", type=float, default=0.0)
     ap.add_argument("--part-bytes", type=int, default=16384)
     args = ap.parse_args()
-    workspace.PART_BYTES = args.part_bytes  # many stored parts: many points inside the transaction
+    importing.PART_BYTES = args.part_bytes  # many stored parts: many points inside the transaction
     phase, _, nth = args.kill_at.partition(":")
     seen = 0
 

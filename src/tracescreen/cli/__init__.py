@@ -17,6 +17,8 @@ from tracescreen.caution import CAUTION
 COMMANDS = [
     "screen",
     "trends",
+    "wells",
+    "labqc",
     "report",
     "dashboard",
     "import_",

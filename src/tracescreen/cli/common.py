@@ -3,13 +3,13 @@
 from __future__ import annotations
 
 import argparse
-import hashlib
 import sys
 from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
 
+from tracescreen._internal.hashing import file_sha256
 from tracescreen.caution import CAUTION
 from tracescreen.io.columns import load_column_map
 from tracescreen.limits.load import LimitSet, load_limits
@@ -60,10 +60,6 @@ class Inputs:
     input_files: pd.DataFrame     # every input file (results, limits, sites) with its SHA-256
 
 
-def _sha(path: str) -> str:
-    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
-
-
 def load_options(args) -> LoadOptions:
     return LoadOptions(column_map=load_column_map(args.columns) if args.columns else None,
                        date_order=args.date_order, decimal_comma=args.decimal_comma,
@@ -77,11 +73,11 @@ def load_inputs(args) -> Inputs:
     loaded = results_from_args(args, sites)
     rows = [{"kind": "results", "file": r.file, "path": r.path, "sheet": r.sheet, "sha256": r.sha256}
             for r in loaded.files.itertuples()] if len(loaded.files) else []
-    rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": _sha(p)}
+    rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": file_sha256(p)}
              for p in limits.tables["path"]]
     if args.sites:
         rows.append({"kind": "sites", "file": Path(args.sites).name, "path": args.sites, "sheet": "",
-                     "sha256": _sha(args.sites)})
+                     "sha256": file_sha256(args.sites)})
     if getattr(args, "workspace", None):
         with open_workspace(args.workspace) as ws:
             ws.record_screening_run(args.command, len(loaded.accepted), limits.tables["path"], args.sites,

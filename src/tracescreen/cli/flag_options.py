@@ -6,7 +6,7 @@ import re
 
 import pandas as pd
 
-from tracescreen.retest.qc import HOLDING_TIMES
+from tracescreen.retest.qc_checks import HOLDING_TIMES
 from tracescreen.retest.listing import REASONS, RetestOptions
 
 _DURATION = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(h|d|m)\s*$", re.IGNORECASE)

@@ -6,7 +6,8 @@ import argparse
 from pathlib import Path
 
 from tracescreen.report import writers as outputs
-from tracescreen.report.html import build_report_html, report_data, report_tables
+from tracescreen.report.html import build_report_html
+from tracescreen.report.tables import report_data, report_tables
 from tracescreen.screening.screen import screen
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn

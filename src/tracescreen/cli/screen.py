@@ -15,6 +15,7 @@ from tracescreen.retest.listing import retest_list
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 from .flag_options import add_retest_options, retest_options
+from .labqc import review_for_screen, write_review
 from .trends import add_statistics_options, write_statistics
 
 
@@ -32,6 +33,9 @@ def register(sub) -> None:
                         "assessment): guard band g = F x the result's expanded uncertainty; reports beside "
                         "each status whether the decision holds beyond g (e.g. 1 for g = U)")
     add_retest_options(p)
+    p.add_argument("--qc", metavar="FILE", action="append", default=[],
+                   help="a separate laboratory QC summary file (CSV or XLSX); the QC rows of the lab files "
+                        "are reviewed without it (see 'tracescreen labqc')")
     p.set_defaults(func=run)
 
 
@@ -55,7 +59,10 @@ def run(args) -> int:
         "limits": outputs.write_csv(limit_tables_table(inputs.limits), out / "limit_tables.csv"),
     }
     release_unused()
-    retest = retest_list(screened, flag_options)
+    review = review_for_screen(args, loaded)
+    if review is not None:
+        written.update(write_review(review, out))
+    retest = retest_list(screened, flag_options, lab_qc=review.retest if review is not None else None)
     written["retest"] = outputs.write_csv(retest, out / "retest.csv")
     release_unused()
     extra = run_extra_outputs(args, inputs, screened, out)

@@ -1,6 +1,6 @@
 """The retest list: every retest flag and QC check on a screening table, with its options.
 
-``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.retest.flags.RETEST_COLUMNS`):
+``retest_list(screening)`` returns the rows of ``retest.csv`` (:data:`tracescreen.retest.rows.RETEST_COLUMNS`):
 one row per flagged result and reason (several reasons give several rows).
 """
 
@@ -10,8 +10,9 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from tracescreen.retest import flags
-from tracescreen.retest import qc
+from tracescreen.retest import outliers, qc_checks as qc, result_flags as flags, rows
+from tracescreen.retest.calibration.checks import REASONS as CALIBRATION_REASONS
+from tracescreen.retest.labqc.reasons import REASONS as LAB_QC_REASONS
 from tracescreen._internal.frames import plain_text
 
 REASONS = (
@@ -19,7 +20,12 @@ REASONS = (
     "history_outlier", "duplicate_disagrees", "blank_contamination", "dissolved_exceeds_total",
     "holding_time_exceeded",
 )
-"""Reason codes, in the order they are listed."""
+"""Reason codes of the checks on a screening table, in the order they are listed."""
+
+LISTED_REASONS = REASONS + LAB_QC_REASONS + CALIBRATION_REASONS
+"""Every reason code of ``retest.csv`` in listing order: the checks on the screening table, then
+the laboratory QC review (:mod:`tracescreen.retest.labqc.reasons`) and the calibration checks
+(:mod:`tracescreen.retest.calibration.checks`), whose rows are built by their review and passed in."""
 
 
 @dataclass(frozen=True)
@@ -44,7 +50,7 @@ class RetestOptions:
     dissolved_percent, dissolved_min_multiple, dissolved_abs_multiple : float
         Dissolved vs total rule (30 %, 5 × DL, 2 × DL; common practice).
     holding_times : dict or None
-        Analyte → holding time; ``None`` uses :data:`tracescreen.retest.qc.HOLDING_TIMES`.
+        Analyte → holding time; ``None`` uses :data:`tracescreen.retest.qc_checks.HOLDING_TIMES`.
     reasons : tuple of str
         Reasons to compute (default all).
     """
@@ -87,7 +93,8 @@ class RetestOptions:
         }
 
 
-def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -> pd.DataFrame:
+def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
+                lab_qc: pd.DataFrame | None = None) -> pd.DataFrame:
     """All retest flags and QC checks on a screening table.
 
     Parameters
@@ -95,28 +102,31 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
     screening : pandas.DataFrame
         The screening table (DEVELOPERS.md contract), including QC samples (status ``qc_sample``).
     options : RetestOptions, optional
+    lab_qc : pandas.DataFrame, optional
+        Retest rows of the laboratory QC review and calibration checks
+        (:attr:`tracescreen.retest.labqc.review.LabQcReview.retest`), listed with the others.
 
     Returns
     -------
     pandas.DataFrame
-        Columns :data:`tracescreen.retest.flags.RETEST_COLUMNS`, sorted by site, sampling date, sample,
-        analyte, fraction and reason (in :data:`REASONS` order).
+        Columns :data:`tracescreen.retest.rows.RETEST_COLUMNS`, sorted by site, sampling date, sample,
+        analyte, fraction and reason (in :data:`LISTED_REASONS` order).
     """
     o = options or RetestOptions()
     unknown = set(o.reasons) - set(REASONS)
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
-    screening = screening[[c for c in flags.USED_COLUMNS if c in screening.columns]]
+    screening = screening[[c for c in rows.USED_COLUMNS if c in screening.columns]]
     # selected once while text is still categorical (fast), then as plain text for the messages
-    results = plain_text(flags.results_from_screening(screening))
-    single = plain_text(flags.single_sample_rows(screening))  # what the four result flags look at
+    results = plain_text(rows.results_from_screening(screening))
+    single = plain_text(rows.single_sample_rows(screening))  # what the four result flags look at
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(single, lookback=o.lookback),
         "above_range": lambda: flags.above_range(single),
         "dl_too_high": lambda: flags.dl_too_high(single),
         "near_limit": lambda: flags.near_limit(single, fraction=o.near_limit_fraction),
         "uncertainty_straddles_limit": lambda: flags.uncertainty_straddles_limit(single),
-        "history_outlier": lambda: flags.history_outlier(
+        "history_outlier": lambda: outliers.history_outlier(
             results, z_threshold=o.outlier_z, min_prior=o.outlier_min_prior),
         "duplicate_disagrees": lambda: qc.duplicate_disagrees(
             results, o.duplicate_rpd_percent, o.duplicate_rpd_min_multiple, o.duplicate_abs_multiple),
@@ -125,12 +135,12 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None) -
             results, o.dissolved_percent, o.dissolved_min_multiple, o.dissolved_abs_multiple),
         "holding_time_exceeded": lambda: qc.holding_time_exceeded(results, o.holding_times),
     }
-    parts = [checks[r]() for r in REASONS if r in o.reasons]
+    parts = [checks[r]() for r in REASONS if r in o.reasons] + ([lab_qc] if lab_qc is not None else [])
     parts = [p for p in parts if not p.empty]
     if not parts:
-        return flags.empty_retest()
+        return rows.empty_retest()
     out = pd.concat(parts, ignore_index=True)
-    out["_order"] = out["reason"].map({r: i for i, r in enumerate(REASONS)})
+    out["_order"] = out["reason"].map({r: i for i, r in enumerate(LISTED_REASONS)})
     out = out.sort_values(["site_id", "sampled_at", "sample_id", "analyte", "fraction", "_order"],
                           kind="stable")
     return out.drop(columns="_order").reset_index(drop=True)

@@ -16,8 +16,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from tracescreen.statistics import grouped
-from tracescreen.statistics.censored import _as_series
+from tracescreen.statistics.series import as_series, chunks
 from tracescreen._internal.parallel import ordered_map, workers
 
 
@@ -42,7 +41,7 @@ def bootstrap_ucl_km_grouped(
     .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
        2nd ed. Wiley.
     """
-    x, nd = _as_series(values, nondetect)
+    x, nd = as_series(values, nondetect)
     rng = np.random.default_rng(seed)
     ucl = np.full(n_groups, np.nan)
 
@@ -51,7 +50,7 @@ def bootstrap_ucl_km_grouped(
         ucl[chunk.groups] = np.quantile(means, level, axis=1)
 
     def drawn():  # resamples drawn in chunk order: the same numbers for a seed however many cores
-        for chunk in grouped.chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
+        for chunk in chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
             n = chunk.valid.sum(axis=1)
             yield chunk, (rng.random((len(n), n_boot, chunk.valid.shape[1])) * n[:, None, None]).astype(np.int64)
 

@@ -5,15 +5,17 @@ here estimate the mean, standard deviation and percentiles of a series that hold
 following Helsel (2012) and Helsel et al. (2020):
 
 * :func:`kaplan_meier` -- Kaplan-Meier for left-censored data (the default; nonparametric).
-* :func:`ros` -- robust regression on order statistics, lognormal, several detection limits.
-* :func:`lognormal_mle` -- maximum likelihood for a censored lognormal distribution.
+* :func:`~tracescreen.statistics.ros.ros` -- robust regression on order statistics, lognormal,
+  several detection limits (:mod:`tracescreen.statistics.ros`).
+* :func:`~tracescreen.statistics.lognormal.lognormal_mle` -- maximum likelihood for a censored
+  lognormal distribution (:mod:`tracescreen.statistics.lognormal`).
 * :func:`substitute` -- substitution of 0, DL/2 or DL; only on request, always labelled.
 
 Series convention (DEVELOPERS.md): ``values`` holds the detected value, or the detection limit
 for a non-detect; ``nondetect`` is True for a non-detect. Concentrations in µg/L.
 
 The ``*_grouped`` functions compute many series (site x analyte x fraction) in one vectorised pass
-over padded arrays (:mod:`tracescreen.grouped`).
+over padded arrays (:func:`tracescreen.statistics.series.chunks`).
 
 References
 ----------
@@ -29,26 +31,15 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen.statistics import grouped
-
-#: Percentiles reported by the summary (as probabilities).
-PROBS = (0.5, 0.9, 0.95)
+from tracescreen.statistics.lognormal import _lognormal_mle_rows
+from tracescreen.statistics.ros import _ros_rows
+from tracescreen.statistics.series import PROBS, as_series, chunks
 
 #: Substitution factors for the ``substitution_*`` methods (fraction of the detection limit).
 SUBSTITUTION = {"substitution_zero": 0.0, "substitution_half_dl": 0.5, "substitution_dl": 1.0}
 
 #: Accepted ``method`` values for :func:`censored_statistics_grouped`.
 METHODS = ("kaplan_meier", "ros", "mle_lognormal", *SUBSTITUTION)
-
-
-def _as_series(values, nondetect):
-    x = np.asarray(values, dtype=float)
-    nd = np.zeros(x.shape, bool) if nondetect is None else np.asarray(nondetect, dtype=bool)
-    if x.shape != nd.shape:
-        raise ValueError("values and nondetect must have the same length")
-    if np.isnan(x).any():
-        raise ValueError("values contain NaN (a non-detect needs its detection limit)")
-    return x, nd
 
 
 # --------------------------------------------------------------------------- Kaplan-Meier
@@ -152,7 +143,7 @@ def kaplan_meier(values, nondetect, probs=PROBS) -> dict:
     .. [3] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
        2nd ed., ch. 6. Wiley.
     """
-    x, nd = _as_series(values, nondetect)
+    x, nd = as_series(values, nondetect)
     out = _km_rows(x[None, :], nd[None, :], np.ones((1, x.size), bool), tuple(probs))
     return {
         "mean": out["mean"][0],
@@ -180,9 +171,9 @@ def kaplan_meier_grouped(values, nondetect, codes, n_groups, probs=PROBS) -> pd.
         One row per group code: ``mean``, ``sd``, ``efron_mass`` and ``q<100 p>`` columns
         (e.g. ``q50``); NaN for groups without values.
     """
-    x, nd = _as_series(values, nondetect)
+    x, nd = as_series(values, nondetect)
     out = np.full((n_groups, 3 + len(probs)), np.nan)
-    for chunk in grouped.chunks(np.asarray(codes), n_groups):
+    for chunk in chunks(np.asarray(codes), n_groups):
         r = _km_rows(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, tuple(probs))
         out[chunk.groups] = np.column_stack([r["mean"], r["sd"], r["efron_mass"], r["q"]])
     names = ["mean", "sd", "efron_mass"] + [f"q{round(100 * p)}" for p in probs]
@@ -219,242 +210,8 @@ def substitute(values, nondetect, fraction: float) -> np.ndarray:
     .. [1] Helsel, D.R. (2006). Fabricating data: how substituting values for nondetects can
        ruin results, and what can be done about it. Chemosphere 65: 2434-2439.
     """
-    x, nd = _as_series(values, nondetect)
+    x, nd = as_series(values, nondetect)
     return np.where(nd, fraction * x, x)
-
-
-# --------------------------------------------------------------------------- ROS
-
-
-def ros(values, nondetect) -> np.ndarray:
-    """Robust regression on order statistics (lognormal): impute each non-detect.
-
-    Plotting positions follow Helsel & Cohn (1988) for several detection limits: with detection
-    limits DL_1 < ... < DL_m, A_j detects in [DL_j, DL_j+1), B_j values below DL_j (non-detects
-    at or below DL_j and detects below it), C_j non-detects at DL_j, the exceedance probability
-    PE_j = PE_j+1 + (1 - PE_j+1) A_j / (A_j + B_j) from PE_m+1 = 0 downwards. Detects in
-    interval j get (1 - PE_j) + (PE_j - PE_j+1) r / (A_j + 1), non-detects at DL_j get
-    (1 - PE_j) r / (C_j + 1). ln(detects) is regressed (least squares) on the normal scores of
-    their plotting positions; the non-detects take exp(fitted line) at their normal scores.
-
-    Parameters
-    ----------
-    values : array_like
-        Detected value, or the detection limit for a non-detect [µg/L]; all > 0.
-    nondetect : array_like of bool
-
-    Returns
-    -------
-    ndarray
-        The series with each non-detect replaced by its imputed value (input order); detects are
-        unchanged. All NaN when fewer than 2 values are detected (no regression possible).
-
-    Notes
-    -----
-    Non-detects with a detection limit above the largest detect are kept (their interval has no
-    detects, A_j = 0) -- statsmodels' ``impute_ros`` drops them instead. No silent substitution
-    is made; statistics of the returned set are the ROS estimates (Helsel 2012, sec. 6.2).
-
-    References
-    ----------
-    .. [1] Helsel, D.R., Cohn, T.A. (1988). Estimation of descriptive statistics for multiply
-       censored water quality data. Water Resources Research 24(12): 1997-2004.
-    .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-       2nd ed., ch. 6. Wiley.
-    """
-    x, nd = _as_series(values, nondetect)
-    return _ros_rows(x[None, :], nd[None, :], np.ones((1, x.size), bool))[0]
-
-
-def _rank_in_runs(keys, live):
-    """1-based rank of each cell within its run of equal keys along the row (sorted keys)."""
-    g, m = keys.shape
-    new = np.ones((g, m), bool)
-    new[:, 1:] = (keys[:, 1:] != keys[:, :-1]) | ~live[:, :-1]
-    col = np.arange(m)
-    return (col - np.maximum.accumulate(np.where(new, col, 0), axis=1) + 1).astype(float)
-
-
-def _ros_rows(x, nd, valid):
-    """ROS for each row of padded arrays (see :func:`ros`); NaN where ROS cannot be fitted."""
-    from scipy import stats  # imported on use (a slow import)
-    g, m = x.shape
-    det, ndv = valid & ~nd, valid & nd
-    out = np.where(valid, x, np.nan)
-    fit = ndv.any(axis=1) & (det.sum(axis=1) >= 2) & ~(valid & ~(x > 0)).any(axis=1)
-    # detection limits per row (sorted, unique), padded with inf; min(x) first if below them
-    cens = np.sort(np.where(ndv, x, np.inf), axis=1)
-    first = np.isfinite(cens)
-    first[:, 1:] &= cens[:, 1:] != cens[:, :-1]
-    slot = np.cumsum(first, axis=1) - 1
-    dls = np.full((g, m + 2), np.inf)
-    r, c = np.nonzero(first)
-    dls[r, slot[r, c]] = cens[r, c]
-    xmin = np.where(valid, x, np.inf).min(axis=1)
-    lower = xmin < dls[:, 0]
-    dls[lower, 1:] = dls[lower, :-1]
-    dls[lower, 0] = xmin[lower]
-    k = np.isfinite(dls).sum(axis=1)
-    dl, up = dls[:, :-1, None], dls[:, 1:, None]
-    xx = x[:, None, :]
-    A = (det[:, None, :] & (xx >= dl) & (xx < up)).sum(axis=2)
-    B = (ndv[:, None, :] & (xx <= dl)).sum(axis=2) + (det[:, None, :] & (xx < dl)).sum(axis=2)
-    C = (ndv[:, None, :] & (xx == dl)).sum(axis=2)
-    pe = np.zeros((g, m + 2))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        share = np.where(A + B > 0, A / np.maximum(A + B, 1), 0.0)
-    for j in range(m, -1, -1):  # recursion over detection-limit index, vectorised over series
-        pe[:, j] = np.where(j < k, pe[:, j + 1] + (1 - pe[:, j + 1]) * share[:, j], 0.0)
-    # interval (detects) or own limit (non-detects): last DL <= x
-    idx = np.clip((dls[:, None, :] <= x[:, :, None]).sum(axis=2) - 1, 0, m)
-    pe_j = np.take_along_axis(pe, idx, 1)
-    pe_next = np.take_along_axis(pe, idx + 1, 1)
-    # detects ranked within their interval (ascending), non-detects within their limit
-    pp = np.full((g, m), np.nan)
-    for mask, count in ((det, A), (ndv, C)):
-        order = np.argsort(np.where(mask, x, np.inf), axis=1, kind="stable")
-        live = np.take_along_axis(mask, order, 1)
-        rank = _rank_in_runs(np.take_along_axis(idx, order, 1), live)
-        n_j = np.take_along_axis(count, np.take_along_axis(idx, order, 1), 1) + 1.0
-        pj, pn = np.take_along_axis(pe_j, order, 1), np.take_along_axis(pe_next, order, 1)
-        if mask is det:
-            val = (1 - pj) + (pj - pn) * rank / n_j
-        else:  # Helsel & Cohn: then sorted and given to the non-detects in ascending order
-            val = np.sort(np.where(live, (1 - pj) * rank / n_j, np.inf), axis=1)
-        scattered = np.empty((g, m))
-        np.put_along_axis(scattered, order, val, 1)
-        pp = np.where(mask, scattered, pp)
-    z = stats.norm.ppf(np.where(valid, pp, 0.5))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        lx = np.log(np.where(det, x, 1.0))
-        nd_ = det.sum(axis=1)
-        zm = np.where(det, z, 0).sum(axis=1) / nd_
-        lm = np.where(det, lx, 0).sum(axis=1) / nd_
-        dz = np.where(det, z - zm[:, None], 0)
-        slope = (dz * (lx - lm[:, None])).sum(axis=1) / (dz * dz).sum(axis=1)
-        imputed = np.exp(lm[:, None] + slope[:, None] * (z - zm[:, None]))
-    out = np.where(ndv, imputed, out)
-    out[~fit & ndv.any(axis=1)] = np.nan
-    return out
-
-
-# --------------------------------------------------------------------------- lognormal MLE
-
-
-def lognormal_mle(values, nondetect, probs=PROBS) -> dict:
-    """Maximum-likelihood fit of a lognormal distribution to left-censored data.
-
-    Maximises l(mu, sigma) = sum over detects of [ln phi((ln x - mu)/sigma) - ln sigma - ln x]
-    + sum over non-detects of ln Phi((ln DL - mu)/sigma) over (mu, ln sigma) with
-    scipy.optimize (BFGS from the log-scale moments of the detects).
-
-    Returns
-    -------
-    dict
-        ``mu``, ``sigma`` (log scale), ``mean`` = exp(mu + sigma^2/2),
-        ``sd`` = mean sqrt(exp(sigma^2) - 1), ``quantiles`` = exp(mu + sigma z_p) [µg/L].
-        NaN when fewer than 2 distinct detected values.
-
-    Notes
-    -----
-    Advised for larger series (about 50 values or more) that fit a lognormal well
-    (Helsel 2012, ch. 5).
-
-    References
-    ----------
-    .. [1] Cohen, A.C. (1959). Simplified estimators for the normal distribution when samples are
-       singly censored or truncated. Technometrics 1: 217-237.
-    .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-       2nd ed., ch. 5. Wiley.
-    """
-    from scipy import optimize, stats  # imported on use (a slow import)
-    x, nd = _as_series(values, nondetect)
-    nan = {"mu": np.nan, "sigma": np.nan, "mean": np.nan, "sd": np.nan,
-           "quantiles": np.full(len(probs), np.nan)}
-    ld = np.log(x[~nd]) if (x > 0).all() else np.array([])
-    if np.unique(ld).size < 2:
-        return nan
-    lc = np.log(x[nd])
-
-    def nll(theta):
-        mu, ls = theta
-        s = np.exp(ls)
-        zd, zc = (ld - mu) / s, (lc - mu) / s
-        val = -(stats.norm.logpdf(zd).sum() - ld.size * ls + stats.norm.logcdf(zc).sum())
-        h = np.exp(stats.norm.logpdf(zc) - stats.norm.logcdf(zc))  # inverse Mills ratio
-        g_mu = -(zd.sum() / s - (h / s).sum())
-        g_ls = -((zd**2).sum() - ld.size - (h * zc).sum())
-        return val, np.array([g_mu, g_ls])
-
-    start = np.array([ld.mean(), np.log(ld.std(ddof=1))])
-    res = optimize.minimize(nll, start, jac=True, method="BFGS", options={"gtol": 1e-10})
-    mu, sigma = res.x[0], float(np.exp(res.x[1]))
-    mean = np.exp(mu + sigma**2 / 2)
-    return {
-        "mu": mu,
-        "sigma": sigma,
-        "mean": mean,
-        "sd": mean * np.sqrt(np.expm1(sigma**2)),
-        "quantiles": np.exp(mu + sigma * stats.norm.ppf(np.asarray(probs, float))),
-    }
-
-
-def _lognormal_mle_rows(x, nd, valid, iterations=200):
-    """Censored lognormal MLE for each row of padded arrays by damped Newton steps.
-
-    The same likelihood as :func:`lognormal_mle` (which fits one series with scipy.optimize and
-    serves as its check), maximised over (mu, ln sigma) with the analytic gradient and Hessian,
-    halving a step until the likelihood does not decrease; a gradient step where the Hessian is
-    not negative definite. Returns (mu, sigma), NaN where fewer than 2 distinct detects.
-    """
-    from scipy import special, stats  # imported on use (a slow import)
-    det, ndv = valid & ~nd, valid & nd
-    with np.errstate(divide="ignore", invalid="ignore"):
-        lx = np.log(np.where(valid & (x > 0), x, 1.0))
-    n_d = det.sum(axis=1)
-    ld = np.where(det, lx, np.nan)
-    distinct = (np.nanmax(np.where(det, lx, -np.inf), axis=1)
-                > np.nanmin(np.where(det, lx, np.inf), axis=1))
-    ok = distinct & (n_d >= 2) & ~(valid & ~(x > 0)).any(axis=1)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mu = np.where(ok, np.nansum(ld, axis=1) / n_d, 0.0)
-        tau = np.where(ok, np.log(np.sqrt(np.nansum((ld - mu[:, None]) ** 2, axis=1) / (n_d - 1))), 0.0)
-
-    def loglik(mu, tau):
-        z = (lx - mu[:, None]) / np.exp(tau)[:, None]
-        return (np.where(det, -0.5 * z * z - tau[:, None], 0.0).sum(axis=1)
-                + np.where(ndv, special.log_ndtr(z), 0.0).sum(axis=1))
-
-    current = loglik(mu, tau)
-    for _ in range(iterations):
-        s = np.exp(tau)[:, None]
-        z = (lx - mu[:, None]) / s
-        h = np.exp(stats.norm.logpdf(z) - special.log_ndtr(z))  # inverse Mills ratio
-        hp = -h * (z + h)  # its derivative
-        gm = np.where(det, z / s, 0).sum(1) + np.where(ndv, -h / s, 0).sum(1)
-        gt = np.where(det, z * z - 1, 0).sum(1) + np.where(ndv, -h * z, 0).sum(1)
-        hmm = np.where(det, -1 / s**2, 0).sum(1) + np.where(ndv, hp / s**2, 0).sum(1)
-        hmt = np.where(det, -2 * z / s, 0).sum(1) + np.where(ndv, (hp * z + h) / s, 0).sum(1)
-        htt = np.where(det, -2 * z * z, 0).sum(1) + np.where(ndv, hp * z * z + h * z, 0).sum(1)
-        detH = hmm * htt - hmt**2
-        newton = (hmm < 0) & (detH > 0)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            dm = np.where(newton, -(htt * gm - hmt * gt) / detH, gm / (np.abs(hmm) + 1.0))
-            dt = np.where(newton, -(hmm * gt - hmt * gm) / detH, gt / (np.abs(htt) + 1.0))
-        step = np.ones_like(mu)
-        todo = ok & ((np.abs(gm) + np.abs(gt)) > 1e-10)
-        if not todo.any():
-            break
-        for _ in range(40):  # backtracking, vectorised over series
-            trial = loglik(mu + step * dm, tau + step * dt)
-            worse = todo & ~(trial >= current)
-            if not worse.any():
-                break
-            step = np.where(worse, step / 2, step)
-        mu = np.where(todo, mu + step * dm, mu)
-        tau = np.where(todo, tau + step * dt, tau)
-        current = np.where(todo, loglik(mu, tau), current)
-    return np.where(ok, mu, np.nan), np.where(ok, np.exp(tau), np.nan)
 
 
 # --------------------------------------------------------------------------- all series
@@ -477,7 +234,7 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
     from scipy import stats  # imported on use (a slow import)
     if method not in METHODS:
         raise ValueError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
-    x, nd = _as_series(values, nondetect)
+    x, nd = as_series(values, nondetect)
     codes = np.asarray(codes, dtype=np.int64)
     qcols = [f"q{round(100 * p)}" for p in probs]
     out = pd.DataFrame(np.nan, index=range(n_groups), columns=["mean", "sd", *qcols])
@@ -485,7 +242,7 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
     label = np.where(any_nd, method, "sample_statistics").astype(object)
     x_plain = substitute(x, nd, SUBSTITUTION[method]) if method in SUBSTITUTION else x
     plain = ~any_nd[codes] | (method in SUBSTITUTION)
-    for chunk in grouped.chunks(codes[plain], n_groups):
+    for chunk in chunks(codes[plain], n_groups):
         mean, sd, q = _plain_rows(chunk.take(x_plain[plain], np.nan), chunk.valid, probs)
         out.iloc[chunk.groups] = np.column_stack([mean, sd, q])
     todo = ~plain
@@ -494,12 +251,12 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
         hit = np.unique(codes[todo])
         out.iloc[hit] = km.loc[hit, ["mean", "sd", *qcols]].to_numpy()
     elif method == "ros" and todo.any():
-        for chunk in grouped.chunks(codes[todo], n_groups, cells=lambda m: m * m):
+        for chunk in chunks(codes[todo], n_groups, cells=lambda m: m * m):
             imputed = _ros_rows(chunk.take(x[todo], 1.0), chunk.take(nd[todo], False), chunk.valid)
             mean, sd, q = _plain_rows(imputed, chunk.valid & np.isfinite(imputed), probs)
             out.iloc[chunk.groups] = np.column_stack([mean, sd, q])  # unfitted rows: NaN
     elif method == "mle_lognormal" and todo.any():
-        for chunk in grouped.chunks(codes[todo], n_groups):
+        for chunk in chunks(codes[todo], n_groups):
             mu, sigma = _lognormal_mle_rows(chunk.take(x[todo], 1.0), chunk.take(nd[todo], False),
                                             chunk.valid)
             mean = np.exp(mu + sigma**2 / 2)

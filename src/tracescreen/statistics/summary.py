@@ -24,11 +24,9 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from tracescreen.statistics import bootstrap
-from tracescreen.statistics import censored
-from tracescreen.statistics import grouped
-
-KEYS = ["site_id", "analyte", "fraction"]
+from tracescreen._internal.text import join_notes
+from tracescreen.statistics import bootstrap, censored
+from tracescreen.statistics.series import KEYS, censored_series, group_codes, site_samples
 
 SUMMARY_COLUMNS = KEYS + [
     "n", "n_detected", "percent_nondetect", "min_detected", "max_detected",
@@ -42,34 +40,6 @@ ONLY_COUNTS_ABOVE = 80.0
 CAREFUL_ABOVE = 50.0
 #: Fewer detected values than this: no mean (Helsel 2012; common practice).
 MIN_DETECTS_FOR_MEAN = 3
-
-
-def site_samples(results: pd.DataFrame) -> pd.DataFrame:
-    """Rows that are regular samples (``sample_type == "sample"``): QC samples are left out."""
-    if "sample_type" not in results:
-        return results
-    return results[results["sample_type"].fillna("sample") == "sample"]
-
-
-def censored_series(results: pd.DataFrame) -> pd.DataFrame:
-    """Add ``value`` (detected value, or the DL of a non-detect) and ``nondetect`` columns."""
-    nondetect = ~results["detected"].astype(bool).to_numpy()
-    value = np.where(nondetect, results["detection_limit_ug_L"], results["value_ug_L"])
-    return results.assign(value=value.astype(float), nondetect=nondetect)
-
-
-def join_notes(parts: list[tuple[np.ndarray, pd.Series | str]], size: int) -> np.ndarray:
-    """Per row, join with "; " the messages whose condition holds (``parts``: (condition, text))."""
-    out = pd.Series([""] * size, dtype=object)
-    for cond, text in parts:
-        cond = np.asarray(cond, bool)
-        if not cond.any():
-            continue
-        msg = text if isinstance(text, pd.Series) else pd.Series([text] * size)
-        add = cond & (out != "").to_numpy()
-        out = out.where(~add, out + "; ")
-        out = out.where(~cond, out + msg.astype(str))
-    return out.to_numpy(dtype=object)
 
 
 def _fmt(x) -> pd.Series:
@@ -114,7 +84,7 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     if data.empty:  # nothing accepted (or only QC samples): an empty table, not an error
         return pd.DataFrame({c: pd.Series(dtype=object) for c in SUMMARY_COLUMNS})
     unusable = data["value"].isna().to_numpy()
-    codes, table = grouped.group_codes(data, KEYS)
+    codes, table = group_codes(data, KEYS)
     g = len(table)
     lost = np.bincount(codes[unusable], minlength=g)
     data, codes = data[~unusable], codes[~unusable]

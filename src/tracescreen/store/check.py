@@ -10,11 +10,11 @@ References
 
 from __future__ import annotations
 
-import hashlib
 import sqlite3
 
 import pyarrow as pa
 
+from tracescreen._internal.hashing import sha256_hex
 from tracescreen.store.blobs import _decode
 from tracescreen.store.schema import SCHEMA_VERSION
 
@@ -76,7 +76,7 @@ def _check_originals(con, files) -> list[str]:
         except (pa.ArrowException, OSError) as exc:
             problems.append(f"{name}: stored file cannot be decompressed ({exc})")
             continue
-        if hashlib.sha256(raw).hexdigest() != sha:
+        if sha256_hex(raw) != sha:
             problems.append(f"{name}: stored file does not match its SHA-256")
     problems += [f"{files[f][1]}: original file not stored" for f in files if f not in stored]
     return problems
@@ -87,7 +87,7 @@ def _check_segments(con, files) -> list[str]:
     parts: dict[int, list[bytes]] = {}
     for seg_id, fid, digest, data in con.execute(
             "SELECT segment_id, file_id, sha256, data FROM segments ORDER BY file_id, part"):
-        if hashlib.sha256(data).hexdigest() != digest:
+        if sha256_hex(data) != digest:
             problems.append(f"segment {seg_id} of {files[fid][1]}: content does not match its SHA-256")
         parts.setdefault(fid, []).append(data)
     for fid, (_, name, *_, first, stored) in files.items():

@@ -30,58 +30,21 @@ References
 from __future__ import annotations
 
 import contextlib
-import dataclasses
-import hashlib
 import json
 import sqlite3
 import tempfile
-from concurrent.futures import ThreadPoolExecutor
-from datetime import datetime, timezone
 from pathlib import Path
-from typing import Callable, Iterable
 
 import numpy as np
 import pandas as pd
 import pyarrow as pa
 
-from tracescreen import __version__
+from tracescreen._internal.hashing import sha256_hex
 from tracescreen.io import loading
-from tracescreen.store.revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
 from tracescreen.io.columns import load_column_map
-from tracescreen.store.outcomes import FileBatch, FileOutcome, ImportSummary
-from tracescreen.store.blobs import _STORED, _decode, _encode, _to_frame  # noqa: F401
-from tracescreen.store.schema import _SCHEMA, APPLICATION_ID, SCHEMA_VERSION  # noqa: F401
-
-WORKSPACE_FILE = "workspace.sqlite"
-PART_BYTES = 16 * 1024 * 1024   # a stored results file is split into BLOB parts of at most this size
-_HASHES = ["key_hash", "value_hash"]
-
-
-
-
-class WorkspaceError(ValueError):
-    """A workspace that cannot be used as asked (the message says which and why)."""
-
-
-def _now() -> str:
-    return datetime.now(timezone.utc).isoformat(timespec="milliseconds")
-
-
-def _sha256(data: bytes) -> str:
-    return hashlib.sha256(data).hexdigest()
-
-
-def file_sha256(path: str | Path) -> str:
-    """SHA-256 (FIPS 180-4) of a file's bytes, as hex."""
-    return _sha256(Path(path).read_bytes())
-
-
-# --------------------------------------------------------------------------------------------
-# opening and creating
-# --------------------------------------------------------------------------------------------
-
-def workspace_path(directory: str | Path) -> Path:
-    return Path(directory) / WORKSPACE_FILE
+from tracescreen.store.blobs import _STORED, _decode, _to_frame
+from tracescreen.store.database import WorkspaceError, connect
+from tracescreen.store.importing import Importing
 
 
 def open_workspace(directory: str | Path, create: bool = False) -> "Workspace":
@@ -92,113 +55,11 @@ def open_workspace(directory: str | Path, create: bool = False) -> "Workspace":
     WorkspaceError
         No workspace there (and ``create`` is false), or the file is not a tracescreen workspace.
     """
-    directory = Path(directory)
-    path = workspace_path(directory)
-    if not path.is_file():
-        if not create:
-            raise WorkspaceError(f"{directory}: no workspace here (create one with "
-                                 f"'tracescreen import FILE... --workspace {directory}')")
-        if directory.exists() and not directory.is_dir():
-            raise WorkspaceError(f"{directory}: exists and is not a directory")
-        directory.mkdir(parents=True, exist_ok=True)
-    con = None
-    try:
-        con = sqlite3.connect(path, isolation_level=None, timeout=120.0, check_same_thread=False)
-        con.execute("PRAGMA busy_timeout = 120000")
-        con.execute("PRAGMA foreign_keys = ON")
-        con.execute("PRAGMA synchronous = FULL")
-        app_id = con.execute("PRAGMA application_id").fetchone()[0]
-        version = con.execute("PRAGMA user_version").fetchone()[0]
-        if app_id == 0 and version == 0 and con.execute(
-                "SELECT count(*) FROM sqlite_master").fetchone()[0] == 0:
-            _initialise(con)
-        elif app_id != APPLICATION_ID:
-            raise WorkspaceError(f"{path}: not a tracescreen workspace")
-        elif version != SCHEMA_VERSION:
-            raise WorkspaceError(f"{path}: workspace format {version}; this tracescreen reads "
-                                 f"format {SCHEMA_VERSION}")
-        con.execute("PRAGMA journal_mode = WAL")
-    except sqlite3.DatabaseError as exc:
-        if con is not None:
-            con.close()
-        raise WorkspaceError(f"{path}: cannot open the workspace database ({exc})") from None
-    except WorkspaceError:
-        con.close()
-        raise
-    return Workspace(directory, path, con)
+    path, con = connect(directory, create)
+    return Workspace(Path(directory), path, con)
 
 
-def _initialise(con: sqlite3.Connection) -> None:
-    con.execute("PRAGMA page_size = 65536")
-    con.execute("PRAGMA journal_mode = WAL")
-    with _write(con):
-        for stmt in _SCHEMA.split(";"):
-            if stmt.strip():
-                con.execute(stmt)
-        con.executemany("INSERT INTO workspace_info VALUES (?, ?)",
-                        [("created_at", _now()), ("created_by", f"tracescreen {__version__}"),
-                         ("row_hash_probe", probe_hash())])
-        con.execute(f"PRAGMA application_id = {APPLICATION_ID}")
-        con.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
-
-
-class _write:
-    """``with _write(con):`` one write transaction, rolled back on any exception."""
-
-    def __init__(self, con: sqlite3.Connection):
-        self.con = con
-
-    def __enter__(self):
-        self.con.execute("BEGIN IMMEDIATE")
-
-    def __exit__(self, exc_type, *_):
-        if exc_type is None:
-            self.con.execute("COMMIT")
-        elif self.con.in_transaction:
-            self.con.execute("ROLLBACK")
-
-
-# --------------------------------------------------------------------------------------------
-# reading files for an import
-# --------------------------------------------------------------------------------------------
-
-def read_file(path: str | Path, options: loading.LoadOptions | None = None,
-              site_ids: set[str] | None = None, sites_name: str = "the sites file",
-              data: bytes | None = None, pool: ThreadPoolExecutor | None = None) -> FileBatch:
-    """Read and normalise one lab file, keeping its bytes (raises ``loading.LoadError``)."""
-    p = Path(path)
-    data = p.read_bytes() if data is None else data
-    digest = _sha256(data)
-    compressing = pool.submit(pa.compress, data, "zstd", asbytes=True) if pool else None
-    raws, read_digest = loading.read_raw(p, options)
-    if read_digest != digest:
-        raise loading.LoadError(f"{p.name}: the file changed while it was being read")
-    accepted, rejected, sheets = [], [], []
-    for raw in raws:
-        acc, rej = loading.normalise(raw, options, site_ids, sites_name)
-        accepted.append(acc)
-        rejected.append(rej)
-        sheets.append({"sheet": raw.sheet, "header_row": raw.header_row,
-                       "header": json.dumps(list(map(str, raw.cells.columns)), ensure_ascii=False),
-                       "rows_read": len(raw.cells), "rows_accepted": len(acc),
-                       "rows_rejected": len(rej), "blank_rows": raw.blank_rows})
-    original = compressing.result() if compressing else pa.compress(data, "zstd", asbytes=True)
-    return FileBatch(p.name, str(p.resolve()), digest, len(data), original, sheets,
-                     loading.concat_accepted(accepted),
-                     pd.concat(rejected, ignore_index=True) if len(rejected) > 1 else rejected[0])
-
-
-def _options_record(options: loading.LoadOptions | None) -> str:
-    opts = dataclasses.asdict(options or loading.LoadOptions())
-    opts.pop("column_map", None)
-    return json.dumps(opts, sort_keys=True, default=str)
-
-
-# --------------------------------------------------------------------------------------------
-# the workspace
-# --------------------------------------------------------------------------------------------
-
-class Workspace:
+class Workspace(Importing):
     """An open workspace (use :func:`open_workspace`); close it or use it as a context manager."""
 
     def __init__(self, directory: Path, path: Path, con: sqlite3.Connection):
@@ -233,150 +94,8 @@ class Workspace:
         with self.reading():
             return fn(self.con)
 
-    def known_sha256(self) -> set[str]:
+    def knownsha256_hex(self) -> set[str]:
         return {r[0] for r in self.con.execute("SELECT sha256 FROM files")}
-
-    # ---- import ----------------------------------------------------------------------------
-    def import_files(self, paths: Iterable[str | Path], options: loading.LoadOptions | None = None,
-                     sites: pd.DataFrame | None = None, *, sites_path: str | Path | None = None,
-                     columns_path: str | Path | None = None,
-                     progress: Callable[[str], None] | None = None) -> ImportSummary:
-        """Read lab files and add them to the workspace in one atomic import.
-
-        Every file is read and checked before anything is written: a file that cannot be read
-        raises ``loading.LoadError`` and the workspace is left as it was. A file whose SHA-256 is
-        already stored (or that appears twice in ``paths``) is skipped and reported.
-        """
-        say = progress or (lambda msg: None)
-        site_ids = set(sites["site_id"]) if sites is not None else None
-        sites_name = Path(sites_path).name if sites_path else "the sites file"
-        known = self.known_sha256()
-        batches: list[FileBatch] = []
-        skipped: list[FileOutcome] = []
-        seen: dict[str, str] = {}
-        with ThreadPoolExecutor(1) as pool:
-            for p in map(Path, paths):
-                if not p.is_file():
-                    raise loading.LoadError(f"{p}: file not found")
-                data = p.read_bytes()
-                digest = _sha256(data)
-                if digest in known or digest in seen:
-                    note = (f"same content as {seen[digest]} in this import" if digest in seen
-                            else "the same file is already in the workspace")
-                    skipped.append(FileOutcome(p.name, digest, "already imported", note=note))
-                    continue
-                say(f"reading {p.name}")
-                batches.append(read_file(p, options, site_ids, sites_name, data, pool))
-                seen[digest] = p.name
-        inputs = {"options": _options_record(options), "columns": columns_path, "sites": sites_path}
-        return self.store(batches, skipped, inputs, say)
-
-    def store(self, batches: list[FileBatch], skipped: list[FileOutcome] | None = None,
-              inputs: dict | None = None, say: Callable[[str], None] = lambda m: None) -> ImportSummary:
-        """Store read files as one import, in one transaction (see the module docstring)."""
-        skipped = list(skipped or [])
-        if not batches:
-            return ImportSummary(None, skipped)
-        inputs = inputs or {}
-        cols = inputs.get("columns")
-        started = _now()
-        with _write(self.con):
-            say("transaction begun")
-            known = self.known_sha256()  # again, now under the write lock
-            todo = [b for b in batches if b.sha256 not in known]
-            skipped += [FileOutcome(b.name, b.sha256, "already imported",
-                                    note="imported meanwhile by another process")
-                        for b in batches if b.sha256 in known]
-            if not todo:
-                return ImportSummary(None, skipped)
-            import_id = self.con.execute(
-                "INSERT INTO imports VALUES (NULL, ?, '', ?, ?, ?, ?, ?, ?, ?, 0, 0, 0, 0, 0, 0, 0) "
-                "RETURNING import_id",
-                (started, __version__, inputs.get("options", _options_record(None)),
-                 *_input_record(cols), Path(cols).read_text(encoding="utf-8") if cols else None,
-                 *_input_record(inputs.get("sites")))).fetchone()[0]
-            current = self._current_keys()
-            next_id = self.con.execute(
-                "SELECT coalesce(max(first_result_id + rows_stored), 1) FROM files").fetchone()[0]
-            outcomes = []
-            for b in todo:
-                outcome, current, next_id = self._store_file(import_id, b, current, next_id, say)
-                outcomes.append(outcome)
-            totals = [sum(getattr(o, a) for o in outcomes)
-                      for a in ("rows_read", "new", "unchanged", "revised", "superseded")]
-            totals.append(sum(o.rejected + o.set_aside for o in outcomes))  # rows not stored
-            self.con.execute(
-                "UPDATE imports SET finished_at = ?, files = ?, rows_read = ?, rows_new = ?, "
-                "rows_unchanged = ?, rows_revised = ?, rows_superseded = ?, rows_rejected = ? "
-                "WHERE import_id = ?", (_now(), len(outcomes), *totals, import_id))
-            say("committing")
-        say("committed")
-        return ImportSummary(import_id, outcomes + skipped)
-
-    def _current_keys(self) -> pd.DataFrame:
-        """result_id, key hash ``k`` and value hash ``v`` of every current result."""
-        probe = self.con.execute(
-            "SELECT value FROM workspace_info WHERE key = 'row_hash_probe'").fetchone()[0]
-        if probe == probe_hash():
-            t = self._load_table(["result_id"] + _HASHES, current=True)
-            return pd.DataFrame({"result_id": t.column("result_id").to_numpy(),
-                                 "k": t.column("key_hash").to_numpy(),
-                                 "v": t.column("value_hash").to_numpy()})
-        cur = self._load_table(["result_id"] + RESULT_KEY + VALUE_COLUMNS, current=True)
-        k, v = row_hashes(cur)
-        return pd.DataFrame({"result_id": cur.column("result_id").to_numpy(), "k": k, "v": v})
-
-    def _store_file(self, import_id: int, b: FileBatch, current: pd.DataFrame, next_id: int, say):
-        table = pa.Table.from_pandas(b.accepted, preserve_index=False)
-        k, v = row_hashes(table)
-        inc = pd.DataFrame({"k": k, "v": v})
-        status, superseded = classify(inc, current)
-        store = status != "unchanged"
-        if not store.all():
-            table, k, v = table.filter(pa.array(store)), k[store], v[store]
-        ids = np.arange(next_id, next_id + table.num_rows, dtype=np.int64)
-        o = FileOutcome(b.name, b.sha256, "stored", sum(s["rows_read"] for s in b.sheets),
-                        int((status == "new").sum()), int((status == "unchanged").sum()),
-                        int((status == "revised").sum()), len(superseded))
-        if b.rejected is not None and len(b.rejected):
-            not_kept, aside = loading.split_set_aside(b.rejected)
-            o.rejected, o.set_aside = len(not_kept), len(aside)
-        file_id = self.con.execute(
-            "INSERT INTO files VALUES (NULL, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING file_id",
-            (import_id, b.name, b.path, b.sha256, b.size_bytes, o.rows_read, o.new, o.unchanged,
-             o.revised, o.superseded, o.rejected + o.set_aside, next_id, len(ids))).fetchone()[0]
-        self.con.executemany(
-            "INSERT INTO sheets VALUES (:file_id, :sheet, :header_row, :header, :rows_read, "
-            ":rows_accepted, :rows_rejected, :blank_rows)", [{"file_id": file_id, **s} for s in b.sheets])
-        self.con.execute("INSERT INTO originals VALUES (?, 'zstd', ?)", (file_id, b.original))
-        table = table.append_column("result_id", pa.array(ids)).append_column(
-            "key_hash", pa.array(k)).append_column("value_hash", pa.array(v))
-        data = _encode(table)
-        for part, start in enumerate(range(0, len(data), PART_BYTES)):
-            piece = data[start:start + PART_BYTES]
-            self.con.execute("INSERT INTO segments VALUES (NULL, ?, ?, ?, ?)",
-                             (file_id, part, _sha256(piece), piece))
-            say(f"stored a segment of {len(piece)} bytes")
-        if len(b.rejected):
-            self._put_rejected(file_id, b.rejected)
-        if len(superseded):
-            self.con.executemany("INSERT INTO supersessions VALUES (?, ?, ?)",
-                                 ((int(r), import_id, file_id) for r in superseded))
-        added = pd.DataFrame({"result_id": ids, "k": k, "v": v})
-        if len(current):
-            current = current[~current["result_id"].isin(superseded).to_numpy()]
-            added = pd.concat([current, added], ignore_index=True)
-        return o, added, next_id + len(ids)
-
-    def _put_rejected(self, file_id: int, rej: pd.DataFrame) -> None:
-        cells = rej.drop(columns=["file", "sheet", "row", "reason"]).dropna(axis=1, how="all")
-        lines = (cells.fillna("").astype(str).to_json(orient="records", lines=True,
-                                                      force_ascii=False).splitlines()
-                 if cells.shape[1] else ["{}"] * len(rej))
-        self.con.executemany(
-            "INSERT INTO rejected VALUES (?, ?, ?, ?, ?)",
-            zip([file_id] * len(rej), rej["sheet"].astype(str), rej["row"].astype(int).tolist(),
-                rej["reason"].astype(str), lines))
 
     # ---- reading back ----------------------------------------------------------------------
     def _load_table(self, columns: list[str] | None = None, current: bool = True) -> pa.Table:
@@ -454,7 +173,7 @@ class Workspace:
         if row is None:
             raise WorkspaceError(f"no file {file_id} in the workspace")
         data = pa.decompress(row[0], row[2], "zstd", asbytes=True)
-        if _sha256(data) != row[1]:
+        if sha256_hex(data) != row[1]:
             raise WorkspaceError(f"file {file_id}: stored bytes do not match its SHA-256")
         return data
 
@@ -515,20 +234,6 @@ class Workspace:
     def last_import_id(self) -> int | None:
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]
 
-    # ---- screening runs --------------------------------------------------------------------
-    def record_screening_run(self, command: str, results: int, limit_files: Iterable[str | Path],
-                             sites_path: str | Path | None, summary: dict) -> int:
-        """Record a screening run with the SHA-256 of every limit table and of the sites file."""
-        limits = [{"path": str(Path(p).resolve()), "sha256": file_sha256(p)}
-                  for p in sorted(map(str, limit_files))]
-        combined = _sha256("".join(f"{d['sha256']}  {Path(d['path']).name}\n" for d in limits).encode())
-        with _write(self.con):
-            return self.con.execute(
-                "INSERT INTO screening_runs VALUES (NULL, ?, ?, ?, (SELECT max(import_id) FROM "
-                "imports), ?, ?, ?, ?, ?, ?) RETURNING run_id",
-                (_now(), __version__, command, int(results), json.dumps(limits), combined,
-                 *_input_record(sites_path), json.dumps(summary, default=int))).fetchone()[0]
-
     def screening_runs(self) -> pd.DataFrame:
         return pd.read_sql_query("SELECT * FROM screening_runs ORDER BY run_id", self.con)
 
@@ -538,12 +243,6 @@ class Workspace:
         from tracescreen.store.check import check_workspace
 
         return self._read(check_workspace)
-
-
-def _input_record(path) -> tuple[str | None, str | None]:
-    if not path:
-        return None, None
-    return str(Path(path).resolve()), file_sha256(path)
 
 
 #: Columns added to the stored results after workspaces were first written, with the value an
@@ -562,4 +261,3 @@ def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
                 else pa.array(np.full(table.num_rows, fill), type=pa.float64())
             table = table.append_column(c, col)
     return table.select(columns)
-

@@ -1,7 +1,7 @@
 """Quality-control checks: field duplicates, blanks, dissolved vs total, holding times.
 
 Each check takes the accepted results (or the screening table; the per-limit repetition is dropped)
-and returns retest rows (:data:`tracescreen.retest.flags.RETEST_COLUMNS`). Blanks and field duplicates are
+and returns retest rows (:data:`tracescreen.retest.rows.RETEST_COLUMNS`). Blanks and field duplicates are
 QC samples: they are never screened against limits as if they were site samples; here they are used
 to judge the site samples of their pair or batch.
 
@@ -17,9 +17,9 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen.retest.flags import (
-    _RTOL, _ug, empty_retest, format_date, format_number, results_from_screening, retest_rows,
-    site_samples,
+from tracescreen._internal.text import format_date, format_number
+from tracescreen.retest.rows import (
+    RTOL, censored_value, empty_retest, results_from_screening, retest_rows, shown, site_samples, ug,
 )
 
 BLANK_TYPES = ("field_blank", "lab_blank")
@@ -34,18 +34,6 @@ buffer that extends it to 28 days), every other metal 6 calendar months. Source:
 136.3 Table II, Required containers, preservation techniques, and holding times (6 months checked;
 28 days for mercury by cold-vapour AA and 24 h for chromium(VI) from memory). The key ``"*"`` is the
 default for analytes not listed."""
-
-
-def _censored_value(frame: pd.DataFrame, suffix: str = "") -> pd.Series:
-    """Detected value, or the detection limit for a non-detect [µg/L]."""
-    det = frame["detected" + suffix].astype(bool)
-    return frame["value_ug_L" + suffix].where(det, frame["detection_limit_ug_L" + suffix])
-
-
-def _shown(frame: pd.DataFrame, suffix: str = "") -> pd.Series:
-    """Result as shown in a detail: ``1.2 µg/L`` or ``<0.5 µg/L``."""
-    det = frame["detected" + suffix].astype(bool)
-    return np.where(det, "", "<") + _ug(_censored_value(frame, suffix))
 
 
 def _both_sides(pairs: pd.DataFrame, left: str, right: str, detail: pd.Series, reason: str) -> pd.DataFrame:
@@ -89,8 +77,12 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
 
     References
     ----------
-    .. [1] US EPA, National Functional Guidelines for Inorganic Superfund Methods Data Review
-       (duplicate RPD and the ±RL rule near the reporting limit; from memory).
+    .. [1] US EPA (2020), National Functional Guidelines for Inorganic Superfund Methods Data Review
+       [USEPA2020NFG]: the guideline gives no numeric criterion for field duplicates (the 30 % is
+       common practice of project plans). Its laboratory-duplicate rule has the same shape, RPD
+       <= 20 % when both results are >= 5 x the quantitation limit, else |A - B| <= the
+       quantitation limit (from memory); the laboratory QC review applies it to the lab's own
+       duplicates (retest reason ``lab_duplicate_disagrees``, :mod:`tracescreen.retest.labqc.precision`).
     """
     res = results_from_screening(results)
     dup = res[res["sample_type"].eq("field_duplicate") & res["parent_sample_id"].fillna("").ne("")]
@@ -101,14 +93,14 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
                          right_on=["parent_sample_id", "analyte", "fraction"], suffixes=("_p", "_d"))
     if pairs.empty:
         return empty_retest()
-    a, b = _censored_value(pairs, "_p"), _censored_value(pairs, "_d")
+    a, b = censored_value(pairs, "_p"), censored_value(pairs, "_d")
     det_a, det_b = pairs["detected_p"].astype(bool), pairs["detected_d"].astype(bool)
     dl = np.fmax(pairs["detection_limit_ug_L_p"], pairs["detection_limit_ug_L_d"])
     rpd = (a - b).abs() / ((a + b) / 2) * 100
-    both_high = det_a & det_b & (dl.isna() | ((a >= rpd_min_multiple * dl * (1 - _RTOL))
-                                              & (b >= rpd_min_multiple * dl * (1 - _RTOL))))
-    by_rpd = both_high & (rpd > rpd_percent * (1 + _RTOL))
-    by_abs = ~both_high & (det_a | det_b) & ((a - b).abs() > abs_multiple * dl * (1 + _RTOL))
+    both_high = det_a & det_b & (dl.isna() | ((a >= rpd_min_multiple * dl * (1 - RTOL))
+                                              & (b >= rpd_min_multiple * dl * (1 - RTOL))))
+    by_rpd = both_high & (rpd > rpd_percent * (1 + RTOL))
+    by_abs = ~both_high & (det_a | det_b) & ((a - b).abs() > abs_multiple * dl * (1 + RTOL))
     flagged = pairs[by_rpd | by_abs]
     if flagged.empty:
         return empty_retest()
@@ -116,10 +108,10 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
     rule = np.where(by_rpd[flagged.index],
                     "RPD " + format_number(fr, 3) + " % > " + format_number([rpd_percent])[0]
                     + " % (both >= " + format_number([rpd_min_multiple])[0] + " × DL)",
-                    "difference " + _ug((a - b).abs()[flagged.index]) + " > "
-                    + format_number([abs_multiple])[0] + " × DL " + _ug(dl[flagged.index]))
+                    "difference " + ug((a - b).abs()[flagged.index]) + " > "
+                    + format_number([abs_multiple])[0] + " × DL " + ug(dl[flagged.index]))
     detail = ("field duplicate pair " + flagged["sample_id_p"] + " / " + flagged["sample_id_d"] + ": "
-              + _shown(flagged, "_p") + " and " + _shown(flagged, "_d") + "; " + rule)
+              + shown(flagged, "_p") + " and " + shown(flagged, "_d") + "; " + rule)
     return _both_sides(flagged, "_p", "_d", detail, "duplicate_disagrees")
 
 
@@ -137,8 +129,11 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0) -> pd.Data
     results : pandas.DataFrame
         Accepted results.
     multiple : float
-        Default 5 (the 5 × blank rule, common practice; US EPA National Functional Guidelines for
-        inorganic data review use multiples of the blank, from memory).
+        Default 5: the 5 × blank rule of the editions of the US EPA National Functional Guidelines
+        for inorganic data review before the quantitation-limit tiers (from memory; common
+        practice). The 2020 edition qualifies by the blank's and the quantitation limit's tiers;
+        the laboratory QC review applies them to the lab's calibration and method blanks
+        (retest reason ``blank_affects_result``, :mod:`tracescreen.retest.labqc.blanks`).
 
     Returns
     -------
@@ -159,13 +154,13 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0) -> pd.Data
     samples = res[res["sample_type"].isin(["sample", "field_duplicate"]) & batch.ne("")
                   & res["detected"].astype(bool)]
     hit = samples.merge(worst, on=["lab", "batch", "analyte"])
-    hit = hit[hit["value_ug_L"] < multiple * hit["_blank"] * (1 - _RTOL)]
+    hit = hit[hit["value_ug_L"] < multiple * hit["_blank"] * (1 - RTOL)]
     if hit.empty:
         return empty_retest()
     detail = (hit["_blank_type"].str.replace("_", " ") + " " + hit["_blank_id"] + " in batch "
-              + hit["batch"] + " detected " + _ug(hit["_blank"]) + "; this result "
-              + _ug(hit["value_ug_L"]) + " is below " + format_number([multiple])[0]
-              + " × the blank (" + _ug(multiple * hit["_blank"]) + ")")
+              + hit["batch"] + " detected " + ug(hit["_blank"]) + "; this result "
+              + ug(hit["value_ug_L"]) + " is below " + format_number([multiple])[0]
+              + " × the blank (" + ug(multiple * hit["_blank"]) + ")")
     return retest_rows(hit, "blank_contamination", detail)
 
 
@@ -208,12 +203,12 @@ def dissolved_exceeds_total(results: pd.DataFrame, percent: float = 30.0, min_mu
     pairs = dis.merge(tot, on=["site_id", "sample_id", "analyte"], suffixes=("_d", "_t"))
     if pairs.empty:
         return empty_retest()
-    d, t = pairs["value_ug_L_d"], _censored_value(pairs, "_t")
+    d, t = pairs["value_ug_L_d"], censored_value(pairs, "_t")
     dl = np.fmax(pairs["detection_limit_ug_L_d"], pairs["detection_limit_ug_L_t"])
     both_high = pairs["detected_t"].astype(bool) & (dl.isna() | ((d > min_multiple * dl) & (t > min_multiple * dl)))
     rel = (d - t) / t * 100
-    by_rel = both_high & (rel > percent * (1 + _RTOL))
-    by_abs = ~both_high & ((d - t) > abs_multiple * dl * (1 + _RTOL))
+    by_rel = both_high & (rel > percent * (1 + RTOL))
+    by_abs = ~both_high & ((d - t) > abs_multiple * dl * (1 + RTOL))
     flagged = pairs[by_rel | by_abs]
     if flagged.empty:
         return empty_retest()
@@ -222,9 +217,9 @@ def dissolved_exceeds_total(results: pd.DataFrame, percent: float = 30.0, min_mu
                     "dissolved above total by " + format_number(rel[i], 3) + " % > "
                     + format_number([percent])[0] + " % (both > " + format_number([min_multiple])[0]
                     + " × DL)",
-                    "dissolved above total by " + _ug((d - t)[i]) + " > "
-                    + format_number([abs_multiple])[0] + " × DL " + _ug(dl[i]))
-    detail = ("dissolved " + _shown(flagged, "_d") + ", total " + _shown(flagged, "_t") + "; " + rule)
+                    "dissolved above total by " + ug((d - t)[i]) + " > "
+                    + format_number([abs_multiple])[0] + " × DL " + ug(dl[i]))
+    detail = ("dissolved " + shown(flagged, "_d") + ", total " + shown(flagged, "_t") + "; " + rule)
     flagged = flagged.assign(sampled_at=flagged["sampled_at_d"], fraction_d="dissolved", fraction_t="total")
     return _both_sides(flagged, "_d", "_t", detail, "dissolved_exceeds_total")
 

@@ -1,11 +1,15 @@
-"""Many series at once: pack the rows of each group into padded 2-D arrays.
+"""Results as series, and many series at once.
 
-The statistics modules (:mod:`tracescreen.censored`, :mod:`tracescreen.trends`) compute every
-site x analyte x fraction series in one numpy pass over a padded array of shape
-``(groups, longest series)``. Series of very different lengths would waste memory in a single
-array, so groups are put in *buckets* of similar length (a geometric ladder of widths) and each
-bucket is split into chunks that respect a cell budget. The loop runs over buckets and chunks (a
-handful), never over series.
+A *series* is the results of one site, analyte and fraction (:data:`KEYS`) from site samples (QC
+samples are left out: :func:`site_samples`). For statistics a censored series is ``value`` (the
+detected value, or the detection limit of a non-detect) with ``nondetect`` (:func:`censored_series`);
+times are decimal years (:func:`decimal_years`).
+
+The statistics modules compute every series in one numpy pass over a padded array of shape
+``(groups, longest series)`` (:func:`chunks`). Series of very different lengths would waste memory
+in a single array, so groups are put in *buckets* of similar length (a geometric ladder of widths)
+and each bucket is split into chunks that respect a cell budget. The loop runs over buckets and
+chunks (a handful), never over series.
 """
 
 from __future__ import annotations
@@ -15,6 +19,62 @@ from typing import Callable, Iterator
 
 import numpy as np
 import pandas as pd
+
+#: A monitoring series: one site, one analyte, one fraction.
+KEYS = ["site_id", "analyte", "fraction"]
+
+#: Days per year used to turn dates into decimal years (Julian year).
+DAYS_PER_YEAR = 365.25
+
+_EPOCH = np.datetime64("1970-01-01T00:00:00", "ns")
+
+#: Percentiles reported for a series (as probabilities).
+PROBS = (0.5, 0.9, 0.95)
+
+
+def as_series(values, nondetect):
+    """A censored series as two arrays (``values`` float [µg/L], ``nondetect`` bool), checked.
+
+    ``nondetect`` None means every value is detected. Raises ValueError on unequal lengths or a NaN
+    (a non-detect needs its detection limit).
+    """
+    x = np.asarray(values, dtype=float)
+    nd = np.zeros(x.shape, bool) if nondetect is None else np.asarray(nondetect, dtype=bool)
+    if x.shape != nd.shape:
+        raise ValueError("values and nondetect must have the same length")
+    if np.isnan(x).any():
+        raise ValueError("values contain NaN (a non-detect needs its detection limit)")
+    return x, nd
+
+
+def site_samples(results: pd.DataFrame) -> pd.DataFrame:
+    """Rows that are regular samples (``sample_type == "sample"``): QC samples are left out."""
+    if "sample_type" not in results:
+        return results
+    return results[results["sample_type"].fillna("sample") == "sample"]
+
+
+def censored_series(results: pd.DataFrame) -> pd.DataFrame:
+    """Add ``value`` (detected value, or the DL of a non-detect) and ``nondetect`` columns."""
+    nondetect = ~results["detected"].astype(bool).to_numpy()
+    value = np.where(nondetect, results["detection_limit_ug_L"], results["value_ug_L"])
+    return results.assign(value=value.astype(float), nondetect=nondetect)
+
+
+def decimal_years(dates) -> np.ndarray:
+    """Dates -> years since 1970-01-01 plus 1970 (Julian years of 365.25 days)."""
+    d = pd.to_datetime(pd.Series(dates)).to_numpy(dtype="datetime64[ns]")
+    return 1970.0 + (d - _EPOCH) / np.timedelta64(1, "D") / DAYS_PER_YEAR
+
+
+def date_from_decimal_year(t) -> pd.Series:
+    """Inverse of :func:`decimal_years` (NaN -> NaT); day precision."""
+    t = np.asarray(t, dtype=float)
+    ok = np.isfinite(t) & (t > 1678.0) & (t < 2261.0)  # the datetime64[ns] range
+    days = np.where(ok, (t - 1970.0) * DAYS_PER_YEAR, 0.0)
+    out = _EPOCH + np.round(days).astype("int64").astype("timedelta64[D]")
+    return pd.Series(np.where(ok, out, np.datetime64("NaT")), dtype="datetime64[ns]")
+
 
 #: Default number of cells (groups x width, or groups x width^2 for pairwise kernels) per chunk.
 CELL_BUDGET = 4_000_000

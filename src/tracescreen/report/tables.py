@@ -1,0 +1,332 @@
+"""The tables of the site summary report: what it shows, built once for the HTML page and the workbook.
+
+:func:`report_data` gathers a run's outputs into a :class:`ReportData`; :func:`report_tables` gives
+every table of the report by name, in report order (the HTML page shows them, the workbook has one
+sheet each).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from datetime import datetime, timezone
+
+import numpy as np
+import pandas as pd
+
+from tracescreen import __version__, vocabulary
+from tracescreen._internal.frames import plain_text
+from tracescreen._internal.text import format_date, format_number
+from tracescreen.caution import CAUTION
+from tracescreen.retest.rows import site_samples
+
+STATUS_ORDER = list(vocabulary.RANKED)
+"""Statuses from worst to least concern (a result's status in the matrix is its worst)."""
+
+EXCEEDANCE_COLUMNS = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result_text", "unit",
+                      "value_ug_L", "limit_ug_L", "ratio", "limit_table", "use", "duration", "source"]
+
+
+@dataclass
+class ReportData:
+    """Everything a report shows.
+
+    Attributes
+    ----------
+    screening : pandas.DataFrame
+        Screening table (DEVELOPERS.md contract), QC rows included.
+    rejected : pandas.DataFrame
+        Rejected rows (``file, sheet, row, reason`` plus original cells).
+    files : pandas.DataFrame
+        One row per file read, with ``file`` and ``sha256``.
+    limit_tables, limit_entries : pandas.DataFrame
+        ``LimitSet.tables`` and ``LimitSet.entries``.
+    retest : pandas.DataFrame
+        Retest list (``tracescreen.retest.listing.retest_list``).
+    summary, trends, exceedance_rates : pandas.DataFrame or None
+        Outputs of the statistics modules (``summary.csv``, ``trends.csv``, ``exceedances.csv``:
+        count and proportion of results above each limit with a binomial interval).
+    sites : pandas.DataFrame or None
+        Sites table, if one was given.
+    settings : dict
+        Settings shown in the scope section (e.g. non-detect method, trend test options).
+    method_notes : list of str
+        Extra method notes (e.g. from the statistics modules).
+    """
+
+    screening: pd.DataFrame
+    rejected: pd.DataFrame
+    files: pd.DataFrame
+    limit_tables: pd.DataFrame
+    limit_entries: pd.DataFrame
+    retest: pd.DataFrame
+    summary: pd.DataFrame | None = None
+    trends: pd.DataFrame | None = None
+    exceedance_rates: pd.DataFrame | None = None
+    sites: pd.DataFrame | None = None
+    settings: dict = field(default_factory=dict)
+    method_notes: list = field(default_factory=list)
+
+    def __post_init__(self):
+        # the engine's tables hold text as categoricals; the report builds text from them
+        self.screening = plain_text(self.screening)
+
+
+def only_sites(frame: pd.DataFrame | None, site_ids) -> pd.DataFrame | None:
+    """Rows of ``frame`` for these sites (all rows when ``site_ids`` is None or it has no ``site_id``)."""
+    if frame is None or site_ids is None or "site_id" not in frame.columns:
+        return frame
+    return frame[frame["site_id"].isin(list(site_ids))]
+
+
+def result_status(screening: pd.DataFrame) -> pd.DataFrame:
+    """One row per site-sample result with its worst status over all its limits.
+
+    Parameters
+    ----------
+    screening : pandas.DataFrame
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``site_id, analyte, fraction, sampled_at, status`` (+ provenance) for each result.
+    """
+    site = site_samples(screening)
+    rank = pd.Categorical(site["status"], categories=STATUS_ORDER, ordered=True)
+    key = [c for c in ("file", "sheet", "row") if c in site.columns]
+    worst = site.assign(_rank=rank.codes).sort_values("_rank", kind="stable")
+    return worst.drop_duplicates(key).drop(columns="_rank")
+
+
+def status_matrix(screening: pd.DataFrame) -> pd.DataFrame:
+    """Site × analyte (fraction) matrix of the worst status, with counts.
+
+    Each cell reads ``<worst status> k/n``: ``n`` site-sample results of that site, analyte and
+    fraction, ``k`` of them with that worst status (over all their applicable limits).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Index ``site_id``; one column per ``analyte (fraction)``; empty string where no results.
+    """
+    res = result_status(screening)
+    if res.empty:
+        return pd.DataFrame()
+    res = res.assign(series=res["analyte"] + " (" + res["fraction"] + ")")
+    n = res.groupby(["site_id", "series"]).size().rename("n")
+    codes = pd.Categorical(res["status"], categories=STATUS_ORDER, ordered=True).codes
+    worst = res.assign(_c=codes).groupby(["site_id", "series"])["_c"].min().rename("_c")
+    k = (res.assign(_c=codes).merge(worst.reset_index(), on=["site_id", "series", "_c"])
+         .groupby(["site_id", "series"]).size().rename("k"))
+    cells = pd.concat([n, worst, k], axis=1).reset_index()
+    cells["text"] = (np.asarray(STATUS_ORDER, dtype=object)[cells["_c"].to_numpy()] + " "
+                     + cells["k"].astype(str) + "/" + cells["n"].astype(str))
+    return cells.pivot(index="site_id", columns="series", values="text").fillna("")
+
+
+def exceedances(screening: pd.DataFrame) -> pd.DataFrame:
+    """Every (result, limit) pair with status ``exceeds``, worst ratio first within a site."""
+    exc = site_samples(screening)
+    exc = exc[exc["status"].eq("exceeds")]
+    cols = [c for c in EXCEEDANCE_COLUMNS if c in exc.columns]
+    return exc.sort_values(["site_id", "analyte", "sampled_at", "ratio"], ascending=[True, True, True, False])[cols]
+
+
+def scope_table(data: ReportData, screening: pd.DataFrame, site_ids) -> pd.DataFrame:
+    """Job and scope as ``item, value`` rows."""
+    site = site_samples(screening)
+    res = result_status(screening)
+    key = [c for c in ("file", "sheet", "row") if c in screening.columns]
+    all_results = screening.drop_duplicates(key) if key else screening
+    dates = site["sampled_at"]
+    quarters = dates.dt.to_period("Q").drop_duplicates().sort_values()
+    sites = sorted(site["site_id"].unique())
+    rows = [
+        ("generated", datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC") + f" by tracescreen {__version__}"),
+        ("sites", f"{len(sites)}: " + ", ".join(sites) if site_ids is None
+         else f"{len(sites)} selected: " + ", ".join(sites)),
+        ("period", f"{format_date(pd.Series([dates.min()]))[0]} to {format_date(pd.Series([dates.max()]))[0]}"
+         if len(dates) else "no results"),
+        ("campaigns", f"{dates.dt.normalize().nunique()} sampling dates in {len(quarters)} calendar quarters"
+         + (f" ({quarters.iloc[0]} to {quarters.iloc[-1]})" if len(quarters) else "")),
+        ("analytes", ", ".join(sorted(site["analyte"].unique()))),
+        ("site-sample results", str(len(res))),
+        ("QC results (blanks, field duplicates; not screened against limits)",
+         str(int((~all_results["sample_type"].eq("sample")).sum())) if "sample_type" in all_results else "0"),
+        ("rejected rows (all files)", str(len(data.rejected))),
+        ("limit tables", ", ".join(sorted(screening["limit_table"].dropna().astype(str).replace("", np.nan)
+                                          .dropna().unique()))),
+    ]
+    rows += [(str(k), str(v)) for k, v in data.settings.items()]
+    return pd.DataFrame(rows, columns=["item", "value"])
+
+
+def files_table(files: pd.DataFrame) -> pd.DataFrame:
+    """Files read with their SHA-256 checksums (path columns dropped: the report may travel)."""
+    cols = [c for c in files.columns if c != "path"]
+    return files[cols].reset_index(drop=True)
+
+
+def limit_tables_used(data: ReportData, screening: pd.DataFrame) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """The limit tables that apply to the screened results, and their entries.
+
+    Returns
+    -------
+    (tables, entries) : tuple of pandas.DataFrame
+        ``entries`` has a ``limit`` column with the value in µg/L or the hardness formula.
+    """
+    used = set(screening["limit_table"].dropna().astype(str))
+    tables = data.limit_tables[data.limit_tables["table_id"].isin(used)]
+    tables = tables[[c for c in ("table_id", "name", "source", "url", "use", "unit", "notes")
+                     if c in tables.columns]].reset_index(drop=True)
+    ent = data.limit_entries[data.limit_entries["table_id"].isin(used)].copy()
+    value = "value_ug_L" in ent.columns and ent["value_ug_L"].notna()
+    formula = pd.Series("", index=ent.index, dtype=object)
+    if "hf_m" in ent.columns:
+        cf = format_number(ent["hf_cf"]) if "hf_cf" in ent.columns else pd.Series("", index=ent.index)
+        if "hf_cf_intercept" in ent.columns:
+            cf = cf.where(cf.ne(""), "(" + format_number(ent["hf_cf_intercept"], 7) + " + "
+                          + format_number(ent["hf_cf_ln_slope"], 7) + "·ln H)")
+        formula = ("exp(" + format_number(ent["hf_m"], 5) + "·ln H + " + format_number(ent["hf_b"], 5)
+                   + ") × " + cf + " [H: hardness mg/L CaCO3")
+        if "hardness_min" in ent.columns:
+            formula = formula + np.where(ent["hardness_min"].notna() | ent["hardness_max"].notna(),
+                                         ", bounded " + format_number(ent["hardness_min"]) + " to "
+                                         + format_number(ent["hardness_max"]), "")
+        formula = formula + "]"
+    ent["limit"] = np.where(value, format_number(ent["value_ug_L"], 6) + " µg/L", formula)
+    cols = [c for c in ("table_id", "analyte", "fraction", "limit", "duration", "basis",
+                        "effective_from", "effective_to", "note") if c in ent.columns]
+    return tables, ent[cols].reset_index(drop=True)
+
+
+def named_values(frame: pd.DataFrame | None, column: str) -> str:
+    """The distinct values of a text column, comma-separated ("" if absent)."""
+    if frame is None or column not in frame.columns:
+        return ""
+    return ", ".join(sorted(set(frame[column].dropna().astype(str)) - {""}))
+
+
+def method_notes(data: ReportData) -> pd.DataFrame:
+    """Method notes as ``topic, note`` rows."""
+    notes = [
+        ("caution", CAUTION),
+        ("units", "All concentrations are in µg/L, converted from the reported units with pint "
+                  "(ppb taken as µg/L for water)."),
+        ("statuses", "exceeds: detected and above the limit; meets: detected and at or below it; "
+                     "nondetect_meets: not detected at a detection limit at or below the limit; "
+                     "nondetect_inconclusive: not detected, but the detection limit is above the limit, so "
+                     "nothing is decided; above_range_inconclusive: reported above the calibrated range "
+                     "(>x) with x at or below the limit, so nothing is decided (a >x with x above the "
+                     "limit exceeds); no_limit: no applicable limit (see the note column). A non-detect "
+                     "is neither zero nor an exceedance."),
+        ("status matrix", "Each cell gives the worst status of the site-sample results of that site, "
+                          "analyte and fraction over all applicable limits, as k/n: k results of n with that "
+                          "worst status."),
+        ("QC samples", "Field blanks, lab blanks and field duplicates are QC samples (status qc_sample): "
+                       "they are not screened against limits, not counted in the matrix, exceedances, "
+                       "charts or summaries; they enter the retest list through the QC checks."),
+        ("limits", "Each result is compared with every entry of the limit tables for the site's water "
+                   "uses, same analyte and fraction, in force on the sampling date; hardness-dependent "
+                   "entries use the sample's hardness (own value, else Standard Methods 2340 B from "
+                   "calcium and magnesium, else the site default)."),
+        ("charts", "Filled markers: detected results; open downward triangles: non-detects plotted at "
+                   "their detection limit; lines: limits (dotted markers where the limit varies with "
+                   "hardness)."),
+    ]
+    if named_values(data.summary, "method"):
+        notes.append(("summaries", "Non-detect method(s) used in the summaries: " + named_values(data.summary, "method")
+                      + ("; upper confidence limit on the mean: " + named_values(data.summary, "ucl_method")
+                         if named_values(data.summary, "ucl_method") else "") + "."))
+    if named_values(data.trends, "test"):
+        notes.append(("trends", "Trend test(s) used: " + named_values(data.trends, "test") + ". A date where a trend "
+                                "line crosses a limit is an extrapolation, shown as an indication only."))
+    notes.append(("retest reasons", "first_exceedance, above_range (dilute and reanalyse), dl_too_high, near_limit, uncertainty_straddles_limit "
+                                    "(Eurachem/CITAC guide on uncertainty in compliance assessment), "
+                                    "history_outlier (modified z-score, Iglewicz & Hoaglin 1993), "
+                                    "duplicate_disagrees, blank_contamination, dissolved_exceeds_total, "
+                                    "holding_time_exceeded (40 CFR 136.3 Table II); see the detail column."))
+    notes += [("note", str(n)) for n in data.method_notes]
+    return pd.DataFrame(notes, columns=["topic", "note"])
+
+
+def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataFrame | None = None,
+                sites: pd.DataFrame | None = None, retest_options=None, statistics: dict | None = None,
+                settings: dict | None = None) -> ReportData:
+    """Assemble a :class:`ReportData` from a loading result, the limit set and the screening table.
+
+    Parameters
+    ----------
+    loaded : tracescreen.io.loading.LoadResult
+        Accepted and rejected rows and the files read.
+    limits : tracescreen.limits.load.LimitSet
+    screened : pandas.DataFrame
+        ``screening.screen(loaded.accepted, limits, sites)``.
+    input_files : pandas.DataFrame, optional
+        Every input file with ``sha256`` (results, limit tables, sites); default the lab files of
+        ``loaded.files``. Row counts of ``loaded.files`` are added.
+    sites : pandas.DataFrame, optional
+    retest_options : tracescreen.retest.listing.RetestOptions, optional
+    statistics : dict, optional
+        ``summary``, ``exceedances`` (rates per limit), ``trends`` tables and ``notes`` (list of
+        str); computed with each function's defaults when not given.
+    settings : dict, optional
+        Extra settings for the scope table (the retest thresholds are always listed).
+
+    Returns
+    -------
+    ReportData
+    """
+    from tracescreen.retest.listing import RetestOptions, retest_list
+    from tracescreen.statistics.summary import exceedance_rates, summarise
+    from tracescreen.statistics.trends import lowest_limits, trend_table
+
+    options = retest_options or RetestOptions()
+    if statistics is None:
+        statistics = {"summary": summarise(loaded.accepted), "exceedances": exceedance_rates(screened),
+                      "trends": trend_table(loaded.accepted, limits=lowest_limits(screened)), "notes": []}
+    files = loaded.files if input_files is None else input_files
+    counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded.files.columns]
+    if input_files is not None and counts and len(loaded.files):
+        files = files.merge(loaded.files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
+    return ReportData(
+        screening=screened, rejected=loaded.rejected, files=files, limit_tables=limits.tables,
+        limit_entries=limits.entries, retest=retest_list(screened, options),
+        summary=statistics.get("summary"), trends=statistics.get("trends"),
+        exceedance_rates=statistics.get("exceedances"), sites=sites,
+        settings={**(settings or {}), **options.describe()}, method_notes=list(statistics.get("notes", [])))
+
+
+def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
+    """Every table of the report, by name, in report order (one workbook sheet each).
+
+    Parameters
+    ----------
+    data : ReportData
+    site_ids : list of str, optional
+        Restrict to these sites (rejected rows and files always cover the whole job).
+
+    Returns
+    -------
+    dict of str to pandas.DataFrame
+        ``caution, scope, files, limit_tables, limit_entries, status_matrix, exceedances, summary,
+        exceedance_rates, trends, retest, rejected, method_notes``.
+    """
+    scr = only_sites(data.screening, site_ids)
+    tables, entries = limit_tables_used(data, scr)
+    empty = pd.DataFrame()
+    return {
+        "caution": pd.DataFrame({"caution": [CAUTION]}),
+        "scope": scope_table(data, scr, site_ids),
+        "files": files_table(data.files),
+        "limit_tables": tables,
+        "limit_entries": entries,
+        "status_matrix": status_matrix(scr).reset_index(),
+        "exceedances": exceedances(scr).reset_index(drop=True),
+        "summary": (only_sites(data.summary, site_ids) if data.summary is not None else empty).reset_index(drop=True),
+        "exceedance_rates": (only_sites(data.exceedance_rates, site_ids) if data.exceedance_rates is not None
+                             else empty).reset_index(drop=True),
+        "trends": (only_sites(data.trends, site_ids) if data.trends is not None else empty).reset_index(drop=True),
+        "retest": only_sites(data.retest, site_ids).reset_index(drop=True),
+        "rejected": data.rejected.reset_index(drop=True),
+        "method_notes": method_notes(data),
+    }

@@ -1,0 +1,160 @@
+"""The laboratory QC review of a set of results: verdicts, qualified results, per-batch summary.
+
+``review_lab_qc(results, qc)`` runs every element family on the QC table, links the verdicts that
+qualify to the results of their batch, combines each result's qualifiers (most protective wins)
+and summarises each batch for the data review narrative (:mod:`narrative`).
+
+``qc_table(loaded, ...)`` gathers the QC rows of a load: the rows the loader set aside (original
+cells kept), the laboratory blanks among the accepted results, and separate QC files.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from tracescreen.io.columns import ColumnMap
+from tracescreen.retest.labqc import reasons
+from tracescreen.retest.labqc.blanks import review_blanks
+from tracescreen.retest.labqc.calibration_checks import review_calibration_checks
+from tracescreen.retest.labqc.interference import review_ics, review_internal_standards, review_serial_dilutions
+from tracescreen.retest.labqc.linking import link
+from tracescreen.retest.labqc.precision import review_lab_duplicates, review_pairs
+from tracescreen.retest.labqc.qualifiers import combine
+from tracescreen.retest.labqc.reading import empty_qc, qc_from_cells, qc_from_results, read_qc_file
+from tracescreen.retest.labqc.spikes import review_spikes
+from tracescreen.retest.labqc.verdicts import concat
+from tracescreen.retest.labqc.windows import Window, load_windows
+
+QUALIFIED_COLUMNS = [
+    "site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch", "sample_type", "result_text",
+    "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier", "lab_qc_qualifier",
+    "nondetect_limit_ug_L", "lab_qc_elements", "lab_qc_reasons", "file", "sheet", "row",
+]
+"""Columns of ``qualified_results.csv``: each accepted result with the review's qualifier
+(``lab_qc_qualifier``; ``""`` = none), the elements that gave it, and their rules and numbers
+(``lab_qc_reasons``). ``nondetect_limit_ug_L``: the level a result qualified ``U`` by a blank is now
+a non-detect at. ``qualifier`` is the laboratory's own, as reported."""
+
+
+@dataclass
+class LabQcReview:
+    """The outcome of a laboratory QC review."""
+
+    qc: pd.DataFrame                 # the QC table (reading.QC_COLUMNS)
+    verdicts: pd.DataFrame           # one row per judged QC value (verdicts.VERDICT_COLUMNS)
+    links: pd.DataFrame              # one row per (verdict, result) with a qualifier (linking.LINK_COLUMNS)
+    qualified: pd.DataFrame          # QUALIFIED_COLUMNS, one row per accepted result
+    batches: pd.DataFrame            # one row per lab batch (narrative.BATCH_COLUMNS)
+    retest: pd.DataFrame = field(default_factory=pd.DataFrame)  # reasons.RETEST_COLUMNS
+
+    def counts(self) -> dict[str, int]:
+        """Verdict and qualifier counts, for summaries."""
+        v = self.verdicts["verdict"].value_counts()
+        q = self.qualified["lab_qc_qualifier"].value_counts()
+        return {"qc_rows": len(self.qc), "verdicts": len(self.verdicts),
+                **{f"verdict_{k}": int(v.get(k, 0)) for k in ("within", "below", "above", "not_judged")},
+                **{f"qualified_{k}": int(q.get(k, 0)) for k in ("R", "UJ", "U", "J-", "J+", "J")}}
+
+
+def review_verdicts(qc: pd.DataFrame, results: pd.DataFrame | None = None,
+                    windows: dict[str, Window] | None = None) -> pd.DataFrame:
+    """Every element family on a QC table -> the verdict table."""
+    w = windows or load_windows()
+    return concat([review_calibration_checks(qc, w), review_blanks(qc, w), review_ics(qc, w),
+                   review_spikes(qc, w), review_pairs(qc, w), review_lab_duplicates(qc, results, w),
+                   review_serial_dilutions(qc, results, w), review_internal_standards(qc, w)])
+
+
+def _missing_qc(results: pd.DataFrame, qc: pd.DataFrame) -> np.ndarray:
+    """Positions of non-blank results whose (lab) batch has no QC rows while other batches have."""
+    if qc.empty or results.empty:
+        return np.zeros(0, dtype=np.int64)
+    have = set(qc["batch"].astype(str))
+    batch = results["batch"].astype(object).fillna("").astype(str).to_numpy()
+    kind = results["sample_type"].astype(str).to_numpy() if "sample_type" in results.columns else np.full(len(batch), "")
+    miss = ~np.isin(batch, list(have)) & (kind != "lab_blank")
+    return np.flatnonzero(miss)
+
+
+def review_lab_qc(results: pd.DataFrame, qc: pd.DataFrame, windows: dict[str, Window] | None = None) -> LabQcReview:
+    """Review the laboratory QC of ``results``.
+
+    Parameters
+    ----------
+    results : pandas.DataFrame
+        Accepted results (DEVELOPERS.md contract).
+    qc : pandas.DataFrame
+        The QC table (:func:`qc_table`, :func:`tracescreen.retest.labqc.reading.qc_from_cells`).
+    windows : dict, optional
+        Default windows (:func:`tracescreen.retest.labqc.windows.load_windows`).
+
+    Returns
+    -------
+    LabQcReview
+    """
+    from tracescreen.retest.labqc.narrative import batch_summary
+
+    w = windows or load_windows()
+    results = results.reset_index(drop=True)
+    verdicts = review_verdicts(qc, results, w)
+    links = link(verdicts, results, w)
+    det = results["detected"].to_numpy(dtype=bool) if len(results) else np.zeros(0, bool)
+    combined = combine(links, det)
+    qualified = qualified_results(results, combined)
+    missing = _missing_qc(results, qc)
+    retest = reasons.retest_rows(results, links, missing)
+    batches = batch_summary(results, qc, verdicts, links, combined)
+    return LabQcReview(qc, verdicts, links, qualified, batches, retest)
+
+
+def qualified_results(results: pd.DataFrame, combined: pd.DataFrame) -> pd.DataFrame:
+    """Each accepted result with its review qualifier (:data:`QUALIFIED_COLUMNS`)."""
+    n = len(results)
+    out = {}
+    for c in QUALIFIED_COLUMNS:
+        if c in results.columns:
+            out[c] = results[c].to_numpy()
+    q = np.full(n, "", dtype=object)
+    el = np.full(n, "", dtype=object)
+    why = np.full(n, "", dtype=object)
+    ndl = np.full(n, np.nan)
+    pos = combined["result_pos"].to_numpy(dtype=np.int64)
+    q[pos], el[pos], why[pos] = combined["lab_qc_qualifier"], combined["lab_qc_elements"], combined["lab_qc_reasons"]
+    ndl[pos] = combined["nondetect_limit_ug_L"]
+    out.update({"lab_qc_qualifier": q, "lab_qc_elements": el, "lab_qc_reasons": why, "nondetect_limit_ug_L": ndl})
+    return pd.DataFrame({c: out[c] for c in QUALIFIED_COLUMNS if c in out}, copy=False)
+
+
+def qc_table(set_aside: pd.DataFrame | None = None, accepted: pd.DataFrame | None = None, qc_files=(),
+             column_map: ColumnMap | None = None, date_order: str = "iso", encoding: str = "utf-8") -> pd.DataFrame:
+    """All QC rows of a load: set-aside lab QC rows, accepted laboratory blanks, separate QC files.
+
+    Raises
+    ------
+    ValueError
+        A QC file cannot be read (the message names it).
+    """
+    parts = [qc_from_cells(set_aside, column_map, date_order) if set_aside is not None else empty_qc(),
+             qc_from_results(accepted)]
+    parts += [read_qc_file(p, column_map, date_order, encoding) for p in qc_files]
+    parts = [p for p in parts if len(p)]
+    return pd.concat(parts, ignore_index=True) if parts else empty_qc()
+
+
+def review_load(loaded, qc_files=(), column_map: ColumnMap | None = None, date_order: str = "iso",
+                encoding: str = "utf-8", windows: dict[str, Window] | None = None) -> LabQcReview | None:
+    """The laboratory QC review of a load, or None when it has no laboratory QC rows.
+
+    The review runs when the lab files carry QC rows (set aside by the loader) or QC files are
+    given; the laboratory blanks among the accepted results then join it. A load without any
+    laboratory QC rows gets no review (its lab blanks stay with the ``blank_contamination`` check).
+    """
+    lab_rows = qc_table(loaded.set_aside, None, qc_files, column_map, date_order, encoding)
+    if lab_rows.empty:
+        return None
+    blanks = qc_from_results(loaded.accepted)
+    qc = pd.concat([lab_rows, blanks], ignore_index=True) if len(blanks) else lab_rows
+    return review_lab_qc(loaded.accepted, qc, windows)

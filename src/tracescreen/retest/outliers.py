@@ -1,0 +1,169 @@
+"""A result far outside its own series' history: the modified z-score against all earlier detects.
+
+The loop in :func:`expanding_modified_z` runs over positions in a series, each step vectorised over
+all series. Concentrations are in µg/L.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from tracescreen._internal.text import format_number
+from tracescreen.retest.rows import SERIES_KEY, empty_retest, results_from_screening, retest_rows, site_samples, ug
+
+
+def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
+    """Modified z-score of each ``x[i]`` against the row ``history[i, :]``.
+
+    ``M = 0.6745 (x − median) / MAD`` with MAD the median absolute deviation from the median.
+    When the MAD is zero (more than half the history identical), the mean absolute deviation
+    scaled by 1.253314 is used instead (``M = (x − median) / (1.253314 MeanAD)``, common practice);
+    when that is zero too the score is NaN (no spread to compare with).
+
+    Parameters
+    ----------
+    x : numpy.ndarray, shape (k,)
+    history : numpy.ndarray, shape (k, n)
+
+    Returns
+    -------
+    numpy.ndarray, shape (k,)
+
+    References
+    ----------
+    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Basic
+       References in Quality Control, vol. 16. Milwaukee: ASQC Quality Press. (|M| > 3.5 labelled
+       as potential outliers.)
+    """
+    med = np.median(history, axis=1)
+    dev = np.abs(history - med[:, None])
+    mad = np.median(dev, axis=1)
+    mean_ad = dev.mean(axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = np.where(mad > 0, 0.6745 * (x - med) / mad, (x - med) / (1.253314 * mean_ad))
+    return np.where((mad > 0) | (mean_ad > 0), z, np.nan)
+
+
+def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
+    """k-th smallest (0-based) of the union of two ascending sequences per row (vectorised).
+
+    ``a_at(t)`` / ``b_at(t)`` give the t-th element of each row's sequences (t an int array),
+    ``n_a``, ``n_b`` their lengths. Binary search on how many elements come from ``a``.
+    """
+    lo = np.maximum(0, k + 1 - n_b)
+    hi = np.minimum(k + 1, n_a)
+    while (lo < hi).any():
+        mid = (lo + hi) // 2
+        # while lo < hi, mid < n_a and 0 <= k - mid < n_b; elsewhere the indices are only clipped
+        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.clip(k - mid, 0, None)))
+        lo = np.where(take_more, mid + 1, lo)
+        hi = np.where((lo < hi) & ~take_more, mid, hi)
+    na = lo
+    nb = k + 1 - na
+    from_a = np.where(na > 0, a_at(np.maximum(na - 1, 0)), -np.inf)
+    from_b = np.where(nb > 0, b_at(np.maximum(nb - 1, 0)), -np.inf)
+    return np.maximum(from_a, from_b)
+
+
+def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`modified_z_score` of each value against all earlier values of its series, and their median.
+
+    ``x`` holds series one after another in time order; ``pos[r]`` is row r's place in its series
+    (0 for the first). Rows with fewer than ``min_prior`` earlier values get NaN.
+
+    Each series' history is kept sorted as it grows (one insertion per step, vectorised over
+    series), so the median is read off the middle and the median absolute deviation is the
+    middle of two sorted runs of deviations (left and right of the median), found by binary
+    search: the same numbers as sorting every history, without the sorts.
+    """
+    n = len(x)
+    z = np.full(n, np.nan)
+    med_out = np.full(n, np.nan)
+    if n == 0:
+        return z, med_out
+    firsts = np.flatnonzero(pos == 0)
+    length = np.diff(np.append(firsts, n))
+    by_length = np.argsort(-length, kind="stable")  # longest first: the live series are a prefix
+    firsts, length = firsts[by_length], length[by_length]
+    hist = np.full((len(firsts), int(length.max())), np.inf)  # each series' sorted history, +inf after
+    for i in range(hist.shape[1]):  # step i: the value at place i of every series long enough
+        k = int(np.count_nonzero(length > i))
+        rows = firsts[:k] + i
+        h = hist[:k, :i]  # a view
+        xr = x[rows]
+        if i >= min_prior:
+            med = (h[:, (i - 1) // 2] + h[:, i // 2]) / 2.0
+            n_left = np.count_nonzero(h < med[:, None], axis=1)  # below the median: deviations med - h
+            n_right = i - n_left
+            rix = np.arange(k)
+
+            def left(t):  # t-th smallest deviation left of the median (values read downwards)
+                return med - h[rix, np.clip(n_left - 1 - t, 0, i - 1)]
+
+            def right(t):
+                return h[rix, np.clip(n_left + t, 0, i - 1)] - med
+
+            mad = (_kth_of_two_sorted(left, n_left, right, n_right, np.full(k, (i - 1) // 2))
+                   + _kth_of_two_sorted(left, n_left, right, n_right, np.full(k, i // 2))) / 2.0
+            with np.errstate(divide="ignore", invalid="ignore"):
+                zr = 0.6745 * (xr - med) / mad
+            flat = ~(mad > 0)
+            if flat.any():  # MAD zero: the scaled mean absolute deviation (see modified_z_score)
+                zr[flat] = modified_z_score(xr[flat], h[flat])
+            z[rows], med_out[rows] = zr, med
+        # insert this step's value into its series' sorted history
+        p = np.count_nonzero(h < xr[:, None], axis=1)
+        col = np.arange(i + 1)
+        grown = np.take_along_axis(hist[:k, :i + 1], np.where(col <= p[:, None], col, col - 1), axis=1)
+        grown[np.arange(k), p] = xr
+        hist[:k, :i + 1] = grown
+    return z, med_out
+
+
+def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
+                    min_prior: int = 8) -> pd.DataFrame:
+    """Detected results far outside their own series' earlier detected values.
+
+    For each detected site-sample result, the modified z-score of its natural log against the logs
+    of all earlier detects of the same site, analyte and fraction (sorted by ``sampled_at``, then
+    ``sample_id``); flagged when ``|M| > z_threshold`` and there are at least ``min_prior`` earlier
+    detects. Non-detects take no part (neither flagged nor in the history).
+
+    Parameters
+    ----------
+    results : pandas.DataFrame
+        Accepted results (or the screening table; repeated limit rows are dropped).
+    z_threshold : float
+        Default 3.5 (Iglewicz & Hoaglin 1993).
+    min_prior : int
+        Minimum number of earlier detects, default 8.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Retest rows, reason ``history_outlier``.
+
+    References
+    ----------
+    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Quality
+       Press.
+    """
+    res = site_samples(results_from_screening(results))
+    det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]
+    det = det.sort_values(SERIES_KEY + ["sampled_at", "sample_id"], kind="stable").reset_index(drop=True)
+    if len(det) <= min_prior:
+        return empty_retest()
+    x = np.log(det["value_ug_L"].to_numpy(dtype=float))
+    pos = det.groupby(SERIES_KEY, sort=False).cumcount().to_numpy()
+    z, med = expanding_modified_z(x, pos, max(min_prior, 1))
+    flag = np.abs(z) > z_threshold
+    out = det[flag].assign(_z=z[flag], _med=np.exp(med[flag]), _n=pos[flag])
+    if out.empty:
+        return empty_retest()
+    direction = np.where(out["_z"] > 0, "above", "below")
+    detail = (ug(out["value_ug_L"]) + " is far " + direction + " this series' history: modified "
+              "z-score of ln(value) " + format_number(out["_z"], 3) + " (threshold "
+              + format_number([z_threshold])[0] + ") against " + out["_n"].astype(str)
+              + " earlier detects with median " + ug(out["_med"]))
+    return retest_rows(out, "history_outlier", detail)
