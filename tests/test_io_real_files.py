@@ -102,20 +102,18 @@ def test_lab_deliverable_sample_names_give_site_duplicate_and_blank():
 
 
 def test_lab_qc_rows_keep_spike_recovery_and_limits():
-    """The lab QC rows set aside carry their spike amount (µg/L), recovery and control limits
-    under tracescreen's names, for the lab-QC review (line 3: MS lead 1010 found, 1000 spiked,
-    101 % recovered, limits 70-130; line 2: MSD nitrate RPD 0.087, limit 25)."""
+    """The lab QC rows set aside keep what they were read as (line 3: MS, lead, 1010 µg/L, batch
+    MMS11929) and every original cell, the spike amount, recovery and control limits among them
+    (line 3: AMOUNT_SPIKED 1000, PERCENT_RECOVERED 101, REC_LIMIT_LOW 70, REC_LIMIT_HIGH 130;
+    line 2: MSD nitrate SAMPLE_RPD 0.087, RPD_LIMIT_HIGH 25), for the lab-QC review."""
     aside = _sgs(PART2).set_aside.set_index("row")
     ms = aside.loc[3]
     assert ms["sample_type"] == "MS" and ms["analyte"] == "lead" and ms["value_ug_L"] == 1010.0
-    assert (ms["qc_spike_amount_ug_L"], ms["qc_recovery_pct"]) == (1000.0, 101.0)
-    assert (ms["qc_recovery_low_pct"], ms["qc_recovery_high_pct"]) == (70.0, 130.0)
-    assert ms["batch"] == "MMS11929"
-    msd = aside.loc[2]
-    assert msd["qc_spike_amount_ug_L"] == 5000.0  # 5 mg/L
-    assert (msd["qc_rpd_pct"], msd["qc_rpd_limit_pct"]) == (0.087, 25.0)
-    # and the original cells, as the lab wrote them
-    assert aside.loc[3, "PERCENT_RECOVERED"] == "101" and aside.loc[3, "SAMPLE_ID"] == "1712984 MS FOR [MXX35860]"
+    assert ms["batch"] == "MMS11929" and ms["unit"] == "ug/L"
+    assert (ms["AMOUNT_SPIKED"], ms["PERCENT_RECOVERED"], ms["REC_LIMIT_LOW"], ms["REC_LIMIT_HIGH"]) == \
+        ("1000", "101", "70", "130")
+    assert (aside.loc[2, "SAMPLE_RPD"], aside.loc[2, "RPD_LIMIT_HIGH"]) == ("0.087", "25")
+    assert aside.loc[3, "SAMPLE_ID"] == "1712984 MS FOR [MXX35860]"
 
 
 def test_lab_deliverable_part1_other_header_spellings():
@@ -230,3 +228,25 @@ def test_lab_deliverable_screens_with_hardness_from_its_calcium_and_magnesium():
     assert arsenic.loc["chronic", "limit_ug_L"] == 150.0 and arsenic.loc["chronic", "status"] == "nondetect_meets"
     # blanks and duplicates are QC, never findings
     assert (out.loc[out["sample_type"].astype(str) != "sample", "status"] == "qc_sample").all()
+
+
+def test_r_written_deliverable_na_cells_are_empty(tmp_path):
+    """tests/data/bwam_qaqc_ramapo_2018_lab_edd_metals_qc.csv (origin in tests/data/README.md) writes
+    R's NA for empty cells: a non-detect is result_value NA with lab_qualifiers U, censored at its
+    method_detection_limit. Read with a short mapping, no row is rejected for 'NA'."""
+    path = DATA / "bwam_qaqc_ramapo_2018_lab_edd_metals_qc.csv"
+    raw = _raw(path)
+    cm_text = ("columns:\n  SiteID: site_id\n  sys_sample_code: sample_id\n  sample_date: sampled_at\n"
+               "  chemical_name: analyte\n  result_value: result\n  result_unit: unit\n"
+               "  method_detection_limit: detection_limit\n  lab_qualifiers: qualifier\n"
+               "  sample_type_code: sample_type\n  lab_sdg: batch\n")
+    p = tmp_path / "columns.yaml"
+    p.write_text(cm_text, encoding="utf-8")
+    loaded = load_results([path], LoadOptions(column_map=load_column_map(p), date_order="mdy"))
+    _conserved(loaded, len(raw))
+    assert len(loaded.rejected) == 0
+    acc = loaded.accepted.set_index("row")
+    nd = [r for r in acc.index if raw.loc[r - 2, "lab_qualifiers"] == "U"]
+    assert nd and not acc.loc[nd, "detected"].any()
+    mdl = raw.loc[[r - 2 for r in nd], "method_detection_limit"].astype(float).to_numpy()
+    assert (acc.loc[nd, "detection_limit_ug_L"].to_numpy() == mdl).all()  # ug/l in this file

@@ -25,9 +25,6 @@ OPTIONAL = (
     "qualifier", "remark_code", "value_qualifier", "detection_condition", "result_status", "review_status",
     "sample_type", "medium", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L", "uncertainty",
     "parameter_code", "parameter_name", "sampled_time", "sampled_time_zone",
-    # laboratory QC columns, kept with the lab QC rows that are set aside (README, "Set aside")
-    "qc_spike_amount", "qc_recovery_pct", "qc_recovery_low_pct", "qc_recovery_high_pct", "qc_rpd_pct",
-    "qc_rpd_limit_pct",
 )
 CANONICAL = REQUIRED + OPTIONAL
 
@@ -77,16 +74,6 @@ LAB_HEADERS: dict[str, tuple[str, ...]] = {
     "parameter_code": ("parametercode",),
     "sampled_time": ("sampletime", "timesampled", "samplingtime", "collectiontime", "timecollected", "collecttime"),
     "sampled_time_zone": ("timezone", "timezonecode"),
-    "qc_spike_amount": ("amountspiked", "spikeamount", "spikeadded", "spikelevel", "spikeconcentration",
-                        "spikeconc"),
-    "qc_recovery_pct": ("percentrecovery", "percentrecovered", "recovery", "pctrecovery", "recoverypct",
-                        "recoverypercent"),
-    "qc_recovery_low_pct": ("reclimitlow", "recoverylimitlow", "lowerrecoverylimit", "recoverylowerlimit",
-                            "recoverylcl"),
-    "qc_recovery_high_pct": ("reclimithigh", "recoverylimithigh", "upperrecoverylimit", "recoveryupperlimit",
-                             "recoveryucl"),
-    "qc_rpd_pct": ("samplerpd", "rpd", "relativepercentdifference"),
-    "qc_rpd_limit_pct": ("rpdlimithigh", "rpdlimit", "rpdlimitupper", "maxrpd"),
 }
 
 

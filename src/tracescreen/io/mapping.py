@@ -219,6 +219,17 @@ def coded_per_value(codes: np.ndarray, per_value) -> CodedText:
     return CodedText(recode.astype(np.int64)[codes], pd.Index(uniq, dtype="str"))
 
 
+MISSING_WORDS = frozenset({"na", "n/a", "nan", "null", "none", "-", "--"})
+
+
+def missing_as_empty(text: CodedText) -> CodedText:
+    """The same column with missing-value words (``NA``, ``N/A``, ``NaN``, ``null``, ``-``) as ""."""
+    lower = pd.Index(text.values).str.lower()
+    if not lower.isin(list(MISSING_WORDS)).any():
+        return text
+    return coded_per_value(text.codes, np.where(lower.isin(list(MISSING_WORDS)), "", text.values))
+
+
 def _translate(text: CodedText, table: dict[str, str]) -> CodedText:
     """Each distinct value through ``table`` (exact text first, then without case)."""
     lower = {k.strip().lower(): v for k, v in table.items()}

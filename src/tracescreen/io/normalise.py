@@ -26,6 +26,15 @@ from tracescreen.io.files import LoadError, LoadOptions, RawTable
 from tracescreen.io.results import SET_ASIDE_PREFIX, normalise_empty, not_accepted_frame
 
 _FRACTIONS = np.array(["", "total", "dissolved"], dtype=object)  # fraction codes 0, 1, 2
+#: Columns where a missing-value word (``NA``, ``N/A``, ``NaN``, ``null``, ``-``) is an empty cell
+#: (files written by R or databases); elsewhere such a word is kept as text.
+NA_AS_EMPTY = frozenset({
+    "result", "detection_limit", "quantitation_limit", "limit_value", "limit_value_2", "limit_type",
+    "limit_type_2", "limit_unit", "limit_unit_2", "detection_limit_unit", "quantitation_limit_unit",
+    "qualifier", "remark_code", "value_qualifier", "detection_condition", "uncertainty", "hardness_mg_L",
+    "analysed_at", "sampled_time", "sampled_time_zone", "parent_sample_id", "batch", "result_status",
+    "review_status", "medium",
+})
 _NAME_FRACTION_CODE = {"total": 1, "dissolved": 2, "conflict": 3}
 
 
@@ -100,8 +109,9 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     -------
     (accepted, not_accepted)
         ``not_accepted`` holds ``file, sheet, row, reason``, the parsed columns of
-        :data:`~tracescreen.io.results.NOT_ACCEPTED_COLUMNS` (lab QC amounts among them) and the
-        original cells; set-aside rows are told apart by their reason.
+        :data:`~tracescreen.io.results.NOT_ACCEPTED_COLUMNS` and the original cells (a lab QC
+        row's spike amount, recovery and control-limit columns among them, as the lab wrote them);
+        set-aside rows are told apart by their reason.
     """
     opts = options or LoadOptions()
     cm = opts.column_map
@@ -121,7 +131,8 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     date_order = cm.date_order if applies and cm.date_order else opts.date_order
 
     def col(c: str) -> CodedText:
-        return mapping.column_text(cells, found, c, cm, applies)[0]
+        text = mapping.column_text(cells, found, c, cm, applies)[0]
+        return mapping.missing_as_empty(text) if c in NA_AS_EMPTY else text
 
     def gives(c: str) -> bool:
         return mapping.gives(cells, found, c, cm, applies)
@@ -159,7 +170,8 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     names, name_fraction = analytes.match_analytes(analyte_text.series())
     v_no_name = pd.isna(names).astype(bool)
     name_code = analyte_text.rows(_fraction_codes(name_fraction))
-    conflict_name = name_code == 3
+    # a label that names both fractions is an error only for an analyte the tool screens
+    conflict_name = (name_code == 3) & ~analyte_text.rows(v_no_name)
     rows.error(analyte_text.rows(v_no_name) & analyte_text.equals(""), "analyte is empty")
     is_hardness = analyte_text.rows(hardness_rows.is_hardness_name(analyte_text.series()))
     unk = analyte_text.rows(v_no_name & (analyte_text.values != "")) & ~conflict_name & ~is_hardness
@@ -333,12 +345,4 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "detection_limit_ug_L": units.clean_decimal(parsed["detection_limit"] * factor)[nc],
         "unit": unit_text.text_at(not_ok),
     }
-    for c in ("qc_spike_amount", "qc_recovery_pct", "qc_recovery_low_pct", "qc_recovery_high_pct", "qc_rpd_pct",
-              "qc_rpd_limit_pct"):
-        if gives(c):
-            t = col(c)
-            num = t.rows(parsing.to_number(t.series(), opts.decimal_comma).to_numpy())[not_ok]
-            # a spike amount is in the row's unit; percentages are percentages
-            parsed_cols[c + "_ug_L" if c == "qc_spike_amount" else c] = \
-                units.clean_decimal(num * v_factor[unit_text.codes][not_ok]) if c == "qc_spike_amount" else num
     return acc, not_accepted_frame(raw, not_ok, reasons[not_ok], parsed_cols)

@@ -39,13 +39,13 @@ class LoadResult:
     set_aside: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=["file", "sheet", "row", "reason"]))
 
 
-#: Parsed columns of the rows not accepted (set aside or rejected), before their original cells: what
-#: the row was read as, so that lab QC rows can be reviewed (issue 15) without each lab's headers.
-#: ``qc_*`` columns are present where the file has them (spike amount in µg/L, percentages).
+#: Columns of the rows not accepted (set aside or rejected) before their original cells: provenance,
+#: reason and what the row was read as (analyte name from the registry, or as written; the sample
+#: type as written; value and censoring level in µg/L). The original cells follow, so a lab QC
+#: row keeps its spike amount, recovery and control-limit columns as the lab wrote them
+#: (tracescreen.retest.labqc reads them). Rejected rows show provenance, reason and cells only.
 NOT_ACCEPTED_COLUMNS = ["file", "sheet", "row", "reason", "analyte", "fraction", "sample_type", "batch",
                         "value_ug_L", "detected", "detection_limit_ug_L", "unit"]
-QC_COLUMNS = ["qc_spike_amount_ug_L", "qc_recovery_pct", "qc_recovery_low_pct", "qc_recovery_high_pct",
-              "qc_rpd_pct", "qc_rpd_limit_pct"]
 
 
 def not_accepted_frame(raw, mask: np.ndarray, reasons: np.ndarray, parsed: dict[str, np.ndarray]) -> pd.DataFrame:
@@ -53,7 +53,7 @@ def not_accepted_frame(raw, mask: np.ndarray, reasons: np.ndarray, parsed: dict[
     (an original header equal to a parsed column's name is kept as ``<header> (file)``)."""
     head = pd.DataFrame({"file": raw.file, "sheet": raw.sheet, "row": raw.rows[mask],
                          "reason": np.asarray(reasons, dtype=object).astype(str)})
-    for c in NOT_ACCEPTED_COLUMNS[4:] + QC_COLUMNS:
+    for c in NOT_ACCEPTED_COLUMNS[4:]:
         if c in parsed:
             head[c] = parsed[c]
     cells = raw.cells.loc[mask]
@@ -70,13 +70,13 @@ SET_ASIDE_PREFIX = "not screened: "
 def split_set_aside(rows: pd.DataFrame) -> tuple[pd.DataFrame, pd.DataFrame]:
     """(rejected, set aside) rows of a table of rows not accepted, told apart by their reason; the
     reasons of the rows set aside are returned without :data:`SET_ASIDE_PREFIX`. The parsed
-    columns (:data:`NOT_ACCEPTED_COLUMNS`, :data:`QC_COLUMNS`) are kept for the rows set aside only."""
+    columns (:data:`NOT_ACCEPTED_COLUMNS`) are kept for the rows set aside only."""
     aside = rows["reason"].astype(str).str.startswith(SET_ASIDE_PREFIX).to_numpy(dtype=bool) if len(rows) else \
         np.zeros(0, dtype=bool)
     out = rows[aside].reset_index(drop=True)
     out["reason"] = out["reason"].astype(str).str.removeprefix(SET_ASIDE_PREFIX)
     # rejected rows are shown as the file has them: provenance, reason and the original cells
-    parsed = [c for c in NOT_ACCEPTED_COLUMNS[4:] + QC_COLUMNS if c in rows.columns]
+    parsed = [c for c in NOT_ACCEPTED_COLUMNS[4:] if c in rows.columns]
     rejected = rows[~aside].drop(columns=parsed).reset_index(drop=True)
     rejected = rejected.rename(columns={c: str(c).removesuffix(" (file)") for c in rejected.columns
                                         if str(c).endswith(" (file)") and str(c).removesuffix(" (file)") in parsed})
