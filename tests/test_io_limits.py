@@ -15,8 +15,8 @@ The file contents are inputs; the numbers checked follow from those rules.
 from __future__ import annotations
 
 import pytest
-
 from lab_files import write_csv
+
 from tracescreen.io.loading import LoadOptions, load_results
 
 HEAD = "site_id,sample_id,sampled_at,analyte,fraction,result,unit"

@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
-
 from lab_files import write_csv
+
 from tracescreen.io.loading import LoadOptions, load_results
 from tracescreen.io.mapping import ColumnMapError, load_column_map
 

@@ -19,6 +19,7 @@ The result values in the file below are inputs only; what is checked is what the
 from __future__ import annotations
 
 from lab_files import write_csv
+
 from tracescreen.io.loading import load_results
 
 HEAD = "agency_cd,site_no,sample_dt,sample_tm,medium_cd,sample_type_cd,parm_nm,remark_cd,result_va,rpt_lev_va,rpt_lev_cd,dqi_cd,val_qual_tx\n"

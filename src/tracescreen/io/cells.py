@@ -55,7 +55,7 @@ def _code_key(code) -> str:
     return re.sub(r"[\s_\-]+", "", str(code).strip().lower())
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _data(name: str) -> dict:
     return yaml.load(resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8"),
                      Loader=SAFE_LOADER)

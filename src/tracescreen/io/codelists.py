@@ -34,7 +34,7 @@ def key(text) -> str:
     return re.sub(r"\s+", " ", str(text).strip().lower())
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def code_table(name: str) -> pd.DataFrame:
     """Every entry of ``data/<name>.yaml``: ``namespace, code, class, source, checked, text``.
 
@@ -56,7 +56,7 @@ def code_table(name: str) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _lookup(name: str, namespaces: tuple[str, ...]) -> dict[str, str]:
     table = code_table(name)
     out: dict[str, str] = {}

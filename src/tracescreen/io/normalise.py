@@ -19,7 +19,16 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
-from tracescreen.io import analytes, censoring, codelists, hardness_rows, mapping, nwis, units, wqx
+from tracescreen.io import (
+    analytes,
+    censoring,
+    codelists,
+    hardness_rows,
+    mapping,
+    nwis,
+    units,
+    wqx,
+)
 from tracescreen.io import cells as parsing
 from tracescreen.io.columns import recognise
 from tracescreen.io.files import LoadError, LoadOptions, RawTable

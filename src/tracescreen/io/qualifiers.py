@@ -30,7 +30,7 @@ The full citations and where each code was checked are in ``data/qualifiers.yaml
 from __future__ import annotations
 
 import re
-from functools import lru_cache
+from functools import cache, lru_cache
 from pathlib import Path
 
 import numpy as np
@@ -73,7 +73,7 @@ def vocabulary() -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _lookups(namespaces: tuple[str, ...]) -> tuple[dict[str, str], dict[str, str]]:
     """(codes, phrases): code -> meaning (case-sensitive) and lower-case phrase -> meaning; first namespace wins."""
     voc = vocabulary()
