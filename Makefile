@@ -43,6 +43,7 @@ bench: setup
 	$(PY) bench/bench_stats.py
 	$(PY) bench/bench_retest.py
 	$(PY) bench/bench_workspace.py
+	$(PY) bench/bench_wells.py
 
 bench-dashboard: setup
 	$(PY) bench/bench_dashboard.py

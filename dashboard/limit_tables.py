@@ -8,8 +8,9 @@ import pandas as pd
 from dash import html
 
 from dashboard.data import SessionData
+from tracescreen.limits import words
 
-ENTRY_COLUMNS = ["analyte", "fraction", "limit", "hardness_range", "duration", "basis",
+ENTRY_COLUMNS = ["analyte", "fraction", "limit", "hardness_range", "scope", "duration", "basis",
                  "effective_from", "effective_to", "note"]
 
 
@@ -22,24 +23,9 @@ def _fmt(v) -> str:
 
 
 def formula_text(entry) -> str:
-    """A limit entry in words: a value [µg/L] or its hardness formula (H = hardness, mg/L CaCO3).
-
-    The hardness form is the exponential one of US EPA's hardness-dependent criteria,
-    exp(m·ln H + b) × CF, with CF a number or CF = a + s·ln H (40 CFR 131.36(b)(2)).
-    """
-    get = entry.get if hasattr(entry, "get") else lambda k, d=None: getattr(entry, k, d)
-    if _num(get("value_ug_L")):
-        return f"{_fmt(get('value_ug_L'))} µg/L"
-    m, b = get("hf_m"), get("hf_b")
-    if not (_num(m) and _num(b)):
-        return ""
-    text = f"exp({_fmt(m)}·ln H {'+' if float(b) >= 0 else '−'} {_fmt(abs(float(b)))})"
-    cf, a, slope = get("hf_cf"), get("hf_cf_intercept"), get("hf_cf_ln_slope")
-    if _num(cf) and float(cf) != 1.0:
-        text += f" × {_fmt(cf)}"
-    elif _num(a) and _num(slope):  # CF = a + slope·ln H (the slope is negative in the EPA tables)
-        text += f" × ({_fmt(a)} {'+' if float(slope) >= 0 else '−'} {_fmt(abs(float(slope)))}·ln H)"
-    return text + " µg/L"
+    """A limit entry in words (the engine's wording, tracescreen.limits.words: a value in µg/L, the US EPA
+    hardness formula exp(m·ln H + b) × CF, or a computed form), without its conditions."""
+    return words.limit_in_words(entry)
 
 
 def _date(v) -> str:
@@ -56,7 +42,8 @@ def entry_rows(entries: pd.DataFrame) -> list[dict]:
             rng = f"{_fmt(lo) if _num(lo) else '…'}–{_fmt(hi) if _num(hi) else '…'} mg/L CaCO3"
         rows.append({
             "analyte": e.get("analyte", ""), "fraction": e.get("fraction", ""),
-            "limit": formula_text(e), "hardness_range": rng,
+            "limit": words.entry_words({**e, "hardness_min": None, "hardness_max": None, "scope": ""}),
+            "hardness_range": rng, "scope": e.get("scope") or "",
             "duration": e.get("duration") or "", "basis": e.get("basis") or "",
             "effective_from": _date(e.get("effective_from")), "effective_to": _date(e.get("effective_to")),
             "note": e.get("note") or "",

@@ -8,7 +8,11 @@ confirmed:
 - ``checked (secondary: ...)``: seen in a stored copy of an agency or state page reproducing it;
 - ``memory``: not confirmed against any stored copy; re-check against the primary document.
 
-Values are in the unit the document prints them in.
+Each value has exactly one status, the same as the YAML comment above its entry in ``limits/``
+(``tests/test_published_limits.py`` checks that they agree and prints every value still from memory).
+Values are in the unit the document prints them in. A computed limit carries its form's parameters
+(``form``, as the YAML states them) and ``worked``: values the document (or, where marked, memory)
+gives for stated inputs, each ``(inputs, value, where)``.
 """
 
 from __future__ import annotations
@@ -36,6 +40,20 @@ class Published:
     cf_ln_slope: float | None = None
     at_100: float | None = None  # published criterion at hardness 100 mg/L as CaCO3 (2 significant figures)
     at_100_source: str = ""
+    scope: str = ""  # site attributes the entry is scoped by, as limits.scope.scope_text writes them
+    form: dict | None = None  # a computed form (formula, power_law, steps, lookup) as written in the YAML
+    worked: tuple = ()  # ((inputs dict, value, where), ...) published or remembered worked values
+
+
+def status_kind(status: str) -> str:
+    """``law``, ``secondary`` or ``memory``: the kind of check a status records."""
+    if status.startswith("checked (law"):
+        return "law"
+    if status.startswith("checked (secondary"):
+        return "secondary"
+    if status.startswith("memory"):
+        return "memory"
+    raise ValueError(f"status must start with 'checked (law', 'checked (secondary' or 'memory': {status!r}")
 
 
 WHO = "WHO (2022) Guidelines for drinking-water quality, 4th ed. incl. 1st+2nd addenda, Annex 3 Table A3.3"
@@ -62,6 +80,7 @@ CFR141 = "40 CFR 141.62(b) maximum contaminant levels for inorganic contaminants
 _NPDWR_SEC = "checked (secondary: EPA NPDWR summary table as reproduced; Indiana IDEM MCL table)"
 _LCR = "40 CFR 141.80(c) and 141.2 (action level, 90th percentile per monitoring period)"
 _RAA = "running_annual_mean"  # 40 CFR 141.23(i): compliance on a running annual average
+_TAP = "sampling_point_type: tap"  # 40 CFR 141.86: lead and copper samples are tap samples
 
 US_EPA_NPDWR = [
     Published("antimony", "total", 0.006, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
@@ -77,22 +96,27 @@ US_EPA_NPDWR = [
     Published("mercury", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM and fval.com MCL tables)", basis=_RAA),
     Published("selenium", "total", 0.05, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)", basis=_RAA),
     Published("thallium", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)", basis=_RAA),
-    Published("uranium", "total", 0.030, "mg/L", "40 CFR 141.66(e)", "memory", basis=_RAA),
+    Published("uranium", "total", 0.030, "mg/L", "40 CFR 141.66(e), effective 2003-12-08",
+              "checked (secondary: Maryland COMAR 26.04.01.09 reproducing the MCL, effective December 2003)",
+              basis=_RAA, effective_from="2003-12-08"),
     Published("lead", "total", 0.015, "mg/L", _LCR,
               "checked (law: 40 CFR 141.2 before the LCRI, 'action level for lead is 0.015 mg/L', Cornell LII copy)",
-              duration="action level", basis="percentile", effective_to="2027-10-31"),
+              duration="action level", basis="percentile", effective_to="2027-10-31", scope=_TAP),
     Published("lead", "total", 0.010, "mg/L", _LCR + "; 89 FR 86418 (LCRI), compliance date 2027-11-01",
               "checked (law: 40 CFR 141.2 'The lead action level is 0.010 mg/L', Cornell LII copy; "
               "89 FR 86418 DATES: compliance date for 141.2 is November 1, 2027)",
-              duration="action level", basis="percentile", effective_from="2027-11-01"),
+              duration="action level", basis="percentile", effective_from="2027-11-01", scope=_TAP),
     Published("copper", "total", 1.3, "mg/L", _LCR,
               "checked (law: 40 CFR 141.2 'the copper action level is 1.3 mg/L', Cornell LII copy)",
-              duration="action level", basis="percentile"),
+              duration="action level", basis="percentile", scope=_TAP),
 ]
 
 EU = "Directive (EU) 2020/2184, Annex I Part B"
 _EU_DE = "checked (law: consolidated German text of Annex I Part B, gesetze.legal copy)"
 _EU_9883 = "memory for 2020/2184; the same value is checked in 98/83/EC Annex I Part B (legislation.gov.uk copy)"
+EU_C = "Directive (EU) 2020/2184, Annex I Part C (indicator parameters)"
+_EU_C_9883 = "memory for 2020/2184; the same value is checked (secondary) for 98/83/EC Annex I Part C"
+_IND = "indicator parameter"
 
 EU_DWD_2020_2184 = [
     Published("antimony", "total", 10, "µg/L", EU, _EU_DE),
@@ -116,6 +140,33 @@ EU_DWD_2020_2184 = [
     Published("nickel", "total", 20, "µg/L", EU, _EU_9883),
     Published("selenium", "total", 20, "µg/L", EU, "memory"),
     Published("uranium", "total", 30, "µg/L", EU, "memory"),
+    Published("aluminium", "total", 200, "µg/L", EU_C, _EU_C_9883, duration=_IND),
+    Published("iron", "total", 200, "µg/L", EU_C, _EU_C_9883, duration=_IND),
+    Published("manganese", "total", 50, "µg/L", EU_C, _EU_C_9883, duration=_IND),
+]
+
+EU98 = "Council Directive 98/83/EC, Annex I Part B"
+_EU98_LAW = "checked (law: legislation.gov.uk copy of 98/83/EC Annex I Part B)"
+_EU98_C = "checked (secondary: stored summary of 98/83/EC indicator parameters)"
+
+EU_DWD_98_83 = [
+    Published("antimony", "total", 5.0, "µg/L", EU98, _EU98_LAW),
+    Published("arsenic", "total", 10, "µg/L", EU98, _EU98_LAW),
+    Published("boron", "total", 1.0, "mg/L", EU98, _EU98_LAW),
+    Published("cadmium", "total", 5.0, "µg/L", EU98, _EU98_LAW),
+    Published("chromium", "total", 50, "µg/L", EU98, _EU98_LAW),
+    Published("copper", "total", 2.0, "mg/L", EU98, _EU98_LAW),
+    Published("lead", "total", 25, "µg/L", EU98 + ", Note 4 (transitional value)",
+              "memory (Note 4 cut off in the stored copy; Note 2 has the same wording for bromate)",
+              effective_to="2013-12-25"),
+    Published("lead", "total", 10, "µg/L", EU98, _EU98_LAW + "; start date 15 years after entry into force: memory",
+              effective_from="2013-12-26"),
+    Published("mercury", "total", 1.0, "µg/L", EU98, _EU98_LAW),
+    Published("nickel", "total", 20, "µg/L", EU98, _EU98_LAW),
+    Published("selenium", "total", 10, "µg/L", EU98, _EU98_LAW),
+    Published("aluminium", "total", 0.2, "mg/L", EU98.replace("Part B", "Part C"), _EU98_C, duration="indicator parameter"),
+    Published("iron", "total", 0.2, "mg/L", EU98.replace("Part B", "Part C"), _EU98_C, duration="indicator parameter"),
+    Published("manganese", "total", 0.05, "mg/L", EU98.replace("Part B", "Part C"), _EU98_C, duration="indicator parameter"),
 ]
 
 NRWQC = "US EPA National Recommended Water Quality Criteria, aquatic life table, freshwater"
@@ -171,26 +222,219 @@ US_EPA_NRWQC_FRESHWATER = [
     Published("selenium", "dissolved", 1.5, "µg/L", NRWQC + "; selenium 2016 (EPA 822-R-16-006), water column",
               "memory", duration="chronic (lentic, 30-day)"),
     Published("silver", "dissolved", None, "µg/L", NRWQC,
-              "checked (secondary: North Carolina dissolved-metals standards page)", duration="acute",
-              m=1.72, b=-6.59, cf=0.85, at_100=3.2, at_100_source="memory (EPA criteria table; 131.38 prints 3.4)"),
+              "checked (secondary: North Carolina dissolved-metals standards page)",
+              duration="acute (instantaneous maximum)", m=1.72, b=-6.59, cf=0.85, at_100=3.2, at_100_source="memory (EPA criteria table; 131.38 prints 3.4)"),
     Published("zinc", "dissolved", None, "µg/L", NRWQC, _P132, duration="acute",
               m=0.8473, b=0.884, cf=0.978, at_100=120, at_100_source="checked (law: " + _CTR + ")"),
     Published("zinc", "dissolved", None, "µg/L", NRWQC, _P132, duration="chronic",
               m=0.8473, b=0.884, cf=0.986, at_100=120, at_100_source="checked (law: " + _CTR + ")"),
 ]
 
-#: table id -> (file name in limits/, published records)
+NSDWR = "40 CFR 143.3 secondary maximum contaminant levels"
+_NSDWR = "checked (law: 40 CFR 143.3, Cornell LII copy)"
+_SEC = "secondary (aesthetic)"
+
+US_EPA_NSDWR = [
+    Published("aluminium", "total", 0.2, "mg/L", NSDWR + " (range 0.05 to 0.2 mg/l, upper end)", _NSDWR, duration=_SEC),
+    Published("copper", "total", 1.0, "mg/L", NSDWR, _NSDWR, duration=_SEC),
+    Published("iron", "total", 0.3, "mg/L", NSDWR, _NSDWR, duration=_SEC),
+    Published("manganese", "total", 0.05, "mg/L", NSDWR, _NSDWR, duration=_SEC),
+    Published("silver", "total", 0.1, "mg/L", NSDWR, _NSDWR, duration=_SEC),
+    Published("zinc", "total", 5, "mg/L", NSDWR, _NSDWR, duration=_SEC),
+]
+
+EQS = "Directive 2008/105/EC as amended by 2013/39/EU, Annex I Part A"
+_EQS_LAW = "checked (law: legislation.gov.uk copy of 2008/105/EC Annex I Part A, row (6) cadmium)"
+_AA, _MAC = "annual average (AA-EQS)", "maximum allowable (MAC-EQS)"
+_INLAND, _OTHER = "water_category: inland", "water_category: other"
+_CD_CLASSES = {"rows": {"input": "hardness", "bounds": [40, 50, 100, 200]}}
+_EQS_DATE = "2015-12-22"  # revised EQS for existing priority substances apply from this date (memory)
+
+EU_EQS = [
+    Published("cadmium", "dissolved", None, "µg/L", EQS + ", cadmium by hardness class", _EQS_LAW,
+              duration=_AA, scope=_INLAND, form={"lookup": {**_CD_CLASSES, "values": [0.08, 0.08, 0.09, 0.15, 0.25]}},
+              worked=(({"hardness": 30}, 0.08, "class 1 (< 40 mg/L), law copy"), ({"hardness": 40}, 0.08, "class 2 starts at 40"),
+                      ({"hardness": 75}, 0.09, "class 3 (50 to < 100)"), ({"hardness": 100}, 0.15, "class 4 starts at 100"),
+                      ({"hardness": 250}, 0.25, "class 5 (>= 200)"))),
+    Published("cadmium", "dissolved", 0.2, "µg/L", EQS, _EQS_LAW, duration=_AA, scope=_OTHER),
+    Published("cadmium", "dissolved", None, "µg/L", EQS + ", cadmium by hardness class", _EQS_LAW, duration=_MAC,
+              form={"lookup": {**_CD_CLASSES, "values": [0.45, 0.45, 0.6, 0.9, 1.5]}},
+              worked=(({"hardness": 49.9}, 0.45, "class 2, law copy"), ({"hardness": 199}, 0.9, "class 4"),
+                      ({"hardness": 200}, 1.5, "class 5"))),
+    Published("lead", "dissolved", 1.2, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, scope=_INLAND,
+              effective_from=_EQS_DATE),
+    Published("lead", "dissolved", 1.3, "µg/L", EQS, "memory", duration=_AA, scope=_OTHER, effective_from=_EQS_DATE),
+    Published("lead", "dissolved", 14, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
+    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, scope=_INLAND,
+              effective_from=_EQS_DATE),
+    Published("nickel", "dissolved", 8.6, "µg/L", EQS, "memory", duration=_AA, scope=_OTHER, effective_from=_EQS_DATE),
+    Published("nickel", "dissolved", 34, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
+    Published("mercury", "dissolved", 0.07, "µg/L", EQS, "memory", duration=_MAC),
+]
+
+CCME = "CCME Canadian Water Quality Guidelines for the Protection of Aquatic Life, freshwater"
+_STATCAN = "checked (secondary: Statistics Canada archived CWQG table, fact sheet [S27])"
+_LT, _ST = "long-term", "short-term"
+
+
+def _log10_formula(intercept, coefficient):
+    return {"base": "10", "intercept": intercept, "terms": [{"input": "hardness", "coefficient": coefficient, "log": True}]}
+
+
+def _ln_formula(intercept, coefficient, factor=None):
+    f = {"intercept": intercept, "terms": [{"input": "hardness", "coefficient": coefficient, "log": True}]}
+    return {"factor": factor, **f} if factor is not None else f
+
+
+CCME_FRESHWATER = [
+    Published("cadmium", "total", None, "µg/L", CCME + ", cadmium 2014", "memory", duration=_LT,
+              form={"steps": {"input": "hardness", "pieces": [
+                  {"below": 17, "value": 0.04}, {"from": 17, "up_to": 280, "formula": _log10_formula(-2.46, 0.83)},
+                  {"over": 280, "value": 0.37}]}},
+              worked=(({"hardness": 100}, 0.16, "memory: fact sheet example, 2 significant figures"),
+                      ({"hardness": 10}, 0.04, "memory: value below hardness 17"),
+                      ({"hardness": 300}, 0.37, "memory: value above hardness 280"))),
+    Published("cadmium", "total", None, "µg/L", CCME + ", cadmium 2014", "memory", duration=_ST,
+              form={"steps": {"input": "hardness", "pieces": [
+                  {"below": 5.3, "value": 0.11}, {"from": 5.3, "up_to": 360, "formula": _log10_formula(-1.71, 1.016)},
+                  {"over": 360, "value": 7.7}]}},
+              worked=(({"hardness": 100}, 2.1, "memory: fact sheet example, 2 significant figures"),)),
+    Published("copper", "total", None, "µg/L", CCME + ", copper 1987", _STATCAN + "; thresholds 82/180 and 4 µg/L: memory",
+              duration=_LT,
+              form={"steps": {"input": "hardness", "pieces": [
+                  {"below": 82, "value": 2}, {"from": 82, "up_to": 180, "formula": _ln_formula(-1.465, 0.8545, 0.2)},
+                  {"over": 180, "value": 4}]}, "unknown_input": {"value": 2}},
+              worked=(({"hardness": 100}, 2.4, "memory: 2 significant figures"), ({"hardness": 50}, 2, "memory: soft water"),
+                      ({"hardness": 200}, 4, "memory: above 180"), ({"hardness": None}, 2, "memory: hardness unknown"))),
+    Published("lead", "total", None, "µg/L", CCME + ", lead 1987", _STATCAN + "; thresholds 60/180, 1 and 7 µg/L: memory",
+              duration=_LT,
+              form={"steps": {"input": "hardness", "pieces": [
+                  {"up_to": 60, "value": 1}, {"over": 60, "up_to": 180, "formula": _ln_formula(-4.705, 1.273)},
+                  {"over": 180, "value": 7}]}, "unknown_input": {"value": 1}},
+              worked=(({"hardness": 100}, 3.2, "memory: 2 significant figures"), ({"hardness": 60}, 1, "memory: <= 60"))),
+    Published("nickel", "total", None, "µg/L", CCME + ", nickel 1987", _STATCAN + "; thresholds 60/180, 25 and 150 µg/L: memory",
+              duration=_LT,
+              form={"steps": {"input": "hardness", "pieces": [
+                  {"up_to": 60, "value": 25}, {"over": 60, "up_to": 180, "formula": _ln_formula(1.06, 0.76)},
+                  {"over": 180, "value": 150}]}, "unknown_input": {"value": 25}},
+              worked=(({"hardness": 100}, 96, "memory: 2 significant figures"),)),
+    Published("zinc", "dissolved", None, "µg/L", CCME + ", zinc 2018", "memory", duration=_LT,
+              form={"formula": {"intercept": 4.625, "terms": [
+                  {"input": "hardness", "coefficient": 0.947, "log": True}, {"input": "ph", "coefficient": -0.815},
+                  {"input": "doc", "coefficient": 0.398, "log": True}]},
+                  "valid_range": {"hardness": [23.4, 399], "ph": [6.5, 8.13], "doc": [0.3, 22.9]}, "outside_range": "no_limit"},
+              worked=(({"hardness": 100, "ph": 7.5, "doc": 2}, 23, "memory: 2 significant figures"),
+                      ({"hardness": 100, "ph": 8.5, "doc": 2}, None, "outside the pH range: not computed"))),
+    Published("zinc", "dissolved", None, "µg/L", CCME + ", zinc 2018", "memory", duration=_ST,
+              form={"formula": {"intercept": 0.526, "terms": [
+                  {"input": "hardness", "coefficient": 0.833, "log": True}, {"input": "doc", "coefficient": 0.240, "log": True}]},
+                  "valid_range": {"hardness": [13.8, 250.5], "doc": [0.3, 17.3]}, "outside_range": "no_limit"},
+              worked=(({"hardness": 100, "doc": 2}, 93, "memory: 2 significant figures"),)),
+    Published("manganese", "dissolved", None, "µg/L", CCME + ", manganese 2019", "memory", duration=_ST,
+              form={"formula": _ln_formula(4.76, 0.878)},
+              worked=(({"hardness": 100}, 6700, "computed from the remembered equation, 2 significant figures"),)),
+    Published("aluminium", "total", None, "µg/L", CCME + ", aluminium 1987", _STATCAN, duration=_LT,
+              form={"lookup": {"rows": {"input": "ph", "bounds": [6.5]}, "values": [5, 100]}},
+              worked=(({"ph": 6.0}, 5, "pH < 6.5, Statcan table"), ({"ph": 6.5}, 100, "pH >= 6.5, Statcan table"))),
+    Published("arsenic", "total", 5, "µg/L", CCME, "memory", duration=_LT),
+    Published("chromium(vi)", "total", 1.0, "µg/L", CCME, "memory", duration=_LT),
+    Published("chromium(iii)", "total", 8.9, "µg/L", CCME, "memory", duration=_LT),
+    Published("mercury", "total", 0.026, "µg/L", CCME + " (inorganic mercury)", _STATCAN, duration=_LT),
+    Published("selenium", "total", 1.0, "µg/L", CCME, "memory", duration=_LT),
+    Published("molybdenum", "total", 73, "µg/L", CCME, "memory", duration=_LT),
+    Published("thallium", "total", 0.8, "µg/L", CCME, "memory", duration=_LT),
+    Published("iron", "total", 300, "µg/L", CCME, "memory", duration=_LT),
+    Published("silver", "total", 0.25, "µg/L", CCME + ", silver 2015", "memory", duration=_LT),
+    Published("uranium", "total", 15, "µg/L", CCME + ", uranium 2011", "memory", duration=_LT),
+    Published("uranium", "total", 33, "µg/L", CCME + ", uranium 2011", "memory", duration=_ST),
+    Published("boron", "total", 1.5, "mg/L", CCME, "memory", duration=_LT),
+    Published("boron", "total", 29, "mg/L", CCME, "memory", duration=_ST),
+]
+
+HC = "Health Canada, Guidelines for Canadian Drinking Water Quality, summary table"
+_MACC, _AO = "maximum acceptable concentration", "aesthetic objective"
+_OGP = "checked (secondary: Open Government Portal record of the guideline technical document)"
+
+HEALTH_CANADA = [
+    Published("arsenic", "total", 0.010, "mg/L", HC, "checked (secondary: canada.ca arsenic document page, fact sheet [S26])", duration=_MACC),
+    Published("boron", "total", 5, "mg/L", HC, _OGP, duration=_MACC),
+    Published("chromium", "total", 0.05, "mg/L", HC, "checked (secondary: fact sheet [S26])", duration=_MACC),
+    Published("mercury", "total", 0.001, "mg/L", HC, _OGP, duration=_MACC),
+    Published("lead", "total", 0.005, "mg/L", HC + " (lead, 2019)", "checked (secondary: summary of the 2019 lead document, fact sheet [S26])",
+              duration=_MACC),
+    Published("cadmium", "total", 0.007, "mg/L", HC, "memory", duration=_MACC),
+    Published("antimony", "total", 0.006, "mg/L", HC, "memory", duration=_MACC),
+    Published("barium", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
+    Published("selenium", "total", 0.05, "mg/L", HC, "memory", duration=_MACC),
+    Published("uranium", "total", 0.02, "mg/L", HC, "memory", duration=_MACC),
+    Published("strontium", "total", 7.0, "mg/L", HC, "memory", duration=_MACC),
+    Published("copper", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
+    Published("copper", "total", 1.0, "mg/L", HC, "memory", duration=_AO),
+    Published("manganese", "total", 0.12, "mg/L", HC, "memory", duration=_MACC),
+    Published("manganese", "total", 0.02, "mg/L", HC, "memory", duration=_AO),
+    Published("aluminium", "total", 2.9, "mg/L", HC, "memory", duration=_MACC),
+    Published("iron", "total", 0.3, "mg/L", HC, _OGP, duration=_AO),
+    Published("zinc", "total", 5.0, "mg/L", HC, _OGP, duration=_AO),
+]
+
+ANZG = "ANZG (2018) toxicant DGVs, freshwater (ANZECC & ARMCANZ 2000 Table 3.4.1; hardness exponents Table 3.4.3)"
+_LEVELS = ("99", "95", "90", "80")
+#: analyte -> (DGVs at 99/95/90/80 % species protection [µg/L], hardness exponent or None); all from memory
+_ANZG_VALUES = {
+    "cadmium": ((0.06, 0.2, 0.4, 0.8), 0.89), "chromium(vi)": ((0.01, 1.0, 6, 40), None),
+    "copper": ((1.0, 1.4, 1.8, 2.5), 0.85), "lead": ((1.0, 3.4, 5.6, 9.4), 1.27),
+    "mercury": ((0.06, 0.6, 1.9, 5.4), None), "nickel": ((8, 11, 13, 17), 0.85), "zinc": ((2.4, 8.0, 15, 31), 0.85),
+    "aluminium": ((27, 55, 80, 150), None), "manganese": ((1200, 1900, 2500, 3600), None),
+    "selenium": ((5, 11, 18, 34), None), "silver": ((0.02, 0.05, 0.1, 0.2), None),
+}
+
+
+def _anzg(analyte, level, value, exponent):
+    scope = f"protection_level: {level}"
+    if exponent is None:
+        return Published(analyte, "dissolved", value, "µg/L", ANZG, "memory", duration="chronic", scope=scope)
+    return Published(analyte, "dissolved", None, "µg/L", ANZG, "memory", duration="chronic", scope=scope,
+                     form={"power_law": {"input": "hardness", "reference": 30, "exponent": exponent, "value": value}},
+                     worked=(({"hardness": 30}, value, "the DGV itself at its reference hardness"),))
+
+
+ANZG_FRESHWATER = [_anzg(a, lvl, v, x) for a, (vals, x) in _ANZG_VALUES.items() for lvl, v in zip(_LEVELS, vals)]
+
+ADWG = "NHMRC, NRMMC (2011) Australian Drinking Water Guidelines, Table 10.6"
+_ADWG_LAW = "checked (law: NHMRC guidelines site copy of Table 10.6)"
+
+ADWG_2011 = [
+    Published("aluminium", "total", 0.2, "mg/L", ADWG + " (acid-soluble)", _ADWG_LAW, duration="aesthetic"),
+    Published("antimony", "total", 0.003, "mg/L", ADWG, _ADWG_LAW, duration="health"),
+    Published("arsenic", "total", 0.01, "mg/L", ADWG, _ADWG_LAW, duration="health"),
+    *[Published(a, "total", v, "mg/L", ADWG, "memory", duration=d) for a, v, d in (
+        ("barium", 2, "health"), ("beryllium", 0.06, "health"), ("boron", 4, "health"), ("cadmium", 0.002, "health"),
+        ("chromium(vi)", 0.05, "health"), ("copper", 2, "health"), ("copper", 1, "aesthetic"), ("iron", 0.3, "aesthetic"),
+        ("lead", 0.01, "health"), ("manganese", 0.5, "health"), ("manganese", 0.1, "aesthetic"),
+        ("mercury", 0.001, "health"), ("molybdenum", 0.05, "health"), ("nickel", 0.02, "health"),
+        ("selenium", 0.01, "health"), ("silver", 0.1, "health"), ("uranium", 0.017, "health"), ("zinc", 3, "aesthetic"))],
+]
+
+#: table id -> (file in limits/: the default set at the top, further tables in a folder per region; records)
 PUBLISHED_TABLES = {
     "who_gdwq_2022": ("who_gdwq_2022.yaml", WHO_GDWQ_2022),
     "us_epa_npdwr_inorganics": ("us_epa_npdwr_inorganics.yaml", US_EPA_NPDWR),
     "eu_dwd_2020_2184": ("eu_dwd_2020_2184.yaml", EU_DWD_2020_2184),
     "us_epa_nrwqc_freshwater_aquatic_life": ("us_epa_nrwqc_freshwater_aquatic_life.yaml", US_EPA_NRWQC_FRESHWATER),
+    "eu_dwd_98_83": ("eu_dwd_98_83.yaml", EU_DWD_98_83),
+    "us_epa_nsdwr_secondary": ("us/us_epa_nsdwr_secondary.yaml", US_EPA_NSDWR),
+    "eu_eqs_2008_105": ("eu/eu_eqs_2008_105.yaml", EU_EQS),
+    "ccme_freshwater_aquatic_life": ("canada/ccme_freshwater_aquatic_life.yaml", CCME_FRESHWATER),
+    "health_canada_gcdwq": ("canada/health_canada_gcdwq.yaml", HEALTH_CANADA),
+    "anzg_2018_freshwater_toxicants": ("australia_new_zealand/anzg_2018_freshwater_toxicants.yaml", ANZG_FRESHWATER),
+    "adwg_2011": ("australia_new_zealand/adwg_2011.yaml", ADWG_2011),
 }
 
 #: µg/L per unit, by definition of the SI prefixes (1 mg = 1000 µg).
 UG_L_PER_UNIT = {"µg/L": 1.0, "mg/L": 1000.0}
 
-#: Hardness range the federal hardness formulas are applied over, mg/L as CaCO3:
-#: minimum 25 (40 CFR 131.36(c)(4), checked per the shared fact sheet); cap 400 (common practice in state
-#: rules, e.g. the Colorado Regulation 31 calculator "shall be no greater than 400 mg/L", checked secondary).
-HARDNESS_RANGE = (25.0, 400.0)
+#: Hardness bounds of the national recommendations: none (the ambient hardness is used as measured; from
+#: memory, re-check). The 25 mg/L floor is the 1992 National Toxics Rule's (40 CFR 131.36(c)(4)) and the
+#: 400 mg/L cap that of 40 CFR 131.38(c)(4)(i) ("for waters with a hardness of 400 mg/l or less ... the
+#: actual ambient hardness ... shall be used", quotation seen, fact sheet [S13]); neither applies here.
+HARDNESS_RANGE = (None, None)

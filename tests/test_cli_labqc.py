@@ -106,3 +106,22 @@ def test_screen_reviews_the_lab_qc_rows_of_its_files(tmp_path, capsys):
     assert sorted(low["sample_id"]) == ["A1", "A2", "A3"]
     assert "suggested_action" in r.columns and low["suggested_action"].str.contains("re-digest").all()
     assert (tmp_path / "out" / "qc_verdicts.csv").is_file() and (tmp_path / "out" / "qc_batches.csv").is_file()
+
+
+def test_screen_with_calibration_says_what_detection_limit_the_calibration_supports(tmp_path, capsys):
+    # arsenic < 20 ug/L cannot decide against WHO's 10 ug/L (dl_too_high); the lab's calibration
+    # supports 3.3 x 0.0101 / 0.05015 = 0.664 ug/L, so the laboratory can report lower
+    lab = tmp_path / "lab.csv"
+    lab.write_text("site_id,sample_id,sampled_at,analyte,fraction,result,unit,detection_limit,batch,lab\n"
+                   "S1,A1,2024-05-01,arsenic,total,<20,ug/L,20,B1,Lab A\n", encoding="utf-8")
+    cal = tmp_path / "cal.csv"
+    cal.write_text("analyte,run,concentration,unit,response\n" + "".join(
+        f"arsenic,B1,{c},ug/L,{r}\n" for c, r in [(0, 0.001), (1, 0.051), (10, 0.50), (50, 2.49), (100, 5.02)]),
+        encoding="utf-8")
+    limits = Path(__file__).resolve().parents[1] / "limits" / "who_gdwq_2022.yaml"
+    rc = main(["screen", str(lab), "--limits", str(limits), "--calibration", str(cal), "--out", str(tmp_path / "o")])
+    assert rc == 0, capsys.readouterr().err
+    r = pd.read_csv(tmp_path / "o" / "retest.csv")
+    detail = r.loc[r["reason"] == "dl_too_high", "detail"].item()
+    assert "the calibration supports a detection limit of 0.6642 µg/L (calibration LOD" in detail
+    assert (tmp_path / "o" / "calibration_fits.csv").is_file()

@@ -117,11 +117,13 @@ def test_who_arsenic_limit_line_at_10_ug_per_L(session):
 
 def test_hardness_dependent_lead_limit_follows_sample_hardness(session):
     """KR02 dissolved lead chronic line = exp(1.273 ln H - 4.705)(1.46203 - 0.145712 ln H) at each sample's
-    hardness (US EPA NRWQC / 40 CFR 131.38, which lists 2.5 µg/L at H = 100 mg/L CaCO3)."""
+    hardness, rounded to two significant figures (US EPA NRWQC / 40 CFR 131.38, which lists 2.5 µg/L at
+    H = 100 mg/L CaCO3 and says criteria are rounded to two significant figures, 131.38(b)(2))."""
 
     def epa_lead_ccc(h):
-        h = np.clip(h, 25, 400)
-        return np.exp(1.273 * np.log(h) - 4.705) * (1.46203 - 0.145712 * np.log(h))
+        v = np.exp(1.273 * np.log(h) - 4.705) * np.minimum(1.0, 1.46203 - 0.145712 * np.log(h))
+        digits = 1 - np.floor(np.log10(v))  # two significant figures, halves up
+        return np.floor(v * 10.0 ** digits + 0.5) / 10.0 ** digits
 
     assert epa_lead_ccc(np.array([100.0]))[0] == pytest.approx(2.5, abs=0.05)
     rows = session.series("KR02", "lead", "dissolved")

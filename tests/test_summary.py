@@ -115,3 +115,24 @@ def test_efron_note_only_when_the_smallest_value_is_a_nondetect():
     high_dl = results("B", [0.2, 0.3, 0.4, 1.0, 2.0, 3.0, 1.0], [0, 0, 0, 0, 0, 0, 1])
     s = summary.summarise(pd.concat([low_dl, high_dl])).set_index("site_id")
     assert "Efron" in s.loc["A", "note"] and "Efron" not in s.loc["B", "note"]
+
+
+def test_a_series_bootstrap_ucl_does_not_change_when_other_series_join_the_run():
+    """Each series' resamples depend only on the seed and the series (its own seeded generator),
+    so adding a site to the run leaves every other site's ucl95_mean unchanged (common practice:
+    reproducible results per site)."""
+    rng = np.random.default_rng(4)
+    rows = []
+    for site in ("A", "B", "C"):
+        for k, v in enumerate(rng.lognormal(0, 1, 15)):
+            rows.append({"site_id": site, "analyte": "arsenic", "fraction": "total",
+                         "sampled_at": pd.Timestamp("2020-01-01") + pd.Timedelta(days=30 * k),
+                         "value_ug_L": v if v > 0.5 else np.nan, "detected": v > 0.5,
+                         "detection_limit_ug_L": 0.5, "sample_type": "sample"})
+    data = pd.DataFrame(rows)
+    two = summary.summarise(data[data["site_id"] != "B"], n_boot=500, seed=9).set_index("site_id")
+    three = summary.summarise(data, n_boot=500, seed=9).set_index("site_id")
+    assert two.loc[["A", "C"], "ucl95_mean"].tolist() == three.loc[["A", "C"], "ucl95_mean"].tolist()
+    again = summary.summarise(data, n_boot=500, seed=9).set_index("site_id")
+    assert again["ucl95_mean"].tolist() == three["ucl95_mean"].tolist()
+    assert summary.summarise(data, n_boot=500, seed=10).set_index("site_id")["ucl95_mean"].tolist() != three["ucl95_mean"].tolist()

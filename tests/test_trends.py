@@ -262,3 +262,20 @@ def test_series_of_one_value_gives_no_statistic_instead_of_an_error():
         r = mann_kendall.mann_kendall_grouped(np.array([2021.2]), np.array([0.5]), nd, np.zeros(1, int), 1).iloc[0]
         assert r["n"] == 1 and r["s"] == 0
         assert np.isnan(r["slope_per_year"])
+
+
+def test_all_tied_series_gives_no_trend_like_pymannkendall():
+    """A series whose values are all tied -- a constant series, or every result below one detection
+    limit -- has S = 0, z = 0 and p = 1, as pymannkendall.original_test reports, and direction
+    no_trend with a note (not a blank z and p)."""
+    y = np.full(12, 0.5)
+    ref = mk.original_test(y)
+    for nd in (None, np.ones(12, bool)):
+        r = _one(np.arange(12, dtype=float), y, nd)
+        assert (r["s"], r["var_s"]) == (ref.s, ref.var_s) == (0, 0)
+        assert (r["z"], r["p_value"]) == (ref.z, ref.p) == (0, 1)
+    dates = pd.date_range("2020-01-01", periods=12, freq="90D")
+    data = _series("A", dates, np.full(12, 1.0)).assign(value_ug_L=np.nan, detected=False)
+    row = trends.trend_table(data, seasonal="never").iloc[0]
+    assert (row["z"], row["p_value"], row["direction"]) == (0, 1, "no_trend")
+    assert "all values tied" in row["note"]

@@ -24,6 +24,7 @@ COMMANDS = [
     "import_",
     "history",
     "export",
+    "limits",
 ]
 
 

@@ -85,7 +85,9 @@ def run(args) -> int:
         for text in review.batches["narrative"]:
             print(f"\n{text}")
     if args.calibration:
-        written.update(_calibration(args, accepted, out, retest_parts))
+        cal_written, cal_retest, _ = calibration_review(args, accepted, out)
+        written.update(cal_written)
+        retest_parts.append(cal_retest)
     retest = pd.concat([p for p in retest_parts if len(p)], ignore_index=True) if any(len(p) for p in retest_parts) \
         else (retest_parts[0] if retest_parts else pd.DataFrame())
     if retest_parts:
@@ -125,7 +127,11 @@ def _print_rows(loaded) -> None:
           f"{len(loaded.set_aside)}  rejected: {len(loaded.rejected)}")
 
 
-def _calibration(args, accepted, out: Path, retest_parts: list) -> dict:
+def calibration_review(args, accepted, out: Path):
+    """Fit the calibration files of ``args.calibration``, write their tables and check the results.
+
+    Returns ({name: path}, retest rows, the per-analyte ranges and supported detection limits).
+    """
     from tracescreen.retest.calibration.checks import analyte_ranges, check_results
     from tracescreen.retest.calibration.fit import fit_curves
     from tracescreen.retest.calibration.limits import curve_limits, mdl
@@ -153,6 +159,5 @@ def _calibration(args, accepted, out: Path, retest_parts: list) -> dict:
         print(f"  {r.analyte} run {r.run or '-'}: {r.weighting} fit, slope {r.slope:.5g}, intercept {r.intercept:.4g}, "
               f"r {r.r:.5f}, LOD {r.lod_ug_L:.3g} ug/L, LOQ {r.loq_ug_L:.3g} ug/L"
               + (f", lack-of-fit p {r.lack_of_fit_p:.3g}" if pd.notna(r.lack_of_fit_p) else ""))
-    if len(accepted):
-        retest_parts.append(check_results(accepted, analyte_ranges(limits, mdls)))
-    return written
+    ranges = analyte_ranges(limits, mdls)
+    return written, check_results(accepted, ranges) if len(accepted) else check_results(None, ranges), ranges

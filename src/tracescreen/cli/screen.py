@@ -5,17 +5,20 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+import pandas as pd
+
 from tracescreen.report import writers as outputs
 from tracescreen.screening.uncertainty import uncertainty_decision
 from tracescreen._internal.memory import release_unused
 from tracescreen.screening.periods import period_table
 from tracescreen.screening.screen import screen
 from tracescreen.vocabulary import STATUSES
+from tracescreen.retest.calibration.checks import annotate_dl_too_high
 from tracescreen.retest.listing import retest_list
 from . import UserError
 from .common import add_data_options, load_inputs, print_caution, warn
 from .flag_options import add_retest_options, retest_options
-from .labqc import review_for_screen, write_review
+from .labqc import calibration_review, review_for_screen, write_review
 from .trends import add_statistics_options, write_statistics
 
 
@@ -36,6 +39,11 @@ def register(sub) -> None:
     p.add_argument("--qc", metavar="FILE", action="append", default=[],
                    help="a separate laboratory QC summary file (CSV or XLSX); the QC rows of the lab files "
                         "are reviewed without it (see 'tracescreen labqc')")
+    p.add_argument("--calibration", metavar="FILE", action="append", default=[],
+                   help="the laboratory's calibration file: results are checked against its standards and "
+                        "the detection limits it supports (see 'tracescreen labqc')")
+    p.add_argument("--weighting", choices=("none", "1/x", "1/x2", "auto"), default="auto",
+                   help="calibration fit weighting (with --calibration)")
     p.set_defaults(func=run)
 
 
@@ -60,9 +68,18 @@ def run(args) -> int:
     }
     release_unused()
     review = review_for_screen(args, loaded)
+    lab_rows = [] if review is None else [review.retest]
     if review is not None:
         written.update(write_review(review, out))
-    retest = retest_list(screened, flag_options, lab_qc=review.retest if review is not None else None)
+    ranges = None
+    if args.calibration:
+        cal_written, cal_retest, ranges = calibration_review(args, loaded.accepted, out)
+        written.update(cal_written)
+        lab_rows.append(cal_retest)
+    lab_qc = pd.concat([r for r in lab_rows if len(r)], ignore_index=True) if any(len(r) for r in lab_rows) else None
+    retest = retest_list(screened, flag_options, lab_qc=lab_qc)
+    if ranges is not None:
+        retest = annotate_dl_too_high(retest, ranges)
     written["retest"] = outputs.write_csv(retest, out / "retest.csv")
     release_unused()
     extra = run_extra_outputs(args, inputs, screened, out)

@@ -22,6 +22,7 @@ from tracescreen._internal.coded import CodedText, derived_categorical, joint_co
 from tracescreen.io import (
     analytes,
     censoring,
+    chemistry_rows,
     codelists,
     hardness_rows,
     mapping,
@@ -32,7 +33,7 @@ from tracescreen.io import (
 from tracescreen.io import cells as parsing
 from tracescreen.io.columns import recognise
 from tracescreen.io.files import LoadError, LoadOptions, RawTable
-from tracescreen.io.results import SET_ASIDE_PREFIX, normalise_empty, not_accepted_frame
+from tracescreen.io.results import INPUT_COLUMNS, SET_ASIDE_PREFIX, normalise_empty, not_accepted_frame
 
 _FRACTIONS = np.array(["", "total", "dissolved"], dtype=object)  # fraction codes 0, 1, 2
 #: Columns where a missing-value word (``NA``, ``N/A``, ``NaN``, ``null``, ``-``) is an empty cell
@@ -307,9 +308,13 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         ok_h = is_hardness & parsed["detected"][combo] & pd.isna(parsed["error"][combo]).astype(bool) \
             & ~np.isnan(v_factor[unit_text.codes]) & np.isin(species, ["", "CaCO3", "caco3"])
         h_mg_L = parsed["value"][combo] * v_factor[unit_text.codes] / 1000.0
-        sample_code, _ = joint_codes(site.codes, sample.codes)
-        from_rows = hardness_rows.hardness_of_samples(sample_code, ok_h, h_mg_L)
+        from_rows = hardness_rows.hardness_of_samples(joint_codes(site.codes, sample.codes)[0], ok_h, h_mg_L)
         row_hardness = np.where(np.isnan(row_hardness), from_rows, row_hardness)
+
+    # pH, DOC and temperature rows -> the inputs of the sample's computed limits
+    sample_code, _ = joint_codes(site.codes, sample.codes)
+    chem = chemistry_rows.sample_inputs_from_rows(analyte_text, fraction == 2, rows.aside, parsed, combo,
+                                                  unit_text.codes, v_unit_plain, v_factor, sample_code)
 
     # -- the two tables ----------------------------------------------------------------------------
     reasons = rows.reasons()
@@ -340,6 +345,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "hardness_mg_L": row_hardness[ok],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
         "qualifier_meaning": pd.Categorical(parsed["meaning"][okc].astype(str)),
+        **{c: chem[c][ok] for c in INPUT_COLUMNS},
         "quantitation_limit_ug_L": units.clean_decimal(parsed["quantitation_limit"] * factor)[okc],
     }, copy=False)
     not_ok = ~ok

@@ -18,8 +18,11 @@ ACCEPTED_COLUMNS = [
     "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction",
     "result_text", "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier",
     "sample_type", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L",
-    "uncertainty_ug_L", "qualifier_meaning", "quantitation_limit_ug_L",
+    "uncertainty_ug_L", "qualifier_meaning", "ph", "doc_mg_L", "temperature_C", "quantitation_limit_ug_L",
 ]
+#: Water-chemistry inputs of computed limits (io/chemistry_rows.py): pH, DOC [mg/L], temperature [°C];
+#: NaN when the file reports none for the sample.
+INPUT_COLUMNS = ("ph", "doc_mg_L", "temperature_C")
 
 
 #: Text columns of the accepted table (held as pandas categoricals of str).
@@ -94,7 +97,8 @@ def normalise_empty() -> pd.DataFrame:
     no_text = pd.Categorical([], categories=pd.Index([], dtype="str"))
     cols = {c: pd.Series(no_text) if c in TEXT_COLUMNS else pd.Series(dtype=str)
             for c in ACCEPTED_COLUMNS}
-    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L", "quantitation_limit_ug_L"):
+    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L", "quantitation_limit_ug_L") \
+            + INPUT_COLUMNS:
         cols[c] = pd.Series(dtype=float)
     cols["row"] = pd.Series(dtype="int64")
     cols["detected"] = pd.Series(dtype=bool)

@@ -4,6 +4,13 @@ CSV columns: ``site_id, name, latitude, longitude, uses, hardness_mg_L``. ``uses
 ``;``-separated list of water uses (e.g. ``drinking_water;freshwater_aquatic``) matched against
 the ``use`` of each limit table. ``hardness_mg_L`` (as CaCO3) is the default for samples that carry
 no hardness of their own. ``latitude``/``longitude`` are decimal degrees (WGS 84).
+
+Optional columns: defaults (:data:`INPUT_DEFAULTS`) for the other water-chemistry inputs of
+computed limits, ``ph``, ``doc_mg_L`` (dissolved organic carbon), ``temperature_C``; and the site
+attributes limit entries can be scoped by (``limits.schema.SCOPE_ATTRIBUTES``):
+``water_body_type`` (lotic, lentic), ``sampling_point_type`` (tap, entry_point, distribution,
+source, well), ``water_category`` (inland, other), ``protection_level`` (99, 95, 90, 80).
+An empty cell means "not known": the site then gets every entry.
 """
 
 from __future__ import annotations
@@ -14,6 +21,8 @@ import numpy as np
 import pandas as pd
 
 SITE_COLUMNS = ("site_id", "name", "latitude", "longitude", "uses", "hardness_mg_L")
+#: Optional numeric columns and their valid ranges.
+INPUT_DEFAULTS = {"ph": (0.0, 14.0), "doc_mg_L": (0.0, 1000.0), "temperature_C": (-5.0, 100.0)}
 
 
 class SitesError(ValueError):
@@ -42,6 +51,7 @@ def load_sites(path: str | Path) -> pd.DataFrame:
     for c in SITE_COLUMNS:
         if c not in df.columns:
             df[c] = ""
+    raw = df
     df = df[list(SITE_COLUMNS)].apply(lambda c: c.str.strip())
     rows = np.arange(len(df)) + 2
     problems = []
@@ -57,9 +67,35 @@ def load_sites(path: str | Path) -> pd.DataFrame:
                      for r, v in zip(rows[bad.to_numpy()], df[c][bad])]
         out[c] = num.astype(float)
     out["uses"] = [tuple(u.strip().lower() for u in s.split(";") if u.strip()) for s in df["uses"]]
+    problems += _optional_columns(raw, out, rows, p)
     if problems:
         raise SitesError(problems[0] + (f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""))
     return out.reset_index(drop=True)
+
+
+def _optional_columns(raw: pd.DataFrame, out: pd.DataFrame, rows: np.ndarray, p: Path) -> list[str]:
+    """Water-chemistry defaults and scope attributes, where the file has the columns (added to ``out``)."""
+    from tracescreen.limits.schema import SCOPE_ATTRIBUTES
+
+    problems = []
+    for c, (lo, hi) in INPUT_DEFAULTS.items():
+        if c not in raw.columns:
+            continue
+        text = raw[c].str.strip()
+        num = pd.to_numeric(text.replace("", np.nan), errors="coerce")
+        bad = (text != "") & (num.isna() | (num < lo) | (num > hi))
+        problems += [f"{p}: row {r}: {c} '{v}' is not a number in [{lo:g}, {hi:g}]"
+                     for r, v in zip(rows[bad.to_numpy()], text[bad])]
+        out[c] = num.astype(float).to_numpy()
+    for c, allowed in SCOPE_ATTRIBUTES.items():
+        if c not in raw.columns:
+            continue
+        text = raw[c].str.strip().str.lower().str.replace(" ", "_").str.replace("%", "")
+        bad = (text != "") & ~text.isin(allowed)
+        problems += [f"{p}: row {r}: {c} '{v}' is not one of {', '.join(allowed)} (or empty)"
+                     for r, v in zip(rows[bad.to_numpy()], raw[c][bad])]
+        out[c] = text.to_numpy(dtype=object)
+    return problems
 
 
 def site_uses(sites: pd.DataFrame) -> pd.DataFrame:

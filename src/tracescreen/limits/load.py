@@ -1,4 +1,4 @@
-"""Limit tables: loading, checking, and evaluating hardness-dependent formulas.
+"""Limit tables: loading and checking (evaluation: :mod:`tracescreen.limits.evaluate`).
 
 A limit table is a YAML file with its full citation and entries (see README, "Limit tables").
 :func:`load_limits` reads one file or every ``*.yaml``/``*.yml`` in a folder and returns a
@@ -6,7 +6,8 @@ A limit table is a YAML file with its full citation and entries (see README, "Li
 Mistakes (a missing citation, an unknown analyte, unit or key, a negative value, overlapping dates)
 raise :class:`LimitTableError` naming the file, the entry and the key.
 
-Hardness-dependent entries use the US EPA form (see :func:`hardness_formula_limit`).
+Hardness-dependent entries use the US EPA form (:func:`limits.evaluate.hardness_formula_limit`); the
+other computed forms are declared in :mod:`tracescreen.limits.forms`.
 """
 
 from __future__ import annotations
@@ -24,16 +25,20 @@ from tracescreen.io import analytes
 from tracescreen.io import units
 from tracescreen._internal.yamlfiles import SAFE_LOADER
 
+from tracescreen.limits import forms, scope
+from tracescreen.limits.evaluate import (  # noqa: F401  (re-exported: evaluation used to live here)
+    evaluate, evaluate_pairs, hardness_formula_limit, is_formula,
+)
 from tracescreen.limits.schema import (  # noqa: F401  (re-exported: the format is declared there)
     BASES, CF_KEYS, ENTRY_KEYS_OPTIONAL, ENTRY_KEYS_REQUIRED, EXTRA_ENTRY_KEYS, FORMULA_KEYS, FRACTIONS,
-    SETTINGS, TABLE_CHECKS, TABLE_KEYS_OPTIONAL, TABLE_KEYS_REQUIRED, LimitTableError,
+    SETTINGS, TABLE_CHECKS, TABLE_KEYS_OPTIONAL, TABLE_KEYS_REQUIRED, VALUE_KEYS, LimitTableError,
 )
 
 ENTRY_COLUMNS = [
     "entry_id", "table_id", "use", "source", "analyte", "fraction", "basis", "duration", "value_ug_L",
     "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope", "hardness_min", "hardness_max",
-    "effective_from", "effective_to", "note",
-]
+    "effective_from", "effective_to", "note", "form_kind", "form", "inputs", "scope",
+] + [f"scope_{a}" for a in scope.ATTRIBUTES]
 
 
 @dataclass
@@ -46,52 +51,6 @@ class LimitSet:
     @property
     def uses(self) -> list[str]:
         return sorted(set(self.tables["use"]))
-
-
-def hardness_formula_limit(m, b, cf, cf_intercept, cf_ln_slope, hardness_mg_L, hardness_min=np.nan,
-                           hardness_max=np.nan):
-    """Hardness-dependent criterion, US EPA form.
-
-    ``limit = exp(m·ln(H) + b) · CF``, where ``H`` is hardness clamped to ``[hardness_min,
-    hardness_max]`` and ``CF`` is either a fixed conversion factor or ``intercept + ln_hardness·ln(H)``
-    (the published form for cadmium and lead), never above 1.
-
-    Parameters
-    ----------
-    m, b : array-like
-        Slope and intercept of the published equation.
-    cf : array-like
-        Fixed conversion factor (NaN when the ln form is used).
-    cf_intercept, cf_ln_slope : array-like
-        Coefficients of the hardness-dependent conversion factor (NaN when fixed).
-    hardness_mg_L : array-like
-        Hardness [mg/L as CaCO3].
-    hardness_min, hardness_max : array-like
-        Bounds applied to hardness before the formula [mg/L as CaCO3] (NaN for none).
-
-    Returns
-    -------
-    numpy.ndarray
-        The criterion in the table's unit (µg/L for the US EPA tables); NaN where hardness is NaN.
-
-    References
-    ----------
-    .. [1] US EPA (2024). National Recommended Water Quality Criteria - Aquatic Life Criteria Table,
-       Appendix B: Parameters for calculating freshwater dissolved metals criteria that are
-       hardness-dependent.
-    .. [2] 40 CFR 131.38(b)(2), Table 1 and footnotes (conversion factors; CF for cadmium and lead
-       not to exceed 1).
-    """
-    H = np.asarray(hardness_mg_L, dtype=float)
-    lo = np.asarray(hardness_min, dtype=float)
-    hi = np.asarray(hardness_max, dtype=float)
-    H = np.where(np.isnan(lo), H, np.maximum(H, lo))
-    H = np.where(np.isnan(hi), H, np.minimum(H, hi))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        lnH = np.log(H)
-        cf_ln = np.minimum(np.asarray(cf_intercept, dtype=float) + np.asarray(cf_ln_slope, dtype=float) * lnH, 1.0)
-        factor = np.where(np.isnan(np.asarray(cf, dtype=float)), cf_ln, cf)
-        return np.exp(np.asarray(m, dtype=float) * lnH + np.asarray(b, dtype=float)) * factor
 
 
 def _date(value, where: str, key: str):
@@ -145,9 +104,12 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
     basis = str(e.get("basis", "single_sample"))
     if basis not in BASES:
         raise LimitTableError(f"{label}: key 'basis': '{basis}' is not one of {', '.join(BASES)}")
-    has_v, has_f = "value" in e, "hardness_formula" in e
-    if has_v == has_f:
-        raise LimitTableError(f"{label}: give exactly one of 'value' or 'hardness_formula'")
+    given = [k for k in VALUE_KEYS if k in e]
+    if len(given) != 1:
+        raise LimitTableError(f"{label}: give exactly one of {', '.join(repr(k) for k in VALUE_KEYS)}"
+                              + (f" (found {', '.join(given)})" if given else ""))
+    has_v, has_f = given[0] == "value", given[0] == "hardness_formula"
+    spec = forms.parse_form(e, label)
     row = {"table_id": table["id"], "use": table["use"], "source": table["source"], "analyte": canon,
            "fraction": fraction, "basis": basis, "duration": str(e.get("duration") or ""),
            "value_ug_L": np.nan, "hf_m": np.nan, "hf_b": np.nan, "hf_cf": np.nan,
@@ -155,10 +117,12 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
            "hardness_max": np.nan, "note": str(e.get("note") or ""),
            "effective_from": _date(e.get("effective_from"), label, "effective_from"),
            "effective_to": _date(e.get("effective_to"), label, "effective_to"),
-           "unit_factor": factor}
+           "unit_factor": factor, "form_kind": given[0], "form": spec,
+           "inputs": ",".join(spec["inputs"]) if spec else ("hardness" if has_f else "")}
+    row.update(scope.parse_scope(e.get("scope"), label))
     if has_v:
         row["value_ug_L"] = units.clean_decimal(np.array([_number(e["value"], label, "value") * factor]))[0]
-    else:
+    elif has_f:
         f = e["hardness_formula"]
         if not isinstance(f, dict):
             raise LimitTableError(f"{label}: key 'hardness_formula' must be a mapping with m, b, cf")
@@ -181,7 +145,7 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
             if lo > hi:
                 raise LimitTableError(f"{label}: key 'hardness_range': min {lo} is above max {hi}")
             row["hardness_min"], row["hardness_max"] = lo, hi
-    if has_v and "hardness_range" in e:
+    if not has_f and "hardness_range" in e:
         raise LimitTableError(f"{label}: key 'hardness_range' only applies with 'hardness_formula'")
     if pd.notna(row["effective_from"]) and pd.notna(row["effective_to"]) and row["effective_to"] < row["effective_from"]:
         raise LimitTableError(f"{label}: key 'effective_to' is before 'effective_from'")
@@ -213,7 +177,7 @@ def _check_overlaps(entries: pd.DataFrame, name: str) -> None:
         return
     lo = pd.to_datetime(entries["effective_from"]).astype("datetime64[ns]").fillna(pd.Timestamp.min)
     hi = pd.to_datetime(entries["effective_to"]).astype("datetime64[ns]").fillna(pd.Timestamp.max)
-    keys = ["analyte", "fraction", "basis", "duration"]
+    keys = ["analyte", "fraction", "basis", "duration", "scope"]
     for _, g in entries.assign(_lo=lo, _hi=hi).groupby(keys, sort=False):  # few groups per table
         if len(g) < 2:
             continue
@@ -224,8 +188,22 @@ def _check_overlaps(entries: pd.DataFrame, name: str) -> None:
             r = g.iloc[j]
             raise LimitTableError(
                 f"{name}: entry {r['entry_id'].rsplit(':', 1)[1]} ({r['analyte']}, {r['fraction']}"
-                f"{', ' + r['duration'] if r['duration'] else ''}): in force on the same days as another "
+                f"{', ' + r['duration'] if r['duration'] else ''}{', ' + r['scope'] if r['scope'] else ''}): "
+                f"in force on the same days as another "
                 f"entry; set effective_from/effective_to so that one entry applies on each date")
+
+
+def _table_dates(row: dict, table: dict, label: str) -> None:
+    """An entry is in force only while its table is: the table's dates bound the entry's."""
+    t_lo, t_hi = table["effective_from"], table["effective_to"]
+    if pd.notna(t_lo):
+        if pd.notna(row["effective_to"]) and row["effective_to"] < t_lo:
+            raise LimitTableError(f"{label}: key 'effective_to' is before the table's effective_from")
+        row["effective_from"] = t_lo if pd.isna(row["effective_from"]) else max(row["effective_from"], t_lo)
+    if pd.notna(t_hi):
+        if pd.notna(row["effective_from"]) and row["effective_from"] > t_hi:
+            raise LimitTableError(f"{label}: key 'effective_from' is after the table's effective_to")
+        row["effective_to"] = t_hi if pd.isna(row["effective_to"]) else min(row["effective_to"], t_hi)
 
 
 def load_table(path: str | Path) -> tuple[dict, list[dict]]:
@@ -268,7 +246,10 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
         raise LimitTableError(f"{name}: key 'entries' must be a list")
     table = {"table_id": str(data["id"]), "name": str(data["name"]), "source": " ".join(str(data["source"]).split()),
              "url": str(data.get("url") or ""), "use": str(data["use"]).strip().lower(), "unit": str(data["unit"]),
-             "notes": str(data.get("notes") or "").strip(), "path": str(p), "settings": settings}
+             "notes": str(data.get("notes") or "").strip(), "path": str(p), "settings": settings,
+             "effective_from": _date(data.get("effective_from"), name, "effective_from"),
+             "effective_to": _date(data.get("effective_to"), name, "effective_to"),
+             "default_scope": scope.parse_default_scope(data.get("default_scope"), name)}
     tctx = {"id": table["table_id"], "use": table["use"], "source": table["source"]}
     rows = []
     texts = _value_texts(p.read_text(encoding="utf-8"))
@@ -276,6 +257,7 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
         r = _parse_entry(e, i, name, tctx, factor)
         r["entry_id"] = f"{table['table_id']}:{i}"
         r["value_text"] = texts[i - 1] if i <= len(texts) else None
+        _table_dates(r, table, f"{name}: entry {i} ({r['analyte']})")
         rows.append(r)
     _check_overlaps(pd.DataFrame(rows), name)
     for check in TABLE_CHECKS:
@@ -317,20 +299,3 @@ def load_limits(path: str | Path | list) -> LimitSet:
     for c in ("effective_from", "effective_to"):
         edf[c] = pd.to_datetime(edf[c]).astype("datetime64[ns]")
     return LimitSet(tdf, edf)
-
-
-def is_formula(entries: pd.DataFrame) -> np.ndarray:
-    """True for entries whose limit depends on hardness."""
-    return ~np.isnan(entries["hf_m"].to_numpy(dtype=float))
-
-
-def evaluate(entries: pd.DataFrame, hardness_mg_L) -> np.ndarray:
-    """Limit in µg/L for entries (aligned with ``hardness_mg_L``): fixed values or formulas."""
-    fixed = entries["value_ug_L"].to_numpy(dtype=float)
-    formula = hardness_formula_limit(
-        entries["hf_m"].to_numpy(float), entries["hf_b"].to_numpy(float), entries["hf_cf"].to_numpy(float),
-        entries["hf_cf_intercept"].to_numpy(float), entries["hf_cf_ln_slope"].to_numpy(float),
-        hardness_mg_L, entries["hardness_min"].to_numpy(float), entries["hardness_max"].to_numpy(float),
-    ) * entries["unit_factor"].to_numpy(float)
-    return np.where(is_formula(entries), formula, fixed)
-

@@ -14,10 +14,13 @@ class LimitTableError(ValueError):
 
 
 TABLE_KEYS_REQUIRED = ("id", "name", "source", "use", "unit", "entries")
-TABLE_KEYS_OPTIONAL = ("url", "notes", "settings")
+TABLE_KEYS_OPTIONAL = ("url", "notes", "settings", "effective_from", "effective_to", "default_scope")
 ENTRY_KEYS_REQUIRED = ("analyte", "fraction")
-ENTRY_KEYS_OPTIONAL = ("value", "hardness_formula", "hardness_range", "basis", "duration",
-                       "effective_from", "effective_to", "note")
+#: Keys that each give an entry's limit (exactly one per entry): a fixed value, the US EPA hardness
+#: formula, or a computed form of limits/forms.py.
+VALUE_KEYS = ("value", "hardness_formula", "formula", "power_law", "steps", "lookup")
+ENTRY_KEYS_OPTIONAL = VALUE_KEYS + ("hardness_range", "valid_range", "outside_range", "unknown_input",
+                                    "basis", "duration", "effective_from", "effective_to", "note", "scope")
 FORMULA_KEYS = ("m", "b", "cf")
 CF_KEYS = ("intercept", "ln_hardness")
 FRACTIONS = ("total", "dissolved")
@@ -38,16 +41,34 @@ NONDETECT_RULES = ("zero", "half_dl", "dl", "kaplan_meier")
 #: Monitoring periods of a percentile basis.
 PERIODS = ("calendar_year", "half_year", "quarter", "month")
 #: Percentile readings (screening/percentiles.PERCENTILE_METHODS maps each to its procedure).
-PERCENTILE_METHOD_NAMES = ("epa_lcr", "nearest_rank", "linear", "hazen", "weibull")
+PERCENTILE_METHOD_NAMES = ("epa_lcr", "epa_lcr_next_whole", "nearest_rank", "linear", "hazen", "weibull")
+#: What ``infrequent_basis`` may say: where a point is sampled once a year or less, each single
+#: result decides instead of the running annual mean (40 CFR 141.23(i)(2)).
+INFREQUENT_BASES = ("single_sample",)
+
+#: Site attributes an entry may be scoped by (``scope:``), with the values each may take; the
+#: sites file has a column of the same name. A site without the attribute gets every entry (or the
+#: table's ``default_scope``). Sources of the words: lotic/lentic, US EPA selenium criterion 2016
+#: (EPA 822-R-16-006); tap / entry point / source / well / distribution, 40 CFR 141.2 and
+#: 141.23(a) sampling points, 141.86 (tap samples); inland / other surface waters, Directive
+#: 2008/105/EC Annex I; species protection levels 99/95/90/80 %, ANZG (2018).
+SCOPE_ATTRIBUTES: dict[str, tuple[str, ...]] = {
+    "water_body_type": ("lotic", "lentic"),
+    "sampling_point_type": ("tap", "entry_point", "distribution", "source", "well"),
+    "water_category": ("inland", "other"),
+    "protection_level": ("99", "95", "90", "80"),
+}
 
 #: Table settings and the values each may take.
 SETTINGS: dict[str, tuple[str, ...]] = {
     "rounding": ROUNDING_CHOICES,
+    "criteria_significant_figures": (),  # a whole number: computed criteria are rounded to it
     "nondetect_rule": NONDETECT_RULES,
     "percentile_method": PERCENTILE_METHOD_NAMES,
 }
 #: Entry keys beyond the plain ones: rounding and percentile bases.
-EXTRA_ENTRY_KEYS: tuple[str, ...] = ("significant_figures", "percentile", "period", "percentile_method")
+EXTRA_ENTRY_KEYS: tuple[str, ...] = ("significant_figures", "percentile", "period", "percentile_method",
+                                      "infrequent_basis")
 
 
 def check_significant_figures(table: dict, rows: list[dict], name: str) -> None:
@@ -84,9 +105,29 @@ def check_period_keys(table: dict, rows: list[dict], name: str) -> None:
             raise LimitTableError(
                 f"{label}: key 'percentile_method': state one of {', '.join(PERCENTILE_METHOD_NAMES)} "
                 f"(on the entry or in the table settings)")
-        if method == "epa_lcr" and float(p) != 90.0:
+        if method.startswith("epa_lcr") and float(p) != 90.0:
             raise LimitTableError(f"{label}: key 'percentile_method': epa_lcr is defined for the 90th percentile only")
 
 
+def check_criteria_rounding(table: dict, rows: list[dict], name: str) -> None:
+    """Load-time check of the setting ``criteria_significant_figures`` (a whole number >= 1)."""
+    s = (table.get("settings") or {}).get("criteria_significant_figures")
+    if s is not None and (isinstance(s, bool) or not isinstance(s, int) or s < 1):
+        raise LimitTableError(f"{name}: settings: key 'criteria_significant_figures': '{s}' must be a whole number >= 1")
+
+
+def check_infrequent_basis(table: dict, rows: list[dict], name: str) -> None:
+    """``infrequent_basis`` only on running-annual-mean entries, and only ``single_sample``."""
+    for i, r in enumerate(rows, start=1):
+        v = r.get("infrequent_basis")
+        if v is None:
+            continue
+        label = f"{name}: entry {i} ({r['analyte']})"
+        if r["basis"] != "running_annual_mean":
+            raise LimitTableError(f"{label}: key 'infrequent_basis' only applies with basis 'running_annual_mean'")
+        if v not in INFREQUENT_BASES:
+            raise LimitTableError(f"{label}: key 'infrequent_basis': '{v}' is not one of {', '.join(INFREQUENT_BASES)}")
+
+
 #: Checks run on each loaded table, ``check(table, rows, file_name)``, in this order.
-TABLE_CHECKS = (check_significant_figures, check_period_keys)
+TABLE_CHECKS = (check_significant_figures, check_period_keys, check_criteria_rounding, check_infrequent_basis)

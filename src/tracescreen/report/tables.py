@@ -172,28 +172,19 @@ def limit_tables_used(data: ReportData, screening: pd.DataFrame) -> tuple[pd.Dat
     Returns
     -------
     (tables, entries) : tuple of pandas.DataFrame
-        ``entries`` has a ``limit`` column with the value in µg/L or the hardness formula.
+        ``entries`` has a ``limit`` column: the limit in words (:func:`tracescreen.limits.words.entry_words`:
+        a value in µg/L, the hardness formula, or a computed form with its ranges and scope).
     """
     used = set(screening["limit_table"].dropna().astype(str))
     tables = data.limit_tables[data.limit_tables["table_id"].isin(used)]
     tables = tables[[c for c in ("table_id", "name", "source", "url", "use", "unit", "notes")
                      if c in tables.columns]].reset_index(drop=True)
     ent = data.limit_entries[data.limit_entries["table_id"].isin(used)].copy()
-    value = "value_ug_L" in ent.columns and ent["value_ug_L"].notna()
-    formula = pd.Series("", index=ent.index, dtype=object)
-    if "hf_m" in ent.columns:
-        cf = format_number(ent["hf_cf"]) if "hf_cf" in ent.columns else pd.Series("", index=ent.index)
-        if "hf_cf_intercept" in ent.columns:
-            cf = cf.where(cf.ne(""), "(" + format_number(ent["hf_cf_intercept"], 7) + " + "
-                          + format_number(ent["hf_cf_ln_slope"], 7) + "·ln H)")
-        formula = ("exp(" + format_number(ent["hf_m"], 5) + "·ln H + " + format_number(ent["hf_b"], 5)
-                   + ") × " + cf + " [H: hardness mg/L CaCO3")
-        if "hardness_min" in ent.columns:
-            formula = formula + np.where(ent["hardness_min"].notna() | ent["hardness_max"].notna(),
-                                         ", bounded " + format_number(ent["hardness_min"]) + " to "
-                                         + format_number(ent["hardness_max"]), "")
-        formula = formula + "]"
-    ent["limit"] = np.where(value, format_number(ent["value_ug_L"], 6) + " µg/L", formula)
+    from tracescreen.limits.words import entry_words  # the same words as the limits command and dashboard
+
+    units = data.limit_tables.set_index("table_id")["unit"] if "unit" in data.limit_tables else {}
+    ent["limit"] = [entry_words(e, units.get(e.get("table_id")) if len(units) else None)
+                    for e in ent.to_dict("records")]  # one per table entry, not per result
     cols = [c for c in ("table_id", "analyte", "fraction", "limit", "duration", "basis",
                         "effective_from", "effective_to", "note") if c in ent.columns]
     return tables, ent[cols].reset_index(drop=True)

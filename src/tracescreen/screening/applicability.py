@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from tracescreen.io.sites import site_uses
+from tracescreen.limits import scope
 from tracescreen.screening import fractions
 
 #: int64 day number of a missing date (NaT)
@@ -58,6 +59,7 @@ def applicable_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) 
         su = site_uses(sites)
     ent = entries.iloc[e_idx][["use", "analyte", "fraction"]].assign(_e=e_idx)
     pairs = su.drop_duplicates().merge(ent, on="use")
+    pairs = pairs[scope.keep_pairs(pairs, entries, limits.tables, sites)]  # entries scoped by site attributes
     p_site = _codes(pairs["site_id"], pd.Index(site_cat))
     p_ana = _codes(pairs["analyte"], pd.Index(ana_cat))
     p_fr = _codes(pairs["fraction"], pd.Index(fr_cat))

@@ -1,10 +1,18 @@
 """Percentiles of many groups at once, by the methods limit tables name, and non-detect substitution.
 
 Percentile methods (:data:`PERCENTILE_METHODS`): ``epa_lcr`` ([CFR40-141]_ 141.80(c)(3): rank the n
-results, take the one numbered 0.9 n, rounded to the nearest whole number; with exactly 5 results
-the mean of the two highest; with fewer, the highest), ``nearest_rank`` (smallest value with at
+results, take the one numbered 0.9 n; the rule states no rounding for a non-integer 0.9 n, and this
+reading rounds it to the nearest whole number, halves up, as a state worksheet does [LCR90-worksheet]_;
+with exactly 5 results the mean of the two highest; with fewer, the highest), ``epa_lcr_next_whole``
+(the same, with 0.9 n raised to the next whole number: the other published reading, nearest rank),
+``nearest_rank`` (smallest value with at
 least p % of results at or below it; [HyndmanFan1996]_ type 1), ``linear`` (type 7), ``hazen``
 (type 5), ``weibull`` (type 6).
+
+.. [LCR90-worksheet] "Lead and Copper 90th Percentile Examples", a state drinking-water programme
+   worksheet (stored copy: studylib.net doc 9493621): "If this is not a whole number, round to the
+   nearest whole number. Round down ... if the decimal is 0.4 or less and round up ... if the decimal
+   is 0.5 or higher."
 """
 
 from __future__ import annotations
@@ -14,8 +22,8 @@ import numpy as np
 from tracescreen.limits.schema import PERCENTILE_METHOD_NAMES
 
 #: method name -> numpy.quantile method (None: the rule's own procedure)
-PERCENTILE_METHODS = {"epa_lcr": None, "nearest_rank": "inverted_cdf", "linear": "linear",
-                      "hazen": "hazen", "weibull": "weibull"}
+PERCENTILE_METHODS = {"epa_lcr": None, "epa_lcr_next_whole": None, "nearest_rank": "inverted_cdf",
+                      "linear": "linear", "hazen": "hazen", "weibull": "weibull"}
 assert tuple(PERCENTILE_METHODS) == PERCENTILE_METHOD_NAMES, "schema and percentiles disagree on percentile methods"
 
 
@@ -67,6 +75,8 @@ def group_percentiles(values, group, p, method) -> np.ndarray:
     candidates = {
         "epa_lcr": lambda: np.where(n < 5, at(n - 1), np.where(
             n == 5, (at(n - 1) + at(n - 2)) / 2.0, at(np.floor(q * n + 0.5 + 1e-9).astype(np.int64) - 1))),
+        "epa_lcr_next_whole": lambda: np.where(n < 5, at(n - 1), np.where(
+            n == 5, (at(n - 1) + at(n - 2)) / 2.0, at(np.ceil(q * n - 1e-9).astype(np.int64) - 1))),
         "nearest_rank": lambda: at(np.ceil(q * n - 1e-9).astype(np.int64) - 1),
         "linear": lambda: interpolate((n - 1) * q),
         "hazen": lambda: interpolate(n * q + 0.5 - 1.0),

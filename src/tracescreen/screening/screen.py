@@ -19,8 +19,10 @@ import pandas as pd
 
 from tracescreen._internal.frames import entry_attribute, take_column
 from tracescreen._internal.memory import release_unused
-from tracescreen.limits import load as limits_mod
-from tracescreen.screening import fractions, periods, rounding
+from tracescreen.limits import forms, load as limits_mod
+from tracescreen.limits.in_force import round_criteria
+from tracescreen.screening import fractions, frequency, periods, rounding
+from tracescreen.screening.inputs import USED_COLUMNS, sample_inputs
 from tracescreen.screening.applicability import applicable_pairs, cross_fraction_pairs, in_force
 from tracescreen.screening.hardness import sample_hardness
 from tracescreen.screening.status import above_range, status_codes
@@ -32,6 +34,7 @@ SCREENING_COLUMNS = [
     "hardness_origin", "limit_table", "use", "duration", "basis", "limit_ug_L", "ratio", "status",
     "source", "note", "entry_id", "lab", "batch", "parent_sample_id", "analysed_at", "uncertainty_ug_L",
     "file", "sheet", "row", "compared_value_ug_L", "period_id", "period_value_ug_L", "limit_fraction",
+    "ph_used", "doc_used_mg_L", "temperature_used_C", "limit_scope",
 ]
 
 
@@ -83,10 +86,14 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     r_pos, e_pos, cross = r_pos[on], e_pos[on], cross[on]
 
     H = hard["hardness_used_mg_L"].to_numpy()[r_pos]
+    chem = sample_inputs(results, sites)
     limit = num["value_ug_L"].to_numpy(dtype=float)[e_pos]
-    formula = limits_mod.is_formula(num)[e_pos]
-    fi = np.flatnonzero(formula)  # hardness-dependent pairs: the formula is evaluated for these only
-    limit[fi] = limits_mod.evaluate(num.iloc[e_pos[fi]], H[fi])
+    formula = limits_mod.is_formula(entries)[e_pos]
+    fi = np.flatnonzero(formula)  # computed limits: evaluated for these pairs only
+    form_remark = np.zeros(len(r_pos), dtype=np.int64)
+    pair_inputs = {"hardness": H[fi], **{k: v[r_pos[fi]] for k, (v, _) in chem.items()}}
+    limit[fi], form_remark[fi] = limits_mod.evaluate_pairs(entries, e_pos[fi], pair_inputs)
+    limit[fi] = round_criteria(limit[fi], e_pos[fi], entries, limits.tables)
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
@@ -96,8 +103,9 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     if cross.any():  # cross-fraction pairs stay only where they decide (screening/fractions.py)
         e_frac = entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos]
         stay = ~cross | fractions.deciding(status, e_frac)
-        r_pos, e_pos, cross, H, limit, status = (a[stay] for a in (r_pos, e_pos, cross, H, limit, status))
-        formula = limits_mod.is_formula(num)[e_pos]
+        r_pos, e_pos, cross, H, limit, status, form_remark = (
+            a[stay] for a in (r_pos, e_pos, cross, H, limit, status, form_remark))
+        formula = limits_mod.is_formula(entries)[e_pos]
         fi = np.flatnonzero(formula)
     ent = num.iloc[e_pos[fi]]
 
@@ -113,11 +121,14 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         h = H[fi]
         remark[fi] = np.select([np.isnan(h), h > ent["hardness_max"].to_numpy(float),
                                 h < ent["hardness_min"].to_numpy(float)], [4, 3, 2], 1)
+    has_form = entries["form"].notna().to_numpy(dtype=bool)[e_pos] if "form" in entries else np.zeros(len(e_pos), bool)
+    remark[has_form] = len(HARDNESS_REMARKS) + form_remark[has_form]  # limits/forms.py remarks follow
     n_lone_kinds = 2 + len(QC_NOTES)
     qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
                          np.where(had_candidate[lone], 0, 1))
-    note_key = np.concatenate([(e_pos * len(HARDNESS_REMARKS) + remark) * 2 + cross, -1 - lone_kind])
+    n_remarks = len(HARDNESS_REMARKS) + len(forms.REMARKS)
+    note_key = np.concatenate([(e_pos * n_remarks + remark) * 2 + cross, -1 - lone_kind])
 
     rp = np.concatenate([r_pos, lone])
     order = np.argsort(rp, kind="stable")  # back to input order; a result's entries stay in table order
@@ -140,7 +151,12 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     cols["status"] = pd.Categorical.from_codes(np.concatenate([status, lone_status])[order].astype(np.int8),
                                                categories=list(STATUSES))
     cols["note"] = _notes(note_key[order], entries["note"].astype(str).to_numpy(dtype=object), n_lone_kinds,
-                          entries["fraction"].astype(str).to_numpy(dtype=object))
+                          entries["fraction"].astype(str).to_numpy(dtype=object),
+                          entries["inputs"].astype(str).to_numpy(dtype=object) if "inputs" in entries else None)
+    for k, c in USED_COLUMNS.items():
+        cols[c] = chem[k][0][rp]
+    cols["limit_scope"] = entry_attribute(entries["scope"] if "scope" in entries else pd.Series([""] * len(entries)),
+                                          e_all)
     cols["limit_fraction"] = entry_attribute(entries["fraction"], e_all)
     cols["compared_value_ug_L"] = np.full(len(rp), np.nan)
     cols["period_id"] = pd.arrays.IntegerArray(np.zeros(len(rp), dtype=np.int64),  # periods.py fills period rows
@@ -150,6 +166,7 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         cols["qualifier_meaning"] = pd.Categorical(np.full(len(rp), "", dtype=object))
     # copy=False: one block per column, nothing copied or consolidated (a screening table is large)
     out = pd.DataFrame({c: cols[c] for c in SCREENING_COLUMNS}, copy=False)
+    out = frequency.apply_sampling_frequency(out, limits)  # yearly-or-less points: each result decides
     out = rounding.apply_rounding(out, limits)  # tables that compare after rounding
     out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
     release_unused()
@@ -165,10 +182,9 @@ HARDNESS_REMARKS = ("", "hardness-dependent limit",
 LONE_NOTES = ("no limit entry in force on the sampling date",
               "no limit for this analyte and fraction in the tables for this site's uses")
 QC_NOTES = ("field_duplicate", "field_blank", "lab_blank")
-
-
-def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray) -> pd.Categorical:
-    """Note text per row from its key (entry x hardness remark x cross-fraction, or a no-limit /
+def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray,
+           entry_inputs: np.ndarray | None = None) -> pd.Categorical:
+    """Note text per row from its key (entry x limit remark x cross-fraction, or a no-limit /
     QC kind), built per distinct key."""
     inv, uniq = pd.factorize(keys)
     text = []
@@ -179,9 +195,14 @@ def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_f
                         f"{QC_NOTES[kind - 2]}: quality-control sample, not screened against limits")
             continue
         e_r, x = divmod(int(k), 2)
-        e, r = divmod(e_r, len(HARDNESS_REMARKS))
+        e, r = divmod(e_r, len(HARDNESS_REMARKS) + len(forms.REMARKS))
+        if r < len(HARDNESS_REMARKS):
+            remark = HARDNESS_REMARKS[r]
+        else:
+            used = ", ".join(forms.INPUTS[i][0] for i in str(entry_inputs[e]).split(",") if i)
+            remark = forms.REMARKS[r - len(HARDNESS_REMARKS)] or (f"limit computed from {used}" if used else "")
         parts = [p for p in (fractions.CROSS_NOTES.get(entry_fractions[e], "") if x else "",
-                             HARDNESS_REMARKS[r], entry_notes[e]) if p]
+                             remark, entry_notes[e]) if p]
         text.append("; ".join(parts))
     cats, inv2 = np.unique(np.array(text, dtype=object).astype(str), return_inverse=True)
     return pd.Categorical.from_codes(inv2[inv], categories=cats)

@@ -2,8 +2,9 @@
 
 Each series is resampled with replacement ``n_boot`` times; the KM mean (Efron correction) of
 every resample comes from how often each value was taken, over the series sorted once
-(:func:`km_means_of_resamples`), so no resample is sorted. Resamples are drawn in a fixed order
-from a seeded generator, so the limits are reproducible.
+(:func:`km_means_of_resamples`), so no resample is sorted. Each series' resamples come from its
+own generator seeded with the run's seed and the series' identity, so the limits are reproducible
+and a series' limit does not change when other series are in the same run.
 
 References
 ----------
@@ -20,8 +21,16 @@ from tracescreen.statistics.series import as_series, chunks
 from tracescreen._internal.parallel import ordered_map, workers
 
 
+def series_seed_keys(table) -> np.ndarray:
+    """A stable 64-bit key per series from its identifying columns (e.g. ``site_id, analyte,
+    fraction``), so that a series' resamples depend on the seed and the series only."""
+    import pandas as pd
+
+    return pd.util.hash_pandas_object(table.astype(str), index=False).to_numpy(np.uint64)
+
+
 def bootstrap_ucl_km_grouped(
-    values, nondetect, codes, n_groups, *, level=0.95, n_boot=1000, seed=20240601
+    values, nondetect, codes, n_groups, *, level=0.95, n_boot=1000, seed=20240601, keys=None
 ) -> np.ndarray:
     """Upper confidence limit on the Kaplan-Meier mean by a seeded percentile bootstrap.
 
@@ -29,6 +38,13 @@ def bootstrap_ucl_km_grouped(
     of every resample is computed in one vectorised pass, and the ``level`` quantile of those
     means is the one-sided upper confidence limit [µg/L] (Efron & Tibshirani 1993, ch. 13;
     Helsel 2012, sec. 7.4, bootstrap confidence intervals for the KM mean).
+
+    Parameters
+    ----------
+    keys : array of uint64, shape (n_groups,), optional
+        A stable identity per series (:func:`series_seed_keys`). Each series' resamples come from
+        its own generator seeded with ``(seed, key)``, so its limit does not change when other
+        series are added to or removed from the run. Default: the group codes.
 
     Returns
     -------
@@ -42,17 +58,22 @@ def bootstrap_ucl_km_grouped(
        2nd ed. Wiley.
     """
     x, nd = as_series(values, nondetect)
-    rng = np.random.default_rng(seed)
+    keys = np.arange(n_groups, dtype=np.uint64) if keys is None else np.asarray(keys, dtype=np.uint64)
     ucl = np.full(n_groups, np.nan)
 
     def one(chunk, pick):
         means = km_means_of_resamples(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, pick)
         ucl[chunk.groups] = np.quantile(means, level, axis=1)
 
-    def drawn():  # resamples drawn in chunk order: the same numbers for a seed however many cores
+    def drawn():  # each series from its own generator: the same numbers whatever else is in the run
         for chunk in chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
             n = chunk.valid.sum(axis=1)
-            yield chunk, (rng.random((len(n), n_boot, chunk.valid.shape[1])) * n[:, None, None]).astype(np.int64)
+            pick = np.zeros((len(n), n_boot, chunk.valid.shape[1]), np.int64)
+            for i, (grp, size) in enumerate(zip(chunk.groups, n)):  # one generator per series
+                k = int(keys[grp])
+                rng = np.random.default_rng([seed, k & 0xFFFFFFFF, k >> 32])
+                pick[i, :, :size] = (rng.random((n_boot, size)) * size).astype(np.int64)
+            yield chunk, pick
 
     for _ in ordered_map(one, drawn(), workers(2)):  # chunks on worker threads, two at a time
         pass

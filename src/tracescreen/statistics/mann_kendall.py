@@ -181,7 +181,9 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     pairs = (n_s * (n_s - 1) / 2).sum(axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(s > 0, (s - 1) / np.sqrt(var_s), np.where(s < 0, (s + 1) / np.sqrt(var_s), 0.0))
-        z = np.where(var_s > 0, z, np.nan)
+        # every pair tied (all values equal, or every result <DL): S = 0 and Var(S) = 0; the
+        # reference libraries report z = 0, p = 1 (no trend), not a blank
+        z = np.where(var_s > 0, z, np.where(pairs > 0, 0.0, np.nan))
         tau = s / pairs
         # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs
         usable = (dt > 0) & ~(nd[:, i] & nd[:, j])

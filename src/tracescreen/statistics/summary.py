@@ -96,12 +96,14 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
                                  max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
     st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
+    keys = bootstrap.series_seed_keys(table[KEYS])
     if method in censored.SUBSTITUTION:
         ucl = bootstrap.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
-                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed)
+                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed,
+                                                keys=keys)
         ucl_method = f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
     else:
-        ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed)
+        ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed, keys=keys)
         ucl_method = f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
     out = table.copy()
     out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd

@@ -188,6 +188,8 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (out["n_nondetect"].to_numpy() > 0, "non-detects: pairs of unknown order counted as ties "
                                             "(censored Kendall, Helsel 2012)"),
         (n_dl > 1, "several detection limits in the record"),
+        ((out["var_s"].to_numpy(float) == 0) & (out["n"].to_numpy() >= 2),
+         "all values tied (e.g. every result below the same detection limit): S = 0, z = 0, p = 1"),
         (rising & (line_last >= limit), "trend line already at or above the lowest limit ("
          + fmt + " µg/L)"),
         (far, f"at this slope the line would reach the lowest limit more than {horizon_years:g} "

@@ -247,7 +247,8 @@ class Workspace(Importing):
 
 #: Columns added to the stored results after workspaces were first written, with the value an
 #: older stored file gets for them when read (they are derived from stored columns, never hashed).
-_ADDED_COLUMNS = {"qualifier_meaning": "", "quantitation_limit_ug_L": float("nan")}
+_ADDED_COLUMNS = {"qualifier_meaning": "", "ph": float("nan"), "doc_mg_L": float("nan"), "temperature_C": float("nan"),
+                  "quantitation_limit_ug_L": float("nan")}
 
 
 def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
@@ -257,7 +258,7 @@ def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
     for c in columns:
         if c not in have:
             fill = _ADDED_COLUMNS[c]
-            col = pa.array([fill] * table.num_rows, type=pa.string()).dictionary_encode() if isinstance(fill, str) \
-                else pa.array(np.full(table.num_rows, fill), type=pa.float64())
-            table = table.append_column(c, col)
+            arr = (pa.array([fill] * table.num_rows, type=pa.string()).dictionary_encode() if isinstance(fill, str)
+                   else pa.array(np.full(table.num_rows, fill), type=pa.float64()))
+            table = table.append_column(c, arr)
     return table.select(columns)

@@ -54,14 +54,15 @@ def analyte_ranges(limits: pd.DataFrame, mdl: pd.DataFrame | None = None) -> pd.
     return out
 
 
-def check_results(results: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
-    """Retest rows (:data:`RETEST_COLUMNS`) for results outside their calibration or with
-    detection limits the calibration does not support."""
-    if results is None or results.empty or ranges.empty:
-        return empty_retest()
-    res = results[results["sample_type"].astype(str) != "lab_blank"].reset_index(drop=True)
-    an = res["analyte"].astype(str).to_numpy()
-    batch = res["batch"].astype(object).fillna("").astype(str).to_numpy() if "batch" in res else np.full(len(res), "")
+def calibration_of(rows: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
+    """For each row (``analyte``, ``batch``): the range of its standards and the supported
+    detection limit -- of the curve whose run is the row's batch, else of all curves of the analyte.
+
+    Returns ``lowest_standard_ug_L, highest_standard_ug_L, supported_dl_ug_L, supported_from``,
+    aligned with ``rows`` (positional index).
+    """
+    an = rows["analyte"].astype(str).to_numpy()
+    batch = rows["batch"].astype(object).fillna("").astype(str).to_numpy() if "batch" in rows else np.full(len(rows), "")
     by_run = ranges[ranges["run"] != ""].set_index(["analyte", "run"])
     by_an = ranges[ranges["run"] == ""].set_index("analyte")
     k_run = pd.MultiIndex.from_arrays([an, batch])
@@ -70,6 +71,33 @@ def check_results(results: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
     r = by_an.reindex(an)[cols].reset_index(drop=True)
     if hit.any():
         r.loc[hit, cols] = by_run.reindex(k_run[hit])[cols].to_numpy()
+    return r
+
+
+def annotate_dl_too_high(retest: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
+    """Add to each ``dl_too_high`` row what the calibration supports: a reported detection limit
+    above the limit needed while the calibration supports one at or below it is one the laboratory
+    can lower without a new method."""
+    m = (retest["reason"] == "dl_too_high").to_numpy()
+    if not m.any() or ranges.empty:
+        return retest
+    sup = calibration_of(retest[m].reset_index(drop=True), ranges)
+    s = sup["supported_dl_ug_L"].to_numpy(float)
+    note = np.where(np.isfinite(s), "; the calibration supports a detection limit of " + fmt(s) + " µg/L (" +
+                    sup["supported_from"].astype(str).to_numpy() + ")", "")
+    out = retest.copy()
+    out.loc[m, "detail"] = out.loc[m, "detail"].astype(str).to_numpy() + note
+    return out
+
+
+def check_results(results: pd.DataFrame, ranges: pd.DataFrame) -> pd.DataFrame:
+    """Retest rows (:data:`RETEST_COLUMNS`) for results outside their calibration or with
+    detection limits the calibration does not support."""
+    if results is None or results.empty or ranges.empty:
+        return empty_retest()
+    res = results[results["sample_type"].astype(str) != "lab_blank"].reset_index(drop=True)
+    r = calibration_of(res, ranges)
+    cols = list(r.columns)
     det = res["detected"].to_numpy(bool)
     x = res["value_ug_L"].to_numpy(float)
     if "dilution" in res.columns:

@@ -44,10 +44,20 @@ REASON_OF = {
 _OPTIONAL_KEYS = ("prep_batch", "run", "method")
 
 
-def _text(frame: pd.DataFrame, col: str) -> np.ndarray:
+def _coded(frame: pd.DataFrame, col: str) -> tuple[np.ndarray, dict[str, int]]:
+    """Integer codes of a text column (-1 where empty or missing) and the code of each text.
+
+    The results' text columns are categoricals, so this is one factorize of the categories, not a
+    pass over a million strings."""
     if col not in frame.columns:
-        return np.full(len(frame), "", dtype=object)
-    return frame[col].astype(object).fillna("").astype(str).to_numpy(dtype=object)
+        return np.full(len(frame), -1, dtype=np.int64), {}
+    codes, uniq = pd.factorize(frame[col])
+    lookup = {str(u): i for i, u in enumerate(uniq)}
+    empty = lookup.pop("", None)
+    codes = codes.astype(np.int64)
+    if empty is not None:
+        codes[codes == empty] = -1
+    return codes, lookup
 
 
 def _neighbour_times(v: pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
@@ -94,34 +104,39 @@ def link(verdicts: pd.DataFrame, results: pd.DataFrame, windows: dict[str, Windo
     if not acts.any() or results is None or results.empty:
         return pd.DataFrame({c: pd.Series(dtype=float if c == "nondetect_limit_ug_L" else
                                           "int64" if c.endswith("_pos") else object) for c in LINK_COLUMNS})
-    batch, analyte, lab = _text(results, "batch"), _text(results, "analyte"), _text(results, "lab")
-    sample_id = _text(results, "sample_id")
-    not_blank = _text(results, "sample_type") != "lab_blank"
-    groups = pd.DataFrame({"b": batch, "a": analyte}).groupby(["b", "a"], sort=False).indices
-    by_sample = pd.Series(np.arange(len(results))).groupby(sample_id, sort=False).indices \
-        if (v.loc[acts, "scope"] == "sample").any() else {}
-    frac = _text(results, "fraction")
-    opt = {k: _text(results, k) for k in _OPTIONAL_KEYS if k in results.columns}
+    coded = {c: _coded(results, c) for c in ("batch", "analyte", "lab", "fraction", *_OPTIONAL_KEYS)}
+    not_blank = (results["sample_type"] != "lab_blank").to_numpy() if "sample_type" in results.columns \
+        else np.ones(len(results), dtype=bool)
+    groups = pd.Series(np.arange(len(results))).groupby([coded["batch"][0], coded["analyte"][0]], sort=False).indices
+    sample_codes, sample_lookup = _coded(results, "sample_id") if (v.loc[acts, "scope"] == "sample").any() \
+        else (np.zeros(0, np.int64), {})
+    by_sample = pd.Series(np.arange(len(results))).groupby(sample_codes, sort=False).indices if len(sample_codes) else {}
+
+    def code(col: str, text: str) -> int:
+        return -1 if text == "" else coded[col][1].get(text, -2)   # -2: a value no result has
     t_res = pd.to_datetime(results["analysed_at"]).to_numpy() if "analysed_at" in results.columns else None
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
     dl = results["detection_limit_ug_L"].to_numpy(dtype=float)
     censored = np.where(det, val, dl)
     pos_parts, ver_parts = [], []
+    arrays = {c: v[c].to_numpy(object) for c in ("scope", "parent_sample_id", "qc_sample_id", "batch", "analyte",
+                                                  "fraction", "lab", "element", *_OPTIONAL_KEYS)}
+    arrays["analysed_at"] = v["analysed_at"].to_numpy()
+    arrays["quantitation_limit_ug_L"] = v["quantitation_limit_ug_L"].to_numpy(float)
     for i in np.flatnonzero(acts):
-        r = v.iloc[i]
+        r = {c: a[i] for c, a in arrays.items()}
         if r["scope"] == "sample":
-            sid = r["parent_sample_id"] or r["qc_sample_id"]
+            sid = sample_lookup.get(r["parent_sample_id"] or r["qc_sample_id"], -2)
             pos = np.asarray(by_sample.get(sid, []), dtype=np.int64)
         else:
-            pos = np.asarray(groups.get((r["batch"], r["analyte"]), []), dtype=np.int64)
+            pos = np.asarray(groups.get((code("batch", r["batch"]), code("analyte", r["analyte"])), []), dtype=np.int64)
             if r["fraction"]:
-                pos = pos[frac[pos] == r["fraction"]]
-        if r["lab"]:
-            pos = pos[(lab[pos] == r["lab"]) | (lab[pos] == "")]
-        for k, arr in opt.items():
+                pos = pos[coded["fraction"][0][pos] == code("fraction", r["fraction"])]
+        for k in ("lab", *_OPTIONAL_KEYS):
             if r[k]:
-                pos = pos[(arr[pos] == r[k]) | (arr[pos] == "")]
+                arr = coded[k][0][pos]
+                pos = pos[(arr == code(k, r[k])) | (arr == -1)]
         pos = pos[not_blank[pos]]
         if r["scope"] == "bracket" and t_res is not None and not pd.isna(r["analysed_at"]):
             tr = t_res[pos]

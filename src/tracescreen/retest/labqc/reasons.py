@@ -11,6 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from tracescreen.retest.labqc.qualifiers import group_join
 from tracescreen.retest.rows import RETEST_COLUMNS, empty_retest
 
 REASONS = (
@@ -63,8 +64,8 @@ def _take(results: pd.DataFrame, pos: np.ndarray) -> pd.DataFrame:
             out[c] = np.full(len(pos), "", dtype=object)
         elif c == "sampled_at":
             out[c] = results[c].to_numpy()[pos]
-        else:
-            out[c] = results[c].astype(object).fillna("").astype(str).to_numpy(dtype=object)[pos]
+        else:   # the rows first, then text: never a whole million-row column
+            out[c] = results[c].take(pos).astype(object).fillna("").astype(str).to_numpy(dtype=object)
     return pd.DataFrame(out)
 
 
@@ -72,13 +73,15 @@ def retest_rows(results: pd.DataFrame, links: pd.DataFrame, missing_pos: np.ndar
     """Retest rows (:data:`RETEST_COLUMNS`) from the review's links (and results of batches without QC)."""
     parts = []
     if len(links):
-        text = links["element"] + " " + links["qualifier"] + ": " + links["rule"] + \
-            np.where(links["detail"] != "", " [" + links["detail"] + "]", "")
-        g = pd.DataFrame({"pos": links["result_pos"], "reason": links["reason"], "text": text}) \
-            .groupby(["pos", "reason"], sort=False)["text"].agg(lambda s: "; ".join(dict.fromkeys(s))).reset_index()
-        rows = _take(results, g["pos"].to_numpy())
-        rows["reason"] = g["reason"].to_numpy()
-        rows["detail"] = g["text"].to_numpy()
+        text = (links["element"] + " " + links["qualifier"] + ": " + links["rule"] +
+                np.where(links["detail"] != "", " [" + links["detail"] + "]", "")).to_numpy(object)
+        rank = links["reason"].map({r: i for i, r in enumerate(REASONS)}).to_numpy(np.int64)
+        code = links["result_pos"].to_numpy(np.int64) * len(REASONS) + rank
+        order = np.argsort(code, kind="stable")
+        codes, detail = group_join(code[order], text[order], "; ")
+        rows = _take(results, codes // len(REASONS))
+        rows["reason"] = np.asarray(REASONS, dtype=object)[codes % len(REASONS)]
+        rows["detail"] = detail
         parts.append(rows)
     if missing_pos is not None and len(missing_pos):
         rows = _take(results, np.asarray(missing_pos))

@@ -72,10 +72,10 @@ def _missing_qc(results: pd.DataFrame, qc: pd.DataFrame) -> np.ndarray:
     """Positions of non-blank results whose (lab) batch has no QC rows while other batches have."""
     if qc.empty or results.empty:
         return np.zeros(0, dtype=np.int64)
-    have = set(qc["batch"].astype(str))
-    batch = results["batch"].astype(object).fillna("").astype(str).to_numpy()
-    kind = results["sample_type"].astype(str).to_numpy() if "sample_type" in results.columns else np.full(len(batch), "")
-    miss = ~np.isin(batch, list(have)) & (kind != "lab_blank")
+    have = pd.unique(qc["batch"].astype(str))
+    miss = ~results["batch"].astype(object).fillna("").astype(str).isin(have).to_numpy()
+    if "sample_type" in results.columns:
+        miss &= (results["sample_type"] != "lab_blank").to_numpy()
     return np.flatnonzero(miss)
 
 
@@ -113,10 +113,7 @@ def review_lab_qc(results: pd.DataFrame, qc: pd.DataFrame, windows: dict[str, Wi
 def qualified_results(results: pd.DataFrame, combined: pd.DataFrame) -> pd.DataFrame:
     """Each accepted result with its review qualifier (:data:`QUALIFIED_COLUMNS`)."""
     n = len(results)
-    out = {}
-    for c in QUALIFIED_COLUMNS:
-        if c in results.columns:
-            out[c] = results[c].to_numpy()
+    out = {c: results[c] for c in QUALIFIED_COLUMNS if c in results.columns}   # kept as they are (categoricals)
     q = np.full(n, "", dtype=object)
     el = np.full(n, "", dtype=object)
     why = np.full(n, "", dtype=object)
@@ -124,7 +121,9 @@ def qualified_results(results: pd.DataFrame, combined: pd.DataFrame) -> pd.DataF
     pos = combined["result_pos"].to_numpy(dtype=np.int64)
     q[pos], el[pos], why[pos] = combined["lab_qc_qualifier"], combined["lab_qc_elements"], combined["lab_qc_reasons"]
     ndl[pos] = combined["nondetect_limit_ug_L"]
-    out.update({"lab_qc_qualifier": q, "lab_qc_elements": el, "lab_qc_reasons": why, "nondetect_limit_ug_L": ndl})
+    out.update({"lab_qc_qualifier": pd.Series(q, index=results.index), "lab_qc_elements": pd.Series(el, index=results.index),
+                "lab_qc_reasons": pd.Series(why, index=results.index),
+                "nondetect_limit_ug_L": pd.Series(ndl, index=results.index)})
     return pd.DataFrame({c: out[c] for c in QUALIFIED_COLUMNS if c in out}, copy=False)
 
 

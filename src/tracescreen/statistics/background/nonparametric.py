@@ -80,6 +80,7 @@ def choose_rank(n: int, plan: RetestPlan, r: int, target_alpha: float,
     return best
 
 
+@lru_cache(maxsize=1024)
 def background_needed(plan: RetestPlan, r: int, target_alpha: float, n_max: int = 2000) -> int:
     """Smallest background size whose maximum meets ``target_alpha`` under ``plan``
     (0 when even ``n_max`` does not)."""

@@ -249,21 +249,20 @@ def _detection_limit_notes(lim: pd.DataFrame, rows: pd.DataFrame) -> pd.DataFram
     look = lim["method"].isin(["double_quantification", "nonparametric"])
     if not look.any():
         return lim
-    bg = rows[rows["period"].isin(["background", "baseline"]) & rows["nondetect"]]
-    comp = rows[(rows["period"] == "compliance") & ~rows["nondetect"]]
-    for i in lim.index[look]:
-        s = lim.loc[i]
-        src = bg[(bg["analyte"] == s["analyte"]) & (bg["fraction"] == s["fraction"])]
-        src = src[src["well_group"] == s["well_group"]] if s["comparison"] == "interwell" else src[src["site_id"] == s["site_id"]]
-        if s["comparison"] == "interwell":
-            src = src[src["role"] == "background"]
-        if src.empty:
-            continue
-        low = src["value"].min()
-        c = comp[(comp["site_id"] == s["site_id"]) & (comp["analyte"] == s["analyte"]) & (comp["fraction"] == s["fraction"])]
-        below = int((c["value"] < low).sum())
-        if below:
-            lim.at[i, "limit_notes"] += (f"{below} compliance result(s) detected below the lowest background detection "
-                                         f"limit ({low:.3g} µg/L): a lower detection limit, not the water, may explain "
-                                         f"them; consider renewing background with the current method; ")
+    nd = rows[rows["nondetect"]]
+    inter = nd[(nd["period"] == "background") & (nd["role"] == "background")].groupby(
+        ["well_group"] + CONSTITUENT)["value"].min().rename("low_inter")
+    intra = nd[nd["period"] == "baseline"].groupby(SERIES)["value"].min().rename("low_intra")
+    s = lim.loc[look, SERIES + ["well_group", "comparison"]].join(
+        inter, on=["well_group"] + CONSTITUENT).join(intra, on=SERIES)
+    s["low"] = np.where(s["comparison"] == "interwell", s["low_inter"], s["low_intra"])
+    det = rows[(rows["period"] == "compliance") & ~rows["nondetect"]][SERIES + ["value"]]
+    det = det.merge(s[SERIES + ["low"]].dropna(), on=SERIES)
+    below = det[det["value"] < det["low"]].groupby(SERIES).size().rename("below")
+    s = s.join(below, on=SERIES)
+    hit = s["below"].fillna(0) > 0
+    for i, n, low in zip(s.index[hit], s.loc[hit, "below"], s.loc[hit, "low"]):  # only the warned series
+        lim.at[i, "limit_notes"] += (f"{int(n)} compliance result(s) detected below the lowest background detection "
+                                     f"limit ({low:.3g} µg/L): a lower detection limit, not the water, may explain "
+                                     f"them; consider renewing background with the current method; ")
     return lim

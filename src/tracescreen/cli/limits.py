@@ -1,0 +1,95 @@
+"""``tracescreen limits``: what applies on a date for given water chemistry, entry by entry.
+
+For a table (or all the tables given), a date and given inputs (``--hardness 50 --ph 7.5 --doc 2``),
+every entry in force with its computed value, unit, basis, scope and source, and the limit in words.
+Users check their tables with it before screening.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as dt
+
+import numpy as np
+
+from tracescreen.limits.in_force import entries_in_force
+from tracescreen.limits.load import load_limits
+from tracescreen.limits.schema import SCOPE_ATTRIBUTES
+from . import UserError
+from .common import print_caution
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "limits", help="list the limits in force on a date, computed for given hardness, pH, DOC",
+        description="List every entry of the limit tables in force on DATE, with its limit computed for the "
+                    "given water chemistry (hardness as CaCO3, pH, dissolved organic carbon, temperature) "
+                    "and site attributes, its unit, basis, duration, scope and source, and the limit in words. "
+                    "An entry whose inputs are not given shows no value and says which input is missing.",
+        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+    p.add_argument("--limits", required=True, metavar="PATH", action="append",
+                   help="limit table (YAML) or folder of tables; repeat for several")
+    p.add_argument("--table", metavar="ID", action="append", help="show only this table id (repeat for several)")
+    p.add_argument("--date", default=dt.date.today().isoformat(), metavar="YYYY-MM-DD", help="sampling date")
+    p.add_argument("--hardness", type=float, metavar="MG_L", help="hardness [mg/L as CaCO3]")
+    p.add_argument("--ph", type=float, metavar="PH", help="pH [pH units]")
+    p.add_argument("--doc", type=float, metavar="MG_L", help="dissolved organic carbon [mg/L]")
+    p.add_argument("--temperature", type=float, metavar="C", help="temperature [°C]")
+    p.add_argument("--site-attribute", metavar="NAME=VALUE", action="append", default=[],
+                   help="site attribute that scopes entries: " + "; ".join(
+                       f"{k} ({', '.join(v)})" for k, v in SCOPE_ATTRIBUTES.items()))
+    p.add_argument("--analyte", metavar="NAME", action="append", help="show only this analyte (repeat for several)")
+    p.add_argument("--out", metavar="FILE.csv", help="also write the rows as CSV")
+    p.set_defaults(func=run)
+
+
+def _attributes(items: list[str]) -> dict[str, str]:
+    out = {}
+    for item in items:
+        name, sep, value = item.partition("=")
+        name, value = name.strip(), value.strip().lower()
+        if not sep or name not in SCOPE_ATTRIBUTES:
+            raise UserError(f"--site-attribute '{item}': give NAME=VALUE with NAME one of {', '.join(SCOPE_ATTRIBUTES)}")
+        if value not in SCOPE_ATTRIBUTES[name]:
+            raise UserError(f"--site-attribute '{item}': {name} is one of {', '.join(SCOPE_ATTRIBUTES[name])}")
+        out[name] = value
+    return out
+
+
+def run(args) -> int:
+    try:
+        day = dt.date.fromisoformat(args.date)
+    except ValueError:
+        raise UserError(f"--date '{args.date}' is not a date (YYYY-MM-DD)") from None
+    for name, lo, hi in (("hardness", 0, 10000), ("ph", 0, 14), ("doc", 0, 1000), ("temperature", -5, 100)):
+        v = getattr(args, name)
+        if v is not None and not (lo <= v <= hi):
+            raise UserError(f"--{name} {v:g} is outside {lo}-{hi}")
+    limits = load_limits(args.limits)
+    inputs = {k: getattr(args, k) for k in ("hardness", "ph", "doc", "temperature")}
+    try:
+        rows = entries_in_force(limits, day, inputs, _attributes(args.site_attribute), args.table)
+    except ValueError as exc:
+        raise UserError(str(exc)) from None
+    if args.analyte:
+        from tracescreen.io.analytes import resolve
+
+        wanted = {resolve(a) or a for a in args.analyte}
+        rows = rows[rows["analyte"].isin(wanted)]
+    given = ", ".join(f"{k} {v:g}" for k, v in inputs.items() if v is not None) or "no water chemistry given"
+    print(f"Limits in force on {day.isoformat()} ({given}): {len(rows)} entries")
+    for tid, g in rows.groupby("table_id", sort=False):
+        print(f"\n{tid}: {g['source'].iloc[0]}")
+        for r in g.itertuples():
+            value = "—" if np.isnan(r.limit_ug_L) else f"{r.limit_ug_L:.4g} µg/L"
+            label = ", ".join(x for x in (r.fraction, r.duration, r.basis if r.basis != "single_sample" else "",
+                                          r.scope) if x)
+            print(f"  {r.analyte:<14} {value:>14}  {label}")
+            print(f"  {'':<14} {'':>14}  = {r.limit}" + (f"  [{r.remark}]" if r.remark else ""))
+    if args.out:
+        from tracescreen.report.writers import write_csv
+
+        write_csv(rows, args.out)
+        print(f"\nWrote {args.out}")
+    print_caution()
+    return 0

@@ -1,0 +1,68 @@
+"""MCL compliance basis by sampling frequency (40 CFR 141.23(i)).
+
+Where a sampling point is monitored more than once a year, compliance with an inorganic MCL is
+decided on the running annual average of its results; where it is monitored once a year or less,
+on each single result (with a confirmation sample averaged in where the State requires one) [1]_.
+An entry says so with ``basis: running_annual_mean`` and ``infrequent_basis: single_sample``.
+
+Screening cannot see the monitoring schedule, only the sampling dates. A series (limit table,
+site, analyte, fraction) is taken as sampled once a year or less when the median interval between
+its distinct sampling days is at least :data:`ANNUAL_INTERVAL_DAYS` (or it has one sampling day):
+its rows are then compared result by result (``basis`` becomes ``single_sample``, with a note).
+
+References
+----------
+.. [1] 40 CFR 141.23(i)(1)-(2), compliance with the MCLs for inorganic contaminants.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from tracescreen._internal.coded import joint_codes
+from tracescreen._internal.frames import replace_at
+
+#: Median interval between sampling days [days] from which a series counts as sampled yearly or less
+#: (about ten months: annual sampling drifts by weeks from year to year; common practice, our choice).
+ANNUAL_INTERVAL_DAYS = 300
+NOTE = ("sampled once a year or less: each result decides, not the running annual mean "
+        "(40 CFR 141.23(i)(2); a confirmation sample may be averaged in where the State requires)")
+
+
+def _codes(col: pd.Series, rows: np.ndarray) -> np.ndarray:
+    """Integer code per selected row (categorical codes where the column is categorical)."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        return col.cat.codes.to_numpy()[rows].astype(np.int64) + 1
+    return pd.factorize(col.to_numpy()[rows])[0].astype(np.int64) + 1
+
+
+def infrequent_series(screened: pd.DataFrame, rows: np.ndarray) -> np.ndarray:
+    """For screening rows ``rows``: True where the row's series is sampled once a year or less."""
+    code, _ = joint_codes(*(_codes(screened[c], rows) for c in ("limit_table", "site_id", "analyte", "fraction")))
+    day = pd.to_datetime(screened["sampled_at"].to_numpy()[rows]).normalize().to_numpy()
+    frame = pd.DataFrame({"g": code, "d": day}).drop_duplicates().sort_values(["g", "d"])
+    gaps = frame.groupby("g")["d"].diff().dt.days
+    median_gap = gaps.groupby(frame["g"]).median()  # NaN for a series of one sampling day
+    infrequent = median_gap.isna() | (median_gap >= ANNUAL_INTERVAL_DAYS)
+    return infrequent.reindex(np.arange(code.max() + 1 if len(code) else 0)).fillna(True).to_numpy(dtype=bool)[code]
+
+
+def apply_sampling_frequency(screened: pd.DataFrame, limits) -> pd.DataFrame:
+    """Rows of ``infrequent_basis: single_sample`` entries whose series is sampled yearly or less
+    become single-sample comparisons (their status is the result's own, computed by screening)."""
+    ents = limits.entries
+    if "infrequent_basis" not in ents or not ents["infrequent_basis"].notna().any():
+        return screened
+    flagged = ents.loc[ents["infrequent_basis"] == "single_sample", "entry_id"].astype(str)
+    rows = np.flatnonzero(screened["entry_id"].isin(flagged).to_numpy()
+                          & (screened["basis"] == "running_annual_mean").to_numpy())
+    if not len(rows):
+        return screened
+    rows = rows[infrequent_series(screened, rows)]
+    if not len(rows):
+        return screened
+    note = screened["note"].astype(str).to_numpy(dtype=object)[rows]
+    note = np.where(note == "", NOTE, note + "; " + NOTE)
+    return screened.assign(basis=replace_at(screened["basis"], rows, np.full(len(rows), "single_sample", dtype=object)),
+                           note=replace_at(screened["note"], rows, note))
