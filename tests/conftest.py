@@ -45,3 +45,31 @@ def demo_report(tmp_path_factory) -> dict[str, Path]:
     html, xlsx = out / "report.html", out / "report.xlsx"
     assert main(["report", *demo_args(), "--out", str(html), "--xlsx", str(xlsx)]) == 0
     return {"html": html, "xlsx": xlsx}
+
+
+def demo_inputs():
+    """The whole demo scenario as :class:`tracescreen.pipeline.Inputs`."""
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.io.loading import LoadOptions
+    from tracescreen.pipeline import Inputs
+
+    files = sorted(SCENARIO.glob("lab_results_*.csv")) + sorted(SCENARIO.glob("lab_results_*.xlsx"))
+    limits = sorted((ROOT / "limits").glob("*.yaml")) + [SCENARIO / "limits"]
+    return Inputs(results=tuple(files), limits=tuple(limits), sites=SCENARIO / "sites.csv",
+                  reading=LoadOptions(column_map=load_column_map(SCENARIO / "columns_eastbank.yaml")))
+
+
+@pytest.fixture(scope="session")
+def demo_loaded():
+    """The demo scenario as read by the pipeline's first step (:func:`tracescreen.pipeline.load`)."""
+    from tracescreen.pipeline import load
+
+    return load(demo_inputs())
+
+
+@pytest.fixture(scope="session")
+def demo_results():
+    """Every output table of one pipeline run on the demo scenario (:func:`tracescreen.pipeline.run`)."""
+    from tracescreen.pipeline import run
+
+    return run(demo_inputs())

@@ -218,9 +218,9 @@ US_EPA_NRWQC_FRESHWATER = [
     Published("nickel", "dissolved", None, "µg/L", NRWQC, _P132, duration="chronic",
               m=0.8460, b=0.0584, cf=0.997, at_100=52, at_100_source="checked (law: " + _CTR + ")"),
     Published("selenium", "dissolved", 3.1, "µg/L", NRWQC + "; selenium 2016 (EPA 822-R-16-006), water column",
-              "memory", duration="chronic (lotic, 30-day)"),
+              "memory", duration="chronic (lotic, 30-day)", scope="water_body_type: lotic"),
     Published("selenium", "dissolved", 1.5, "µg/L", NRWQC + "; selenium 2016 (EPA 822-R-16-006), water column",
-              "memory", duration="chronic (lentic, 30-day)"),
+              "memory", duration="chronic (lentic, 30-day)", scope="water_body_type: lentic"),
     Published("silver", "dissolved", None, "µg/L", NRWQC,
               "checked (secondary: North Carolina dissolved-metals standards page)",
               duration="acute (instantaneous maximum)", m=1.72, b=-6.59, cf=0.85, at_100=3.2, at_100_source="memory (EPA criteria table; 131.38 prints 3.4)"),
@@ -246,28 +246,29 @@ US_EPA_NSDWR = [
 EQS = "Directive 2008/105/EC as amended by 2013/39/EU, Annex I Part A"
 _EQS_LAW = "checked (law: legislation.gov.uk copy of 2008/105/EC Annex I Part A, row (6) cadmium)"
 _AA, _MAC = "annual average (AA-EQS)", "maximum allowable (MAC-EQS)"
+_AM = "period_mean"  # AA-EQS: the mean of a calendar year's results (Annex I Part B, memory)
 _INLAND, _OTHER = "water_category: inland", "water_category: other"
 _CD_CLASSES = {"rows": {"input": "hardness", "bounds": [40, 50, 100, 200]}}
 _EQS_DATE = "2015-12-22"  # revised EQS for existing priority substances apply from this date (memory)
 
 EU_EQS = [
     Published("cadmium", "dissolved", None, "µg/L", EQS + ", cadmium by hardness class", _EQS_LAW,
-              duration=_AA, scope=_INLAND, form={"lookup": {**_CD_CLASSES, "values": [0.08, 0.08, 0.09, 0.15, 0.25]}},
+              duration=_AA, basis=_AM, scope=_INLAND, form={"lookup": {**_CD_CLASSES, "values": [0.08, 0.08, 0.09, 0.15, 0.25]}},
               worked=(({"hardness": 30}, 0.08, "class 1 (< 40 mg/L), law copy"), ({"hardness": 40}, 0.08, "class 2 starts at 40"),
                       ({"hardness": 75}, 0.09, "class 3 (50 to < 100)"), ({"hardness": 100}, 0.15, "class 4 starts at 100"),
                       ({"hardness": 250}, 0.25, "class 5 (>= 200)"))),
-    Published("cadmium", "dissolved", 0.2, "µg/L", EQS, _EQS_LAW, duration=_AA, scope=_OTHER),
+    Published("cadmium", "dissolved", 0.2, "µg/L", EQS, _EQS_LAW, duration=_AA, basis=_AM, scope=_OTHER),
     Published("cadmium", "dissolved", None, "µg/L", EQS + ", cadmium by hardness class", _EQS_LAW, duration=_MAC,
               form={"lookup": {**_CD_CLASSES, "values": [0.45, 0.45, 0.6, 0.9, 1.5]}},
               worked=(({"hardness": 49.9}, 0.45, "class 2, law copy"), ({"hardness": 199}, 0.9, "class 4"),
                       ({"hardness": 200}, 1.5, "class 5"))),
-    Published("lead", "dissolved", 1.2, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, scope=_INLAND,
+    Published("lead", "dissolved", 1.2, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, basis=_AM, scope=_INLAND,
               effective_from=_EQS_DATE),
-    Published("lead", "dissolved", 1.3, "µg/L", EQS, "memory", duration=_AA, scope=_OTHER, effective_from=_EQS_DATE),
+    Published("lead", "dissolved", 1.3, "µg/L", EQS, "memory", duration=_AA, basis=_AM, scope=_OTHER, effective_from=_EQS_DATE),
     Published("lead", "dissolved", 14, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
-    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, scope=_INLAND,
+    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, basis=_AM, scope=_INLAND,
               effective_from=_EQS_DATE),
-    Published("nickel", "dissolved", 8.6, "µg/L", EQS, "memory", duration=_AA, scope=_OTHER, effective_from=_EQS_DATE),
+    Published("nickel", "dissolved", 8.6, "µg/L", EQS, "memory", duration=_AA, basis=_AM, scope=_OTHER, effective_from=_EQS_DATE),
     Published("nickel", "dissolved", 34, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
     Published("mercury", "dissolved", 0.07, "µg/L", EQS, "memory", duration=_MAC),
 ]

@@ -184,3 +184,19 @@ def test_calibration_file(tmp_path):
     assert "not in the analyte registry" in cal.rejected["reason"].iloc[0]
     with pytest.raises(CalibrationFileError, match="nope.csv: calibration file not found"):
         read_calibration(tmp_path / "nope.csv")
+
+
+def test_sample_concentrations_recomputed_from_their_responses(tmp_path):
+    # the reviewer's recomputation: x = (y - a) / b on the fitted curve, beside the reported result
+    p = tmp_path / "cal.csv"
+    p.write_text("analyte,run,kind,sample_id,concentration,response,result\n"
+                 "lead,R1,standard,,0,0.002,\nlead,R1,standard,,10,0.502,\nlead,R1,standard,,20,1.002,\n"
+                 "lead,R1,sample,W-7,,0.252,5.3\nlead,R1,sample,W-8,,1.502,30\n", encoding="utf-8")
+    from tracescreen.retest.calibration.fit import recompute_samples
+    cal = read_calibration(p)
+    fits, _ = fit_curves(cal.points)
+    s = recompute_samples(cal.points, fits).set_index("sample_id")
+    assert fits["slope"].iloc[0] == pytest.approx(0.05) and fits["intercept"].iloc[0] == pytest.approx(0.002)
+    assert s.loc["W-7", "recomputed_ug_L"] == pytest.approx(5.0)
+    assert s.loc["W-7", "difference_pct"] == pytest.approx(6.0)
+    assert s.loc["W-8", "recomputed_ug_L"] == pytest.approx(30.0) and not s.loc["W-8", "within_standards"]

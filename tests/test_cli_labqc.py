@@ -125,3 +125,15 @@ def test_screen_with_calibration_says_what_detection_limit_the_calibration_suppo
     detail = r.loc[r["reason"] == "dl_too_high", "detail"].item()
     assert "the calibration supports a detection limit of 0.6642 µg/L (calibration LOD" in detail
     assert (tmp_path / "o" / "calibration_fits.csv").is_file()
+
+
+def test_labqc_reads_the_qc_rows_kept_in_a_workspace(tmp_path, capsys):
+    # the workspace keeps the set-aside rows with their original cells, so the review sees the same QC rows
+    cols = tmp_path / "cols.yaml"
+    cols.write_text(MAPPING, encoding="utf-8")
+    ws = tmp_path / "ws"
+    assert main(["import", str(DATA), "--workspace", str(ws), "--columns", str(cols), "--date-order", "mdy"]) == 0
+    capsys.readouterr()
+    rc = main(["labqc", "--workspace", str(ws), "--columns", str(cols), "--date-order", "mdy", "--out", str(tmp_path / "o")])
+    out = capsys.readouterr().out
+    assert rc == 0 and "Verdicts: 55  within 49  below 0  above 0  not judged 6" in out

@@ -225,3 +225,21 @@ def test_period_keys_are_checked_at_load(tmp_path, entries, settings, message):
     """Missing or wrong period keys are load errors naming the key (common practice: fail loudly)."""
     with pytest.raises(LimitTableError, match=message):
         table(tmp_path, entries, settings)
+
+
+def test_a_running_mean_depends_on_its_own_series_only(tmp_path):
+    """A non-detect without a detection limit at one site leaves another site's running means as worked
+    by hand (SERIES, non-detects at their DL), and the same site's windows without it have a mean.
+
+    Reference: the definition of the running annual mean (40 CFR 141.23(i)): the mean of the site's own
+    results in the 12 months to each sample; the values are worked by hand below.
+    """
+    other = series_results([("2019-01-10", None, np.nan), ("2020-03-01", 2.0, None)], site="S0")
+    res = pd.concat([other, series_results()], ignore_index=True)
+    out, _ = raa(tmp_path, "dl", res)
+    s1 = out[out["site_id"] == "S1"]
+    # S1 at DL: 1: {4}; 2: {4,2} = 3; 3: {4,2,12} = 6; 4: {4,2,12,6} = 6; 5: {2,12,6,22} = 10.5; 6: {12,6,22,30} = 17.5
+    assert s1["period_value_ug_L"].tolist() == pytest.approx([4.0, 3.0, 6.0, 6.0, 10.5, 17.5])
+    s0 = out[out["site_id"] == "S0"].sort_values("sampled_at")
+    # S0: 2019-01-10 is "<?" (no DL): its window has no value; 2020-03-01's window (2019-03-01, 2020-03-01] holds only 2.0
+    assert np.isnan(s0["period_value_ug_L"].iloc[0]) and s0["period_value_ug_L"].iloc[1] == pytest.approx(2.0)

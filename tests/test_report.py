@@ -104,25 +104,22 @@ def test_bad_retest_option_is_user_error(tmp_path, scenario_args, capsys):
     assert len(err) == 1 and "holding time" in err[0]
 
 
-def test_build_report_html_from_engine_objects():
-    """report_data + build_report_html (the dashboard's path) give a page with the caution first and computed summaries."""
+def test_build_report_html_from_a_pipeline_run():
+    """pipeline.run + report_data + build_report_html give a page with the caution first and computed summaries."""
     from conftest import ROOT, SCENARIO
-    from tracescreen.limits.load import load_limits
-    from tracescreen.io.loading import LoadOptions, load_results
+    from tracescreen import pipeline
     from tracescreen.io.columns import load_column_map
-    from tracescreen.screening.screen import screen
-    from tracescreen.io.sites import load_sites
+    from tracescreen.io.loading import LoadOptions
 
-    sites = load_sites(SCENARIO / "sites.csv")
-    limits = load_limits([ROOT / "limits", SCENARIO / "limits"])
-    files = sorted(SCENARIO.glob("lab_results_fernleigh_*.csv"))
-    loaded = load_results(files, LoadOptions(column_map=load_column_map(SCENARIO / "columns_eastbank.yaml")), sites)
-    screened = screen(loaded.accepted, limits, sites)
-    data = report.report_data(loaded, limits, screened, sites=sites)
+    inputs = pipeline.Inputs(results=tuple(sorted(SCENARIO.glob("lab_results_fernleigh_*.csv"))),
+                             limits=(ROOT / "limits", SCENARIO / "limits"), sites=SCENARIO / "sites.csv",
+                             reading=LoadOptions(column_map=load_column_map(SCENARIO / "columns_eastbank.yaml")))
+    res = pipeline.run(inputs, pipeline.Options(periods=False))
+    data = report.report_data(res)
     page = report_html.build_report_html(data, site_ids=["KR02"])
     assert page.index(CAUTION) < page.index('<section id="scope">')
     assert 'id="summary-table"' in page and 'id="trends-table"' in page
-    assert set(data.retest["site_id"]) <= set(sites["site_id"])
+    assert set(data.retest["site_id"]) <= set(res.sites["site_id"]) and len(data.retest)
     assert set(report.report_tables(data, ["KR02"])["summary"]["site_id"]) == {"KR02"}
 
 

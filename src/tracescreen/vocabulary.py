@@ -43,6 +43,9 @@ References
 
 from __future__ import annotations
 
+#: How dates that are not ISO 8601 are read: ``dmy`` (04/03/2021 = 4 March), ``mdy``; ``iso`` accepts ISO 8601 only.
+DATE_ORDERS: tuple[str, ...] = ("iso", "dmy", "mdy")
+
 #: Relative tolerance of every comparison of a value with a limit (screening, period rules, flags).
 REL_TOL = 1e-9
 

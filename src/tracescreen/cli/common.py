@@ -1,22 +1,18 @@
-"""Options shared by the commands that read lab files, limit tables and sites."""
+"""Options shared by the commands that read lab files, limit tables and sites, and their run.
+
+Nothing heavy is imported here at module level: ``tracescreen --help`` builds every parser without
+loading pandas. The commands turn their arguments into :class:`tracescreen.pipeline.Inputs` and
+:class:`tracescreen.pipeline.Options` and call the pipeline.
+"""
 
 from __future__ import annotations
 
 import argparse
 import sys
-from dataclasses import dataclass
-from pathlib import Path
 
-import pandas as pd
-
-from tracescreen._internal.hashing import file_sha256
 from tracescreen.caution import CAUTION
-from tracescreen.io.columns import load_column_map
-from tracescreen.limits.load import LimitSet, load_limits
-from tracescreen.io.loading import LoadOptions, LoadResult, load_results
-from tracescreen.io.cells import DATE_ORDERS
-from tracescreen.io.sites import load_sites
-from tracescreen.store.workspace import open_workspace
+from tracescreen.vocabulary import DATE_ORDERS
+
 from . import UserError
 
 
@@ -52,54 +48,46 @@ def add_reading_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--sheet", help="read only this sheet of XLSX files (default: every sheet with recognisable columns)")
 
 
-@dataclass
-class Inputs:
-    loaded: LoadResult
-    limits: LimitSet
-    sites: pd.DataFrame | None
-    input_files: pd.DataFrame     # every input file (results, limits, sites) with its SHA-256
+def load_options(args):
+    """How to read the lab files (:class:`tracescreen.io.loading.LoadOptions`) from the arguments."""
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.io.loading import LoadOptions
 
-
-def load_options(args) -> LoadOptions:
     return LoadOptions(column_map=load_column_map(args.columns) if args.columns else None,
                        date_order=args.date_order, decimal_comma=args.decimal_comma,
                        encoding=args.encoding, default_fraction=args.default_fraction, sheet=args.sheet)
 
 
-def load_inputs(args) -> Inputs:
-    """Read limit tables, sites and results as the options say (user errors raise)."""
-    limits = load_limits(args.limits)
-    sites = load_sites(args.sites) if args.sites else None
-    loaded = results_from_args(args, sites)
-    rows = [{"kind": "results", "file": r.file, "path": r.path, "sheet": r.sheet, "sha256": r.sha256}
-            for r in loaded.files.itertuples()] if len(loaded.files) else []
-    rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": file_sha256(p)}
-             for p in limits.tables["path"]]
-    if args.sites:
-        rows.append({"kind": "sites", "file": Path(args.sites).name, "path": args.sites, "sheet": "",
-                     "sha256": file_sha256(args.sites)})
-    if getattr(args, "workspace", None):
-        with open_workspace(args.workspace) as ws:
-            ws.record_screening_run(args.command, len(loaded.accepted), limits.tables["path"], args.sites,
-                                    {"accepted": len(loaded.accepted), "rejected": len(loaded.rejected)})
-    return Inputs(loaded, limits, sites, pd.DataFrame(rows))
+def pipeline_inputs(args, limits: bool = True):
+    """The run's :class:`tracescreen.pipeline.Inputs` from the data options (user errors raise)."""
+    from tracescreen.pipeline import Inputs
 
-
-def results_from_args(args, sites: pd.DataFrame | None) -> LoadResult:
-    """The lab results the command should use: the lab files given, or the current results of
-    ``--workspace`` (results of sites not in ``sites`` then rejected, as the loader does)."""
-    name = Path(args.sites).name if getattr(args, "sites", None) else "the sites file"
-    if getattr(args, "workspace", None):
-        if args.results:
-            raise UserError("give lab result files or --workspace DIR, not both")
-        with open_workspace(args.workspace) as ws:
-            loaded = ws.load_result(sites, name)
-        for msg in loaded.warnings:
-            warn(msg)
-        return loaded
-    if not args.results and getattr(args, "results_required", True):
+    workspace = getattr(args, "workspace", None)
+    if workspace and args.results:
+        raise UserError("give lab result files or --workspace DIR, not both")
+    if not workspace and not args.results and getattr(args, "results_required", True):
         raise UserError("no lab result files given (give files, or --workspace DIR)")
-    return load_results(args.results, load_options(args), sites, sites_name=name)
+    return Inputs(results=tuple(args.results), limits=tuple(args.limits) if limits else (),
+                  sites=getattr(args, "sites", None), workspace=workspace, reading=None if workspace else load_options(args))
+
+
+def results_from_args(args, sites=None):
+    """The lab results a command uses: the lab files given, or the current results of ``--workspace``
+    (results of sites not in ``sites`` then rejected, as the loader does); the loader's warnings are shown."""
+    from tracescreen.pipeline import read_results
+
+    loaded = read_results(pipeline_inputs(args, limits=False), sites)
+    for msg in loaded.warnings:
+        warn(msg)
+    return loaded
+
+
+def announce(data) -> None:
+    """Warnings every reading command gives: no sites file, and what the loader noted."""
+    for msg in data.loaded.warnings:
+        warn(msg)
+    if data.sites is None:
+        warn("no --sites file: every limit table applies to every site")
 
 
 def print_caution(stream=None) -> None:

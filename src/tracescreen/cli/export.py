@@ -4,8 +4,6 @@ from __future__ import annotations
 
 import argparse
 
-from tracescreen.store.parquet import export_parquet
-from tracescreen.store.workspace import open_workspace
 from .common import print_caution
 
 
@@ -24,6 +22,9 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    from tracescreen.store.parquet import export_parquet
+    from tracescreen.store.workspace import open_workspace
+
     with open_workspace(args.workspace) as ws:
         files = export_parquet(ws, args.parquet, history=args.history)
     years = sorted({p.parent.name.removeprefix("year=") for p in files})

@@ -4,10 +4,7 @@ from __future__ import annotations
 
 import re
 
-import pandas as pd
-
-from tracescreen.retest.qc_checks import HOLDING_TIMES
-from tracescreen.retest.listing import REASONS, RetestOptions
+from tracescreen.retest.options import REASONS, RetestOptions
 
 _DURATION = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(h|d|m)\s*$", re.IGNORECASE)
 
@@ -44,6 +41,8 @@ def parse_duration(text: str):
     m = _DURATION.match(text)
     if not m:
         raise ValueError(f"holding time '{text}' is not a number followed by h, d or m (e.g. 28d)")
+    import pandas as pd
+
     n, unit = float(m.group(1)), m.group(2).lower()
     if unit == "m":
         if n != int(n):
@@ -54,6 +53,10 @@ def parse_duration(text: str):
 
 def retest_options(args, error=ValueError) -> RetestOptions:
     """RetestOptions from parsed arguments; a bad value raises ``error`` with a one-line message."""
+    import pandas as pd
+
+    from tracescreen.retest.qc_checks import HOLDING_TIMES
+
     lb = str(args.lookback).strip().lower()
     try:
         if lb == "all":

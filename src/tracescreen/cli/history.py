@@ -5,9 +5,6 @@ from __future__ import annotations
 import argparse
 import json
 
-import pandas as pd
-
-from tracescreen.store.workspace import open_workspace
 from . import UserError
 from .common import print_caution
 
@@ -29,11 +26,15 @@ def register(sub) -> None:
     p.set_defaults(func=run)
 
 
-def _table(df: pd.DataFrame) -> str:
+def _table(df) -> str:
     return df.to_string(index=False) if len(df) else "  (none)"
 
 
 def run(args) -> int:
+    import pandas as pd
+
+    from tracescreen.store.workspace import open_workspace
+
     with open_workspace(args.workspace) as ws, ws.reading():
         imports, files, runs = ws.imports(), ws.files(), ws.screening_runs()
         history = ws.results_history() if args.sample else None

@@ -6,8 +6,6 @@ import argparse
 import sys
 from pathlib import Path
 
-from tracescreen.io.sites import load_sites
-from tracescreen.store.workspace import open_workspace
 from .common import add_reading_options, load_options, print_caution
 
 
@@ -30,6 +28,9 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    from tracescreen.io.sites import load_sites
+    from tracescreen.store.workspace import open_workspace
+
     sites = load_sites(args.sites) if args.sites else None
     progress = (lambda msg: print(f"  {msg}", file=sys.stderr, flush=True)) if args.progress else None
     with open_workspace(args.workspace, create=True) as ws:

@@ -133,7 +133,7 @@ def calibration_review(args, accepted, out: Path):
     Returns ({name: path}, retest rows, the per-analyte ranges and supported detection limits).
     """
     from tracescreen.retest.calibration.checks import analyte_ranges, check_results
-    from tracescreen.retest.calibration.fit import fit_curves
+    from tracescreen.retest.calibration.fit import fit_curves, recompute_samples
     from tracescreen.retest.calibration.limits import curve_limits, mdl
     from tracescreen.retest.calibration.reading import CalibrationFileError, read_calibration
 
@@ -155,6 +155,9 @@ def calibration_review(args, accepted, out: Path):
                "cal_rejected": outputs.write_csv(rejected, out / "calibration_rejected.csv")}
     if mdls is not None:
         written["mdl"] = outputs.write_csv(mdls, out / "detection_limits.csv")
+    samples = recompute_samples(points, fits)
+    if len(samples):
+        written["cal_samples"] = outputs.write_csv(samples, out / "calibration_samples.csv")
     for r in limits.itertuples():
         print(f"  {r.analyte} run {r.run or '-'}: {r.weighting} fit, slope {r.slope:.5g}, intercept {r.intercept:.4g}, "
               f"r {r.r:.5f}, LOD {r.lod_ug_L:.3g} ug/L, LOQ {r.loq_ug_L:.3g} ug/L"

@@ -5,14 +5,10 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from tracescreen.report import writers as outputs
-from tracescreen.report.html import build_report_html
-from tracescreen.report.tables import report_data, report_tables
-from tracescreen.screening.screen import screen
 from . import UserError
-from .common import add_data_options, load_inputs, print_caution, warn
+from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
-from .trends import add_statistics_options, statistics_tables
+from .trends import add_statistics_options, statistics_options
 
 
 def register(sub) -> None:
@@ -35,25 +31,26 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    options = retest_options(args, UserError)
-    inputs = load_inputs(args)
-    if inputs.sites is None:
-        warn("no --sites file: every limit table applies to every site")
-    screened = screen(inputs.loaded.accepted, inputs.limits, inputs.sites, cross_fraction=args.cross_fraction)
+    from tracescreen import pipeline
+    from tracescreen.report import writers as outputs
+    from tracescreen.report.html import build_report_html
+    from tracescreen.report.tables import report_data, report_tables
+
+    options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False,
+                               statistics=statistics_options(args), retest=retest_options(args, UserError),
+                               record_run=args.command)
+    res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     site_ids = None
     if args.site:
-        known = set(screened["site_id"])
+        known = set(res.screened["site_id"])
         missing = [s for s in args.site if s not in known]
         if missing:
             raise UserError(f"--site {', '.join(missing)}: no accepted results for this site")
         site_ids = list(dict.fromkeys(args.site))
-    stats = statistics_tables(args, inputs.loaded.accepted, screened)
-    data = report_data(
-        inputs.loaded, inputs.limits, screened, input_files=inputs.input_files, sites=inputs.sites,
-        retest_options=options, statistics=stats,
-        settings={"non-detect method (summaries)": args.stats_method,
-                  "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
-                                f"at least {args.min_trend_values} values"})
+    data = report_data(res, settings={
+        "non-detect method (summaries)": args.stats_method,
+        "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
+                      f"at least {args.min_trend_values} values"})
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")

@@ -5,21 +5,10 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-import pandas as pd
-
-from tracescreen.report import writers as outputs
-from tracescreen.screening.uncertainty import uncertainty_decision
-from tracescreen._internal.memory import release_unused
-from tracescreen.screening.periods import period_table
-from tracescreen.screening.screen import screen
-from tracescreen.vocabulary import STATUSES
-from tracescreen.retest.calibration.checks import annotate_dl_too_high
-from tracescreen.retest.listing import retest_list
 from . import UserError
-from .common import add_data_options, load_inputs, print_caution, warn
+from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
-from .labqc import calibration_review, review_for_screen, write_review
-from .trends import add_statistics_options, write_statistics
+from .trends import add_statistics_options, statistics_options
 
 
 def register(sub) -> None:
@@ -48,48 +37,61 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    import pandas as pd
+
+    from tracescreen import pipeline
+    from tracescreen._internal.memory import release_unused
+    from tracescreen.report import writers as outputs
+    from tracescreen.retest.calibration.checks import annotate_dl_too_high
+
+    from .labqc import calibration_review, review_for_screen, write_review
+
+    if args.guard_band is not None and not args.guard_band >= 0:
+        raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
     flag_options = retest_options(args, UserError)
-    inputs = load_inputs(args)
-    if inputs.sites is None:
-        warn("no --sites file: every limit table applies to every site")
-    loaded = inputs.loaded
-    screened = screen(loaded.accepted, inputs.limits, inputs.sites, cross_fraction=args.cross_fraction)
-    if args.guard_band is not None:
-        if not args.guard_band >= 0:
-            raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
-        screened = uncertainty_decision(screened, args.guard_band)
+    # the retest list waits for the laboratory QC review below (its rows are listed with the others)
+    options = pipeline.Options(cross_fraction=args.cross_fraction, guard_band=args.guard_band,
+                               statistics=statistics_options(args), retest=None, record_run=args.command)
+    res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     out = Path(args.out)
-    written = {
-        "screening": outputs.write_csv(screened, out / "screening.csv"),
-        "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv"),
-        "not_screened": outputs.write_csv(loaded.set_aside, out / "not_screened.csv"),
-        "inputs": outputs.write_csv(inputs.input_files, out / "inputs.csv"),
-        "limits": outputs.write_csv(limit_tables_table(inputs.limits), out / "limit_tables.csv"),
-    }
-    release_unused()
-    review = review_for_screen(args, loaded)
+    lab_written = {}
+    review = review_for_screen(args, res.loaded)
     lab_rows = [] if review is None else [review.retest]
     if review is not None:
-        written.update(write_review(review, out))
+        lab_written.update(write_review(review, out))
     ranges = None
     if args.calibration:
-        cal_written, cal_retest, ranges = calibration_review(args, loaded.accepted, out)
-        written.update(cal_written)
+        cal_written, cal_retest, ranges = calibration_review(args, res.loaded.accepted, out)
+        lab_written.update(cal_written)
         lab_rows.append(cal_retest)
     lab_qc = pd.concat([r for r in lab_rows if len(r)], ignore_index=True) if any(len(r) for r in lab_rows) else None
-    retest = retest_list(screened, flag_options, lab_qc=lab_qc)
+    res.retest = pipeline.retest(res.screened, flag_options, lab_qc=lab_qc)
     if ranges is not None:
-        retest = annotate_dl_too_high(retest, ranges)
-    written["retest"] = outputs.write_csv(retest, out / "retest.csv")
-    release_unused()
-    extra = run_extra_outputs(args, inputs, screened, out)
-    written.update(extra)
-    print_summary(loaded, screened)
+        res.retest = annotate_dl_too_high(res.retest, ranges)
+    tables = {
+        "screening": (res.screened, "screening.csv"),
+        "rejected": (res.loaded.rejected, "rejected.csv"),
+        "not_screened": (res.loaded.set_aside, "not_screened.csv"),
+        "inputs": (res.input_files, "inputs.csv"),
+        "limits": (limit_tables_table(res.limits), "limit_tables.csv"),
+        "retest": (res.retest, "retest.csv"),
+        "summary": (res.summary, "summary.csv"),
+        "exceedance": (res.exceedances, "exceedances.csv"),
+        "trends": (res.trends, "trends.csv"),
+        "periods": (res.periods, "periods.csv"),
+    }
+    written = {}
+    for name, (table, filename) in tables.items():
+        written[name] = outputs.write_csv(table, out / filename)
+        release_unused()  # each output's working memory is freed before the next one
+        if name == "limits":
+            written.update(lab_written)  # listed where the screen command has always listed them
+    print_summary(res.loaded, res.screened)
     if args.guard_band is not None:
         print(f"Uncertainty decision rule: guard band g = {args.guard_band:g} x expanded uncertainty U "
               "(Eurachem/CITAC 2021); column uncertainty_decision")
-    print(f"Retest flags: {len(retest)} rows" + "".join(
-        f"\n  {r:<28} {n}" for r, n in retest["reason"].value_counts(sort=False).items()))
+    print(f"Retest flags: {len(res.retest)} rows" + "".join(
+        f"\n  {r:<28} {n}" for r, n in res.retest["reason"].value_counts(sort=False).items()))
     print("\nOutputs:")
     for name, path in written.items():
         print(f"  {name:<10} {path}")
@@ -105,15 +107,9 @@ def limit_tables_table(limits):
         entries=t["table_id"].map(n).fillna(0).astype(int))
 
 
-def run_extra_outputs(args, inputs, screened, out: Path) -> dict:
-    """Further output tables (statistics, periods, retest flags) as their modules land."""
-    extra = write_statistics(args, inputs.loaded.accepted, screened, out)
-    release_unused()  # each output's working memory is freed before the next one
-    extra["periods"] = outputs.write_csv(period_table(screened, inputs.limits), out / "periods.csv")
-    return extra
-
-
 def print_summary(loaded, screened) -> None:
+    from tracescreen.vocabulary import STATUSES
+
     f = loaded.files
     read, acc, rej = int(f["rows_read"].sum()), len(loaded.accepted), len(loaded.rejected)
     aside = len(loaded.set_aside)

@@ -1,21 +1,14 @@
-"""``tracescreen trends``: trend tests per site x analyte x fraction; and the statistics outputs
-(``summary.csv``, ``exceedances.csv``, ``trends.csv``) that ``tracescreen screen`` also writes."""
+"""``tracescreen trends``: trend tests per site x analyte x fraction; and the statistics options that
+``tracescreen screen`` and ``report`` share (``summary.csv``, ``exceedances.csv``, ``trends.csv``)."""
 
 from __future__ import annotations
 
 import argparse
 from pathlib import Path
 
-import pandas as pd
+from tracescreen.statistics.options import METHODS, MIN_VALUES, StatisticsOptions
 
-from tracescreen.report import writers as outputs
-from tracescreen.statistics.censored import METHODS
-from tracescreen.limits.load import load_limits
-from tracescreen.screening.screen import screen
-from tracescreen.statistics.summary import exceedance_rates, summarise
-from tracescreen.statistics.trends import MIN_VALUES, TABLE_COLUMNS as TREND_TABLE_COLUMNS, lowest_limits, trend_table
-from .common import add_data_options, print_caution, results_from_args, warn
-from tracescreen.io.sites import load_sites
+from .common import add_data_options, announce, pipeline_inputs, print_caution
 
 
 def _probability(text: str) -> float:
@@ -50,39 +43,13 @@ def add_statistics_options(p: argparse.ArgumentParser) -> None:
     add_trend_options(g)
 
 
-def _trends(args, accepted, screened) -> pd.DataFrame:
-    if not (accepted["sample_type"].astype(str) == "sample").any():  # nothing to test: empty table
-        return pd.DataFrame({c: pd.Series(dtype=object) for c in TREND_TABLE_COLUMNS})
-    return trend_table(accepted, alpha=args.alpha, seasonal=args.seasonal,
-                       min_n=args.min_trend_values, limits=lowest_limits(screened))
-
-
-def statistics_tables(args, accepted: pd.DataFrame, screened: pd.DataFrame) -> dict:
-    """The statistics tables as the options say: ``summary``, ``exceedances`` (rates per limit),
-    ``trends``, and ``notes`` (method notes as text)."""
-    return {
-        "summary": summarise(accepted, method=args.stats_method, n_boot=args.bootstrap, seed=args.seed),
-        "exceedances": exceedance_rates(screened),
-        "trends": _trends(args, accepted, screened),
-        "notes": [
-            f"Summaries: non-detects by {args.stats_method} (Helsel 2012); series without non-detects use "
-            "plain sample statistics; ucl95_mean by a seeded percentile bootstrap "
-            f"(B={args.bootstrap}, seed={args.seed}).",
-            f"Trends: Mann-Kendall or seasonal Kendall (seasonal: {args.seasonal}) at alpha = {args.alpha}; "
-            "non-detects count as ties where the order is unknown; Sen or Akritas-Theil-Sen slope per "
-            "year from the sampling dates.",
-        ],
-    }
-
-
-def write_statistics(args, accepted: pd.DataFrame, screened: pd.DataFrame, out: Path) -> dict:
-    """Write summary.csv, exceedances.csv and trends.csv; return {name: path}."""
-    tables = statistics_tables(args, accepted, screened)
-    return {
-        "summary": outputs.write_csv(tables["summary"], out / "summary.csv"),
-        "exceedance": outputs.write_csv(tables["exceedances"], out / "exceedances.csv"),
-        "trends": outputs.write_csv(tables["trends"], out / "trends.csv"),
-    }
+def statistics_options(args, tables=None) -> StatisticsOptions:
+    """The run's :class:`~tracescreen.statistics.options.StatisticsOptions` from the arguments."""
+    base = StatisticsOptions()
+    return StatisticsOptions(method=getattr(args, "stats_method", base.method),
+                             n_boot=getattr(args, "bootstrap", base.n_boot), seed=getattr(args, "seed", base.seed),
+                             alpha=args.alpha, seasonal=args.seasonal, min_trend_values=args.min_trend_values,
+                             tables=tables or base.tables)
 
 
 def register(sub) -> None:
@@ -99,16 +66,17 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    limits = load_limits(args.limits)
-    sites = load_sites(args.sites) if args.sites else None
-    if sites is None:
-        warn("no --sites file: every limit table applies to every site")
-    loaded = results_from_args(args, sites)
-    table = _trends(args, loaded.accepted, screen(loaded.accepted, limits, sites, cross_fraction=args.cross_fraction))
+    from tracescreen import pipeline
+    from tracescreen.report import writers as outputs
+
+    options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False, retest=None,
+                               statistics=statistics_options(args, tables=("trends",)), record_run=args.command)
+    res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
+    table = res.trends
     out = Path(args.out)
     paths = {"trends": outputs.write_csv(table, out / "trends.csv"),
-             "rejected": outputs.write_csv(loaded.rejected, out / "rejected.csv")}
-    print(f"Results accepted: {len(loaded.accepted)}  rejected: {len(loaded.rejected)}")
+             "rejected": outputs.write_csv(res.loaded.rejected, out / "rejected.csv")}
+    print(f"Results accepted: {len(res.loaded.accepted)}  rejected: {len(res.loaded.rejected)}")
     print(f"Series: {len(table)}")
     for d, n in table["direction"].value_counts().items():
         print(f"  {d:<12} {n}")

@@ -24,6 +24,7 @@ import pyarrow.compute as pc
 import yaml
 
 from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen.vocabulary import DATE_ORDERS
 
 FRACTION_VOCAB = {
     "total": "total", "t": "total", "tot": "total", "totalrecoverable": "total", "recoverable": "total",
@@ -93,8 +94,6 @@ def _sample_types_from_data() -> dict[str, str]:
                 out.setdefault(_code_key(e["code"]), target)
     return out
 
-
-DATE_ORDERS = ("iso", "dmy", "mdy")
 
 _DMY_FORMATS = ("%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y", "%d/%m/%y", "%d.%m.%y")
 _MDY_FORMATS = ("%m/%d/%Y", "%m-%d-%Y", "%m/%d/%y")

@@ -15,7 +15,7 @@ import pandas as pd
 
 from tracescreen import __version__, vocabulary
 from tracescreen._internal.frames import plain_text
-from tracescreen._internal.text import format_date, format_number
+from tracescreen._internal.text import format_date
 from tracescreen.caution import CAUTION
 from tracescreen.retest.rows import site_samples
 
@@ -240,26 +240,13 @@ def method_notes(data: ReportData) -> pd.DataFrame:
     return pd.DataFrame(notes, columns=["topic", "note"])
 
 
-def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataFrame | None = None,
-                sites: pd.DataFrame | None = None, retest_options=None, statistics: dict | None = None,
-                settings: dict | None = None) -> ReportData:
-    """Assemble a :class:`ReportData` from a loading result, the limit set and the screening table.
+def report_data(results, settings: dict | None = None) -> ReportData:
+    """Assemble a :class:`ReportData` from a run's outputs.
 
     Parameters
     ----------
-    loaded : tracescreen.io.loading.LoadResult
-        Accepted and rejected rows and the files read.
-    limits : tracescreen.limits.load.LimitSet
-    screened : pandas.DataFrame
-        ``screening.screen(loaded.accepted, limits, sites)``.
-    input_files : pandas.DataFrame, optional
-        Every input file with ``sha256`` (results, limit tables, sites); default the lab files of
-        ``loaded.files``. Row counts of ``loaded.files`` are added.
-    sites : pandas.DataFrame, optional
-    retest_options : tracescreen.retest.listing.RetestOptions, optional
-    statistics : dict, optional
-        ``summary``, ``exceedances`` (rates per limit), ``trends`` tables and ``notes`` (list of
-        str); computed with each function's defaults when not given.
+    results : tracescreen.pipeline.Results
+        Every output table of one run (:func:`tracescreen.pipeline.run`).
     settings : dict, optional
         Extra settings for the scope table (the retest thresholds are always listed).
 
@@ -267,24 +254,21 @@ def report_data(loaded, limits, screened: pd.DataFrame, *, input_files: pd.DataF
     -------
     ReportData
     """
-    from tracescreen.retest.listing import RetestOptions, retest_list
-    from tracescreen.statistics.summary import exceedance_rates, summarise
-    from tracescreen.statistics.trends import lowest_limits, trend_table
+    from tracescreen.retest.options import RetestOptions
+    from tracescreen.retest.rows import empty_retest
 
-    options = retest_options or RetestOptions()
-    if statistics is None:
-        statistics = {"summary": summarise(loaded.accepted), "exceedances": exceedance_rates(screened),
-                      "trends": trend_table(loaded.accepted, limits=lowest_limits(screened)), "notes": []}
-    files = loaded.files if input_files is None else input_files
+    loaded = results.loaded
+    files = results.input_files
     counts = [c for c in ("rows_read", "accepted", "rejected") if c in loaded.files.columns]
-    if input_files is not None and counts and len(loaded.files):
+    if counts and len(loaded.files):
         files = files.merge(loaded.files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
+    retest_options = results.options.retest or RetestOptions()
     return ReportData(
-        screening=screened, rejected=loaded.rejected, files=files, limit_tables=limits.tables,
-        limit_entries=limits.entries, retest=retest_list(screened, options),
-        summary=statistics.get("summary"), trends=statistics.get("trends"),
-        exceedance_rates=statistics.get("exceedances"), sites=sites,
-        settings={**(settings or {}), **options.describe()}, method_notes=list(statistics.get("notes", [])))
+        screening=results.screened, rejected=loaded.rejected, files=files, limit_tables=results.limits.tables,
+        limit_entries=results.limits.entries,
+        retest=results.retest if results.retest is not None else empty_retest(),
+        summary=results.summary, trends=results.trends, exceedance_rates=results.exceedances, sites=results.sites,
+        settings={**(settings or {}), **retest_options.describe()}, method_notes=list(results.statistics_notes))
 
 
 def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:

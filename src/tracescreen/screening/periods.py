@@ -1,11 +1,12 @@
-"""Limits that apply to a statistic over time: running annual means and period percentiles.
-
-Some limits are not compared with each result but with a statistic of a site's results:
+"""Limits on a statistic of a site's results over time: running annual means, period means, percentiles.
 
 ``basis: running_annual_mean``
     The mean of the site's results (same analyte and fraction) in the 12 months ending at each
     sample: sampled on a day d with ``sample day - 12 months < d <= sample day``. Each result gets
     the mean of its window (e.g. US EPA inorganic MCLs, 40 CFR 141.23(i)).
+``basis: period_mean``
+    The mean of the site's results in each period (``period``): e.g. the calendar-year mean of an
+    annual-average EQS (Directive 2008/105/EC Annex I Part B).
 ``basis: percentile``
     A percentile of the site's results in each monitoring period (``period``: calendar_year,
     half_year, quarter, month), with ``percentile`` (e.g. 90) and ``percentile_method`` (e.g. the
@@ -14,9 +15,9 @@ Some limits are not compared with each result but with a statistic of a site's r
 
 How non-detects enter the statistic is the table setting ``nondetect_rule``: ``zero``, ``half_dl``
 (half the detection limit), ``dl`` (the detection limit) or ``kaplan_meier`` (Kaplan-Meier mean or
-quantile with the Efron correction, :func:`tracescreen.statistics.censored.kaplan_meier_grouped`). Whatever the
-rule, the statistic is also computed with non-detects at zero and at their detection limit; these bounds bracket the statistic of the true
-values, and a non-detect is never made into an exceedance:
+quantile, Efron correction, :func:`tracescreen.statistics.censored.kaplan_meier_grouped`). The statistic
+is also computed with non-detects at zero and at their detection limit; these bounds bracket the
+statistic of the true values, and a non-detect is never made into an exceedance:
 
 - ``exceeds``: the rule's value is above the limit and so is the value with non-detects at zero;
 - ``nondetect_inconclusive``: the rule's value is above the limit only because of non-detects, or
@@ -25,12 +26,10 @@ values, and a non-detect is never made into an exceedance:
   non-detects at their detection limit);
 - ``nondetect_meets``: every result is a non-detect, all detection limits at or below the limit.
 
-Percentile methods: :mod:`tracescreen.screening.percentiles`. The status of a period value follows
-:func:`tracescreen.screening.status.statistic_status`.
-
-:func:`apply_period_statuses` replaces the status of screening rows whose entry has a period basis;
-:func:`period_table` gives one row per period value with the results that formed it
-(``periods.csv``).
+Percentile methods: :mod:`tracescreen.screening.percentiles`; status of a period value:
+:func:`tracescreen.screening.status.statistic_status`. :func:`apply_period_statuses` replaces the status
+of rows whose entry has a period basis; :func:`period_table` gives one row per period value with the
+results that formed it (``periods.csv``).
 
 References
 ----------
@@ -55,11 +54,11 @@ from tracescreen.limits.schema import PERIOD_BASES
 from tracescreen.screening.percentiles import group_percentiles, substitute
 from tracescreen.screening.rounding import entry_significant_figures, round_to_limit_figures
 from tracescreen.screening.status import statistic_status
+from tracescreen.screening.windows import WINDOW_MONTHS, period_bounds, running_windows, window_sums
 from tracescreen.statistics.censored import kaplan_meier_grouped
 
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
                        "dl": "non-detects at the detection limit", "kaplan_meier": "Kaplan-Meier for non-detects"}
-WINDOW_MONTHS = 12
 
 PERIOD_COLUMNS = [
     "period_id", "limit_table", "use", "site_id", "analyte", "fraction", "basis", "duration", "statistic",
@@ -68,47 +67,6 @@ PERIOD_COLUMNS = [
     "source", "results",
 ]
 
-
-
-def period_bounds(sampled_at: pd.Series, period: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Label, first day and last day of the monitoring period of each date (vectorised)."""
-    t = pd.DatetimeIndex(sampled_at)
-    year = t.year.to_numpy()
-    ytxt = pd.Index(year.astype(str))
-    if period == "calendar_year":
-        first_month, months, label = np.ones_like(year), 12, ytxt
-    elif period == "half_year":
-        half = (t.month.to_numpy() - 1) // 6
-        first_month, months, label = half * 6 + 1, 6, ytxt + "-H" + pd.Index((half + 1).astype(str))
-    elif period == "quarter":
-        qtr = (t.month.to_numpy() - 1) // 3
-        first_month, months, label = qtr * 3 + 1, 3, ytxt + "-Q" + pd.Index((qtr + 1).astype(str))
-    elif period == "month":
-        first_month, months, label = t.month.to_numpy(), 1, pd.Index(t.strftime("%Y-%m"))
-    else:
-        raise ValueError(f"unknown period {period!r}")
-    start = pd.to_datetime(pd.DataFrame({"year": year, "month": first_month, "day": 1}))
-    end = start + pd.DateOffset(months=months) - pd.Timedelta(days=1)
-    return label.to_numpy(dtype=object), start.to_numpy(), end.to_numpy()
-
-
-def running_windows(series_code: np.ndarray, sampled_at, months: int = WINDOW_MONTHS):
-    """Window [start, stop) of each row: same series, day in (day - months, day]. Rows sorted by (series, date)."""
-    t = pd.DatetimeIndex(sampled_at)
-    day = t.to_numpy(dtype="datetime64[D]").astype(np.int64)
-    first = (t - pd.DateOffset(months=months)).to_numpy(dtype="datetime64[D]").astype(np.int64)
-    base = day.min() if day.size else 0
-    span = (day.max() - base if day.size else 0) + 800
-    code = np.asarray(series_code, dtype=np.int64) * span
-    key = code + (day - base + 400)
-    stop = np.searchsorted(key, key, side="right")
-    start = np.searchsorted(key, code + (first - base + 400), side="right")
-    return start, stop
-
-
-def _window_sums(x: np.ndarray, start: np.ndarray, stop: np.ndarray) -> np.ndarray:
-    cs = np.concatenate([[0.0], np.cumsum(x)])
-    return cs[stop] - cs[start]
 
 
 #: Notes on period values whose decision depends on the non-detects (kind 1 and 2 of :func:`_decide`).
@@ -175,8 +133,8 @@ def _joined(rows: dict, start: np.ndarray, stop: np.ndarray) -> list[str]:
 
 
 def _series_codes(rows: dict, extra: np.ndarray | None = None) -> np.ndarray:
-    """One integer per (table, duration, site, analyte, fraction[, extra]) series (mixed radix)."""
-    cols = [rows[k] for k in ("limit_table", "duration", "site_id", "analyte", "fraction")]
+    """One integer per (table, duration, scope, site, analyte, fraction[, extra]) series (mixed radix)."""
+    cols = [rows[k] for k in ("limit_table", "duration", "limit_scope", "site_id", "analyte", "fraction") if k in rows]
     key = np.zeros(len(cols[0]), dtype=np.int64)
     for c in cols + ([extra] if extra is not None else []):
         codes, cats = pd.factorize(c)
@@ -223,10 +181,11 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
     if pos.size == 0:
         return (pd.DataFrame(columns=["status", "ratio", "note", "period_id", "period_value_ug_L"]),
                 pd.DataFrame(columns=PERIOD_COLUMNS))
-    rows = {c: _values_at(screened[c], pos) for c in _ROW_COLUMNS}
+    rows = {c: _values_at(screened[c], pos) for c in _ROW_COLUMNS + ["limit_scope"] if c in screened}
     par = _entry_params(rows, limits)
     per_rows, tables = [], []
-    for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles)):
+    for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles),
+                      ("period_mean", _percentiles)):
         sel = np.flatnonzero(rows["basis"] == basis)
         if sel.size:
             r, t = fn(_take(rows, sel), _take(par, sel), with_results, with_table)
@@ -256,17 +215,17 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
     det = r["detected"].astype(bool)
     val, dl = r["value_ug_L"].astype(float), r["detection_limit_ug_L"].astype(float)
     n = (stop - start).astype(float)
-    n_nd = _window_sums((~det).astype(float), start, stop)
+    n_nd = window_sums((~det).astype(float), start, stop, code)
     rule = p["rule"]
     value = np.full(code.size, np.nan)
     for name in ("zero", "half_dl", "dl"):
         m = rule == name
         if m.any():
-            value[m] = (_window_sums(substitute(val, dl, det, name), start, stop) / n)[m]
+            value[m] = (window_sums(substitute(val, dl, det, name), start, stop, code) / n)[m]
     upper_values = substitute(val, dl, det, "dl")  # the censored-series convention: DL for a non-detect
-    lower = _window_sums(substitute(val, dl, det, "zero"), start, stop) / n
-    upper = _window_sums(upper_values, start, stop) / n
-    has_nan = _window_sums(np.isnan(upper_values).astype(float), start, stop) > 0
+    lower = window_sums(substitute(val, dl, det, "zero"), start, stop, code) / n
+    upper = window_sums(upper_values, start, stop, code) / n
+    has_nan = window_sums(np.isnan(upper_values).astype(float), start, stop, code) > 0
     km = np.flatnonzero((rule == "kaplan_meier") & ~has_nan)
     if km.size:  # every window as its own series (windows overlap), one vectorised pass
         size = stop[km] - start[km]
@@ -320,15 +279,27 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     group = np.repeat(np.arange(starts.size), stops - starts)
     last = stops - 1  # the limit in force on the period's last sample date applies
     pct, method, rule = p["percentile"][last], p["percentile_method"][last], p["rule"][last]
-    lower = group_percentiles(substitute(val, dl, det, "zero"), group, pct, method)
-    upper = group_percentiles(substitute(val, dl, det, "dl"), group, pct, method)
+    mean = r["basis"][last] == "period_mean"  # one basis per call: every group a mean, or every one a percentile
+
+    def stat_of(x):
+        if mean.any():
+            return np.bincount(group, weights=x, minlength=starts.size) / np.bincount(group, minlength=starts.size)
+        return group_percentiles(x, group, pct, method)
+
+    lower = stat_of(substitute(val, dl, det, "zero"))
+    upper = stat_of(substitute(val, dl, det, "dl"))
     value = np.full(starts.size, np.nan)
     for name in ("zero", "half_dl", "dl"):
         m = rule == name
         if m.any():
-            value[m] = group_percentiles(substitute(val, dl, det, name), group, pct, method)[m]
+            value[m] = stat_of(substitute(val, dl, det, name))[m]
     censored = np.zeros(starts.size, dtype=bool)
     km = (rule == "kaplan_meier") & (np.bincount(group, weights=np.isnan(dl) & ~det, minlength=starts.size) == 0)
+    if mean.any() and km.any():  # Kaplan-Meier mean of each period
+        g_in = np.isin(group, np.flatnonzero(km))
+        value[km] = kaplan_meier_grouped(substitute(val, dl, det, "dl")[g_in], ~det[g_in], np.searchsorted(
+            np.flatnonzero(km), group[g_in]), int(km.sum()), probs=())["mean"].to_numpy()
+        km[:] = False
     for q in np.unique(pct[km]):  # Kaplan-Meier quantile: smallest x with F(x) >= q
         groups = np.flatnonzero(km & (pct == q))
         rows_in = np.isin(group, groups)
@@ -344,7 +315,8 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     status, kind = _decide(value, lower, upper, (n_nd == n) | censored, limit, p["sig"][last], p["rounding"][last])
     lim_min = np.minimum.reduceat(np.nan_to_num(limit_all, nan=np.inf), starts)
     lim_max = np.maximum.reduceat(np.nan_to_num(limit_all, nan=-np.inf), starts)
-    stat = np.char.mod("%g", pct).astype(object) + "th percentile (" + method.astype(str).astype(object) + ")"
+    stat = np.where(mean, "mean", np.char.mod("%g", np.nan_to_num(pct)).astype(object) + "th percentile ("
+                    + method.astype(str).astype(object) + ")").astype(object)
     note = combo_text([stat, n, label[last], rule, kind, lim_min != lim_max],
                        lambda st, k, lab, ru, kd, ch: "; ".join(filter(None, [
                            f"{st} of {k} result{'' if k == 1 else 's'} in {lab} ({NONDETECT_RULE_TEXT[ru]})", DECISION_NOTES[kd],
@@ -358,7 +330,7 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
         return per_row, {"status": status}
     periods = {
         "limit_table": r["limit_table"][last], "use": p["use"][last], "site_id": r["site_id"][last],
-        "analyte": r["analyte"][last], "fraction": r["fraction"][last], "basis": "percentile",
+        "analyte": r["analyte"][last], "fraction": r["fraction"][last], "basis": r["basis"][last],
         "duration": r["duration"][last], "statistic": stat, "period": label[last],
         "period_start": p_start[last], "period_end": p_end[last], "n_results": n, "n_nondetects": n_nd,
         "nondetect_rule": rule, "value_ug_L": value, "value_nondetects_zero_ug_L": lower,
@@ -368,17 +340,24 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     return per_row, periods
 
 
-def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
-    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``)."""
+def period_statuses(screened: pd.DataFrame, limits, with_table: bool = False,
+                    with_results: bool = True) -> tuple[pd.DataFrame, pd.DataFrame | None]:
+    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``),
+    and the periods table when ``with_table`` (computed in the same pass; :data:`PERIOD_COLUMNS`)."""
     out = screened
     if "period_id" not in out or "period_value_ug_L" not in out:
         out = out.assign(period_id=pd.array([pd.NA] * len(out), dtype="Int64"), period_value_ug_L=np.nan)
-    per_row, _ = evaluate(out, limits, with_table=False)
+    per_row, table = evaluate(out, limits, with_results=with_table and with_results, with_table=with_table)
     if len(per_row):
         where = per_row.index.to_numpy()
         out = out.assign(**{c: replace_at(out[c], where, per_row[c].array)
                             for c in ("status", "ratio", "note", "period_id", "period_value_ug_L")})
-    return out
+    return out, table
+
+
+def apply_period_statuses(screened: pd.DataFrame, limits) -> pd.DataFrame:
+    """Screening rows with period-basis statuses filled in (adds ``period_id, period_value_ug_L``)."""
+    return period_statuses(screened, limits)[0]
 
 
 def period_table(screened: pd.DataFrame, limits) -> pd.DataFrame:

@@ -65,6 +65,13 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
         ``qc_sample`` row for a result without one. ``ratio`` is value/limit for a detect and
         detection limit/limit for a non-detect.
     """
+    out = periods.apply_period_statuses(_screen_rows(results, limits, sites, rel_tol, cross_fraction), limits)
+    release_unused()
+    return out
+
+
+def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fraction: bool) -> pd.DataFrame:
+    """Every (result, entry) row with its single-result status (and rounding); period rules not yet applied."""
     results = results.reset_index(drop=True)
     n = len(results)
     hard = sample_hardness(results, sites)
@@ -167,10 +174,20 @@ def screen(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFra
     # copy=False: one block per column, nothing copied or consolidated (a screening table is large)
     out = pd.DataFrame({c: cols[c] for c in SCREENING_COLUMNS}, copy=False)
     out = frequency.apply_sampling_frequency(out, limits)  # yearly-or-less points: each result decides
-    out = rounding.apply_rounding(out, limits)  # tables that compare after rounding
-    out = periods.apply_period_statuses(out, limits)  # running annual means and percentiles
+    return rounding.apply_rounding(out, limits)  # tables that compare after rounding
+
+
+def screen_with_periods(results: pd.DataFrame, limits: limits_mod.LimitSet, sites: pd.DataFrame | None = None,
+                        rel_tol: float = REL_TOL, cross_fraction: bool = True,
+                        with_results: bool = True) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """:func:`screen` and the periods table (``periods.csv``) from one evaluation of the period rules.
+
+    ``with_results`` lists, per period value, the results that formed it (column ``results``).
+    """
+    out, table = periods.period_statuses(_screen_rows(results, limits, sites, rel_tol, cross_fraction), limits,
+                                         with_table=True, with_results=with_results)
     release_unused()
-    return out
+    return out, table
 
 
 NUMERIC_ENTRY_COLUMNS = ["value_ug_L", "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope",
@@ -182,6 +199,8 @@ HARDNESS_REMARKS = ("", "hardness-dependent limit",
 LONE_NOTES = ("no limit entry in force on the sampling date",
               "no limit for this analyte and fraction in the tables for this site's uses")
 QC_NOTES = ("field_duplicate", "field_blank", "lab_blank")
+
+
 def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_fractions: np.ndarray,
            entry_inputs: np.ndarray | None = None) -> pd.Categorical:
     """Note text per row from its key (entry x limit remark x cross-fraction, or a no-limit /

@@ -32,14 +32,13 @@ import numpy as np
 import pandas as pd
 
 from tracescreen.statistics.lognormal import _lognormal_mle_rows
+from tracescreen.statistics.options import METHODS
 from tracescreen.statistics.ros import _ros_rows
 from tracescreen.statistics.series import PROBS, as_series, chunks
 
 #: Substitution factors for the ``substitution_*`` methods (fraction of the detection limit).
 SUBSTITUTION = {"substitution_zero": 0.0, "substitution_half_dl": 0.5, "substitution_dl": 1.0}
 
-#: Accepted ``method`` values for :func:`censored_statistics_grouped`.
-METHODS = ("kaplan_meier", "ros", "mle_lognormal", *SUBSTITUTION)
 
 
 # --------------------------------------------------------------------------- Kaplan-Meier

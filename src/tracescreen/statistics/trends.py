@@ -13,18 +13,15 @@ import pandas as pd
 
 from tracescreen._internal.text import join_notes
 from tracescreen.statistics.mann_kendall import TREND_COLUMNS, mann_kendall_grouped
+from tracescreen.statistics.options import MIN_VALUES
 from tracescreen.statistics.series import (
     censored_series, date_from_decimal_year, decimal_years, group_codes, site_samples,
 )
-
 
 TABLE_COLUMNS = ["site_id", "analyte", "fraction", "n", "n_nondetect", "first_sampled",
                  "last_sampled", "test", "s", "var_s", "z", "p_value", "tau", "slope_per_year",
                  "slope_low", "slope_high", "slope_method", "intercept", "direction",
                  "lowest_limit_ug_L", "lowest_limit_table", "crosses_limit_on", "note"]
-
-#: Fewer values than this: no trend direction (common practice).
-MIN_VALUES = 8
 
 #: Crossing dates further than this beyond the last sample are not given (years).
 HORIZON_YEARS = 50.0

@@ -163,3 +163,28 @@ def concentration_from_response(response, slope, intercept) -> np.ndarray:
     """
     with np.errstate(divide="ignore", invalid="ignore"):
         return (np.asarray(response, dtype=float) - np.asarray(intercept, dtype=float)) / np.asarray(slope, dtype=float)
+
+
+SAMPLE_COLUMNS = ["analyte", "run", "sample_id", "response", "reported_ug_L", "recomputed_ug_L", "difference_pct",
+                  "within_standards"]
+
+
+def recompute_samples(points: pd.DataFrame, fits: pd.DataFrame) -> pd.DataFrame:
+    """Concentrations of ``sample`` rows recomputed from their responses on their curve (same
+    analyte and run), beside the reported result: ``difference_pct`` = 100 (reported − recomputed) /
+    recomputed; ``within_standards`` whether the recomputed value lies within the standards."""
+    s = points[points["kind"] == "sample"] if "kind" in points.columns else points.iloc[:0]
+    if s.empty:
+        return pd.DataFrame({c: pd.Series(dtype=object) for c in SAMPLE_COLUMNS})
+    f = fits.assign(analyte=fits["analyte"].astype(str), run=fits["run"].astype(str))
+    m = s.assign(analyte=s["analyte"].astype(str), run=s["run"].astype(str)).merge(
+        f[["analyte", "run", "slope", "intercept", "lowest_standard_ug_L", "highest_standard_ug_L"]],
+        on=["analyte", "run"], how="left")
+    x = concentration_from_response(m["response"], m["slope"], m["intercept"])
+    rep = m["result_ug_L"].to_numpy(float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        diff = np.where(x != 0, 100.0 * (rep - x) / x, np.nan)
+    inside = (x >= m["lowest_standard_ug_L"].fillna(0).to_numpy()) & (x <= m["highest_standard_ug_L"].to_numpy())
+    return pd.DataFrame({"analyte": m["analyte"], "run": m["run"], "sample_id": m["sample_id"],
+                         "response": m["response"], "reported_ug_L": rep, "recomputed_ug_L": x,
+                         "difference_pct": diff, "within_standards": inside})[SAMPLE_COLUMNS]

@@ -8,12 +8,14 @@ column                meaning
 ====================  =======================================================================
 ``analyte``           metal (name, symbol or CAS), required
 ``run``               calibration run or curve id (optional; one curve per analyte and run)
-``kind``              ``standard``, ``calibration_blank``, ``mdl_spike``, ``mdl_blank``
+``kind``              ``standard``, ``calibration_blank``, ``mdl_spike``, ``mdl_blank``, ``sample``
                       (optional: a point with concentration 0 is a calibration blank, others
                       standards)
 ``concentration``     nominal concentration of a standard or spike level
 ``response``          instrument response (absorbance, counts, intensity) of a standard or blank
-``result``            measured concentration of an MDL spiked sample or method blank
+``result``            measured concentration of an MDL spiked sample or method blank, or the
+                      reported result of a sample
+``sample_id``         the sample of a ``sample`` row (its response is recomputed on the curve)
 ``unit``              concentration unit (default µg/L)
 ====================  =======================================================================
 
@@ -34,12 +36,14 @@ from tracescreen.io.columns import header_key
 from tracescreen.io.units import factors_for
 from tracescreen.retest.labqc.reading import csv_records, qc_number
 
-POINT_COLUMNS = ["file", "sheet", "row", "analyte", "run", "kind", "concentration_ug_L", "response", "result_ug_L"]
-KINDS = ("standard", "calibration_blank", "mdl_spike", "mdl_blank")
+POINT_COLUMNS = ["file", "sheet", "row", "analyte", "run", "kind", "sample_id", "concentration_ug_L", "response",
+                 "result_ug_L"]
+KINDS = ("standard", "calibration_blank", "mdl_spike", "mdl_blank", "sample")
 
 HEADERS = {
     "analyte": ("analyte", "element", "metal", "parameter", "chemicalname", "characteristicname", "analytename"),
     "run": ("run", "runid", "calibrationid", "curve", "curveid", "sequence", "batch", "calibrationrun"),
+    "sample_id": ("sampleid", "labsampleid", "samplename", "sample", "samplecode"),
     "kind": ("kind", "type", "pointtype", "standardtype", "sampletype", "qctype"),
     "concentration": ("concentration", "conc", "nominalconcentration", "nominal", "standardconcentration",
                       "stdconc", "trueconcentration", "truevalue", "expected", "spikelevel", "level"),
@@ -54,6 +58,7 @@ KIND_WORDS = {
     "icb": "calibration_blank", "s0": "calibration_blank", "std0": "calibration_blank",
     "mdlspike": "mdl_spike", "spike": "mdl_spike", "spiked": "mdl_spike", "mdlspiked": "mdl_spike",
     "spikedblank": "mdl_spike", "mdlblank": "mdl_blank", "methodblank": "mdl_blank", "mb": "mdl_blank",
+    "sample": "sample", "unknown": "sample", "fieldsample": "sample",
 }
 
 
@@ -129,16 +134,19 @@ def read_calibration(path: str | Path, encoding: str = "utf-8") -> CalibrationDa
         why = np.select(
             [pd.isna(names), pd.isna(kind), np.isnan(factor),
              np.isin(kind, ["standard", "calibration_blank"]) & (np.isnan(conc) | np.isnan(resp)),
-             np.isin(kind, ["mdl_spike", "mdl_blank"]) & np.isnan(result) & (kind != "mdl_blank")],
+             (kind == "mdl_spike") & np.isnan(result),
+             (kind == "sample") & np.isnan(resp)],
             ["analyte '" + col("analyte") + "' is not in the analyte registry",
              "kind '" + col("kind") + "' is not one of " + ", ".join(KINDS),
              "unit '" + unit + "' is not a concentration unit",
              "a standard or blank needs a concentration and a response",
-             "an MDL spiked sample needs a result"], "")
+             "an MDL spiked sample needs a result",
+             "a sample needs a response to recompute"], "")
         ok = why == ""
         rejected.append(pd.DataFrame({"file": p.name, "sheet": sheet, "row": rows[~ok], "reason": why[~ok]}))
         points.append(pd.DataFrame({"file": p.name, "sheet": sheet, "row": rows[ok],
                                     "analyte": names[ok].astype(str), "run": col("run").to_numpy()[ok],
+                                    "sample_id": col("sample_id").to_numpy()[ok],
                                     "kind": kind[ok], "concentration_ug_L": conc[ok], "response": resp[ok],
                                     "result_ug_L": result[ok]}))
     if not points:

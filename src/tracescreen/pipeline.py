@@ -1,0 +1,278 @@
+"""One run of tracescreen, from input files to every output table: ``run(inputs, options) -> Results``.
+
+The steps, each run once, in order (the data contract between them: DEVELOPERS.md, "The data model"):
+
+1. :func:`load` -- limit tables (:mod:`tracescreen.limits.load`), the sites file
+   (:mod:`tracescreen.io.sites`) and the lab files or a workspace's current results
+   (:mod:`tracescreen.io.loading`, :mod:`tracescreen.store.workspace`): accepted, set-aside and
+   rejected rows, and every input file with its SHA-256.
+2. :func:`screen` -- every accepted result against every limit that applies
+   (:mod:`tracescreen.screening`), in parts of whole sites so that peak memory stays bounded
+   (:mod:`tracescreen.screening.parts`); the period rules (running means, percentiles) are
+   evaluated once, giving both the period statuses and the periods table; optionally the
+   measurement-uncertainty guard band (:mod:`tracescreen.screening.uncertainty`).
+3. :func:`statistics` -- summaries, exceedance rates and trend tests per series
+   (:mod:`tracescreen.statistics`).
+4. :func:`retest` -- the retest list from result flags and QC checks (:mod:`tracescreen.retest`).
+
+``tracescreen screen``, ``trends`` and ``report`` and the dashboard call these functions; none
+wires the stages itself. The module is light to import: each step imports its stage when it runs.
+
+Examples
+--------
+>>> from tracescreen.pipeline import Inputs, Options, run
+>>> results = run(Inputs(results=("lab.csv",), limits=("limits/",), sites="sites.csv"),
+...               Options(guard_band=1.0))  # doctest: +SKIP
+>>> results.screened["status"].value_counts()  # doctest: +SKIP
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Callable
+
+from tracescreen.retest.options import RetestOptions
+from tracescreen.statistics.options import StatisticsOptions
+
+
+@dataclass(frozen=True)
+class Inputs:
+    """What a run reads.
+
+    Attributes
+    ----------
+    results : tuple of str
+        Lab files (CSV, XLSX); empty when ``workspace`` is given.
+    limits : tuple of str
+        Limit-table YAML files or folders of them.
+    sites : str or None
+        Sites CSV; without it every limit table applies to every site.
+    workspace : str or None
+        A workspace folder: its current results instead of ``results``.
+    reading : tracescreen.io.loading.LoadOptions or None
+        How to read the lab files (column map, date order, ...); None for the defaults.
+    """
+
+    results: tuple = ()
+    limits: tuple = ()
+    sites: str | None = None
+    workspace: str | None = None
+    reading: Any = None
+
+
+@dataclass(frozen=True)
+class Options:
+    """What a run computes, and how.
+
+    Attributes
+    ----------
+    cross_fraction : bool
+        Decide across fractions where certain (total >= dissolved; :mod:`tracescreen.screening.fractions`).
+    guard_band : float or None
+        Guard band factor f of the uncertainty decision (g = f x U); None: no uncertainty columns.
+    periods : bool
+        Build the periods table (``periods.csv``) with the results behind each period value.
+    statistics : StatisticsOptions or None
+        Summaries and trend tests to compute; None: none.
+    retest : RetestOptions or None
+        Retest checks to run; None: no retest list.
+    part_rows : int or None
+        Results screened at once (parts of whole sites); None: :data:`tracescreen.screening.parts.PART_ROWS`.
+    record_run : str or None
+        With a workspace, record this run in it under this command name (with the SHA-256 of the
+        limit tables and the sites file).
+    """
+
+    cross_fraction: bool = True
+    guard_band: float | None = None
+    periods: bool = True
+    statistics: StatisticsOptions | None = field(default_factory=StatisticsOptions)
+    retest: RetestOptions | None = field(default_factory=RetestOptions)
+    part_rows: int | None = None
+    record_run: str | None = None
+
+
+@dataclass
+class Loaded:
+    """The inputs as read (step 1)."""
+
+    loaded: Any  # tracescreen.io.loading.LoadResult: accepted, rejected, set_aside, files, warnings
+    limits: Any  # tracescreen.limits.load.LimitSet
+    sites: Any  # DataFrame of sites, or None
+    input_files: Any  # DataFrame: kind, file, path, sheet, sha256 of every input file
+
+
+@dataclass
+class Results(Loaded):
+    """Every output table of a run (see DEVELOPERS.md for each table's columns).
+
+    Attributes
+    ----------
+    screened : DataFrame
+        ``screening.csv``: one row per (result, applicable limit).
+    periods : DataFrame or None
+        ``periods.csv``: one row per period value.
+    summary, exceedances, trends : DataFrame or None
+        ``summary.csv``, ``exceedances.csv``, ``trends.csv``.
+    retest : DataFrame or None
+        ``retest.csv``.
+    options : Options
+        The options of the run.
+    """
+
+    screened: Any = None
+    periods: Any = None
+    summary: Any = None
+    exceedances: Any = None
+    trends: Any = None
+    retest: Any = None
+    options: Options = field(default_factory=Options)
+
+    @property
+    def statistics_notes(self) -> list[str]:
+        """The statistics methods in words (empty when no statistics were computed)."""
+        return self.options.statistics.notes() if self.options.statistics is not None else []
+
+
+def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
+    """Step 1: read limit tables, sites and results (user errors raise the stage's own error).
+
+    Parameters
+    ----------
+    inputs : Inputs
+    record_run : str, optional
+        With a workspace, record the run in it under this command name.
+    """
+    from tracescreen._internal.hashing import file_sha256
+    from tracescreen.io.sites import load_sites
+    from tracescreen.limits.load import load_limits
+
+    limits = load_limits(list(inputs.limits))
+    sites = load_sites(inputs.sites) if inputs.sites else None
+    loaded = read_results(inputs, sites)
+    rows = [{"kind": "results", "file": r.file, "path": r.path, "sheet": r.sheet, "sha256": r.sha256}
+            for r in loaded.files.itertuples()] if len(loaded.files) else []
+    rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": file_sha256(p)}
+             for p in limits.tables["path"]]
+    if inputs.sites:
+        rows.append({"kind": "sites", "file": Path(inputs.sites).name, "path": inputs.sites, "sheet": "",
+                     "sha256": file_sha256(inputs.sites)})
+    if inputs.workspace and record_run:
+        from tracescreen.store.workspace import open_workspace
+
+        with open_workspace(inputs.workspace) as ws:
+            ws.record_screening_run(record_run, len(loaded.accepted), limits.tables["path"], inputs.sites,
+                                    {"accepted": len(loaded.accepted), "rejected": len(loaded.rejected)})
+    import pandas as pd
+
+    return Loaded(loaded, limits, sites, pd.DataFrame(rows))
+
+
+def read_results(inputs: Inputs, sites=None):
+    """The lab results of a run: the lab files of ``inputs``, or its workspace's current results
+    (:class:`tracescreen.io.loading.LoadResult`; results of sites not in ``sites`` are rejected)."""
+    sites_name = Path(inputs.sites).name if inputs.sites else "the sites file"
+    if inputs.workspace:
+        from tracescreen.store.workspace import open_workspace
+
+        with open_workspace(inputs.workspace) as ws:
+            return ws.load_result(sites, sites_name)
+    from tracescreen.io.loading import load_results
+
+    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name)
+
+
+def screen(data: Loaded, options: Options) -> tuple[Any, Any]:
+    """Step 2: the screening rows and (when ``options.periods``) the periods table, from one pass.
+
+    Returns
+    -------
+    (screened, periods)
+    """
+    from tracescreen._internal.memory import release_unused
+    from tracescreen.screening.parts import PART_ROWS, screen_in_parts
+
+    screened, periods = screen_in_parts(data.loaded.accepted, data.limits, data.sites,
+                                        cross_fraction=options.cross_fraction, with_periods=options.periods,
+                                        part_rows=options.part_rows or PART_ROWS)
+    if options.guard_band is not None:
+        from tracescreen.screening.uncertainty import uncertainty_decision
+
+        screened = uncertainty_decision(screened, options.guard_band)
+    release_unused()
+    return screened, periods
+
+
+def statistics(accepted, screened, options: StatisticsOptions) -> dict:
+    """Step 3: the statistics tables ``options.tables`` asks for: ``summary``, ``exceedances``, ``trends``."""
+    from tracescreen._internal.memory import release_unused
+
+    out = {}
+    if "summary" in options.tables:
+        from tracescreen.statistics.summary import summarise
+
+        out["summary"] = summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed)
+        release_unused()
+    if "exceedances" in options.tables:
+        from tracescreen.statistics.summary import exceedance_rates
+
+        out["exceedances"] = exceedance_rates(screened)
+    if "trends" in options.tables:
+        out["trends"] = trends(accepted, screened, options)
+        release_unused()
+    return out
+
+
+def trends(accepted, screened, options: StatisticsOptions):
+    """The trend table (``trends.csv``) of the site samples, with the lowest limit each series must meet."""
+    import pandas as pd
+
+    from tracescreen.statistics.trends import TABLE_COLUMNS, lowest_limits, trend_table
+
+    if not (accepted["sample_type"].astype(str) == "sample").any():  # nothing to test: empty table
+        return pd.DataFrame({c: pd.Series(dtype=object) for c in TABLE_COLUMNS})
+    return trend_table(accepted, alpha=options.alpha, seasonal=options.seasonal,
+                       min_n=options.min_trend_values, limits=lowest_limits(screened))
+
+
+def retest(screened, options: RetestOptions, lab_qc=None):
+    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the others."""
+    from tracescreen._internal.memory import release_unused
+    from tracescreen.retest.listing import retest_list
+
+    out = retest_list(screened, options, lab_qc=lab_qc)
+    release_unused()
+    return out
+
+
+def run(inputs: Inputs, options: Options | None = None,
+        on_loaded: Callable[[Loaded], None] | None = None) -> Results:
+    """Load, screen, compute statistics and the retest list: every output table of one run.
+
+    Parameters
+    ----------
+    inputs : Inputs
+        Files (or a workspace), limit tables and sites.
+    options : Options, optional
+        What to compute; the defaults compute everything.
+    on_loaded : callable, optional
+        Called with the :class:`Loaded` inputs before screening (e.g. to show the loader's warnings).
+
+    Returns
+    -------
+    Results
+    """
+    options = options or Options()
+    data = load(inputs, options.record_run)
+    if on_loaded is not None:
+        on_loaded(data)
+    screened, periods = screen(data, options)
+    out = Results(data.loaded, data.limits, data.sites, data.input_files, screened=screened, periods=periods,
+                  options=options)
+    if options.statistics is not None:
+        for name, table in statistics(data.loaded.accepted, screened, options.statistics).items():
+            setattr(out, name, table)
+    if options.retest is not None:
+        out.retest = retest(screened, options.retest)
+    return out

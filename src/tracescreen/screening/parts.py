@@ -1,0 +1,150 @@
+"""Screening a large set of results in parts of whole sites, to bound peak memory.
+
+:func:`tracescreen.screening.screen.screen` holds several working copies of its output while it
+runs (the period statuses, the rounding decisions); for a million results that is more than a
+gigabyte on top of the result. Everything it computes stays within one site (the applicable limits
+follow the site's uses, hardness is per site and sample, a cross-fraction pair is one sample, running
+means and percentiles are per site, metal, fraction and limit), so screening groups of whole sites
+one after the other gives the same rows, with only one group's working copies alive at a time. The
+parts are joined category-wise (text stays categorical) and put back in input order.
+
+``period_id`` is a run's own number linking a screening row to its row of the periods table: with
+several parts each part's ids follow the previous part's.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from pandas.api.types import union_categoricals
+
+from tracescreen._internal.memory import release_unused
+from tracescreen.screening.screen import screen, screen_with_periods
+
+#: results per part (a part always holds whole sites, so it may be larger)
+PART_ROWS = 250_000
+
+
+def site_parts(site_codes: np.ndarray, part_rows: int = PART_ROWS) -> list[tuple[int, int]]:
+    """``(start, stop)`` row ranges of about ``part_rows`` rows that never split a site.
+
+    ``site_codes`` must be sorted (rows of a site contiguous).
+    """
+    n = len(site_codes)
+    if n <= part_rows:
+        return [(0, n)]
+    starts = np.flatnonzero(np.r_[True, site_codes[1:] != site_codes[:-1]])  # first row of each site
+    bounds = [0]
+    while bounds[-1] < n:
+        want = bounds[-1] + part_rows
+        nxt = starts[np.searchsorted(starts, want)] if want < n and want <= starts[-1] else n
+        if nxt <= bounds[-1]:  # one site longer than a part: take it whole
+            later = starts[starts > bounds[-1]]
+            nxt = int(later[0]) if len(later) else n
+        bounds.append(int(nxt))
+    return list(zip(bounds[:-1], bounds[1:]))
+
+
+def screen_in_parts(results: pd.DataFrame, limits, sites: pd.DataFrame | None = None, *,
+                    cross_fraction: bool = True, with_periods: bool = False, with_results: bool = True,
+                    part_rows: int = PART_ROWS) -> tuple[pd.DataFrame, pd.DataFrame | None]:
+    """Screening of ``results`` (and the periods table when ``with_periods``), in parts of whole sites.
+
+    Parameters
+    ----------
+    results : DataFrame
+        Accepted results (any order).
+    limits, sites
+        As for :func:`tracescreen.screening.screen.screen`.
+    cross_fraction : bool
+        Decide across fractions where certain (see :mod:`tracescreen.screening.fractions`).
+    with_periods : bool
+        Also return the periods table (``periods.csv``), from the same evaluation of the period rules.
+    with_results : bool
+        List, per period value, the results that formed it.
+    part_rows : int
+        About how many results per part; up to this many are screened in one go.
+
+    Returns
+    -------
+    (screened, periods)
+        The screening rows in input order, exactly as one call of ``screen`` gives them (categories
+        of text columns aside); ``periods`` is None unless ``with_periods``.
+    """
+    def one(frame):
+        if with_periods:
+            return screen_with_periods(frame, limits, sites, cross_fraction=cross_fraction, with_results=with_results)
+        return screen(frame, limits, sites, cross_fraction=cross_fraction), None
+
+    if len(results) <= part_rows:
+        return one(results)
+    # `row` carries each result's input position through screening (it is only copied to the
+    # output) and gets its own value back at the end
+    original_row = results["row"].to_numpy()
+    site_codes, _ = pd.factorize(results["site_id"], sort=True)
+    order = np.argsort(site_codes, kind="stable")
+    ordered = results.iloc[order].reset_index(drop=True).assign(row=order)
+    screened_parts, period_parts, offset = [], [], 0
+    for lo, hi in site_parts(site_codes[order], part_rows):
+        part, table = one(ordered.iloc[lo:hi])
+        if "period_id" in part.columns and part["period_id"].notna().any():
+            ids = part["period_id"]
+            part["period_id"] = ids + offset
+            if table is not None:
+                table["period_id"] = table["period_id"].to_numpy() + offset
+            offset += len(table) if table is not None else int(ids.max())
+        screened_parts.append(part)
+        if table is not None and (len(table) or not period_parts):
+            period_parts.append(table)  # parts without period values add nothing (and no object dtypes)
+        release_unused()
+    del ordered
+    screened = join_frames(screened_parts, consume=True)
+    position = screened["row"].to_numpy()
+    if not (np.diff(position) >= 0).all():
+        screened = screened.iloc[np.argsort(position, kind="stable")].reset_index(drop=True)
+        position = screened["row"].to_numpy()
+    screened["row"] = original_row[position]
+    period_parts = [t for t in period_parts if len(t)] or period_parts[:1]
+    periods = join_frames(period_parts, consume=True) if with_periods else None
+    return screened, periods
+
+
+def _is_text(values: pd.Series) -> bool:
+    dtype = values.dtype
+    return dtype == object or pd.api.types.is_string_dtype(dtype) or isinstance(dtype, pd.CategoricalDtype)
+
+
+def _object_categorical(values: pd.Series) -> pd.Categorical:
+    """A text column as a categorical with object-dtype categories (missing stays missing)."""
+    if not isinstance(values.dtype, pd.CategoricalDtype):
+        values = values.astype("category")
+    cats = values.cat.categories
+    objects = pd.Index(np.asarray(cats, dtype=object), dtype=object)
+    return pd.Categorical.from_codes(values.cat.codes.to_numpy(), dtype=pd.CategoricalDtype(objects), validate=False)
+
+
+def join_frames(frames: list[pd.DataFrame], consume: bool = False) -> pd.DataFrame:
+    """Rows of ``frames`` one after the other, text columns joined category-wise.
+
+    ``pd.concat`` turns categoricals with different categories into plain text, which for a
+    million rows costs as much memory as the table itself; here their categories are united and
+    only the codes are re-mapped. Columns missing from a frame are missing values there. With
+    ``consume``, each frame's column is dropped as soon as it is joined (less memory at once).
+    """
+    columns = list(dict.fromkeys(c for f in frames for c in f.columns))
+    joined = {}
+    for col in columns:
+        pieces = [f[col].reset_index(drop=True) if col in f.columns
+                  else pd.Series(np.full(len(f), np.nan)) for f in frames]
+        present = [p for f, p in zip(frames, pieces) if col in f.columns]
+        if all(_is_text(p) for p in present):
+            cats = [_object_categorical(p) for p in pieces]
+            joined[col] = pd.Series(union_categoricals(cats, ignore_order=True)) if len(cats) > 1 else pd.Series(cats[0])
+        else:
+            joined[col] = pd.concat(pieces, ignore_index=True)
+        if consume:
+            for f in frames:
+                if col in f.columns:
+                    del f[col]
+    # side by side without consolidating same-dtype columns into 2-D blocks (a copy of them all)
+    return pd.concat([v.rename(c) for c, v in joined.items()], axis=1) if joined else pd.DataFrame()

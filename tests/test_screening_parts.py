@@ -1,0 +1,51 @@
+"""Screening in parts of whole sites (tracescreen.screening.parts) gives the rows of one call of screen().
+
+Reference: the engine's own unpartitioned screening of the demo scenario (the property under test is
+that partitioning changes nothing but the memory needed; common practice for chunked processing).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from tracescreen.report.writers import write_csv
+from tracescreen.screening.parts import screen_in_parts, site_parts
+
+PERIOD_KEY = ["limit_table", "site_id", "analyte", "fraction", "basis", "period"]
+
+
+def _period_keys(screened, periods):
+    """Per screening row, the key of the period value it refers to ("" when none)."""
+    key = periods.set_index("period_id")[PERIOD_KEY].astype(str).agg("|".join, axis=1)
+    ids = screened["period_id"]
+    return np.where(ids.notna(), key.reindex(ids.fillna(-1).astype(int)).to_numpy(), "")
+
+
+def test_parts_give_the_same_rows_in_input_order(demo_loaded, tmp_path):
+    acc, limits, sites = demo_loaded.loaded.accepted, demo_loaded.limits, demo_loaded.sites
+    shuffled = acc.iloc[np.random.default_rng(7).permutation(len(acc))].reset_index(drop=True)
+    whole, whole_periods = screen_in_parts(shuffled, limits, sites, with_periods=True)
+    parts, parts_periods = screen_in_parts(shuffled, limits, sites, with_periods=True, part_rows=900)
+    assert len(site_parts(np.sort(shuffled["site_id"].factorize(sort=True)[0]), 900)) > 3  # really in parts
+    cols = [c for c in whole.columns if c != "period_id"]
+    a = write_csv(whole[cols], tmp_path / "whole.csv").read_bytes()
+    b = write_csv(parts[cols], tmp_path / "parts.csv").read_bytes()
+    assert a == b
+    # period ids are the run's own numbers: the same period values, numbered part by part
+    assert (_period_keys(whole, whole_periods) == _period_keys(parts, parts_periods)).all()
+    assert sorted(whole_periods["period_id"]) == sorted(parts_periods["period_id"])
+    rest = [c for c in whole_periods.columns if c != "period_id"]
+    order = PERIOD_KEY + ["duration", "statistic", "period_end", "n_results", "results"]
+    w = whole_periods[rest].sort_values(order).reset_index(drop=True)
+    p = parts_periods[rest].sort_values(order).reset_index(drop=True)
+    assert write_csv(w, tmp_path / "w.csv").read_bytes() == write_csv(p, tmp_path / "p.csv").read_bytes()
+
+
+def test_site_parts_never_split_a_site():
+    codes = np.repeat(np.arange(6), [5, 1, 30, 2, 2, 9])
+    for part_rows in (1, 3, 7, 100):
+        ranges = site_parts(codes, part_rows)
+        assert ranges[0][0] == 0 and ranges[-1][1] == len(codes)
+        assert all(a[1] == b[0] for a, b in zip(ranges, ranges[1:]))
+        for lo, hi in ranges:
+            assert hi == len(codes) or codes[hi] != codes[hi - 1]
