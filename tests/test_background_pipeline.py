@@ -196,3 +196,20 @@ def test_censored_trend_gets_a_bootstrap_band_around_the_theil_sen_line():
     assert rows["nondetect"].any() and a["method"] == "censored_trend_line_bootstrap"
     assert a["lcl_ug_L"] < a["estimate_ug_L"] < a["ucl_ug_L"] and a["ucl_ug_L"] == b["ucl_ug_L"]
     assert a["lcl_ug_L"] < 1 + 0.5 * years[-1] < a["ucl_ug_L"]
+
+
+def test_constituent_window_replaces_the_well_window():
+    """A compliance well's baseline for one constituent ends where that constituent's own window
+    ends; its other constituents keep the well's window (issue 14: a window per well/constituent)."""
+    dates = pd.date_range("2015-01-01", periods=20, freq="QS")
+    res = pd.concat([results_frame({"MW": list(np.linspace(1, 2, 20))}, start="2015-01-01", analyte=a)
+                     for a in ("arsenic", "lead")])
+    net = network([], ["MW"], background_to="2018-12-31")
+    net["analyte"] = ""
+    net = pd.concat([net, pd.DataFrame({"site_id": ["MW"], "role": [""], "well_group": ["all"], "comparison": ["auto"],
+                                        "stage": ["detection"], "background_from": [pd.NaT],
+                                        "background_to": [pd.Timestamp("2016-12-31")], "analyte": ["lead"]})])
+    rows = monitoring_rows(res, net, Design())
+    base = rows[rows["period"] == "baseline"].groupby("analyte").size()
+    assert base["arsenic"] == 16 and base["lead"] == 8
+    assert dates[15] <= pd.Timestamp("2018-12-31")

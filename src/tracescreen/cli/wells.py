@@ -8,7 +8,6 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from tracescreen.report import writers as outputs
 from . import UserError
 from .common import add_reading_options, print_caution, results_from_args, warn
 
@@ -106,6 +105,7 @@ def run(args) -> int:
     from tracescreen.io.network import NetworkError, read_network
     from tracescreen.io.sites import load_sites
     from tracescreen.limits.load import load_limits
+    from tracescreen.report import writers as outputs
     from tracescreen.screening.screen import screen
     from tracescreen.statistics.background.run import well_statistics
 
