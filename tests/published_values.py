@@ -218,9 +218,9 @@ US_EPA_NRWQC_FRESHWATER = [
     Published("nickel", "dissolved", None, "µg/L", NRWQC, _P132, duration="chronic",
               m=0.8460, b=0.0584, cf=0.997, at_100=52, at_100_source="checked (law: " + _CTR + ")"),
     Published("selenium", "dissolved", 3.1, "µg/L", NRWQC + "; selenium 2016 (EPA 822-R-16-006), water column",
-              "memory", duration="chronic (lotic, 30-day)"),
+              "memory", duration="chronic (lotic, 30-day)", scope="water_body_type: lotic"),
     Published("selenium", "dissolved", 1.5, "µg/L", NRWQC + "; selenium 2016 (EPA 822-R-16-006), water column",
-              "memory", duration="chronic (lentic, 30-day)"),
+              "memory", duration="chronic (lentic, 30-day)", scope="water_body_type: lentic"),
     Published("silver", "dissolved", None, "µg/L", NRWQC,
               "checked (secondary: North Carolina dissolved-metals standards page)",
               duration="acute (instantaneous maximum)", m=1.72, b=-6.59, cf=0.85, at_100=3.2, at_100_source="memory (EPA criteria table; 131.38 prints 3.4)"),
@@ -246,28 +246,29 @@ US_EPA_NSDWR = [
 EQS = "Directive 2008/105/EC as amended by 2013/39/EU, Annex I Part A"
 _EQS_LAW = "checked (law: legislation.gov.uk copy of 2008/105/EC Annex I Part A, row (6) cadmium)"
 _AA, _MAC = "annual average (AA-EQS)", "maximum allowable (MAC-EQS)"
+_AM = "period_mean"  # AA-EQS: the mean of a calendar year's results (Annex I Part B, memory)
 _INLAND, _OTHER = "water_category: inland", "water_category: other"
 _CD_CLASSES = {"rows": {"input": "hardness", "bounds": [40, 50, 100, 200]}}
 _EQS_DATE = "2015-12-22"  # revised EQS for existing priority substances apply from this date (memory)
 
 EU_EQS = [
     Published("cadmium", "dissolved", None, "µg/L", EQS + ", cadmium by hardness class", _EQS_LAW,
-              duration=_AA, scope=_INLAND, form={"lookup": {**_CD_CLASSES, "values": [0.08, 0.08, 0.09, 0.15, 0.25]}},
+              duration=_AA, basis=_AM, scope=_INLAND, form={"lookup": {**_CD_CLASSES, "values": [0.08, 0.08, 0.09, 0.15, 0.25]}},
               worked=(({"hardness": 30}, 0.08, "class 1 (< 40 mg/L), law copy"), ({"hardness": 40}, 0.08, "class 2 starts at 40"),
                       ({"hardness": 75}, 0.09, "class 3 (50 to < 100)"), ({"hardness": 100}, 0.15, "class 4 starts at 100"),
                       ({"hardness": 250}, 0.25, "class 5 (>= 200)"))),
-    Published("cadmium", "dissolved", 0.2, "µg/L", EQS, _EQS_LAW, duration=_AA, scope=_OTHER),
+    Published("cadmium", "dissolved", 0.2, "µg/L", EQS, _EQS_LAW, duration=_AA, basis=_AM, scope=_OTHER),
     Published("cadmium", "dissolved", None, "µg/L", EQS + ", cadmium by hardness class", _EQS_LAW, duration=_MAC,
               form={"lookup": {**_CD_CLASSES, "values": [0.45, 0.45, 0.6, 0.9, 1.5]}},
               worked=(({"hardness": 49.9}, 0.45, "class 2, law copy"), ({"hardness": 199}, 0.9, "class 4"),
                       ({"hardness": 200}, 1.5, "class 5"))),
-    Published("lead", "dissolved", 1.2, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, scope=_INLAND,
+    Published("lead", "dissolved", 1.2, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, basis=_AM, scope=_INLAND,
               effective_from=_EQS_DATE),
-    Published("lead", "dissolved", 1.3, "µg/L", EQS, "memory", duration=_AA, scope=_OTHER, effective_from=_EQS_DATE),
+    Published("lead", "dissolved", 1.3, "µg/L", EQS, "memory", duration=_AA, basis=_AM, scope=_OTHER, effective_from=_EQS_DATE),
     Published("lead", "dissolved", 14, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
-    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, scope=_INLAND,
+    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, basis=_AM, scope=_INLAND,
               effective_from=_EQS_DATE),
-    Published("nickel", "dissolved", 8.6, "µg/L", EQS, "memory", duration=_AA, scope=_OTHER, effective_from=_EQS_DATE),
+    Published("nickel", "dissolved", 8.6, "µg/L", EQS, "memory", duration=_AA, basis=_AM, scope=_OTHER, effective_from=_EQS_DATE),
     Published("nickel", "dissolved", 34, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
     Published("mercury", "dissolved", 0.07, "µg/L", EQS, "memory", duration=_MAC),
 ]
@@ -354,6 +355,7 @@ CCME_FRESHWATER = [
 HC = "Health Canada, Guidelines for Canadian Drinking Water Quality, summary table"
 _MACC, _AO = "maximum acceptable concentration", "aesthetic objective"
 _OGP = "checked (secondary: Open Government Portal record of the guideline technical document)"
+_MN2019 = "checked (secondary: news pages on the 2019 manganese guideline, esemag.com and adedgetech.com)"
 
 HEALTH_CANADA = [
     Published("arsenic", "total", 0.010, "mg/L", HC, "checked (secondary: canada.ca arsenic document page, fact sheet [S26])", duration=_MACC),
@@ -362,7 +364,8 @@ HEALTH_CANADA = [
     Published("mercury", "total", 0.001, "mg/L", HC, _OGP, duration=_MACC),
     Published("lead", "total", 0.005, "mg/L", HC + " (lead, 2019)", "checked (secondary: summary of the 2019 lead document, fact sheet [S26])",
               duration=_MACC),
-    Published("cadmium", "total", 0.007, "mg/L", HC, "memory", duration=_MACC),
+    Published("cadmium", "total", 0.007, "mg/L", HC + " (cadmium, 2020)",
+              "checked (secondary: heavymetalindex.com summary of the 2020 cadmium document)", duration=_MACC),
     Published("antimony", "total", 0.006, "mg/L", HC, "memory", duration=_MACC),
     Published("barium", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
     Published("selenium", "total", 0.05, "mg/L", HC, "memory", duration=_MACC),
@@ -370,8 +373,8 @@ HEALTH_CANADA = [
     Published("strontium", "total", 7.0, "mg/L", HC, "memory", duration=_MACC),
     Published("copper", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
     Published("copper", "total", 1.0, "mg/L", HC, "memory", duration=_AO),
-    Published("manganese", "total", 0.12, "mg/L", HC, "memory", duration=_MACC),
-    Published("manganese", "total", 0.02, "mg/L", HC, "memory", duration=_AO),
+    Published("manganese", "total", 0.12, "mg/L", HC + " (manganese, 2019)", _MN2019, duration=_MACC),
+    Published("manganese", "total", 0.02, "mg/L", HC + " (manganese, 2019)", _MN2019, duration=_AO),
     Published("aluminium", "total", 2.9, "mg/L", HC, "memory", duration=_MACC),
     Published("iron", "total", 0.3, "mg/L", HC, _OGP, duration=_AO),
     Published("zinc", "total", 5.0, "mg/L", HC, _OGP, duration=_AO),

@@ -154,3 +154,62 @@ def test_confidence_limits_against_standards_examples_21_1_and_21_7():
     # months are calendar months here, so the band is in years: same fitted line, same band at month 30
     assert r["ucl_ug_L"] == pytest.approx(t["published"]["ucl95_month_30_errata"], abs=0.02)
     assert r["decision"] == "meets" and pd.notna(r["ucl_below_standard_from"])
+
+
+def test_design_statement_states_what_the_guidance_asks():
+    """The statement names the SWFPR and its sharing, the plan, kappa per distinct design, the
+    background window, the non-detect handling and the caution; constituents never detected in
+    background (Double Quantification Rule) are left out of the SWFPR count (USEPA 2009, §6.2.2)."""
+    ex = example("19_1_sulfate")
+    res = _dated(ex["rows"] + [["CW", "2004-01-01", 120.0]])
+    never = _dated([[w, d, 1.0] for w, d, _ in ex["rows"]], analyte="thallium").assign(
+        value_ug_L=np.nan, detected=False, detection_limit_ug_L=1.0)
+    out = well_statistics(pd.concat([res, never]), network(["GW-01", "GW-04", "GW-08", "GW-09"], ["CW"],
+                                                                  comparison="interwell"),
+                          Design.from_mapping({"plan": "1-of-3", "evaluations_per_year": 2}))
+    st = dict(zip(out["design_statement"]["topic"], out["design_statement"]["statement"]))
+    assert "SWFPR) 0.1" in st["Design"] and "1 compliance well(s) x 1 constituent(s)" in st["Design"]
+    assert "1-of-3" in st["Retesting"] and "n = 25, 24 df" in st["Multipliers"]
+    assert "Double Quantification Rule" in st["Non-detects"]
+    assert "do not replace" in st["Caution"]
+
+
+def test_censored_trend_gets_a_bootstrap_band_around_the_theil_sen_line():
+    """A rising series with non-detects: the Akritas-Theil-Sen line at the latest date lies inside
+    its bootstrap band, the band is reproducible (seeded) and brackets the true line value
+    (invented series: 1 + 0.5 µg/L per year, detection limit 1)."""
+    dates = pd.date_range("2010-01-01", periods=24, freq="QS")
+    years = (dates - dates[0]).days / 365.25
+    rng = np.random.default_rng(21)
+    v = 1 + 0.5 * years + rng.normal(0, 0.4, 24)
+    res = pd.DataFrame({"site_id": "MW", "analyte": "arsenic", "fraction": "total", "sampled_at": dates,
+                        "value_ug_L": np.where(v >= 1, v, np.nan), "detected": v >= 1, "detection_limit_ug_L": 1.0,
+                        "sample_type": "sample", "qualifier_meaning": ""})
+    d = Design.from_mapping({"min_background": 2, "ci_last_n": 24})
+    rows = monitoring_rows(res, network([], ["MW"]), d)
+    rows["period"] = "compliance"
+    series = series_table(rows)
+    std = series[["site_id", "analyte", "fraction"]].assign(limit_table="t", entry_id="e", standard_ug_L=10.0,
+                                                             standard_basis="table")
+    a = confidence_limits(rows, series, std, d).iloc[0]
+    b = confidence_limits(rows, series, std, d).iloc[0]
+    assert rows["nondetect"].any() and a["method"] == "censored_trend_line_bootstrap"
+    assert a["lcl_ug_L"] < a["estimate_ug_L"] < a["ucl_ug_L"] and a["ucl_ug_L"] == b["ucl_ug_L"]
+    assert a["lcl_ug_L"] < 1 + 0.5 * years[-1] < a["ucl_ug_L"]
+
+
+def test_constituent_window_replaces_the_well_window():
+    """A compliance well's baseline for one constituent ends where that constituent's own window
+    ends; its other constituents keep the well's window (issue 14: a window per well/constituent)."""
+    dates = pd.date_range("2015-01-01", periods=20, freq="QS")
+    res = pd.concat([results_frame({"MW": list(np.linspace(1, 2, 20))}, start="2015-01-01", analyte=a)
+                     for a in ("arsenic", "lead")])
+    net = network([], ["MW"], background_to="2018-12-31")
+    net["analyte"] = ""
+    net = pd.concat([net, pd.DataFrame({"site_id": ["MW"], "role": [""], "well_group": ["all"], "comparison": ["auto"],
+                                        "stage": ["detection"], "background_from": [pd.NaT],
+                                        "background_to": [pd.Timestamp("2016-12-31")], "analyte": ["lead"]})])
+    rows = monitoring_rows(res, net, Design())
+    base = rows[rows["period"] == "baseline"].groupby("analyte").size()
+    assert base["arsenic"] == 16 and base["lead"] == 8
+    assert dates[15] <= pd.Timestamp("2018-12-31")

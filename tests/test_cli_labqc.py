@@ -137,3 +137,16 @@ def test_labqc_reads_the_qc_rows_kept_in_a_workspace(tmp_path, capsys):
     rc = main(["labqc", "--workspace", str(ws), "--columns", str(cols), "--date-order", "mdy", "--out", str(tmp_path / "o")])
     out = capsys.readouterr().out
     assert rc == 0 and "Verdicts: 55  within 49  below 0  above 0  not judged 6" in out
+
+
+def test_qc_rows_of_no_known_element_are_listed_not_dropped(tmp_path, capsys):
+    lab = _batch(tmp_path)[0]
+    qcf = tmp_path / "qc_summary.csv"
+    qcf.write_text("batch,lab,qc type,analyte,fraction,unit,result,spike added,original result\n"
+                   "B1,Lab A,MS,lead,total,ug/L,21.0,20,1.0\n"
+                   "B1,Lab A,Tune check,lead,total,ug/L,1.0,,\n", encoding="utf-8")
+    rc = main(["labqc", lab, "--qc", str(qcf), "--out", str(tmp_path / "o")])
+    captured = capsys.readouterr()
+    assert rc == 0 and "1 QC rows are not a QC element the review knows" in captured.err
+    u = pd.read_csv(tmp_path / "o" / "qc_unrecognised.csv")
+    assert u[["row", "qc_type"]].values.tolist() == [[3, "Tune check"]]

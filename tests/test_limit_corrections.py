@@ -137,3 +137,39 @@ def test_lead_copper_90th_percentile_readings():
     five = np.array([1.0, 2, 3, 8, 20])  # 5 results: the mean of the two highest, both readings (40 CFR 141.80(c)(3))
     for m in ("epa_lcr", "epa_lcr_next_whole"):
         assert group_percentiles(five, np.zeros(5, dtype=np.int64), 90.0, np.array([m], dtype=object))[0] == 14.0
+
+
+def test_selenium_lotic_and_lentic_criteria_follow_the_water_body_type(tmp_path):
+    """US EPA selenium 2016 water-column elements: 3.1 µg/L lotic, 1.5 µg/L lentic (from memory, see
+    published_values.py); a river site gets the lotic value, a lake the lentic one, an unknown site both."""
+    sites = write_csv(tmp_path, "site_id,uses,water_body_type\nRiver,freshwater_aquatic,lotic\n"
+                      "Lake,freshwater_aquatic,lentic\nPond,freshwater_aquatic,\n", "sites.csv")
+    res = make_results([{"site_id": s, "analyte": "selenium", "fraction": "dissolved", "sampled_at": "2021-03-01",
+                         "value": 2.0, "sample_id": s} for s in ("River", "Lake", "Pond")])
+    out = screen(res, load_limits(LIMITS / "us_epa_nrwqc_freshwater_aquatic_life.yaml"), load_sites(sites))
+    got = out.groupby("site_id", observed=True)["limit_ug_L"].apply(sorted).to_dict()
+    assert got == {"River": [3.1], "Lake": [1.5], "Pond": [1.5, 3.1]}
+    assert out.set_index("site_id").loc["Lake", "status"] == "exceeds"
+
+
+def test_eu_aa_eqs_is_judged_on_the_calendar_year_mean(tmp_path):
+    """EU EQS nickel, inland AA-EQS 4 µg/L (memory) against the mean of each calendar year's results, results
+    below the quantification limit at half of it (Directive 2009/90/EC Art. 5(1), memory): 2021: 3, 5, <1 ->
+    (3 + 5 + 0.5) / 3 = 2.83 meets; 2022: 6, 5 -> 5.5 exceeds (by hand). MAC-EQS 34 µg/L: every result meets."""
+    from tracescreen.screening.periods import period_table
+
+    sites = write_csv(tmp_path, "site_id,uses,water_category\nR,surface_water,inland\n", "sites.csv")
+    rows = [("2021-02-01", 3.0, False), ("2021-06-01", 5.0, False), ("2021-10-01", 1.0, True),
+            ("2022-03-01", 6.0, False), ("2022-09-01", 5.0, False)]
+    res = make_results([{"site_id": "R", "analyte": "nickel", "fraction": "dissolved", "sampled_at": d, "value": v,
+                         "nd": nd, "detection_limit_ug_L": 1.0, "sample_id": d} for d, v, nd in rows])
+    lim = load_limits(LIMITS / "eu" / "eu_eqs_2008_105.yaml")
+    out = screen(res, lim, load_sites(sites))
+    aa = out[out["duration"] == "annual average (AA-EQS)"]
+    assert set(aa["basis"]) == {"period_mean"}
+    assert aa["period_value_ug_L"].round(4).tolist() == [2.8333, 2.8333, 2.8333, 5.5, 5.5]
+    assert aa["status"].tolist() == ["meets"] * 3 + ["exceeds"] * 2
+    assert set(out[out["duration"] == "maximum allowable (MAC-EQS)"]["status"]) == {"meets", "nondetect_meets"}
+    periods = period_table(out, lim)
+    assert periods[["period", "statistic", "n_results", "n_nondetects"]].values.tolist() == [
+        ["2021", "mean", 3, 1], ["2022", "mean", 2, 0]]

@@ -81,6 +81,12 @@ def test_form_mistakes_name_file_entry_and_key(tmp_path, entry, message):
     assert message in str(err.value)
 
 
+def test_period_mean_needs_a_period(tmp_path):
+    with pytest.raises(LimitTableError, match="entry 1 \\(zinc\\): key 'period': 'None' is not one of calendar_year"):
+        table(tmp_path, "  - {analyte: zinc, fraction: total, value: 5, basis: period_mean}\n",
+              "settings: {nondetect_rule: half_dl}\n")
+
+
 def test_table_settings_and_dates_are_checked(tmp_path):
     with pytest.raises(LimitTableError, match="criteria_significant_figures': '0' must be a whole number"):
         table(tmp_path, "  - {analyte: zinc, fraction: total, value: 5}\n", "settings: {criteria_significant_figures: 0}\n")

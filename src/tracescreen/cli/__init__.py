@@ -70,6 +70,11 @@ def main(argv: list[str] | None = None) -> int:
         msg = str(exc).strip().splitlines()[0] if str(exc).strip() else exc.__class__.__name__
         print(f"tracescreen: error: {msg}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # output piped into a command that stopped reading (e.g. `| head`)
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except KeyboardInterrupt:
         print("tracescreen: interrupted", file=sys.stderr)
         return 130

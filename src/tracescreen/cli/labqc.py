@@ -46,7 +46,7 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from tracescreen.retest.labqc.elements import ELEMENTS
-    from tracescreen.retest.labqc.review import qc_table, review_lab_qc
+    from tracescreen.retest.labqc.review import qc_rows_read, review_lab_qc
     from tracescreen.retest.labqc.windows import load_windows
 
     out = Path(args.out)
@@ -63,11 +63,17 @@ def run(args) -> int:
         from tracescreen.io.columns import load_column_map
         column_map = load_column_map(args.columns)
     try:
-        qc = qc_table(loaded.set_aside if loaded is not None else None, accepted if len(accepted) else None,
-                      args.qc, column_map, args.date_order, args.encoding)
+        qc, unrecognised = qc_rows_read(loaded.set_aside if loaded is not None else None,
+                                        accepted if len(accepted) else None, args.qc, column_map, args.date_order,
+                                        args.encoding)
     except ValueError as exc:
         raise UserError(str(exc)) from None
     written = {}
+    if len(unrecognised):
+        written["unrecognised"] = outputs.write_csv(unrecognised, out / "qc_unrecognised.csv")
+        warn(f"{len(unrecognised)} QC rows are not a QC element the review knows (listed in qc_unrecognised.csv)")
+    if len(qc) and len(accepted) and (qc["batch"] == "").any() and (accepted["batch"].astype(str) != "").any():
+        warn(f"{int((qc['batch'] == '').sum())} QC rows give no batch: they cannot be linked to the batch's results")
     retest_parts = []
     if loaded is not None:
         _print_rows(loaded)

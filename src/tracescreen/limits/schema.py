@@ -26,12 +26,13 @@ CF_KEYS = ("intercept", "ln_hardness")
 FRACTIONS = ("total", "dissolved")
 
 #: Bases whose value is a statistic of a period of results (screening/periods.py computes them).
-PERIOD_BASES = ("running_annual_mean", "percentile")
+PERIOD_BASES = ("running_annual_mean", "percentile", "period_mean")
 #: Bases of comparison an entry may use, with what each means.
 BASES = {
     "single_sample": "each result is compared with the limit",
     "running_annual_mean": "mean of the site's results in the 12 months ending at each sample",
     "percentile": "percentile of the site's results in each monitoring period",
+    "period_mean": "mean of the site's results in each period (e.g. the calendar-year mean of an annual-average EQS)",
 }
 
 #: Criteria rounding (screening/decision.py): none, or to the significant figures as written.
@@ -91,9 +92,16 @@ def check_period_keys(table: dict, rows: list[dict], name: str) -> None:
                 f"{label}: basis '{basis}' needs the table setting 'nondetect_rule' "
                 f"(settings: {{nondetect_rule: {' | '.join(NONDETECT_RULES)}}})")
         given = [k for k in ("percentile", "period", "percentile_method") if r.get(k) is not None]
+        if basis == "period_mean":
+            if r.get("period") not in PERIODS:
+                raise LimitTableError(f"{label}: key 'period': '{r.get('period')}' is not one of {', '.join(PERIODS)}")
+            extra = [k for k in given if k != "period"]
+            if extra:
+                raise LimitTableError(f"{label}: key '{extra[0]}' only applies with basis 'percentile'")
+            continue
         if basis != "percentile":
             if given:
-                raise LimitTableError(f"{label}: key '{given[0]}' only applies with basis 'percentile'")
+                raise LimitTableError(f"{label}: key '{given[0]}' only applies with basis 'percentile' or 'period_mean'")
             continue
         p = r.get("percentile")
         if isinstance(p, bool) or not isinstance(p, (int, float)) or not 0 < p < 100:

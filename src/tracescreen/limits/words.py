@@ -128,9 +128,32 @@ def limit_in_words(entry, unit: str | None = None) -> str:
     if isinstance(form, dict):
         return _body(form, unit)
     if _ok(get("value_ug_L")):
-        return f"{_fmt(get('value_ug_L'))} µg/L"
+        written = get("value_text")  # as the document prints it: 0.010 mg/L keeps its trailing zero
+        if written and unit != "µg/L":
+            return f"{written} {unit} ({_fmt(get('value_ug_L'))} µg/L)"
+        return f"{written or _fmt(get('value_ug_L'))} µg/L"
     if _ok(get("hf_m")) and _ok(get("hf_b")):
         return _hardness_formula(get) + " µg/L"
+    return ""
+
+
+_PERIOD_WORDS = {"calendar_year": "calendar year", "half_year": "half year", "quarter": "quarter", "month": "month"}
+
+
+def basis_words(entry) -> str:
+    """What the limit is compared with, in words ("" for each single result)."""
+    get = _getter(entry)
+    basis = get("basis") or "single_sample"
+    period = _PERIOD_WORDS.get(get("period"), get("period"))
+    if basis == "running_annual_mean":
+        text = "compared with the running annual mean"
+        if get("infrequent_basis") == "single_sample":
+            text += " (each result where the site is sampled once a year or less)"
+        return text
+    if basis == "percentile":
+        return f"compared with the {_fmt(get('percentile'))}th percentile of each {period}"
+    if basis == "period_mean":
+        return f"compared with the mean of each {period}"
     return ""
 
 
@@ -151,6 +174,7 @@ def entry_words(entry, unit: str | None = None) -> str:
         if form["unknown_value"] is not None:
             names = " or ".join(SYMBOLS[i] for i in form["inputs"])
             parts.append(f"{_fmt(form['unknown_value'])} {unit} when {names} is unknown")
+    parts.append(basis_words(entry))
     lo, hi = get("hardness_min"), get("hardness_max")
     if _ok(lo) or _ok(hi):
         parts.append(f"H taken within {_fmt(lo) if _ok(lo) else '…'}–{_fmt(hi) if _ok(hi) else '…'} mg/L as CaCO3")

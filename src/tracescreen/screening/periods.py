@@ -1,11 +1,12 @@
-"""Limits that apply to a statistic over time: running annual means and period percentiles.
-
-Some limits are not compared with each result but with a statistic of a site's results:
+"""Limits on a statistic of a site's results over time: running annual means, period means, percentiles.
 
 ``basis: running_annual_mean``
     The mean of the site's results (same analyte and fraction) in the 12 months ending at each
     sample: sampled on a day d with ``sample day - 12 months < d <= sample day``. Each result gets
     the mean of its window (e.g. US EPA inorganic MCLs, 40 CFR 141.23(i)).
+``basis: period_mean``
+    The mean of the site's results in each period (``period``): e.g. the calendar-year mean of an
+    annual-average EQS (Directive 2008/105/EC Annex I Part B).
 ``basis: percentile``
     A percentile of the site's results in each monitoring period (``period``: calendar_year,
     half_year, quarter, month), with ``percentile`` (e.g. 90) and ``percentile_method`` (e.g. the
@@ -14,9 +15,9 @@ Some limits are not compared with each result but with a statistic of a site's r
 
 How non-detects enter the statistic is the table setting ``nondetect_rule``: ``zero``, ``half_dl``
 (half the detection limit), ``dl`` (the detection limit) or ``kaplan_meier`` (Kaplan-Meier mean or
-quantile with the Efron correction, :func:`tracescreen.statistics.censored.kaplan_meier_grouped`). Whatever the
-rule, the statistic is also computed with non-detects at zero and at their detection limit; these bounds bracket the statistic of the true
-values, and a non-detect is never made into an exceedance:
+quantile, Efron correction, :func:`tracescreen.statistics.censored.kaplan_meier_grouped`). The statistic
+is also computed with non-detects at zero and at their detection limit; these bounds bracket the
+statistic of the true values, and a non-detect is never made into an exceedance:
 
 - ``exceeds``: the rule's value is above the limit and so is the value with non-detects at zero;
 - ``nondetect_inconclusive``: the rule's value is above the limit only because of non-detects, or
@@ -25,12 +26,10 @@ values, and a non-detect is never made into an exceedance:
   non-detects at their detection limit);
 - ``nondetect_meets``: every result is a non-detect, all detection limits at or below the limit.
 
-Percentile methods: :mod:`tracescreen.screening.percentiles`. The status of a period value follows
-:func:`tracescreen.screening.status.statistic_status`.
-
-:func:`apply_period_statuses` replaces the status of screening rows whose entry has a period basis;
-:func:`period_table` gives one row per period value with the results that formed it
-(``periods.csv``).
+Percentile methods: :mod:`tracescreen.screening.percentiles`; status of a period value:
+:func:`tracescreen.screening.status.statistic_status`. :func:`apply_period_statuses` replaces the status
+of rows whose entry has a period basis; :func:`period_table` gives one row per period value with the
+results that formed it (``periods.csv``).
 
 References
 ----------
@@ -134,8 +133,8 @@ def _joined(rows: dict, start: np.ndarray, stop: np.ndarray) -> list[str]:
 
 
 def _series_codes(rows: dict, extra: np.ndarray | None = None) -> np.ndarray:
-    """One integer per (table, duration, site, analyte, fraction[, extra]) series (mixed radix)."""
-    cols = [rows[k] for k in ("limit_table", "duration", "site_id", "analyte", "fraction")]
+    """One integer per (table, duration, scope, site, analyte, fraction[, extra]) series (mixed radix)."""
+    cols = [rows[k] for k in ("limit_table", "duration", "limit_scope", "site_id", "analyte", "fraction") if k in rows]
     key = np.zeros(len(cols[0]), dtype=np.int64)
     for c in cols + ([extra] if extra is not None else []):
         codes, cats = pd.factorize(c)
@@ -182,10 +181,11 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
     if pos.size == 0:
         return (pd.DataFrame(columns=["status", "ratio", "note", "period_id", "period_value_ug_L"]),
                 pd.DataFrame(columns=PERIOD_COLUMNS))
-    rows = {c: _values_at(screened[c], pos) for c in _ROW_COLUMNS}
+    rows = {c: _values_at(screened[c], pos) for c in _ROW_COLUMNS + ["limit_scope"] if c in screened}
     par = _entry_params(rows, limits)
     per_rows, tables = [], []
-    for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles)):
+    for basis, fn in (("running_annual_mean", _running_means), ("percentile", _percentiles),
+                      ("period_mean", _percentiles)):
         sel = np.flatnonzero(rows["basis"] == basis)
         if sel.size:
             r, t = fn(_take(rows, sel), _take(par, sel), with_results, with_table)
@@ -279,15 +279,27 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     group = np.repeat(np.arange(starts.size), stops - starts)
     last = stops - 1  # the limit in force on the period's last sample date applies
     pct, method, rule = p["percentile"][last], p["percentile_method"][last], p["rule"][last]
-    lower = group_percentiles(substitute(val, dl, det, "zero"), group, pct, method)
-    upper = group_percentiles(substitute(val, dl, det, "dl"), group, pct, method)
+    mean = r["basis"][last] == "period_mean"  # one basis per call: every group a mean, or every one a percentile
+
+    def stat_of(x):
+        if mean.any():
+            return np.bincount(group, weights=x, minlength=starts.size) / np.bincount(group, minlength=starts.size)
+        return group_percentiles(x, group, pct, method)
+
+    lower = stat_of(substitute(val, dl, det, "zero"))
+    upper = stat_of(substitute(val, dl, det, "dl"))
     value = np.full(starts.size, np.nan)
     for name in ("zero", "half_dl", "dl"):
         m = rule == name
         if m.any():
-            value[m] = group_percentiles(substitute(val, dl, det, name), group, pct, method)[m]
+            value[m] = stat_of(substitute(val, dl, det, name))[m]
     censored = np.zeros(starts.size, dtype=bool)
     km = (rule == "kaplan_meier") & (np.bincount(group, weights=np.isnan(dl) & ~det, minlength=starts.size) == 0)
+    if mean.any() and km.any():  # Kaplan-Meier mean of each period
+        g_in = np.isin(group, np.flatnonzero(km))
+        value[km] = kaplan_meier_grouped(substitute(val, dl, det, "dl")[g_in], ~det[g_in], np.searchsorted(
+            np.flatnonzero(km), group[g_in]), int(km.sum()), probs=())["mean"].to_numpy()
+        km[:] = False
     for q in np.unique(pct[km]):  # Kaplan-Meier quantile: smallest x with F(x) >= q
         groups = np.flatnonzero(km & (pct == q))
         rows_in = np.isin(group, groups)
@@ -303,7 +315,8 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
     status, kind = _decide(value, lower, upper, (n_nd == n) | censored, limit, p["sig"][last], p["rounding"][last])
     lim_min = np.minimum.reduceat(np.nan_to_num(limit_all, nan=np.inf), starts)
     lim_max = np.maximum.reduceat(np.nan_to_num(limit_all, nan=-np.inf), starts)
-    stat = np.char.mod("%g", pct).astype(object) + "th percentile (" + method.astype(str).astype(object) + ")"
+    stat = np.where(mean, "mean", np.char.mod("%g", np.nan_to_num(pct)).astype(object) + "th percentile ("
+                    + method.astype(str).astype(object) + ")").astype(object)
     note = combo_text([stat, n, label[last], rule, kind, lim_min != lim_max],
                        lambda st, k, lab, ru, kd, ch: "; ".join(filter(None, [
                            f"{st} of {k} result{'' if k == 1 else 's'} in {lab} ({NONDETECT_RULE_TEXT[ru]})", DECISION_NOTES[kd],
@@ -317,7 +330,7 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
         return per_row, {"status": status}
     periods = {
         "limit_table": r["limit_table"][last], "use": p["use"][last], "site_id": r["site_id"][last],
-        "analyte": r["analyte"][last], "fraction": r["fraction"][last], "basis": "percentile",
+        "analyte": r["analyte"][last], "fraction": r["fraction"][last], "basis": r["basis"][last],
         "duration": r["duration"][last], "statistic": stat, "period": label[last],
         "period_start": p_start[last], "period_end": p_end[last], "n_results": n, "n_nondetects": n_nd,
         "nondetect_rule": rule, "value_ug_L": value, "value_nondetects_zero_ug_L": lower,

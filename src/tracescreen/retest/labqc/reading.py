@@ -266,10 +266,12 @@ def csv_records(text: str) -> pd.DataFrame:
 
 
 def read_qc_file(path: str | Path, column_map: ColumnMap | None = None, date_order: str = "iso",
-                 encoding: str = "utf-8") -> pd.DataFrame:
+                 encoding: str = "utf-8", only_qc: bool = True) -> pd.DataFrame:
     """The QC table of a separate QC file (CSV, or every sheet of an XLSX workbook).
 
     The header row is the first of the first 20 rows that names at least three recognised columns.
+    With ``only_qc=False`` every data row is returned, ``element`` ``""`` where the QC type is not
+    a known element (so that a caller can list them: nothing is dropped silently).
 
     Raises
     ------
@@ -304,4 +306,4 @@ def read_qc_file(path: str | Path, column_map: ColumnMap | None = None, date_ord
     if not parts:
         raise ValueError(f"{p.name}: no recognisable QC columns (QC type, analyte, result, recovery ...) "
                          "in the first 20 rows; give a column mapping with --columns")
-    return qc_from_cells(pd.concat(parts, ignore_index=True), column_map, date_order)
+    return qc_from_cells(pd.concat(parts, ignore_index=True), column_map, date_order, only_qc=only_qc)

@@ -127,20 +127,51 @@ def qualified_results(results: pd.DataFrame, combined: pd.DataFrame) -> pd.DataF
     return pd.DataFrame({c: out[c] for c in QUALIFIED_COLUMNS if c in out}, copy=False)
 
 
-def qc_table(set_aside: pd.DataFrame | None = None, accepted: pd.DataFrame | None = None, qc_files=(),
-             column_map: ColumnMap | None = None, date_order: str = "iso", encoding: str = "utf-8") -> pd.DataFrame:
-    """All QC rows of a load: set-aside lab QC rows, accepted laboratory blanks, separate QC files.
+UNRECOGNISED_COLUMNS = ["file", "sheet", "row", "qc_type", "analyte", "reason"]
+"""Rows that are laboratory QC but not a QC element the review knows (``qc_unrecognised.csv``)."""
+
+
+def qc_rows_read(set_aside: pd.DataFrame | None = None, accepted: pd.DataFrame | None = None, qc_files=(),
+                 column_map: ColumnMap | None = None, date_order: str = "iso",
+                 encoding: str = "utf-8") -> tuple[pd.DataFrame, pd.DataFrame]:
+    """All QC rows of a load, and the QC rows the review cannot place (nothing dropped silently).
+
+    QC rows: the set-aside laboratory QC rows, the accepted laboratory blanks and every row of the
+    separate QC files whose QC type is a known element. Not placed (:data:`UNRECOGNISED_COLUMNS`):
+    rows the loader set aside as laboratory QC, and QC-file rows, whose QC type is not one of the
+    review's elements (``data/lab_qc_elements.yaml``).
 
     Raises
     ------
     ValueError
         A QC file cannot be read (the message names it).
     """
-    parts = [qc_from_cells(set_aside, column_map, date_order) if set_aside is not None else empty_qc(),
-             qc_from_results(accepted)]
-    parts += [read_qc_file(p, column_map, date_order, encoding) for p in qc_files]
+    parts, odd = [], []
+    if set_aside is not None and len(set_aside):
+        allq = qc_from_cells(set_aside, column_map, date_order, only_qc=False)
+        is_lab_qc = set_aside["reason"].astype(str).str.contains("laboratory QC").to_numpy() \
+            if "reason" in set_aside.columns else np.zeros(len(set_aside), bool)
+        known = (allq["element"] != "").to_numpy()
+        parts.append(allq[known])
+        odd.append(allq[~known & is_lab_qc].assign(reason="laboratory QC row of no known element (set aside)"))
+    parts.append(qc_from_results(accepted))
+    for p in qc_files:
+        allq = read_qc_file(p, column_map, date_order, encoding, only_qc=False)
+        known = (allq["element"] != "").to_numpy()
+        parts.append(allq[known])
+        odd.append(allq[~known].assign(reason="QC-file row whose QC type is not a known element"))
     parts = [p for p in parts if len(p)]
-    return pd.concat(parts, ignore_index=True) if parts else empty_qc()
+    qc = pd.concat(parts, ignore_index=True) if parts else empty_qc()
+    odd = [o for o in odd if len(o)]
+    unrec = pd.concat(odd, ignore_index=True)[UNRECOGNISED_COLUMNS] if odd else \
+        pd.DataFrame({c: pd.Series(dtype=object) for c in UNRECOGNISED_COLUMNS})
+    return qc.reset_index(drop=True), unrec
+
+
+def qc_table(set_aside: pd.DataFrame | None = None, accepted: pd.DataFrame | None = None, qc_files=(),
+             column_map: ColumnMap | None = None, date_order: str = "iso", encoding: str = "utf-8") -> pd.DataFrame:
+    """All QC rows of a load (:func:`qc_rows_read` without the rows it cannot place)."""
+    return qc_rows_read(set_aside, accepted, qc_files, column_map, date_order, encoding)[0]
 
 
 def review_load(loaded, qc_files=(), column_map: ColumnMap | None = None, date_order: str = "iso",

@@ -131,10 +131,7 @@ def prediction_limits(rows: pd.DataFrame, series: pd.DataFrame, design: Design) 
         ``compliance_rows`` (``rows`` with each series' compliance data for its comparison,
         :func:`.data.compliance_rows_for`).
     """
-    n_const = design.constituents or max(series[CONSTITUENT].drop_duplicates().shape[0], 1)
     n_wells = design.compliance_wells or max(series["site_id"].nunique(), 1)
-    conf = per_test_confidence(design.swfpr, n_wells, n_const)
-    alpha_c = per_constituent_alpha(design.swfpr, n_const)
     r = design.evaluations_per_year
 
     bg_rows = rows[rows["period"] == "background"].reset_index(drop=True)
@@ -161,6 +158,12 @@ def prediction_limits(rows: pd.DataFrame, series: pd.DataFrame, design: Design) 
     lim["distribution"] = lim["distribution"].fillna("none")
     lim["limit_notes"] = lim["check_notes"].fillna("").map(lambda t: t + "; " if t else "")
     lim = _pool(lim, base_rows, base_codes, design)
+    # constituents never detected in background follow the Double Quantification Rule and do not
+    # count against the SWFPR (USEPA 2009, §6.2.2)
+    tested = lim.loc[~lim["distribution"].isin(["dqr", "none"]), CONSTITUENT].drop_duplicates()
+    n_const = design.constituents or max(len(tested), 1)
+    conf = per_test_confidence(design.swfpr, n_wells, n_const)
+    alpha_c = per_constituent_alpha(design.swfpr, n_const)
 
     param = lim["distribution"].isin(["normal", "lognormal"]) & (lim["n_background"] >= 2)
     k = kappa_table(pd.DataFrame({"n": lim.loc[param, "n_background"], "df": lim.loc[param, "df"],

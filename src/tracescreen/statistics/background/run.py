@@ -19,9 +19,10 @@ from .design import Design
 from .prediction import prediction_limits
 from .sequence import evaluate_sequences
 from .standards import confidence_limits, standards_for_series
+from .statement import design_statement
 from .tolerance import nonparametric_coverage, parametric_utl
 
-TABLES = ("design", "background", "prediction_limits", "retest_sequence", "well_status",
+TABLES = ("design", "design_statement", "background", "prediction_limits", "retest_sequence", "well_status",
           "control_charts", "tolerance_limits", "confidence_limits")
 
 
@@ -122,7 +123,7 @@ def well_statistics(results: pd.DataFrame, network: pd.DataFrame, design: Design
         s["standard_basis"] = np.where(higher, "background (upper tolerance limit above the table value)",
                                        s["standard_basis"])
         standards = s.drop(columns=["well_group", "utl_ug_L"])
-    return {
+    tables = {
         "design": design_record(design, pl["design"]),
         "background": pl["background"],
         "prediction_limits": limits.drop(columns=["set_code", "plan_object"]),
@@ -132,3 +133,5 @@ def well_statistics(results: pd.DataFrame, network: pd.DataFrame, design: Design
         "tolerance_limits": tol,
         "confidence_limits": confidence_limits(compliance, series, standards, design),
     }
+    tables["design_statement"] = design_statement(tables)
+    return {name: tables[name] for name in TABLES}

@@ -5,8 +5,9 @@ for the well, or a background-based standard) the most recent ``ci_last_n`` comp
 give one-sided ``ci_level`` confidence limits of the chosen statistic (:mod:`.confidence`). The
 method follows the guidance's choices (USEPA 2009, ch. 21-22 [usepa2009]_):
 
-* a significant Mann-Kendall trend (no non-detects): the trend-line band at the latest sampling
-  date, and the date its upper limit falls below the standard;
+* a significant Mann-Kendall trend: without non-detects the least-squares trend-line band at the
+  latest sampling date, and the date its upper limit falls below the standard; with non-detects
+  the Akritas-Theil-Sen line and a seeded percentile bootstrap of its value at that date;
 * all non-detects: the limits are 0 and the largest detection limit;
 * mean: normal (Student's t); lognormal (Land); with non-detects up to 50 %: Kaplan-Meier; else
   the median by order statistics (a mean is not estimated with more than 50 % non-detects);
@@ -141,6 +142,8 @@ def _one_series(t: np.ndarray, w: pd.DataFrame, trend_p: float, design: Design) 
                 "lcl_ug_L": float(b["lower"][0]), "ucl_ug_L": float(b["upper"][0]), "band": band_fn,
                 "ci_notes": f"significant trend (Mann-Kendall p = {trend_p:.3g}): limits of the trend line "
                             f"at the latest sampling date; slope {b['slope']:.4g} µg/L per year"}
+    if np.isfinite(trend_p) and trend_p < design.alpha_checks and n >= 4:
+        return {**res, **_censored_trend_band(t, x, nd, w, level, trend_p)}
     pct = 100.0 * n_nd / n
     p_raw = stats.shapiro(x).pvalue if n_nd == 0 and np.ptp(x) > 0 else np.nan
     p_log = stats.shapiro(np.log(x)).pvalue if n_nd == 0 and np.ptp(x) > 0 and (x > 0).all() else np.nan
@@ -199,3 +202,31 @@ def _order_statistics(x, nd, design, param, pct):
             "estimate_ug_L": float(np.quantile(x, p)) if not nd.any() else np.nan,
             "lcl_ug_L": lcl, "ucl_ug_L": ucl, "achieved_confidence": float(min(lc, uc)),
             "ci_notes": "; ".join(notes)}
+
+
+#: Resamples and seed of the bootstrap band around a censored trend line (each series also seeded
+#: by its identity, so its band does not depend on the other series in the run).
+TREND_BOOTSTRAP, TREND_SEED = 500, 20090301
+
+
+def _censored_trend_band(t, x, nd, w, level, trend_p) -> dict:
+    """Akritas-Theil-Sen line and a percentile-bootstrap band of its value at the latest date, for a
+    trend with non-detects (least squares cannot use them; the guidance's Example 21-8 draws a
+    bootstrap band around a Theil-Sen line)."""
+    from tracescreen.statistics.bootstrap import series_seed_keys
+
+    key = int(series_seed_keys(w[SERIES].iloc[:1])[0])
+    rng = np.random.default_rng([TREND_SEED, key & 0xFFFFFFFF, key >> 32])
+    n = len(x)
+    pick = rng.integers(0, n, (TREND_BOOTSTRAP, n))
+    codes = np.repeat(np.arange(TREND_BOOTSTRAP + 1), n)
+    idx = np.concatenate([np.arange(n), pick.ravel()])
+    fits = mann_kendall_grouped(t[idx], x[idx], nd[idx], codes, TREND_BOOTSTRAP + 1, force_ats=True)
+    at_last = (fits["intercept"] + fits["slope_per_year"] * (t.max() - fits["t0"])).to_numpy(float)
+    boot = at_last[1:][np.isfinite(at_last[1:])]
+    lo, hi = (np.quantile(boot, [1 - level, level]) if len(boot) >= 20 else (np.nan, np.nan))
+    return {"method": "censored_trend_line_bootstrap", "estimate_ug_L": float(at_last[0]),
+            "lcl_ug_L": float(lo), "ucl_ug_L": float(hi),
+            "ci_notes": f"significant trend with non-detects (Mann-Kendall p = {trend_p:.3g}): Akritas-Theil-Sen "
+                        f"line ({fits.at[0, 'slope_per_year']:.4g} µg/L per year) and a percentile bootstrap of its "
+                        f"value at the latest sampling date ({TREND_BOOTSTRAP} resamples, seeded)"}
