@@ -56,6 +56,9 @@ STATUSES: tuple[str, ...] = ("exceeds", "above_range_inconclusive", "nondetect_i
 STATUS_CODE: dict[str, int] = {s: i for i, s in enumerate(STATUSES)}
 #: the statuses of site samples, worst first (``qc_sample`` is outside the ranking)
 RANKED: tuple[str, ...] = STATUSES[:-1]
+#: severity of each ranked status for maximum-reductions: higher is worse (the same order as
+#: :data:`STATUSES`, counted from the other end); ``qc_sample`` has none
+SEVERITY: dict[str, int] = {s: len(RANKED) - 1 - i for i, s in enumerate(RANKED)}
 #: statuses that need someone's attention (a finding or a result that cannot decide)
 ATTENTION: tuple[str, ...] = ("exceeds", "above_range_inconclusive", "nondetect_inconclusive")
 
