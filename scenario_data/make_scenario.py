@@ -177,12 +177,24 @@ def main() -> None:
     write_sites(HERE / "sites.csv")
 
 
+#: site attributes that scope limit entries (README "Input: sites"): the invented catchment's streams
+#: are lotic, its reservoir lentic; the bores are wells, the treatment works an entry point, the
+#: intakes sources (so the tap-sample lead and copper action levels do not apply to them); the
+#: treatment works' sampling point is not stated, so every entry applies there.
+SITE_ATTRIBUTES = {
+    "KR01": ("lotic", ""), "KR02": ("lotic", ""), "KR03": ("lotic", ""), "KR04": ("lotic", ""),
+    "KR05": ("lotic", "source"), "KR06": ("lotic", ""), "KR07": ("lotic", ""), "BH01": ("", "well"),
+    "BH02": ("", "well"), "BH03": ("", "well"), "TP01": ("", ""), "RS01": ("lentic", "source"),
+}
+
+
 def write_sites(path: Path) -> None:
     with path.open("w", newline="", encoding="utf-8") as fh:
         w = csv.writer(fh)
-        w.writerow(["site_id", "name", "latitude", "longitude", "uses", "hardness_mg_L"])
+        w.writerow(["site_id", "name", "latitude", "longitude", "uses", "hardness_mg_L", "water_body_type",
+                    "sampling_point_type"])
         for sid, name, lat, lon, uses, hard, *_ in SITES:
-            w.writerow([sid, name, lat, lon, uses, hard])
+            w.writerow([sid, name, lat, lon, uses, hard, *SITE_ATTRIBUTES[sid]])
 
 
 def write_fernleigh(rows, path: Path, with_uncertainty: bool, bad: bool) -> None:

@@ -355,6 +355,7 @@ CCME_FRESHWATER = [
 HC = "Health Canada, Guidelines for Canadian Drinking Water Quality, summary table"
 _MACC, _AO = "maximum acceptable concentration", "aesthetic objective"
 _OGP = "checked (secondary: Open Government Portal record of the guideline technical document)"
+_MN2019 = "checked (secondary: news pages on the 2019 manganese guideline, esemag.com and adedgetech.com)"
 
 HEALTH_CANADA = [
     Published("arsenic", "total", 0.010, "mg/L", HC, "checked (secondary: canada.ca arsenic document page, fact sheet [S26])", duration=_MACC),
@@ -363,7 +364,8 @@ HEALTH_CANADA = [
     Published("mercury", "total", 0.001, "mg/L", HC, _OGP, duration=_MACC),
     Published("lead", "total", 0.005, "mg/L", HC + " (lead, 2019)", "checked (secondary: summary of the 2019 lead document, fact sheet [S26])",
               duration=_MACC),
-    Published("cadmium", "total", 0.007, "mg/L", HC, "memory", duration=_MACC),
+    Published("cadmium", "total", 0.007, "mg/L", HC + " (cadmium, 2020)",
+              "checked (secondary: heavymetalindex.com summary of the 2020 cadmium document)", duration=_MACC),
     Published("antimony", "total", 0.006, "mg/L", HC, "memory", duration=_MACC),
     Published("barium", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
     Published("selenium", "total", 0.05, "mg/L", HC, "memory", duration=_MACC),
@@ -371,8 +373,8 @@ HEALTH_CANADA = [
     Published("strontium", "total", 7.0, "mg/L", HC, "memory", duration=_MACC),
     Published("copper", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
     Published("copper", "total", 1.0, "mg/L", HC, "memory", duration=_AO),
-    Published("manganese", "total", 0.12, "mg/L", HC, "memory", duration=_MACC),
-    Published("manganese", "total", 0.02, "mg/L", HC, "memory", duration=_AO),
+    Published("manganese", "total", 0.12, "mg/L", HC + " (manganese, 2019)", _MN2019, duration=_MACC),
+    Published("manganese", "total", 0.02, "mg/L", HC + " (manganese, 2019)", _MN2019, duration=_AO),
     Published("aluminium", "total", 2.9, "mg/L", HC, "memory", duration=_MACC),
     Published("iron", "total", 0.3, "mg/L", HC, _OGP, duration=_AO),
     Published("zinc", "total", 5.0, "mg/L", HC, _OGP, duration=_AO),

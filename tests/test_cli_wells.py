@@ -103,3 +103,21 @@ def test_wells_on_the_demo_scenario(tmp_path, capsys):
     assert set(status["site_id"]) == {"BH01", "BH02"}
     ci = pd.read_csv(tmp_path / "o" / "confidence_limits.csv")
     assert len(ci) and set(ci["decision"]) <= {"exceeds", "not_shown_to_exceed", "meets", "not_shown_to_meet"}
+
+
+def test_network_constituent_windows(tmp_path):
+    """A row naming an analyte (by name or symbol) sets that constituent's window at the well; the
+    well keeps its role and group; an unknown analyte or a window for a well without its own row is
+    named with its row."""
+    p = tmp_path / "net.csv"
+    p.write_text("site_id,role,well_group,background_to,analyte\nW1,compliance,g,2019-12-31,\n"
+                 "W1,,,2017-06-30,As\n", encoding="utf-8")
+    net = read_network(p)
+    assert list(net["analyte"]) == ["", "arsenic"]
+    assert net.loc[1, "background_to"] == pd.Timestamp("2017-06-30")
+    p.write_text("site_id,role,analyte\nW1,compliance,\nW1,,unobtainium\n", encoding="utf-8")
+    with pytest.raises(NetworkError, match="row 3: analyte 'unobtainium' is not in the analyte registry"):
+        read_network(p)
+    p.write_text("site_id,role,analyte\nW1,compliance,\nW2,,arsenic\n", encoding="utf-8")
+    with pytest.raises(NetworkError, match="row 3: window for arsenic at 'W2', but 'W2' has no row"):
+        read_network(p)

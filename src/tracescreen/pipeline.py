@@ -204,8 +204,17 @@ def read_results(inputs: Inputs, sites=None):
     return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name)
 
 
-def screen(data: Loaded, options: Options) -> tuple[Any, Any]:
+def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
     """Step 2: the screening rows and (when ``options.periods``) the periods table, from one pass.
+
+    Parameters
+    ----------
+    accepted : DataFrame
+        Accepted results (DEVELOPERS.md contract).
+    limits : LimitSet
+    sites : DataFrame or None
+    options : Options
+        ``cross_fraction``, ``guard_band``, ``periods`` and ``part_rows`` apply.
 
     Returns
     -------
@@ -214,7 +223,7 @@ def screen(data: Loaded, options: Options) -> tuple[Any, Any]:
     from tracescreen._internal.memory import release_unused
     from tracescreen.screening.parts import PART_ROWS, screen_in_parts
 
-    screened, periods = screen_in_parts(data.loaded.accepted, data.limits, data.sites,
+    screened, periods = screen_in_parts(accepted, limits, sites,
                                         cross_fraction=options.cross_fraction, with_periods=options.periods,
                                         part_rows=options.part_rows or PART_ROWS)
     if options.guard_band is not None:
@@ -325,7 +334,7 @@ def run(inputs: Inputs, options: Options | None = None,
     data = load(inputs, options.record_run)
     if on_loaded is not None:
         on_loaded(data)
-    screened, periods = screen(data, options)
+    screened, periods = screen(data.loaded.accepted, data.limits, data.sites, options)
     out = Results(data.loaded, data.limits, data.sites, data.input_files, screened=screened, periods=periods,
                   options=options)
     if options.statistics is not None:

@@ -8,12 +8,12 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from tracescreen.report import writers as outputs
 from . import UserError
 from .common import add_reading_options, print_caution, results_from_args, warn
 
 #: Output file of each table.
-FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "background": "background_checks.csv",
+FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "well_data": "well_data.csv",
+         "background": "background_checks.csv",
          "prediction_limits": "prediction_limits.csv", "retest_sequence": "retest_sequence.csv",
          "well_status": "well_status.csv", "control_charts": "control_charts.csv",
          "tolerance_limits": "tolerance_limits.csv", "confidence_limits": "confidence_limits.csv"}
@@ -106,6 +106,7 @@ def run(args) -> int:
     from tracescreen.io.network import NetworkError, read_network
     from tracescreen.io.sites import load_sites
     from tracescreen.limits.load import load_limits
+    from tracescreen.report import writers as outputs
     from tracescreen.screening.screen import screen
     from tracescreen.statistics.background.run import well_statistics
 

@@ -16,6 +16,10 @@
     (empty: ``detection``). It chooses which confidence-limit decision applies to the well.
 ``background_from``, ``background_to``
     the well's background window (ISO dates, inclusive; empty: the design's window).
+``analyte`` (optional)
+    a row that names an analyte (name, symbol or CAS number, as in the analyte registry) gives the
+    background window of that constituent at the well only; the well's role and group come from
+    its row without an analyte.
 
 **Design** (YAML mapping): the keys of :data:`DESIGN_KEYS`; every key is optional and the command
 line can override each one.
@@ -34,7 +38,7 @@ import yaml
 from tracescreen._internal.yamlfiles import SAFE_LOADER
 
 NETWORK_COLUMNS = ("site_id", "role", "well_group", "comparison", "stage", "background_from",
-                   "background_to")
+                   "background_to", "analyte")
 ROLE_WORDS = {"background": "background", "upgradient": "background", "up-gradient": "background",
               "compliance": "compliance", "downgradient": "compliance", "down-gradient": "compliance",
               "detection": "compliance", "": ""}
@@ -86,8 +90,11 @@ def read_network(path: str | Path) -> pd.DataFrame:
     -------
     DataFrame
         :data:`NETWORK_COLUMNS` (roles, comparisons and stages normalised; dates as datetime64,
-        NaT when empty); only rows with a role.
+        NaT when empty; ``analyte`` canonical, "" on a well's own row): the rows of wells with a
+        role, then the per-constituent window rows.
     """
+    from tracescreen.io.analytes import resolve
+
     p = Path(path)
     try:
         df = pd.read_csv(p, dtype=str, keep_default_na=False, encoding="utf-8-sig")
@@ -106,6 +113,12 @@ def read_network(path: str | Path) -> pd.DataFrame:
     df = df[list(NETWORK_COLUMNS)].apply(lambda c: c.str.strip())
     rows = np.arange(len(df)) + 2
     problems: list[str] = []
+    named = df["analyte"] != ""
+    canonical = df["analyte"].map(lambda a: resolve(a) if a else "")
+    bad = named & canonical.isna()
+    problems += [f"{p}: row {r}: analyte '{v}' is not in the analyte registry"
+                 for r, v in zip(rows[bad.to_numpy()], df["analyte"][bad])]
+    df["analyte"] = canonical.fillna("")
     role = df["role"].str.lower().map(ROLE_WORDS)
     bad = role.isna()
     problems += [f"{p}: row {r}: role '{v}' is not background or compliance"
@@ -118,19 +131,25 @@ def read_network(path: str | Path) -> pd.DataFrame:
         df[c] = low
     empty = df["site_id"] == ""
     problems += [f"{p}: row {r}: site_id is empty" for r in rows[empty.to_numpy()]]
-    dup = df["site_id"].duplicated() & ~empty
-    problems += [f"{p}: row {r}: site_id '{s}' appears twice" for r, s in zip(rows[dup.to_numpy()], df["site_id"][dup])]
+    dup = df.duplicated(["site_id", "analyte"]) & ~empty
+    problems += [f"{p}: row {r}: site_id '{s}' appears twice" + (f" for {a}" if a else "")
+                 for r, s, a in zip(rows[dup.to_numpy()], df["site_id"][dup], df["analyte"][dup])]
+    wells = set(df.loc[~named, "site_id"])
+    orphan = named & ~df["site_id"].isin(wells)
+    problems += [f"{p}: row {r}: window for {a} at '{s}', but '{s}' has no row of its own (role, group)"
+                 for r, s, a in zip(rows[orphan.to_numpy()], df["site_id"][orphan], df["analyte"][orphan])]
     out = pd.DataFrame({"site_id": df["site_id"], "role": role.fillna(""),
                         "well_group": df["well_group"].replace("", "all"),
                         "comparison": df["comparison"].replace("", "auto"),
-                        "stage": df["stage"].replace("", "detection")})
+                        "stage": df["stage"].replace("", "detection"), "analyte": df["analyte"]})
     out["background_from"] = _dates(df["background_from"], p, "background_from", rows, problems)
     out["background_to"] = _dates(df["background_to"], p, "background_to", rows, problems)
     late = out["background_from"] > out["background_to"]
     problems += [f"{p}: row {r}: background_from is after background_to" for r in rows[late.to_numpy()]]
     if problems:
         raise NetworkError(problems[0] + (f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""))
-    return out[out["role"] != ""].reset_index(drop=True)
+    keep = (out["role"] != "") | (out["analyte"] != "")
+    return out[keep][list(NETWORK_COLUMNS)].reset_index(drop=True)
 
 
 def read_design(path: str | Path) -> dict:

@@ -4,8 +4,9 @@ Rows are the regular site samples of the accepted results (QC samples are left o
 censored series (``value`` = detected value or detection limit, ``nondetect``). Each row of a
 well in the network gets a ``period``:
 
-* background wells: ``background`` inside the well's background window (its own
-  ``background_from``/``background_to``, else the design's; no window: every row);
+* background wells: ``background`` inside the well's background window (the constituent's own
+  window at the well, else the well's ``background_from``/``background_to``, else the design's;
+  no window: every row);
 * compliance wells: ``baseline`` (the well's own background, for intrawell limits and control
   charts) inside the window, ``compliance`` after it. With no window at all, a compliance well's
   first ``min_background`` results of each constituent are its baseline and the rest compliance.
@@ -56,8 +57,18 @@ def monitoring_rows(results: pd.DataFrame, network: pd.DataFrame, design: Design
     })
     frame = frame[np.isfinite(frame["value"]) & frame["sampled_at"].notna()]
     net = network.copy()
+    if "analyte" not in net:
+        net["analyte"] = ""
+    per_constituent = net[net["analyte"] != ""][["site_id", "analyte", "background_from", "background_to"]]
+    net = net[net["analyte"] == ""].drop(columns="analyte")
     net["comparison"] = np.where(net["comparison"] == "auto", design.comparison, net["comparison"])
     frame = frame.merge(net, on="site_id", how="inner")
+    if len(per_constituent):  # a constituent's own window at a well replaces the well's
+        frame = frame.merge(per_constituent, on=["site_id", "analyte"], how="left", suffixes=("", "_own"))
+        own = frame["background_from_own"].notna() | frame["background_to_own"].notna()
+        for c in ("background_from", "background_to"):
+            frame[c] = frame[c].where(~own, frame[f"{c}_own"])
+        frame = frame.drop(columns=["background_from_own", "background_to_own"])
     frame = frame.sort_values(SERIES + ["sampled_at"], kind="stable").reset_index(drop=True)
     start = frame["background_from"].fillna(design.background_from if design.background_from is not None else pd.NaT)
     end = frame["background_to"].fillna(design.background_to if design.background_to is not None else pd.NaT)
