@@ -35,9 +35,11 @@ def test_match_names_symbols_cas_and_fraction(label, name, fraction):
 
 
 def test_unknown_and_conflicting_labels():
-    """Unknown names give None; a label naming both fractions is a conflict."""
+    """Unknown names give None; a label naming both fractions is a conflict (with the analyte it
+    names, so that the loader rejects a conflicting metal but sets aside "Solids, Total Dissolved")."""
     assert analytes.match_one("Unobtainium") == (None, None)
-    assert analytes.match_one("Dissolved total lead") == (None, "conflict")
+    assert analytes.match_one("Dissolved total lead") == ("lead", "conflict")
+    assert analytes.match_one("Solids, Total Dissolved") == (None, "conflict")
 
 
 def test_vectorised_matching():

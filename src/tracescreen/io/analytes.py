@@ -115,17 +115,17 @@ def split_fraction(text: str) -> tuple[str, str | None]:
     found = {FRACTION_WORDS[m.group(1)] for m in _FRACTION_RE.finditer(low)}
     if not found:
         return s, None
-    if len(found) > 1:
-        return s, "conflict"
     rest = _FRACTION_RE.sub(" ", low)
     rest = re.sub(r"\(\s*\)", " ", rest)
     rest = re.sub(r"^[\s,;:\-]+|[\s,;:\-]+$", "", rest)
-    return rest, found.pop()
+    return rest, found.pop() if len(found) == 1 else "conflict"
 
 
 @functools.lru_cache(maxsize=8192)
 def match_one(text: str) -> tuple[str | None, str | None]:
-    """Canonical analyte name and fraction (or None) for one label; name None if unknown."""
+    """Canonical analyte name and fraction (or None) for one label; name None if unknown. A label
+    that names both fractions ("Solids, Total Dissolved") gives fraction ``"conflict"`` (with the
+    name of what is left, if that is an analyte)."""
     if text is None or str(text).strip() == "":
         return None, None
     table = _lookup()
@@ -133,8 +133,6 @@ def match_one(text: str) -> tuple[str | None, str | None]:
     if whole is not None:
         return whole, None
     rest, fraction = split_fraction(text)
-    if fraction == "conflict":
-        return None, "conflict"
     name = table.get(_key(rest))
     if name is None:
         # "Iron (Fe)", "Arsenic (As) [7440-38-2]": drop bracketed symbols or CAS numbers

@@ -1,38 +1,30 @@
-"""Parsing the cells of a lab file: results with non-detects, dates, fractions, sample types.
+"""Parsing the cells of a lab file: numbers, dates, fractions, sample types.
 
 Every parser here is vectorised: it works on a whole column (a pandas Series of text) and, where
 the column repeats few distinct values (dates, units, vocabularies), on its distinct values only.
 Each returns the parsed values and a boolean mask of cells it could not parse, so that the loader
-can reject exactly those rows with a reason.
+can reject exactly those rows with a reason. Result cells with their qualifiers and limits are
+read by :mod:`tracescreen.io.censoring`.
 
-Result cells (common laboratory reporting practice):
-
-* a number: detected (``1.2``, ``0.005``, ``1.2E-3``); with qualifier ``J``: detected, estimated;
-* ``<x`` or ``< x``: not detected at detection limit ``x`` (same unit as the row);
-* ``ND``, ``not detected``, ``n.d.``, ``BDL``, ``<DL``, ``<LOR`` ...: not detected; the detection
-  limit comes from the detection-limit column;
-* blank with qualifier ``U``: not detected (detection limit from its column);
-* a number with qualifier ``U`` (``0.5`` + ``U``, or ``0.5 U``): not detected at that value unless a
-  detection-limit column gives it;
-* ``>x`` (above the calibration range) cannot be screened and is rejected with that reason.
+The fraction and sample-type words are data: ``data/fractions.yaml`` (WQX ResultSampleFraction,
+NWIS name words, lab codes) and ``data/sample_types.yaml`` (WQX ActivityType, NWIS
+sample_type_cd, lab QC codes), each code with its source.
 """
 
 from __future__ import annotations
 
+import functools
 import re
+from importlib import resources
 
 import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
+import yaml
 
-from tracescreen.io import qualifiers
+from tracescreen._internal.yamlfiles import SAFE_LOADER
 from tracescreen.vocabulary import DATE_ORDERS
-
-ND_WORDS = frozenset({
-    "nd", "n.d.", "n.d", "notdetected", "not detected", "bdl", "belowdetectionlimit",
-    "below detection limit", "<dl", "<lor", "<mdl", "<rl", "<lod", "<loq", "<pql", "u",
-})
 
 FRACTION_VOCAB = {
     "total": "total", "t": "total", "tot": "total", "totalrecoverable": "total", "recoverable": "total",
@@ -41,65 +33,65 @@ FRACTION_VOCAB = {
     "soluble": "dissolved", "f": "dissolved",
 }
 
-def _fractions_from_data() -> dict[str, str]:
-    """WQX ``ResultSampleFractionText`` values and lab fraction codes of ``data/fractions.yaml``
-    (total or dissolved only; the others, e.g. suspended, stay unreadable and are reported)."""
-    from pathlib import Path
-
-    import yaml
-
-    from tracescreen._internal.yamlfiles import SAFE_LOADER
-
-    data = yaml.load((Path(__file__).resolve().parents[1] / "data" / "fractions.yaml").read_text(encoding="utf-8"),
-                     Loader=SAFE_LOADER)
-    out: dict[str, str] = {}
-    for section in ("wqx_fraction", "lab_codes"):
-        for e in data.get(section) or []:
-            if e.get("fraction") in ("total", "dissolved"):
-                out.setdefault(re.sub(r"[\s_\-]+", "", str(e["code"]).strip().lower()), e["fraction"])
-    return out
-
-
-for _k, _v in _fractions_from_data().items():
-    FRACTION_VOCAB.setdefault(_k, _v)
-
-SAMPLE_TYPE_VOCAB = {
-    "sample": "sample", "": "sample", "normal": "sample", "regular": "sample", "primary": "sample",
-    "routine": "sample", "n": "sample", "field sample": "sample", "fieldsample": "sample",
-    "field_duplicate": "field_duplicate", "fieldduplicate": "field_duplicate", "duplicate": "field_duplicate",
-    "dup": "field_duplicate", "fd": "field_duplicate", "fielddup": "field_duplicate",
-    "field_blank": "field_blank", "fieldblank": "field_blank", "fb": "field_blank",
-    "equipmentblank": "field_blank", "rinsateblank": "field_blank", "eb": "field_blank",
-    "lab_blank": "lab_blank", "labblank": "lab_blank", "laboratoryblank": "lab_blank",
-    "methodblank": "lab_blank", "mb": "lab_blank", "lb": "lab_blank",
-}
-
-#: Sample kinds of ``data/sample_types.yaml`` that are set aside (not results for screening), by
-#: kind; the kinds kept are the four above (equipment and trip blanks are judged as field blanks).
+#: The kinds of sample the tool keeps; ``equipment_blank`` and ``trip_blank`` are judged as field blanks.
+KEPT_KINDS = {"sample": "sample", "field_duplicate": "field_duplicate", "field_blank": "field_blank",
+              "lab_blank": "lab_blank", "equipment_blank": "field_blank", "trip_blank": "field_blank"}
+#: Kinds of ``data/sample_types.yaml`` that are set aside (not results for screening).
 SET_ASIDE_KINDS = {"lab_qc": "laboratory QC sample", "reference_material": "reference material",
                    "field_measurement": "field measurement, not a laboratory result"}
-_KIND_AS = {"sample": "sample", "field_duplicate": "field_duplicate", "field_blank": "field_blank",
-            "lab_blank": "lab_blank", "equipment_blank": "field_blank", "trip_blank": "field_blank"}
+
+SAMPLE_TYPE_VOCAB = {
+    "": "sample", "normal": "sample", "regular": "sample", "primary": "sample",
+    "routine": "sample", "field sample": "sample", "fieldsample": "sample",
+    "fieldduplicate": "field_duplicate", "duplicate": "field_duplicate", "fielddup": "field_duplicate",
+    "fieldblank": "field_blank", "equipmentblank": "field_blank", "rinsateblank": "field_blank",
+    "labblank": "lab_blank", "laboratoryblank": "lab_blank", "methodblank": "lab_blank",
+    # the kinds themselves (what a column mapping translates a lab's words into)
+    **{k.replace("_", ""): v for k, v in KEPT_KINDS.items()},
+    **{k.replace("_", ""): f"set_aside:{k}" for k in SET_ASIDE_KINDS},
+}
+
+
+def _code_key(code) -> str:
+    return re.sub(r"[\s_\-]+", "", str(code).strip().lower())
+
+
+@functools.cache
+def _data(name: str) -> dict:
+    return yaml.load(resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8"),
+                     Loader=SAFE_LOADER)
+
+
+def _fractions_from_data() -> tuple[dict[str, str], dict[str, str]]:
+    """(fractions, set aside): code -> total | dissolved, and code -> the reason a fraction that is
+    neither (suspended, bed sediment ...) is not screened, from ``data/fractions.yaml``."""
+    fractions: dict[str, str] = {}
+    aside: dict[str, str] = {}
+    for section in ("wqx_fraction", "nwis_name_words", "lab_codes"):
+        for e in _data("fractions").get(section) or []:
+            k = _code_key(e["code"])
+            if e.get("fraction") in ("total", "dissolved"):
+                fractions.setdefault(k, e["fraction"])
+            elif e.get("reason"):
+                aside.setdefault(k, str(e["reason"]))
+    return fractions, aside
+
+
+_FRACTIONS, FRACTION_SET_ASIDE = _fractions_from_data()
+for _k, _v in _FRACTIONS.items():
+    FRACTION_VOCAB.setdefault(_k, _v)
 
 
 def _sample_types_from_data() -> dict[str, str]:
     """WQX ActivityTypeCode values, NWIS sample_type_cd and lab codes of ``data/sample_types.yaml``:
     normalised code -> canonical sample type, or ``set_aside:<kind>`` for rows not screened."""
-    from pathlib import Path
-
-    import yaml
-
-    from tracescreen._internal.yamlfiles import SAFE_LOADER
-
-    data = yaml.load((Path(__file__).resolve().parents[1] / "data" / "sample_types.yaml").read_text(encoding="utf-8"),
-                     Loader=SAFE_LOADER)
     out: dict[str, str] = {}
     for section in ("wqx_activity_type", "lab_codes", "nwis_sample_type"):
-        for e in data.get(section) or []:
+        for e in _data("sample_types").get(section) or []:
             kind = e.get("kind")
-            target = _KIND_AS.get(kind) or (f"set_aside:{kind}" if kind in SET_ASIDE_KINDS else None)
+            target = KEPT_KINDS.get(kind) or (f"set_aside:{kind}" if kind in SET_ASIDE_KINDS else None)
             if target:
-                out.setdefault(re.sub(r"[\s_\-]+", "", str(e["code"]).strip().lower()), target)
+                out.setdefault(_code_key(e["code"]), target)
     return out
 
 
@@ -107,10 +99,6 @@ _DMY_FORMATS = ("%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y", "%d/%m/%y", "%d.%m.%y")
 _MDY_FORMATS = ("%m/%d/%Y", "%m-%d-%Y", "%m/%d/%y")
 _TIME_SUFFIXES = ("", " %H:%M", " %H:%M:%S")
 
-_NUM = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
-_LT_RE = re.compile(rf"^<\s*=?\s*({_NUM})$")
-_GT_RE = re.compile(rf"^>\s*=?\s*({_NUM})$")
-_NUM_QUAL_RE = re.compile(rf"^({_NUM})\s*([A-Za-z]{{1,3}})$")
 
 
 def _vocab_key(s: pd.Series) -> pd.Series:
@@ -136,144 +124,6 @@ def to_number(text: pd.Series, decimal_comma: bool = False) -> pd.Series:
     vals = pc.cast(pc.utf8_trim_whitespace(pc.if_else(ok, arr, pa.scalar(None, pa.string()))), pa.float64())
     out = vals.to_numpy(zero_copy_only=False)
     return pd.Series(np.where(np.isnan(out), np.nan, out).astype(float), index=text.index)
-
-
-def parse_results(result: pd.Series, qualifier: pd.Series, detection_limit: pd.Series,
-                  decimal_comma: bool = False, remark: pd.Series | None = None,
-                  condition: pd.Series | None = None) -> dict[str, np.ndarray]:
-    """Parse result cells into value, detected flag and detection limit (all in the row's unit).
-
-    Parameters
-    ----------
-    result, qualifier, detection_limit : pandas.Series of str
-        The cells as reported ("" where empty).
-    decimal_comma : bool
-        Read ``,`` as the decimal separator.
-    remark, condition : pandas.Series of str, optional
-        A remark-code column (USGS NWIS ``remark_cd``) and a detection-condition column (WQX
-        ``ResultDetectionConditionText``), read with their own vocabularies
-        (:mod:`tracescreen.io.qualifiers`).
-
-    Returns
-    -------
-    dict of numpy arrays
-        ``value`` (float, NaN for non-detects), ``detected`` (bool), ``detection_limit`` (float),
-        ``error`` (object: None or a reason text for cells that cannot be used), ``set_aside``
-        (object: None or why a usable cell is not a result to screen, e.g. qualifier R), ``meaning``
-        (object: the qualifier meanings found, ``;``-joined, with ``unknown:CODE`` for codes in no
-        vocabulary).
-    """
-    n = len(result)
-    res = result.fillna("").astype(str).str.strip()
-    dl_text = detection_limit.fillna("").astype(str).str.strip()
-    read = [qualifiers.read_column(qualifier.fillna("").astype(str), "qualifier")]
-    if remark is not None:
-        read.append(qualifiers.read_column(remark.fillna("").astype(str), "remark_code"))
-    if condition is not None:
-        read.append(qualifiers.read_column(condition.fillna("").astype(str), "detection_condition"))
-    meaning = qualifiers.combine(*read).to_numpy(dtype=object)
-    unknown_codes = qualifiers.combine(*[pd.DataFrame({"meanings": r["unknown"]}) for r in read]).to_numpy(dtype=object)
-
-    value = to_number(res, decimal_comma).to_numpy(dtype=float, copy=True)
-    dl_col = to_number(dl_text, decimal_comma).to_numpy(dtype=float, copy=True)
-    error = np.full(n, None, dtype=object)
-
-    bad_dl = (dl_text != "").to_numpy() & np.isnan(dl_col)
-    error[bad_dl] = ("detection limit '" + dl_text[bad_dl] + "' is not a number").to_numpy()
-
-    qual_u = qualifiers.has_meaning(meaning, qualifiers.NONDETECT_MEANINGS).copy()
-    numeric = ~np.isnan(value)
-    detected = numeric.copy()
-    dl = dl_col.copy()
-
-    todo = ~numeric  # everything that is not a plain number is looked at here
-    if todo.any():
-        # analyse each distinct text once ("<0.5" repeats thousands of times), then broadcast
-        codes, uniq = pd.factorize(res[todo])
-        u = pd.Series(np.asarray(uniq, dtype=object), dtype=object)
-        u_c = u.str.replace(",", ".", regex=False) if decimal_comma else u
-        lt = u_c.str.extract(_LT_RE, expand=False).iloc[codes].reset_index(drop=True)
-        gt = u_c.str.extract(_GT_RE, expand=False).iloc[codes].reset_index(drop=True)
-        numq = u_c.str.extract(_NUM_QUAL_RE, expand=True).iloc[codes].reset_index(drop=True)
-        is_nd_word = u.str.lower().str.replace(r"\s+", " ", regex=True).isin(ND_WORDS).to_numpy()[codes]
-        is_blank = (u == "").to_numpy()[codes]
-        sub = u.iloc[codes].reset_index(drop=True)
-        idx = np.flatnonzero(todo)
-
-        lt_ok = lt.notna().to_numpy()
-        lt_val = pd.to_numeric(lt, errors="coerce").to_numpy(dtype=float)
-        # "<x": non-detect at x; a separate detection-limit column, if any, is kept as reported
-        dl[idx[lt_ok]] = np.where(np.isnan(dl_col[idx[lt_ok]]), lt_val[lt_ok], dl_col[idx[lt_ok]])
-        detected[idx[lt_ok]] = False
-
-        # ">x": above the calibrated or reported range, kept as "at least x" (meaning above_range);
-        # screening decides exceeds when x is above the limit, else above_range_inconclusive
-        gt_ok = gt.notna().to_numpy()
-        gt_val = pd.to_numeric(gt, errors="coerce").to_numpy(dtype=float)
-        value[idx[gt_ok]] = gt_val[gt_ok]
-        detected[idx[gt_ok]] = True
-        cur = meaning[idx[gt_ok]]
-        meaning[idx[gt_ok]] = np.where(cur == "", "above_range",
-                                       np.where(pd.Series(cur, dtype=object).str.contains("above_range", regex=False),
-                                                cur, cur + ";above_range"))
-
-        # "0.5 U" / "1.2 J": number followed by qualifier letters
-        nq_ok = numq[0].notna().to_numpy()
-        nq_val = pd.to_numeric(numq[0], errors="coerce").to_numpy(dtype=float)
-        nq_read = qualifiers.read_column(numq[1].fillna("").astype(str), "qualifier")
-        nq_u = nq_ok & qualifiers.has_meaning(nq_read["meanings"], qualifiers.NONDETECT_MEANINGS)
-        nq_meaning = nq_read["meanings"].to_numpy(dtype=object)
-        add = nq_ok & (nq_meaning != "")
-        cur = meaning[idx[add]]
-        meaning[idx[add]] = np.where(cur == "", nq_meaning[add], cur + ";" + nq_meaning[add])
-        nq_det = nq_ok & ~nq_u
-        value[idx[nq_det]] = nq_val[nq_det]
-        detected[idx[nq_det]] = True
-        value[idx[nq_u]] = nq_val[nq_u]
-        qual_u[idx[nq_u]] = True
-
-        nd_word = is_nd_word | (is_blank & qual_u[idx])
-        detected[idx[nd_word]] = False
-        unknown = ~(lt_ok | gt_ok | nq_ok | nd_word)
-        blank_unknown = unknown & is_blank
-        error[idx[blank_unknown]] = "result is empty (and no non-detect qualifier or detection condition)"
-        other = unknown & ~is_blank
-        error[idx[other]] = ("result '" + sub[other] + "' is not a number, '<x' or a non-detect code").to_numpy()
-
-    # A detected 0 is the "none found" convention of old records, not a measured zero: with a
-    # detection-limit column it is a non-detect at that limit; without one it is set aside (a
-    # non-detect whose limit is unknown cannot be screened). README, "Results of exactly 0".
-    zero = detected & (value == 0) & ~qual_u
-    qual_u |= zero & ~np.isnan(dl_col)
-    zero_no_dl = zero & np.isnan(dl_col)
-
-    # A number with qualifier U: not detected at that number (or at the DL column if given)
-    num_u = ~np.isnan(value) & qual_u
-    dl[num_u] = np.where(np.isnan(dl_col[num_u]), value[num_u], dl_col[num_u])
-    detected[num_u] = False
-    value[~detected] = np.nan
-
-    rejected = qualifiers.has_meaning(meaning, {"rejected"}) & (error == None)  # noqa: E711 (object array)
-    set_aside = np.full(n, None, dtype=object)
-    set_aside[rejected] = "result qualified as unusable (rejected by the laboratory or data review)"
-    zero_aside = zero_no_dl & ~rejected & (error == None)  # noqa: E711 (object array)
-    set_aside[zero_aside] = ("result 0 reported as detected: the old 'none found' convention, a non-detect "
-                             "whose detection limit is not given")
-    value[zero_aside], detected[zero_aside] = np.nan, False
-    # a number qualified above the calibrated range (remark '>', 'Above Operating Range') is kept
-    # as "at least" that number, like ">x" (meaning above_range); screening decides
-
-    nd_no_dl = ~detected & np.isnan(dl) & (error == None) & ~zero_aside  # noqa: E711 (object array)
-    error[nd_no_dl] = "non-detect without a detection limit"
-    neg = (value < 0) | (dl < 0)
-    error[neg & (error == None)] = "negative concentration or detection limit"  # noqa: E711
-    zero_dl = ~detected & (dl == 0)
-    error[zero_dl & (error == None)] = "non-detect with a detection limit of zero"  # noqa: E711
-    has_unknown = unknown_codes != ""
-    unk = np.where(has_unknown, "unknown:" + pd.Series(unknown_codes, dtype=object).str.replace(";", ";unknown:", regex=False).to_numpy(dtype=object), "")
-    meaning = np.where(has_unknown, np.where(meaning == "", unk, meaning + ";" + unk), meaning)
-    return {"value": value, "detected": detected, "detection_limit": dl, "error": error, "meaning": meaning,
-            "set_aside": set_aside}
 
 
 def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:

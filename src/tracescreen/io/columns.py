@@ -1,98 +1,79 @@
-"""Recognising the columns of a lab file.
+"""Recognising the columns of a lab or portal file: which header holds which tracescreen column.
 
-Lab files name their columns in many ways (``Site``, ``Location``, ``Station``; ``LOR``, ``MDL``,
-``Detection Limit`` ...). :func:`recognise_columns` maps the headers of a file to tracescreen's
-canonical columns without configuration; a small YAML mapping (``--columns FILE``) covers other
-layouts::
+Lab files name their columns in many ways (``Site``, ``Location``, ``Station``; ``LOD``, ``MDL``,
+``Detection Limit`` ...); exchange layouts have fixed names (:mod:`tracescreen.io.wqx`,
+:mod:`tracescreen.io.nwis`). :func:`recognise` maps a file's headers to tracescreen's columns:
 
-    # columns.yaml
-    columns:            # lab header -> canonical column
-      Point Ref: site_id
-      Lab No: sample_id
-    defaults:           # optional constant values for columns the file lacks
-      lab: Eastbank Analytical
-      fraction: total
-
-``defaults`` apply only to files that contain at least one of the mapped headers, so one mapping
-can be given for a run that mixes several laboratories' layouts.
+1. a header the column mapping names (``--columns``, :mod:`tracescreen.io.mapping`) always wins;
+   a header the mapping lists under ``ignore`` is never read;
+2. every other header is compared, without case, spaces or punctuation, with the spellings below;
+   where two headers claim one column, the spelling listed first wins and a note names both
+   (e.g. a lab file with ``SAMPLE_ID`` and ``LAB_SAMPLE_ID``, or ``DL`` and ``LOD``).
 """
 
 from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from pathlib import Path
 
-import yaml
-
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen.io import nwis, wqx
 
 REQUIRED = ("site_id", "sample_id", "sampled_at", "analyte", "result", "unit")
 OPTIONAL = (
-    "fraction",
-    "detection_limit",
-    "qualifier",
-    "remark_code",
-    "detection_condition",
-    "result_status",
-    "sample_type",
-    "parent_sample_id",
-    "lab",
-    "batch",
-    "analysed_at",
-    "hardness_mg_L",
-    "uncertainty",
-    "parameter_code",
-    "sampled_time",
-    "sampled_time_zone",
+    "fraction", "detection_limit", "quantitation_limit", "detection_limit_unit", "quantitation_limit_unit",
+    "limit_type", "limit_value", "limit_unit", "limit_type_2", "limit_value_2", "limit_unit_2",
+    "qualifier", "remark_code", "value_qualifier", "detection_condition", "result_status", "review_status",
+    "sample_type", "medium", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L", "uncertainty",
+    "parameter_code", "parameter_name", "sampled_time", "sampled_time_zone",
 )
 CANONICAL = REQUIRED + OPTIONAL
 
-#: Header spellings recognised without configuration (compared after removing case, spaces and
-#: punctuation). Drawn from common laboratory report layouts (common practice).
-HEADER_VARIANTS: dict[str, tuple[str, ...]] = {
-    "site_id": ("monitoringlocationidentifier", "siteno", "siteid", "site", "sitecode", "location", "locationid", "locationcode", "station",
-                "stationid", "stationcode", "samplepoint", "samplingpoint", "monitoringpoint",
-                "monitoringsite", "sitename"),
-    "sample_id": ("activityidentifier", "sampleid", "sample", "samplenumber", "sampleno", "samplecode", "labsampleid",
-                  "fieldsampleid", "samplename", "labreference", "labref"),
-    "sampled_at": ("activitystartdate", "sampledt", "sampledat", "sampledate", "date", "datesampled", "samplingdate", "collectiondate",
-                   "datecollected", "sampledatetime", "datetime", "sampletaken", "datetaken"),
-    "analyte": ("characteristicname", "analyte", "parameter", "determinand", "chemical", "chemicalname", "characteristic",
-                "constituent", "element", "metal", "analytename", "parametername", "test", "cas",
-                "casnumber", "casno", "casrn"),
-    "fraction": ("resultsamplefractiontext", "fraction", "samplefraction", "fractiontype", "filtration", "filtered", "filtrationstatus"),
-    "result": ("resultmeasurevalue", "resultva", "result", "value", "resultvalue", "concentration", "conc", "measuredvalue",
-               "reportedresult", "reportedvalue", "finalresult"),
-    "unit": ("resultmeasuremeasureunitcode", "unitcd", "unit", "units", "resultunit", "resultunits", "uom", "unitofmeasure"),
-    "detection_limit": ("detectionquantitationlimitmeasuremeasurevalue", "rptlevva", "detectionlimit", "dl", "lor", "mdl", "rl", "reportinglimit", "limitofreporting",
-                        "lod", "loq", "limitofdetection", "methoddetectionlimit", "pql", "mrl"),
-    "qualifier": ("qualifier", "qual", "flag", "labqualifier", "resultqualifier", "dataqualifier",
-                  "labflag", "qualifiers", "validationqualifier", "measurequalifiercode"),
-    # USGS NWIS remark code column (remark_cd) and WQX ResultDetectionConditionText
-    "remark_code": ("remarkcd", "remarkcode", "remark"),
-    "detection_condition": ("resultdetectionconditiontext", "detectioncondition", "detectionconditiontext"),
-    # WQX ResultStatusIdentifier (Accepted, Final, Preliminary, Rejected, Validated ...)
-    "result_status": ("resultstatusidentifier", "resultstatus"),
-    "sample_type": ("activitytypecode", "sampletypecd", "sampletype", "type", "qctype", "sampleclass", "qcsampletype"),
+#: Header spellings of laboratory deliverables recognised without configuration (compared after
+#: :func:`header_key`), common practice; within a column the first spelling listed is preferred.
+LAB_HEADERS: dict[str, tuple[str, ...]] = {
+    "site_id": ("siteid", "site", "sitecode", "location", "locationid", "locationcode", "station", "stationid",
+                "stationcode", "samplepoint", "samplingpoint", "monitoringpoint", "monitoringsite", "sitename"),
+    "sample_id": ("sampleid", "sample", "samplenumber", "sampleno", "samplecode", "fieldsampleid", "samplename",
+                  "labsampleid", "labreference", "labref"),
+    "sampled_at": ("sampledat", "sampledate", "date", "datesampled", "samplingdate", "collectiondate",
+                   "datecollected", "collectdate", "sampledatetime", "collectdatetime", "collectiondatetime",
+                   "datetime", "sampletaken", "datetaken"),
+    "analyte": ("analyte", "parameter", "determinand", "chemical", "chemicalname", "characteristic", "constituent",
+                "element", "metal", "analytename", "parametername", "test", "cas", "casnumber", "casno", "casrn"),
+    "fraction": ("fraction", "samplefraction", "fractiontype", "filtration", "filtered", "filtrationstatus"),
+    "result": ("result", "value", "resultvalue", "concentration", "conc", "measuredvalue", "reportedresult",
+               "reportedvalue", "finalresult"),
+    "unit": ("unit", "units", "resultunit", "resultunits", "uom", "unitofmeasure"),
+    "detection_limit": ("detectionlimit", "dl", "mdl", "lod", "limitofdetection", "methoddetectionlimit", "sdl",
+                        "idl"),
+    "quantitation_limit": ("quantitationlimit", "loq", "limitofquantitation", "reportinglimit", "rl", "pql", "lor",
+                           "limitofreporting", "mrl", "practicalquantitationlimit"),
+    "detection_limit_unit": ("detectionlimitunit", "detectionlimitunits", "dlunit", "dlunits", "mdlunit",
+                             "mdlunits"),
+    "quantitation_limit_unit": ("quantitationlimitunit", "quantitationlimitunits", "reportinglimitunit",
+                                "reportinglimitunits", "rlunit", "rlunits", "loqunit", "loqunits"),
+    "limit_type": ("limittype", "limitdefinition", "detectionlimittype", "dltype", "reportinglimittype"),
+    "limit_value": ("repdl", "reportedlimit", "reporteddetectionlimit", "reportingdetectionlimit", "limitvalue"),
+    "limit_unit": ("limitunit", "limitunits", "repdlunit", "repdlunits"),
+    "qualifier": ("qualifier", "qual", "flag", "labqualifier", "resultqualifier", "dataqualifier", "labflag",
+                  "qualifiers", "validationqualifier", "resultflag", "labqualifiers"),
+    "remark_code": ("remarkcode", "remark"),
+    "detection_condition": ("detectioncondition", "detectionconditiontext"),
+    "result_status": ("resultstatus",),
+    "sample_type": ("sampletype", "type", "qctype", "sampleclass", "qcsampletype"),
+    "medium": ("medium", "matrix", "samplematrix", "media"),
     "parent_sample_id": ("parentsampleid", "parentsample", "parent", "duplicateof", "parentid"),
-    "lab": ("lab", "laboratory", "labname", "laboratoryname"),
-    "batch": ("batch", "batchid", "labbatch", "analyticalbatch", "batchno", "batchnumber"),
-    "analysed_at": ("analysisstartdate", "analysedat", "analyzedat", "analysisdate", "dateanalysed", "dateanalyzed",
-                    "analysed", "analyzed", "analysed_date"),
-    "hardness_mg_L": ("hardnessmgl", "hardness", "hardnessascaco3", "totalhardness",
-                      "hardnessmgcaco3l", "hardnessmglascaco3", "hardnesscaco3", "hardnessmglcaco3"),
+    "lab": ("lab", "laboratory", "labname"),
+    "batch": ("batch", "batchid", "labbatch", "analyticalbatch", "anlbatch", "batchno", "batchnumber"),
+    "analysed_at": ("analysedat", "analyzedat", "analysisdate", "dateanalysed", "dateanalyzed", "analysed",
+                    "analyzed", "rundate", "rundatetime", "analysisdatetime"),
+    "hardness_mg_L": ("hardnessmgl", "hardness", "hardnessascaco3", "totalhardness", "hardnessmgcaco3l",
+                      "hardnessmglascaco3", "hardnesscaco3", "hardnessmglcaco3"),
     "uncertainty": ("uncertainty", "expandeduncertainty", "measurementuncertainty", "mu", "uncert",
                     "uncertaintyk2"),
-    # USGS parameter code: NWIS parm_cd, WQX USGSPCode (io/parameter_codes.py)
-    "parameter_code": ("parmcd", "usgspcode", "parametercd", "parametercode", "pcode"),
-    # time of sampling beside a date column: WQX ActivityStartTime/Time, NWIS sample_tm
-    "sampled_time": ("activitystarttimetime", "sampletm", "sampletime", "timesampled", "samplingtime",
-                     "collectiontime", "timecollected"),
-    # its time zone (WQX ActivityStartTime/TimeZoneCode, NWIS tz_cd / sample_start_time_datum_cd):
-    # read, not applied; dates are kept in the local clock time as reported (README)
-    "sampled_time_zone": ("activitystarttimetimezonecode", "tzcd", "samplestarttimedatumcd", "timezone",
-                          "timezonecode"),
+    "parameter_code": ("parametercode",),
+    "sampled_time": ("sampletime", "timesampled", "samplingtime", "collectiontime", "timecollected", "collecttime"),
+    "sampled_time_zone": ("timezone", "timezonecode"),
 }
 
 
@@ -102,77 +83,83 @@ def header_key(header: str) -> str:
     return re.sub(r"[^a-z0-9]+", "", s)
 
 
-_VARIANT_LOOKUP = {v: canon for canon, vs in HEADER_VARIANTS.items() for v in vs}
-for _c in CANONICAL:
-    _VARIANT_LOOKUP.setdefault(header_key(_c), _c)
+def _variants() -> dict[str, tuple[str, int]]:
+    """header key -> (column, rank): exchange layouts first (their names are exact), then lab
+    spellings, then each column's own name."""
+    out: dict[str, tuple[str, int]] = {}
+    for table in (wqx.HEADERS, nwis.HEADERS, LAB_HEADERS):
+        for column, keys in table.items():
+            if column not in CANONICAL:
+                raise ValueError(f"header spellings for an unknown column {column!r}")
+            for k in keys:
+                out.setdefault(k, (column, len(out)))
+    for c in CANONICAL:
+        out.setdefault(header_key(c), (c, len(out)))
+    return out
 
 
-class ColumnMapError(ValueError):
-    """A column-mapping file that cannot be used."""
+_VARIANT_LOOKUP = _variants()
 
 
-@dataclass(frozen=True)
-class ColumnMap:
-    """A user's column mapping: lab header -> canonical column, plus constant defaults."""
+@dataclass
+class Recognition:
+    """Which header holds each tracescreen column (``found``), and notes on headers that competed."""
 
-    columns: dict[str, str] = field(default_factory=dict)
-    defaults: dict[str, str] = field(default_factory=dict)
-    path: str = ""
-
-
-def load_column_map(path: str | Path) -> ColumnMap:
-    """Read a ``--columns`` YAML file (see the module docstring for its form)."""
-    p = Path(path)
-    try:
-        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
-    except FileNotFoundError:
-        raise ColumnMapError(f"{p}: column-mapping file not found") from None
-    except (yaml.YAMLError, UnicodeDecodeError) as exc:
-        raise ColumnMapError(f"{p}: not a readable YAML file ({exc.__class__.__name__})") from None
-    if not isinstance(data, dict):
-        raise ColumnMapError(f"{p}: expected a mapping with 'columns' and optional 'defaults'")
-    unknown = set(data) - {"columns", "defaults"}
-    if unknown:
-        raise ColumnMapError(f"{p}: unknown key(s) {sorted(unknown)}; allowed: columns, defaults")
-    cols = data.get("columns") or {}
-    defaults = data.get("defaults") or {}
-    if not isinstance(cols, dict) or not isinstance(defaults, dict):
-        raise ColumnMapError(f"{p}: 'columns' and 'defaults' must be mappings")
-    for lab_header, canon in cols.items():
-        if canon not in CANONICAL:
-            raise ColumnMapError(
-                f"{p}: column '{lab_header}' maps to unknown column '{canon}'; known: {', '.join(CANONICAL)}"
-            )
-    for canon in defaults:
-        if canon not in CANONICAL:
-            raise ColumnMapError(f"{p}: default for unknown column '{canon}'")
-    return ColumnMap({str(k): str(v) for k, v in cols.items()},
-                     {str(k): "" if v is None else str(v) for k, v in defaults.items()}, str(p))
+    found: dict[str, str]
+    notes: list[str] = field(default_factory=list)
 
 
-def recognise_columns(headers: list[str], column_map: ColumnMap | None = None) -> dict[str, str]:
-    """Map a file's headers to canonical columns.
+def recognise(headers: list[str], column_map=None) -> Recognition:
+    """Map a file's headers to tracescreen columns (see the module docstring for the rules).
 
-    Returns ``{canonical: header}``. A user mapping wins over the built-in variants; the first
-    header that matches a canonical column is used.
+    ``column_map`` is a :class:`tracescreen.io.mapping.ColumnMap` (or None).
     """
-    found: dict[str, str] = {}
+    ignored = {header_key(h) for h in getattr(column_map, "ignore", ())}
     user = {header_key(k): v for k, v in (column_map.columns if column_map else {}).items()}
+    found: dict[str, str] = {}
+    notes: list[str] = []
     for h in headers:
         k = header_key(h)
-        canon = user.get(k) or _VARIANT_LOOKUP.get(k)
-        if canon and canon not in found:
-            found[canon] = h
-    return found
+        if k in user and k not in ignored:
+            c = user[k]
+            if c in found:
+                notes.append(f"columns '{found[c]}' and '{h}' are both mapped to {c}: '{found[c]}' is used")
+            else:
+                found[c] = h
+    candidates: dict[str, list[tuple[int, int, str]]] = {}
+    for i, h in enumerate(headers):
+        k = header_key(h)
+        hit = _VARIANT_LOOKUP.get(k)
+        if hit is None or k in ignored or k in user:
+            continue
+        candidates.setdefault(hit[0], []).append((hit[1], i, h))
+    for c, cands in candidates.items():
+        cands.sort()
+        names = ", ".join(f"'{h}'" for _, _, h in cands)
+        if c in found:
+            notes.append(f"column {names} also looks like {c}; the mapped column '{found[c]}' is used")
+            continue
+        found[c] = cands[0][2]
+        if len(cands) > 1:
+            notes.append(f"columns {names} all look like {c}: '{cands[0][2]}' is used "
+                         "(map or ignore the others with --columns)")
+    return Recognition(found, notes)
 
 
-def score_header_row(cells: list[str], column_map: ColumnMap | None = None) -> int:
-    """How many canonical columns a candidate header row names (used to find the header row)."""
+def recognise_columns(headers: list[str], column_map=None) -> dict[str, str]:
+    """``{tracescreen column: header}`` of a file's headers (:func:`recognise` without the notes)."""
+    return recognise(headers, column_map).found
+
+
+def score_header_row(cells: list[str], column_map=None) -> int:
+    """How many tracescreen columns a candidate header row names (used to find the header row)."""
     return len(recognise_columns([c for c in cells if c], column_map))
 
 
-def mapping_applies(headers, column_map: ColumnMap) -> bool:
-    """A mapping's ``defaults`` apply only to files that have at least one of its mapped headers."""
-    mapped = {header_key(h) for h in column_map.columns}
-    return not mapped or any(header_key(h) in mapped for h in headers)
+def __getattr__(name: str):
+    """The mapping's names, where they used to live (``tracescreen.io.mapping`` holds them now)."""
+    if name in ("ColumnMap", "ColumnMapError", "load_column_map", "mapping_applies"):
+        from tracescreen.io import mapping
 
+        return getattr(mapping, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

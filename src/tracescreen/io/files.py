@@ -24,7 +24,8 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.csv as pacsv
 
-from tracescreen.io.columns import REQUIRED, ColumnMap, mapping_applies, recognise_columns, score_header_row
+from tracescreen.io.columns import REQUIRED, recognise_columns, score_header_row
+from tracescreen.io.mapping import ColumnMap, mapping_applies, missing_required
 
 HEADER_SEARCH_ROWS = 30
 
@@ -254,15 +255,12 @@ def _read_xlsx(path: Path, opts: LoadOptions) -> tuple[list[RawTable], str]:
 
 
 def _check_required(headers: list[str], where: str, opts: LoadOptions) -> None:
-    """LoadError naming the required columns a header row lacks (mapped defaults and parameter
-    codes count)."""
+    """LoadError naming the required columns a header row lacks (mapped, combined, derived and
+    default columns and parameter codes count)."""
+    cells = pd.DataFrame(columns=headers)
     found = recognise_columns(headers, opts.column_map)
-    if "parameter_code" in found:
-        found = {**found, "analyte": "", "unit": ""}
-    if {"site_id", "sampled_at"} <= set(found):
-        found = {**found, "sample_id": ""}  # identified by site and time (see normalise)
-    defaults = opts.column_map.defaults if opts.column_map and mapping_applies(headers, opts.column_map) else {}
-    missing = [c for c in REQUIRED if c not in found and c not in defaults]
+    applies = mapping_applies(headers, opts.column_map)
+    missing = missing_required(cells, found, opts.column_map, applies)
     if missing:
         raise LoadError(f"{where}: required column(s) {', '.join(missing)} not found (headers: "
                         f"{', '.join(map(str, headers[:12]))}); give a column mapping with --columns")

@@ -16,8 +16,14 @@ from tracescreen._internal.memory import release_unused
 from tracescreen.io.files import LoadError, LoadOptions, RawTable, read_raw, sha256_of
 from tracescreen.io.normalise import normalise
 from tracescreen.io.results import (
-    ACCEPTED_COLUMNS, SET_ASIDE_PREFIX, TEXT_COLUMNS, LoadResult, concat_accepted, empty_accepted,
-    normalise_empty, split_set_aside,
+    ACCEPTED_COLUMNS,
+    SET_ASIDE_PREFIX,
+    TEXT_COLUMNS,
+    LoadResult,
+    concat_accepted,
+    empty_accepted,
+    normalise_empty,
+    split_set_aside,
 )
 
 __all__ = [

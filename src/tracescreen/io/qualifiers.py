@@ -30,7 +30,7 @@ The full citations and where each code was checked are in ``data/qualifiers.yaml
 from __future__ import annotations
 
 import re
-from functools import lru_cache
+from functools import cache, lru_cache
 from pathlib import Path
 
 import numpy as np
@@ -46,6 +46,7 @@ COLUMN_NAMESPACES: dict[str, tuple[str, ...]] = {
     "qualifier": ("validation", "wqx_measure_qualifier", "wqx_detection_condition"),
     "remark_code": ("usgs_remark",),
     "detection_condition": ("wqx_detection_condition",),
+    "value_qualifier": ("usgs_value_qualifier",),
 }
 #: Namespaces whose codes are phrases, matched without case.
 PHRASE_NAMESPACES = frozenset({"wqx_detection_condition"})
@@ -72,7 +73,7 @@ def vocabulary() -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _lookups(namespaces: tuple[str, ...]) -> tuple[dict[str, str], dict[str, str]]:
     """(codes, phrases): code -> meaning (case-sensitive) and lower-case phrase -> meaning; first namespace wins."""
     voc = vocabulary()
@@ -159,3 +160,10 @@ def has_meaning(meanings: pd.Series | np.ndarray, wanted: frozenset[str] | set[s
     uniq, idx = np.unique(arr.astype(str), return_inverse=True)
     hit = np.array([bool(wanted.intersection(u.split(";"))) for u in uniq], dtype=bool)
     return hit[idx] if len(uniq) else np.zeros(0, dtype=bool)
+
+
+def knows(code: str, column: str = "qualifier") -> bool:
+    """Is ``code`` (one code or phrase) in the vocabularies a ``column`` is read with?"""
+    codes, phrases = _lookups(COLUMN_NAMESPACES[column])
+    text = str(code).strip()
+    return text in codes or " ".join(text.lower().split()) in phrases

@@ -18,7 +18,7 @@ ACCEPTED_COLUMNS = [
     "file", "sheet", "row", "site_id", "sample_id", "sampled_at", "analyte", "fraction",
     "result_text", "unit", "value_ug_L", "detected", "detection_limit_ug_L", "qualifier",
     "sample_type", "parent_sample_id", "lab", "batch", "analysed_at", "hardness_mg_L",
-    "uncertainty_ug_L", "qualifier_meaning", "ph", "doc_mg_L", "temperature_C",
+    "uncertainty_ug_L", "qualifier_meaning", "ph", "doc_mg_L", "temperature_C", "quantitation_limit_ug_L",
 ]
 #: Water-chemistry inputs of computed limits (io/chemistry_rows.py): pH, DOC [mg/L], temperature [°C];
 #: NaN when the file reports none for the sample.
@@ -42,6 +42,29 @@ class LoadResult:
     set_aside: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=["file", "sheet", "row", "reason"]))
 
 
+#: Columns of the rows not accepted (set aside or rejected) before their original cells: provenance,
+#: reason and what the row was read as (analyte name from the registry, or as written; the sample
+#: type as written; value and censoring level in µg/L). The original cells follow, so a lab QC
+#: row keeps its spike amount, recovery and control-limit columns as the lab wrote them
+#: (tracescreen.retest.labqc reads them). Rejected rows show provenance, reason and cells only.
+NOT_ACCEPTED_COLUMNS = ["file", "sheet", "row", "reason", "analyte", "fraction", "sample_type", "batch",
+                        "value_ug_L", "detected", "detection_limit_ug_L", "unit"]
+
+
+def not_accepted_frame(raw, mask: np.ndarray, reasons: np.ndarray, parsed: dict[str, np.ndarray]) -> pd.DataFrame:
+    """The rows of ``raw`` in ``mask``: provenance, reason, parsed columns, then the original cells
+    (an original header equal to a parsed column's name is kept as ``<header> (file)``)."""
+    head = pd.DataFrame({"file": raw.file, "sheet": raw.sheet, "row": raw.rows[mask],
+                         "reason": np.asarray(reasons, dtype=object).astype(str)})
+    for c in NOT_ACCEPTED_COLUMNS[4:]:
+        if c in parsed:
+            head[c] = parsed[c]
+    cells = raw.cells.loc[mask]
+    cells = cells.drop(columns=[c for c in cells.columns if str(c).startswith("__")])
+    cells = cells.rename(columns={c: f"{c} (file)" for c in cells.columns if c in head.columns})
+    return pd.concat([head, cells.reset_index(drop=True)], axis=1)
+
+
 #: Reasons of rows set aside start with this (they are stored with the rejected rows of a
 #: workspace, so that its counts stay rows read = stored + rejected, and told apart by it).
 SET_ASIDE_PREFIX = "not screened: "
@@ -49,12 +72,18 @@ SET_ASIDE_PREFIX = "not screened: "
 
 def split_set_aside(rows: pd.DataFrame) -> tuple[pd.DataFrame, pd.DataFrame]:
     """(rejected, set aside) rows of a table of rows not accepted, told apart by their reason; the
-    reasons of the rows set aside are returned without :data:`SET_ASIDE_PREFIX`."""
+    reasons of the rows set aside are returned without :data:`SET_ASIDE_PREFIX`. The parsed
+    columns (:data:`NOT_ACCEPTED_COLUMNS`) are kept for the rows set aside only."""
     aside = rows["reason"].astype(str).str.startswith(SET_ASIDE_PREFIX).to_numpy(dtype=bool) if len(rows) else \
         np.zeros(0, dtype=bool)
     out = rows[aside].reset_index(drop=True)
     out["reason"] = out["reason"].astype(str).str.removeprefix(SET_ASIDE_PREFIX)
-    return rows[~aside].reset_index(drop=True), out
+    # rejected rows are shown as the file has them: provenance, reason and the original cells
+    parsed = [c for c in NOT_ACCEPTED_COLUMNS[4:] if c in rows.columns]
+    rejected = rows[~aside].drop(columns=parsed).reset_index(drop=True)
+    rejected = rejected.rename(columns={c: str(c).removesuffix(" (file)") for c in rejected.columns
+                                        if str(c).endswith(" (file)") and str(c).removesuffix(" (file)") in parsed})
+    return rejected, out
 
 
 
@@ -68,7 +97,8 @@ def normalise_empty() -> pd.DataFrame:
     no_text = pd.Categorical([], categories=pd.Index([], dtype="str"))
     cols = {c: pd.Series(no_text) if c in TEXT_COLUMNS else pd.Series(dtype=str)
             for c in ACCEPTED_COLUMNS}
-    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L") + INPUT_COLUMNS:
+    for c in ("value_ug_L", "detection_limit_ug_L", "hardness_mg_L", "uncertainty_ug_L", "quantitation_limit_ug_L") \
+            + INPUT_COLUMNS:
         cols[c] = pd.Series(dtype=float)
     cols["row"] = pd.Series(dtype="int64")
     cols["detected"] = pd.Series(dtype=bool)

@@ -24,8 +24,8 @@ from tracescreen.io.results import INPUT_COLUMNS
 RESULT_KEY = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab"]
 PROVENANCE = ["file", "sheet", "row"]
 VALUE_COLUMNS = [c for c in loading.ACCEPTED_COLUMNS
-                 if c not in RESULT_KEY + PROVENANCE + ["result_text", "unit", "qualifier_meaning"]
-                 + list(INPUT_COLUMNS)]
+                 if c not in RESULT_KEY + PROVENANCE + ["result_text", "unit", "qualifier_meaning",
+                                                         "quantitation_limit_ug_L"] + list(INPUT_COLUMNS)]
 
 
 _MIX = np.uint64(0x100000001B3)           # 64-bit FNV prime, mixes the column hashes of a row

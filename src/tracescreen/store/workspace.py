@@ -247,7 +247,8 @@ class Workspace(Importing):
 
 #: Columns added to the stored results after workspaces were first written, with the value an
 #: older stored file gets for them when read (they are derived from stored columns, never hashed).
-_ADDED_COLUMNS = {"qualifier_meaning": "", "ph": float("nan"), "doc_mg_L": float("nan"), "temperature_C": float("nan")}
+_ADDED_COLUMNS = {"qualifier_meaning": "", "ph": float("nan"), "doc_mg_L": float("nan"), "temperature_C": float("nan"),
+                  "quantitation_limit_ug_L": float("nan")}
 
 
 def _decode_stored(blob: bytes, columns: list[str]) -> pa.Table:
