@@ -63,9 +63,8 @@ def _limits() -> list[str]:
 
 def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     """Build the app in this process and time the two callbacks called directly."""
-    from tracescreen.io.loading import LoadOptions
-
     from dashboard.app import create_app
+    from tracescreen.io.loading import LoadOptions
 
     t0 = time.perf_counter()
     app = create_app([path], _limits(), options=LoadOptions(default_fraction="total"))
@@ -75,8 +74,8 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     overview = sys.modules["pages.overview"].update_overview  # dash.callback returns the function itself
     chart = sys.modules["pages.site"].update_site_chart
     trend = sys.modules["pages.site"].update_site_trend
-    from dashboard.data import current_session
-    from dashboard.series import _pairs
+    from dashboard.state.store import current_session
+    from dashboard.views.series import _pairs
 
     with app.server.test_request_context():
         session = current_session(None)

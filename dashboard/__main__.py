@@ -34,7 +34,7 @@ def main(argv: list[str] | None = None) -> int:
     print("Loading and screening ...", file=sys.stderr)
     try:
         app = create_app(results or None, args.limits, args.sites, options=load_options(args),
-                         workspace=args.workspace,
+                         workspace=args.workspace, cross_fraction=args.cross_fraction,
                          max_upload_bytes=int(args.max_upload_mb * 1e6))
     except (ValueError, OSError, KeyError) as exc:
         lines = str(exc).strip().splitlines()

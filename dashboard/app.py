@@ -2,21 +2,22 @@
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 
 import dash
 from dash import Dash, Input, Output, dcc, html
 
-from dashboard.components import caution_banner
-from dashboard.trend import trends_available
-from dashboard.data import BASE_KEY, STORE_EXTENSION, DataStore, Inputs, load_inputs
+from dashboard.render.components import caution_banner
+from dashboard.state.session import BASE_KEY, Inputs
+from dashboard.state.store import STORE_EXTENSION, DataStore, load_inputs
 
 #: default cap on one uploaded file [bytes]
 DEFAULT_MAX_UPLOAD_BYTES = 20 * 1000 * 1000
 
 
 def create_app(results=None, limits=None, sites=None, columns=None, *, options=None, workspace=None,
-               inputs: Inputs | None = None,
+               cross_fraction: bool = True, inputs: Inputs | None = None,
                max_upload_bytes: int = DEFAULT_MAX_UPLOAD_BYTES, upload_dir=None,
                preload: bool = True) -> Dash:
     """Build the dashboard on lab result files and limit tables.
@@ -35,6 +36,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         How to read the files (date order, decimal comma, ...); overrides ``columns``.
     workspace : path, optional
         A workspace folder (``tracescreen import``): its current results instead of ``results``.
+    cross_fraction : bool
+        Decide across fractions where certain (``--same-fraction-only`` turns it off), as ``screen`` does.
     inputs : Inputs, optional
         Already loaded inputs (instead of the paths above), e.g. from a workspace.
     max_upload_bytes : int
@@ -47,7 +50,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
     if inputs is None:
         if (results is None and workspace is None) or limits is None:
             raise ValueError("create_app needs result files (or a workspace) and limit tables (or inputs=...)")
-        base = lambda: load_inputs(results, limits, sites, columns, options, workspace)  # noqa: E731
+        def base():
+            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction)
     else:
         base = inputs
     store = DataStore(base, upload_dir=upload_dir, max_upload_bytes=max_upload_bytes)
@@ -69,14 +73,12 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
     def dataset_info(dataset_key):
         return describe_dataset(store.get(dataset_key))
 
+    # each page's callbacks on this app (the pages record them; dashboard/pages/_shared.py)
+    for page in dash.page_registry.values():
+        sys.modules[page["module"]].callbacks.register(app)
     if preload:
         store.base_session()
-        if trends_available():  # import the statistics now, not in the first chart's callback
-            import tracescreen.statistics.trends  # noqa: F401
-    # Claim the page callbacks (registered with dash.callback when the pages were imported) for
-    # this app now rather than on its first request, so several apps can live in one process.
-    with app.server.test_request_context():
-        app._setup_server()
+        import tracescreen.statistics.trends  # noqa: F401  (the statistics now, not in the first chart's callback)
     return app
 
 

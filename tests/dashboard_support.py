@@ -27,10 +27,10 @@ def scenario_paths() -> dict:
 def engine_view():
     """The scenario loaded and screened by the engine alone (no dashboard code)."""
     from tracescreen.io.columns import load_column_map
-    from tracescreen.limits.load import load_limits
     from tracescreen.io.loading import LoadOptions, load_results
-    from tracescreen.screening.screen import screen
     from tracescreen.io.sites import load_sites
+    from tracescreen.limits.load import load_limits
+    from tracescreen.screening.screen import screen
 
     p = scenario_paths()
     sites = load_sites(p["sites"])
@@ -49,7 +49,7 @@ def engine_attention_rows() -> pd.DataFrame:
 
 def scenario_inputs():
     """Dashboard inputs for the scenario, loaded the way ``create_app`` loads them."""
-    from dashboard.data import load_inputs
+    from dashboard.state.store import load_inputs
 
     p = scenario_paths()
     return load_inputs(p["results"], p["limits"], p["sites"], p["columns"])

@@ -11,15 +11,39 @@ import pandas as pd
 import pytest
 from dashboard_support import engine_attention_rows, engine_view, scenario_inputs
 
-from dashboard.data import DataStore, build_session, plain_frame
-from dashboard.figures import WEBGL_THRESHOLD, map_figure, result_points, site_metal_figure
-from dashboard.limit_tables import formula_text, sites_for_use
-from dashboard.matrix import Filters, matrix_frame, site_worst, status_counts
-from dashboard.palette import STATUS_COLOUR, STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER, STATUS_SYMBOL
-from dashboard.quality import reason_counts, rejected_frame, set_aside_counts, set_aside_frame
-from dashboard.series import series_view, trend_view
-from dashboard.tables import FilterError, exceedance_rows, filter_mask, query_table, table_page, to_csv_bytes
-from dashboard.uploads import UploadError, add_token, decode_upload, preview_upload
+from dashboard.render.figures import (
+    WEBGL_THRESHOLD,
+    map_figure,
+    result_points,
+    site_metal_figure,
+)
+from dashboard.render.series import series_view, trend_view
+from dashboard.state.frames import plain_frame
+from dashboard.state.session import build_session
+from dashboard.state.store import DataStore
+from dashboard.views.limits import formula_text, sites_for_use
+from dashboard.views.matrix import Filters, matrix_frame, site_worst, status_counts
+from dashboard.views.quality import (
+    reason_counts,
+    rejected_frame,
+    set_aside_counts,
+    set_aside_frame,
+)
+from dashboard.views.tables import (
+    FilterError,
+    exceedance_rows,
+    filter_mask,
+    query_table,
+    table_page,
+    to_csv_bytes,
+)
+from dashboard.views.uploads import (
+    UploadError,
+    add_token,
+    decode_upload,
+    preview_upload,
+)
+from tracescreen import vocabulary
 from tracescreen.screening.status import worst_status
 
 
@@ -46,7 +70,7 @@ def _engine_cell_counts(screened: pd.DataFrame) -> pd.DataFrame:
 
 def _dashboard_cell_counts(session, counts) -> pd.DataFrame:
     frame = matrix_frame(session, counts)
-    long = frame.melt(id_vars=["site_id", "analyte"], value_vars=list(STATUS_ORDER),
+    long = frame.melt(id_vars=["site_id", "analyte"], value_vars=list(vocabulary.RANKED),
                       var_name="worst_status", value_name="n")
     return long[long["n"] > 0]
 
@@ -180,14 +204,14 @@ def test_map_marks_every_located_site_by_worst_status(session):
     sites = engine_view()[2]
     assert set(placed) == set(table["site_id"]) == set(sites["site_id"])
     for t in fig["data"]:
-        assert t["marker"]["symbol"] == STATUS_SYMBOL[t["meta"]["status"]]
+        assert t["marker"]["symbol"] == vocabulary.SYMBOL[t["meta"]["status"]]
     assert fig["layout"]["xaxis"]["scaleratio"] == pytest.approx(math.cos(math.radians(sites["latitude"].mean())))
 
 
 def test_status_vocabulary_never_relies_on_colour_alone():
     """Each status has its own words, glyph and marker shape as well as a colour."""
-    statuses = list(STATUS_ORDER) + ["qc_sample"]
-    for table in (STATUS_LABEL, STATUS_GLYPH, STATUS_SYMBOL, STATUS_COLOUR):
+    statuses = list(vocabulary.RANKED) + ["qc_sample"]
+    for table in (vocabulary.LABEL, vocabulary.GLYPH, vocabulary.SYMBOL, vocabulary.COLOUR):
         assert all(s in table for s in statuses)
         assert len({table[s] for s in statuses}) == len(statuses)
 

@@ -19,16 +19,52 @@ def test_options_forwarded_to_the_dashboard_process():
     """Every reading option given to `tracescreen dashboard` reaches `python -m dashboard` unchanged."""
     args = build_parser().parse_args(
         ["dashboard", "a.csv", "--results", "b.xlsx", "--limits", "L1", "--limits", "L2", "--sites", "s.csv",
-         "--columns", "c.yaml", "--date-order", "dmy", "--decimal-comma", "--port", "9000"])
+         "--columns", "c.yaml", "--date-order", "dmy", "--decimal-comma", "--same-fraction-only", "--port", "9000"])
     assert result_files(args) == ["a.csv", "b.xlsx"]
     argv = to_argv(args)
     from dashboard.__main__ import build_parser as dash_parser
 
     again = dash_parser().parse_args(argv)
-    for name in ("limits", "sites", "columns", "date_order", "decimal_comma", "port", "host", "debug"):
+    for name in ("limits", "sites", "columns", "date_order", "decimal_comma", "cross_fraction", "port", "host",
+                 "debug"):
         assert getattr(again, name) == getattr(args, name), name
     assert result_files(again) == ["a.csv", "b.xlsx"]
     assert args.host == "127.0.0.1" and not args.debug  # local only and no debug unless asked
+    assert args.cross_fraction is False and dash_parser().parse_args(to_argv(build_parser().parse_args(
+        ["dashboard", "a.csv", "--limits", "L"]))).cross_fraction is True
+
+
+def test_same_fraction_only_reaches_the_dashboards_screening(monkeypatch):
+    """`python -m dashboard --same-fraction-only` screens as `tracescreen screen --same-fraction-only` does:
+    the option reaches create_app and the session's screening (reference: the engine's own screen with
+    cross_fraction=False on the same results)."""
+    import dashboard.__main__ as entry
+    from dashboard_support import scenario_inputs
+
+    from dashboard.state.session import build_session
+    from tracescreen.screening.screen import screen
+
+    seen = {}
+
+    def create_app(*args, **kwargs):  # records what the entry point passes, then stops it (exit code 2)
+        seen.update(kwargs)
+        raise OSError("stopped by the test")
+
+    monkeypatch.setattr("dashboard.app.create_app", create_app)
+    p = scenario_paths()
+    assert entry.main(["--results", str(p["results"][0]), "--limits", str(p["limits"][0]), "--same-fraction-only"]) == 2
+    assert seen["cross_fraction"] is False
+    def crossed(frame):  # rows decided against a limit of the other fraction
+        lf, fr = frame["limit_fraction"].astype(object), frame["fraction"].astype(object)
+        return int((lf.notna() & (lf != "") & (lf != fr)).sum())
+
+    for cross in (True, False):
+        inputs = scenario_inputs()
+        inputs.cross_fraction = cross
+        engine = screen(inputs.accepted, inputs.limits, inputs.sites, cross_fraction=cross)
+        session = build_session(inputs)
+        assert len(session.screened) == len(engine) and crossed(session.screened) == crossed(engine)
+        assert (crossed(engine) > 0) == cross
 
 
 def test_missing_file_is_a_one_line_error(tmp_path):

@@ -5,8 +5,9 @@ import pandas as pd
 import pytest
 from dashboard_support import scenario_inputs
 
-from dashboard.data import NO_DAY, build_session, plain_frame
-from dashboard.matrix import Filters, row_mask
+from dashboard.state.frames import plain_frame
+from dashboard.state.session import NO_DAY, build_session
+from dashboard.views.matrix import Filters, row_mask
 
 
 @pytest.fixture(scope="module")
@@ -61,19 +62,6 @@ def test_undated_result_has_no_day_and_only_date_filters_drop_it():
     assert not row_mask(s, Filters(start="1900-01-01"))[undated].any()
 
 
-def test_site_parts_cover_all_rows_and_never_split_a_site():
-    """Part ranges are contiguous, cover every row, and each site's rows fall in one part (arithmetic)."""
-    from dashboard.screen_parts import site_parts
-
-    codes = np.repeat(np.arange(9), [5, 1, 30, 2, 2, 2, 11, 1, 6])
-    for part_rows in (1, 3, 7, 20, 100):
-        ranges = site_parts(codes, part_rows)
-        assert ranges[0][0] == 0 and ranges[-1][1] == len(codes)
-        assert all(a[1] == b[0] for a, b in zip(ranges, ranges[1:]))
-        part_of = np.concatenate([np.full(hi - lo, i) for i, (lo, hi) in enumerate(ranges)])
-        assert all(len(set(part_of[codes == c])) == 1 for c in range(9))
-
-
 def test_screening_in_parts_equals_screening_at_once():
     """Screening the scenario in parts of whole sites gives the same rows as one engine call; period ids
     group the same rows (the engine's own screen is the reference)."""
@@ -87,18 +75,3 @@ def test_screening_in_parts_equals_screening_at_once():
     assert (a.isna() == b.isna()).all() and a.notna().any()
     pairs = pd.DataFrame({"a": a, "b": b}).dropna().drop_duplicates()
     assert pairs["a"].is_unique and pairs["b"].is_unique  # one-to-one
-
-
-def test_join_frames_equals_concat_and_keeps_text_categorical():
-    """Joining frames with differently categorised text gives pandas.concat's values, text as one categorical."""
-    from dashboard.screen_parts import join_frames
-
-    a = pd.DataFrame({"site_id": pd.Categorical(["S2", "S1"]), "v": [1.0, 2.0], "lab": ["x", None]})
-    b = pd.DataFrame({"site_id": pd.Categorical(["S3", "S2", None]), "v": [3.0, np.nan, 5.0]})
-    out = join_frames([a.copy(), b.copy()])
-    ref = pd.concat([a.astype({"site_id": object}), b.astype({"site_id": object})], ignore_index=True)
-    assert isinstance(out["site_id"].dtype, pd.CategoricalDtype) and isinstance(out["lab"].dtype, pd.CategoricalDtype)
-    assert out["site_id"].astype(object).where(out["site_id"].notna(), None).tolist() == \
-        ref["site_id"].where(ref["site_id"].notna(), None).tolist()
-    np.testing.assert_array_equal(out["v"].to_numpy(), ref["v"].to_numpy())
-    assert out["lab"].iloc[0] == "x" and out["lab"].iloc[1:].isna().all()

@@ -3,8 +3,8 @@
 import numpy as np
 import pandas as pd
 
-from dashboard.data import engine_frame, plain_frame
-from dashboard.memo import Memo, approx_nbytes
+from dashboard.state.frames import engine_frame, plain_frame
+from dashboard.state.memo import Memo, approx_nbytes
 
 
 def test_memo_keeps_at_most_entries_per_name_least_recent_out():
@@ -69,7 +69,7 @@ def test_store_keeps_upload_sessions_within_bytes_but_always_the_latest(tmp_path
     """With a 1-byte budget only the most recently used upload session stays screened; with room, up to cache_size stay (LRU)."""
     from dashboard_support import scenario_inputs
 
-    from dashboard.data import DataStore
+    from dashboard.state.store import DataStore
 
     header = "site_id,sample_id,sampled_at,analyte,fraction,result,unit\n"
     tight = DataStore(scenario_inputs(), upload_dir=tmp_path, cache_bytes=1)

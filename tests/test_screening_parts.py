@@ -7,9 +7,10 @@ that partitioning changes nothing but the memory needed; common practice for chu
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 
 from tracescreen.report.writers import write_csv
-from tracescreen.screening.parts import screen_in_parts, site_parts
+from tracescreen.screening.parts import join_frames, screen_in_parts, site_parts
 
 PERIOD_KEY = ["limit_table", "site_id", "analyte", "fraction", "basis", "period"]
 
@@ -41,11 +42,25 @@ def test_parts_give_the_same_rows_in_input_order(demo_loaded, tmp_path):
     assert write_csv(w, tmp_path / "w.csv").read_bytes() == write_csv(p, tmp_path / "p.csv").read_bytes()
 
 
-def test_site_parts_never_split_a_site():
-    codes = np.repeat(np.arange(6), [5, 1, 30, 2, 2, 9])
-    for part_rows in (1, 3, 7, 100):
+def test_site_parts_cover_all_rows_and_never_split_a_site():
+    """Part ranges are contiguous, cover every row, and each site's rows fall in one part (arithmetic)."""
+    codes = np.repeat(np.arange(9), [5, 1, 30, 2, 2, 2, 11, 1, 6])
+    for part_rows in (1, 3, 7, 20, 100):
         ranges = site_parts(codes, part_rows)
         assert ranges[0][0] == 0 and ranges[-1][1] == len(codes)
         assert all(a[1] == b[0] for a, b in zip(ranges, ranges[1:]))
-        for lo, hi in ranges:
-            assert hi == len(codes) or codes[hi] != codes[hi - 1]
+        part_of = np.concatenate([np.full(hi - lo, i) for i, (lo, hi) in enumerate(ranges)])
+        assert all(len(set(part_of[codes == c])) == 1 for c in range(9))
+
+
+def test_join_frames_equals_concat_and_keeps_text_categorical():
+    """Joining frames with differently categorised text gives pandas.concat's values, text as one categorical."""
+    a = pd.DataFrame({"site_id": pd.Categorical(["S2", "S1"]), "v": [1.0, 2.0], "lab": ["x", None]})
+    b = pd.DataFrame({"site_id": pd.Categorical(["S3", "S2", None]), "v": [3.0, np.nan, 5.0]})
+    out = join_frames([a.copy(), b.copy()])
+    ref = pd.concat([a.astype({"site_id": object}), b.astype({"site_id": object})], ignore_index=True)
+    assert isinstance(out["site_id"].dtype, pd.CategoricalDtype) and isinstance(out["lab"].dtype, pd.CategoricalDtype)
+    assert out["site_id"].astype(object).where(out["site_id"].notna(), None).tolist() == \
+        ref["site_id"].where(ref["site_id"].notna(), None).tolist()
+    np.testing.assert_array_equal(out["v"].to_numpy(), ref["v"].to_numpy())
+    assert out["lab"].iloc[0] == "x" and out["lab"].iloc[1:].isna().all()

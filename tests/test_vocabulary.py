@@ -22,19 +22,24 @@ def test_every_status_has_a_label_colour_shape_and_tint():
 
 
 def test_engine_and_dashboard_share_one_order():
-    from dashboard import palette
-
     # the status rules give categoricals in the vocabulary's order (codes = positions in STATUSES)
     single = status.status_codes([True, True, False, False], [2.0, 0.5, np.nan, np.nan], [0.1, 0.1, 2.0, 0.1],
                                  [1.0, 1.0, 1.0, np.nan])
     assert [vocabulary.STATUSES[c] for c in single] == ["exceeds", "meets", "nondetect_inconclusive", "no_limit"]
     period, _ = status.statistic_status([2.0], [2.0], [2.0], [False], [1.0])
     assert tuple(period.categories) == vocabulary.RANKED and list(period) == ["exceeds"]
-    assert palette.STATUS_ORDER == vocabulary.RANKED
-    # the dashboard ranks worst highest, the engine codes worst lowest: the same order either way
-    by_rank = sorted(palette.STATUS_RANK, key=palette.STATUS_RANK.get, reverse=True)
-    assert tuple(by_rank) == vocabulary.RANKED
-    assert [vocabulary.STATUS_CODE[s] for s in vocabulary.RANKED] == sorted(vocabulary.STATUS_CODE[s] for s in vocabulary.RANKED)
+    # severity (higher worse, for maximum-reductions) is the same order counted from the other end
+    assert tuple(sorted(vocabulary.SEVERITY, key=vocabulary.SEVERITY.get, reverse=True)) == vocabulary.RANKED
+    assert "qc_sample" not in vocabulary.SEVERITY
+
+
+def test_no_status_words_outside_the_vocabulary():
+    """Statuses get their words, colours and shapes from tracescreen.vocabulary only: no other module of the
+    engine or the dashboard keys a table by status names (a dict literal such as {"exceeds": ...})."""
+    keyed = re.compile(r'["\'](exceeds|nondetect_inconclusive|nondetect_meets)["\']\s*:')
+    found = [str(p.relative_to(ROOT)) for folder in ("src", "dashboard") for p in (ROOT / folder).rglob("*.py")
+             if p.name != "vocabulary.py" and keyed.search(p.read_text(encoding="utf-8"))]
+    assert found == []
 
 
 def test_dashboard_css_uses_the_vocabulary_colours():

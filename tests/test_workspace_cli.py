@@ -101,7 +101,7 @@ def test_dashboard_reads_the_workspace(tmp_path, scenario_args):
     """The dashboard built on a workspace holds its current results and rejected rows; the
     `tracescreen dashboard --workspace` options reach `python -m dashboard`."""
     from dashboard.app import create_app, describe_dataset
-    from dashboard.data import STORE_EXTENSION
+    from dashboard.state.store import STORE_EXTENSION
     from tracescreen.cli import build_parser
     from tracescreen.cli.dashboard import to_argv
 

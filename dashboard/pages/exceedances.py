@@ -1,12 +1,12 @@
 """Exceedances: every row above a limit or undecided (DL above the limit); CSV and XLSX download."""
 
 import dash
-from dash import Input, Output, State, callback, dcc, html
+from dash import Input, Output, State, dcc, html
 
-from dashboard.components import data_table, register_server_table, page_header, status_legend
-from dashboard.data import current_session
-from dashboard.palette import STATUS_COLOUR
-from dashboard.tables import (
+from dashboard.pages._shared import PageCallbacks, register_server_table
+from dashboard.render.components import data_table, page_header, status_legend
+from dashboard.state.store import current_session
+from dashboard.views.tables import (
     ATTENTION_STATUSES,
     FilterError,
     exceedance_rows,
@@ -14,9 +14,11 @@ from dashboard.tables import (
     to_csv_bytes,
     to_xlsx_bytes,
 )
+from tracescreen import vocabulary
 
 dash.register_page(__name__, path="/exceedances", name="Exceedances", order=3,
                    title="tracescreen · exceedances")
+callbacks = PageCallbacks()
 
 PAGE_SIZE = 25
 #: on screen the deciding columns come first; downloads keep the engine's column order
@@ -28,7 +30,7 @@ SHOWN = [("site_id", "Site"), ("sampled_at", "Sampled"), ("analyte", "Metal"), (
          ("source", "Source"), ("note", "Note")]
 _STATUS_STYLE = [
     {"if": {"filter_query": f'{{status}} = "{s}"', "column_id": "status"},
-     "color": STATUS_COLOUR[s], "fontWeight": "600"}
+     "color": vocabulary.COLOUR[s], "fontWeight": "600"}
     for s in ATTENTION_STATUSES
 ]
 
@@ -53,7 +55,7 @@ def layout(**_query):
     ])
 
 
-register_server_table("exc", exceedance_rows, PAGE_SIZE)
+register_server_table(callbacks, "exc", exceedance_rows, PAGE_SIZE)
 
 
 def download(session, kind, sort_by, filter_query):
@@ -67,7 +69,7 @@ def download(session, kind, sort_by, filter_query):
     return dcc.send_bytes(to_csv_bytes(rows), "exceedances.csv")
 
 
-@callback(
+@callbacks.callback(
     Output("exc-download", "data"),
     Input("exc-csv-btn", "n_clicks"), Input("exc-xlsx-btn", "n_clicks"),
     State("dataset-key", "data"), State("exc-table", "sort_by"), State("exc-table", "filter_query"),

@@ -1,14 +1,16 @@
 """Limit tables: every loaded table with its citation, use, unit, entries and sites."""
 
 import dash
-from dash import Input, Output, callback, html
+from dash import Input, Output, html
 
-from dashboard.components import page_header
-from dashboard.data import current_session
-from dashboard.limit_tables import table_sections
+from dashboard.pages._shared import PageCallbacks
+from dashboard.render.components import page_header
+from dashboard.render.limit_tables import table_sections
+from dashboard.state.store import current_session
 
 dash.register_page(__name__, path="/limits", name="Limit tables", order=6,
                    title="tracescreen · limit tables")
+callbacks = PageCallbacks()
 
 
 def layout(**_query):
@@ -21,6 +23,6 @@ def layout(**_query):
     ])
 
 
-@callback(Output("limits-list", "children"), Input("dataset-key", "data"))
+@callbacks.callback(Output("limits-list", "children"), Input("dataset-key", "data"))
 def update_limits(dataset_key):
     return table_sections(current_session(dataset_key))

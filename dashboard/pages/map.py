@@ -1,14 +1,16 @@
 """Map: sites by latitude and longitude, shaped and coloured by worst status (no tile server)."""
 
 import dash
-from dash import Input, Output, callback, dcc, html
+from dash import Input, Output, dcc, html
 
-from dashboard.components import filter_controls, page_header, register_filter_options, status_legend
-from dashboard.data import current_session
-from dashboard.figures import map_figure
-from dashboard.matrix import Filters, cached_status_counts, site_worst
+from dashboard.pages._shared import PageCallbacks, register_filter_options
+from dashboard.render.components import filter_controls, page_header, status_legend
+from dashboard.render.figures import map_figure
+from dashboard.state.store import current_session
+from dashboard.views.matrix import Filters, cached_status_counts, site_worst
 
 dash.register_page(__name__, path="/map", name="Map", order=1, title="tracescreen · map")
+callbacks = PageCallbacks()
 
 
 def layout(**_query):
@@ -21,10 +23,10 @@ def layout(**_query):
     ])
 
 
-register_filter_options("mp")
+register_filter_options(callbacks, "mp")
 
 
-@callback(
+@callbacks.callback(
     Output("map-graph", "figure"),
     Input("dataset-key", "data"), Input("mp-uses", "value"), Input("mp-tables", "value"),
     Input("mp-fraction", "value"), Input("mp-dates", "start_date"), Input("mp-dates", "end_date"),

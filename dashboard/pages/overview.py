@@ -1,13 +1,16 @@
 """Overview: sites x metals, worst status in the selected period, with counts and totals."""
 
 import dash
-from dash import ClientsideFunction, Input, Output, callback, clientside_callback, dcc, html
+from dash import ClientsideFunction, Input, Output, dcc, html
 
-from dashboard.components import filter_controls, page_header, register_filter_options, status_legend
-from dashboard.data import current_session
-from dashboard.matrix import Filters, cached_status_counts, matrix_table, status_badges
+from dashboard.pages._shared import PageCallbacks, register_filter_options
+from dashboard.render.components import filter_controls, page_header, status_legend
+from dashboard.render.matrix import matrix_table, status_badges
+from dashboard.state.store import current_session
+from dashboard.views.matrix import Filters, cached_status_counts
 
 dash.register_page(__name__, path="/", name="Overview", order=0, title="tracescreen · overview")
+callbacks = PageCallbacks()
 
 
 def layout(**_query):
@@ -24,7 +27,7 @@ def layout(**_query):
     ])
 
 
-register_filter_options("ov")
+register_filter_options(callbacks, "ov")
 
 
 def render_overview(session, uses, tables, fraction, start, end, campaigns):
@@ -38,7 +41,7 @@ def render_overview(session, uses, tables, fraction, start, end, campaigns):
     return session.cached("overview_view", (filters,), render)
 
 
-@callback(
+@callbacks.callback(
     Output("ov-totals", "children"), Output("ov-matrix-html", "data"),
     Input("dataset-key", "data"), Input("ov-uses", "value"), Input("ov-tables", "value"),
     Input("ov-fraction", "value"), Input("ov-dates", "start_date"), Input("ov-dates", "end_date"),
@@ -48,5 +51,5 @@ def update_overview(dataset_key, uses, tables, fraction, start, end, campaigns):
     return render_overview(current_session(dataset_key), uses, tables, fraction, start, end, campaigns)
 
 
-clientside_callback(ClientsideFunction("tracescreen", "showMatrix"), Output("ov-matrix", "className"),
+callbacks.clientside_callback(ClientsideFunction("tracescreen", "showMatrix"), Output("ov-matrix", "className"),
                     Input("ov-matrix-html", "data"))

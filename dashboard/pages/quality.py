@@ -2,14 +2,17 @@
 its reason."""
 
 import dash
-from dash import Input, Output, callback, html
+from dash import Input, Output, html
 
-from dashboard.components import data_table, register_server_table, page_header
-from dashboard.data import current_session
-from dashboard.quality import file_table, reason_table, rejected_frame, set_aside_frame, set_aside_table
+from dashboard.pages._shared import PageCallbacks, register_server_table
+from dashboard.render.components import data_table, page_header
+from dashboard.render.quality import file_table, reason_table, set_aside_table
+from dashboard.state.store import current_session
+from dashboard.views.quality import rejected_frame, set_aside_frame
 
 dash.register_page(__name__, path="/quality", name="Data quality", order=5,
                    title="tracescreen · data quality")
+callbacks = PageCallbacks()
 PAGE_SIZE = 20
 
 
@@ -36,7 +39,7 @@ def layout(**_query):
     ])
 
 
-@callback(
+@callbacks.callback(
     Output("dq-files", "children"), Output("dq-reasons", "children"), Output("dq-table", "columns"),
     Output("dq-aside-kinds", "children"), Output("dq-aside-table", "columns"),
     Input("dataset-key", "data"),
@@ -48,5 +51,5 @@ def update_quality_summary(dataset_key):
             set_aside_table(session), [{"name": c, "id": c} for c in aside.columns])
 
 
-register_server_table("dq", rejected_frame, PAGE_SIZE)
-register_server_table("dq-aside", set_aside_frame, PAGE_SIZE)
+register_server_table(callbacks, "dq", rejected_frame, PAGE_SIZE)
+register_server_table(callbacks, "dq-aside", set_aside_frame, PAGE_SIZE)

@@ -1,16 +1,18 @@
 """Retest list: results a reviewer should send back for confirmation, with reason and action."""
 
 import dash
-from dash import Input, Output, State, callback, dcc, html
+from dash import Input, Output, State, dcc, html
 
-from dashboard.components import data_table, register_server_table, page_header
-from dashboard.data import current_session
-from dashboard.retest import reason_totals, retest_available, retest_frame
-from dashboard.quality import html_table
-from dashboard.tables import to_csv_bytes
+from dashboard.pages._shared import PageCallbacks, register_server_table
+from dashboard.render.components import data_table, page_header
+from dashboard.render.quality import html_table
+from dashboard.state.store import current_session
+from dashboard.views.retest import reason_totals, retest_frame
+from dashboard.views.tables import to_csv_bytes
 
 dash.register_page(__name__, path="/retest", name="Retest list", order=4,
                    title="tracescreen · retest list")
+callbacks = PageCallbacks()
 PAGE_SIZE = 20
 #: what to act on first; the CSV download keeps the engine's column order
 COLUMNS = ["site_id", "sampled_at", "analyte", "fraction", "reason", "detail", "suggested_action",
@@ -18,12 +20,6 @@ COLUMNS = ["site_id", "sampled_at", "analyte", "fraction", "reason", "detail", "
 
 
 def layout(**_query):
-    if not retest_available():
-        return html.Div([
-            page_header("Retest list", "Results flagged for a confirmatory retest."),
-            html.P("This installation of the engine has no retest flags (tracescreen.retest.listing); the "
-                   "list appears here once it is installed.", className="notice"),
-        ])
     return html.Div([
         page_header("Retest list", "Results a reviewer should send back for confirmation: one row per "
                     "result and reason, with what a laboratory can act on and a suggested action."),
@@ -36,16 +32,16 @@ def layout(**_query):
     ])
 
 
-@callback(Output("rt-reasons", "children"), Input("dataset-key", "data"))
+@callbacks.callback(Output("rt-reasons", "children"), Input("dataset-key", "data"))
 def update_retest_reasons(dataset_key):
     frame = retest_frame(current_session(dataset_key))
     return html_table(reason_totals(frame), "rt-reasons-table") if frame is not None else ""
 
 
-register_server_table("rt", retest_frame, PAGE_SIZE)
+register_server_table(callbacks, "rt", retest_frame, PAGE_SIZE)
 
 
-@callback(Output("rt-download", "data"), Input("rt-csv-btn", "n_clicks"),
+@callbacks.callback(Output("rt-download", "data"), Input("rt-csv-btn", "n_clicks"),
           State("dataset-key", "data"), prevent_initial_call=True)
 def download_retest(_n, dataset_key):
     return dcc.send_bytes(to_csv_bytes(retest_frame(current_session(dataset_key))), "retest.csv")

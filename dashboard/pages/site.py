@@ -1,14 +1,17 @@
 """Site and metal: results over time with each applicable limit, exceedances and trend."""
 
 import dash
-from dash import Input, Output, Patch, callback, dcc, html, no_update
+from dash import Input, Output, Patch, dcc, html, no_update
 
-from dashboard.components import page_header
-from dashboard.data import current_session
-from dashboard.series import analyte_options, default_selection, series_view, site_options, trend_view
+from dashboard.pages._shared import PageCallbacks
+from dashboard.render.components import page_header
+from dashboard.render.series import series_view, trend_view
+from dashboard.state.store import current_session
+from dashboard.views.series import analyte_options, default_selection, site_options
 
 dash.register_page(__name__, path="/site", name="Site & metal", order=2,
                    title="tracescreen · site and metal")
+callbacks = PageCallbacks()
 
 
 def layout(site=None, analyte=None, fraction=None, **_query):
@@ -44,17 +47,17 @@ def layout(site=None, analyte=None, fraction=None, **_query):
     ])
 
 
-@callback(Output("site-select", "options"), Input("dataset-key", "data"))
+@callbacks.callback(Output("site-select", "options"), Input("dataset-key", "data"))
 def update_site_options(dataset_key):
     return site_options(current_session(dataset_key))
 
 
-@callback(Output("analyte-select", "options"), Input("dataset-key", "data"), Input("site-select", "value"))
+@callbacks.callback(Output("analyte-select", "options"), Input("dataset-key", "data"), Input("site-select", "value"))
 def update_analyte_options(dataset_key, site):
     return analyte_options(current_session(dataset_key), site)
 
 
-@callback(
+@callbacks.callback(
     Output("site-chart", "figure"), Output("site-summary", "children"), Output("site-shown", "data"),
     Input("dataset-key", "data"), Input("site-select", "value"), Input("analyte-select", "value"),
     Input("fraction-select", "value"), Input("scale-select", "value"),
@@ -64,7 +67,7 @@ def update_site_chart(dataset_key, site, analyte, fraction, scale):
     return fig, summary, {"key": dataset_key, "site": site, "analyte": analyte, "fraction": fraction}
 
 
-@callback(
+@callbacks.callback(
     Output("site-chart", "figure", allow_duplicate=True), Output("site-trend", "children"),
     Input("site-shown", "data"),
     prevent_initial_call=True,

@@ -1,13 +1,16 @@
 """Upload: drop a lab file (and optionally a column mapping), check it, then add it to the session."""
 
 import dash
-from dash import Input, Output, State, callback, clientside_callback, dcc, html
+from dash import Input, Output, State, dcc, html
 
-from dashboard.components import page_header
-from dashboard.data import current_session, current_store
-from dashboard.uploads import human_size, upload_preview_view, add_upload_view
+from dashboard.pages._shared import PageCallbacks
+from dashboard.render.components import page_header
+from dashboard.render.uploads import add_upload_view, upload_preview_view
+from dashboard.state.store import current_session, current_store
+from dashboard.views.uploads import human_size
 
 dash.register_page(__name__, path="/upload", name="Upload", order=7, title="tracescreen · upload")
+callbacks = PageCallbacks()
 
 
 def layout(**_query):
@@ -40,7 +43,7 @@ def layout(**_query):
 
 
 # the size cap is checked in the browser first, so an oversized file is never sent
-clientside_callback(
+callbacks.clientside_callback(
     """
     function(contents, filename, cap) {
         if (!contents) { return [window.dash_clientside.no_update, ""]; }
@@ -57,7 +60,7 @@ clientside_callback(
     Input("up-results", "contents"), State("up-results", "filename"), State("up-cap", "data"),
 )
 
-clientside_callback(
+callbacks.clientside_callback(
     """
     function(contents, filename, cap) {
         if (!contents) { return [window.dash_clientside.no_update, ""]; }
@@ -70,7 +73,7 @@ clientside_callback(
 )
 
 
-@callback(
+@callbacks.callback(
     Output("up-preview", "children"), Output("up-token", "data"), Output("up-add", "disabled"),
     Input("up-file", "data"), Input("up-mapping", "data"),
     prevent_initial_call=True,
@@ -79,7 +82,7 @@ def preview(file, mapping):
     return upload_preview_view(current_store(), file, mapping)
 
 
-@callback(
+@callbacks.callback(
     Output("dataset-key", "data"), Output("up-added", "children"),
     Input("up-add", "n_clicks"), State("up-token", "data"), State("dataset-key", "data"),
     prevent_initial_call=True,

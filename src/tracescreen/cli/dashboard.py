@@ -53,6 +53,8 @@ def to_argv(args: argparse.Namespace) -> list[str]:
         if getattr(args, opt, None):
             argv += [f"--{opt.replace('_', '-')}", str(getattr(args, opt))]
     argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
+    if not args.cross_fraction:
+        argv.append("--same-fraction-only")
     return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else [])
 
 

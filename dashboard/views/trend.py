@@ -1,20 +1,13 @@
-"""Trend of one series for the site-and-metal chart, from the engine's statistics (``tracescreen.trends``)."""
+"""Trend of one series for the site-and-metal chart, from the engine's trend table (:mod:`tracescreen.statistics.trends`)."""
 
 from __future__ import annotations
 
-import importlib.util
-
 import pandas as pd
 
-from dashboard.data import engine_frame
+from dashboard.state.frames import engine_frame
 
 DIRECTION_WORDS = {"increasing": "increasing", "decreasing": "decreasing", "no_trend": "no significant trend",
                    "too_few": "too few values for a direction"}
-
-
-def trends_available() -> bool:
-    """Whether the installed engine has the trend statistics."""
-    return importlib.util.find_spec("tracescreen.statistics.trends") is not None
 
 
 def _g(v, fmt: str = ".3g") -> str:
@@ -38,15 +31,16 @@ def series_trend(rows: pd.DataFrame, points: pd.DataFrame, alpha: float = 0.05) 
         (``x``, ``y`` [µg/L] from the first to the last sampling date, ``label``), ``line`` is
         ``None`` when no slope could be computed.
     """
-    if not trends_available() or points.empty:
+    if points.empty:
         return None
+    from tracescreen import pipeline
+    from tracescreen.statistics.options import StatisticsOptions
     from tracescreen.statistics.series import decimal_years
-    from tracescreen.statistics.trends import lowest_limits, trend_table
 
     keys = ["site_id", "analyte", "fraction", "sampled_at", "sample_type"]
     pts = engine_frame(points[keys + ["detected", "value_ug_L", "detection_limit_ug_L"]])
     lim = engine_frame(rows[keys + ["limit_ug_L", "limit_table", "basis"]])
-    table = trend_table(pts, alpha=alpha, limits=lowest_limits(lim))
+    table = pipeline.trends(pts, lim, StatisticsOptions(alpha=alpha))
     if table.empty:
         return None
     r = table.iloc[0]

@@ -4,9 +4,8 @@ functions)."""
 from __future__ import annotations
 
 import pandas as pd
-from dash import html
 
-from dashboard.data import SessionData
+from dashboard.state.session import SessionData
 from tracescreen.io.loading import SET_ASIDE_PREFIX
 
 _FIRST = ["file", "sheet", "row", "reason"]
@@ -57,37 +56,6 @@ def reason_counts(session: SessionData) -> pd.DataFrame:
     return _counts(rej["reason"])
 
 
-def html_table(frame: pd.DataFrame, table_id: str) -> html.Table:
-    head = html.Thead(html.Tr([html.Th(c) for c in frame.columns]))
-    body = html.Tbody([html.Tr([html.Td(f"{v:,}" if isinstance(v, int) else str(v)) for v in row])
-                       for row in frame.itertuples(index=False)])
-    return html.Table([head, body], id=table_id, className="plain")
-
-
 FILE_COLUMNS = ["file", "sheet", "rows_read", "accepted", "set_aside", "rejected", "blank_rows", "sha256"]
 
 
-def file_table(session: SessionData) -> html.Table:
-    files = session.files[[c for c in FILE_COLUMNS if c in session.files.columns]].copy()
-    if "sha256" in files:
-        files["sha256"] = files["sha256"].astype(str).str[:12] + "…"
-    for c in files.columns:
-        if pd.api.types.is_integer_dtype(files[c].dtype):
-            files[c] = files[c].astype(object).map(int)
-    return html_table(files, "dq-files-table")
-
-
-def reason_table(session: SessionData):
-    counts = reason_counts(session)
-    if counts.empty:
-        return html.P("No rejected rows.")
-    counts["rows"] = counts["rows"].astype(object).map(int)
-    return html_table(counts, "dq-reasons-table")
-
-
-def set_aside_table(session: SessionData):
-    counts = set_aside_counts(session)
-    if counts.empty:
-        return html.P("No rows set aside.")
-    counts["rows"] = counts["rows"].astype(object).map(int)
-    return html_table(counts, "dq-aside-kinds-table")

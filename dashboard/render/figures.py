@@ -8,18 +8,9 @@ import textwrap
 import numpy as np
 import pandas as pd
 
-from dashboard.data import text_values
-
-from dashboard.palette import (
-    LIMIT_COLOUR,
-    LIMIT_DASHES,
-    STATUS_COLOUR,
-    STATUS_LABEL,
-    STATUS_ORDER,
-    STATUS_RANK,
-    STATUS_SYMBOL,
-    TREND_COLOUR,
-)
+from dashboard.render.palette import LIMIT_COLOUR, LIMIT_DASHES, TREND_COLOUR
+from dashboard.state.frames import text_values
+from tracescreen import vocabulary
 
 #: above this many points a series is drawn with WebGL (``Scattergl``)
 WEBGL_THRESHOLD = 2000
@@ -45,7 +36,7 @@ def result_points(rows: pd.DataFrame) -> pd.DataFrame:
     worst status among the result's limits, and the limit columns come from that row.
     """
     status = text_values(rows["status"])
-    rank = np.array([STATUS_RANK.get(x, -1) for x in status], dtype=np.int8) if len(rows) else np.zeros(0, np.int8)
+    rank = np.array([vocabulary.SEVERITY.get(x, -1) for x in status], dtype=np.int8) if len(rows) else np.zeros(0, np.int8)
     keep = np.flatnonzero(is_site_sample(rows))
     if not len(keep):
         return rows.iloc[0:0].assign(y=pd.Series(dtype=float))
@@ -153,7 +144,7 @@ def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
     custom_all = np.column_stack([*texts, limit_txt, [wrapped[u] for u in sources]]) if len(pts) else None
     x_all = _dates(pts["sampled_at"]) if len(pts) else None
     y_all = pts["y"].to_numpy(float) if len(pts) else None
-    for status in (*STATUS_ORDER, "qc_sample"):
+    for status in (*vocabulary.RANKED, "qc_sample"):
         m = status_of == status
         n = int(m.sum())
         if not n:
@@ -161,16 +152,16 @@ def site_metal_figure(rows: pd.DataFrame, title: str, trend: dict | None = None,
         data.append({
             "type": "scattergl" if webgl else "scatter", "mode": "markers",
             "x": x_all[m], "y": y_all[m],
-            "name": f"{STATUS_LABEL[status]} ({n})",
-            "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 9,
-                       "line": {"width": 1.5, "color": STATUS_COLOUR[status]}},
+            "name": f"{vocabulary.LABEL[status]} ({n})",
+            "marker": {"symbol": vocabulary.SYMBOL[status], "color": vocabulary.COLOUR[status], "size": 9,
+                       "line": {"width": 1.5, "color": vocabulary.COLOUR[status]}},
             "customdata": custom_all[m].tolist(),
             "hovertemplate": (
                 "%{x|%Y-%m-%d}<br>Result as reported: <b>%{customdata[0]} %{customdata[1]}</b>"
                 " (plotted %{y:.4g} µg/L)<br>Sample %{customdata[2]} · lab %{customdata[3]}"
                 " · batch %{customdata[4]} · qualifier %{customdata[5]}"
                 "<br>Limit: %{customdata[6]} %{customdata[7]} µg/L<br>Source: %{customdata[8]}"
-                f"<extra>{STATUS_LABEL[status]}</extra>"
+                f"<extra>{vocabulary.LABEL[status]}</extra>"
             ),
             "meta": {"role": "result", "status": status},
         })
@@ -211,7 +202,7 @@ def map_figure(site_table: pd.DataFrame) -> dict:
             "text": "No site coordinates (give a sites file with latitude and longitude)",
             "showarrow": False, "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5}])}
     data = []
-    for status in STATUS_ORDER:
+    for status in vocabulary.RANKED:
         sub = located[located["worst"] == status]
         if sub.empty:
             continue
@@ -219,13 +210,13 @@ def map_figure(site_table: pd.DataFrame) -> dict:
         data.append({
             "type": "scatter", "mode": "markers+text", "x": sub["longitude"].to_numpy(float),
             "y": sub["latitude"].to_numpy(float), "text": sub["site_id"].astype(str).tolist(),
-            "textposition": "top center", "name": f"{STATUS_LABEL[status]} ({len(sub)})",
-            "marker": {"symbol": STATUS_SYMBOL[status], "color": STATUS_COLOUR[status], "size": 16,
-                       "line": {"width": 2, "color": STATUS_COLOUR[status]}},
+            "textposition": "top center", "name": f"{vocabulary.LABEL[status]} ({len(sub)})",
+            "marker": {"symbol": vocabulary.SYMBOL[status], "color": vocabulary.COLOUR[status], "size": 16,
+                       "line": {"width": 2, "color": vocabulary.COLOUR[status]}},
             "customdata": np.column_stack([sub["site_id"].astype(str), names, sub["n_results"],
                                            sub["n_exceeds"]]).tolist(),
             "hovertemplate": ("<b>%{customdata[1]}</b> (%{customdata[0]})<br>"
-                              f"Worst: {STATUS_LABEL[status]}<br>%{{customdata[2]}} results, "
+                              f"Worst: {vocabulary.LABEL[status]}<br>%{{customdata[2]}} results, "
                               "%{customdata[3]} above a limit<br>%{y:.4f}° N, %{x:.4f}° E<extra></extra>"),
             "meta": {"role": "sites", "status": status},
         })

@@ -7,7 +7,7 @@ import re
 import numpy as np
 import pandas as pd
 
-from dashboard.data import SessionData
+from dashboard.state.session import SessionData
 from tracescreen import vocabulary
 
 #: rows that need attention: above a limit, or undecided (detection limit too high, or above the
@@ -163,7 +163,7 @@ def _written(writer, df, suffix: str, *args) -> bytes:
     import tempfile
     from pathlib import Path
 
-    from dashboard.data import plain_frame
+    from dashboard.state.frames import plain_frame
 
     with tempfile.TemporaryDirectory(prefix="tracescreen-download-") as tmp:
         path = Path(tmp) / f"table{suffix}"

@@ -2,13 +2,11 @@
 
 from __future__ import annotations
 
-from dash import Input, Output, callback, dash_table, dcc, html
+from dash import dash_table, dcc, html
 
+from dashboard.views.tables import LONG_TEXT_COLUMNS
+from tracescreen import vocabulary
 from tracescreen.caution import CAUTION
-
-from dashboard.data import NO_DAY, SessionData, current_session
-from dashboard.tables import LONG_TEXT_COLUMNS, table_page
-from dashboard.palette import STATUS_COLOUR, STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER
 
 
 def caution_banner() -> html.Div:
@@ -24,8 +22,8 @@ def page_header(title: str, intro: str) -> html.Div:
 def status_legend() -> html.Div:
     """Glyph, colour and words of every status."""
     return html.Div(
-        [html.Span([html.Span(STATUS_GLYPH[s], className="glyph", style={"color": STATUS_COLOUR[s]}),
-                    f" {STATUS_LABEL[s]}"], className="legend-item") for s in STATUS_ORDER],
+        [html.Span([html.Span(vocabulary.GLYPH[s], className="glyph", style={"color": vocabulary.COLOUR[s]}),
+                    f" {vocabulary.LABEL[s]}"], className="legend-item") for s in vocabulary.RANKED],
         className="legend",
     )
 
@@ -54,24 +52,6 @@ def filter_controls(prefix: str) -> html.Div:
         ],
         className="filters",
     )
-
-
-def filter_options(session: SessionData) -> tuple:
-    """Options of the filter controls for a session: uses, tables, fractions, date bounds, campaigns."""
-    tables = []
-    tt = getattr(session.limits, "tables", None)
-    names = {}
-    if tt is not None and "table_id" in tt:
-        names = dict(zip(tt["table_id"].astype(str), tt.get("name", tt["table_id"]).astype(str)))
-    for t in session.tables:
-        tables.append({"label": f"{t} — {names.get(t, t)}", "value": t})
-    fractions = [{"label": "all fractions", "value": "all"}] + [
-        {"label": f, "value": f} for f in session.fractions]
-    days = session.day[session.day != NO_DAY]
-    lo = str(days.min().astype("datetime64[D]")) if len(days) else None
-    hi = str(days.max().astype("datetime64[D]")) if len(days) else None
-    return ([{"label": u, "value": u} for u in session.uses], tables, fractions, lo, hi,
-            [{"label": c, "value": c} for c in session.campaigns])
 
 
 def data_table(table_id: str, columns: list, page_size: int = 25, server_side: bool = True,
@@ -104,31 +84,3 @@ def data_table(table_id: str, columns: list, page_size: int = 25, server_side: b
     )
 
 
-def register_filter_options(prefix: str) -> None:
-    """Callback filling the filter controls made by :func:`filter_controls` from the session's data."""
-
-    @callback(
-        Output(f"{prefix}-uses", "options"), Output(f"{prefix}-tables", "options"),
-        Output(f"{prefix}-fraction", "options"), Output(f"{prefix}-dates", "min_date_allowed"),
-        Output(f"{prefix}-dates", "max_date_allowed"), Output(f"{prefix}-campaigns", "options"),
-        Input("dataset-key", "data"),
-    )
-    def fill_filter_options(dataset_key):
-        return filter_options(current_session(dataset_key))
-
-
-def register_server_table(prefix: str, frame_for, page_size: int) -> None:
-    """Callback serving the pages of table ``{prefix}-table`` from ``frame_for(session)``, with its
-    ``{prefix}-count`` text and ``{prefix}-error`` message (filter, sort and paging on the server)."""
-
-    @callback(
-        Output(f"{prefix}-table", "data"), Output(f"{prefix}-table", "page_count"),
-        Output(f"{prefix}-count", "children"), Output(f"{prefix}-error", "children"),
-        Output(f"{prefix}-table", "tooltip_data"),
-        Input("dataset-key", "data"), Input(f"{prefix}-table", "page_current"),
-        Input(f"{prefix}-table", "page_size"), Input(f"{prefix}-table", "sort_by"),
-        Input(f"{prefix}-table", "filter_query"),
-    )
-    def serve_table_page(dataset_key, page_current, size, sort_by, filter_query):
-        frame = frame_for(current_session(dataset_key))
-        return table_page(frame, page_current, size or page_size, sort_by, filter_query)

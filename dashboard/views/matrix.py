@@ -8,17 +8,14 @@ per cell and status are one ``bincount``.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from html import escape
-from urllib.parse import quote_plus
 
 import numpy as np
 import pandas as pd
-from dash import html
 
-from dashboard.data import SessionData
-from dashboard.palette import STATUS_GLYPH, STATUS_LABEL, STATUS_ORDER, STATUS_SHORT
+from dashboard.state.session import NO_DAY, SessionData
+from tracescreen import vocabulary
 
-N_STATUS = len(STATUS_ORDER)
+N_STATUS = len(vocabulary.RANKED)
 
 
 @dataclass(frozen=True)
@@ -89,7 +86,7 @@ def worst_per_result(session: SessionData, mask: np.ndarray) -> tuple[np.ndarray
 def status_counts(session: SessionData, f: Filters) -> np.ndarray:
     """Results per site, analyte and worst status: int array ``[site, analyte, status]``.
 
-    The status axis follows :data:`dashboard.palette.STATUS_ORDER` (worst first). A result counts
+    The status axis follows :data:`dashboard.palette.vocabulary.RANKED` (worst first). A result counts
     once, under the worst status among the screening rows that pass the filters.
     """
     rows, worst = worst_per_result(session, row_mask(session, f))
@@ -106,7 +103,7 @@ def cached_status_counts(session: SessionData, f: Filters) -> np.ndarray:
 
 
 def worst_status(counts: np.ndarray) -> np.ndarray:
-    """Index into STATUS_ORDER of the worst status with a count, ``-1`` where there is none."""
+    """Index into vocabulary.RANKED of the worst status with a count, ``-1`` where there is none."""
     has = counts > 0
     first = has.argmax(axis=-1)
     return np.where(has.any(axis=-1), first, -1)
@@ -123,11 +120,11 @@ def matrix_frame(session: SessionData, counts: np.ndarray) -> pd.DataFrame:
         {
             "site_id": np.asarray(session.site_ids, dtype=object)[s_idx],
             "analyte": np.asarray(session.analytes, dtype=object)[a_idx],
-            "worst": np.asarray(STATUS_ORDER, dtype=object)[worst_status(sub)],
+            "worst": np.asarray(vocabulary.RANKED, dtype=object)[worst_status(sub)],
             "n_results": sub.sum(axis=-1),
         }
     )
-    for i, s in enumerate(STATUS_ORDER):
+    for i, s in enumerate(vocabulary.RANKED):
         out[s] = sub[:, i]
     return out
 
@@ -140,9 +137,9 @@ def site_worst(session: SessionData, counts: np.ndarray) -> pd.DataFrame:
     out = pd.DataFrame(
         {
             "site_id": np.asarray(session.site_ids, dtype=object)[idx],
-            "worst": np.asarray(STATUS_ORDER, dtype=object)[worst_status(per_site[idx])],
+            "worst": np.asarray(vocabulary.RANKED, dtype=object)[worst_status(per_site[idx])],
             "n_results": per_site[idx].sum(axis=-1),
-            "n_exceeds": per_site[idx, STATUS_ORDER.index("exceeds")],
+            "n_exceeds": per_site[idx, vocabulary.RANKED.index("exceeds")],
         }
     )
     if session.sites is not None:
@@ -155,65 +152,19 @@ def site_worst(session: SessionData, counts: np.ndarray) -> pd.DataFrame:
     return out
 
 
-# ---- rendering ---------------------------------------------------------------------------------
-def status_badges(totals: np.ndarray, element_id: str = "status-totals") -> html.Div:
-    """Totals per status as labelled badges (glyph, label, count)."""
-    return html.Div(
-        [
-            html.Span(
-                [html.Span(STATUS_GLYPH[s], className="glyph"), f" {STATUS_LABEL[s]}: ",
-                 html.B(f"{int(totals[i]):,}")],
-                className=f"badge status-{s}",
-                **{"data-status": s, "data-count": str(int(totals[i]))},
-            )
-            for i, s in enumerate(STATUS_ORDER)
-        ],
-        id=element_id,
-        className="badges",
-    )
-
-
-def matrix_table(session: SessionData, counts: np.ndarray, fraction: str | None = None) -> str:
-    """Sites x metals table as HTML text; each cell shows the worst status (glyph and words) and
-    counts and links to that site and metal.
-
-    The table is sent as text and put in place by the browser's own HTML parser
-    (``assets/matrix.js``), which draws hundreds of cells far sooner than as many Dash components
-    or a Markdown component would; ``assets/links.js`` keeps its links inside the app. Every
-    piece of text is escaped here.
-    """
-    frame = matrix_frame(session, counts)
-    if frame.empty:
-        return "<p id='matrix-empty'>No results match these filters.</p>"
-    analytes = sorted(frame["analyte"].unique())
-    cells = {(r.site_id, r.analyte): r for r in frame.itertuples(index=False)}
-
-    def e(text) -> str:
-        return escape(str(text), quote=True)
-
-    q_site = {sid: quote_plus(str(sid)) for sid in frame["site_id"].unique()}
-    q_metal = {a: quote_plus(str(a)) for a in analytes}
-    tail = f"&amp;fraction={quote_plus(fraction)}" if fraction else ""
-    parts = ["<table class='matrix' id='matrix-table'><thead><tr><th>Site</th>"]
-    parts += [f"<th scope='col'>{e(a)}</th>" for a in analytes]
-    parts.append("</tr></thead><tbody>")
-    for site_id in sorted(frame["site_id"].unique()):
-        name = session.site_name(site_id)
-        parts.append(f"<tr><th scope='row'><span class='site-id'>{e(site_id)}</span>"
-                     + (f"<br><span class='site-name'>{e(name)}</span>" if name != site_id else "") + "</th>")
-        for a in analytes:
-            r = cells.get((site_id, a))
-            if r is None:
-                parts.append("<td class='empty'>–</td>")
-                continue
-            title = f"{site_id} · {a}: worst {STATUS_LABEL[r.worst]}; {r.exceeds} of {r.n_results} results above a limit"
-            # kept short (a thousand cells): the status is the cell's class, the line break a
-            # newline (the link's white-space is pre-line)
-            parts.append(
-                f"<td class='cell status-{r.worst}' data-site='{e(site_id)}' data-analyte='{e(a)}'>"
-                f"<a href='/site?site={q_site[site_id]}&amp;analyte={q_metal[a]}{tail}' title='{e(title)}'>"
-                f"<b class='glyph'>{STATUS_GLYPH[r.worst]}</b> {STATUS_SHORT[r.worst]}\n{r.exceeds}/{r.n_results}</a></td>"
-            )
-        parts.append("</tr>")
-    parts.append("</tbody></table>")
-    return "".join(parts)
+def filter_options(session: SessionData) -> tuple:
+    """Options of the filter controls for a session: uses, tables, fractions, date bounds, campaigns."""
+    tables = []
+    tt = getattr(session.limits, "tables", None)
+    names = {}
+    if tt is not None and "table_id" in tt:
+        names = dict(zip(tt["table_id"].astype(str), tt.get("name", tt["table_id"]).astype(str)))
+    for t in session.tables:
+        tables.append({"label": f"{t} — {names.get(t, t)}", "value": t})
+    fractions = [{"label": "all fractions", "value": "all"}] + [
+        {"label": f, "value": f} for f in session.fractions]
+    days = session.day[session.day != NO_DAY]
+    lo = str(days.min().astype("datetime64[D]")) if len(days) else None
+    hi = str(days.max().astype("datetime64[D]")) if len(days) else None
+    return ([{"label": u, "value": u} for u in session.uses], tables, fractions, lo, hi,
+            [{"label": c, "value": c} for c in session.campaigns])

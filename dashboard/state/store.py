@@ -1,0 +1,230 @@
+"""The per-app store: base inputs (through the engine's pipeline), uploads kept on disk, sessions by dataset key.
+
+A *dataset key* names what a browser session is looking at: ``"base"`` (the files the dashboard was
+started with) or ``"base+<token>+<token>"`` once uploads have been added. The key lives in the
+browser (a ``dcc.Store``); the server rebuilds the data for a key from the base inputs and the
+uploaded files kept on disk, and keeps the last few in a small cache. Nothing here is a module-level
+mutable global: the :class:`DataStore` belongs to one app (``app.server.extensions``).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import tempfile
+import threading
+from collections import OrderedDict
+from pathlib import Path
+
+import pandas as pd
+
+from dashboard.state.frames import accepted_from_session, engine_frame
+from dashboard.state.session import BASE_KEY, Inputs, SessionData, build_session
+from tracescreen._internal.memory import release_unused
+from tracescreen.screening.parts import join_frames
+
+STORE_EXTENSION = "tracescreen"
+
+
+# ---- building ---------------------------------------------------------------------------------
+def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None,
+                cross_fraction: bool = True) -> Inputs:
+    """Load result files, limit tables and sites with the engine's pipeline (user errors raise ValueError).
+
+    ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
+    the optional ``columns`` mapping file. With ``workspace`` (a folder), the current results of
+    that workspace are used instead of ``results`` (one consistent state, even during an import).
+    ``cross_fraction`` is the screening option of the same name (``--same-fraction-only`` turns it off).
+    """
+    from tracescreen import pipeline
+
+    paths = [Path(p) for p in ([results] if isinstance(results, (str, Path)) else results or [])]
+    opts = options if options is not None else load_options(columns)
+    limit_paths = [limits] if isinstance(limits, (str, Path)) else list(limits)
+    data = pipeline.load(pipeline.Inputs(results=tuple(paths), limits=tuple(limit_paths), sites=sites,
+                                         workspace=workspace, reading=opts))
+    loaded = data.loaded
+    return Inputs(
+        accepted=loaded.accepted,
+        rejected=loaded.rejected,
+        limits=data.limits,
+        sites=data.sites,
+        files=loaded.files,
+        sources=tuple(str(p) for p in ([Path(workspace)] if workspace is not None else paths)),
+        options=opts,
+        sites_name=Path(sites).name if sites is not None else "the sites file",
+        set_aside=loaded.set_aside,
+        cross_fraction=cross_fraction,
+    )
+
+
+def load_options(columns=None):
+    """The engine's LoadOptions with an optional column-mapping YAML file."""
+    from tracescreen.io.columns import load_column_map
+    from tracescreen.io.loading import LoadOptions
+
+    return LoadOptions(column_map=load_column_map(columns) if columns else None)
+
+
+def session_nbytes(session: SessionData) -> int:
+    """Estimated bytes a session holds: its screened rows and index arrays."""
+    from dashboard.state.memo import approx_nbytes
+
+    arrays = (session.rank, session.site_code, session.analyte_code, session.fraction_code, session.table_code,
+              session.use_code, session.campaign_code, session.day, session.series_key)
+    return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
+
+
+# ---- the per-app store ------------------------------------------------------------------------
+def content_token(*parts: bytes) -> str:
+    """Short content hash naming an upload (same bytes, same token)."""
+    h = hashlib.sha256()
+    for p in parts:
+        h.update(hashlib.sha256(p).digest())
+    return h.hexdigest()[:16]
+
+
+class DataStore:
+    """Base inputs, uploaded files on disk and a small cache of :class:`SessionData` by key.
+
+    Parameters
+    ----------
+    base : callable or Inputs
+        The base inputs, or a function returning them (called once, lazily).
+    upload_dir : path, optional
+        Where accepted uploads are kept (a temporary directory by default).
+    max_upload_bytes : int
+        Size cap of one uploaded file [bytes].
+    cache_size : int
+        How many dataset keys with uploads are kept screened in memory (besides the base data).
+    cache_bytes : int
+        Bytes those sessions may hold together [bytes]; the least recently used go first, but the
+        most recent one is always kept (a million-result base makes each upload session as large).
+    """
+
+    def __init__(self, base, upload_dir=None, max_upload_bytes: int = 20 * 2**20, cache_size: int = 3,
+                 cache_bytes: int = 400 * 2**20):
+        self._base = base
+        self._base_inputs: Inputs | None = None
+        self._tmp = None
+        if upload_dir is None:
+            self._tmp = tempfile.TemporaryDirectory(prefix="tracescreen-uploads-")
+            upload_dir = self._tmp.name
+        self.upload_dir = Path(upload_dir)
+        self.upload_dir.mkdir(parents=True, exist_ok=True)
+        self.max_upload_bytes = int(max_upload_bytes)
+        self._base_session: SessionData | None = None
+        self._cache: OrderedDict[str, SessionData] = OrderedDict()
+        self._cache_size = cache_size
+        self._cache_bytes = int(cache_bytes)
+        self._lock = threading.RLock()
+
+    # base
+    def base_inputs(self) -> Inputs:
+        with self._lock:
+            if self._base_inputs is None:
+                self._base_inputs = self._base() if callable(self._base) else self._base
+            return self._base_inputs
+
+    @property
+    def sites(self) -> pd.DataFrame | None:
+        return self.base_inputs().sites
+
+    # uploads
+    def upload_path(self, token: str) -> Path:
+        return self.upload_dir / token
+
+    def save_upload(self, filename: str, content: bytes, mapping: bytes | None) -> str:
+        """Keep an uploaded file (and its column mapping) on disk; return its token."""
+        token = content_token(filename.encode(), content, mapping or b"")
+        folder = self.upload_path(token)
+        folder.mkdir(parents=True, exist_ok=True)
+        (folder / Path(filename).name).write_bytes(content)
+        if mapping:
+            (folder / "_columns.yaml").write_bytes(mapping)
+        return token
+
+    def load_upload(self, token: str):
+        """Load one kept upload with the engine; returns the engine's LoadResult."""
+        from tracescreen.io.loading import load_results
+
+        folder = self.upload_path(token)
+        if not token.isalnum() or not folder.is_dir():
+            raise KeyError(token)
+        import dataclasses
+
+        files = [p for p in sorted(folder.iterdir()) if p.name != "_columns.yaml"]
+        mapping = folder / "_columns.yaml"
+        base = self.base_inputs()
+        opts = base.options if base.options is not None else load_options(None)
+        # an upload is read like the base files (dates, decimal comma), with its own mapping
+        opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None)
+        return load_results(files, opts, sites=self.sites, sites_name=base.sites_name)
+
+    # sessions
+    def base_session(self) -> SessionData:
+        """The screened base data (built once and kept; the loaded rows are then released)."""
+        with self._lock:
+            if self._base_session is None:
+                self._base_session = build_session(self.base_inputs(), BASE_KEY, release_input=True)
+                release_unused()
+            return self._base_session
+
+    def get(self, key: str | None) -> SessionData:
+        """The session data for a dataset key (unknown tokens fall back to the base data)."""
+        tokens = [t for t in (key or "").split("+")[1:] if t]
+        if not tokens:
+            return self.base_session()
+        with self._lock:
+            if key in self._cache:
+                self._cache.move_to_end(key)
+                return self._cache[key]
+        session = self._build(tokens)
+        with self._lock:
+            self._cache[key] = session
+            while len(self._cache) > 1 and (len(self._cache) > self._cache_size
+                                            or sum(map(session_nbytes, self._cache.values())) > self._cache_bytes):
+                self._cache.popitem(last=False)
+        release_unused()
+        return session
+
+    def _build(self, tokens: list[str]) -> SessionData:
+        base = self.base_session()
+        accepted, rejected, files, kept = [accepted_from_session(base)], [base.rejected], [base.files], []
+        aside = [base.set_aside]
+        for token in tokens:
+            try:
+                loaded = self.load_upload(token)
+            except (KeyError, ValueError, OSError):
+                continue
+            accepted.append(loaded.accepted)
+            rejected.append(loaded.rejected)
+            aside.append(loaded.set_aside)
+            files.append(loaded.files)
+            kept.append(token)
+        # categorical text joined category-wise; the engine writes missing text as "", never NaN
+        merged = engine_frame(join_frames(accepted))
+        del accepted
+        inputs = Inputs(
+            accepted=merged,
+            rejected=pd.concat([r for r in rejected if len(r)] or [base.rejected], ignore_index=True),
+            set_aside=pd.concat([r for r in aside if len(r)] or [base.set_aside], ignore_index=True),
+            limits=base.limits,
+            sites=base.sites,
+            files=pd.concat(files, ignore_index=True),
+            sources=base.sources + tuple(f"upload {t}" for t in kept),
+            cross_fraction=self.base_inputs().cross_fraction,
+        )
+        del merged
+        return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)
+
+
+def current_store() -> DataStore:
+    """The DataStore of the app serving the current request."""
+    import flask
+
+    return flask.current_app.extensions[STORE_EXTENSION]
+
+
+def current_session(key: str | None) -> SessionData:
+    """Session data for a dataset key, from the app serving the current request."""
+    return current_store().get(key)
