@@ -13,9 +13,6 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-import pandas as pd
-
-from tracescreen.report import writers as outputs
 from . import UserError
 from .common import add_reading_options, print_caution, results_from_args, warn
 
@@ -45,6 +42,9 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    import pandas as pd
+
+    from tracescreen.report import writers as outputs
     from tracescreen.retest.labqc.elements import ELEMENTS
     from tracescreen.retest.labqc.review import qc_rows_read, review_lab_qc
     from tracescreen.retest.labqc.windows import load_windows
@@ -109,6 +109,8 @@ def run(args) -> int:
 
 def write_review(review, out: Path) -> dict:
     """Write a review's tables; returns {name: path}."""
+    from tracescreen.report import writers as outputs
+
     return {"qc_rows": outputs.write_csv(review.qc, out / "qc_rows.csv"),
             "verdicts": outputs.write_csv(review.verdicts, out / "qc_verdicts.csv"),
             "qualified": outputs.write_csv(review.qualified, out / "qualified_results.csv"),
@@ -138,6 +140,9 @@ def calibration_review(args, accepted, out: Path):
 
     Returns ({name: path}, retest rows, the per-analyte ranges and supported detection limits).
     """
+    import pandas as pd
+
+    from tracescreen.report import writers as outputs
     from tracescreen.retest.calibration.checks import analyte_ranges, check_results
     from tracescreen.retest.calibration.fit import fit_curves, recompute_samples
     from tracescreen.retest.calibration.limits import curve_limits, mdl
