@@ -34,9 +34,9 @@ class UserError(Exception):
 
 def _user_error_types() -> tuple[type[BaseException], ...]:
     from tracescreen.io.columns import ColumnMapError
-    from tracescreen.limits.load import LimitTableError
     from tracescreen.io.loading import LoadError
     from tracescreen.io.sites import SitesError
+    from tracescreen.limits.load import LimitTableError
     from tracescreen.store.workspace import WorkspaceError
 
     return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
