@@ -115,6 +115,7 @@ def test_resample_must_come_before_the_next_evaluation_and_nondetects_never_exce
     seq = out["retest_sequence"]
     assert list(seq["comparison"]) == ["above", "above", "inconclusive", "within"]
     assert list(seq["status"]) == ["initial_exceedance", "initial_exceedance", "inconclusive", "not_confirmed"]
+    assert "closed as resample_missing" in seq["note"].iloc[1] and seq["note"].iloc[0] == ""
     st = out["well_status"].iloc[0]
     assert st["n_resamples_missing"] == 1 and st["latest_status"] == "not_confirmed"
 
@@ -212,3 +213,19 @@ def test_constituent_window_replaces_the_well_window():
     base = rows[rows["period"] == "baseline"].groupby("analyte").size()
     assert base["arsenic"] == 16 and base["lead"] == 8
     assert dates[15] <= pd.Timestamp("2018-12-31")
+
+
+def test_well_figure_draws_background_limit_sequence_and_chart():
+    """The chart of a well: background points, the limit line, compliance values by retest status
+    and the control-chart panel with its h and SCL lines (Example 20-1's nickel as one well's
+    baseline and compliance values)."""
+    from tracescreen.report.well_figures import well_figure
+    ex = example("20_1_nickel")
+    res = results_frame({"MW": ex["baseline"] + ex["compliance"]}, start="1995-01-01", freq="MS", analyte="nickel")
+    out = well_statistics(res, network([], ["MW"], comparison="intrawell", background_to="1995-08-31"), Design())
+    fig = well_figure(out, "MW", "nickel", "total")
+    names = [t.name for t in fig.data]
+    assert "background" in names and any(n.startswith("prediction limit") for n in names)
+    assert "Shewhart limit = 4.5" in names and "CUSUM decision interval h = 5" in names
+    assert "out of control" in names     # month 8: z = 4.92 > 4.5
+    assert out["control_charts"]["status"].iloc[-1] == "resample_required"

@@ -120,3 +120,29 @@ GLYPH: dict[str, str] = {
     "no_limit": "\u25a0",  # ■
     "qc_sample": "\u2715",  # ✕
 }
+
+
+# ----------------------------------------------------------------- wells against background
+
+#: Statuses of a compared value over its retest sequence (tracescreen.statistics.background.sequence),
+#: worst first, with a label, colour and marker shape each (the same palette as above).
+SEQUENCE_STATUSES: tuple[str, ...] = ("confirmed_exceedance", "initial_exceedance", "resample_required",
+                                      "inconclusive", "not_confirmed", "within")
+SEQUENCE_LABEL: dict[str, str] = {
+    "confirmed_exceedance": "Confirmed exceedance of background (statistically significant increase)",
+    "initial_exceedance": "Initial exceedance: resample required",
+    "resample_required": "Resample did not decide: another required",
+    "inconclusive": "Inconclusive (non-detect above the limit, or incomplete mean)",
+    "not_confirmed": "Not confirmed by resampling",
+    "within": "Within the background limit",
+}
+SEQUENCE_COLOUR: dict[str, str] = {
+    "confirmed_exceedance": COLOUR["exceeds"], "initial_exceedance": COLOUR["nondetect_inconclusive"],
+    "resample_required": COLOUR["above_range_inconclusive"], "inconclusive": COLOUR["no_limit"],
+    "not_confirmed": COLOUR["nondetect_meets"], "within": COLOUR["meets"],
+}
+SEQUENCE_SYMBOL: dict[str, str] = {
+    "confirmed_exceedance": "triangle-up", "initial_exceedance": "triangle-up-open",
+    "resample_required": "diamond-open", "inconclusive": "square-open", "not_confirmed": "circle-open",
+    "within": "circle",
+}

@@ -12,7 +12,8 @@ from . import UserError
 from .common import add_reading_options, print_caution, results_from_args, warn
 
 #: Output file of each table.
-FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "background": "background_checks.csv",
+FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "well_data": "well_data.csv",
+         "background": "background_checks.csv",
          "prediction_limits": "prediction_limits.csv", "retest_sequence": "retest_sequence.csv",
          "well_status": "well_status.csv", "control_charts": "control_charts.csv",
          "tolerance_limits": "tolerance_limits.csv", "confidence_limits": "confidence_limits.csv"}

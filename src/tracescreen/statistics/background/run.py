@@ -22,7 +22,7 @@ from .standards import confidence_limits, standards_for_series
 from .statement import design_statement
 from .tolerance import nonparametric_coverage, parametric_utl
 
-TABLES = ("design", "design_statement", "background", "prediction_limits", "retest_sequence", "well_status",
+TABLES = ("design", "design_statement", "well_data", "background", "prediction_limits", "retest_sequence", "well_status",
           "control_charts", "tolerance_limits", "confidence_limits")
 
 
@@ -134,4 +134,6 @@ def well_statistics(results: pd.DataFrame, network: pd.DataFrame, design: Design
         "confidence_limits": confidence_limits(compliance, series, standards, design),
     }
     tables["design_statement"] = design_statement(tables)
+    tables["well_data"] = compliance[["site_id", "analyte", "fraction", "sampled_at", "value", "nondetect", "quantified",
+                                      "role", "well_group", "period"]].rename(columns={"value": "value_ug_L"})
     return {name: tables[name] for name in TABLES}

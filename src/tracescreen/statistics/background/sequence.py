@@ -45,7 +45,7 @@ COMPARISONS = ("within", "above", "inconclusive")
 
 SEQUENCE_COLUMNS = SERIES + ["evaluation", "position", "first_sampled", "sampled_at", "n_results",
                              "compared_value_ug_L", "nondetect", "limit_ug_L", "method", "plan",
-                             "comparison", "status"]
+                             "comparison", "status", "note"]
 
 
 def _compared_values(comp: pd.DataFrame) -> pd.DataFrame:
@@ -123,11 +123,13 @@ def evaluate_sequences(rows: pd.DataFrame, limits: pd.DataFrame, interval_days: 
     cmp2[code, pos] = cmp
     t2 = np.zeros((g, L))
     t2[code, pos] = (blocks["first_sampled"].to_numpy().astype("datetime64[ns]").astype(np.int64) / 8.64e13)
-    status, ev, ev_pos, missing = _run(cmp2, t2, rule, k, m, interval_days)
+    status, ev, ev_pos, missing, closed = _run(cmp2, t2, rule, k, m, interval_days)
     blocks["status"] = np.array(STATUSES, dtype=object)[status[code, pos]]
     blocks["evaluation"] = ev[code, pos]
     blocks["position"] = ev_pos[code, pos]
     blocks["comparison"] = np.array(COMPARISONS, dtype=object)[cmp]
+    blocks["note"] = np.where(closed[code, pos], f"no resample within {interval_days:.0f} days of the previous "
+                              "evaluation's first value: that evaluation is closed as resample_missing", "")
     keys = first.reset_index()[["series_code"] + SERIES + ["method", "plan"]]
     seq = blocks.merge(keys, on="series_code").assign(limit_ug_L=limit, compared_value_ug_L=blocks["upper"])
     seq = seq.sort_values(SERIES + ["block"])[SEQUENCE_COLUMNS].reset_index(drop=True)
@@ -148,11 +150,13 @@ def _run(cmp, t, rule, k, m, interval_days):
     start = np.zeros(g)
     count = np.zeros(g, int)
     missing = np.zeros(g, int)
+    closed = np.zeros((g, L), bool)
     for j in range(L):
         c = cmp[:, j]
         exists = c >= 0
         late = pending & exists & (t[:, j] - start > interval_days)
         missing += late
+        closed[:, j] = late
         pending &= ~late
         decisive = exists & (c != 2)
         new = decisive & ~pending
@@ -169,7 +173,7 @@ def _run(cmp, t, rule, k, m, interval_days):
         ev[:, j] = np.where(exists, count, 0)
         ev_pos[:, j] = np.where(decisive, pos, 0)
         pending = np.where(decisive, out == UNDECIDED, pending)
-    return status, ev, ev_pos, missing
+    return status, ev, ev_pos, missing, closed
 
 
 SUMMARY_COLUMNS = SERIES + ["n_compared_values", "n_evaluations", "n_initial_exceedances",
