@@ -13,16 +13,14 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 import pytest
+from flag_frames import results as make_results
+from lab_files import write_csv
 
 from tracescreen.io.sites import load_sites
 from tracescreen.limits.load import load_limits
 from tracescreen.screening.percentiles import group_percentiles
 from tracescreen.screening.screen import screen
-
-from flag_frames import results as make_results
-from lab_files import write_csv
 
 LIMITS = Path(__file__).resolve().parents[1] / "limits"
 EU = [LIMITS / "eu_dwd_98_83.yaml", LIMITS / "eu_dwd_2020_2184.yaml"]
