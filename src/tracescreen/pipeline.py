@@ -14,6 +14,8 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
 3. :func:`statistics` -- summaries, exceedance rates and trend tests per series
    (:mod:`tracescreen.statistics`).
 4. :func:`retest` -- the retest list from result flags and QC checks (:mod:`tracescreen.retest`).
+5. :func:`wells` (when ``Options.wells`` is set) -- monitoring wells against background and fixed
+   standards (:mod:`tracescreen.statistics.background`, US EPA Unified Guidance 2009).
 
 ``tracescreen screen``, ``trends`` and ``report`` and the dashboard call these functions; none
 wires the stages itself. The module is light to import: each step imports its stage when it runs.
@@ -82,6 +84,8 @@ class Options:
     record_run : str or None
         With a workspace, record this run in it under this command name (with the SHA-256 of the
         limit tables and the sites file).
+    wells : WellsOptions or None
+        Statistics of monitoring wells against background and standards (network, design); None: none.
     """
 
     cross_fraction: bool = True
@@ -91,6 +95,7 @@ class Options:
     retest: RetestOptions | None = field(default_factory=RetestOptions)
     part_rows: int | None = None
     record_run: str | None = None
+    wells: Any = None
 
 
 @dataclass
@@ -117,6 +122,8 @@ class Results(Loaded):
         ``summary.csv``, ``exceedances.csv``, ``trends.csv``.
     retest : DataFrame or None
         ``retest.csv``.
+    wells : dict of DataFrame or None
+        The tables of ``tracescreen wells`` (:data:`tracescreen.statistics.background.run.TABLES`).
     options : Options
         The options of the run.
     """
@@ -127,6 +134,7 @@ class Results(Loaded):
     exceedances: Any = None
     trends: Any = None
     retest: Any = None
+    wells: Any = None
     options: Options = field(default_factory=Options)
 
     @property
@@ -284,4 +292,26 @@ def run(inputs: Inputs, options: Options | None = None,
             setattr(out, name, table)
     if options.retest is not None:
         out.retest = retest(screened, options.retest)
+    if options.wells is not None:
+        out.wells = wells(data.loaded.accepted, screened, options.wells)
     return out
+
+
+@dataclass(frozen=True)
+class WellsOptions:
+    """What the wells step needs: the network (:func:`tracescreen.io.network.read_network`), the
+    design (:class:`tracescreen.statistics.background.design.Design`) and whether a background upper
+    tolerance limit above a table value replaces it as the standard."""
+
+    network: Any
+    design: Any
+    background_standard: bool = False
+
+
+def wells(accepted, screened, options: WellsOptions) -> dict:
+    """Step 5: monitoring wells against background and fixed standards: background checks,
+    prediction limits with retesting and each well's status over its retest sequence, control charts,
+    tolerance limits and confidence limits against the screened limits (one table per method)."""
+    from tracescreen.statistics.background.run import well_statistics
+
+    return well_statistics(accepted, options.network, options.design, screened, options.background_standard)

@@ -51,6 +51,8 @@ class ReportData:
         Settings shown in the scope section (e.g. non-detect method, trend test options).
     method_notes : list of str
         Extra method notes (e.g. from the statistics modules).
+    wells : dict of pandas.DataFrame or None
+        The tables of monitoring wells against background and standards (``tracescreen wells``).
     """
 
     screening: pd.DataFrame
@@ -65,6 +67,7 @@ class ReportData:
     sites: pd.DataFrame | None = None
     settings: dict = field(default_factory=dict)
     method_notes: list = field(default_factory=list)
+    wells: dict | None = None
 
     def __post_init__(self):
         # the engine's tables hold text as categoricals; the report builds text from them
@@ -268,7 +271,8 @@ def report_data(results, settings: dict | None = None) -> ReportData:
         limit_entries=results.limits.entries,
         retest=results.retest if results.retest is not None else empty_retest(),
         summary=results.summary, trends=results.trends, exceedance_rates=results.exceedances, sites=results.sites,
-        settings={**(settings or {}), **retest_options.describe()}, method_notes=list(results.statistics_notes))
+        settings={**(settings or {}), **retest_options.describe()}, method_notes=list(results.statistics_notes),
+        wells=getattr(results, "wells", None))
 
 
 def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
@@ -289,7 +293,7 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
     scr = only_sites(data.screening, site_ids)
     tables, entries = limit_tables_used(data, scr)
     empty = pd.DataFrame()
-    return {
+    out = {
         "caution": pd.DataFrame({"caution": [CAUTION]}),
         "scope": scope_table(data, scr, site_ids),
         "files": files_table(data.files),
@@ -305,3 +309,8 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
         "rejected": data.rejected.reset_index(drop=True),
         "method_notes": method_notes(data),
     }
+    if data.wells is not None:
+        from tracescreen.report.wells import wells_tables
+
+        out.update(wells_tables(data.wells, site_ids))
+    return out
