@@ -150,3 +150,19 @@ def test_qc_rows_of_no_known_element_are_listed_not_dropped(tmp_path, capsys):
     assert rc == 0 and "1 QC rows are not a QC element the review knows" in captured.err
     u = pd.read_csv(tmp_path / "o" / "qc_unrecognised.csv")
     assert u[["row", "qc_type"]].values.tolist() == [[3, "Tune check"]]
+
+
+def test_report_carries_the_data_review_narrative(tmp_path, capsys):
+    import openpyxl
+
+    args = _batch(tmp_path)            # lab file, QC file and calibration file
+    limits = Path(__file__).resolve().parents[1] / "limits" / "who_gdwq_2022.yaml"
+    rc = main(["report", *args, "--limits", str(limits), "--out", str(tmp_path / "r.html"),
+               "--xlsx", str(tmp_path / "r.xlsx")])
+    assert rc == 0, capsys.readouterr().err
+    text = (tmp_path / "r.html").read_text(encoding="utf-8")
+    assert '<section id="labqc"' in text and "Data review narrative, by batch" in text
+    assert "Batch B1 of Lab A: 3 results" in text and "recovery 55 % outside 75-125 %" in text
+    assert 'id="calibration-table"' in text
+    wb = openpyxl.load_workbook(tmp_path / "r.xlsx", read_only=True)
+    assert {"lab_qc_batches", "lab_qc_verdicts", "calibration"} <= set(wb.sheetnames)

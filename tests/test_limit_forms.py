@@ -227,3 +227,31 @@ def test_words_of_each_form():
                                         "100 ≤ H < 200: 0.9; H ≥ 200: 1.5 µg/L")
     ni = e.loc[("anzg_2018_freshwater_toxicants", "nickel", "chronic", "protection_level: 95")]
     assert words.entry_words(ni) == "11 × (H/30)^0.85 µg/L; applies where protection_level: 95"
+
+
+def test_ccme_copper_steps_end_to_end(tmp_path):
+    """CCME copper (1987, memory for the thresholds): a site at hardness 100 gets 0.2 e^(0.8545 ln 100 - 1.465)
+    = 2.36 µg/L, one at 50 the soft-water 2 µg/L, one with hardness unknown 2 µg/L with a note saying so."""
+    sites = write_csv(tmp_path, "site_id,uses,hardness_mg_L\nH100,freshwater_aquatic,100\nH50,freshwater_aquatic,50\n"
+                      "HNA,freshwater_aquatic,\n", "sites.csv")
+    res = make_results([{"site_id": s, "analyte": "copper", "fraction": "total", "sampled_at": "2022-05-01",
+                         "value": 2.2, "sample_id": s} for s in ("H100", "H50", "HNA")])
+    lim = load_limits(LIMITS / "canada" / "ccme_freshwater_aquatic_life.yaml")
+    out = screen(res, lim, load_sites(sites)).set_index("site_id")
+    assert out.loc["H100", "limit_ug_L"] == pytest.approx(0.2 * math.exp(0.8545 * math.log(100) - 1.465))
+    assert out.loc["H100", "status"] == "meets"
+    assert out.loc["H50", "limit_ug_L"] == 2.0 and out.loc["H50", "status"] == "exceeds"
+    assert out.loc["HNA", "limit_ug_L"] == 2.0 and out.loc["HNA", "status"] == "exceeds"
+    assert "hardness unknown: the value the document states for unknown hardness used" in out.loc["HNA", "note"]
+
+
+def test_temperature_rows_in_fahrenheit_are_converted(tmp_path):
+    """A temperature row in deg F becomes °C: (59 - 32) x 5/9 = 15 (definition of the scales); pH is kept as
+    reported; DOC in µg/L becomes mg/L."""
+    from tracescreen.io import chemistry_rows
+
+    kind = np.array(["temperature", "temperature", "ph", "doc"], dtype=object)
+    got = chemistry_rows.input_values(kind, np.array([59.0, 12.0, 7.2, 2500.0]),
+                                      np.array(["deg F", "deg C", "std units", "ug/L"], dtype=object),
+                                      np.array([np.nan, np.nan, np.nan, 1.0]))
+    assert got.tolist() == [pytest.approx(15.0), 12.0, 7.2, 2.5]

@@ -13,8 +13,12 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
    measurement-uncertainty guard band (:mod:`tracescreen.screening.uncertainty`).
 3. :func:`statistics` -- summaries, exceedance rates and trend tests per series
    (:mod:`tracescreen.statistics`).
-4. :func:`retest` -- the retest list from result flags and QC checks (:mod:`tracescreen.retest`).
-5. :func:`wells` (when ``Options.wells`` is set) -- monitoring wells against background and fixed
+4. :func:`lab_qc` -- the laboratory QC review of the QC rows the lab files carry (and of separate
+   QC files), and the calibration checks of calibration files (:mod:`tracescreen.retest.labqc`,
+   :mod:`tracescreen.retest.calibration`); skipped when there is neither.
+5. :func:`retest` -- the retest list from result flags and QC checks (:mod:`tracescreen.retest`),
+   with the laboratory QC review's and the calibration's reasons.
+6. :func:`wells` (when ``Options.wells`` is set) -- monitoring wells against background and fixed
    standards (:mod:`tracescreen.statistics.background`, US EPA Unified Guidance 2009).
 
 ``tracescreen screen``, ``trends`` and ``report`` and the dashboard call these functions; none
@@ -34,6 +38,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable
 
+from tracescreen.retest.labqc.options import LabQcOptions
 from tracescreen.retest.options import RetestOptions
 from tracescreen.statistics.options import StatisticsOptions
 
@@ -54,6 +59,10 @@ class Inputs:
         A workspace folder: its current results instead of ``results``.
     reading : tracescreen.io.loading.LoadOptions or None
         How to read the lab files (column map, date order, ...); None for the defaults.
+    qc_files : tuple of str
+        Separate laboratory QC summary files (the QC rows of the lab files are reviewed without them).
+    calibration_files : tuple of str
+        The laboratory's calibration files (standards, calibration blanks, MDL study, sample responses).
     """
 
     results: tuple = ()
@@ -61,6 +70,8 @@ class Inputs:
     sites: str | None = None
     workspace: str | None = None
     reading: Any = None
+    qc_files: tuple = ()
+    calibration_files: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -84,6 +95,8 @@ class Options:
     record_run : str or None
         With a workspace, record this run in it under this command name (with the SHA-256 of the
         limit tables and the sites file).
+    lab_qc : LabQcOptions or None
+        Laboratory QC review and calibration checks; None: neither.
     wells : WellsOptions or None
         Statistics of monitoring wells against background and standards (network, design); None: none.
     """
@@ -95,6 +108,7 @@ class Options:
     retest: RetestOptions | None = field(default_factory=RetestOptions)
     part_rows: int | None = None
     record_run: str | None = None
+    lab_qc: LabQcOptions | None = field(default_factory=LabQcOptions)
     wells: Any = None
 
 
@@ -122,6 +136,11 @@ class Results(Loaded):
         ``summary.csv``, ``exceedances.csv``, ``trends.csv``.
     retest : DataFrame or None
         ``retest.csv``.
+    lab_qc : tracescreen.retest.labqc.review.LabQcReview or None
+        The laboratory QC review (``qc_verdicts.csv``, ``qualified_results.csv``, ``qc_batches.csv``);
+        None when the run has no laboratory QC rows.
+    calibration : tracescreen.retest.calibration.review.CalibrationReview or None
+        The calibration checks; None without calibration files.
     wells : dict of DataFrame or None
         The tables of ``tracescreen wells`` (:data:`tracescreen.statistics.background.run.TABLES`).
     options : Options
@@ -134,6 +153,8 @@ class Results(Loaded):
     exceedances: Any = None
     trends: Any = None
     retest: Any = None
+    lab_qc: Any = None
+    calibration: Any = None
     wells: Any = None
     options: Options = field(default_factory=Options)
 
@@ -253,6 +274,42 @@ def trends(accepted, screened, options: StatisticsOptions):
                        min_n=options.min_trend_values, limits=lowest_limits(screened))
 
 
+def lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, Any]:
+    """Step 4: the laboratory QC review and the calibration checks.
+
+    Returns
+    -------
+    (review, calibration)
+        :class:`tracescreen.retest.labqc.review.LabQcReview` (None when neither the lab files nor
+        ``inputs.qc_files`` carry laboratory QC rows) and
+        :class:`tracescreen.retest.calibration.review.CalibrationReview` (None without calibration files).
+    """
+    from tracescreen.retest.labqc.review import review_load
+    from tracescreen.retest.labqc.windows import load_windows
+
+    reading = inputs.reading
+    column_map = getattr(reading, "column_map", None)
+    date_order = getattr(reading, "date_order", "iso")
+    encoding = getattr(reading, "encoding", "utf-8")
+    windows = load_windows(options.windows) if options.windows else None
+    review = review_load(data.loaded, inputs.qc_files, column_map, date_order, encoding, windows)
+    calibration = None
+    if inputs.calibration_files:
+        from tracescreen.retest.calibration.review import review_calibration
+
+        calibration = review_calibration(inputs.calibration_files, data.loaded.accepted, options.weighting, encoding)
+    return review, calibration
+
+
+def lab_qc_retest(review, calibration):
+    """The retest rows of the laboratory QC review and the calibration checks (None when there are none)."""
+    import pandas as pd
+
+    parts = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None))
+             if t is not None and len(t)]
+    return pd.concat(parts, ignore_index=True) if parts else None
+
+
 def retest(screened, options: RetestOptions, lab_qc=None):
     """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the others."""
     from tracescreen._internal.memory import release_unused
@@ -265,7 +322,8 @@ def retest(screened, options: RetestOptions, lab_qc=None):
 
 def run(inputs: Inputs, options: Options | None = None,
         on_loaded: Callable[[Loaded], None] | None = None) -> Results:
-    """Load, screen, compute statistics and the retest list: every output table of one run.
+    """Load, screen, compute statistics, review the laboratory QC and build the retest list: every
+    output table of one run.
 
     Parameters
     ----------
@@ -290,8 +348,12 @@ def run(inputs: Inputs, options: Options | None = None,
     if options.statistics is not None:
         for name, table in statistics(data.loaded.accepted, screened, options.statistics).items():
             setattr(out, name, table)
+    if options.lab_qc is not None:
+        out.lab_qc, out.calibration = lab_qc(data, inputs, options.lab_qc)
     if options.retest is not None:
-        out.retest = retest(screened, options.retest)
+        out.retest = retest(screened, options.retest, lab_qc_retest(out.lab_qc, out.calibration))
+        if out.calibration is not None:
+            out.retest = out.calibration.annotate(out.retest)
     if options.wells is not None:
         out.wells = wells(data.loaded.accepted, screened, options.wells)
     return out
@@ -309,7 +371,7 @@ class WellsOptions:
 
 
 def wells(accepted, screened, options: WellsOptions) -> dict:
-    """Step 5: monitoring wells against background and fixed standards: background checks,
+    """Step 6: monitoring wells against background and fixed standards: background checks,
     prediction limits with retesting and each well's status over its retest sequence, control charts,
     tolerance limits and confidence limits against the screened limits (one table per method)."""
     from tracescreen.statistics.background.run import well_statistics

@@ -38,9 +38,11 @@ def _user_error_types() -> tuple[type[BaseException], ...]:
     from tracescreen.io.loading import LoadError
     from tracescreen.io.sites import SitesError
     from tracescreen.store.workspace import WorkspaceError
+    from tracescreen.retest.calibration.reading import CalibrationFileError
+    from tracescreen.retest.labqc.reading import QcFileError
 
     return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
-            WorkspaceError)
+            WorkspaceError, QcFileError, CalibrationFileError)
 
 
 def build_parser() -> argparse.ArgumentParser:

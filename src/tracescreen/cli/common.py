@@ -68,7 +68,9 @@ def pipeline_inputs(args, limits: bool = True):
     if not workspace and not args.results and getattr(args, "results_required", True):
         raise UserError("no lab result files given (give files, or --workspace DIR)")
     return Inputs(results=tuple(args.results), limits=tuple(args.limits) if limits else (),
-                  sites=getattr(args, "sites", None), workspace=workspace, reading=None if workspace else load_options(args))
+                  sites=getattr(args, "sites", None), workspace=workspace, reading=load_options(args),
+                  qc_files=tuple(getattr(args, "qc", None) or ()),
+                  calibration_files=tuple(getattr(args, "calibration", None) or ()))
 
 
 def results_from_args(args, sites=None):

@@ -49,7 +49,8 @@ def _attributes(items: list[str]) -> dict[str, str]:
         name, sep, value = item.partition("=")
         name, value = name.strip(), value.strip().lower()
         if not sep or name not in SCOPE_ATTRIBUTES:
-            raise UserError(f"--site-attribute '{item}': give NAME=VALUE with NAME one of {', '.join(SCOPE_ATTRIBUTES)}")
+            names = ", ".join(SCOPE_ATTRIBUTES)
+            raise UserError(f"--site-attribute '{item}': give NAME=VALUE with NAME one of {names}")
         if value not in SCOPE_ATTRIBUTES[name]:
             raise UserError(f"--site-attribute '{item}': {name} is one of {', '.join(SCOPE_ATTRIBUTES[name])}")
         out[name] = value

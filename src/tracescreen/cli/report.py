@@ -7,6 +7,7 @@ from pathlib import Path
 
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
+from .labqc import add_lab_qc_options, lab_qc_options
 from .flag_options import add_retest_options, retest_options
 from .trends import add_statistics_options, statistics_options
 from .wells import add_wells_options, wells_options
@@ -28,6 +29,7 @@ def register(sub) -> None:
     p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
     p.add_argument("--title", help="report title (default names the sites)")
     add_retest_options(p)
+    add_lab_qc_options(p)
     add_wells_options(p, design_options=False)
     p.set_defaults(func=run)
 
@@ -40,7 +42,7 @@ def run(args) -> int:
 
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
-                               record_run=args.command, wells=wells_options(args))
+                               record_run=args.command, lab_qc=lab_qc_options(args), wells=wells_options(args))
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     site_ids = None
     if args.site:

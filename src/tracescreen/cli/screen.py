@@ -5,9 +5,12 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+import pandas as pd
+
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
+from .labqc import add_lab_qc_options, lab_qc_options, lab_qc_tables
 from .trends import add_statistics_options, statistics_options
 
 
@@ -25,49 +28,24 @@ def register(sub) -> None:
                         "assessment): guard band g = F x the result's expanded uncertainty; reports beside "
                         "each status whether the decision holds beyond g (e.g. 1 for g = U)")
     add_retest_options(p)
-    p.add_argument("--qc", metavar="FILE", action="append", default=[],
-                   help="a separate laboratory QC summary file (CSV or XLSX); the QC rows of the lab files "
-                        "are reviewed without it (see 'tracescreen labqc')")
-    p.add_argument("--calibration", metavar="FILE", action="append", default=[],
-                   help="the laboratory's calibration file: results are checked against its standards and "
-                        "the detection limits it supports (see 'tracescreen labqc')")
-    p.add_argument("--weighting", choices=("none", "1/x", "1/x2", "auto"), default="auto",
-                   help="calibration fit weighting (with --calibration)")
+    add_lab_qc_options(p)
     p.set_defaults(func=run)
 
 
 def run(args) -> int:
-    import pandas as pd
-
     from tracescreen import pipeline
     from tracescreen._internal.memory import release_unused
     from tracescreen.report import writers as outputs
-    from tracescreen.retest.calibration.checks import annotate_dl_too_high
-
-    from .labqc import calibration_review, review_for_screen, write_review
 
     if args.guard_band is not None and not args.guard_band >= 0:
         raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
-    flag_options = retest_options(args, UserError)
-    # the retest list waits for the laboratory QC review below (its rows are listed with the others)
     options = pipeline.Options(cross_fraction=args.cross_fraction, guard_band=args.guard_band,
-                               statistics=statistics_options(args), retest=None, record_run=args.command)
+                               statistics=statistics_options(args), retest=retest_options(args, UserError),
+                               record_run=args.command, lab_qc=lab_qc_options(args))
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     out = Path(args.out)
-    lab_written = {}
-    review = review_for_screen(args, res.loaded)
-    lab_rows = [] if review is None else [review.retest]
-    if review is not None:
-        lab_written.update(write_review(review, out))
-    ranges = None
-    if args.calibration:
-        cal_written, cal_retest, ranges = calibration_review(args, res.loaded.accepted, out)
-        lab_written.update(cal_written)
-        lab_rows.append(cal_retest)
-    lab_qc = pd.concat([r for r in lab_rows if len(r)], ignore_index=True) if any(len(r) for r in lab_rows) else None
-    res.retest = pipeline.retest(res.screened, flag_options, lab_qc=lab_qc)
-    if ranges is not None:
-        res.retest = annotate_dl_too_high(res.retest, ranges)
+    lab_written = {name: outputs.write_csv(table, out / fname)
+                   for name, (table, fname) in lab_qc_tables(res.lab_qc, res.calibration).items()}
     tables = {
         "screening": (res.screened, "screening.csv"),
         "rejected": (res.loaded.rejected, "rejected.csv"),
@@ -103,8 +81,13 @@ def limit_tables_table(limits):
     """One row per loaded limit table with its full citation (``screening.csv`` names the table)."""
     t = limits.tables
     n = limits.entries.groupby("table_id").size()
-    return t[["table_id", "name", "source", "url", "use", "unit", "notes", "path"]].assign(
+    out = t[["table_id", "name", "source", "url", "use", "unit", "notes", "path"]].assign(
         entries=t["table_id"].map(n).fillna(0).astype(int))
+    for c in ("effective_from", "effective_to"):  # the table's own dates (its entries' are within them)
+        out[c] = t[c] if c in t else pd.NaT
+    scope = t["default_scope"] if "default_scope" in t else pd.Series([{}] * len(t), index=t.index)
+    out["default_scope"] = ["; ".join(f"{k}: {v}" for k, v in (d or {}).items()) for d in scope]
+    return out
 
 
 def print_summary(loaded, screened) -> None:

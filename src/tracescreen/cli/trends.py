@@ -69,7 +69,7 @@ def run(args) -> int:
     from tracescreen import pipeline
     from tracescreen.report import writers as outputs
 
-    options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False, retest=None,
+    options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False, retest=None, lab_qc=None,
                                statistics=statistics_options(args, tables=("trends",)), record_run=args.command)
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     table = res.trends

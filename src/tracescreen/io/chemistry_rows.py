@@ -52,7 +52,8 @@ def input_kind(labels: pd.Series, dissolved: np.ndarray) -> np.ndarray:
     return np.where(when, np.where(dissolved, "doc", ""), out).astype(object)
 
 
-def input_values(kind: np.ndarray, value: np.ndarray, unit_plain: np.ndarray, ug_per_L_factor: np.ndarray) -> np.ndarray:
+def input_values(kind: np.ndarray, value: np.ndarray, unit_plain: np.ndarray,
+                 ug_per_L_factor: np.ndarray) -> np.ndarray:
     """Each input row's value in its input unit (NaN where the unit does not fit).
 
     pH is taken as reported; DOC needs a mass-per-volume unit (converted to mg/L); temperature is °C

@@ -137,7 +137,9 @@ def recognise(headers: list[str], column_map=None) -> Recognition:
         cands.sort()
         names = ", ".join(f"'{h}'" for _, _, h in cands)
         if c in found:
-            notes.append(f"column {names} also looks like {c}; the mapped column '{found[c]}' is used")
+            several = len(cands) > 1
+            notes.append(f"column{'s' if several else ''} {names} also look{'' if several else 's'} like {c}; "
+                         f"the mapped column '{found[c]}' is used")
             continue
         found[c] = cands[0][2]
         if len(cands) > 1:

@@ -101,7 +101,8 @@ def evaluate_pairs(entries: pd.DataFrame, e_pos: np.ndarray,
 
         limit[hf] = hardness_formula_limit(
             col("hf_m"), col("hf_b"), col("hf_cf"), col("hf_cf_intercept"), col("hf_cf_ln_slope"),
-            np.asarray(inputs["hardness"], dtype=float)[hf], col("hardness_min"), col("hardness_max")) * col("unit_factor")
+            np.asarray(inputs["hardness"], dtype=float)[hf], col("hardness_min"), col("hardness_max"),
+        ) * col("unit_factor")
     if "form" in entries:
         spec = entries["form"].to_numpy(dtype=object)
         factor = entries["unit_factor"].to_numpy(float)

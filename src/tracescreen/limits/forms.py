@@ -27,6 +27,16 @@ is not computed and the remark names the input (:data:`REMARKS`).
 :func:`parse_form` checks an entry's form and returns a plain spec (nested tuples and dicts);
 :func:`evaluate` gives the limit (in the table's unit) and a remark code per row, vectorised
 over the rows of one entry.
+
+References
+----------
+.. [CCME-Zn-2018] Canadian Council of Ministers of the Environment (2018). Canadian Water Quality
+   Guidelines for the Protection of Aquatic Life: Zinc.
+.. [CCME-1987] Canadian Council of Resource and Environment Ministers (1987). Canadian Water
+   Quality Guidelines (copper, lead, nickel: hardness-dependent values).
+.. [ANZECC-2000] ANZECC & ARMCANZ (2000). Australian and New Zealand Guidelines for Fresh and Marine
+   Water Quality, Volume 1, Section 3.4.3 (hardness-modified trigger values), as adopted by ANZG (2018).
+.. [EU-EQS-2013] Directive 2008/105/EC as amended by Directive 2013/39/EU, Annex I Part A.
 """
 
 from __future__ import annotations
@@ -165,10 +175,9 @@ def _steps(s, where: str) -> dict:
         upper = (_num(p[hi[0]], f"{pw}.{hi[0]}"), _UPPER[hi[0]]) if hi else None
         if lower is not None:  # must continue the previous piece exactly, with the bound on one side
             if lower[0] != prev_upper[0] or lower[1] == prev_upper[1]:
-                raise LimitTableError(
-                    f"{pw}: the lower bound must continue the previous piece (after 'below: {prev_upper[0]:g}' "
-                    f"comes 'from: {prev_upper[0]:g}'; after 'up_to: {prev_upper[0]:g}' comes 'over: {prev_upper[0]:g}')"
-                    if prev_upper[1] is not None else f"{pw}: bad lower bound")
+                b = f"{prev_upper[0]:g}"
+                raise LimitTableError(f"{pw}: the lower bound must continue the previous piece (after 'below: {b}' "
+                                      f"comes 'from: {b}'; after 'up_to: {b}' comes 'over: {b}')")
         if lower is not None and upper is not None and upper[0] <= lower[0]:
             raise LimitTableError(f"{pw}: the upper bound {upper[0]:g} is not above the lower bound {lower[0]:g}")
         prev_upper = upper
@@ -228,8 +237,8 @@ def _qualifiers(e: dict, where: str, inputs: set[str]) -> dict:
         if out is None:
             raise LimitTableError(f"{where}: key 'valid_range' needs 'outside_range' (clamp | no_limit | {{value: v}})")
         if isinstance(out, dict):
-            q["outside"] = ("value", _num(_mapping(out, f"{where}: key 'outside_range'", ("value",), ("value",))["value"],
-                                          f"{where}: key 'outside_range.value'"))
+            given = _mapping(out, f"{where}: key 'outside_range'", ("value",), ("value",))["value"]
+            q["outside"] = ("value", _num(given, f"{where}: key 'outside_range.value'"))
         elif out in ("clamp", "no_limit"):
             q["outside"] = (out, np.nan)
         else:

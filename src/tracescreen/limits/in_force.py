@@ -61,7 +61,8 @@ def entries_in_force(limits: LimitSet, on: str | pd.Timestamp, inputs: dict[str,
     if tables:
         unknown = sorted(set(tables) - set(limits.tables["table_id"]))
         if unknown:
-            raise ValueError(f"no limit table with id {', '.join(unknown)} (loaded: {', '.join(limits.tables['table_id'])})")
+            loaded = ", ".join(limits.tables["table_id"])
+            raise ValueError(f"no limit table with id {', '.join(unknown)} (loaded: {loaded})")
         keep &= e["table_id"].isin(tables).to_numpy()
     site = pd.DataFrame([{"site_id": "_", **(site_attributes or {})}])
     pairs = pd.DataFrame({"site_id": "_", "_e": np.flatnonzero(keep)})

@@ -101,7 +101,8 @@ def check_period_keys(table: dict, rows: list[dict], name: str) -> None:
             continue
         if basis != "percentile":
             if given:
-                raise LimitTableError(f"{label}: key '{given[0]}' only applies with basis 'percentile' or 'period_mean'")
+                raise LimitTableError(
+                    f"{label}: key '{given[0]}' only applies with basis 'percentile' or 'period_mean'")
             continue
         p = r.get("percentile")
         if isinstance(p, bool) or not isinstance(p, (int, float)) or not 0 < p < 100:
@@ -121,7 +122,8 @@ def check_criteria_rounding(table: dict, rows: list[dict], name: str) -> None:
     """Load-time check of the setting ``criteria_significant_figures`` (a whole number >= 1)."""
     s = (table.get("settings") or {}).get("criteria_significant_figures")
     if s is not None and (isinstance(s, bool) or not isinstance(s, int) or s < 1):
-        raise LimitTableError(f"{name}: settings: key 'criteria_significant_figures': '{s}' must be a whole number >= 1")
+        raise LimitTableError(
+            f"{name}: settings: key 'criteria_significant_figures': '{s}' must be a whole number >= 1")
 
 
 def check_infrequent_basis(table: dict, rows: list[dict], name: str) -> None:

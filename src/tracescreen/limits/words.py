@@ -177,7 +177,8 @@ def entry_words(entry, unit: str | None = None) -> str:
     parts.append(basis_words(entry))
     lo, hi = get("hardness_min"), get("hardness_max")
     if _ok(lo) or _ok(hi):
-        parts.append(f"H taken within {_fmt(lo) if _ok(lo) else '…'}–{_fmt(hi) if _ok(hi) else '…'} mg/L as CaCO3")
+        lo_t, hi_t = (_fmt(v) if _ok(v) else "…" for v in (lo, hi))
+        parts.append(f"H taken within {lo_t}–{hi_t} mg/L as CaCO3")
     sc = get("scope")
     if sc:
         parts.append(f"applies where {sc}")

@@ -31,6 +31,7 @@ SECTIONS = [
     ("summaries", "Summaries"),
     ("trends", "Trends"),
     ("retest", "Retest list"),
+    ("labqc", "Laboratory QC review"),
     ("rejected", "Rejected rows"),
     ("methods", "Method notes"),
 ]
@@ -112,6 +113,24 @@ def _matrix_html(matrix: pd.DataFrame) -> str:
     return f'<p class="legend">Worst status, k/n: {legend}</p>' + table_html(matrix.reset_index(), "status-matrix", classes)
 
 
+def _lab_qc_html(data: ReportData) -> str:
+    """The data review narrative of each batch, the QC values outside their windows, calibration fits."""
+    if data.lab_qc_batches is None and data.calibration is None:
+        return ('<p class="none">The files carry no laboratory QC rows and no calibration data was given: ask the '
+                "laboratory for the QC summary of each batch (see <code>tracescreen labqc</code>).</p>")
+    parts = []
+    if data.lab_qc_batches is not None:
+        parts.append("<h3>Data review narrative, by batch</h3>")
+        parts += [f'<p class="narrative">{html.escape(str(t))}</p>' for t in data.lab_qc_batches["narrative"]]
+        parts.append("<h3>QC values outside their windows or not judged</h3>")
+        parts.append(table_html(data.lab_qc_verdicts, "labqc-verdicts-table") if len(data.lab_qc_verdicts)
+                     else '<p class="none">Every QC value was judged and within its window.</p>')
+    if data.calibration is not None:
+        parts.append("<h3>Calibration</h3><p>Fits per analyte and run, with LOD = 3.3 σ / slope and "
+                     "LOQ = 10 σ / slope (ICH Q2(R2)).</p>" + table_html(data.calibration, "calibration-table"))
+    return "".join(parts)
+
+
 def build_report_html(data: ReportData, site_ids=None, title: str | None = None) -> str:
     """The report as one self-contained HTML document (plotly.js inlined once; no network needed).
 
@@ -160,6 +179,7 @@ def build_report_html(data: ReportData, site_ids=None, title: str | None = None)
         "trends": trend_note + (table_html(tables["trends"], "trends-table") if data.trends is not None
                                 else '<p class="none">Trends were not computed for this run.</p>'),
         "retest": table_html(tables["retest"], "retest-table"),
+        "labqc": _lab_qc_html(data),
         "rejected": table_html(tables["rejected"], "rejected-table"),
         "methods": table_html(tables["method_notes"], "methods-table"),
     }

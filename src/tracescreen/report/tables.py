@@ -51,6 +51,12 @@ class ReportData:
         Settings shown in the scope section (e.g. non-detect method, trend test options).
     method_notes : list of str
         Extra method notes (e.g. from the statistics modules).
+    lab_qc_batches, lab_qc_verdicts : pandas.DataFrame or None
+        The laboratory QC review: one row per lab batch with its data review narrative
+        (``qc_batches.csv``), and the QC values outside their windows or not judged; None when
+        the run had no laboratory QC rows.
+    calibration : pandas.DataFrame or None
+        Calibration fits with LOD/LOQ (``calibration_fits.csv``), when calibration files were given.
     wells : dict of pandas.DataFrame or None
         The tables of monitoring wells against background and standards (``tracescreen wells``).
     """
@@ -67,6 +73,9 @@ class ReportData:
     sites: pd.DataFrame | None = None
     settings: dict = field(default_factory=dict)
     method_notes: list = field(default_factory=list)
+    lab_qc_batches: pd.DataFrame | None = None
+    lab_qc_verdicts: pd.DataFrame | None = None
+    calibration: pd.DataFrame | None = None
     wells: dict | None = None
 
     def __post_init__(self):
@@ -239,6 +248,15 @@ def method_notes(data: ReportData) -> pd.DataFrame:
                                     "history_outlier (modified z-score, Iglewicz & Hoaglin 1993), "
                                     "duplicate_disagrees, blank_contamination, dissolved_exceeds_total, "
                                     "holding_time_exceeded (40 CFR 136.3 Table II); see the detail column."))
+    if data.lab_qc_batches is not None:
+        notes.append(("laboratory QC", "The laboratory's QC rows (calibration checks, blanks, control samples, "
+                                       "matrix spikes, duplicates, interference checks, serial dilutions, internal "
+                                       "standards) were judged against the laboratory's own limits where the file "
+                                       "gives them, otherwise the defaults of the US EPA National Functional "
+                                       "Guidelines for Inorganic Superfund Methods Data Review (2020), each cited "
+                                       "with whether it was checked in the source; results of a batch are qualified "
+                                       "U, J, J+, J-, UJ or R, the most protective qualifier winning "
+                                       "(qualified_results.csv)."))
     notes += [("note", str(n)) for n in data.method_notes]
     return pd.DataFrame(notes, columns=["topic", "note"])
 
@@ -266,13 +284,39 @@ def report_data(results, settings: dict | None = None) -> ReportData:
     if counts and len(loaded.files):
         files = files.merge(loaded.files[["file", "sheet"] + counts], on=["file", "sheet"], how="left")
     retest_options = results.options.retest or RetestOptions()
+    lab = lab_qc_report(results)
     return ReportData(
         screening=results.screened, rejected=loaded.rejected, files=files, limit_tables=results.limits.tables,
         limit_entries=results.limits.entries,
         retest=results.retest if results.retest is not None else empty_retest(),
         summary=results.summary, trends=results.trends, exceedance_rates=results.exceedances, sites=results.sites,
-        settings={**(settings or {}), **retest_options.describe()}, method_notes=list(results.statistics_notes),
-        wells=getattr(results, "wells", None))
+        settings={**(settings or {}), **retest_options.describe(), **lab["settings"]},
+        method_notes=list(results.statistics_notes), lab_qc_batches=lab["batches"], lab_qc_verdicts=lab["verdicts"],
+        calibration=lab["calibration"], wells=getattr(results, "wells", None))
+
+
+LAB_QC_VERDICT_COLUMNS = ["lab", "batch", "element_name", "analyte", "fraction", "qc_sample_id", "value",
+                          "reported_value", "window_low", "window_high", "window_from", "verdict",
+                          "detect_qualifier", "nondetect_qualifier", "rule", "detail", "source", "checked"]
+"""Columns of the report's table of QC values outside their windows or not judged."""
+
+
+def lab_qc_report(results) -> dict:
+    """The laboratory QC review's share of a report: batches, the QC values outside or not judged,
+    calibration fits, and the settings in words (each None / empty when the run had none)."""
+    review = getattr(results, "lab_qc", None)
+    calibration = getattr(results, "calibration", None)
+    options = getattr(results.options, "lab_qc", None)
+    out = {"batches": None, "verdicts": None, "calibration": None, "settings": {}}
+    if review is not None:
+        v = review.verdicts
+        out["batches"] = review.batches
+        out["verdicts"] = v.loc[v["verdict"] != "within", LAB_QC_VERDICT_COLUMNS].reset_index(drop=True)
+    if calibration is not None:
+        out["calibration"] = calibration.fits
+    if options is not None and (review is not None or calibration is not None):
+        out["settings"] = options.describe()
+    return out
 
 
 def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
@@ -288,7 +332,8 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
     -------
     dict of str to pandas.DataFrame
         ``caution, scope, files, limit_tables, limit_entries, status_matrix, exceedances, summary,
-        exceedance_rates, trends, retest, rejected, method_notes``.
+        exceedance_rates, trends, retest, rejected, method_notes, lab_qc_batches, lab_qc_verdicts,
+        calibration`` (the last three empty when the run had no laboratory QC or calibration data).
     """
     scr = only_sites(data.screening, site_ids)
     tables, entries = limit_tables_used(data, scr)
@@ -308,6 +353,9 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
         "retest": only_sites(data.retest, site_ids).reset_index(drop=True),
         "rejected": data.rejected.reset_index(drop=True),
         "method_notes": method_notes(data),
+        "lab_qc_batches": data.lab_qc_batches if data.lab_qc_batches is not None else empty,
+        "lab_qc_verdicts": data.lab_qc_verdicts if data.lab_qc_verdicts is not None else empty,
+        "calibration": data.calibration if data.calibration is not None else empty,
     }
     if data.wells is not None:
         from tracescreen.report.wells import wells_tables

@@ -18,6 +18,8 @@ import re
 import numpy as np
 import pandas as pd
 
+from tracescreen.limits.evaluate import is_formula
+
 from tracescreen._internal.frames import replace_at
 from tracescreen.screening.status import classify
 
@@ -108,12 +110,12 @@ def apply_rounding(screened: pd.DataFrame, limits) -> pd.DataFrame:
           & (out["basis"] == "single_sample").to_numpy() & out["limit_ug_L"].notna().to_numpy())
     if not on.any():
         return out
-    ents = limits.entries.set_index("entry_id")
     sig = pd.Series(entry_significant_figures(limits.entries), index=limits.entries["entry_id"])
     idx = np.flatnonzero(on)
     rows = out.iloc[idx]
     s = sig.reindex(rows["entry_id"]).to_numpy(dtype=float)
-    formula = ~np.isnan(ents["hf_m"].reindex(rows["entry_id"]).to_numpy(dtype=float))
+    computed = pd.Series(is_formula(limits.entries), index=limits.entries["entry_id"])  # formula or form
+    formula = computed.reindex(rows["entry_id"]).fillna(False).to_numpy(dtype=bool)
     limit = rows["limit_ug_L"].to_numpy(dtype=float)
     limit = np.where(formula, round_significant(limit, s), limit)
     det = rows["detected"].to_numpy(dtype=bool)

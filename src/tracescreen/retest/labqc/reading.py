@@ -37,6 +37,10 @@ from tracescreen.io.qualifiers import NONDETECT_MEANINGS, has_meaning, read_colu
 from tracescreen.io.units import factors_for
 from tracescreen.retest.labqc.elements import classify
 
+class QcFileError(ValueError):
+    """A QC file that cannot be read (the message names the file)."""
+
+
 #: QC columns beyond the loader's canonical ones, with the header spellings recognised (compared
 #: after removing case, spaces and punctuation), most specific first. Drawn from a real laboratory
 #: deliverable (``tests/data/bwam_qaqc_ramapo_2018_lab_edd_metals_qc.csv``) and common practice.
@@ -275,19 +279,19 @@ def read_qc_file(path: str | Path, column_map: ColumnMap | None = None, date_ord
 
     Raises
     ------
-    ValueError
+    QcFileError
         The file is missing, unreadable, or has no recognisable QC columns (the message names it).
     """
     p = Path(path)
     if not p.is_file():
-        raise ValueError(f"{p}: QC file not found")
+        raise QcFileError(f"{p}: QC file not found")
     try:
         if p.suffix.lower() in (".xlsx", ".xlsm"):
             sheets = pd.read_excel(p, sheet_name=None, header=None, dtype=str)
         else:
             sheets = {"": csv_records(p.read_text(encoding=encoding))}
     except (UnicodeDecodeError, csv.Error, ValueError, OSError) as exc:
-        raise ValueError(f"{p.name}: cannot read the QC file ({exc.__class__.__name__}: {str(exc)[:120]})") from None
+        raise QcFileError(f"{p.name}: cannot read the QC file ({exc.__class__.__name__}: {str(exc)[:120]})") from None
     parts = []
     for sheet, raw in sheets.items():
         raw = raw.fillna("").astype(str)
@@ -304,6 +308,6 @@ def read_qc_file(path: str | Path, column_map: ColumnMap | None = None, date_ord
         body.insert(0, "file", p.name)
         parts.append(body.reset_index(drop=True))
     if not parts:
-        raise ValueError(f"{p.name}: no recognisable QC columns (QC type, analyte, result, recovery ...) "
+        raise QcFileError(f"{p.name}: no recognisable QC columns (QC type, analyte, result, recovery ...) "
                          "in the first 20 rows; give a column mapping with --columns")
     return qc_from_cells(pd.concat(parts, ignore_index=True), column_map, date_order, only_qc=only_qc)

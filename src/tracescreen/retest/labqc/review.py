@@ -49,6 +49,15 @@ class LabQcReview:
     qualified: pd.DataFrame          # QUALIFIED_COLUMNS, one row per accepted result
     batches: pd.DataFrame            # one row per lab batch (narrative.BATCH_COLUMNS)
     retest: pd.DataFrame = field(default_factory=pd.DataFrame)  # reasons.RETEST_COLUMNS
+    unrecognised: pd.DataFrame = field(default_factory=pd.DataFrame)  # UNRECOGNISED_COLUMNS
+
+    def tables(self) -> dict[str, tuple[pd.DataFrame, str]]:
+        """The output tables: name -> (table, file name)."""
+        out = {"qc_rows": (self.qc, "qc_rows.csv"), "verdicts": (self.verdicts, "qc_verdicts.csv"),
+               "qualified": (self.qualified, "qualified_results.csv"), "batches": (self.batches, "qc_batches.csv")}
+        if len(self.unrecognised):
+            out["unrecognised"] = (self.unrecognised, "qc_unrecognised.csv")
+        return out
 
     def counts(self) -> dict[str, int]:
         """Verdict and qualifier counts, for summaries."""
@@ -182,9 +191,21 @@ def review_load(loaded, qc_files=(), column_map: ColumnMap | None = None, date_o
     given; the laboratory blanks among the accepted results then join it. A load without any
     laboratory QC rows gets no review (its lab blanks stay with the ``blank_contamination`` check).
     """
-    lab_rows = qc_table(loaded.set_aside, None, qc_files, column_map, date_order, encoding)
-    if lab_rows.empty:
+    lab_rows, unrecognised = qc_rows_read(loaded.set_aside, None, qc_files, column_map, date_order, encoding)
+    if lab_rows.empty and unrecognised.empty:
         return None
     blanks = qc_from_results(loaded.accepted)
     qc = pd.concat([lab_rows, blanks], ignore_index=True) if len(blanks) else lab_rows
-    return review_lab_qc(loaded.accepted, qc, windows)
+    review = review_lab_qc(loaded.accepted, qc, windows)
+    review.unrecognised = unrecognised
+    return review
+
+
+def review_files(loaded, qc_files=(), column_map: ColumnMap | None = None, date_order: str = "iso",
+                 encoding: str = "utf-8", windows: dict[str, Window] | None = None) -> LabQcReview:
+    """The laboratory QC review of a load with its laboratory blanks, even when it has no
+    laboratory QC rows (``tracescreen labqc``: the reviewer asked for it)."""
+    qc, unrecognised = qc_rows_read(loaded.set_aside, loaded.accepted, qc_files, column_map, date_order, encoding)
+    review = review_lab_qc(loaded.accepted, qc, windows)
+    review.unrecognised = unrecognised
+    return review

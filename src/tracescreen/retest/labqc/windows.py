@@ -94,19 +94,27 @@ def load_windows(path: str | None = None) -> dict[str, Window]:
     path : str, optional
         Another windows file of the same form (a project's own plan); default the shipped one.
     """
+    from tracescreen.retest.labqc.reading import QcFileError
+
     p = Path(path) if path else WINDOWS_FILE
-    data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
-    sources = data.get("sources") or {}
-    out = {}
-    for element, e in (data.get("elements") or {}).items():
-        lo, hi = (e.get("window") or [None, None])
-        scope = e.get("scope", "batch")
-        if scope not in SCOPES:
-            raise ValueError(f"{p.name}: element {element}: unknown scope {scope!r}")
-        out[element] = Window(element, e["name"], e["measure"], _num(lo), _num(hi),
-                              _tiers(e.get("below"), "down_to"), _tiers(e.get("above"), "up_to"),
-                              dict(e.get("params") or {}), scope, e.get("source", ""), e.get("where", ""),
-                              e.get("checked", "memory"), " ".join(str(sources.get(e.get("source"), "")).split()))
+    try:
+        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+        sources = data.get("sources") or {}
+        out = {}
+        for element, e in (data.get("elements") or {}).items():
+            lo, hi = (e.get("window") or [None, None])
+            scope = e.get("scope", "batch")
+            if scope not in SCOPES:
+                raise ValueError(f"element {element}: unknown scope {scope!r}")
+            out[element] = Window(element, e["name"], e["measure"], _num(lo), _num(hi),
+                                  _tiers(e.get("below"), "down_to"), _tiers(e.get("above"), "up_to"),
+                                  dict(e.get("params") or {}), scope, e.get("source", ""), e.get("where", ""),
+                                  e.get("checked", "memory"), " ".join(str(sources.get(e.get("source"), "")).split()))
+    except (OSError, yaml.YAMLError, AttributeError, KeyError, TypeError, ValueError) as exc:
+        raise QcFileError(f"{p.name}: not a usable QC windows file ({exc.__class__.__name__}: {exc})") from None
+    missing = set(SAME_WINDOW.values()) | {"ms", "lcs", "ccv", "icv"} - set(out)
+    if missing - set(out):
+        raise QcFileError(f"{p.name}: QC windows file lacks element(s) {', '.join(sorted(missing - set(out)))}")
     return out
 
 
