@@ -9,7 +9,7 @@ STAMP  := $(VENV)/.installed-stamp
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install -q --upgrade pip
-	$(PY) -m pip install -q -e ".[test]"
+	$(PY) -m pip install -q -e ".[test,dashboard]"
 	@touch $(STAMP)
 
 setup: $(STAMP)
@@ -36,6 +36,7 @@ report: setup
 	$(VENV)/bin/tracescreen report $(DEMO_DATA) --out out/demo/report.html --xlsx out/demo/report.xlsx
 
 test: setup
+	$(VENV)/bin/ruff check .
 	$(PY) -m pytest
 
 bench: setup

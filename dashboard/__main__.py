@@ -9,6 +9,7 @@ from tracescreen.caution import CAUTION
 
 
 def build_parser() -> argparse.ArgumentParser:
+    """The parser of ``python -m dashboard`` (the options of ``tracescreen dashboard``)."""
     from tracescreen.cli.dashboard import add_dashboard_options
 
     p = argparse.ArgumentParser(
@@ -21,6 +22,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Load and screen the inputs, then serve the dashboard; returns the exit code (2 on a user error)."""
     from tracescreen.cli import UserError
     from tracescreen.cli.common import load_options
     from tracescreen.cli.dashboard import result_files

@@ -37,7 +37,7 @@ def results(rows: list[dict]) -> pd.DataFrame:
 
 def screening(rows: list[dict], limits: list[tuple[str, float]] = (("who-dw", 10.0),)) -> pd.DataFrame:
     """A screening table: every site sample against every ``(table, limit_ug_L)``; QC rows get
-    ``qc_sample``. The status rules are those of issue 2 (equal meets)."""
+    ``qc_sample``. The status rules are those of README.md#output-screeningcsv (equal meets)."""
     res = results(rows)
     lim = pd.DataFrame([{"limit_table": t, "limit_ug_L": v, "use": "drinking_water",
                          "duration": "", "basis": "single_sample", "source": f"source of {t}"}

@@ -4,14 +4,19 @@ tests/data/usepa2009/README.md), scipy, and simulation."""
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy import stats
+from usepa2009_examples import example
 
 from tracescreen.statistics.background.kappa import (
-    bonferroni_factor, failure_probability, kappa, per_constituent_alpha, per_test_confidence)
+    bonferroni_factor,
+    failure_probability,
+    kappa,
+    per_constituent_alpha,
+    per_test_confidence,
+)
 from tracescreen.statistics.background.plans import FAILED, PASSED, RULES, RetestPlan, decide, parse_plan
-
-from usepa2009_examples import example
 
 
 def test_per_test_confidence_of_the_examples():

@@ -5,6 +5,7 @@ value comes from), scipy and seeded simulation."""
 import numpy as np
 import pytest
 from scipy import stats
+from usepa2009_examples import cells, example
 
 from tracescreen.statistics.background import confidence as ci
 from tracescreen.statistics.background.checks import pooled_sd, spatial_variability
@@ -14,10 +15,11 @@ from tracescreen.statistics.background.nonparametric import achieved_confidence,
 from tracescreen.statistics.background.outliers import DIXON_CRITICAL, dixon_ratio, rosner_test
 from tracescreen.statistics.background.plans import parse_plan
 from tracescreen.statistics.background.tolerance import (
-    nonparametric_confidence, nonparametric_coverage, normal_tolerance_factor, parametric_utl)
-
-from usepa2009_examples import cells, example
-
+    nonparametric_confidence,
+    nonparametric_coverage,
+    normal_tolerance_factor,
+    parametric_utl,
+)
 
 # --------------------------------------------------------------------------- non-parametric limits
 

@@ -4,13 +4,12 @@ on the Unified Guidance's worked examples (USEPA 2009; tests/data/usepa2009/READ
 import numpy as np
 import pandas as pd
 import pytest
+from usepa2009_examples import example, network, results_frame
 
 from tracescreen.statistics.background.data import compliance_rows_for, monitoring_rows, series_table
 from tracescreen.statistics.background.design import Design
 from tracescreen.statistics.background.run import well_statistics
 from tracescreen.statistics.background.standards import confidence_limits
-
-from usepa2009_examples import example, network, results_frame
 
 
 def _dated(rows, analyte="sulfate"):
@@ -201,7 +200,7 @@ def test_censored_trend_gets_a_bootstrap_band_around_the_theil_sen_line():
 
 def test_constituent_window_replaces_the_well_window():
     """A compliance well's baseline for one constituent ends where that constituent's own window
-    ends; its other constituents keep the well's window (issue 14: a window per well/constituent)."""
+    ends; its other constituents keep the well's window (a window per well/constituent: README.md#wells-against-background-and-standards-tracescreen-wells)."""
     dates = pd.date_range("2015-01-01", periods=20, freq="QS")
     res = pd.concat([results_frame({"MW": list(np.linspace(1, 2, 20))}, start="2015-01-01", analyte=a)
                      for a in ("arsenic", "lead")])

@@ -19,10 +19,10 @@ import pandas as pd
 import pytest
 import statsmodels.api as sm
 import statsmodels.formula.api as smf
+from labqc_frames import results
 from scipy import stats
 from statsmodels.stats.anova import anova_lm
 
-from labqc_frames import results
 from tracescreen.retest.calibration.checks import analyte_ranges, check_results
 from tracescreen.retest.calibration.fit import concentration_from_response, fit_curves
 from tracescreen.retest.calibration.limits import curve_limits, lod_loq, mdl, t99

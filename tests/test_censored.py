@@ -8,8 +8,7 @@ from numpy.testing import assert_allclose
 from statsmodels.duration.survfunc import SurvfuncRight
 from statsmodels.imputation.ros import impute_ros
 
-from tracescreen.statistics import bootstrap
-from tracescreen.statistics import censored
+from tracescreen.statistics import bootstrap, censored
 from tracescreen.statistics.lognormal import lognormal_mle
 from tracescreen.statistics.ros import ros
 
@@ -155,7 +154,7 @@ def test_substitution_is_labelled_and_uses_fraction_of_dl():
 
 
 def test_grouped_methods_without_nondetects_use_sample_statistics():
-    """A series with no non-detects gets the plain sample statistics whatever the method (issue 3)."""
+    """A series with no non-detects gets the plain sample statistics whatever the method (README.md#statistics-summarycsv-exceedancescsv-trendscsv)."""
     x = np.array([1.0, 2.0, 4.0])
     for method in censored.METHODS:
         out = censored.censored_statistics_grouped(x, np.zeros(3, bool), np.zeros(3, int), 1, method=method)

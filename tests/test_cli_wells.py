@@ -3,14 +3,13 @@ traceback). Check values here come from the Unified Guidance's Example 19-1 (tes
 
 import pandas as pd
 import pytest
-
 from lab_files import write_csv
+from usepa2009_examples import example
+
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 from tracescreen.cli.wells import FILES
 from tracescreen.io.network import NetworkError, read_design, read_network
-
-from usepa2009_examples import example
 
 
 def _example_19_1_files(tmp_path):

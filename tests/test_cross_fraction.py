@@ -6,12 +6,11 @@ definition of the fractions: the dissolved fraction is the part of the total tha
 import numpy as np
 import pandas as pd
 import pytest
-
-from tracescreen.limits.load import load_limits
-from tracescreen.io.loading import LoadOptions, load_results
-from tracescreen.screening.screen import screen
-
 from lab_files import write_csv
+
+from tracescreen.io.loading import LoadOptions, load_results
+from tracescreen.limits.load import load_limits
+from tracescreen.screening.screen import screen
 
 # Values: the US MCL for total chromium is 0.1 mg/L (40 CFR 141.62(b)(5)); the EU lead value
 # 10 µg/L (Directive (EU) 2020/2184 Annex I Part B, until 2036-01-11). Test tables carry them.

@@ -114,7 +114,7 @@ def test_overview_totals_count_each_site_sample_once(session):
 
 
 def test_series_point_count_and_nondetects_at_detection_limit(session):
-    """One point per site-sample result; non-detects sit at their detection limit (issue 5)."""
+    """One point per site-sample result; non-detects sit at their detection limit (README.md#dashboard)."""
     acc = engine_view()[0].accepted
     sel = acc[(acc["site_id"] == "BH01") & (acc["analyte"] == "arsenic") & (acc["fraction"] == "total")
               & (acc["sample_type"] == "sample")]

@@ -7,15 +7,14 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from flag_frames import results as make_results
 
-from tracescreen.screening import rounding, uncertainty
 from tracescreen.cli import main
 from tracescreen.limits.load import LimitTableError, load_limits
+from tracescreen.screening import rounding, uncertainty
 from tracescreen.screening.screen import screen
 from tracescreen.screening.status import worst_status
 from tracescreen.vocabulary import STATUSES
-
-from flag_frames import results as make_results
 
 LIMITS_DIR = Path(__file__).resolve().parents[1] / "limits"
 
@@ -68,7 +67,7 @@ def test_rounding_follows_the_written_precision_and_explicit_figures(tmp_path):
 
 
 def test_without_the_setting_no_rounding(tmp_path):
-    """A table without the rounding setting compares unrounded: 10.4 µg/L exceeds 0.010 mg/L (issue 2 rule)."""
+    """A table without the rounding setting compares unrounded: 10.4 µg/L exceeds 0.010 mg/L (README.md#limits-on-period-statistics-rounding-and-other-rules)."""
     lim = table(tmp_path, "  - {analyte: arsenic, fraction: total, value: 0.010}\n", settings="{}")
     res = make_results([{"analyte": "arsenic", "sampled_at": "2021-01-01", "value": 10.4}])
     out = screen(res, lim)

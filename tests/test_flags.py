@@ -4,10 +4,11 @@ import numpy as np
 import pandas as pd
 import pytest
 import scipy.stats
-
 from flag_frames import screening
+
 from tracescreen._internal.text import format_number
-from tracescreen.retest import outliers, result_flags as flags
+from tracescreen.retest import outliers
+from tracescreen.retest import result_flags as flags
 from tracescreen.retest.rows import RETEST_COLUMNS
 
 # WHO Guidelines for Drinking-water Quality, 4th ed. incl. 1st and 2nd addenda (2022), Annex 3:

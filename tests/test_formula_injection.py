@@ -9,8 +9,8 @@ import csv
 import openpyxl
 import pandas as pd
 
-from tracescreen.report import writers as outputs
 from tracescreen.cli import main
+from tracescreen.report import writers as outputs
 
 DANGEROUS = ["=HYPERLINK(\"http://x\",\"y\")", "+1+2", "-2+3", "@SUM(A1:A2)", "\tcmd"]
 

@@ -24,7 +24,7 @@ def _results(rows):
 
 
 def test_preference_order_own_then_ca_mg_then_site_default():
-    """Own hardness first, then Ca/Mg of the same sample, then the site default, else none (issue 2 rule)."""
+    """Own hardness first, then Ca/Mg of the same sample, then the site default, else none (README.md#input-sites)."""
     r = _results([
         ("S1", "A", "zinc", "dissolved", 10.0, True, 55.0),
         ("S1", "A", "calcium", "total", 40000.0, True, np.nan),

@@ -10,8 +10,8 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-
 from labqc_frames import qc, results
+
 from tracescreen.retest.labqc.blanks import review_blanks
 from tracescreen.retest.labqc.calibration_checks import review_calibration_checks
 from tracescreen.retest.labqc.interference import review_ics, review_internal_standards, review_serial_dilutions

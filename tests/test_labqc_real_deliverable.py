@@ -92,7 +92,7 @@ def test_verdicts_agree_with_the_labs_status_flags(review, qc):
     assert (judged["lab_flag"] == "").all() and (judged["verdict"] == "within").all()
     nj = v[v["verdict"] == "not_judged"]
     # sodium is not in the registry: kept as written in the mapped chemical_name column (a mapped
-    # header wins over the auto-recognised cas_rn, issue 11)
+    # header wins over the auto-recognised cas_rn, README.md#column-mapping---columns-file)
     assert sorted(set(nj["analyte"])) == ["Sodium", "calcium", "magnesium"]
 
 

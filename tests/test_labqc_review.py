@@ -12,8 +12,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-
 from labqc_frames import qc, results
+
 from tracescreen.retest.labqc.qualifiers import combine_one
 from tracescreen.retest.labqc.reasons import REASONS, SUGGESTED_ACTIONS
 from tracescreen.retest.labqc.review import review_lab_qc

@@ -111,3 +111,31 @@ def test_no_module_over_400_lines():
     """A module a newcomer can read: none over 400 lines (DEVELOPERS.md, "Layout rules")."""
     long = {m: len(p.read_text(encoding="utf-8").splitlines()) for m, p in _modules().items()}
     assert long and not {m: n for m, n in long.items() if n > 400}
+
+
+def _readme_anchors(path: Path) -> set[str]:
+    """GitHub's anchors of a Markdown file's headings (lower case, punctuation dropped, spaces to hyphens)."""
+    import re
+
+    anchors = set()
+    for line in path.read_text(encoding="utf-8").splitlines():
+        m = re.match(r"^#{1,6} (.+)$", line)
+        if m:
+            text = re.sub(r"[^\w\- ]", "", m.group(1).strip().lower())
+            anchors.add(text.replace(" ", "-"))
+    return anchors
+
+
+def test_readme_anchors_cited_in_code_and_tests_exist():
+    """Tests and modules cite rules by README anchors (README.md#...): each anchor is a README heading."""
+    import re
+
+    root = PKG.parents[1]
+    anchors = _readme_anchors(root / "README.md")
+    cited = {}
+    for folder in ("src", "dashboard", "tests", "bench"):
+        for p in (root / folder).rglob("*.py"):
+            for a in re.findall(r"README\.md#([\w\-]+)", p.read_text(encoding="utf-8")):
+                cited.setdefault(a, str(p.relative_to(root)))
+    assert cited, "no README anchors cited"
+    assert {a: f for a, f in cited.items() if a not in anchors} == {}

@@ -13,16 +13,14 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 import pytest
+from flag_frames import results as make_results
+from lab_files import write_csv
 
 from tracescreen.io.sites import load_sites
 from tracescreen.limits.load import load_limits
 from tracescreen.screening.percentiles import group_percentiles
 from tracescreen.screening.screen import screen
-
-from flag_frames import results as make_results
-from lab_files import write_csv
 
 LIMITS = Path(__file__).resolve().parents[1] / "limits"
 EU = [LIMITS / "eu_dwd_98_83.yaml", LIMITS / "eu_dwd_2020_2184.yaml"]
@@ -173,3 +171,12 @@ def test_eu_aa_eqs_is_judged_on_the_calendar_year_mean(tmp_path):
     periods = period_table(out, lim)
     assert periods[["period", "statistic", "n_results", "n_nondetects"]].values.tolist() == [
         ["2021", "mean", 3, 1], ["2022", "mean", 2, 0]]
+
+
+def test_phase_ii_and_v_mcls_not_applied_before_they_took_effect():
+    """Cadmium (Phase II, 30 July 1992) and antimony (Phase V, 17 January 1994) MCLs: a result sampled the day
+    before has no US MCL in force, the day itself has (effective dates from memory, see the table's notes)."""
+    lim = load_limits(LIMITS / "us_epa_npdwr_inorganics.yaml")
+    rows = [("cadmium", "1992-07-29"), ("cadmium", "1992-07-30"), ("antimony", "1994-01-16"), ("antimony", "1994-01-17")]
+    out = screen(make_results([{"analyte": a, "sampled_at": d, "value": 1.0, "sample_id": a + d} for a, d in rows]), lim)
+    assert out["limit_ug_L"].isna().tolist() == [True, False, True, False]

@@ -14,15 +14,14 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from flag_frames import results as make_results
+from lab_files import write_csv
 
 from tracescreen.io.loading import load_results
 from tracescreen.io.sites import load_sites
 from tracescreen.limits import forms, words
 from tracescreen.limits.load import LimitTableError, load_limits
 from tracescreen.screening.screen import screen
-
-from flag_frames import results as make_results
-from lab_files import write_csv
 
 LIMITS = Path(__file__).resolve().parents[1] / "limits"
 ZINC = ("  - analyte: zinc\n    fraction: dissolved\n    formula:\n      intercept: 4.625\n      terms:\n"

@@ -2,13 +2,13 @@
 
 import numpy as np
 import pandas as pd
-from hypothesis import given, settings, strategies as st
-
-from tracescreen.io import loading
-from tracescreen.io import cells as parsing
-from tracescreen.io.loading import LoadOptions, load_results
-
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from lab_files import write_csv
+
+from tracescreen.io import cells as parsing
+from tracescreen.io import loading
+from tracescreen.io.loading import LoadOptions, load_results
 
 HEAD = "site_id,sample_id,sampled_at,analyte,fraction,result,unit,detection_limit,qualifier\n"
 
@@ -74,7 +74,7 @@ def test_unusable_cells_are_rejected_with_reasons(tmp_path):
     assert "fraction not given" in reasons[4]
     assert "expected 9 fields" in reasons[5]
     assert res.rejected["row"].tolist() == [2, 4, 6, 7, 8, 9]
-    # '>50' is kept as "at least 50 µg/L" (above the calibrated range), not thrown away (issue 11)
+    # '>50' is kept as "at least 50 µg/L" (above the calibrated range), not thrown away (README.md#input-lab-results)
     assert res.accepted["row"].tolist() == [5] and res.accepted["value_ug_L"].tolist() == [50.0]
     assert res.accepted["qualifier_meaning"].astype(str).tolist() == ["above_range"]
     # an analyte tracescreen does not screen is set aside (counted, listed), not an error in the file

@@ -11,12 +11,11 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-
-from tracescreen.screening import percentiles, periods
-from tracescreen.limits.load import LimitTableError, load_limits
-from tracescreen.screening.screen import screen
-
 from flag_frames import results as make_results
+
+from tracescreen.limits.load import LimitTableError, load_limits
+from tracescreen.screening import percentiles, periods
+from tracescreen.screening.screen import screen
 
 
 def table(tmp_path, entries: str, settings: str = "{nondetect_rule: zero}", unit: str = "µg/L",

@@ -15,11 +15,10 @@ import numpy as np
 import pandas as pd
 import pytest
 import yaml
+from published_values import HARDNESS_RANGE, PUBLISHED_TABLES, UG_L_PER_UNIT, Published, status_kind
 
 from tracescreen.limits import load as limits_mod
 from tracescreen.limits import scope as scope_mod
-
-from published_values import HARDNESS_RANGE, PUBLISHED_TABLES, UG_L_PER_UNIT, Published, status_kind
 
 LIMITS_DIR = Path(__file__).resolve().parents[1] / "limits"
 TABLE_IDS = sorted(PUBLISHED_TABLES)

@@ -2,11 +2,11 @@
 
 import pandas as pd
 import pytest
-
 from flag_frames import results, screening
+
 from tracescreen.retest import qc_checks as qc
-from tracescreen.retest.rows import RETEST_COLUMNS
 from tracescreen.retest.listing import REASONS, RetestOptions, retest_list
+from tracescreen.retest.rows import RETEST_COLUMNS
 
 
 def _pair(a, b, dl=1.0, a_nd=False, b_nd=False, tag="P"):

@@ -20,8 +20,8 @@ import numpy as np
 import pandas as pd
 import pytest
 import yaml
-
 from lab_files import write_csv
+
 from tracescreen.io import qualifiers
 from tracescreen.io.loading import LoadOptions, load_results
 from tracescreen.limits.load import load_limits
@@ -196,7 +196,7 @@ def test_real_wqp_narrowresult_file_reads_without_a_mapping():
     ("50", ">", "exceeds"),               # NWIS remark '>' "greater than" (usgs_remark_table)
 ])
 def test_above_range_is_at_least_the_value(tmp_path, cell, remark, status):
-    """Issue 11: '>x' is kept as "at least x" (before: thrown away), exceeds when x > limit (logic of
+    """README.md#input-lab-results: '>x' is kept as "at least x" (before: thrown away), exceeds when x > limit (logic of
     the bound; common practice), undecided otherwise, and listed for dilution and reanalysis."""
     from tracescreen.retest.listing import retest_list
 

@@ -1,4 +1,4 @@
-"""Open exchange layouts read without a mapping, and the rules real files need (issue 11).
+"""Open exchange layouts read without a mapping, and the rules real files need (README.md#input-lab-results).
 
 Sources of the check values:
 * tests/data/wqp_narrowresult_orsanco_nps_2024_metals.csv: a real Water Quality Portal narrowResult
@@ -19,10 +19,9 @@ from __future__ import annotations
 import datetime as dt
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
-
 from lab_files import write_csv
+
 from tracescreen.io.loading import LoadOptions, load_results
 
 DATA = Path(__file__).parent / "data"

@@ -4,11 +4,12 @@ import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
-
 from flag_frames import screening
-from tracescreen.report import html as report_html, tables as report
+
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
+from tracescreen.report import html as report_html
+from tracescreen.report import tables as report
 
 SHEETS = ["caution", "scope", "files", "limit_tables", "limit_entries", "status_matrix", "exceedances",
           "summary", "exceedance_rates", "trends", "retest", "rejected", "method_notes"]
@@ -107,6 +108,7 @@ def test_bad_retest_option_is_user_error(tmp_path, scenario_args, capsys):
 def test_build_report_html_from_a_pipeline_run():
     """pipeline.run + report_data + build_report_html give a page with the caution first and computed summaries."""
     from conftest import ROOT, SCENARIO
+
     from tracescreen import pipeline
     from tracescreen.io.columns import load_column_map
     from tracescreen.io.loading import LoadOptions

@@ -64,7 +64,7 @@ def test_opens_offline_with_caution_on_first_screen(page):
 
 
 def test_every_section_present(page):
-    """Every section of issue 6 is on the page with its heading, in order."""
+    """Every section of README.md#site-summary-report is on the page with its heading, in order."""
     tops = []
     for sid, title in SECTIONS:
         sec = page.locator(f"section#{sid}")
@@ -138,6 +138,6 @@ def test_statistics_numbers_equal_csv(page, demo_screen_dir, table_id, name):
 
 
 def test_methods_named(page):
-    """The summaries name the non-detect method and the trends name the test used (issue 6)."""
+    """The summaries name the non-detect method and the trends name the test used (README.md#site-summary-report)."""
     assert "Non-detect method: kaplan_meier" in page.locator("#summaries").inner_text()
     assert "Test used:" in page.locator("#trends").inner_text()

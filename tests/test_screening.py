@@ -1,17 +1,15 @@
 """Screening statuses, applicability, effective dates and floating-point equality."""
 
-import textwrap
 
 import numpy as np
 import pandas as pd
 import pytest
+from lab_files import write_csv
 
-from tracescreen.limits.load import load_limits
 from tracescreen.io.loading import LoadOptions, load_results
+from tracescreen.limits.load import load_limits
 from tracescreen.screening.screen import screen
 from tracescreen.screening.status import classify, worst_status
-
-from lab_files import write_csv
 
 TABLE = """\
 id: dw
@@ -71,7 +69,7 @@ def test_classify_every_status():
 
 
 def test_mg_per_L_equal_to_ug_per_L_limit_meets(tmp_path, limits, sites):
-    """0.01 mg/L arsenic = 10 µg/L limit: equal meets; 0.0100001 mg/L exceeds (issue 2 equality rule)."""
+    """0.01 mg/L arsenic = 10 µg/L limit: equal meets; 0.0100001 mg/L exceeds (README.md#output-screeningcsv, equality rule)."""
     out = _screen(tmp_path, "W,A,2021-01-05,arsenic,total,0.01,mg/L,,\nW,B,2021-01-05,arsenic,total,0.0100001,mg/L,,\n",
                   limits, sites)
     assert out["status"].tolist() == ["meets", "exceeds"]
@@ -117,7 +115,7 @@ def test_hardness_formula_at_100_mg_per_L(tmp_path, limits, sites):
 
 
 def test_without_sites_every_table_applies(tmp_path, limits):
-    """No sites file: every table applies to every site (issue 2 rule)."""
+    """No sites file: every table applies to every site (README.md#input-sites)."""
     res = load_results([write_csv(tmp_path, HEAD + "X,A,2021-01-05,arsenic,total,5,ug/L,,\n")])
     out = screen(res.accepted, limits, None)
     assert out["limit_table"].tolist() == ["dw"]

@@ -1,13 +1,13 @@
-"""The status vocabulary is defined once and every view uses it (issue 12)."""
+"""The status vocabulary is defined once and every view uses it (DEVELOPERS.md, "Architecture": vocabulary.py)."""
 
 from __future__ import annotations
 
 import re
 from pathlib import Path
 
-from tracescreen import vocabulary
 import numpy as np
 
+from tracescreen import vocabulary
 from tracescreen.screening import status
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -10,11 +10,11 @@ import openpyxl
 import pandas as pd
 import pyarrow.dataset as ds
 import pytest
+from workspace_support import assert_same_state, lab_rows, same_results, snapshot, write_lab_csv
 
 from tracescreen.io import loading
 from tracescreen.store.parquet import export_parquet
 from tracescreen.store.workspace import WorkspaceError, open_workspace
-from workspace_support import assert_same_state, lab_rows, same_results, snapshot, write_lab_csv
 
 
 @pytest.fixture
@@ -28,7 +28,7 @@ def _import(ws_dir, *paths, **kw):
 
 
 def test_reimport_same_file_adds_nothing(tmp_path, ws_dir):
-    """Importing a file again, or a renamed copy (same SHA-256), leaves the workspace unchanged (issue 7)."""
+    """Importing a file again, or a renamed copy (same SHA-256), leaves the workspace unchanged (README.md#workspace-keep-every-campaign)."""
     a = write_lab_csv(tmp_path / "a.csv", lab_rows(40))
     first = _import(ws_dir, a)
     assert (first.import_id, first.total("new"), first.total("rejected")) == (1, 40, 0)

@@ -15,9 +15,9 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
+from workspace_support import assert_same_state, lab_rows, snapshot, write_lab_csv
 
 from tracescreen.store.workspace import open_workspace
-from workspace_support import assert_same_state, lab_rows, snapshot, write_lab_csv
 
 IMPORTER = Path(__file__).with_name("workspace_importer.py")
 pytestmark = pytest.mark.slow

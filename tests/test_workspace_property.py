@@ -5,10 +5,10 @@ import pandas as pd
 import pint
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from workspace_support import HEADER, same_results
 
 from tracescreen.io import loading
 from tracescreen.store.workspace import open_workspace
-from workspace_support import HEADER, same_results
 
 UREG = pint.UnitRegistry()
 UNITS = ["ug/L", "mg/L", "ng/L", "\u00b5g/L"]          # pint is the outside reference for the factor

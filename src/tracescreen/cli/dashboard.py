@@ -71,8 +71,8 @@ def run(args) -> int:
 
     if bool(result_files(args)) == bool(getattr(args, "workspace", None)):
         raise UserError("give lab result files (positional or --results FILE ...) or --workspace DIR")
-    if importlib.util.find_spec("dashboard") is None:
-        raise UserError("the dashboard package is not installed (pip install -e . in the project folder)")
+    if importlib.util.find_spec("dashboard") is None or importlib.util.find_spec("dash") is None:
+        raise UserError("the dashboard is not installed: pip install -e '.[dashboard]' in the project folder")
     command = [sys.executable, "-m", "dashboard", *to_argv(args)]
     sys.stdout.flush()
     sys.stderr.flush()

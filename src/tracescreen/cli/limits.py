@@ -10,11 +10,8 @@ from __future__ import annotations
 import argparse
 import datetime as dt
 
-import numpy as np
-
-from tracescreen.limits.in_force import entries_in_force
-from tracescreen.limits.load import load_limits
 from tracescreen.limits.schema import SCOPE_ATTRIBUTES
+
 from . import UserError
 from .common import print_caution
 
@@ -58,6 +55,11 @@ def _attributes(items: list[str]) -> dict[str, str]:
 
 
 def run(args) -> int:
+    import numpy as np
+
+    from tracescreen.limits.in_force import entries_in_force
+    from tracescreen.limits.load import load_limits
+
     try:
         day = dt.date.fromisoformat(args.date)
     except ValueError:

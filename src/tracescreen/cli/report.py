@@ -7,8 +7,8 @@ from pathlib import Path
 
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
-from .labqc import add_lab_qc_options, lab_qc_options
 from .flag_options import add_retest_options, retest_options
+from .labqc import add_lab_qc_options, lab_qc_options
 from .trends import add_statistics_options, statistics_options
 from .wells import add_wells_options, wells_options
 

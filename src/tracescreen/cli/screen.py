@@ -5,8 +5,6 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-import pandas as pd
-
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
@@ -79,6 +77,8 @@ def run(args) -> int:
 
 def limit_tables_table(limits):
     """One row per loaded limit table with its full citation (``screening.csv`` names the table)."""
+    import pandas as pd
+
     t = limits.tables
     n = limits.entries.groupby("table_id").size()
     out = t[["table_id", "name", "source", "url", "use", "unit", "notes", "path"]].assign(

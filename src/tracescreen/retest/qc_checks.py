@@ -19,7 +19,14 @@ import pandas as pd
 
 from tracescreen._internal.text import format_date, format_number
 from tracescreen.retest.rows import (
-    RTOL, censored_value, empty_retest, results_from_screening, retest_rows, shown, site_samples, ug,
+    RTOL,
+    censored_value,
+    empty_retest,
+    results_from_screening,
+    retest_rows,
+    shown,
+    site_samples,
+    ug,
 )
 
 BLANK_TYPES = ("field_blank", "lab_blank")

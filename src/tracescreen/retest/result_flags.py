@@ -14,7 +14,15 @@ import pandas as pd
 
 from tracescreen._internal.text import format_date, format_number
 from tracescreen.retest.rows import (
-    RESULT_KEY, RTOL, SERIES_KEY, empty_retest, limit_label, retest_rows, single_sample_rows, site_samples, ug,
+    RESULT_KEY,
+    RTOL,
+    SERIES_KEY,
+    empty_retest,
+    limit_label,
+    retest_rows,
+    single_sample_rows,
+    site_samples,
+    ug,
 )
 from tracescreen.screening.uncertainty import uncertainty_decision
 

@@ -17,8 +17,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from tracescreen.statistics.series import as_series, chunks
 from tracescreen._internal.parallel import ordered_map, workers
+from tracescreen.statistics.series import as_series, chunks
 
 
 def series_seed_keys(table) -> np.ndarray:

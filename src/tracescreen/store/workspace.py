@@ -66,6 +66,7 @@ class Workspace(Importing):
         self.directory, self.path, self.con = directory, path, con
 
     def close(self) -> None:
+        """Close the database connection."""
         self.con.close()
 
     def __enter__(self) -> "Workspace":
@@ -94,7 +95,8 @@ class Workspace(Importing):
         with self.reading():
             return fn(self.con)
 
-    def knownsha256_hex(self) -> set[str]:
+    def known_sha256(self) -> set[str]:
+        """SHA-256 of every file stored in the workspace."""
         return {r[0] for r in self.con.execute("SELECT sha256 FROM files")}
 
     # ---- reading back ----------------------------------------------------------------------
@@ -146,14 +148,17 @@ class Workspace(Importing):
         return df
 
     def imports(self) -> pd.DataFrame:
+        """Every import: times, tool version, read options, inputs with SHA-256, row counts."""
         return pd.read_sql_query("SELECT * FROM imports ORDER BY import_id", self.con)
 
     def files(self) -> pd.DataFrame:
+        """Every stored file with its import, SHA-256, counts and sheets."""
         return pd.read_sql_query(
             "SELECT f.*, (SELECT group_concat(sheet, ', ') FROM sheets s WHERE s.file_id = f.file_id) "
             "AS sheets FROM files f ORDER BY file_id", self.con)
 
     def sheets(self) -> pd.DataFrame:
+        """Every stored sheet: header row, rows read, accepted, rejected and blank."""
         return pd.read_sql_query(
             "SELECT f.name AS file, f.path, s.sheet, f.sha256, s.header_row, s.rows_read, "
             "s.rows_accepted AS accepted, s.rows_rejected AS rejected, s.blank_rows, f.import_id "
@@ -232,9 +237,11 @@ class Workspace(Importing):
         return loading.LoadResult(acc, rejected, files, warnings, set_aside)
 
     def last_import_id(self) -> int | None:
+        """The id of the latest import (None in an empty workspace)."""
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]
 
     def screening_runs(self) -> pd.DataFrame:
+        """Every recorded screening run with the SHA-256 of its limit tables and sites file."""
         return pd.read_sql_query("SELECT * FROM screening_runs ORDER BY run_id", self.con)
 
     # ---- integrity -------------------------------------------------------------------------
