@@ -7,7 +7,6 @@ import threading
 from pathlib import Path
 
 import pytest
-
 from dashboard_support import ROOT, scenario_paths
 
 SHOTS = ROOT / "test-output" / "screenshots"
@@ -51,14 +50,13 @@ def test_views_match_the_engine_tables(wells_inputs):
 
 def test_without_a_network_the_page_says_how_to_give_one(wells_inputs, tmp_path):
     """A dashboard started without --network shows how to give one on the Wells page."""
+    import sys
     from dataclasses import replace
     from unittest import mock
 
-    from dashboard.app import create_app
-
-    import sys
-
     import dash
+
+    from dashboard.app import create_app
 
     create_app(inputs=replace(wells_inputs, wells=None), upload_dir=tmp_path, preload=False)
     page = next(sys.modules[p["module"]] for p in dash.page_registry.values() if p["path"] == "/wells")
