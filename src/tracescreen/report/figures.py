@@ -12,7 +12,8 @@ import plotly.io as pio
 import plotly.offline
 
 from tracescreen._internal.text import format_number
-from tracescreen.retest.rows import results_from_screening, site_samples
+from tracescreen.retest.rows import results_from_screening
+from tracescreen.statistics.series import site_samples
 
 PALETTE = ["#1f5f8b", "#c2571a", "#2f7d32", "#8e2c6f", "#6b5b14", "#0f7c7c", "#a12a2a", "#4d4d9f",
            "#7a7a7a", "#b07d00"]
