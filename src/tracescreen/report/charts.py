@@ -80,12 +80,13 @@ def nice_ticks(lo: float, hi: float) -> list[float]:
     return [float(f"{t:.6g}") for t in ticks if lo <= t <= hi]
 
 
-def _varying_label(label: str, dates: np.ndarray, text: np.ndarray, hardness: bool) -> str:
+def _varying_label(label: str, dates: np.ndarray, text: np.ndarray, hardness: bool, since: str = "") -> str:
+    """A varying limit's label: its range (hardness), or its latest value with the day it took effect."""
     if hardness:
         return f"{label} {min(text, key=float)}–{max(text, key=float)} µg/L (hardness)"
     change = np.flatnonzero(text[1:] != text[:-1])
-    since = dates[change[-1] + 1] if change.size else dates[0]
-    return f"{label} {text[-1]} µg/L since {since} ({text[change[-1]] if change.size else text[0]} before)"
+    since = since or (dates[change[-1] + 1] if change.size else dates[0])
+    return f"{label} {text[-1]} µg/L from {since} ({text[change[-1]] if change.size else text[0]} before)"
 
 
 def limit_lines(site: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame) -> dict:
@@ -110,6 +111,9 @@ def limit_lines(site: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame) -
     value = lim["limit_ug_L"].to_numpy(float)
     dates = lim["sampled_at"].dt.strftime("%Y-%m-%d").to_numpy()
     hard = _depends_on_hardness(lim, entries)
+    starts = entries.set_index("entry_id")["effective_from"] if "effective_from" in entries.columns else pd.Series()
+    start = pd.to_datetime(lim["entry_id"].astype(object).map(starts), errors="coerce").dt.strftime("%Y-%m-%d")
+    start = start.fillna("").to_numpy(dtype=object)
     period = lim["period_value_ug_L"].to_numpy(float) if "period_value_ug_L" in lim else np.full(len(lim), np.nan)
     groups = pd.DataFrame({c: lim[c].astype(str).to_numpy() for c in SERIES}).assign(label=label)
     out: dict = {}
@@ -123,7 +127,7 @@ def limit_lines(site: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame) -
             constant.setdefault(key, {}).setdefault(text[idx[0]], [value[idx[0]], []])[1].append(lab)
         else:
             lines.append({"kind": "hardness" if hard[idx].any() else "step", "x": dates[idx].tolist(), "y": value[idx].tolist(),
-                          "label": _varying_label(lab, dates[idx], text[idx], bool(hard[idx].any()))})
+                          "label": _varying_label(lab, dates[idx], text[idx], bool(hard[idx].any()), start[idx[-1]])})
         p = idx[np.isfinite(period[idx])]
         if p.size:
             lines.append({"kind": "period", "x": dates[p].tolist(), "y": period[p].tolist(),
