@@ -179,7 +179,7 @@ def test_chart_page_image(demo_report):
         pytest.skip("pdftoppm (poppler-utils) not installed")
     text = subprocess.run(["pdftotext", "-layout", str(demo_report["pdf"]), "-"], capture_output=True, text=True,
                           check=True).stdout.split("\f")
-    page = next(i for i, t in enumerate(text, start=1) if "5 Charts" in t)
+    page = next(i for i, t in enumerate(text, start=1) if "6 Charts" in t)
     SHOTS.mkdir(exist_ok=True)
     subprocess.run(["pdftoppm", "-png", "-r", "80", "-f", str(page + 1), "-l", str(page + 1), "-singlefile",
                     str(demo_report["pdf"]), str(SHOTS / "report-chart-page")], check=True)

@@ -2,7 +2,7 @@
 
 Order (what a reader needs first comes first): first page (cover, caution, executive summary);
 1 site–metal grid; 2 exceedances (one row per result, its limits side by side); 3 undecided
-results; 4 trends; 5 charts; 6 confirmatory retest list; laboratory QC and wells against background
+results; 4 trends; 5 summary statistics; 6 charts; 7 confirmatory retest list; laboratory QC and wells against background
 where the run has them; then the appendices: statistical design, limit tables with full citations,
 data received (files, checksums, rejected rows), codes and words, method notes
 (:mod:`tracescreen.report.appendices`). Long tables are cut at :attr:`ReportOptions.max_rows` in
@@ -153,6 +153,30 @@ def trend_section(ctx: Context) -> Section:
     return Section("trends", "Trends", blocks, landscape=True)
 
 
+SUMMARY_COLUMNS = ["site_id", "site_name", "analyte", "fraction", "n", "percent_nondetect", "min_detected",
+                   "max_detected", "max_detection_limit", "mean", "median", "p95", "ucl95_mean", "method"]
+
+
+def statistics_section(ctx: Context) -> Section:
+    """Summary statistics of the series with findings (every series with ``charts="all"``; all in the workbook)."""
+    from tracescreen.report.charts import SERIES, chart_series
+
+    s = only_sites(ctx.data.summary, ctx.site_ids)
+    if s is None:
+        return Section("summaries", "Summary statistics", [Paragraph("Summaries were not computed for this run.", "note")])
+    which = "all" if ctx.options.charts == "all" else "findings"
+    keep = chart_series(ctx.screening, only_sites(ctx.data.trends, ctx.site_ids), which)
+    s = s.merge(keep, on=SERIES) if len(keep) else s.iloc[:0]
+    blocks = [Paragraph(f"Statistics of the {len(s):,} series " + ("" if which == "all" else "with findings ")
+                        + "in µg/L; non-detects by the method named (Appendix A), never as zero. The workbook (sheet "
+                        "summary) has every series.")]
+    if len(s):
+        shown, more = cut(_with_names(s, ctx), ctx.options.max_rows, "the workbook (sheet summary)")
+        blocks.append(Table(in_words(shown[[c for c in SUMMARY_COLUMNS if c in shown.columns]]), "summary-table",
+                            key_columns=4, max_columns=14, more=more))
+    return Section("summaries", "Summary statistics", blocks, landscape=True)
+
+
 def chart_section(ctx: Context) -> Section:
     """5: small multiples per metal for the series with findings (or all)."""
     from tracescreen.report.charts import chart_series, metal_figures
@@ -242,7 +266,8 @@ def build_document(data: ReportData, site_ids=None, options: ReportOptions | Non
     extra = appendices.summary_sentences(ctx)
     summary = executive_summary(scr, data.limit_entries, refs, data.sites, only_sites(data.trends, site_ids),
                                 data.rejected, only_sites(data.retest, site_ids), extra)
-    body = [grid_section(ctx), exceedance_section(ctx), undecided_section(ctx), trend_section(ctx), chart_section(ctx),
+    body = [grid_section(ctx), exceedance_section(ctx), undecided_section(ctx), trend_section(ctx), statistics_section(ctx),
+            chart_section(ctx),
             retest_section(ctx), lab_qc_section(ctx), appendices.wells_section(ctx)]
     default_title = "Site summary: " + (", ".join(site_ids) if site_ids else "all sites")
     return Document(cover=options.cover.with_defaults(default_title), caution=CAUTION, summary=summary,

@@ -111,9 +111,10 @@ def limit_lines(site: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame) -
     value = lim["limit_ug_L"].to_numpy(float)
     dates = lim["sampled_at"].dt.strftime("%Y-%m-%d").to_numpy()
     hard = _depends_on_hardness(lim, entries)
-    starts = entries.set_index("entry_id")["effective_from"] if "effective_from" in entries.columns else pd.Series()
-    start = pd.to_datetime(lim["entry_id"].astype(object).map(starts), errors="coerce").dt.strftime("%Y-%m-%d")
-    start = start.fillna("").to_numpy(dtype=object)
+    start = np.full(len(lim), "", dtype=object)
+    if "effective_from" in entries.columns and "entry_id" in lim.columns:
+        starts = pd.to_datetime(entries.set_index("entry_id")["effective_from"], errors="coerce")
+        start = lim["entry_id"].astype(object).map(starts.dt.strftime("%Y-%m-%d")).fillna("").to_numpy(dtype=object)
     period = lim["period_value_ug_L"].to_numpy(float) if "period_value_ug_L" in lim else np.full(len(lim), np.nan)
     groups = pd.DataFrame({c: lim[c].astype(str).to_numpy() for c in SERIES}).assign(label=label)
     out: dict = {}

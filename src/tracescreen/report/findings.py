@@ -46,8 +46,9 @@ def limit_precision(rows: pd.DataFrame, entries: pd.DataFrame) -> np.ndarray:
     """Significant figures of each row's limit: as its table writes the value, else
     :data:`COMPUTED_LIMIT_DIGITS` for a computed limit."""
     written = entries.set_index("entry_id")["value_text"] if "value_text" in entries.columns else pd.Series(dtype=object)
-    text = rows["entry_id"].astype(object).map(written) if "entry_id" in rows.columns else pd.Series(index=rows.index)
-    sf = significant_figures(text.fillna(""))
+    text = (rows["entry_id"].astype(object).map(written) if "entry_id" in rows.columns
+            else pd.Series("", index=rows.index, dtype=object))
+    sf = significant_figures(text.astype(object).where(text.notna(), ""))
     return np.where(sf > 0, sf, COMPUTED_LIMIT_DIGITS)
 
 
@@ -132,7 +133,8 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         "fraction": results["fraction"].astype(str).to_numpy(),
         "result_text": (results["result_text"].astype(str) + " " + results["unit"].astype(str)).to_numpy(),
         "value_ug_L": format_significant(results["value_ug_L"], result_precision(results["result_text"])).to_numpy(),
-        "hardness_used_mg_L": np.where(hard, format_significant(results["hardness_used_mg_L"], 3).to_numpy(), ""),
+        "hardness_used_mg_L": np.where(hard, format_significant(
+            results.get("hardness_used_mg_L", pd.Series(np.nan, index=results.index)), 3).to_numpy(), ""),
     })
     for c in order:
         out[c] = wide[c].fillna("–").to_numpy()
