@@ -108,7 +108,11 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
     site = site[site["limit_ug_L"].notna()]
     key = [c for c in RESULT_KEY if c in site.columns]
     hit = site.loc[site["status"].eq("exceeds"), key].drop_duplicates()
-    rows = site.merge(hit, on=key) if len(hit) else site.iloc[:0]
+    if hit.empty:
+        cols = ["site_id", "site_name", "sampled_at", "sample_id", "analyte", "fraction", "result_text", "value_ug_L",
+                "hardness_used_mg_L"]
+        return pd.DataFrame({c: [] for c in cols}), site.iloc[:0]
+    rows = site.merge(hit, on=key)
     rows = rows.sort_values(["site_id", "analyte", "fraction", "sampled_at"] + key, kind="stable").reset_index(drop=True)
     label = limit_label(rows, refs)
     value = format_significant(rows["limit_ug_L"], limit_precision(rows, entries))
@@ -147,8 +151,10 @@ def status_counts(screening: pd.DataFrame) -> pd.DataFrame:
     """Per site and metal (analyte and fraction): the worst status of its site-sample results over
     all their limits, how many results have it (``k``) and how many results there are (``n``)."""
     site = site_samples(screening)
+    if site.empty:
+        return pd.DataFrame({c: [] for c in ("site_id", "analyte", "fraction", "n", "k", "status")})
     key = [c for c in RESULT_KEY if c in site.columns]
-    code = site["status"].astype(str).map(vocabulary.STATUS_CODE).to_numpy()
+    code = site["status"].astype(str).map(vocabulary.STATUS_CODE).to_numpy(dtype=int)
     per_result = site.assign(_c=code).groupby(key + ["site_id", "analyte", "fraction"], observed=True)["_c"].min()
     per_result = per_result.reset_index()
     g = per_result.groupby(["site_id", "analyte", "fraction"], observed=True)["_c"]
