@@ -164,10 +164,11 @@ EU_DWD_98_83 = [
     Published("chromium", "total", 50, "µg/L", EU98, _EU98_LAW),
     Published("copper", "total", 2.0, "mg/L", EU98, _EU98_LAW),
     Published("lead", "total", 25, "µg/L", EU98 + ", Note 4 (transitional value)",
-              "memory (Note 4 cut off in the stored copy; Note 2 has the same wording for bromate)",
-              effective_to="2013-12-25"),
-    Published("lead", "total", 10, "µg/L", EU98, _EU98_LAW + "; start date 15 years after entry into force: memory",
-              effective_from="2013-12-26"),
+              "checked (secondary: S2 Partnership news 2014-01-10, UK tap standard 'changed from 25µg/l to 10µg/l on the "
+              "25th December, 2013'; Galway summary of S.I. 439/2000 'Lead 25'); Note 4 cut off in the stored Directive copy",
+              effective_to="2013-12-24"),
+    Published("lead", "total", 10, "µg/L", EU98, _EU98_LAW + "; in force from 25 December 2013 (15 years after entry into "
+              "force; UK change date, secondary)", effective_from="2013-12-25"),
     Published("mercury", "total", 1.0, "µg/L", EU98, _EU98_LAW),
     Published("nickel", "total", 20, "µg/L", EU98, _EU98_LAW),
     Published("selenium", "total", 10, "µg/L", EU98, _EU98_LAW),
