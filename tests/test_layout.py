@@ -154,3 +154,18 @@ def test_test_files_mirror_the_packages():
     assert names and stray == []
     for package in ("io", "limits", "screening", "statistics", "retest", "report", "store"):
         assert any(n.startswith(f"test_{package}_") for n in names), package
+
+
+def test_cited_reference_keys_are_in_the_bibliography():
+    """Docstrings cite sources by key ([Key]_); every key is an entry of docs/references.md (case-insensitive)."""
+    import re
+
+    root = PKG.parents[1]
+    listed = {k.lower() for k in re.findall(r"\*\*\[([^\]]+)\]\*\*", (root / "docs" / "references.md").read_text(encoding="utf-8"))}
+    cited = {}
+    for folder in ("src", "dashboard"):
+        for p in (root / folder).rglob("*.py"):
+            for key in re.findall(r"\[([A-Za-z][\w\-]*)\]_", p.read_text(encoding="utf-8")):
+                cited.setdefault(key.lower(), str(p.relative_to(root)))
+    assert len(listed) > 20 and cited
+    assert {k: f for k, f in cited.items() if k not in listed} == {}
