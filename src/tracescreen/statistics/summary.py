@@ -91,15 +91,7 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
                                  max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
     st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
-    keys = bootstrap.series_seed_keys(table[KEYS])
-    if method in censored.SUBSTITUTION:
-        ucl = bootstrap.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
-                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed,
-                                                keys=keys)
-        ucl_method = f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
-    else:
-        ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed, keys=keys)
-        ucl_method = f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
+    ucl, ucl_method = _ucl(x, nd, codes, table, method, n_boot, seed)
     out = table.copy()
     out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd
     for col in ("min_detected", "max_detected", "max_detection_limit"):
@@ -109,7 +101,25 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     out["ucl95_mean"] = ucl
     out["ucl_method"] = ucl_method
     out["method"] = st["method"].to_numpy()
+    return _rules_of_thumb(out, x, nd, codes, n, n_det, pct_nd, ext["min_dl"].to_numpy(), lost)[SUMMARY_COLUMNS] \
+        .reset_index(drop=True)
 
+
+def _ucl(x, nd, codes, table: pd.DataFrame, method: str, n_boot: int, seed: int) -> tuple[np.ndarray, str]:
+    """95 % upper confidence limit on each series' mean by a seeded percentile bootstrap, and its method in words."""
+    g, keys = len(table), bootstrap.series_seed_keys(table[KEYS])
+    if method in censored.SUBSTITUTION:
+        ucl = bootstrap.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
+                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed,
+                                                keys=keys)
+        return ucl, f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
+    ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed, keys=keys)
+    return ucl, f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
+
+
+def _rules_of_thumb(out: pd.DataFrame, x, nd, codes, n, n_det, pct_nd, min_dl, lost) -> pd.DataFrame:
+    """Withhold what the share of non-detects does not support [Helsel2012]_ and say why in ``note``."""
+    g = len(out)
     few = n_det < MIN_DETECTS_FOR_MEAN
     only_counts = pct_nd > ONLY_COUNTS_ABOVE
     careful = (pct_nd > CAREFUL_ABOVE) & ~only_counts
@@ -134,7 +144,7 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
          + " µg/L) not reported"),
         (censored_pct.any(axis=1), "some percentiles lie below the smallest detected value (<"
          + _fmt(out["min_detected"]) + " µg/L)"),
-        (km & (ext["min_dl"].to_numpy() <= out["min_detected"].to_numpy()) & ~only_counts & ~few,
+        (km & (min_dl <= out["min_detected"].to_numpy()) & ~only_counts & ~few,
          "Kaplan-Meier: the share below the smallest detect is placed at the lowest detection limit "
          "(Efron), so the mean is biased high"),
         ((high_dl > 0) & ~only_counts, _fmt(high_dl) + " non-detect(s) with a detection limit "
@@ -146,7 +156,7 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
         (lost > 0, _fmt(lost) + " result(s) without value or detection limit left out"),
         (n == 0, "no usable results"),
     ], g)
-    return out[SUMMARY_COLUMNS].reset_index(drop=True)
+    return out
 
 
 def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndarray]:

@@ -159,6 +159,18 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     sig = np.nan_to_num(p, nan=1.0) < alpha
     out["direction"] = np.where(few, "too_few", np.where(sig & (s > 0), "increasing",
                                 np.where(sig & (s < 0), "decreasing", "no_trend")))
+    crossing = _limit_crossing(out, limits, res["t0"].to_numpy(float), t_last, horizon_years)
+    out["note"] = _trend_notes(out, data, codes, min_n, few, n_seasons, lost, horizon_years, *crossing)
+    return out[TABLE_COLUMNS]
+
+
+def _limit_crossing(out: pd.DataFrame, limits: pd.DataFrame | None, t0, t_last, horizon_years: float):
+    """Add the lowest limit of each series and the date its increasing trend line reaches it (``out`` in place).
+
+    Returns ``(limit, line_last, rising, cross, far)`` per series for the notes: the limit [µg/L],
+    the line's value on the last sampling date [µg/L], whether the trend rises, the crossing time
+    [decimal years] and whether it lies beyond the horizon.
+    """
     if limits is not None and len(limits):
         lim = out[["site_id", "analyte", "fraction"]].merge(
             limits[["site_id", "analyte", "fraction", "limit_ug_L", "limit_table"]],
@@ -170,7 +182,6 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         out["lowest_limit_table"] = None
     limit = out["lowest_limit_ug_L"].to_numpy(float)
     slope = out["slope_per_year"].to_numpy(float)
-    t0 = res["t0"].to_numpy(float)
     line_last = out["intercept"].to_numpy(float) + slope * (t_last - t0)
     rising = (out["direction"].to_numpy() == "increasing") & (slope > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -178,11 +189,17 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
     far = cross > t_last + horizon_years
     cross = np.where(far, np.nan, cross)
     out["crosses_limit_on"] = date_from_decimal_year(cross).to_numpy()
+    return limit, line_last, rising, cross, far
+
+
+def _trend_notes(out, data, codes, min_n, few, n_seasons, lost, horizon_years, limit, line_last, rising, cross, far):
+    """The note of each series: why no direction, non-detects, ties, the crossing date's caveats."""
+    g = len(out)
     nd_share = out["n_nondetect"] / out["n"].clip(lower=1)
     n_dl = data[data["nondetect"]].groupby(codes[data["nondetect"].to_numpy()])["value"].nunique()
     n_dl = n_dl.reindex(range(g), fill_value=0).to_numpy()
     fmt = pd.Series(limit).map(lambda v: f"{v:g}")
-    out["note"] = join_notes([
+    return join_notes([
         (few, f"fewer than {min_n} values: no direction given (common practice)"),
         (nd_share.to_numpy() > 0.8, "more than 80 % non-detects: the test mostly sees detection "
                                     "limits (Helsel 2012)"),
@@ -201,4 +218,3 @@ def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "
         (lost > 0, pd.Series(lost).astype(str) + " result(s) without value, detection limit or "
                                                  "date left out"),
     ], g)
-    return out[TABLE_COLUMNS]
