@@ -2,15 +2,22 @@
 
 from __future__ import annotations
 
-import argparse
 from pathlib import Path
 
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options
+from .parser import group
 from .trends import add_statistics_options, statistics_options
 from .wells import add_wells_options, wells_options
+
+EXAMPLES = [
+    "tracescreen report scenario_data/lab_results_fernleigh_2017-2020.csv scenario_data/lab_results_fernleigh_2021-2025.csv "
+    "scenario_data/lab_results_eastbank.xlsx --columns scenario_data/columns_eastbank.yaml "
+    "--sites scenario_data/sites.csv --limits limits --limits scenario_data/limits "
+    "--out out/demo/report.html --xlsx out/demo/report.xlsx",
+]
 
 
 def register(sub) -> None:
@@ -19,15 +26,15 @@ def register(sub) -> None:
         description="Screen the results as `screen` does and write one HTML file that opens offline: "
                     "job and scope with file checksums, limit tables with citations, status matrix, "
                     "exceedances, charts per metal, summaries, trends, retest list, rejected rows and "
-                    "method notes, with the caution first.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+                    "method notes, with the caution first.")
     add_data_options(p)
     add_statistics_options(p)
-    p.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
-    p.add_argument("--site", action="append", metavar="ID",
-                   help="report only this site (repeat for several; default all)")
-    p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
-    p.add_argument("--title", help="report title (default names the sites)")
+    out = group(p, "output")
+    out.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
+    out.add_argument("--site", action="append", metavar="ID",
+                     help="report only this site (repeat for several; default all)")
+    out.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
+    out.add_argument("--title", help="report title (default names the sites)")
     add_retest_options(p)
     add_lab_qc_options(p)
     add_wells_options(p, design_options=False)
@@ -36,6 +43,7 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from tracescreen import pipeline
+    from tracescreen.progress import report
     from tracescreen.report import writers as outputs
     from tracescreen.report.html import build_report_html
     from tracescreen.report.tables import report_data, report_tables
@@ -51,6 +59,7 @@ def run(args) -> int:
         if missing:
             raise UserError(f"--site {', '.join(missing)}: no accepted results for this site")
         site_ids = list(dict.fromkeys(args.site))
+    report("report", 0, None, unit="steps")
     data = report_data(res, settings={
         "non-detect method (summaries)": args.stats_method,
         "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
@@ -58,6 +67,7 @@ def run(args) -> int:
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
+    report("report", 1, 1, unit="steps", finished=True)
     print(f"Report: {out}")
     if args.xlsx:
         try:
