@@ -6,7 +6,7 @@ spreadsheets show as text; numbers (including negative numbers) stay numbers.
 
 References
 ----------
-.. [1] OWASP Foundation. "CSV Injection" (formula injection), OWASP community pages.
+[OWASP-CSV]_ (docs/references.md)
 """
 
 from __future__ import annotations
