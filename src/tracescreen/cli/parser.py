@@ -26,6 +26,8 @@ GROUPS = {
     "design": "design (each overrides the --design file)",
     "labqc": "laboratory QC and calibration (see 'tracescreen labqc')",
     "retest": "retest flags and QC checks (retest.csv)",
+    "contents": "report contents",
+    "cover": "report cover (first page)",
     "server": "server",
     "other": "other options",
     "output": "output",
