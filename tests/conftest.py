@@ -31,6 +31,17 @@ def _crash_logs_in_a_temporary_folder(tmp_path_factory):
 
 
 @pytest.fixture
+def sites():
+    """Two sites: a well whose water is drunk (W) and a river with aquatic life (R), no default hardness."""
+    import numpy as np
+    import pandas as pd
+
+    return pd.DataFrame({"site_id": ["W", "R"], "name": ["well", "river"], "latitude": [0.0, 0.0],
+                         "longitude": [0.0, 0.0], "uses": [("drinking_water",), ("freshwater_aquatic",)],
+                         "hardness_mg_L": [np.nan, np.nan]})
+
+
+@pytest.fixture
 def scenario_args() -> list[str]:
     """Command-line data options for the whole demo scenario."""
     return demo_args()
