@@ -14,6 +14,19 @@ import plotly.offline
 from tracescreen._internal.text import format_number
 from tracescreen.retest.rows import results_from_screening, site_samples
 
+#: The plotly configuration of every chart, in the report and in the dashboard: no plotly logo, and no
+#: button that offers to send the chart to a third-party service (plotly.js shows its "send to cloud"
+#: button unless ``showSendToCloud`` is false): monitoring data can be confidential, and the tool
+#: works offline. The camera button saves a PNG at twice the screen resolution.
+PLOTLY_CONFIG: dict = {
+    "displaylogo": False,
+    "showSendToCloud": False,
+    "showEditInChartStudio": False,
+    "modeBarButtonsToRemove": ["sendDataToCloud", "editInChartStudio"],
+    "toImageButtonOptions": {"format": "png", "scale": 2},
+    "responsive": True,
+}
+
 PALETTE = ["#1f5f8b", "#c2571a", "#2f7d32", "#8e2c6f", "#6b5b14", "#0f7c7c", "#a12a2a", "#4d4d9f",
            "#7a7a7a", "#b07d00"]
 
@@ -111,7 +124,7 @@ def figure_divs(figures: list[tuple[str, str, go.Figure]]) -> str:
         parts.append(f'<div class="chart" data-analyte="{html.escape(analyte, quote=True)}" '
                      f'data-fraction="{html.escape(fraction, quote=True)}">'
                      + pio.to_html(fig, include_plotlyjs=False, full_html=False, div_id=div_id,
-                                   config={"displaylogo": False, "responsive": True},
+                                   config=PLOTLY_CONFIG,
                                    default_height="380px")
                      + "</div>")
     return "\n".join(parts)
