@@ -11,6 +11,7 @@ from dashboard.state.store import current_session
 from dashboard.views.matrix import Filters
 from dashboard.views.series import analyte_options, default_selection, fraction_options, site_options
 from dashboard.views.url_state import as_choice, as_text, shared_filters
+from dashboard.views.wells import site_overlay
 from tracescreen.report.figures import PLOTLY_CONFIG
 
 dash.register_page(__name__, path="/site", name="Site & metal", order=2,
@@ -67,6 +68,7 @@ def layout(site=None, analyte=None, fraction=None, scale=None, **query):
         dcc.Loading(dcc.Graph(id="site-chart", config=PLOTLY_CONFIG), type="dot", delay_show=300),
         html.Div(id="site-summary", className="summary", role="status"),
         dcc.Loading(html.Div(id="site-trend", className="trend"), type="dot", delay_show=300),
+        html.P(id="site-wells", className="trend"),
         html.Button("Show the chart's data as a table", id="site-table-btn", className="button",
                     **{"aria-expanded": "false", "aria-controls": "site-table"}),
         html.Div(id="site-table", className="data-table-view"),
@@ -117,6 +119,28 @@ def update_site_trend(shown):
     for trace in traces:
         patch["data"].append(trace)
     return patch, paragraphs
+
+
+@callbacks.callback(
+    Output("site-chart", "figure", allow_duplicate=True), Output("site-wells", "children"),
+    Input("site-shown", "data"),
+    prevent_initial_call=True,
+)
+def update_site_wells(shown):
+    """For a compliance well (dashboard started with --network): its background prediction limit on
+    the chart and its status over the retest sequence, with a link to the Wells page."""
+    if not shown or shown.get("fraction") == "all":
+        return no_update, ""
+    trace, text = site_overlay(current_session(shown["key"]), shown["site"], shown["analyte"], shown["fraction"])
+    if not text:
+        return no_update, ""
+    link = dcc.Link("open on the Wells page", href="/wells?series=" + "|".join(
+        (shown["site"], shown["analyte"], shown["fraction"])))
+    if trace is None:
+        return no_update, [text, " ", link]
+    patch = Patch()
+    patch["data"].append(trace)
+    return patch, [text, " ", link]
 
 
 @callbacks.callback(

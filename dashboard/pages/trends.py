@@ -16,7 +16,7 @@ from dashboard.views.trends import ALPHA, CROSSING_CAUTION, start_trend_table, t
 from dashboard.views.url_state import grid_models
 from tracescreen.statistics.trends import TABLE_COLUMNS
 
-dash.register_page(__name__, path="/trends", name="Trends", order=2.5, title="tracescreen · trends")
+dash.register_page(__name__, path="/trends", name="Trends", order=2.3, title="tracescreen · trends")
 callbacks = PageCallbacks()
 PAGE_SIZE = 25
 COLUMNS = [

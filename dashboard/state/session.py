@@ -41,6 +41,7 @@ class Inputs:
     sites_name: str = "the sites file"
     set_aside: pd.DataFrame | None = None  # rows that are not results to screen (lab QC, other analytes)
     cross_fraction: bool = True  # screening option: decide across fractions where certain
+    wells: Any = None  # tracescreen.pipeline.WellsOptions: wells against background, or None
 
 
 @dataclass
@@ -77,6 +78,7 @@ class SessionData:
     campaign_code: np.ndarray
     day: np.ndarray  # sampling date as int32 days since 1970-01-01 (NO_DAY when undated)
     series_key: np.ndarray
+    wells_options: Any = None  # tracescreen.pipeline.WellsOptions, or None
     memo: Memo = field(default_factory=Memo, repr=False)
     _derived: dict = field(default_factory=dict, repr=False)
     _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
@@ -283,6 +285,7 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
         campaign_code=campaign_code,
         day=day,
         series_key=series_key,
+        wells_options=inputs.wells,
     )
 
 

@@ -33,13 +33,14 @@ LOG = logging.getLogger("tracescreen.dashboard")
 
 # ---- building ---------------------------------------------------------------------------------
 def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None,
-                cross_fraction: bool = True) -> Inputs:
+                cross_fraction: bool = True, wells=None) -> Inputs:
     """Load result files, limit tables and sites with the engine's pipeline (user errors raise ValueError).
 
     ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
     the optional ``columns`` mapping file. With ``workspace`` (a folder), the current results of
     that workspace are used instead of ``results`` (one consistent state, even during an import).
     ``cross_fraction`` is the screening option of the same name (``--same-fraction-only`` turns it off).
+    ``wells`` (:class:`tracescreen.pipeline.WellsOptions`) adds the wells-against-background page's data.
     """
     from tracescreen import pipeline
 
@@ -60,6 +61,7 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
         sites_name=Path(sites).name if sites is not None else "the sites file",
         set_aside=loaded.set_aside,
         cross_fraction=cross_fraction,
+        wells=wells,
     )
 
 

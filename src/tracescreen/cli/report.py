@@ -10,6 +10,7 @@ from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options
 from .trends import add_statistics_options, statistics_options
+from .wells import add_wells_options, wells_options
 
 
 def register(sub) -> None:
@@ -29,6 +30,7 @@ def register(sub) -> None:
     p.add_argument("--title", help="report title (default names the sites)")
     add_retest_options(p)
     add_lab_qc_options(p)
+    add_wells_options(p, design_options=False)
     p.set_defaults(func=run)
 
 
@@ -40,7 +42,7 @@ def run(args) -> int:
 
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
-                               record_run=args.command, lab_qc=lab_qc_options(args))
+                               record_run=args.command, lab_qc=lab_qc_options(args), wells=wells_options(args))
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     site_ids = None
     if args.site:

@@ -183,8 +183,14 @@ def build_report_html(data: ReportData, site_ids=None, title: str | None = None)
         "rejected": table_html(tables["rejected"], "rejected-table"),
         "methods": table_html(tables["method_notes"], "methods-table"),
     }
-    nav = "".join(f'<a href="#{sid}">{html.escape(t)}</a>' for sid, t in SECTIONS)
-    sections = "".join(_section(sid, t, bodies[sid]) for sid, t in SECTIONS)
+    order = SECTIONS
+    if data.wells is not None:  # wells against background and standards, before the method notes
+        from tracescreen.report.wells import wells_section_html
+
+        bodies["wells"] = wells_section_html(data.wells, site_ids, table_html)
+        order = SECTIONS[:-1] + [("wells", "Wells against background and standards")] + SECTIONS[-1:]
+    nav = "".join(f'<a href="#{sid}">{html.escape(t)}</a>' for sid, t in order)
+    sections = "".join(_section(sid, t, bodies[sid]) for sid, t in order)
     return (
         "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
         f"<title>{html.escape(title)}</title><style>{_CSS}</style>"

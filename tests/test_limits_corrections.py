@@ -171,3 +171,12 @@ def test_eu_aa_eqs_is_judged_on_the_calendar_year_mean(tmp_path):
     periods = period_table(out, lim)
     assert periods[["period", "statistic", "n_results", "n_nondetects"]].values.tolist() == [
         ["2021", "mean", 3, 1], ["2022", "mean", 2, 0]]
+
+
+def test_phase_ii_and_v_mcls_not_applied_before_they_took_effect():
+    """Cadmium (Phase II, 30 July 1992) and antimony (Phase V, 17 January 1994) MCLs: a result sampled the day
+    before has no US MCL in force, the day itself has (effective dates from memory, see the table's notes)."""
+    lim = load_limits(LIMITS / "us_epa_npdwr_inorganics.yaml")
+    rows = [("cadmium", "1992-07-29"), ("cadmium", "1992-07-30"), ("antimony", "1994-01-16"), ("antimony", "1994-01-17")]
+    out = screen(make_results([{"analyte": a, "sampled_at": d, "value": 1.0, "sample_id": a + d} for a, d in rows]), lim)
+    assert out["limit_ug_L"].isna().tolist() == [True, False, True, False]
