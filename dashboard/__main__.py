@@ -39,7 +39,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         app = create_app(results or None, args.limits, args.sites, options=load_options(args),
                          workspace=args.workspace, cross_fraction=args.cross_fraction, wells=wells_options(args),
-                         max_upload_bytes=int(args.max_upload_mb * 1e6))
+                         max_upload_bytes=int(args.max_upload_mb * 1e6), overlays=args.overlay)
     except (ValueError, OSError, KeyError, UserError) as exc:
         lines = str(exc).strip().splitlines()
         print(f"tracescreen dashboard: error: {lines[0] if lines else type(exc).__name__}", file=sys.stderr)

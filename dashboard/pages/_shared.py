@@ -37,6 +37,13 @@ class PageCallbacks:
         """Record a clientside callback (arguments as for ``app.clientside_callback``)."""
         self._client.append((args, kwargs))
 
+    def functions(self) -> dict[str, Callable]:
+        """The recorded server-side callback functions by name (the benchmark calls them directly)."""
+        out: dict[str, Callable] = {}
+        for _, _, fn in self._server:
+            out.setdefault(fn.__name__, fn)
+        return out
+
     def register(self, app) -> None:
         """Register every recorded callback on ``app``."""
         for args, kwargs, fn in self._server:

@@ -20,7 +20,8 @@ PAGE_SIZE = 25
 #: on screen the deciding columns come first; downloads keep the engine's column order
 COLUMNS = [
     Column("site_id", "Site", pinned=True, width=90), Column("sampled_at", "Sampled", "date", pinned=True),
-    Column("analyte", "Metal", pinned=True, width=110), Column("fraction", "Fraction", width=100),
+    Column("analyte", "Metal", pinned=True, width=110),
+    Column("chart", "Chart", "link", pinned=True, width=75), Column("fraction", "Fraction", width=100),
     Column("status", "Status", "status"), Column("result_text", "Result as reported", width=150),
     Column("unit", "Unit", width=80), Column("limit_ug_L", "Limit [µg/L]", "number", width=110),
     Column("ratio", "Ratio result/limit", "number", digits=3, width=150),
@@ -29,8 +30,7 @@ COLUMNS = [
     Column("value_ug_L", "Value [µg/L]", "number", width=110),
     Column("detection_limit_ug_L", "DL [µg/L]", "number", width=100),
     Column("source", "Source", "words", hidden=True), Column("note", "Note", "words"),
-    Column("chart", "Chart", "link"),
-]
+    ]
 
 
 def layout(**query):

@@ -70,8 +70,7 @@ def render_overview(session, uses, tables, fraction, start, end, campaigns, view
 
     def render():
         cells = cached_cell_table(session, filters)
-        totals = cells.attrs.get("latest_totals" if view == "latest" else "totals")
-        badges = status_badges(totals) if totals is not None else status_badges([0] * 6)
+        badges = status_badges(cells.latest_totals if view == "latest" else cells.totals)
         return badges, matrix_table(session, cells, filters, view, trends)
 
     return session.cached("overview_view", (filters, view, trends is not None), render)

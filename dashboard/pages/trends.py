@@ -21,7 +21,8 @@ callbacks = PageCallbacks()
 PAGE_SIZE = 25
 COLUMNS = [
     Column("site_id", "Site", pinned=True, width=90), Column("analyte", "Metal", pinned=True, width=110),
-    Column("fraction", "Fraction", pinned=True, width=100), Column("site_name", "Site name", width=200, hidden=True),
+    Column("fraction", "Fraction", pinned=True, width=100),
+    Column("chart", "Chart", "link", pinned=True, width=75), Column("site_name", "Site name", width=200, hidden=True),
     Column("direction_words", "Direction", width=190), Column("evidence", "Evidence of a trend", "words", width=280),
     Column("slope_per_year", "Slope [µg/L per year]", "number", width=170, digits=3),
     Column("slope_low", f"Slope, {1 - ALPHA:.0%} interval from", "number", width=190, digits=3),
@@ -32,7 +33,7 @@ COLUMNS = [
     Column("crosses_limit_on", "Trend line reaches it around", "date", width=210),
     Column("n", "Results", "number", width=100, digits=9), Column("n_nondetect", "Non-detects", "number", width=120, digits=9),
     Column("first_sampled", "First sampled", "date", width=130), Column("last_sampled", "Last sampled", "date", width=130),
-    Column("test", "Test", width=200), Column("note", "Notes", "words", width=360), Column("chart", "Chart", "link"),
+    Column("test", "Test", width=200), Column("note", "Notes", "words", width=360),
 ]
 
 

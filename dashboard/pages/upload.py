@@ -81,7 +81,7 @@ def layout(decimal_comma=None, date_order=None, fraction=None, sheet=None, encod
 # clears the message of the previous one
 callbacks.clientside_callback(
     """
-    function(contents, filename, cap) {
+    function(contents, filename, modified, cap) {
         if (!contents) { return [window.dash_clientside.no_update, "", window.dash_clientside.no_update]; }
         var bytes = Math.floor((contents.length - contents.indexOf(",") - 1) * 3 / 4);
         if (bytes > cap) {
@@ -93,7 +93,8 @@ callbacks.clientside_callback(
     }
     """,
     Output("up-file", "data"), Output("up-size-message", "children"), Output("up-added", "children"),
-    Input("up-results", "contents"), State("up-results", "filename"), State("up-cap", "data"),
+    Input("up-results", "contents"), Input("up-results", "filename"), Input("up-results", "last_modified"),
+    State("up-cap", "data"),
 )
 
 callbacks.clientside_callback(

@@ -33,18 +33,24 @@ def filter_controls(prefix: str, values: dict | None = None) -> html.Div:
     """Water use, limit table, fraction, date range and campaign filters (options filled by callback;
     ``values``: the shared filters read from the address, :func:`dashboard.views.url_state.shared_filters`)."""
     v = values or {}
+
+    def chosen(key):  # until the callback fills the options, the values read from the address are options
+        return [{"label": x, "value": x} for x in v.get(key) or []]
+
     return html.Div(
         [
             html.Div([html.Label("Water use", htmlFor=f"{prefix}-uses"),
-                      dcc.Dropdown(id=f"{prefix}-uses", multi=True, placeholder="all uses", value=v.get("uses") or [])],
+                      dcc.Dropdown(id=f"{prefix}-uses", multi=True, placeholder="all uses", value=v.get("uses") or [],
+                                   options=chosen("uses"))],
                      className="filter"),
             html.Div([html.Label("Limit table", htmlFor=f"{prefix}-tables"),
                       dcc.Dropdown(id=f"{prefix}-tables", multi=True, placeholder="all tables",
-                                   value=v.get("tables") or [])],
+                                   value=v.get("tables") or [], options=chosen("tables"))],
                      className="filter wide"),
             html.Div([html.Label("Fraction", htmlFor=f"{prefix}-fraction"),
                       dcc.Dropdown(id=f"{prefix}-fraction", value=v.get("fraction") or "all", clearable=False,
-                                   options=[{"label": "all fractions", "value": "all"}])],
+                                   options=[{"label": "all fractions", "value": "all"}]
+                                   + [{"label": f, "value": f} for f in [v.get("fraction")] if f and f != "all"])],
                      className="filter narrow"),
             html.Div([html.Label("Sampling dates", htmlFor=f"{prefix}-dates"),
                       dcc.DatePickerRange(id=f"{prefix}-dates", display_format="YYYY-MM-DD", clearable=True,
@@ -52,7 +58,7 @@ def filter_controls(prefix: str, values: dict | None = None) -> html.Div:
                      className="filter"),
             html.Div([html.Label("Campaign", htmlFor=f"{prefix}-campaigns"),
                       dcc.Dropdown(id=f"{prefix}-campaigns", multi=True, placeholder="all campaigns",
-                                   value=v.get("campaigns") or [])],
+                                   value=v.get("campaigns") or [], options=chosen("campaigns"))],
                      className="filter"),
         ],
         className="filters",

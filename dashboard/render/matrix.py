@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from html import escape
+from types import SimpleNamespace
 from urllib.parse import quote_plus
 
 import numpy as np
@@ -10,7 +11,7 @@ import pandas as pd
 from dash import html
 
 from dashboard.state.session import SessionData
-from dashboard.views.matrix import Filters, filter_query
+from dashboard.views.matrix import CellTable, Filters, filter_query
 from dashboard.views.trends import ARROW, DIRECTION_WORDS
 from tracescreen import vocabulary
 
@@ -52,7 +53,7 @@ def _trend_parts(trends: list | None, fractions: str) -> tuple[str, str]:
     return " ".join(arrows), "; ".join(words)
 
 
-def matrix_table(session: SessionData, cells: pd.DataFrame, filters: Filters, view: str = "worst",
+def matrix_table(session: SessionData, cells: CellTable, filters: Filters, view: str = "worst",
                  trends: dict | None = None) -> str:
     """Sites x metals table as HTML text; each cell shows the worst status over the period or the
     latest campaign's status (``view``), its glyph and words, counts, the other status as a glyph,
@@ -64,21 +65,22 @@ def matrix_table(session: SessionData, cells: pd.DataFrame, filters: Filters, vi
     """
     if cells.empty:
         return "<p id='matrix-empty'>No results match these filters.</p>"
-    analytes = sorted(cells["analyte"].unique())
-    by_cell = {(r.site_id, r.analyte): r for r in cells.itertuples(index=False)}
+    analytes = sorted(set(cells["analyte"].tolist()))
+    by_cell = {(r["site_id"], r["analyte"]): SimpleNamespace(**r) for r in cells.rows()}
 
     def e(text) -> str:
         return escape(str(text), quote=True)
 
     shared = filter_query(filters)
-    q_site = {sid: quote_plus(str(sid)) for sid in cells["site_id"].unique()}
+    site_ids = sorted(set(cells["site_id"].tolist()))
+    q_site = {sid: quote_plus(str(sid)) for sid in site_ids}
     q_metal = {a: quote_plus(str(a)) for a in analytes}
     label, glyph, short = vocabulary.LABEL, vocabulary.GLYPH, vocabulary.SHORT
     parts = ["<table class='matrix' id='matrix-table'><caption class='sr-only'>Worst status of each site and metal"
              "</caption><thead><tr><th scope='col'>Site</th>"]
     parts += [f"<th scope='col'>{e(a)}</th>" for a in analytes]
     parts.append("</tr></thead><tbody>")
-    for site_id in sorted(cells["site_id"].unique()):
+    for site_id in site_ids:
         name = session.site_name(site_id)
         parts.append(f"<tr><th scope='row'><span class='site-id'>{e(site_id)}</span>"
                      + (f"<br><span class='site-name'>{e(name)}</span>" if name != site_id else "") + "</th>")
@@ -117,11 +119,11 @@ def matrix_table(session: SessionData, cells: pd.DataFrame, filters: Filters, vi
     return "".join(parts)
 
 
-def cell_rows(session: SessionData, cells: pd.DataFrame, trends: dict | None) -> list[dict]:
+def cell_rows(session: SessionData, cells: CellTable, trends: dict | None) -> list[dict]:
     """The matrix as one row per site and metal (the "data as a table" view)."""
     label = vocabulary.LABEL
     out = []
-    for r in cells.itertuples(index=False):
+    for r in map(lambda d: SimpleNamespace(**d), cells.rows()):
         arrows, words = _trend_parts((trends or {}).get((r.site_id, r.analyte)), r.fractions)
         out.append({"site_id": r.site_id, "site_name": session.site_name(r.site_id), "analyte": r.analyte,
                     "fractions": r.fractions, "n_results": int(r.n_results), "n_exceeds": int(r.n_exceeds),

@@ -28,6 +28,11 @@ SINGLE = ("single_sample", "")
 BASIS_WORDS = {"running_annual_mean": "Running annual mean", "percentile": "Percentile over the period"}
 
 
+def _texts(frame: pd.DataFrame, col: str) -> np.ndarray:
+    """A text column's values ("" where the column is missing)."""
+    return text_values(frame[col]) if col in frame.columns else np.full(len(frame), "", dtype=object)
+
+
 def _num(v: float) -> str:
     return f"{v:.4g}" if np.isfinite(v) else "–"
 
@@ -68,7 +73,7 @@ def _exceeded_text(single: pd.DataFrame, rids: np.ndarray) -> np.ndarray:
     if not len(above):
         return out
     text = pd.Series([f"{_num(v)} µg/L {t}" + (f" ({d})" if d else "") for v, t, d in zip(
-        above["limit_ug_L"].to_numpy(float), text_values(above["limit_table"]), text_values(above["duration"]))])
+        above["limit_ug_L"].to_numpy(float), _texts(above, "limit_table"), _texts(above, "duration"))])
     joined = text.groupby(above["_rid"].to_numpy()).agg("; ".join)
     return pd.Series(rids).map(joined).fillna("").to_numpy(dtype=object)
 
@@ -90,13 +95,9 @@ def _point_trace(pts: pd.DataFrame, status: str, fraction: str, several: bool, w
     exceeded = pts["exceeded"].to_numpy(dtype=object)
     against = np.where(exceeded != "", "above " + exceeded.astype(str),
                        np.where(np.isfinite(limit), "limit " + np.char.mod("%.4g", limit) + " µg/L "
-                                + text_values(pts["limit_table"]).astype(str), "no single-sample limit"))
-    custom = np.column_stack([
-        text_values(pts["result_text"]), text_values(pts["unit"]), measured, against,
-        text_values(pts["sample_id"]), text_values(pts["lab"]) if "lab" in pts else np.full(len(pts), ""),
-        text_values(pts["batch"]) if "batch" in pts else np.full(len(pts), ""),
-        text_values(pts["qualifier"]) if "qualifier" in pts else np.full(len(pts), ""),
-    ])
+                                + _texts(pts, "limit_table").astype(str), "no single-sample limit"))
+    custom = np.column_stack([_texts(pts, c) for c in ("result_text", "unit")] + [measured, against]
+                             + [_texts(pts, c) for c in ("sample_id", "lab", "batch", "qualifier")])
     colour = vocabulary.COLOUR[status]
     name = vocabulary.LABEL[status] + f" ({len(pts)})"
     return {
@@ -118,20 +119,27 @@ def _point_trace(pts: pd.DataFrame, status: str, fraction: str, several: bool, w
 
 
 def merged_limit_lines(single: pd.DataFrame) -> list[dict]:
-    """Single-sample limits as step lines; lines with the same values on the same dates are one line
-    naming every table (and its source) that sets it."""
+    """Single-sample limits as step lines. Tables setting the same fixed value (for the same duration)
+    share one line over the dates any of them is in force, naming every table with its dates; a varying
+    (hardness-dependent) line is shared only when it is the same at every date."""
     from dashboard.render.figures import limit_steps
 
     lines: dict[tuple, dict] = {}
     for lim in limit_steps(single):
-        key = (tuple(np.asarray(lim["x"]).astype("datetime64[s]").astype(np.int64)), tuple(np.round(lim["y"], 9)),
-               lim["duration"])
+        x = np.asarray(lim["x"]).astype("datetime64[s]")
+        span = f"{str(x.min())[:10]} to {str(x.max())[:10]}"
+        key = ((tuple(x.astype(np.int64)), tuple(np.round(lim["y"], 9))) if lim["varies"]
+               else (round(float(lim["y"][0]), 9),)) + (lim["duration"],)
         if key in lines:
-            lines[key]["tables"].append(lim["table"])
-            lines[key]["sources"].append(lim["source"])
-            lines[key]["uses"].append(lim["use"])
+            line = lines[key]
+            if not lim["varies"]:
+                line["x"] = np.union1d(np.asarray(line["x"]).astype("datetime64[s]"), x)
+                line["y"] = np.full(len(line["x"]), float(lim["y"][0]))
+            for k, v in (("tables", lim["table"]), ("sources", lim["source"]), ("uses", lim["use"]), ("spans", span)):
+                line[k].append(v)
         else:
-            lines[key] = {**lim, "tables": [lim["table"]], "sources": [lim["source"]], "uses": [lim["use"]]}
+            lines[key] = {**lim, "x": x, "tables": [lim["table"]], "sources": [lim["source"]], "uses": [lim["use"]],
+                          "spans": [span]}
     return list(lines.values())
 
 
@@ -147,7 +155,8 @@ def _limit_trace(lim: dict, i: int, fraction: str, several: bool) -> dict:
     n = len(lim["x"])
     text = [""] * (n - 1) + [f"{_num(float(lim['y'][-1]))} µg/L {lim['tables'][0]}"
                              + (f" +{len(lim['tables']) - 1}" if len(lim["tables"]) > 1 else "")]
-    sources = "<br>".join(f"{t} ({u}): {_wrap(s)}" for t, u, s in zip(lim["tables"], lim["uses"], lim["sources"]))
+    sources = "<br>".join(f"{t} ({u}; in force {d}): {_wrap(s)}"
+                          for t, u, s, d in zip(lim["tables"], lim["uses"], lim["sources"], lim["spans"]))
     return {
         "type": "scatter", "mode": "lines+text", "x": _dates(lim["x"]), "y": lim["y"],
         "name": label + (f" · {fraction}" if several else ""), "text": text, "textposition": "top left",
@@ -175,7 +184,7 @@ def period_traces(rows: pd.DataFrame, fraction: str, several: bool) -> list[dict
         what = BASIS_WORDS.get(base, base.replace("_", " "))
         values, limits = g["period_value_ug_L"].to_numpy(float), g["limit_ug_L"].to_numpy(float)
         status = text_values(g["status"])
-        notes = text_values(g["note"]) if "note" in g else np.full(len(g), "")
+        notes = _texts(g, "note")
         x = _dates(g["sampled_at"])
         suffix = f" · {fraction}" if several else ""
         out.append({

@@ -27,25 +27,23 @@ class MergeCounts:
         return self.new + self.revised
 
 
-def _hashes(frame: pd.DataFrame) -> pd.DataFrame:
-    cols = {c: frame[c] if c in frame.columns else pd.Series([""] * len(frame), index=frame.index)
+def _hashes(frame: pd.DataFrame, blank: set) -> pd.DataFrame:
+    cols = {c: pd.Series([""] * len(frame), index=frame.index) if c in blank else frame[c]
             for c in RESULT_KEY + VALUE_COLUMNS}
     k, v = row_hashes(pd.DataFrame(cols).reset_index(drop=True))
     return pd.DataFrame({"k": k, "v": v, "result_id": np.arange(len(frame), dtype=np.int64)})
 
 
-def classify_upload(current: pd.DataFrame, incoming: pd.DataFrame,
-                    current_hashes: pd.DataFrame | None = None) -> tuple[np.ndarray, np.ndarray]:
+def classify_upload(current: pd.DataFrame, incoming: pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
     """Status of each incoming row (``new``, ``unchanged``, ``revised``) and the positions of the
-    current rows the revised ones replace."""
-    cur = _hashes(current) if current_hashes is None else current_hashes
-    return classify(_hashes(incoming), cur)
+    current rows the revised ones replace (a column only one side has is left out of the comparison)."""
+    blank = {c for c in RESULT_KEY + VALUE_COLUMNS if c not in current.columns or c not in incoming.columns}
+    return classify(_hashes(incoming, blank), _hashes(current, blank))
 
 
-def merge_upload(current: pd.DataFrame, incoming: pd.DataFrame,
-                 current_hashes: pd.DataFrame | None = None) -> tuple[list[pd.DataFrame], MergeCounts]:
+def merge_upload(current: pd.DataFrame, incoming: pd.DataFrame) -> tuple[list[pd.DataFrame], MergeCounts]:
     """The parts of the merged results (current rows kept, then the incoming rows added) and the counts."""
-    status, superseded = classify_upload(current, incoming, current_hashes)
+    status, superseded = classify_upload(current, incoming)
     keep = np.ones(len(current), dtype=bool)
     keep[superseded] = False
     added = incoming.loc[status != "unchanged"]

@@ -18,6 +18,7 @@ class RequestBook:
         self.workspace = workspace
         self._memory = pd.DataFrame({c: pd.Series(dtype=object) for c in STORED_COLUMNS})
         self._lock = threading.Lock()
+        self._changes = 0
 
     @property
     def kept(self) -> str:
@@ -30,6 +31,13 @@ class RequestBook:
 
         with open_workspace(self.workspace) as ws:
             return fn(ws.con)
+
+    def version(self) -> tuple:
+        """Changes whenever a status is recorded (here, or in the workspace by another process)."""
+        if self.workspace is not None:
+            return self._with_workspace(lambda con: tuple(con.execute(
+                "SELECT count(*), coalesce(max(updated_at), '') FROM retest_requests").fetchone()))
+        return (self._changes,)
 
     def lines(self) -> pd.DataFrame:
         """Every stored line with its status."""
@@ -55,6 +63,7 @@ class RequestBook:
             add = new[~new["request_id"].isin(self._memory["request_id"])].assign(
                 status=status, requested_at=stamp, updated_at=stamp, note="")
             self._memory = pd.concat([self._memory, add.fillna("")], ignore_index=True)
+            self._changes += 1
             return len(new)
 
     def set_status(self, request_ids, status: str) -> int:
@@ -68,4 +77,5 @@ class RequestBook:
         with self._lock:
             hit = self._memory["request_id"].isin([str(i) for i in request_ids])
             self._memory.loc[hit, ["status", "updated_at"]] = [status, pd.Timestamp.now(tz="UTC").isoformat()]
+            self._changes += 1
             return int(hit.sum())

@@ -235,7 +235,7 @@ def cell_table(session: SessionData, f: Filters) -> pd.DataFrame:
         return np.where(v == missing, np.datetime64("NaT"), out)
 
     lw = worst_status(latest_counts[has])
-    out = pd.DataFrame({
+    return CellTable({
         "site_id": np.asarray(session.site_ids, dtype=object)[has // n_a],
         "analyte": np.asarray(session.analytes, dtype=object)[has % n_a],
         "n_results": counts[has].sum(axis=1),
@@ -247,12 +247,44 @@ def cell_table(session: SessionData, f: Filters) -> pd.DataFrame:
         "latest_exceeds": latest_counts[has, vocabulary.RANKED.index("exceeds")],
         "first_exceedance": dates(first_ex, no_day),
         "last_exceedance": dates(last_ex, np.iinfo(np.int64).min),
-        "fractions": [", ".join(session.fractions[i] for i in range(n_f) if b >> i & 1) for b in frac_bits[has]],
-    })
-    # results per status over the period and in each cell's latest campaign (the badges)
-    out.attrs["totals"] = counts.sum(axis=0)
-    out.attrs["latest_totals"] = latest_counts.sum(axis=0)
-    return out
+        "fractions": _fraction_names(session, frac_bits[has], n_f),
+    }, counts.sum(axis=0), latest_counts.sum(axis=0))
+
+
+def _fraction_names(session: SessionData, bits: np.ndarray, n_f: int) -> np.ndarray:
+    """"total, dissolved" for each cell's set of fractions (one text per distinct set)."""
+    names = {b: ", ".join(session.fractions[i] for i in range(n_f) if b >> i & 1) for b in np.unique(bits).tolist()}
+    return np.asarray([names[b] for b in bits.tolist()], dtype=object)
+
+
+@dataclass
+class CellTable:
+    """:func:`cell_table`: one array per column (:data:`CELL_COLUMNS`), and the results per status over the
+    period (``totals``) and in each cell's latest campaign (``latest_totals``), worst first."""
+
+    columns: dict
+    totals: np.ndarray
+    latest_totals: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.columns["site_id"])
+
+    @property
+    def empty(self) -> bool:
+        """No cell has results."""
+        return len(self) == 0
+
+    def __getitem__(self, name: str) -> np.ndarray:
+        return self.columns[name]
+
+    def rows(self):
+        """Each cell as a dict of its columns (a few hundred cells: plain Python is fine)."""
+        cols = [self.columns[c] for c in CELL_COLUMNS]
+        return (dict(zip(CELL_COLUMNS, values)) for values in zip(*cols))
+
+    def frame(self) -> pd.DataFrame:
+        """The cells as a DataFrame."""
+        return pd.DataFrame(self.columns)[CELL_COLUMNS]
 
 
 def cached_cell_table(session: SessionData, f: Filters) -> pd.DataFrame:

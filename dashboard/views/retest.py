@@ -38,9 +38,16 @@ def reason_totals(frame: pd.DataFrame) -> pd.DataFrame:
 def request_frame(session: SessionData, as_of: str | None, book) -> pd.DataFrame:
     """The request lines of the session on the request date ``as_of`` with their stored status, and the
     lines requested earlier that are still open though the data no longer flags them."""
-    from tracescreen.retest.request import request_lines
 
     day = pd.Timestamp(as_of).normalize() if as_of else pd.Timestamp.now().normalize()
+    version = book.version()
+    return session.cached("request_frame", (str(day.date()), version), lambda: _request_frame(session, day, book),
+                          size=4)
+
+
+def _request_frame(session: SessionData, day: pd.Timestamp, book) -> pd.DataFrame:
+    from tracescreen.retest.request import request_lines
+
     lines = session.cached("request_lines", (str(day.date()),), lambda: request_lines(retest_frame(session), day), size=4)
     stored = book.lines()
     status = stored.set_index("request_id")["status"] if len(stored) else pd.Series(dtype=object)
@@ -55,8 +62,7 @@ def request_frame(session: SessionData, as_of: str | None, book) -> pd.DataFrame
         out = pd.concat([out, earlier.fillna("")], ignore_index=True)
     out["status_words"] = out["status"].map(STATUS_WORDS).fillna(out["status"])
     out = out.sort_values(["lab", "batch", "site_id", "sampled_at", "sample_id"], kind="stable").reset_index(drop=True)
-    out.attrs["version"] = (str(day.date()), len(stored),
-                            str(stored["updated_at"].max()) if len(stored) else "")
+    out.attrs["version"] = (str(day.date()), book.version())
     return out
 
 

@@ -60,22 +60,29 @@ def fraction_options(session: SessionData) -> list[dict]:
     return [{"label": f, "value": f} for f in session.fractions] + [{"label": "all fractions", "value": "all"}]
 
 
+#: the columns the chart, its hover, its table and the trend read (a series' rows are taken with these only)
+CHART_COLUMNS = ("_rid", "site_id", "analyte", "fraction", "sampled_at", "sample_id", "sample_type", "result_text",
+                 "unit", "value_ug_L", "detection_limit_ug_L", "detected", "qualifier", "lab", "batch", "status",
+                 "basis", "limit_ug_L", "limit_table", "duration", "use", "source", "note", "period_value_ug_L")
+
+
 def selection_rows(session: SessionData, site, analyte, fraction, filters: Filters | None = None) -> dict:
     """Fraction -> screened rows of that series passing the page's filters (site samples; the same rows
-    the overview counts), for one fraction or every fraction (``"all"``)."""
+    the overview counts), for one fraction or every fraction (``"all"``); the chart's columns only."""
     wanted = session.fractions if fraction == "all" else [fraction]
+    cols = [c for c in CHART_COLUMNS if c in session.screened.columns]
     out = {}
     for f in wanted:
         lo, hi = session.series_bounds(site, analyte, f)
         if hi <= lo:
             continue
         if filters is None or filters == Filters():
-            out[f] = session.screened.iloc[lo:hi]
+            out[f] = session.screened.iloc[lo:hi][cols]
         else:
             mask = row_mask(session, filters.without_fraction(), lo, hi)
-            out[f] = session.screened.iloc[lo + np.flatnonzero(mask)]
+            out[f] = session.screened.iloc[lo + np.flatnonzero(mask)][cols]
     if fraction != "all" and not out and fraction in session.fractions:
-        out[fraction] = session.screened.iloc[0:0]
+        out[fraction] = session.screened.iloc[0:0][cols]
     return out
 
 

@@ -86,8 +86,11 @@ def holding_time_end(sampled_at: pd.Series, analytes: pd.Series, holding_times: 
     return out
 
 
-def _join(values) -> str:
-    return "; ".join(dict.fromkeys(v for v in values if v))
+def _joined(r: pd.DataFrame, col: str, sep: str) -> pd.Series:
+    """Per group ``g``, the distinct non-empty values of ``col`` in their first order, joined (one
+    pass: duplicates dropped first, so each group joins only its own distinct values)."""
+    d = r.loc[r[col] != "", ["g", col]].drop_duplicates()
+    return d.groupby("g", sort=True)[col].agg(sep.join)
 
 
 def request_id(lab: str, batch: str, site: str, sample: str, sampled_at) -> str:
@@ -125,14 +128,15 @@ def request_lines(retest: pd.DataFrame, as_of=None, holding_times: dict | None =
     r["ends"] = holding_time_end(r["sampled_at"], r["analyte"], holding_times)
     r["action"] = r["reason"].map(REASON_ACTION).fillna(DEFAULT_ACTION)
     keys = ["lab", "batch", "site_id", "sample_id", "sampled_at"]
-    groups = r.groupby(keys, sort=True, dropna=False)
-    out = groups.agg(
-        analytes=("analyte", _join), fractions=("fraction", _join), reason_codes=("reason", lambda v: ";".join(dict.fromkeys(v))),
-        holding_time_ends=("ends", "min"),
-        details=("detail", lambda v: " | ".join(dict.fromkeys(d for d in v if d))),
-        n_resample=("action", lambda v: int((v == "resample").sum())),
-        n_reanalyse=("action", lambda v: int((v == "reanalyse").sum())),
-    ).reset_index()
+    r["g"] = r.groupby(keys, sort=True, dropna=False).ngroup()
+    out = r.drop_duplicates("g").set_index("g").sort_index()[keys]
+    for col, name, sep in (("analyte", "analytes", "; "), ("fraction", "fractions", "; "), ("reason", "reason_codes", ";"),
+                           ("detail", "details", " | ")):
+        out[name] = _joined(r, col, sep).reindex(out.index).fillna("")
+    out["holding_time_ends"] = r.groupby("g")["ends"].min()
+    for a in ("resample", "reanalyse"):
+        out[f"n_{a}"] = r["action"].eq(a).groupby(r["g"]).sum()
+    out = out.reset_index(drop=True)
     codes = out["reason_codes"].str.split(";")
     out["reasons"] = codes.map(lambda cs: "; ".join(REASON_WORDS.get(c, c.replace("_", " ")) for c in cs))
     past = out["holding_time_ends"].notna() & (out["holding_time_ends"] < as_of)
