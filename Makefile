@@ -21,7 +21,8 @@ DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
                 --columns scenario_data/columns_eastbank.yaml
 
 DEMO_WS      := out/demo-workspace
-# where `make run` serves the dashboard: make run PORT=8123 HOST=0.0.0.0
+# where `make run` serves the dashboard: make run PORT=8060 HOST=127.0.0.1 (HOST=0.0.0.0 opens it to the
+# network: the dashboard has no login, so only on a trusted network; README "Serving the dashboard")
 PORT         ?= 8050
 HOST         ?= 127.0.0.1
 
@@ -36,7 +37,8 @@ screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
 
 report: setup
-	$(VENV)/bin/tracescreen report $(DEMO_DATA) --out out/demo/report.html --xlsx out/demo/report.xlsx
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) --cover scenario_data/report_cover.yaml --out out/demo/report.html \
+		--pdf out/demo/report.pdf --docx out/demo/report.docx --xlsx out/demo/report.xlsx
 
 test: setup
 	$(VENV)/bin/ruff check .

@@ -12,7 +12,7 @@ from dashboard.state.store import current_session, current_store
 from dashboard.views.links import chart_href
 from dashboard.views.matrix import Filters, cached_status_counts, site_worst
 from dashboard.views.url_state import shared_filters
-from tracescreen.report.figures import PLOTLY_CONFIG
+from tracescreen.report.charts import PLOTLY_CONFIG
 
 dash.register_page(__name__, path="/map", name="Map", order=1, title="tracescreen · map")
 callbacks = PageCallbacks()

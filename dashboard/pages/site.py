@@ -12,7 +12,7 @@ from dashboard.views.matrix import Filters
 from dashboard.views.series import analyte_options, default_selection, fraction_options, site_options
 from dashboard.views.url_state import as_choice, as_text, shared_filters
 from dashboard.views.wells import site_overlay
-from tracescreen.report.figures import PLOTLY_CONFIG
+from tracescreen.report.charts import PLOTLY_CONFIG
 
 dash.register_page(__name__, path="/site", name="Site & metal", order=2,
                    title="tracescreen · site and metal")

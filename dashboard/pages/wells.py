@@ -11,7 +11,7 @@ from dashboard.render.grid import Column, client_grid
 from dashboard.state.store import current_session
 from dashboard.views.url_state import as_text
 from dashboard.views.wells import CI_COLUMNS, SEQUENCE_COLUMNS, series_options, series_view, wells_tables
-from tracescreen.report.figures import PLOTLY_CONFIG
+from tracescreen.report.charts import PLOTLY_CONFIG
 
 dash.register_page(__name__, path="/wells", name="Wells", order=2.5, title="tracescreen · wells against background")
 callbacks = PageCallbacks()

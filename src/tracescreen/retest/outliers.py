@@ -10,7 +10,8 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_number
-from tracescreen.retest.rows import SERIES_KEY, empty_retest, results_from_screening, retest_rows, site_samples, ug
+from tracescreen.retest.rows import SERIES_KEY, empty_retest, results_from_screening, retest_rows, ug
+from tracescreen.statistics.series import site_samples
 
 
 def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
@@ -32,9 +33,7 @@ def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
 
     References
     ----------
-    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Basic
-       References in Quality Control, vol. 16. Milwaukee: ASQC Quality Press. (|M| > 3.5 labelled
-       as potential outliers.)
+    [IglewiczHoaglin1993]_ (docs/references.md)
     """
     med = np.median(history, axis=1)
     dev = np.abs(history - med[:, None])
@@ -146,8 +145,7 @@ def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
 
     References
     ----------
-    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Quality
-       Press.
+    [IglewiczHoaglin1993]_ (docs/references.md)
     """
     res = site_samples(results_from_screening(results))
     det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]
