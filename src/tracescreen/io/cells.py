@@ -21,9 +21,8 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 from tracescreen.vocabulary import DATE_ORDERS
 
 FRACTION_VOCAB = {
@@ -58,8 +57,8 @@ def _code_key(code) -> str:
 
 @functools.cache
 def _data(name: str) -> dict:
-    return yaml.load(resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8"),
-                     Loader=SAFE_LOADER)
+    return parse_yaml(resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8"),
+                      f"{name}.yaml")
 
 
 def _fractions_from_data() -> tuple[dict[str, str], dict[str, str]]:

@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import SAFE_LOADER, YamlError, read_yaml
 from tracescreen.io import analytes, units
 from tracescreen.limits import forms, scope
 from tracescreen.limits.evaluate import (  # noqa: F401  (re-exported: evaluation used to live here)
@@ -231,17 +231,12 @@ def _table_dates(row: dict, table: dict, label: str) -> None:
 
 def _read_yaml(p: Path):
     """The YAML document of a limit-table file (a missing file, bad text or YAML raise LimitTableError)."""
-    name = p.name
-    try:
-        return yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+    try:  # repeated keys, aliases and object tags are refused, 1e-2 is a number (_internal.yamlfiles)
+        return read_yaml(p, item_names={"entries": "entry"})
     except FileNotFoundError:
         raise LimitTableError(f"{p}: limit table not found") from None
-    except UnicodeDecodeError:
-        raise LimitTableError(f"{name}: not UTF-8 text") from None
-    except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f" at line {mark.line + 1}" if mark is not None else ""
-        raise LimitTableError(f"{name}: not valid YAML{where}") from None
+    except YamlError as exc:
+        raise LimitTableError(str(exc)) from None
 
 
 def _check_table_keys(data, name: str) -> None:
