@@ -44,7 +44,9 @@ def main(argv: list[str] | None = None) -> int:
         return 2
     print(f"CAUTION: {CAUTION}", file=sys.stderr)
     print(f"Dashboard on http://{args.host}:{args.port}/  (Ctrl+C to stop)", file=sys.stderr)
-    app.run(host=args.host, port=args.port, debug=args.debug)
+    from dashboard.server import serve
+
+    serve(app, args.host, args.port, debug=args.debug)  # uploads removed on Ctrl+C or SIGTERM
     return 0
 
 

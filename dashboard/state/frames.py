@@ -75,4 +75,9 @@ def accepted_from_session(session: SessionData) -> pd.DataFrame:
     added = {"hardness_used_mg_L", "hardness_origin", "limit_table", "use", "duration", "basis",
              "limit_ug_L", "ratio", "status", "source", "note", "_rid", "campaign"}
     acc = session.screened.iloc[starts]
-    return engine_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
+    acc = acc[[c for c in acc.columns if c not in added]].reset_index(drop=True)
+    extra = session.result_columns
+    if extra is not None and len(extra.columns):  # the columns screening does not carry, by result
+        rids = session.rid[starts]
+        acc = acc.assign(**{c: extra[c].iloc[rids].to_numpy() for c in extra.columns})
+    return engine_frame(acc)

@@ -9,6 +9,7 @@ mutable global: the :class:`DataStore` belongs to one app (``app.server.extensio
 
 from __future__ import annotations
 
+import re
 import tempfile
 import threading
 from collections import OrderedDict
@@ -23,6 +24,8 @@ from tracescreen._internal.memory import release_unused
 from tracescreen.screening.parts import join_frames
 
 STORE_EXTENSION = "tracescreen"
+#: An upload's token: the first 16 hex digits of its content hash (:func:`content_token`).
+TOKEN = re.compile(r"^[0-9a-f]{16}$")
 
 
 # ---- building ---------------------------------------------------------------------------------
@@ -72,6 +75,22 @@ def session_nbytes(session: SessionData) -> int:
     arrays = (session.rank, session.site_code, session.analyte_code, session.fraction_code, session.table_code,
               session.use_code, session.campaign_code, session.day, session.series_key)
     return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
+
+
+def safe_upload_name(filename: str) -> str:
+    """The name an upload is kept under: its last path part, control and path characters replaced,
+    at most 120 characters with its suffix kept (a browser may send any text as a file name).
+
+    >>> safe_upload_name("../../x\x00y" + "z" * 300 + ".CSV")[-10:], safe_upload_name("..")
+    ('zzzzzz.CSV', 'upload')
+    """
+    name = re.split(r"[/\\]", str(filename))[-1]
+    name = re.sub(r"[\x00-\x1f\x7f-\x9f:*?\"<>|]", "_", name).strip(" .")
+    stem, dot, suffix = name.rpartition(".")
+    if not dot or len(suffix) > 10:
+        stem, suffix = name, ""
+    stem = stem[: 120 - len(suffix) - 1]
+    return (f"{stem}.{suffix}" if suffix else stem) or "upload"
 
 
 # ---- the per-app store ------------------------------------------------------------------------
@@ -128,6 +147,13 @@ class DataStore:
         """The sites table of the base inputs (None without a sites file)."""
         return self.base_inputs().sites
 
+    def close(self) -> None:
+        """Remove the uploaded files kept in the store's own temporary folder (when the server stops)."""
+        with self._lock:
+            self._cache.clear()
+            if self._tmp is not None:
+                self._tmp.cleanup()
+
     # uploads
     def upload_path(self, token: str) -> Path:
         """The folder that keeps the upload named ``token``."""
@@ -135,10 +161,11 @@ class DataStore:
 
     def save_upload(self, filename: str, content: bytes, mapping: bytes | None) -> str:
         """Keep an uploaded file (and its column mapping) on disk; return its token."""
-        token = content_token(filename.encode(), content, mapping or b"")
+        name = safe_upload_name(filename)
+        token = content_token(name.encode(), content, mapping or b"")
         folder = self.upload_path(token)
         folder.mkdir(parents=True, exist_ok=True)
-        (folder / Path(filename).name).write_bytes(content)
+        (folder / name).write_bytes(content)
         if mapping:
             (folder / "_columns.yaml").write_bytes(mapping)
         return token
@@ -169,9 +196,30 @@ class DataStore:
                 release_unused()
             return self._base_session
 
+    def resolve(self, key) -> tuple[str, list[str]]:
+        """The server's own dataset key for a key sent by a browser, and what it had to drop.
+
+        The key comes from the browser and is never trusted: only tokens of uploads this server
+        keeps count, each once, in the order added; anything else (a token repeated, unknown after a
+        restart, not a token at all) is dropped and listed.
+        """
+        parts = key.split("+") if isinstance(key, str) and len(key) < 10_000 else []
+        kept, dropped = [], []
+        for t in parts[1:]:
+            if t in kept:
+                continue
+            if TOKEN.match(t) and self.upload_path(t).is_dir():
+                kept.append(t)
+            else:
+                dropped.append(t[:40])
+        if key is not None and not isinstance(key, str) or (parts and parts[0] != BASE_KEY):
+            dropped.append(str(key)[:40])
+        return "+".join([BASE_KEY, *kept]), dropped
+
     def get(self, key: str | None) -> SessionData:
-        """The session data for a dataset key (unknown tokens fall back to the base data)."""
-        tokens = [t for t in (key or "").split("+")[1:] if t]
+        """The session data for a dataset key (resolved by :meth:`resolve`: only known uploads, once each)."""
+        key, _ = self.resolve(key)
+        tokens = key.split("+")[1:]
         if not tokens:
             return self.base_session()
         with self._lock:
@@ -191,11 +239,16 @@ class DataStore:
         base = self.base_session()
         accepted, rejected, files, kept = [accepted_from_session(base)], [base.rejected], [base.files], []
         aside = [base.set_aside]
+        seen = set(base.files["sha256"]) if "sha256" in base.files else set()
         for token in tokens:
             try:
                 loaded = self.load_upload(token)
             except (KeyError, ValueError, OSError):
                 continue
+            digests = set(loaded.files["sha256"]) if "sha256" in loaded.files else set()
+            if digests & seen:  # the same file's bytes are never counted twice (base or another upload)
+                continue
+            seen |= digests
             accepted.append(loaded.accepted)
             rejected.append(loaded.rejected)
             aside.append(loaded.set_aside)

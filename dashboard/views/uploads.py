@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from dashboard.state.store import DataStore
+from dashboard.state.store import DataStore, safe_upload_name
 
 RESULT_SUFFIXES = (".csv", ".xlsx")
 MAPPING_SUFFIXES = (".yaml", ".yml")
@@ -42,8 +42,9 @@ def human_size(n: int) -> str:
 def decode_upload(contents: str | None, filename: str | None, max_bytes: int,
                   suffixes: tuple[str, ...] = RESULT_SUFFIXES) -> bytes:
     """Bytes of a ``dcc.Upload`` value (``data:<type>;base64,<data>``), checked and size-capped."""
-    if not contents or not filename:
+    if not isinstance(contents, str) or not isinstance(filename, str) or not contents or not filename:
         raise UploadError("No file received.")
+    filename = safe_upload_name(filename)
     if Path(filename).suffix.lower() not in suffixes:
         raise UploadError(f"{filename}: expected a {' or '.join(s[1:].upper() for s in suffixes)} file.")
     _, _, data = contents.partition(",")
@@ -74,7 +75,8 @@ def preview_upload(store: DataStore, contents: str | None, filename: str | None,
     mapping = None
     if mapping_contents:
         mapping = decode_upload(mapping_contents, mapping_filename, store.max_upload_bytes, MAPPING_SUFFIXES)
-    token = store.save_upload(Path(filename).name, raw, mapping)
+    filename = safe_upload_name(filename)
+    token = store.save_upload(filename, raw, mapping)
     try:
         loaded = store.load_upload(token)
     except (ValueError, OSError, KeyError) as exc:

@@ -37,12 +37,13 @@ def _user_error_types() -> tuple[type[BaseException], ...]:
     from tracescreen.io.loading import LoadError
     from tracescreen.io.sites import SitesError
     from tracescreen.limits.load import LimitTableError
+    from tracescreen.report.output_folder import OutputError
     from tracescreen.retest.calibration.reading import CalibrationFileError
     from tracescreen.retest.labqc.reading import QcFileError
     from tracescreen.store.workspace import WorkspaceError
 
     return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
-            WorkspaceError, QcFileError, CalibrationFileError)
+            WorkspaceError, QcFileError, CalibrationFileError, OutputError)
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -36,8 +36,11 @@ def run(args) -> int:
     from tracescreen import pipeline
     from tracescreen.report import writers as outputs
     from tracescreen.report.html import build_report_html
+    from tracescreen.report.output_folder import OutputError, check_target, write_atomic
     from tracescreen.report.tables import report_data, report_tables
 
+    for target in [Path(args.out)] + ([Path(args.xlsx)] if args.xlsx else []):
+        check_target(target.parent, file=target)  # before the work, not after it
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
                                record_run=args.command, lab_qc=lab_qc_options(args))
@@ -54,12 +57,14 @@ def run(args) -> int:
         "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
                       f"at least {args.min_trend_values} values"})
     out = Path(args.out)
-    out.parent.mkdir(parents=True, exist_ok=True)
-    out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
+    html = build_report_html(data, site_ids, args.title)
+    write_atomic(out, lambda p: p.write_text(html, encoding="utf-8"))  # whole or not at all
     print(f"Report: {out}")
     if args.xlsx:
         try:
-            path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx)
+            path = write_atomic(args.xlsx, lambda p: outputs.write_xlsx(report_tables(data, site_ids), p))
+        except OutputError:
+            raise
         except ValueError as exc:  # a table longer than a sheet holds
             raise UserError(f"--xlsx {args.xlsx}: {exc}") from None
         print(f"Workbook: {path}")

@@ -6,10 +6,9 @@ with the limit tables. One CSV per method, every input and decision recorded."""
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
 from . import UserError
-from .common import add_reading_options, print_caution, results_from_args, warn
+from .common import add_reading_options, output_folder, print_caution, results_from_args, warn
 
 #: Output file of each table.
 FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "well_data": "well_data.csv",
@@ -106,11 +105,11 @@ def run(args) -> int:
     from tracescreen.io.network import NetworkError, read_network
     from tracescreen.io.sites import load_sites
     from tracescreen.limits.load import load_limits
-    from tracescreen.report import writers as outputs
     from tracescreen.screening.screen import screen
     from tracescreen.statistics.background.run import well_statistics
 
     design = design_from_args(args)
+    folder = output_folder(args)
     network_path = args.network or args.sites
     if not network_path:
         raise UserError("give --network FILE (or --sites with role and well_group columns)")
@@ -134,9 +133,10 @@ def run(args) -> int:
     if unknown:
         warn(f"{len(unknown)} network well(s) without accepted results: {', '.join(unknown[:5])}")
     tables = well_statistics(loaded.accepted, network, design, screened, args.background_standard)
-    out = Path(args.out)
-    paths = {name: outputs.write_csv(tables[name], out / FILES[name]) for name in FILES}
-    paths["rejected"] = outputs.write_csv(loaded.rejected, out / "rejected.csv")
+    with folder:
+        paths = {name: folder.csv(name, tables[name], FILES[name]) for name in FILES}
+        paths["rejected"] = folder.csv("rejected", loaded.rejected, "rejected.csv")
+        paths["manifest"] = folder.commit()
     _print_summary(tables, loaded)
     print("\nOutputs:")
     for name, path in paths.items():

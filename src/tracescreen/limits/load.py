@@ -134,6 +134,25 @@ def _hardness_formula(e: dict, label: str, row: dict) -> None:
         if lo > hi:
             raise LimitTableError(f"{label}: key 'hardness_range': min {lo} is above max {hi}")
         row["hardness_min"], row["hardness_max"] = lo, hi
+    _check_formula_range(row, label)
+
+
+#: Hardness values [mg/L as CaCO3] at which a formula must give a finite limit above 0 (within its range).
+FORMULA_CHECK_HARDNESS = (1.0, 10.0, 100.0, 1000.0, 10000.0)
+
+
+def _check_formula_range(row: dict, label: str) -> None:
+    """A hardness formula whose limit is infinite, 0 or negative at a plausible hardness is a load error
+    (it would make every result "meets" or "exceeds")."""
+    h = np.array(FORMULA_CHECK_HARDNESS)
+    with np.errstate(over="ignore", invalid="ignore"):
+        v = hardness_formula_limit(row["hf_m"], row["hf_b"], row["hf_cf"], row["hf_cf_intercept"],
+                                   row["hf_cf_ln_slope"], h, row["hardness_min"], row["hardness_max"])
+    bad = ~(np.isfinite(v) & (v > 0))
+    if bad.any():
+        raise LimitTableError(f"{label}: key 'hardness_formula': the limit is {v[bad][0]:g} at hardness "
+                              f"{h[bad][0]:g} mg/L (it must be finite and above 0 from 1 to 10,000 mg/L, "
+                              "within hardness_range); check m, b and cf")
 
 
 def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
