@@ -1,6 +1,6 @@
 """Published values of the shipped limit tables, each with the document it comes from.
 
-This is the outside reference that ``tests/test_published_limits.py`` checks the files in ``limits/``
+This is the outside reference that ``tests/test_limits_published.py`` checks the files in ``limits/``
 against. Each record names the primary document (table, section or annex) and where the value was
 confirmed:
 
@@ -9,7 +9,7 @@ confirmed:
 - ``memory``: not confirmed against any stored copy; re-check against the primary document.
 
 Each value has exactly one status, the same as the YAML comment above its entry in ``limits/``
-(``tests/test_published_limits.py`` checks that they agree and prints every value still from memory).
+(``tests/test_limits_published.py`` checks that they agree and prints every value still from memory).
 Values are in the unit the document prints them in. A computed limit carries its form's parameters
 (``form``, as the YAML states them) and ``worked``: values the document (or, where marked, memory)
 gives for stated inputs, each ``(inputs, value, where)``.

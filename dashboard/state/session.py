@@ -42,6 +42,7 @@ class Inputs:
     sites_name: str = "the sites file"
     set_aside: pd.DataFrame | None = None  # rows that are not results to screen (lab QC, other analytes)
     cross_fraction: bool = True  # screening option: decide across fractions where certain
+    wells: Any = None  # tracescreen.pipeline.WellsOptions: wells against background, or None
 
 
 @dataclass
@@ -78,6 +79,7 @@ class SessionData:
     campaign_code: np.ndarray
     day: np.ndarray  # sampling date as int32 days since 1970-01-01 (NO_DAY when undated)
     series_key: np.ndarray
+    wells_options: Any = None  # tracescreen.pipeline.WellsOptions, or None
     # per result (row = _rid): the accepted columns screening does not carry (own hardness, pH, DOC,
     # temperature, quantitation limit), so that the results can be screened again with uploads
     result_columns: pd.DataFrame | None = field(default=None, repr=False)
@@ -267,6 +269,7 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame, result_columns: pd.
         campaign_code=campaign_code,
         day=day,
         series_key=series_key,
+        wells_options=inputs.wells,
         result_columns=result_columns,
     )
 

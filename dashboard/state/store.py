@@ -30,13 +30,14 @@ TOKEN = re.compile(r"^[0-9a-f]{16}$")
 
 # ---- building ---------------------------------------------------------------------------------
 def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None,
-                cross_fraction: bool = True) -> Inputs:
+                cross_fraction: bool = True, wells=None) -> Inputs:
     """Load result files, limit tables and sites with the engine's pipeline (user errors raise ValueError).
 
     ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
     the optional ``columns`` mapping file. With ``workspace`` (a folder), the current results of
     that workspace are used instead of ``results`` (one consistent state, even during an import).
     ``cross_fraction`` is the screening option of the same name (``--same-fraction-only`` turns it off).
+    ``wells`` (:class:`tracescreen.pipeline.WellsOptions`) adds the wells-against-background page's data.
     """
     from tracescreen import pipeline
 
@@ -57,6 +58,7 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
         sites_name=Path(sites).name if sites is not None else "the sites file",
         set_aside=loaded.set_aside,
         cross_fraction=cross_fraction,
+        wells=wells,
     )
 
 
@@ -200,11 +202,15 @@ class DataStore:
         """The server's own dataset key for a key sent by a browser, and what it had to drop.
 
         The key comes from the browser and is never trusted: only tokens of uploads this server
-        keeps count, each once, in the order added; anything else (a token repeated, unknown after a
-        restart, not a token at all) is dropped and listed.
+        keeps count, each once, in the order added (a repeated token counts once); anything else (a
+        token unknown after a restart, not a token at all) is dropped and listed.
         """
-        parts = key.split("+") if isinstance(key, str) and len(key) < 10_000 else []
-        kept, dropped = [], []
+        if key in (None, "", BASE_KEY):
+            return BASE_KEY, []
+        if not isinstance(key, str) or len(key) > 10_000:
+            return BASE_KEY, [str(key)[:40]]
+        parts = key.split("+")
+        kept, dropped = [], [] if parts[0] == BASE_KEY else [parts[0][:40]]
         for t in parts[1:]:
             if t in kept:
                 continue
@@ -212,8 +218,6 @@ class DataStore:
                 kept.append(t)
             else:
                 dropped.append(t[:40])
-        if key is not None and not isinstance(key, str) or (parts and parts[0] != BASE_KEY):
-            dropped.append(str(key)[:40])
         return "+".join([BASE_KEY, *kept]), dropped
 
     def get(self, key: str | None) -> SessionData:

@@ -3,11 +3,8 @@
 A cell of a lab file may hold control characters: ANSI escape sequences that recolour or clear a
 terminal, carriage returns that overwrite a message, NULs. Wherever file content is echoed (error
 messages, warnings, rejection reasons, ``history`` output) it goes through :func:`printable`,
-which shows each control character as a visible escape (``\\x1b``) instead of sending it.
-
-References
-----------
-.. [1] ECMA-48, "Control Functions for Coded Character Sets", 5th ed. (1991): the C0 and C1 sets.
+which shows each control character as a visible escape (``\\x1b``) instead of sending it. The
+control characters are the C0 and C1 sets of [ECMA-48]_.
 """
 
 from __future__ import annotations

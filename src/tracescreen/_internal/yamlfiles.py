@@ -8,11 +8,11 @@ loader is used when PyYAML was built with it (several times faster); the pure-Py
 safe loader, so that a mistake is a message and never a silently different value:
 
 * a key given twice in one mapping is an error naming both lines (YAML's last-one-wins would
-  silently keep the second value [2]_);
+  silently keep the second value; YAML 1.2.2 section 3.2.1.1 says keys are unique);
 * aliases (``*name``) are refused: limit tables and mappings never need them, and an alias of an
   alias expands exponentially when built ("billion laughs");
-* a number with an exponent and no dot (``1e-2``) is a number, as in YAML 1.2 [3]_ (YAML 1.1 reads
-  it as text);
+* a number with an exponent and no dot (``1e-2``) is a number, as in YAML 1.2's core schema (section
+  10.3.2; YAML 1.1 reads it as text);
 * a date that does not exist (``2021-02-30``) is kept as its text, so the reader that expects a
   date names the file, entry and key;
 * nesting deeper than :data:`MAX_DEPTH`, tags that build objects, and unreadable YAML are
@@ -20,9 +20,7 @@ safe loader, so that a mistake is a message and never a silently different value
 
 References
 ----------
-.. [1] PyYAML documentation, "Loading YAML" (``SafeLoader``, ``CSafeLoader``).
-.. [2] YAML Ain't Markup Language, version 1.2.2 (2021), section 3.2.1.1: mapping keys are unique.
-.. [3] YAML 1.2.2, section 10.3.2 (core schema, tag resolution of floats).
+[PyYAML]_, [YAML122]_ (docs/references.md)
 """
 
 from __future__ import annotations

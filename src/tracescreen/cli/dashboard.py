@@ -25,6 +25,9 @@ def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--port", type=int, default=8050, help="port to listen on")
     p.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
     p.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+    from .wells import add_wells_options
+
+    add_wells_options(p, design_options=False)
 
 
 def result_files(args: argparse.Namespace) -> list[str]:
@@ -58,6 +61,11 @@ def to_argv(args: argparse.Namespace) -> list[str]:
     argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
     if not args.cross_fraction:
         argv.append("--same-fraction-only")
+    for opt in ("network", "design"):
+        if getattr(args, opt, None):
+            argv += [f"--{opt}", str(getattr(args, opt))]
+    if getattr(args, "background_standard", False):
+        argv.append("--background-standard")
     return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else [])
 
 

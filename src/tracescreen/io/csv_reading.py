@@ -2,7 +2,7 @@
 
 The fast path is Arrow's multi-threaded CSV reader. Whenever the file's records and lines do not
 match one to one (a row with the wrong number of fields, a cell with a line break, an unclosed
-quote), the exact path reads it again with Python's ``csv`` module line by line, so that every line
+quote), the exact path reads it again with Python's ``csv`` module line by line ([RFC4180]_ quoting), so that every line
 is accounted for with its own row number:
 
 * a record that spans several lines *and* has the wrong number of fields is an unclosed (or stray)

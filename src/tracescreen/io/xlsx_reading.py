@@ -1,6 +1,6 @@
 """Reading an Excel ``.xlsx`` workbook as text tables, one per sheet, within caps.
 
-An ``.xlsx`` file is a zip package of XML parts. A few kilobytes of it can declare gigabytes of
+An ``.xlsx`` file is a zip package of XML parts [ECMA-376]_. A few kilobytes of it can declare gigabytes of
 XML, or a sheet whose stated size (``<dimension ref="A1:XFD1048576">``) makes a reader fill in
 billions of empty cells. So before anything is parsed the package's directory is checked against
 :attr:`~tracescreen.io.rawtable.ReadCaps.workbook_mb` (the uncompressed size of all parts; Python's

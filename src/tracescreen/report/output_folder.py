@@ -1,7 +1,7 @@
 """Outputs written whole or not at all, and a run manifest that says a run completed.
 
 A command's outputs are first written under temporary names in the output folder
-(``.screening.csv.partial-<pid>``); only when every output has been written are they renamed into
+(``.screening.partial-<pid>.csv``); only when every output has been written are they renamed into
 place, and the run manifest (:data:`MANIFEST`: the inputs' SHA-256, the options, each output's rows,
 bytes and SHA-256, the completion time) is written last. So:
 
@@ -42,7 +42,8 @@ def _now() -> str:
 
 
 def _temporary(path: Path) -> Path:
-    return path.with_name(f".{path.name}{PARTIAL}{os.getpid()}")
+    """``.name.partial-<pid>.suffix`` beside ``path`` (the suffix kept for writers that look at it)."""
+    return path.with_name(f".{path.stem}{PARTIAL}{os.getpid()}{path.suffix}")
 
 
 def _fsync_dir(folder: Path) -> None:
@@ -182,7 +183,7 @@ class OutputFolder:
         for _, _, tmp, _ in self._staged:
             with contextlib.suppress(OSError):
                 tmp.unlink()
-        for stale in self.folder.glob(f".*{PARTIAL}{os.getpid()}"):
+        for stale in self.folder.glob(f".*{PARTIAL}{os.getpid()}*"):
             with contextlib.suppress(OSError):
                 stale.unlink()
         self._staged.clear()
