@@ -47,6 +47,8 @@ PROPERTY_TYPES: dict[str, tuple] = {
     "pathname": (str, _NONE),
     "search": (str, _NONE),
 }
+#: Controls that hold a list of values (multi-select filters), by the end of their id; others hold one.
+MULTI_VALUE = ("-uses", "-tables", "-campaigns")
 #: JSON types of the stores (``dcc.Store``) by id.
 STORE_TYPES: dict[str, tuple] = {
     "dataset-key": (str, _NONE),
@@ -81,8 +83,11 @@ def _check_value(dep: dict, declared: dict) -> None:
     if prop == "data" and isinstance(value, dict) and ident in STORE_KEYS:
         if set(value) != set(STORE_KEYS[ident]) or not all(isinstance(v, (str, _NONE)) for v in value.values()):
             raise MalformedRequest(f"{ident}.data: not the object the page stores there")
-    if prop == "value" and isinstance(value, list) and not all(isinstance(v, _SCALAR) for v in value):
-        raise MalformedRequest(f"{ident}.value: a list of values holds something else")
+    if prop == "value" and isinstance(value, list):
+        if not (isinstance(ident, str) and ident.endswith(MULTI_VALUE)):
+            raise MalformedRequest(f"{ident}.value: a list where the control holds one value")
+        if not all(isinstance(v, _SCALAR) for v in value):
+            raise MalformedRequest(f"{ident}.value: a list of values holds something else")
 
 
 def _check_outputs(outputs: Any, output: str) -> None:

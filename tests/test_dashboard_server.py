@@ -37,7 +37,9 @@ def app(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def client(app):
-    return app.server.test_client()
+    c = app.server.test_client()
+    assert c.get("/").status_code == 200  # Dash adds its pages' own callbacks on the first request
+    return c
 
 
 def _request(output: str, cb: dict, values: list) -> dict:
@@ -72,7 +74,7 @@ _json = st.recursive(st.none() | st.booleans() | st.integers() | st.floats(allow
                      max_leaves=8)
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(max_examples=500, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(data=st.data())
 def test_fuzzed_callback_requests_never_answer_500(app, client, data):
     """Requests built from this app's own callbacks with mutated parts and random values: 200, 204 or 4xx."""
@@ -195,3 +197,13 @@ def test_server_times_out_silent_clients_and_removes_uploads_on_sigterm(tmp_path
         if proc.poll() is None:
             proc.kill()
             proc.wait()
+
+
+def test_upload_preview_counts_every_row(app):
+    """The preview used to give rows read = accepted + rejected, losing rows set aside (another analyte)."""
+    from dashboard.views.uploads import preview_upload
+
+    store = app.server.extensions[STORE_EXTENSION]
+    text = CSV + "KR01,UP9,2024-03-04,Unobtainium,total,5,ug/L,1\nKR01,UP8,2024-03-04,Lead,total,x,ug/L,1\n"
+    prev = preview_upload(store, "data:text/csv;base64," + base64.b64encode(text.encode()).decode(), "three.csv")
+    assert (prev.rows_read, prev.accepted, prev.set_aside, len(prev.rejected)) == (3, 1, 1, 1)

@@ -25,6 +25,7 @@ def upload_preview_view(store: DataStore, file: dict | None, mapping: dict | Non
     block = [
         html.P([html.B(prev.filename), f": {prev.rows_read:,} rows read, ",
                 html.Span(f"{prev.accepted:,} accepted", id="up-accepted"), ", ",
+                html.Span(f"{prev.set_aside:,} set aside (not results to screen)", id="up-set-aside"), ", ",
                 html.Span(f"{len(rej):,} rejected", id="up-rejected"), "."], className="summary"),
     ]
     if len(rej):

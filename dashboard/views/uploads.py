@@ -28,6 +28,7 @@ class UploadPreview:
     rows_read: int
     accepted: int
     rejected: pd.DataFrame
+    set_aside: int = 0  # rows that are not results to screen (lab QC, other analytes): rows read = all three
 
 
 def human_size(n: int) -> str:
@@ -82,7 +83,8 @@ def preview_upload(store: DataStore, contents: str | None, filename: str | None,
     except (ValueError, OSError, KeyError) as exc:
         raise UploadError(str(exc).strip() or f"{filename}: could not be read.") from exc
     accepted, rejected = len(loaded.accepted), loaded.rejected
-    return UploadPreview(token, Path(filename).name, accepted + len(rejected), accepted, rejected)
+    aside = len(loaded.set_aside) if loaded.set_aside is not None else 0
+    return UploadPreview(token, Path(filename).name, accepted + aside + len(rejected), accepted, rejected, aside)
 
 
 def add_token(dataset_key: str | None, token: str) -> str:
