@@ -5,9 +5,10 @@ match one to one (a row with the wrong number of fields, a cell with a line brea
 quote), the exact path reads it again with Python's ``csv`` module line by line ([RFC4180]_ quoting), so that every line
 is accounted for with its own row number:
 
-* a record that spans several lines *and* has the wrong number of fields is an unclosed (or stray)
-  quote: its first line is rejected with that reason and reading resumes on the next line, so a
-  quote left open on line 50 of a 200-line file costs one row, not the 150 after it;
+* a quote left open (to the end of the file), or closed and followed by more text, is broken quoting,
+  and so is a record that spans several lines with the wrong number of fields: its first line is
+  rejected with that reason and reading resumes on the next line, so a quote left open on line 50
+  of a 200-line file costs one row, not the 150 after it;
 * a record with the wrong number of fields on one line is rejected ("expected n fields");
 * a quoted cell with a line break inside a record of the right length is kept (row = its first line).
 
@@ -29,6 +30,7 @@ import pyarrow as pa
 import pyarrow.compute as pc
 import pyarrow.csv as pacsv
 
+from tracescreen.io.columns import score_header_row
 from tracescreen.io.rawtable import (
     HEADER_SEARCH_ROWS,
     LoadError,
@@ -42,8 +44,8 @@ from tracescreen.io.rawtable import (
 _BOMS = ((codecs.BOM_UTF32_LE, "utf-32"), (codecs.BOM_UTF32_BE, "utf-32"), (codecs.BOM_UTF8, "utf-8-sig"),
          (codecs.BOM_UTF16_LE, "utf-16"), (codecs.BOM_UTF16_BE, "utf-16"))
 FIELD_COUNT_ERROR = "__field_count_error__"
-UNCLOSED_QUOTE = ("a quote (\") opened on this line is not closed where the row ends: the line is rejected "
-                  "and reading goes on with the next line; fix the quoting")
+UNCLOSED_QUOTE = ("a quote (\") opened on this line is not closed where the row ends (or is closed and followed "
+                  "by more text): the line is rejected and reading goes on with the next line; fix the quoting")
 
 
 def _is_utf8(encoding: str) -> bool:
@@ -51,7 +53,11 @@ def _is_utf8(encoding: str) -> bool:
 
 
 def _encoding(data: bytes, name: str, asked: str) -> str:
-    """The file's encoding: its byte-order mark if it has one, else the one asked for."""
+    """The file's encoding: its byte-order mark if it has one, else the one asked for.
+
+    A file whose first 4 kB are more than 5 % NUL bytes is binary (or UTF-16/32 without a mark); a
+    stray NUL in a cell is only a control character, shown escaped where the cell is echoed.
+    """
     for bom, enc in _BOMS:
         if data.startswith(bom):
             return enc
@@ -59,7 +65,8 @@ def _encoding(data: bytes, name: str, asked: str) -> str:
         asked_name = codecs.lookup(asked).name
     except LookupError:
         raise LoadError(f"{name}: unknown encoding '{asked}'") from None
-    if b"\x00" in data[:4096] and not asked_name.startswith(("utf-16", "utf-32")):
+    head = data[:4096]
+    if head.count(b"\x00") > len(head) // 20 and not asked_name.startswith(("utf-16", "utf-32")):
         raise LoadError(f"{name}: binary data, not a CSV text file (or UTF-16/32 text without a byte-order "
                         "mark: give --encoding utf-16-le, utf-16-be ...)")
     return asked
@@ -109,10 +116,8 @@ def read_csv(data: bytes, name: str, path: str, opts: LoadOptions) -> RawTable:
     if not body.strip():
         raise LoadError(f"{name}: the file is empty")
     head_lines = _head(body, HEADER_SEARCH_ROWS).decode("utf-8", errors="replace").splitlines()
-    first = next((ln for ln in head_lines if ln.strip()), "")
-    delim = max([",", ";", "\t", "|"], key=first.count)
     csv.field_size_limit(sys.maxsize if sys.maxsize < 2 ** 63 else 2 ** 62)  # cells of any size
-    head = list(csv.reader(head_lines, delimiter=delim))
+    delim, head = _delimiter(head_lines, opts)
     widest = max(range(len(head)), key=lambda i: len(head[i]), default=0)
     if head and len(head[widest]) > opts.caps.max_columns:
         raise LoadError(f"{name}: line {widest + 1} has {len(head[widest])} fields, more than the "
@@ -150,6 +155,27 @@ def read_csv(data: bytes, name: str, path: str, opts: LoadOptions) -> RawTable:
     return raw
 
 
+DELIMITERS = (",", ";", "\t", "|")
+
+
+def _delimiter(head_lines: list[str], opts: LoadOptions) -> tuple[str, list[list[str]]]:
+    """The delimiter whose split of the first lines names the most tracescreen columns (a title block
+    above the header has no delimiters to count), and the first lines split by it."""
+    best = None
+    for d in DELIMITERS:
+        if not any(d in ln for ln in head_lines):
+            continue
+        records = list(csv.reader(head_lines, delimiter=d))
+        if max((len(r) for r in records), default=0) > opts.caps.max_columns:
+            return d, records  # refused by the caller, whatever the delimiter
+        score = max((score_header_row([c.strip() for c in r], opts.column_map) for r in records), default=0)
+        if best is None or score > best[0]:
+            best = (score, d, records)
+    if best is None:
+        return ",", list(csv.reader(head_lines, delimiter=","))
+    return best[1], best[2]
+
+
 def _has_line_breaks(table: pa.Table) -> bool:
     """Whether any cell holds a line break (its row then spans several lines of the file)."""
     return any(pc.any(pc.match_substring_regex(col, "[\r\n]")).as_py() for col in table.columns)
@@ -158,7 +184,8 @@ def _has_line_breaks(table: pa.Table) -> bool:
 def _records(lines: list[str], start: int, delim: str):
     """``(first line index, record, lines spanned)`` from line ``start`` on; a ``csv.Error`` ends the run
     with ``(line index, None, error text)``."""
-    reader = csv.reader((lines[j] for j in range(start, len(lines))), delimiter=delim)
+    # strict: a quote that is not closed, or closed and followed by text, is an error, not a guess
+    reader = csv.reader((lines[j] for j in range(start, len(lines))), delimiter=delim, strict=True)
     done = 0
     try:
         for rec in reader:
@@ -183,7 +210,8 @@ def _read_csv_exact(text: str, delim: str, h: int, headers: list[str]) -> tuple[
                 # broken quoting (or a csv error): reject this one line, read on from the next
                 one = next(csv.reader([lines[at].rstrip("\r\n")], delimiter=delim), [])
                 out.append((one + [""] * n)[:n])
-                errors.append(UNCLOSED_QUOTE if rec is not None else f"unreadable line ({span})")
+                quoting = rec is not None or "end of data" in str(span) or "expected after" in str(span)
+                errors.append(UNCLOSED_QUOTE if quoting else f"unreadable line ({span})")
                 out_rows.append(at + 1)
                 resume = at + 1
                 break

@@ -10,6 +10,7 @@ Rows whose every cell is empty are not data rows; they are counted in ``files.bl
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 
 from tracescreen._internal.memory import release_unused
@@ -56,7 +57,8 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
     for path in paths:
         raws, digest = read_raw(path, opts)
         for raw in raws:
-            acc, rej = normalise(raw, opts, site_ids, sites_name)
+            with np.errstate(over="ignore", invalid="ignore"):  # 1e308 mg/L overflows: rejected, no warning
+                acc, rej = normalise(raw, opts, site_ids, sites_name)
             warnings.extend(raw.notes)
             accepted.append(acc)
             rejected.append(rej)

@@ -148,8 +148,10 @@ def clean_decimal(values: np.ndarray, digits: int = 12) -> np.ndarray:
     """
     v = np.asarray(values, dtype=float)
     out = v.copy()
-    nz = np.isfinite(v) & (v != 0)
-    mag = np.floor(np.log10(np.abs(v[nz])))
-    scale = 10.0 ** (digits - 1 - mag)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        mag = np.floor(np.log10(np.abs(v)))
+    # only where the scale stays a finite double (|v| from about 1e-290 to 1e290; others are kept as they are)
+    nz = np.isfinite(v) & (v != 0) & (np.abs(mag) < 290)
+    scale = 10.0 ** (digits - 1 - mag[nz])
     out[nz] = np.round(v[nz] * scale) / scale
     return out
