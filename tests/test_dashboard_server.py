@@ -207,3 +207,24 @@ def test_upload_preview_counts_every_row(app):
     text = CSV + "KR01,UP9,2024-03-04,Unobtainium,total,5,ug/L,1\nKR01,UP8,2024-03-04,Lead,total,x,ug/L,1\n"
     prev = preview_upload(store, "data:text/csv;base64," + base64.b64encode(text.encode()).decode(), "three.csv")
     assert (prev.rows_read, prev.accepted, prev.set_aside, len(prev.rejected)) == (3, 1, 1, 1)
+
+
+def test_upload_workbook_past_the_upload_caps_is_refused(app):
+    """A workbook upload is read with the Upload page's stricter caps (200,000 rows): refused with a message."""
+    import io
+
+    from openpyxl import Workbook
+
+    from dashboard.views.uploads import UploadError, preview_upload
+
+    wb = Workbook(write_only=True)
+    ws = wb.create_sheet()
+    ws.append(["site_id", "sample_id", "sampled_at", "analyte", "fraction", "result", "unit"])
+    for _ in range(200_001):
+        ws.append([None])
+    buf = io.BytesIO()
+    wb.save(buf)
+    store = app.server.extensions[STORE_EXTENSION]
+    with pytest.raises(UploadError, match="more than 200,000 rows"):
+        preview_upload(store, "data:application/octet-stream;base64," + base64.b64encode(buf.getvalue()).decode(),
+                       "many.xlsx")

@@ -78,7 +78,7 @@ def test_changed_segment_is_refused_by_every_command(workspace, tmp_path, capsys
         assert main(argv) == 2, name
         line = _one_line_error(capsys)
         assert "the workspace is damaged" in line and "history --check" in line, name
-    assert main(["history", "--workspace", str(workspace), "--check"]) == 1
+    assert main(["history", "--workspace", str(workspace), "--check"]) == 2
     assert "does not match its SHA-256" in capsys.readouterr().out
 
 
@@ -88,7 +88,7 @@ def test_changed_rejected_row_fails_the_check(workspace, capsys):
     con.execute("UPDATE rejected SET reason = 'nothing wrong here'")
     con.commit()
     con.close()
-    assert main(["history", "--workspace", str(workspace), "--check"]) == 1
+    assert main(["history", "--workspace", str(workspace), "--check"]) == 2
     assert "rejected rows do not match the SHA-256 recorded at import" in capsys.readouterr().out
 
 
@@ -99,7 +99,7 @@ def test_unreadable_rejected_cells_are_one_line(workspace, tmp_path, capsys):
     con.close()
     assert main(_commands(workspace, tmp_path)["screen"]) == 2
     assert "history --check" in _one_line_error(capsys)
-    assert main(["history", "--workspace", str(workspace), "--check"]) == 1
+    assert main(["history", "--workspace", str(workspace), "--check"]) == 2
 
 
 def test_zeroed_page_is_found_and_refused(workspace, tmp_path, capsys):
@@ -120,7 +120,7 @@ def test_zeroed_page_is_found_and_refused(workspace, tmp_path, capsys):
             break
     assert hit
     path.write_bytes(bytes(raw))
-    assert main(["history", "--workspace", str(workspace), "--check"]) == 1
+    assert main(["history", "--workspace", str(workspace), "--check"]) == 2
     out = capsys.readouterr().out
     assert "problem" in out
     for name in ("screen", "export"):

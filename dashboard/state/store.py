@@ -79,6 +79,14 @@ def session_nbytes(session: SessionData) -> int:
     return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
 
 
+def upload_caps(caps):
+    """The caps of an upload: the stricter of the reading caps and the Upload page's (io/caps.py)."""
+    from tracescreen.io.caps import ReadCaps
+
+    strict = ReadCaps.upload()
+    return ReadCaps(**{f: min(getattr(caps, f), getattr(strict, f)) for f in ReadCaps.__dataclass_fields__})
+
+
 def safe_upload_name(filename: str) -> str:
     """The name an upload is kept under: its last path part, control and path characters replaced,
     at most 120 characters with its suffix kept (a browser may send any text as a file name).
@@ -186,7 +194,8 @@ class DataStore:
         base = self.base_inputs()
         opts = base.options if base.options is not None else load_options(None)
         # an upload is read like the base files (dates, decimal comma), with its own mapping
-        opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None)
+        opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None,
+                                   caps=upload_caps(opts.caps))
         return load_results(files, opts, sites=self.sites, sites_name=base.sites_name)
 
     # sessions
