@@ -5,7 +5,8 @@ uploads cleaned up when the server stops.
   JSON object naming a callback of this app, with the inputs and states that callback declares
   (same ids and properties, in order) and values of the JSON type each property carries. A request
   that is not so is answered ``400`` with a one-line reason and logged as one line, never a
-  traceback. A callback that still fails on a well-formed request is a bug: ``500``, traceback logged.
+  traceback. A callback that still fails on a well-formed request is reported by the app's error
+  banner (``dashboard.app.report_error``), never a ``500``.
 * :class:`TimeoutRequestHandler` gives each connection of the built-in server a socket timeout, so
   that clients that send nothing (or trickle) are disconnected instead of holding a thread.
 * :func:`serve` runs the built-in server and removes the uploaded files when it stops, on Ctrl+C or
@@ -47,8 +48,6 @@ PROPERTY_TYPES: dict[str, tuple] = {
     "pathname": (str, _NONE),
     "search": (str, _NONE),
 }
-#: Controls that hold a list of values (multi-select filters), by the end of their id; others hold one.
-MULTI_VALUE = ("-uses", "-tables", "-campaigns")
 #: JSON types of the stores (``dcc.Store``) by id.
 STORE_TYPES: dict[str, tuple] = {
     "dataset-key": (str, _NONE),
@@ -83,11 +82,8 @@ def _check_value(dep: dict, declared: dict) -> None:
     if prop == "data" and isinstance(value, dict) and ident in STORE_KEYS:
         if set(value) != set(STORE_KEYS[ident]) or not all(isinstance(v, (str, _NONE)) for v in value.values()):
             raise MalformedRequest(f"{ident}.data: not the object the page stores there")
-    if prop == "value" and isinstance(value, list):
-        if not (isinstance(ident, str) and ident.endswith(MULTI_VALUE)):
-            raise MalformedRequest(f"{ident}.value: a list where the control holds one value")
-        if not all(isinstance(v, _SCALAR) for v in value):
-            raise MalformedRequest(f"{ident}.value: a list of values holds something else")
+    if prop == "value" and isinstance(value, list) and not all(isinstance(v, _SCALAR) for v in value):
+        raise MalformedRequest(f"{ident}.value: a list of values holds something else")
 
 
 def _check_outputs(outputs: Any, output: str) -> None:
