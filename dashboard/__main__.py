@@ -57,7 +57,9 @@ def main(argv: list[str] | None = None) -> int:
     print(f"CAUTION: {CAUTION}", file=sys.stderr)
     print(f"Dashboard on http://{args.host}:{args.port}/  (Ctrl+C to stop; Flask's development server, for "
           "one user on this machine: README \"Serving the dashboard\" for a team)", file=sys.stderr)
-    app.run(host=args.host, port=args.port, debug=args.debug)
+    from dashboard.server import serve
+
+    serve(app, args.host, args.port, debug=args.debug)  # uploads removed on Ctrl+C or SIGTERM; slow clients time out
     return 0
 
 

@@ -13,6 +13,7 @@ from dash import Dash, Input, Output, State, dcc, html
 
 from dashboard.render.components import caution_banner
 from dashboard.render.status_css import status_css
+from dashboard.server import guard_callbacks
 from dashboard.state.session import BASE_KEY, Inputs
 from dashboard.state.store import STORE_EXTENSION, DataStore, load_inputs
 
@@ -85,7 +86,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
 
     @app.callback(Output("dataset-info", "children"), Input("dataset-key", "data"))
     def dataset_info(dataset_key):
-        return describe_dataset(store.get(dataset_key))
+        _, dropped = store.resolve(dataset_key)
+        return describe_dataset(store.get(dataset_key), dropped)
 
     pages = _pages()
     app.clientside_callback(
@@ -99,6 +101,7 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
     # each page's callbacks on this app (the pages record them; dashboard/pages/_shared.py)
     for page in dash.page_registry.values():
         sys.modules[page["module"]].callbacks.register(app)
+    guard_callbacks(app)  # malformed callback requests: 400 with one log line (dashboard/server.py)
     if preload:
         store.base_session()
         store.start_background()  # the trend table and the retest list, off the first requests
@@ -115,13 +118,17 @@ def report_error(exc: Exception) -> None:
         "if it keeps happening, the message above says what to report."]})
 
 
-def describe_dataset(session) -> str:
-    """One line on what the session holds."""
+def describe_dataset(session, dropped=()) -> str:
+    """One line on what the session holds (and on uploads of the browser's key no longer on the server)."""
     n_results = int(session.rid.max()) + 1 if len(session.rid) else 0
     uploads = session.key.count("+")
     text = (f"{n_results:,} results at {len(session.site_ids)} sites, {len(session.analytes)} metals; "
             f"{len(session.rejected):,} rows rejected; {len(session.tables)} limit tables applied")
-    return text + (f"; {uploads} upload(s) added in this browser session" if uploads else "")
+    text += f"; {uploads} upload(s) added in this browser session" if uploads else ""
+    if dropped:
+        text += (f". {len(dropped)} upload(s) of this browser session are no longer on the server (it may have "
+                 "been restarted): they are not shown; add the file again on the Upload page")
+    return text
 
 
 def _pages() -> list[dict]:

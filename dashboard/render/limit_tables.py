@@ -6,6 +6,7 @@ from dash import html
 
 from dashboard.state.session import SessionData
 from dashboard.views.limits import ENTRY_COLUMNS, entry_rows, sites_for_use
+from tracescreen._internal.links import link_target
 
 
 def table_sections(session: SessionData) -> list:
@@ -28,8 +29,10 @@ def table_sections(session: SessionData) -> list:
             html.Dt("Unit in the table"), html.Dd(str(t.get("unit", ""))),
             html.Dt("Applies to sites"), html.Dd(applies, className="applies"),
         ]
-        if t.get("url"):
-            meta += [html.Dt("Link"), html.Dd(html.A(str(t["url"]), href=str(t["url"])))]
+        if t.get("url"):  # a link only to http, https and mailto addresses; anything else as text
+            target = link_target(t["url"])
+            meta += [html.Dt("Link"), html.Dd(html.A(str(t["url"]), href=target, rel="noopener noreferrer")
+                                              if target else f"{t['url']} (not a web address: shown as text)")]
         if t.get("notes"):
             meta += [html.Dt("Notes"), html.Dd(str(t["notes"]))]
         rows = entry_rows(ents)

@@ -78,6 +78,10 @@ def accepted_from_session(session: SessionData) -> pd.DataFrame:
              "limit_scope"}
     acc = session.screened.iloc[starts]
     out = acc[[c for c in acc.columns if c not in added]].reset_index(drop=True)
+    extra = session.result_columns
+    if extra is not None and len(extra.columns):  # the accepted columns screening does not carry, as loaded
+        rids = session.rid[starts]
+        return engine_frame(out.assign(**{c: extra[c].iloc[rids].to_numpy() for c in extra.columns}))
     return engine_frame(out.assign(**_sample_inputs(acc)))
 
 

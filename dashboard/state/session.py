@@ -16,6 +16,7 @@ import pandas as pd
 
 from dashboard.state.frames import file_counts
 from dashboard.state.memo import Memo
+from tracescreen.io.results import ACCEPTED_COLUMNS
 from tracescreen.vocabulary import SEVERITY
 
 BASE_KEY = "base"
@@ -79,6 +80,9 @@ class SessionData:
     day: np.ndarray  # sampling date as int32 days since 1970-01-01 (NO_DAY when undated)
     series_key: np.ndarray
     wells_options: Any = None  # tracescreen.pipeline.WellsOptions, or None
+    # per result (row = _rid): the accepted columns screening does not carry (own hardness, pH, DOC,
+    # temperature, quantitation limit), so that the results can be screened again with uploads
+    result_columns: pd.DataFrame | None = field(default=None, repr=False)
     memo: Memo = field(default_factory=Memo, repr=False)
     _derived: dict = field(default_factory=dict, repr=False)
     _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
@@ -208,6 +212,7 @@ def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = Fal
     options = pipeline.Options(cross_fraction=inputs.cross_fraction, periods=False, statistics=None, retest=None,
                                part_rows=part_rows)
     screened, _ = pipeline.screen(acc.drop(columns="campaign").assign(row=rid), inputs.limits, inputs.sites, options)
+    result_columns = acc[[c for c in ACCEPTED_COLUMNS if c in acc.columns and c not in screened.columns]]
     del acc, site_codes
     screened["_rid"] = screened["row"].to_numpy(dtype=np.int64)
     if not screened["_rid"].is_monotonic_increasing:
@@ -222,7 +227,7 @@ def build_session(inputs: Inputs, key: str = BASE_KEY, release_input: bool = Fal
         dtype = screened[col].dtype
         if dtype == object or pd.api.types.is_string_dtype(dtype) or isinstance(dtype, pd.CategoricalDtype):
             screened[col] = _categorical(screened[col])
-    return _index(inputs, key, screened)
+    return _index(inputs, key, screened, result_columns.reset_index(drop=True))
 
 
 def _codes(screened: pd.DataFrame, col: str) -> tuple[np.ndarray, list[str]]:
@@ -238,7 +243,7 @@ def _codes(screened: pd.DataFrame, col: str) -> tuple[np.ndarray, list[str]]:
     return cat.cat.codes.to_numpy(), [str(c) for c in cat.cat.categories]
 
 
-def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
+def _index(inputs: Inputs, key: str, screened: pd.DataFrame, result_columns: pd.DataFrame | None = None) -> SessionData:
     site_code, site_ids = _codes(screened, "site_id")
     analyte_code, analytes = _codes(screened, "analyte")
     fraction_code, fractions = _codes(screened, "fraction")
@@ -286,6 +291,7 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
         day=day,
         series_key=series_key,
         wells_options=inputs.wells,
+        result_columns=result_columns,
     )
 
 

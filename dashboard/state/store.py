@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import json
 import logging
+import re
 import tempfile
 import threading
 from collections import OrderedDict
@@ -28,6 +29,8 @@ from tracescreen._internal.memory import release_unused
 from tracescreen.screening.parts import join_frames
 
 STORE_EXTENSION = "tracescreen"
+#: An upload's token: the first 16 hex digits of its content hash (:func:`content_token`).
+TOKEN = re.compile(r"^[0-9a-f]{16}$")
 LOG = logging.getLogger("tracescreen.dashboard")
 
 
@@ -80,6 +83,30 @@ def session_nbytes(session: SessionData) -> int:
     arrays = (session.rank, session.site_code, session.analyte_code, session.fraction_code, session.table_code,
               session.use_code, session.campaign_code, session.day, session.series_key)
     return approx_nbytes(session.screened) + sum(a.nbytes for a in arrays) + session.memo.nbytes
+
+
+def upload_caps(caps):
+    """The caps of an upload: the stricter of the reading caps and the Upload page's (io/caps.py)."""
+    from tracescreen.io.caps import ReadCaps
+
+    strict = ReadCaps.upload()
+    return ReadCaps(**{f: min(getattr(caps, f), getattr(strict, f)) for f in ReadCaps.__dataclass_fields__})
+
+
+def safe_upload_name(filename: str) -> str:
+    """The name an upload is kept under: its last path part, control and path characters replaced,
+    at most 120 characters with its suffix kept (a browser may send any text as a file name).
+
+    >>> safe_upload_name("../../x\x00y" + "z" * 300 + ".CSV")[-10:], safe_upload_name("..")
+    ('zzzzzz.CSV', 'upload')
+    """
+    name = re.split(r"[/\\]", str(filename))[-1]
+    name = re.sub(r"[\x00-\x1f\x7f-\x9f:*?\"<>|]", "_", name).strip(" .")
+    stem, dot, suffix = name.rpartition(".")
+    if not dot or len(suffix) > 10:
+        stem, suffix = name, ""
+    stem = stem[: 120 - len(suffix) - 1]
+    return (f"{stem}.{suffix}" if suffix else stem) or "upload"
 
 
 # ---- the per-app store ------------------------------------------------------------------------
@@ -144,6 +171,13 @@ class DataStore:
         """The sites table of the base inputs (None without a sites file)."""
         return self.base_inputs().sites
 
+    def close(self) -> None:
+        """Remove the uploaded files kept in the store's own temporary folder (when the server stops)."""
+        with self._lock:
+            self._cache.clear()
+            if self._tmp is not None:
+                self._tmp.cleanup()
+
     # uploads
     def upload_path(self, token: str) -> Path:
         """The folder that keeps the upload named ``token``."""
@@ -152,13 +186,14 @@ class DataStore:
     def save_upload(self, filename: str, content: bytes, mapping: bytes | None, reading: dict | None = None) -> str:
         """Keep an uploaded file (its column mapping and how to read it) on disk; return its token."""
         reading = dict(reading or {})
-        token = content_token(filename.encode(), content, mapping or b"", json.dumps(reading, sort_keys=True).encode())
+        name = safe_upload_name(filename)
+        token = content_token(name.encode(), content, mapping or b"", json.dumps(reading, sort_keys=True).encode())
         folder = self.upload_path(token)
         folder.mkdir(parents=True, exist_ok=True)
-        (folder / Path(filename).name).write_bytes(content)
+        (folder / name).write_bytes(content)
         if mapping:
             (folder / "_columns.yaml").write_bytes(mapping)
-        (folder / "_upload.json").write_text(json.dumps({"filename": Path(filename).name, "sha256": sha256_hex(content),
+        (folder / "_upload.json").write_text(json.dumps({"filename": name, "sha256": sha256_hex(content),
                                                          "reading": reading}))
         return token
 
@@ -205,6 +240,7 @@ class DataStore:
         except KeyError:
             reading = {}
         opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None,
+                                   caps=upload_caps(opts.caps),
                                    **{k: v for k, v in reading.items() if k in READING_OPTIONS})
         return load_results(files, opts, sites=self.sites, sites_name=base.sites_name)
 
@@ -217,9 +253,32 @@ class DataStore:
                 release_unused()
             return self._base_session
 
+    def resolve(self, key) -> tuple[str, list[str]]:
+        """The server's own dataset key for a key sent by a browser, and what it had to drop.
+
+        The key comes from the browser and is never trusted: only tokens of uploads this server
+        keeps count, each once, in the order added (a repeated token counts once); anything else (a
+        token unknown after a restart, not a token at all) is dropped and listed.
+        """
+        if key in (None, "", BASE_KEY):
+            return BASE_KEY, []
+        if not isinstance(key, str) or len(key) > 10_000:
+            return BASE_KEY, [str(key)[:40]]
+        parts = key.split("+")
+        kept, dropped = [], [] if parts[0] == BASE_KEY else [parts[0][:40]]
+        for t in parts[1:]:
+            if t in kept:
+                continue
+            if TOKEN.match(t) and self.upload_path(t).is_dir():
+                kept.append(t)
+            else:
+                dropped.append(t[:40])
+        return "+".join([BASE_KEY, *kept]), dropped
+
     def get(self, key: str | None) -> SessionData:
-        """The session data for a dataset key (unknown tokens fall back to the base data)."""
-        tokens = upload_tokens(key)
+        """The session data for a dataset key (resolved by :meth:`resolve`: only known uploads, once each)."""
+        key, _ = self.resolve(key)
+        tokens = key.split("+")[1:]
         if not tokens:
             return self.base_session()
         with self._lock:

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from dashboard.state.store import DataStore
+from dashboard.state.store import DataStore, safe_upload_name
 
 RESULT_SUFFIXES = (".csv", ".xlsx")
 MAPPING_SUFFIXES = (".yaml", ".yml")
@@ -76,8 +76,9 @@ def human_size(n: int) -> str:
 def decode_upload(contents: str | None, filename: str | None, max_bytes: int,
                   suffixes: tuple[str, ...] = RESULT_SUFFIXES) -> bytes:
     """Bytes of a ``dcc.Upload`` value (``data:<type>;base64,<data>``), checked and size-capped."""
-    if not contents or not filename:
+    if not isinstance(contents, str) or not isinstance(filename, str) or not contents or not filename:
         raise UploadError("No file received.")
+    filename = safe_upload_name(filename)
     if Path(filename).suffix.lower() not in suffixes:
         raise UploadError(f"{filename}: expected a {' or '.join(s[1:].upper() for s in suffixes)} file.")
     _, _, data = contents.partition(",")
@@ -110,7 +111,7 @@ def preview_upload(store: DataStore, contents: str | None, filename: str | None,
     from tracescreen._internal.hashing import sha256_hex
 
     raw = decode_upload(contents, filename, store.max_upload_bytes)
-    name = Path(filename).name
+    name = safe_upload_name(filename)  # a browser may send any text as a file name
     same = store.duplicate_of(sha256_hex(raw), dataset_key)
     if same:
         raise UploadError(f"{name} is already in the data: it has exactly the same content as {same} "

@@ -176,12 +176,13 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
         With a workspace, record the run in it under this command name.
     """
     from tracescreen._internal.hashing import file_sha256
-    from tracescreen.io.sites import load_sites
+    from tracescreen.io.sites import load_sites, use_warnings
     from tracescreen.limits.load import load_limits
 
     limits = load_limits(list(inputs.limits))
     sites = load_sites(inputs.sites) if inputs.sites else None
     loaded = read_results(inputs, sites)
+    loaded.warnings.extend(use_warnings(sites, limits.uses))
     rows = [{"kind": "results", "file": r.file, "path": r.path, "sheet": r.sheet, "sha256": r.sha256}
             for r in loaded.files.itertuples()] if len(loaded.files) else []
     rows += [{"kind": "limits", "file": Path(p).name, "path": p, "sheet": "", "sha256": file_sha256(p)}

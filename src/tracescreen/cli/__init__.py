@@ -44,14 +44,15 @@ def _user_error_types() -> tuple[type[BaseException], ...]:
     from tracescreen.io.loading import LoadError
     from tracescreen.io.sites import SitesError
     from tracescreen.limits.load import LimitTableError
+    from tracescreen.report.output_folder import OutputError
     from tracescreen.retest.calibration.reading import CalibrationFileError
     from tracescreen.retest.labqc.reading import QcFileError
     from tracescreen.store.workspace import WorkspaceError
 
     # OSError: a file or folder the system cannot read or write (permissions, a file where a folder
-    # should be, a full disk) is the user's to fix, not a bug
+    # should be, a full disk) is the user's to fix, not a bug; OutputError: outputs not written (what remains said)
     return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, OSError,
-            WorkspaceError, QcFileError, CalibrationFileError)
+            WorkspaceError, QcFileError, CalibrationFileError, OutputError)
 
 
 def build_parser() -> argparse.ArgumentParser:

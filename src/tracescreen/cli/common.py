@@ -49,6 +49,43 @@ def add_reading_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--default-fraction", choices=("total", "dissolved"),
                    help="fraction for rows that give none (otherwise such rows are rejected)")
     g.add_argument("--sheet", help="read only this sheet of XLSX files (default: every sheet with recognisable columns)")
+    add_cap_options(p)
+
+
+def add_cap_options(p: argparse.ArgumentParser) -> None:
+    """Add the caps on what one lab file may hold (README "Caps"), and the earliest plausible date."""
+    from tracescreen.io.caps import EARLIEST_DATE, ReadCaps
+
+    caps = ReadCaps()
+    g = group(p, "reading")  # files past a cap are refused; raise a cap for a larger file you trust
+    g.add_argument("--max-columns", type=int, default=caps.max_columns, metavar="N",
+                   help="most columns a CSV file may have")
+    g.add_argument("--max-workbook-mb", type=float, default=caps.workbook_mb, metavar="MB",
+                   help="most uncompressed size of an .xlsx workbook (its XML)")
+    g.add_argument("--max-workbook-rows", type=int, default=caps.workbook_rows, metavar="N",
+                   help="most rows of one workbook sheet")
+    g.add_argument("--max-workbook-cells", type=int, default=caps.workbook_cells, metavar="N",
+                   help="most cells of one workbook")
+    g.add_argument("--earliest-date", default=EARLIEST_DATE, metavar="YYYY-MM-DD",
+                   help="earlier sampling and analysis dates are rejected as implausible")
+
+
+def read_caps(args):
+    """The :class:`tracescreen.io.rawtable.ReadCaps` of the arguments (UserError for a cap below 1)."""
+    import datetime as dt
+
+    from tracescreen.io.caps import ReadCaps
+
+    values = {"max_columns": args.max_columns, "workbook_mb": args.max_workbook_mb,
+              "workbook_rows": args.max_workbook_rows, "workbook_cells": args.max_workbook_cells}
+    for k, v in values.items():
+        if not v >= 1:
+            raise UserError(f"--{k.replace('_', '-').replace('workbook', 'max-workbook')}: needs a number >= 1")
+    try:
+        dt.date.fromisoformat(args.earliest_date)
+    except ValueError:
+        raise UserError(f"--earliest-date {args.earliest_date!r}: not a date (YYYY-MM-DD)") from None
+    return ReadCaps(**values)
 
 
 def load_options(args):
@@ -58,7 +95,8 @@ def load_options(args):
 
     return LoadOptions(column_map=load_column_map(args.columns) if args.columns else None,
                        date_order=args.date_order, decimal_comma=args.decimal_comma,
-                       encoding=args.encoding, default_fraction=args.default_fraction, sheet=args.sheet)
+                       encoding=args.encoding, default_fraction=args.default_fraction, sheet=args.sheet,
+                       caps=read_caps(args), earliest_date=args.earliest_date)
 
 
 def pipeline_inputs(args, limits: bool = True):
@@ -93,6 +131,18 @@ def announce(data) -> None:
         warn(msg)
     if data.sites is None:
         warn("no --sites file: every limit table applies to every site")
+
+
+def run_options(args) -> dict:
+    """The command's options as given (what a run manifest records)."""
+    return {k: v for k, v in vars(args).items() if k not in ("func",) and not callable(v)}
+
+
+def output_folder(args):
+    """The command's :class:`tracescreen.report.output_folder.OutputFolder` at ``--out`` (checked at once)."""
+    from tracescreen.report.output_folder import OutputFolder
+
+    return OutputFolder(args.out, args.command, run_options(args))
 
 
 def print_caution(stream=None) -> None:

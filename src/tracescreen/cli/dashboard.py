@@ -65,6 +65,9 @@ def to_argv(args: argparse.Namespace) -> list[str]:
     for opt in ("sites", "columns", "date_order", "encoding", "default_fraction", "sheet"):
         if getattr(args, opt, None):
             argv += [f"--{opt.replace('_', '-')}", str(getattr(args, opt))]
+    for opt in ("max_columns", "max_workbook_mb", "max_workbook_rows", "max_workbook_cells", "earliest_date"):
+        if getattr(args, opt, None) is not None:
+            argv += [f"--{opt.replace('_', '-')}", str(getattr(args, opt))]
     argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
     for path in getattr(args, "overlay", []) or []:
         argv += ["--overlay", str(path)]

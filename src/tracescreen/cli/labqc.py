@@ -14,10 +14,9 @@ which run the same review as a step of their pipeline.
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
 from . import UserError
-from .common import add_reading_options, print_caution, results_from_args, warn
+from .common import add_reading_options, output_folder, print_caution, results_from_args, warn
 from .parser import group
 
 EXAMPLES = [
@@ -102,13 +101,13 @@ def register(sub) -> None:
 def run(args) -> int:
     import pandas as pd
 
-    from tracescreen.report import writers as outputs
     from tracescreen.retest.calibration.review import review_calibration
     from tracescreen.retest.labqc.review import review_files
     from tracescreen.retest.labqc.windows import load_windows
 
     if not (args.results or args.workspace or args.calibration):
         raise UserError("nothing to review: give lab result files, --workspace DIR or --calibration FILE")
+    folder = output_folder(args)
     windows = load_windows(args.windows) if args.windows else None
     loaded = results_from_args(args, None) if (args.results or args.workspace) else None
     accepted = loaded.accepted if loaded is not None else pd.DataFrame()
@@ -131,13 +130,15 @@ def run(args) -> int:
     calibration = review_calibration(args.calibration, accepted, args.weighting, args.encoding) \
         if args.calibration else None
     print_review(review, calibration)
-    out = Path(args.out)
-    written = {name: outputs.write_csv(table, out / fname)
-               for name, (table, fname) in lab_qc_tables(review, calibration).items()}
     parts = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None)) if t is not None]
     retest = pd.concat(parts, ignore_index=True) if parts else None
+    with folder:
+        written = {name: folder.csv(name, table, fname)
+                   for name, (table, fname) in lab_qc_tables(review, calibration).items()}
+        if retest is not None:
+            written["retest"] = folder.csv("retest", retest, "qc_retest.csv")
+        written["manifest"] = folder.commit()
     if retest is not None:
-        written["retest"] = outputs.write_csv(retest, out / "qc_retest.csv")
         print(f"\nRetest reasons: {len(retest)} rows" + "".join(
             f"\n  {r:<28} {n}" for r, n in retest["reason"].value_counts(sort=False).items()))
     print("\nOutputs:")

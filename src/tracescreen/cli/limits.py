@@ -127,9 +127,10 @@ def run(args) -> int:
             print(f"  {r.analyte:<14} {value:>14}  {label}")
             print(f"  {'':<14} {'':>14}  = {r.limit}" + (f"  [{r.remark}]" if r.remark else ""))
     if args.out:
+        from tracescreen.report.output_folder import write_atomic
         from tracescreen.report.writers import write_csv
 
-        write_csv(rows, args.out)
+        write_atomic(args.out, lambda p: write_csv(rows, p))
         print(f"\nWrote {args.out}")
     print_caution()
     return 0

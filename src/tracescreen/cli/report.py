@@ -88,9 +88,13 @@ def run(args) -> int:
     from tracescreen.report.build import build_document, front_rows
     from tracescreen.report.html import render_html
     from tracescreen.report.images import ReportError, draw
+    from tracescreen.report.output_folder import check_target, write_atomic
     from tracescreen.report.tables import report_data, report_tables
 
     report = report_options(args)
+    for target in [args.out, args.xlsx, args.docx, args.pdf]:
+        if target:  # before the work, not after it
+            check_target(Path(target).parent, file=Path(target))
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
                                record_run=args.command, lab_qc=lab_qc_options(args), wells=wells_options(args))
@@ -110,26 +114,27 @@ def run(args) -> int:
     progress.report("report", 1, 3, unit="steps", detail="document")
     doc = build_document(data, site_ids, report)
     out = Path(args.out)
-    out.parent.mkdir(parents=True, exist_ok=True)
-    try:
+    try:  # each file written whole or not at all (report/output_folder.py)
         progress.report("report", 2, 3, unit="steps", detail="charts")
         draw(doc.figures(), ("svg", "png") if args.docx else ("svg",))
-        out.write_text(render_html(doc), encoding="utf-8")
+        html = render_html(doc)
+        write_atomic(out, lambda p: p.write_text(html, encoding="utf-8"))
         progress.report("report", 3, 3, unit="steps", finished=True)
         print(f"Report: {out}")
         if args.pdf:
             from tracescreen.report.pdf import print_pdf
 
-            print(f"PDF: {print_pdf(out, args.pdf)}")
+            print(f"PDF: {write_atomic(args.pdf, lambda p: print_pdf(out, p))}")
     except ReportError as exc:
         raise UserError(str(exc)) from None
     if args.docx:
         from tracescreen.report.word import write_docx
 
-        print(f"Word document: {write_docx(doc, args.docx)}")
+        print(f"Word document: {write_atomic(args.docx, lambda p: write_docx(doc, p))}")
     if args.xlsx:
         try:
-            path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx, front=front_rows(doc))
+            tables = report_tables(data, site_ids)
+            path = write_atomic(args.xlsx, lambda p: outputs.write_xlsx(tables, p, front=front_rows(doc)))
         except ValueError as exc:  # a table longer than a sheet holds
             raise UserError(f"--xlsx {args.xlsx}: {exc}") from None
         print(f"Workbook: {path}")

@@ -2,10 +2,8 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 from . import UserError
-from .common import add_data_options, announce, pipeline_inputs, print_caution
+from .common import add_data_options, announce, output_folder, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options, lab_qc_tables
 from .parser import group
@@ -38,17 +36,14 @@ def register(sub) -> None:
 def run(args) -> int:
     from tracescreen import pipeline
     from tracescreen._internal.memory import release_unused
-    from tracescreen.report import writers as outputs
 
     if args.guard_band is not None and not args.guard_band >= 0:
         raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
     options = pipeline.Options(cross_fraction=args.cross_fraction, guard_band=args.guard_band,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
                                record_run=args.command, lab_qc=lab_qc_options(args))
+    folder = output_folder(args)  # --out checked before the work; outputs staged, renamed together, manifest last
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
-    out = Path(args.out)
-    lab_written = {name: outputs.write_csv(table, out / fname)
-                   for name, (table, fname) in lab_qc_tables(res.lab_qc, res.calibration).items()}
     tables = {
         "screening": (res.screened, "screening.csv"),
         "rejected": (res.loaded.rejected, "rejected.csv"),
@@ -62,11 +57,15 @@ def run(args) -> int:
         "periods": (res.periods, "periods.csv"),
     }
     written = {}
-    for name, (table, filename) in tables.items():
-        written[name] = outputs.write_csv(table, out / filename)
-        release_unused()  # each output's working memory is freed before the next one
-        if name == "limits":
-            written.update(lab_written)  # listed where the screen command has always listed them
+    with folder:
+        lab_written = {name: folder.csv(name, table, fname)
+                       for name, (table, fname) in lab_qc_tables(res.lab_qc, res.calibration).items()}
+        for name, (table, filename) in tables.items():
+            written[name] = folder.csv(name, table, filename)
+            release_unused()  # each output's working memory is freed before the next one
+            if name == "limits":
+                written.update(lab_written)  # listed where the screen command has always listed them
+        written["manifest"] = folder.commit(res.input_files)
     print_summary(res.loaded, res.screened)
     if args.guard_band is not None:
         print(f"Uncertainty decision rule: guard band g = {args.guard_band:g} x expanded uncertainty U "

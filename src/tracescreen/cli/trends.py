@@ -4,11 +4,10 @@
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
 from tracescreen.statistics.options import METHODS, MIN_VALUES, StatisticsOptions
 
-from .common import add_data_options, announce, pipeline_inputs, print_caution
+from .common import add_data_options, announce, output_folder, pipeline_inputs, print_caution
 from .parser import group
 
 EXAMPLES = [
@@ -72,15 +71,16 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from tracescreen import pipeline
-    from tracescreen.report import writers as outputs
 
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False, retest=None, lab_qc=None,
                                statistics=statistics_options(args, tables=("trends",)), record_run=args.command)
+    folder = output_folder(args)
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     table = res.trends
-    out = Path(args.out)
-    paths = {"trends": outputs.write_csv(table, out / "trends.csv"),
-             "rejected": outputs.write_csv(res.loaded.rejected, out / "rejected.csv")}
+    with folder:
+        paths = {"trends": folder.csv("trends", table, "trends.csv"),
+                 "rejected": folder.csv("rejected", res.loaded.rejected, "rejected.csv")}
+        paths["manifest"] = folder.commit(res.input_files)
     print(f"Results accepted: {len(res.loaded.accepted)}  rejected: {len(res.loaded.rejected)}")
     print(f"Series: {len(table)}")
     for d, n in table["direction"].value_counts().items():

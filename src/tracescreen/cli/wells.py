@@ -6,10 +6,17 @@ with the limit tables. One CSV per method, every input and decision recorded."""
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
 from . import UserError
-from .common import add_reading_options, announce, pipeline_inputs, print_caution, results_from_args, warn
+from .common import (
+    add_reading_options,
+    announce,
+    output_folder,
+    pipeline_inputs,
+    print_caution,
+    results_from_args,
+    warn,
+)
 from .parser import group
 
 EXAMPLES = [
@@ -139,9 +146,9 @@ def design_from_args(args):
 
 def run(args) -> int:
     from tracescreen import pipeline
-    from tracescreen.report import writers as outputs
 
     wopts = wells_options(args, required=True)
+    folder = output_folder(args)  # --out checked before the work
     if args.limits:
         data = pipeline.load(pipeline_inputs(args))
         announce(data)
@@ -158,9 +165,10 @@ def run(args) -> int:
     if unknown:
         warn(f"{len(unknown)} network well(s) without accepted results: {', '.join(unknown[:5])}")
     tables = pipeline.wells(loaded.accepted, screened, wopts)
-    out = Path(args.out)
-    paths = {name: outputs.write_csv(tables[name], out / FILES[name]) for name in FILES}
-    paths["rejected"] = outputs.write_csv(loaded.rejected, out / "rejected.csv")
+    with folder:  # staged, renamed together, run manifest last
+        paths = {name: folder.csv(name, tables[name], FILES[name]) for name in FILES}
+        paths["rejected"] = folder.csv("rejected", loaded.rejected, "rejected.csv")
+        paths["manifest"] = folder.commit()
     _print_summary(tables, loaded)
     print("\nOutputs:")
     for name, path in paths.items():

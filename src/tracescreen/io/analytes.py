@@ -23,9 +23,8 @@ from importlib import resources
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 
 #: Words that put a fraction into an analyte name, and the fraction they mean.
 #: dissolved: passed through a 0.45 µm filter before acidification (common practice);
@@ -76,7 +75,7 @@ def cas_check_digit_ok(cas: str) -> bool:
 def registry() -> tuple[Analyte, ...]:
     """The shipped analyte registry."""
     text = resources.files("tracescreen").joinpath("data/analytes.yaml").read_text("utf-8")
-    rows = yaml.load(text, Loader=SAFE_LOADER)["analytes"]
+    rows = parse_yaml(text, "analytes.yaml")["analytes"]
     return tuple(
         Analyte(r["name"], r["symbol"], str(r["cas"]), tuple(r.get("synonyms") or ())) for r in rows
     )

@@ -21,9 +21,8 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 from tracescreen.vocabulary import DATE_ORDERS
 
 FRACTION_VOCAB = {
@@ -58,8 +57,8 @@ def _code_key(code) -> str:
 
 @functools.cache
 def _data(name: str) -> dict:
-    return yaml.load(resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8"),
-                     Loader=SAFE_LOADER)
+    return parse_yaml(resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8"),
+                      f"{name}.yaml")
 
 
 def _fractions_from_data() -> tuple[dict[str, str], dict[str, str]]:
@@ -122,19 +121,44 @@ def to_number(text: pd.Series, decimal_comma: bool = False) -> pd.Series:
         arr = pc.replace_substring(arr, ",", ".")
     ok = pc.match_substring_regex(arr, _NUM_FULL)
     vals = pc.cast(pc.utf8_trim_whitespace(pc.if_else(ok, arr, pa.scalar(None, pa.string()))), pa.float64())
-    out = vals.to_numpy(zero_copy_only=False)
-    return pd.Series(np.where(np.isnan(out), np.nan, out).astype(float), index=text.index)
+    out = vals.to_numpy(zero_copy_only=False).astype(float)
+    return pd.Series(np.where(np.isfinite(out), out, np.nan), index=text.index)  # 1e309 is no number
+
+
+#: A time-zone name or UTC offset after a time (or a date): read, not applied (README "Dates and times").
+_ZONE = re.compile(r"(?:(\d{1,2}:\d{2}(?::\d{2}(?:[.,]\d+)?)?)\s*(?:Z|[+-]\d{2}(?::?\d{2})?"
+                   r"|(?:UTC|GMT)(?:\s*[+-]\d{1,2}(?::?\d{2})?)?|[A-Za-z]{1,5})"
+                   r"|(\d{4}-\d{2}-\d{2})(?:Z|[+-]\d{2}:\d{2}))$")
+#: The dates a lab file can hold: later ones are no sampling date, and past pandas' range of nanoseconds.
+LATEST_DATE = pd.Timestamp("2200-01-01")
+
+
+def _iso_dates(s: pd.Series) -> pd.Series:
+    """ISO 8601 parse of distinct texts; NaT where a text does not parse (never an exception)."""
+    try:
+        out = pd.to_datetime(s, format="ISO8601", errors="coerce")
+    except (ValueError, OverflowError):  # e.g. offsets left in some texts: one by one
+        out = pd.Series([_one_iso(x) for x in s], index=s.index, dtype="datetime64[us]")
+    if getattr(out.dt, "tz", None) is not None:
+        out = out.dt.tz_localize(None)
+    return out.astype("datetime64[us]")
+
+
+def _one_iso(text: str):
+    try:
+        t = pd.Timestamp(text)
+    except (ValueError, OverflowError):
+        return pd.NaT
+    return t.tz_localize(None) if t.tzinfo is not None else t
 
 
 def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:
-    """Parse distinct date strings; NaT where none of the allowed forms fits."""
+    """Parse distinct date strings (microsecond resolution, any year); NaT where no allowed form fits."""
     s = pd.Series(uniques.astype(str), index=uniques).str.strip()
-    # a time-zone name after a time ("10:30 EST", "10:30:00 UTC") is read, not applied: dates are
-    # kept in the local clock time the sample was taken in (README, "Dates and times")
-    s = s.str.replace(r"(\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?)\s+[A-Za-z]{1,5}$", r"\1", regex=True)
-    # so is a UTC offset ("2021-03-04T10:30:00-05:00" is 10:30 local time on 4 March)
-    s = s.str.replace(r"(\d{1,2}:\d{2}(?::\d{2}(?:\.\d+)?)?)\s*(?:Z|[+-]\d{2}:?\d{2})$", r"\1", regex=True)
-    iso = pd.to_datetime(s, format="ISO8601", errors="coerce")
+    # a time-zone name or UTC offset after a time ("10:30 EST", "10:30:00-05:00", "10:30Z") is read,
+    # not applied: dates are kept in the local clock time the sample was taken in
+    s = s.str.replace(_ZONE, r"\1\2", regex=True).str.replace(r"(\d{2}:\d{2}:\d{2}),(\d+)$", r"\1.\2", regex=True)
+    iso = _iso_dates(s)
     if order == "iso":
         # ISO 8601 only: YYYY-MM-DD with optional time; reject "2020-13-01" and day-first text
         looks_iso = s.str.match(r"^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?$")
@@ -147,9 +171,7 @@ def _parse_unique_dates(uniques: pd.Index, order: str) -> pd.Series:
                 missing = out.isna().to_numpy()
                 if not missing.any():
                     break
-                out[missing] = pd.to_datetime(s[missing], format=f + t, errors="coerce")
-    if getattr(out.dt, "tz", None) is not None:
-        out = out.dt.tz_localize(None)
+                out[missing] = pd.to_datetime(s[missing], format=f + t, errors="coerce").astype("datetime64[us]")
     return out
 
 
@@ -170,7 +192,20 @@ def join_date_time(dates: pd.Series, times: pd.Series) -> pd.Series:
 
 
 def parse_dates(text: pd.Series, order: str = "iso") -> tuple[np.ndarray, np.ndarray]:
-    """Parse a date column, once per distinct value.
+    """Parse a date column, once per distinct value (:func:`parse_dates_in_range` with the default range).
+
+    Returns
+    -------
+    dates : numpy datetime64[ns] array (NaT where empty, unparseable or out of range)
+    bad : bool array, True where the cell is not empty and is not a date in range
+    """
+    dates, bad, out_of_range = parse_dates_in_range(text, order)
+    return dates, bad | out_of_range
+
+
+def parse_dates_in_range(text: pd.Series, order: str = "iso", earliest: str = "1900-01-01"
+                         ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Parse a date column, once per distinct value, keeping only dates from ``earliest`` to 2200.
 
     Parameters
     ----------
@@ -178,21 +213,35 @@ def parse_dates(text: pd.Series, order: str = "iso") -> tuple[np.ndarray, np.nda
     order : {"iso", "dmy", "mdy"}
         ``iso`` accepts ISO 8601 only (``2021-03-04``, ``2021-03-04 10:30``). ``dmy``/``mdy`` also
         accept day-first (``04/03/2021``) or month-first (``03/04/2021``) forms. Never guessed.
+    earliest : str
+        The earliest plausible date (ISO); an earlier date, like one after :data:`LATEST_DATE`, is
+        out of range (it would also not fit pandas' nanosecond dates, which silently wrap).
 
     Returns
     -------
-    dates : numpy datetime64[ns] array (NaT where empty or unparseable)
+    dates : numpy datetime64[ns] array (NaT where empty, unparseable or out of range)
     bad : bool array, True where the cell is not empty and could not be parsed
+    out_of_range : bool array, True where the cell is a date outside the range
+
+    Examples
+    --------
+    >>> d, bad, out = parse_dates_in_range(pd.Series(["0201-03-04", "2021-03-04 10:30:15", "x", ""]))
+    >>> d.astype(str).tolist(), bad.tolist(), out.tolist()
+    (['NaT', '2021-03-04T10:30:15.000000000', 'NaT', 'NaT'], [False, False, True, False], [True, False, False, False])
     """
     if order not in DATE_ORDERS:
         raise ValueError(f"date order must be one of {DATE_ORDERS}")
     s = text.fillna("").astype(str)
     codes, uniques = pd.factorize(s)
-    parsed = _parse_unique_dates(pd.Index(uniques), order).to_numpy(dtype="datetime64[ns]")
+    parsed = _parse_unique_dates(pd.Index(uniques), order).to_numpy(dtype="datetime64[us]")
+    lo = np.datetime64(pd.Timestamp(earliest).to_datetime64(), "us")
+    v_out = ~np.isnat(parsed) & ((parsed < lo) | (parsed > np.datetime64(LATEST_DATE.to_datetime64(), "us")))
+    parsed = np.where(v_out, np.datetime64("NaT"), parsed).astype("datetime64[ns]")
     dates = parsed[codes] if len(uniques) else np.array([], dtype="datetime64[ns]")
+    out_of_range = v_out[codes] if len(uniques) else np.zeros(0, dtype=bool)
     empty = (s.str.strip() == "").to_numpy()
-    bad = np.isnat(dates) & ~empty
-    return dates, bad
+    bad = np.isnat(dates) & ~empty & ~out_of_range
+    return dates, bad, out_of_range
 
 
 def parse_vocabulary(text: pd.Series, vocab: dict[str, str]) -> tuple[np.ndarray, np.ndarray]:

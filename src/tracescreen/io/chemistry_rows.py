@@ -17,9 +17,8 @@ from importlib import resources
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 
 #: Input -> accepted-results column.
 COLUMNS = {"ph": "ph", "doc": "doc_mg_L", "temperature": "temperature_C"}
@@ -35,7 +34,7 @@ def _key(text: str) -> str:
 @functools.lru_cache(maxsize=1)
 def _names() -> dict[str, str]:
     text = resources.files("tracescreen").joinpath("data/water_chemistry.yaml").read_text("utf-8")
-    data = yaml.load(text, Loader=SAFE_LOADER)
+    data = parse_yaml(text, "water_chemistry.yaml")
     return {_key(n): kind for kind, names in data.items() for n in names}
 
 

@@ -17,9 +17,8 @@ from importlib import resources
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 
 #: The classes each code list may use (checked when the file is read).
 CLASSES = {
@@ -41,7 +40,7 @@ def code_table(name: str) -> pd.DataFrame:
     Raises ``ValueError`` naming the file and entry when an entry has an unknown class or source.
     """
     text = resources.files("tracescreen").joinpath(f"data/{name}.yaml").read_text("utf-8")
-    data = yaml.load(text, Loader=SAFE_LOADER)
+    data = parse_yaml(text, f"{name}.yaml")
     sources = set(data.get("sources") or {})
     rows = []
     for ns, entries in data["namespaces"].items():

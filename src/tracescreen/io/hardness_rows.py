@@ -18,9 +18,8 @@ from importlib import resources
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 
 
 def _key(text: str) -> str:
@@ -31,7 +30,7 @@ def _key(text: str) -> str:
 def hardness_names() -> frozenset[str]:
     """Matching keys of the total-hardness names of ``data/analytes.yaml``."""
     text = resources.files("tracescreen").joinpath("data/analytes.yaml").read_text("utf-8")
-    return frozenset(_key(n) for n in yaml.load(text, Loader=SAFE_LOADER)["hardness_names"])
+    return frozenset(_key(n) for n in parse_yaml(text, "analytes.yaml")["hardness_names"])
 
 
 def is_hardness_name(labels: pd.Series) -> np.ndarray:

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
 from tracescreen._internal.memory import release_unused
@@ -61,7 +62,8 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
         report("read", k, len(paths), unit="files", detail=Path(path).name)
         raws, digest = read_raw(path, opts)
         for raw in raws:
-            acc, rej = normalise(raw, opts, site_ids, sites_name)
+            with np.errstate(over="ignore", invalid="ignore"):  # 1e308 mg/L overflows: rejected, no warning
+                acc, rej = normalise(raw, opts, site_ids, sites_name)
             warnings.extend(raw.notes)
             accepted.append(acc)
             rejected.append(rej)

@@ -34,10 +34,9 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import yaml
 
 from tracescreen._internal.coded import CodedText, joint_codes
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import YamlError, read_yaml
 from tracescreen.io import codelists
 from tracescreen.io.columns import CANONICAL, header_key
 
@@ -116,11 +115,11 @@ def load_column_map(path: str | Path) -> ColumnMap:
     """Read and check a ``--columns`` YAML file (see the module docstring for its form)."""
     p = Path(path)
     try:
-        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+        data = read_yaml(p)  # repeated keys, aliases and object tags are refused
     except FileNotFoundError:
         raise ColumnMapError(f"{p}: column-mapping file not found") from None
-    except (yaml.YAMLError, UnicodeDecodeError) as exc:
-        raise ColumnMapError(f"{p}: not a readable YAML file ({exc.__class__.__name__})") from None
+    except YamlError as exc:
+        raise ColumnMapError(str(exc)) from None
     if not isinstance(data, dict):
         raise ColumnMapError(f"{p}: expected a mapping with sections {', '.join(SECTIONS)}")
     unknown = sorted(set(map(str, data)) - set(SECTIONS))

@@ -33,9 +33,8 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import YamlError, read_yaml
 
 NETWORK_COLUMNS = ("site_id", "role", "well_group", "comparison", "stage", "background_from",
                    "background_to", "analyte")
@@ -156,11 +155,11 @@ def read_design(path: str | Path) -> dict:
     """Read a design YAML file into a dict of :data:`DESIGN_KEYS` (values as written)."""
     p = Path(path)
     try:
-        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+        data = read_yaml(p)  # repeated keys, aliases and object tags are refused
     except FileNotFoundError:
         raise NetworkError(f"{p}: design file not found") from None
-    except (yaml.YAMLError, UnicodeDecodeError) as exc:
-        raise NetworkError(f"{p}: not a readable YAML file ({exc.__class__.__name__})") from None
+    except YamlError as exc:
+        raise NetworkError(str(exc)) from None
     if data is None:
         return {}
     if not isinstance(data, dict):

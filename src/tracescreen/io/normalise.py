@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
+from tracescreen._internal.printable import printable_array
 from tracescreen.io import (
     analytes,
     censoring,
@@ -27,6 +28,7 @@ from tracescreen.io import (
     hardness_rows,
     mapping,
     nwis,
+    plausible,
     units,
     wqx,
 )
@@ -74,6 +76,8 @@ class _Rows:
         out = self.reject.copy()
         aside = self.aside != ""
         out[aside] = SET_ASIDE_PREFIX + self.aside[aside].astype(str)
+        given = out != ""
+        out[given] = printable_array(out[given])  # reasons echo cells: control characters shown escaped
         return out
 
 
@@ -148,9 +152,11 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         return mapping.gives(cells, found, c, cm, applies)
 
     rows = _Rows(n)
+    structural = np.zeros(n, dtype=bool)  # a line that is not a row of the table: rejected, never set aside
     if "__field_count_error__" in cells.columns:
         fc = cells["__field_count_error__"].to_numpy(dtype=object)
-        rows.error(fc != "", fc[fc != ""])
+        structural = fc != ""
+        rows.error(structural, fc[structural])
 
     # -- who and when ----------------------------------------------------------------------
     site, sample = col("site_id"), col("sample_id")
@@ -166,8 +172,10 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     if site_ids is not None:
         unknown_site = site.rows(~site.values.isin(site_ids) & (site.values != ""))
         rows.error(unknown_site, _quoted(site, unknown_site, "site ", f" is not in {sites_name}"))
-    dates, bad = parsing.parse_dates(sampled_text.series(), date_order)
-    sampled_at, bad_date = sampled_text.rows(dates), sampled_text.rows(bad)
+    dates, bad, v_out = parsing.parse_dates_in_range(sampled_text.series(), date_order, opts.earliest_date)
+    sampled_at, bad_date, out_date = sampled_text.rows(dates), sampled_text.rows(bad), sampled_text.rows(v_out)
+    rows.error(out_date, _quoted(sampled_text, out_date, "sampled_at ", f" is outside the plausible dates "
+                                 f"({opts.earliest_date} to today; --earliest-date sets the first)"))
     rows.error(sampled_text.equals(""), "sampled_at is empty")
     hint = "" if date_order != "iso" else \
         " (ISO 8601 expected, e.g. 2021-03-04; use --date-order dmy or mdy for other forms)"
@@ -294,15 +302,15 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
                "field duplicate without parent_sample_id")
 
     an_text = col("analysed_at")
-    an_dates, an_bad = parsing.parse_dates(an_text.series(), date_order)
-    bad_an = an_text.rows(an_bad)
+    an_dates, an_bad, an_out = parsing.parse_dates_in_range(an_text.series(), date_order, opts.earliest_date)
+    bad_an = an_text.rows(an_bad | an_out)
     rows.error(bad_an, _quoted(an_text, bad_an, "analysed_at ", " is not a date"))
 
     # -- hardness ---------------------------------------------------------------------------------
     hard_text = col("hardness_mg_L")
     v_hardness = parsing.to_number(hard_text.series(), opts.decimal_comma).to_numpy()
-    bad_h = hard_text.rows(((hard_text.values != "") & np.isnan(v_hardness)) | (v_hardness < 0))
-    rows.error(bad_h, _quoted(hard_text, bad_h, "hardness ", " is not a non-negative number"))
+    bad_h = hard_text.rows((hard_text.values != "") & np.isnan(v_hardness))
+    rows.error(bad_h, _quoted(hard_text, bad_h, "hardness ", " is not a number"))
     row_hardness = hard_text.rows(v_hardness)
     if is_hardness.any():  # hardness result rows [mg/L as CaCO3] -> hardness of the same sample
         ok_h = is_hardness & parsed["detected"][combo] & pd.isna(parsed["error"][combo]).astype(bool) \
@@ -316,11 +324,24 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     chem = chemistry_rows.sample_inputs_from_rows(analyte_text, fraction == 2, rows.aside, parsed, combo,
                                                   unit_text.codes, v_unit_plain, v_factor, sample_code)
 
+    # -- impossible numbers: never screened ----------------------------------------------------------
+    factor = v_factor[unit_text.codes[first]]  # per combination
+    for arr, what in ((parsed["value"], "result"), (parsed["detection_limit"], "detection limit"),
+                      (parsed["quantitation_limit"], "quantitation limit"), (unc, "uncertainty")):
+        with np.errstate(over="ignore", invalid="ignore"):  # 1e307 mg/L overflows to inf in µg/L
+            v_bad, msg = plausible.concentration_problem(arr * factor, what)
+        rows.error(v_bad[combo], msg)
+    h_bad, msg = plausible.hardness_problem(row_hardness)
+    rows.error(h_bad, msg)
+    for c in INPUT_COLUMNS:
+        in_bad, msg = plausible.input_problem(c, chem[c])
+        rows.error(in_bad, msg)
+    rows.aside[structural] = ""
+
     # -- the two tables ----------------------------------------------------------------------------
     reasons = rows.reasons()
     ok = reasons == ""
     okc = combo[ok]
-    factor = v_factor[unit_text.codes[first]]  # per combination
     one = np.zeros(int(ok.sum()), dtype=np.int8)
     acc = pd.DataFrame({
         "file": pd.Categorical.from_codes(one, categories=pd.Index([raw.file], dtype="str")),

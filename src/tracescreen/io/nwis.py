@@ -26,9 +26,8 @@ from importlib import resources
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import parse_yaml
 
 #: Header spellings (after :func:`~tracescreen.io.columns.header_key`) -> tracescreen column.
 #: Column names of NWIS water-quality output (rdb): seen in the header of a NWISWeb download
@@ -66,7 +65,7 @@ def parameter_table() -> pd.DataFrame:
     """``code, analyte, fraction, unit`` of every parameter code of ``data/nwis_parameters.yaml``
     (hardness, code 00900, has analyte ``hardness`` and no fraction)."""
     text = resources.files("tracescreen").joinpath("data/nwis_parameters.yaml").read_text("utf-8")
-    rows = yaml.load(text, Loader=SAFE_LOADER)["parameters"]
+    rows = parse_yaml(text, "nwis_parameters.yaml")["parameters"]
     t = pd.DataFrame([{k: r.get(k) for k in ("code", "analyte", "fraction", "unit")} for r in rows])
     t["code"] = t["code"].astype(str).str.zfill(5)
     t["analyte"] = np.where(t["analyte"] == "hardness", "Hardness, water", t["analyte"])
@@ -77,7 +76,7 @@ def parameter_table() -> pd.DataFrame:
 def _fraction_phrases() -> tuple[str, ...]:
     """The fraction phrases of NWIS names (``data/fractions.yaml``, ``nwis_name_words``), longest first."""
     text = resources.files("tracescreen").joinpath("data/fractions.yaml").read_text("utf-8")
-    words = [str(e["code"]) for e in yaml.load(text, Loader=SAFE_LOADER)["nwis_name_words"]]
+    words = [str(e["code"]) for e in parse_yaml(text, "fractions.yaml")["nwis_name_words"]]
     return tuple(sorted(set(words), key=len, reverse=True))
 
 

@@ -35,9 +35,8 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import read_yaml
 
 VOCABULARY_FILE = Path(__file__).resolve().parents[1] / "data" / "qualifiers.yaml"
 
@@ -60,7 +59,7 @@ _SPLIT = re.compile(r"[;,\s]+")
 @lru_cache(maxsize=1)
 def vocabulary() -> pd.DataFrame:
     """Every code of ``data/qualifiers.yaml``: ``namespace, code, meaning, source, checked, text``."""
-    data = yaml.load(VOCABULARY_FILE.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+    data = read_yaml(VOCABULARY_FILE)
     meanings = data["meanings"]
     rows = []
     for ns, codes in data["namespaces"].items():

@@ -89,6 +89,10 @@ def normalise_unit_text(text: str) -> str:
     return s
 
 
+#: Longer text is not a unit (the longest we read, ``micrograms per liter as CaCO3``, has 31 characters).
+MAX_UNIT_TEXT = 64
+
+
 @functools.lru_cache(maxsize=4096)
 def factor_to_ug_per_L(unit_text: str) -> float | None:
     """Factor that turns a concentration in ``unit_text`` into µg/L, or None if not a concentration.
@@ -104,6 +108,8 @@ def factor_to_ug_per_L(unit_text: str) -> float | None:
         Multiply a value in ``unit_text`` by this to get µg/L [µg/L per unit]. Rounded to 12
         significant digits so that exact decimal factors (1000, 0.001) carry no binary residue.
     """
+    if len(unit_text) > MAX_UNIT_TEXT:  # pint's parser slows with the square of the text's length
+        return None
     s = normalise_unit_text(unit_text)
     if not s:
         return None
@@ -142,8 +148,10 @@ def clean_decimal(values: np.ndarray, digits: int = 12) -> np.ndarray:
     """
     v = np.asarray(values, dtype=float)
     out = v.copy()
-    nz = np.isfinite(v) & (v != 0)
-    mag = np.floor(np.log10(np.abs(v[nz])))
-    scale = 10.0 ** (digits - 1 - mag)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        mag = np.floor(np.log10(np.abs(v)))
+    # only where the scale stays a finite double (|v| from about 1e-290 to 1e290; others are kept as they are)
+    nz = np.isfinite(v) & (v != 0) & (np.abs(mag) < 290)
+    scale = 10.0 ** (digits - 1 - mag[nz])
     out[nz] = np.round(v[nz] * scale) / scale
     return out

@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import SAFE_LOADER, YamlError, read_yaml
 from tracescreen.io import analytes, units
 from tracescreen.limits import forms, scope
 from tracescreen.limits.evaluate import (  # noqa: F401  (re-exported: evaluation used to live here)
@@ -134,6 +134,25 @@ def _hardness_formula(e: dict, label: str, row: dict) -> None:
         if lo > hi:
             raise LimitTableError(f"{label}: key 'hardness_range': min {lo} is above max {hi}")
         row["hardness_min"], row["hardness_max"] = lo, hi
+    _check_formula_range(row, label)
+
+
+#: Hardness values [mg/L as CaCO3] at which a formula must give a finite limit above 0 (within its range).
+FORMULA_CHECK_HARDNESS = (1.0, 10.0, 100.0, 1000.0, 10000.0)
+
+
+def _check_formula_range(row: dict, label: str) -> None:
+    """A hardness formula whose limit is infinite, 0 or negative at a plausible hardness is a load error
+    (it would make every result "meets" or "exceeds")."""
+    h = np.array(FORMULA_CHECK_HARDNESS)
+    with np.errstate(over="ignore", invalid="ignore"):
+        v = hardness_formula_limit(row["hf_m"], row["hf_b"], row["hf_cf"], row["hf_cf_intercept"],
+                                   row["hf_cf_ln_slope"], h, row["hardness_min"], row["hardness_max"])
+    bad = ~(np.isfinite(v) & (v > 0))
+    if bad.any():
+        raise LimitTableError(f"{label}: key 'hardness_formula': the limit is {v[bad][0]:g} at hardness "
+                              f"{h[bad][0]:g} mg/L (it must be finite and above 0 from 1 to 10,000 mg/L, "
+                              "within hardness_range); check m, b and cf")
 
 
 def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
@@ -231,17 +250,12 @@ def _table_dates(row: dict, table: dict, label: str) -> None:
 
 def _read_yaml(p: Path):
     """The YAML document of a limit-table file (a missing file, bad text or YAML raise LimitTableError)."""
-    name = p.name
-    try:
-        return yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+    try:  # repeated keys, aliases and object tags are refused, 1e-2 is a number (_internal.yamlfiles)
+        return read_yaml(p, item_names={"entries": "entry"})
     except FileNotFoundError:
         raise LimitTableError(f"{p}: limit table not found") from None
-    except UnicodeDecodeError:
-        raise LimitTableError(f"{name}: not UTF-8 text") from None
-    except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f" at line {mark.line + 1}" if mark is not None else ""
-        raise LimitTableError(f"{name}: not valid YAML{where}") from None
+    except YamlError as exc:
+        raise LimitTableError(str(exc)) from None
 
 
 def _check_table_keys(data, name: str) -> None:

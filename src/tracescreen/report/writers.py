@@ -56,14 +56,24 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
     return out
 
 
+def date_format(uniq: pd.DatetimeIndex) -> str:
+    """The ISO format that shows every distinct date-time in full: the time only where one has a time,
+    seconds only where one has seconds, fractions only where one has them."""
+    if not len(uniq) or (uniq == uniq.normalize()).all():
+        return "%Y-%m-%d"
+    if (uniq == uniq.floor("min")).all():
+        return "%Y-%m-%d %H:%M"
+    return "%Y-%m-%d %H:%M:%S" if (uniq == uniq.floor("s")).all() else "%Y-%m-%d %H:%M:%S.%f"
+
+
 def _format_dates(df: pd.DataFrame) -> pd.DataFrame:
     """Dates as ISO text (with the time only where a column has one), as categoricals of the distinct dates."""
     out = df.copy(deep=False)
     for c in out.columns:
         if pd.api.types.is_datetime64_any_dtype(out[c]):
             codes, uniq = pd.factorize(out[c])
-            has_time = (uniq != uniq.normalize()).any() if len(uniq) else False
-            text = pd.Index(uniq.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d"), dtype="str")
+            uniq = pd.DatetimeIndex(uniq)
+            text = pd.Index(uniq.strftime(date_format(uniq)), dtype="str")
             text = text.append(pd.Index([""], dtype="str"))  # NaT: empty text
             out[c] = pd.Categorical.from_codes(np.where(codes < 0, len(text) - 1, codes), categories=text)
     return out

@@ -101,6 +101,10 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
     form_remark = np.zeros(len(r_pos), dtype=np.int64)
     pair_inputs = {"hardness": H[fi], **{k: v[r_pos[fi]] for k, (v, _) in chem.items()}}
     limit[fi], form_remark[fi] = limits_mod.evaluate_pairs(entries, e_pos[fi], pair_inputs)
+    unusable = np.zeros(len(r_pos), dtype=bool)  # a computed limit that is infinite or not above 0
+    with np.errstate(invalid="ignore"):
+        unusable[fi] = ~np.isnan(limit[fi]) & ~(np.isfinite(limit[fi]) & (limit[fi] > 0))
+    limit[unusable] = np.nan  # never all-"meets" (infinite) or all-"exceeds" (0): no limit, and the note says why
     limit[fi] = round_criteria(limit[fi], e_pos[fi], entries, limits.tables)
 
     det = results["detected"].to_numpy(dtype=bool)
@@ -111,8 +115,8 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
     if cross.any():  # cross-fraction pairs stay only where they decide (screening/fractions.py)
         e_frac = entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos]
         stay = ~cross | fractions.deciding(status, e_frac)
-        r_pos, e_pos, cross, H, limit, status, form_remark = (
-            a[stay] for a in (r_pos, e_pos, cross, H, limit, status, form_remark))
+        r_pos, e_pos, cross, H, limit, status, form_remark, unusable = (
+            a[stay] for a in (r_pos, e_pos, cross, H, limit, status, form_remark, unusable))
         formula = limits_mod.is_formula(entries)[e_pos]
         fi = np.flatnonzero(formula)
     ent = num.iloc[e_pos[fi]]
@@ -131,6 +135,7 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
                                 h < ent["hardness_min"].to_numpy(float)], [4, 3, 2], 1)
     has_form = entries["form"].notna().to_numpy(dtype=bool)[e_pos] if "form" in entries else np.zeros(len(e_pos), bool)
     remark[has_form] = len(HARDNESS_REMARKS) + form_remark[has_form]  # limits/forms.py remarks follow
+    remark[unusable] = HARDNESS_REMARKS.index(UNUSABLE_REMARK)
     n_lone_kinds = 2 + len(QC_NOTES)
     qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),
@@ -193,10 +198,12 @@ def screen_with_periods(results: pd.DataFrame, limits: limits_mod.LimitSet, site
 
 NUMERIC_ENTRY_COLUMNS = ["value_ug_L", "hf_m", "hf_b", "hf_cf", "hf_cf_intercept", "hf_cf_ln_slope",
                          "hardness_min", "hardness_max", "unit_factor"]
+UNUSABLE_REMARK = "computed limit not usable at this sample's inputs (infinite or not above 0): not applied"
 HARDNESS_REMARKS = ("", "hardness-dependent limit",
                     "hardness-dependent limit; hardness raised to the formula's minimum",
                     "hardness-dependent limit; hardness capped at the formula's maximum",
-                    "hardness unknown: hardness-dependent limit not computed")
+                    "hardness unknown: hardness-dependent limit not computed",
+                    UNUSABLE_REMARK)
 LONE_NOTES = ("no limit entry in force on the sampling date",
               "no limit for this analyte and fraction in the tables for this site's uses")
 QC_NOTES = ("field_duplicate", "field_blank", "lab_blank")

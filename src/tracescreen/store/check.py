@@ -10,6 +10,8 @@ References
 
 from __future__ import annotations
 
+import hashlib
+import json
 import sqlite3
 
 import pyarrow as pa
@@ -33,6 +35,7 @@ def check_workspace(con: sqlite3.Connection) -> list[str]:
         "rows_rejected, first_result_id, rows_stored FROM files")}
     problems += _check_originals(con, files)
     problems += _check_segments(con, files)
+    problems += _check_rejected(con, files)
     sheets = {r[0]: r[1:] for r in con.execute(
         "SELECT file_id, sum(rows_read), sum(rows_accepted), sum(rows_rejected) FROM sheets "
         "GROUP BY file_id")}
@@ -104,4 +107,40 @@ def _check_segments(con, files) -> list[str]:
             problems.append(f"{name}: {len(ids)} results stored, {stored} recorded")
         elif len(ids) and (ids.min() != first or ids.max() != first + stored - 1 or len(set(ids)) != stored):
             problems.append(f"{name}: stored result ids are not {first}..{first + stored - 1}")
+    return problems
+
+
+#: ``workspace_info`` key holding the SHA-256 of one file's rejected rows (recorded at import).
+REJECTED_DIGEST_KEY = "rejected_sha256:{file_id}"
+
+
+def rejected_digest(rows) -> str:
+    """SHA-256 of rejected rows ``(sheet, row, reason, cells)`` in (sheet, row) order, as stored."""
+    h = hashlib.sha256()
+    for sheet, row, reason, cells in sorted(rows, key=lambda r: (r[0], r[1])):
+        h.update(f"{sheet}\x1f{row}\x1f{reason}\x1f{cells}\x1e".encode("utf-8", "surrogatepass"))
+    return h.hexdigest()
+
+
+def _check_rejected(con, files) -> list[str]:
+    """Every rejected row readable (cells a JSON object) and each file's rows as recorded at import."""
+    problems = []
+    digests = {int(k.split(":", 1)[1]): v for k, v in con.execute(
+        "SELECT key, value FROM workspace_info WHERE key LIKE 'rejected_sha256:%'")}
+    by_file: dict[int, list] = {}
+    for fid, sheet, row, reason, cells in con.execute(
+            "SELECT file_id, sheet, row, reason, cells FROM rejected ORDER BY file_id, sheet, row"):
+        by_file.setdefault(fid, []).append((sheet, row, reason, cells))
+    for fid, rows in by_file.items():
+        name = files[fid][1] if fid in files else f"file {fid}"
+        for sheet, row, reason, cells in rows:
+            try:
+                ok = isinstance(json.loads(cells), dict) and bool(reason) and row > 0
+            except (ValueError, TypeError):
+                ok = False
+            if not ok:
+                problems.append(f"{name}: rejected row {row} of sheet '{sheet}' is not readable")
+                break
+        if fid in digests and rejected_digest(rows) != digests[fid]:
+            problems.append(f"{name}: rejected rows do not match the SHA-256 recorded at import")
     return problems

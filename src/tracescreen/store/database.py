@@ -7,6 +7,8 @@ through a crash [SQLiteCommit]_. The schema and its format number: :mod:`tracesc
 
 from __future__ import annotations
 
+import contextlib
+import os
 import sqlite3
 from datetime import datetime, timezone
 from pathlib import Path
@@ -20,6 +22,13 @@ WORKSPACE_FILE = "workspace.sqlite"
 
 class WorkspaceError(ValueError):
     """A workspace that cannot be used as asked (the message says which and why)."""
+
+
+def damaged(path: Path, problem: str) -> WorkspaceError:
+    """The one-line error every command gives for a damaged workspace: what was found, and what to run."""
+    return WorkspaceError(f"{path}: the workspace is damaged ({' '.join(str(problem).split())[:300]}); "
+                          f"nothing was read from it. Run 'tracescreen history --check --workspace "
+                          f"{path.parent}' for every problem, and restore the file from a backup")
 
 
 def now() -> str:
@@ -49,6 +58,7 @@ def connect(directory: str | Path, create: bool = False) -> tuple[Path, sqlite3.
         if directory.exists() and not directory.is_dir():
             raise WorkspaceError(f"{directory}: exists and is not a directory")
         directory.mkdir(parents=True, exist_ok=True)
+        _create(path)
     con = None
     try:
         con = sqlite3.connect(path, isolation_level=None, timeout=120.0, check_same_thread=False)
@@ -59,7 +69,9 @@ def connect(directory: str | Path, create: bool = False) -> tuple[Path, sqlite3.
         version = con.execute("PRAGMA user_version").fetchone()[0]
         if app_id == 0 and version == 0 and con.execute(
                 "SELECT count(*) FROM sqlite_master").fetchone()[0] == 0:
-            initialise(con)
+            # a workspace file is created whole (_create): an empty one is a damaged (truncated) workspace
+            raise WorkspaceError(f"{path}: an empty file, not a workspace (was it truncated? restore it from a "
+                                 "backup, or remove it to start a new workspace)")
         elif app_id != APPLICATION_ID:
             raise WorkspaceError(f"{path}: not a tracescreen workspace")
         elif version < SCHEMA_VERSION and all(v in MIGRATIONS for v in range(version, SCHEMA_VERSION)):
@@ -76,6 +88,38 @@ def connect(directory: str | Path, create: bool = False) -> tuple[Path, sqlite3.
         con.close()
         raise
     return path, con
+
+
+def _create(path: Path) -> None:
+    """Create a workspace file whole: initialised under a temporary name, then linked into place.
+
+    So a crash during creation leaves no half-made ``workspace.sqlite``, and an empty file found
+    there later is damage, never a workspace to fill. If another process created it meanwhile,
+    that one is kept.
+    """
+    tmp = path.with_name(f".{path.name}.creating-{os.getpid()}")
+    try:
+        con = sqlite3.connect(tmp, isolation_level=None)
+        try:
+            initialise(con)
+            con.execute("PRAGMA journal_mode = DELETE")  # no -wal file left beside the temporary name
+        finally:
+            con.close()
+        with open(tmp, "rb") as f:
+            os.fsync(f.fileno())
+        try:
+            os.link(tmp, path)  # never replaces a workspace created meanwhile
+        except FileExistsError:
+            pass
+        except OSError:  # a file system without hard links
+            if not path.exists():
+                os.replace(tmp, path)
+    except OSError as exc:
+        raise WorkspaceError(f"{path}: cannot create the workspace ({exc.strerror or exc})") from None
+    finally:
+        for leftover in [tmp] + [tmp.with_name(tmp.name + x) for x in ("-journal", "-wal", "-shm")]:
+            with contextlib.suppress(OSError):
+                leftover.unlink()
 
 
 def initialise(con: sqlite3.Connection) -> None:

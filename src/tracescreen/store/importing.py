@@ -23,6 +23,7 @@ from tracescreen._internal.hashing import file_sha256, sha256_hex
 from tracescreen.io import loading
 from tracescreen.progress import report
 from tracescreen.store.blobs import _encode
+from tracescreen.store.check import REJECTED_DIGEST_KEY, rejected_digest
 from tracescreen.store.database import now, write
 from tracescreen.store.outcomes import FileBatch, FileOutcome, ImportSummary
 from tracescreen.store.revisions import RESULT_KEY, VALUE_COLUMNS, classify, probe_hash, row_hashes
@@ -216,10 +217,11 @@ class Importing:
         lines = (cells.fillna("").astype(str).to_json(orient="records", lines=True,
                                                       force_ascii=False).splitlines()
                  if cells.shape[1] else ["{}"] * len(rej))
-        self.con.executemany(
-            "INSERT INTO rejected VALUES (?, ?, ?, ?, ?)",
-            zip([file_id] * len(rej), rej["sheet"].astype(str), rej["row"].astype(int).tolist(),
-                rej["reason"].astype(str), lines))
+        rows = list(zip(rej["sheet"].astype(str), rej["row"].astype(int).tolist(), rej["reason"].astype(str), lines))
+        self.con.executemany("INSERT INTO rejected VALUES (?, ?, ?, ?, ?)", ((file_id, *r) for r in rows))
+        # the rows' SHA-256, so that `history --check` finds a rejected row changed on disk
+        self.con.execute("INSERT INTO workspace_info VALUES (?, ?)",
+                         (REJECTED_DIGEST_KEY.format(file_id=file_id), rejected_digest(rows)))
 
     def record_screening_run(self, command: str, results: int, limit_files: Iterable[str | Path],
                              sites_path: str | Path | None, summary: dict) -> int:

@@ -28,6 +28,7 @@ References
 from __future__ import annotations
 
 import contextlib
+import functools
 import json
 import sqlite3
 import tempfile
@@ -41,8 +42,34 @@ from tracescreen._internal.hashing import sha256_hex
 from tracescreen.io import loading
 from tracescreen.io.columns import load_column_map
 from tracescreen.store.blobs import _STORED, _decode, _to_frame
-from tracescreen.store.database import WorkspaceError, connect
+from tracescreen.store.database import WorkspaceError, connect, damaged
 from tracescreen.store.importing import Importing
+
+#: What reading a damaged workspace raises (SQLite: "database disk image is malformed"; Arrow: a footer
+#: or LZ4 buffer that does not verify; text that is not UTF-8 or JSON).
+_DAMAGE = (sqlite3.DatabaseError, pa.ArrowException, UnicodeDecodeError, json.JSONDecodeError, EOFError)
+
+
+def _full(exc: BaseException) -> bool:
+    return isinstance(exc, sqlite3.OperationalError) and any(
+        w in str(exc) for w in ("disk is full", "disk I/O error", "out of memory"))
+
+
+def _guarded(method):
+    """Turn what a damaged or full workspace raises into one :class:`WorkspaceError` line (naming
+    ``history --check``), never a traceback."""
+    @functools.wraps(method)
+    def wrapper(self, *args, **kwargs):
+        try:
+            return method(self, *args, **kwargs)
+        except WorkspaceError:
+            raise
+        except _DAMAGE as exc:
+            if _full(exc):
+                raise WorkspaceError(f"{self.path}: cannot write to the workspace ({exc}); nothing was "
+                                     "changed: free some disk space and run the command again") from None
+            raise damaged(self.path, f"{type(exc).__name__}: {exc}") from None
+    return wrapper
 
 
 def open_workspace(directory: str | Path, create: bool = False) -> "Workspace":
@@ -62,6 +89,11 @@ class Workspace(Importing):
 
     def __init__(self, directory: Path, path: Path, con: sqlite3.Connection):
         self.directory, self.path, self.con = directory, path, con
+
+    # writing (store/importing.py), with a full disk or a damaged workspace as one line
+    import_files = _guarded(Importing.import_files)
+    store = _guarded(Importing.store)
+    record_screening_run = _guarded(Importing.record_screening_run)
 
     def close(self) -> None:
         """Close the database connection."""
@@ -93,39 +125,60 @@ class Workspace(Importing):
         with self.reading():
             return fn(self.con)
 
+    @_guarded
     def known_sha256(self) -> set[str]:
         """SHA-256 of every file stored in the workspace."""
         return {r[0] for r in self.con.execute("SELECT sha256 FROM files")}
 
     # ---- reading back ----------------------------------------------------------------------
+    @_guarded
     def _load_table(self, columns: list[str] | None = None, current: bool = True) -> pa.Table:
         """Stored results (current only, or all) as one Arrow table, in one snapshot."""
         def fetch(con):
+            # the database's pages first (a zeroed page can hide rows without any error on reading)
+            bad = [r[0] for r in con.execute("PRAGMA quick_check(3)") if r[0] != "ok"]
+            if bad:
+                raise damaged(self.path, "; ".join(bad))
             parts: dict[int, list[bytes]] = {}
-            for file_id, data in con.execute("SELECT file_id, data FROM segments ORDER BY file_id, part"):
+            for file_id, part, digest, data in con.execute(
+                    "SELECT file_id, part, sha256, data FROM segments ORDER BY file_id, part"):
+                if sha256_hex(data) != digest:  # every read is verified, not only `history --check`
+                    raise damaged(self.path, f"part {part} of the stored results of file {file_id} does not "
+                                             "match its SHA-256")
                 parts.setdefault(file_id, []).append(data)
-            blobs = [b"".join(p) if len(p) > 1 else p[0] for p in parts.values()]
+            stored = dict(con.execute("SELECT file_id, rows_stored FROM files"))
+            blobs = {f: b"".join(p) if len(p) > 1 else p[0] for f, p in parts.items()}
             gone = np.fromiter((r[0] for r in con.execute("SELECT result_id FROM supersessions")),
                                dtype=np.int64)
-            return blobs, gone
+            return blobs, gone, stored
 
-        blobs, gone = self._read(fetch)
+        blobs, gone, stored = self._read(fetch)
+        lost = [f for f, n in stored.items() if n and f not in blobs] + [f for f in blobs if f not in stored]
+        if lost:
+            raise damaged(self.path, f"the stored results of file(s) {', '.join(map(str, lost[:5]))} are missing")
         want = columns or loading.ACCEPTED_COLUMNS + ["result_id"]
         if not blobs:
             return _STORED.empty_table().select(want)
         need = want if not (current and len(gone)) or "result_id" in want else want + ["result_id"]
-        tables = [_decode_stored(b, need) for b in blobs]
+        tables = []
+        for file_id, b in blobs.items():
+            t = _decode_stored(b, need)
+            if t.num_rows != stored[file_id]:
+                raise damaged(self.path, f"file {file_id}: {t.num_rows} results stored, {stored[file_id]} recorded")
+            tables.append(t)
         table = pa.concat_tables(tables) if len(tables) > 1 else tables[0]
         if current and len(gone):
             keep = ~np.isin(table.column("result_id").to_numpy(), gone)
             table = table.filter(pa.array(keep)).select(want)
         return table
 
+    @_guarded
     def current_results(self) -> pd.DataFrame:
         """The current results as the accepted-results DataFrame (DEVELOPERS.md contract)."""
         table = self._load_table(loading.ACCEPTED_COLUMNS)
         return _to_frame(table) if table.num_rows else loading.empty_accepted()
 
+    @_guarded
     def results_history(self) -> pd.DataFrame:
         """Every stored result, current and superseded, with import, file hash and supersession."""
         def fetch(con):
@@ -145,16 +198,19 @@ class Workspace(Importing):
         df["superseded_by"] = df["superseded_by"].astype("Int64")
         return df
 
+    @_guarded
     def imports(self) -> pd.DataFrame:
         """Every import: times, tool version, read options, inputs with SHA-256, row counts."""
         return pd.read_sql_query("SELECT * FROM imports ORDER BY import_id", self.con)
 
+    @_guarded
     def files(self) -> pd.DataFrame:
         """Every stored file with its import, SHA-256, counts and sheets."""
         return pd.read_sql_query(
             "SELECT f.*, (SELECT group_concat(sheet, ', ') FROM sheets s WHERE s.file_id = f.file_id) "
             "AS sheets FROM files f ORDER BY file_id", self.con)
 
+    @_guarded
     def sheets(self) -> pd.DataFrame:
         """Every stored sheet: header row, rows read, accepted, rejected and blank."""
         return pd.read_sql_query(
@@ -162,6 +218,7 @@ class Workspace(Importing):
             "s.rows_accepted AS accepted, s.rows_rejected AS rejected, s.blank_rows, f.import_id "
             "FROM sheets s JOIN files f USING (file_id) ORDER BY f.file_id, s.sheet", self.con)
 
+    @_guarded
     def rejected_rows(self) -> pd.DataFrame:
         """Every rejected row: file, sheet, row, reason, import id and the original cells (JSON)."""
         return pd.read_sql_query(
@@ -169,6 +226,7 @@ class Workspace(Importing):
             "r.cells FROM rejected r JOIN files f USING (file_id) ORDER BY f.file_id, r.sheet, r.row",
             self.con)
 
+    @_guarded
     def original_bytes(self, file_id: int) -> bytes:
         """The bytes of a stored lab file, exactly as imported (checked against its SHA-256)."""
         row = self.con.execute("SELECT o.data, f.sha256, f.size_bytes FROM originals o "
@@ -180,6 +238,7 @@ class Workspace(Importing):
             raise WorkspaceError(f"file {file_id}: stored bytes do not match its SHA-256")
         return data
 
+    @_guarded
     def original_cells(self, file_id: int, sheet: str = "") -> pd.DataFrame:
         """The cells of one stored sheet as reported (original headers), with their row numbers."""
         name, opts, cols_text = self.con.execute(
@@ -198,11 +257,13 @@ class Workspace(Importing):
                 return raw.cells.assign(row=raw.rows)[["row", *raw.cells.columns]]
         raise WorkspaceError(f"no sheet '{sheet}' in stored file {name}")
 
+    @_guarded
     def current_count(self) -> int:
         """Number of current results (stored minus superseded), without loading them."""
         return self.con.execute("SELECT (SELECT coalesce(sum(rows_stored), 0) FROM files) - "
                                 "(SELECT count(*) FROM supersessions)").fetchone()[0]
 
+    @_guarded
     def load_result(self, sites: pd.DataFrame | None = None,
                     sites_name: str = "the sites file") -> loading.LoadResult:
         """The current results as a ``loading.LoadResult``, as if the lab files were read now.
@@ -216,7 +277,10 @@ class Workspace(Importing):
             rej = self.rejected_rows()
             files = self.sheets()
             superseded = self.con.execute("SELECT count(*) FROM supersessions").fetchone()[0]
-        cells = pd.DataFrame([json.loads(c) for c in rej["cells"]], index=rej.index, dtype=str)
+        try:
+            cells = pd.DataFrame([json.loads(c) for c in rej["cells"]], index=rej.index, dtype=str)
+        except (json.JSONDecodeError, TypeError) as exc:
+            raise damaged(self.path, f"a rejected row's cells are not readable ({exc})") from None
         rejected = pd.concat([rej[["file", "sheet", "row", "reason"]], cells], axis=1)
         if sites is not None:
             unknown = ~acc["site_id"].isin(sites["site_id"]).to_numpy()
@@ -234,10 +298,12 @@ class Workspace(Importing):
                     f"sheets; {superseded} superseded results are kept in its history, not screened"]
         return loading.LoadResult(acc, rejected, files, warnings, set_aside)
 
+    @_guarded
     def last_import_id(self) -> int | None:
         """The id of the latest import (None in an empty workspace)."""
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]
 
+    @_guarded
     def screening_runs(self) -> pd.DataFrame:
         """Every recorded screening run with the SHA-256 of its limit tables and sites file."""
         return pd.read_sql_query("SELECT * FROM screening_runs ORDER BY run_id", self.con)
@@ -247,7 +313,10 @@ class Workspace(Importing):
         """Check the database, every stored file, segment and count; return the problems found."""
         from tracescreen.store.check import check_workspace
 
-        return self._read(check_workspace)
+        try:
+            return self._read(check_workspace)
+        except _DAMAGE as exc:  # damage past what the check can walk (a zeroed page): one problem, named
+            return [f"database: {type(exc).__name__}: {exc}"]
 
 
 #: Columns added to the stored results after workspaces were first written, with the value an

@@ -17,9 +17,8 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import read_yaml
 
 ELEMENTS_FILE = Path(__file__).resolve().parents[2] / "data" / "lab_qc_elements.yaml"
 
@@ -47,7 +46,7 @@ def _key(text) -> str:
 @functools.lru_cache(maxsize=1)
 def vocabulary() -> pd.DataFrame:
     """The QC-type vocabulary: ``code, element, source, checked, note`` (one row per code)."""
-    data = yaml.load(ELEMENTS_FILE.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+    data = read_yaml(ELEMENTS_FILE)
     rows = [{"code": str(c["code"]), "element": c["element"], "source": c.get("source", ""),
              "checked": c.get("checked", "memory"), "note": c.get("note", "")} for c in data["codes"]]
     out = pd.DataFrame(rows)

@@ -21,9 +21,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-import yaml
 
-from tracescreen._internal.yamlfiles import SAFE_LOADER
+from tracescreen._internal.yamlfiles import YamlError, read_yaml
 from tracescreen.vocabulary import REL_TOL
 
 WINDOWS_FILE = Path(__file__).resolve().parents[2] / "data" / "lab_qc_windows.yaml"
@@ -98,7 +97,7 @@ def load_windows(path: str | None = None) -> dict[str, Window]:
 
     p = Path(path) if path else WINDOWS_FILE
     try:
-        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+        data = read_yaml(p)  # repeated keys, aliases and object tags are refused
         sources = data.get("sources") or {}
         out = {}
         for element, e in (data.get("elements") or {}).items():
@@ -110,7 +109,9 @@ def load_windows(path: str | None = None) -> dict[str, Window]:
                                   _tiers(e.get("below"), "down_to"), _tiers(e.get("above"), "up_to"),
                                   dict(e.get("params") or {}), scope, e.get("source", ""), e.get("where", ""),
                                   e.get("checked", "memory"), " ".join(str(sources.get(e.get("source"), "")).split()))
-    except (OSError, yaml.YAMLError, AttributeError, KeyError, TypeError, ValueError) as exc:
+    except YamlError as exc:
+        raise QcFileError(str(exc)) from None
+    except (OSError, AttributeError, KeyError, TypeError, ValueError) as exc:
         raise QcFileError(f"{p.name}: not a usable QC windows file ({exc.__class__.__name__}: {exc})") from None
     missing = set(SAME_WINDOW.values()) | {"ms", "lcs", "ccv", "icv"} - set(out)
     if missing - set(out):
