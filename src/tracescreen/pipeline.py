@@ -63,6 +63,9 @@ class Inputs:
         Separate laboratory QC summary files (the QC rows of the lab files are reviewed without them).
     calibration_files : tuple of str
         The laboratory's calibration files (standards, calibration blanks, MDL study, sample responses).
+    dataset : str or None
+        A results dataset (Parquet, partitioned by site group: ``tracescreen export --parquet``), read one
+        site group at a time (:mod:`tracescreen.io.dataset`) instead of ``results``.
     """
 
     results: tuple = ()
@@ -72,6 +75,7 @@ class Inputs:
     reading: Any = None
     qc_files: tuple = ()
     calibration_files: tuple = ()
+    dataset: str | None = None
 
 
 @dataclass(frozen=True)
@@ -201,15 +205,18 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
 def read_results(inputs: Inputs, sites=None):
     """The lab results of a run: the lab files of ``inputs``, or its workspace's current results
     (:class:`tracescreen.io.loading.LoadResult`; results of sites not in ``sites`` are rejected)."""
-    sites_name = Path(inputs.sites).name if inputs.sites else "the sites file"
+    if inputs.dataset:  # read part by part during the run (streaming.run_dataset_parts)
+        from tracescreen.io.dataset import dataset_files
+
+        return dataset_files(inputs.dataset)
     if inputs.workspace:
         from tracescreen.store.workspace import open_workspace
 
         with open_workspace(inputs.workspace) as ws:
-            return ws.load_result(sites, sites_name)
+            return ws.load_result(sites, sites_name(inputs))
     from tracescreen.io.loading import load_results
 
-    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name)
+    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name(inputs))
 
 
 def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
@@ -250,7 +257,8 @@ def statistics(accepted, screened, options: StatisticsOptions) -> dict:
     if "summary" in options.tables:
         from tracescreen.statistics.summary import summarise
 
-        out["summary"] = summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed)
+        out["summary"] = summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed,
+                                       ucl=options.ucl)
         release_unused()
     if "exceedances" in options.tables:
         from tracescreen.statistics.summary import exceedance_rates
@@ -301,15 +309,6 @@ def lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, An
     return review, calibration
 
 
-def lab_qc_retest(review, calibration):
-    """The retest rows of the laboratory QC review and the calibration checks (None when there are none)."""
-    import pandas as pd
-
-    parts = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None))
-             if t is not None and len(t)]
-    return pd.concat(parts, ignore_index=True) if parts else None
-
-
 def retest(screened, options: RetestOptions, lab_qc=None):
     """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the others."""
     from tracescreen._internal.memory import release_unused
@@ -342,21 +341,40 @@ def run(inputs: Inputs, options: Options | None = None,
     data = load(inputs, options.record_run)
     if on_loaded is not None:
         on_loaded(data)
-    screened, periods = screen(data.loaded.accepted, data.limits, data.sites, options)
-    out = Results(data.loaded, data.limits, data.sites, data.input_files, screened=screened, periods=periods,
-                  options=options)
-    if options.statistics is not None:
-        for name, table in statistics(data.loaded.accepted, screened, options.statistics).items():
-            setattr(out, name, table)
+    from tracescreen.streaming import MemorySink
+
+    sink = MemorySink()
+    out = run_loaded(data, inputs, options, sink)
+    out.screened, out.periods = sink.table("screening"), sink.table("periods")
+    for name in ("summary", "exceedances", "trends", "retest"):
+        setattr(out, name, sink.table(name))
+    if options.wells is not None:
+        out.wells = wells(data.loaded.accepted, out.screened, options.wells)
+    return out
+
+
+def run_loaded(data: Loaded, inputs: Inputs, options: Options, sink, wide: bool = False) -> Results:
+    """Steps 2-5 on loaded inputs, in partitions of whole sites (:mod:`tracescreen.streaming`): every
+    per-result and per-series table goes to ``sink`` part by part; returns the :class:`Results`
+    holding the whole-run tables (laboratory QC review, calibration), the tables themselves being
+    the sink's. ``wide``: also the result-wide screening table (``screening_wide``)."""
+    from tracescreen import streaming
+
+    out = Results(data.loaded, data.limits, data.sites, data.input_files, options=options)
+    if inputs.dataset:
+        ctx = streaming.dataset_context(inputs.dataset, data, options, wide)
+        streaming.run_dataset_parts(inputs.dataset, ctx, sink, sites_name(inputs))
+        return out
     if options.lab_qc is not None:
         out.lab_qc, out.calibration = lab_qc(data, inputs, options.lab_qc)
-    if options.retest is not None:
-        out.retest = retest(screened, options.retest, lab_qc_retest(out.lab_qc, out.calibration))
-        if out.calibration is not None:
-            out.retest = out.calibration.annotate(out.retest)
-    if options.wells is not None:
-        out.wells = wells(data.loaded.accepted, screened, options.wells)
+    ctx = streaming.files_context(data, options, wide, out.lab_qc, out.calibration)
+    streaming.run_in_parts(data.loaded.accepted, ctx, sink, options.part_rows)
     return out
+
+
+def sites_name(inputs: Inputs) -> str:
+    """The sites file's name in messages."""
+    return Path(inputs.sites).name if inputs.sites else "the sites file"
 
 
 @dataclass(frozen=True)

@@ -23,6 +23,9 @@ def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) 
     p.add_argument("--workspace", metavar="DIR",
                    help="use the current results of this workspace (see 'tracescreen import') instead of "
                         "lab files; the run is recorded in it with the SHA-256 of the limit tables and sites")
+    p.add_argument("--dataset", metavar="DIR",
+                   help="use a results dataset (Parquet partitioned by site group, written by 'tracescreen export "
+                        "--parquet') instead of lab files, read one site group at a time")
     p.add_argument("--limits", required=True, metavar="PATH", action="append",
                    help="limit table (YAML) or folder of tables; repeat for several")
     p.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
@@ -48,6 +51,16 @@ def add_reading_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--sheet", help="read only this sheet of XLSX files (default: every sheet with recognisable columns)")
 
 
+def add_format_option(p: argparse.ArgumentParser) -> None:
+    """Add ``--format``: the file format of the output tables."""
+    from tracescreen.report.formats import FORMATS
+
+    p.add_argument("--format", choices=FORMATS, default=None,
+                   help="file format of the output tables: csv (the default; spreadsheets), parquet (text "
+                        "dictionary-encoded, dates as dates, the same columns; for tables past a spreadsheet's "
+                        "1,048,576 rows; the only format of --engine dask) or xlsx (one workbook per table)")
+
+
 def load_options(args):
     """How to read the lab files (:class:`tracescreen.io.loading.LoadOptions`) from the arguments."""
     from tracescreen.io.columns import load_column_map
@@ -63,13 +76,14 @@ def pipeline_inputs(args, limits: bool = True):
     from tracescreen.pipeline import Inputs
 
     workspace = getattr(args, "workspace", None)
-    if workspace and args.results:
-        raise UserError("give lab result files or --workspace DIR, not both")
-    if not workspace and not args.results and getattr(args, "results_required", True):
-        raise UserError("no lab result files given (give files, or --workspace DIR)")
+    dataset = getattr(args, "dataset", None)
+    if sum(bool(x) for x in (workspace, args.results, dataset)) > 1:
+        raise UserError("give lab result files, --workspace DIR or --dataset DIR, not several")
+    if not workspace and not dataset and not args.results and getattr(args, "results_required", True):
+        raise UserError("no lab result files given (give files, --workspace DIR or --dataset DIR)")
     return Inputs(results=tuple(args.results), limits=tuple(args.limits) if limits else (),
                   sites=getattr(args, "sites", None), workspace=workspace, reading=load_options(args),
-                  qc_files=tuple(getattr(args, "qc", None) or ()),
+                  qc_files=tuple(getattr(args, "qc", None) or ()), dataset=dataset,
                   calibration_files=tuple(getattr(args, "calibration", None) or ()))
 
 

@@ -6,7 +6,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from tracescreen.statistics.options import METHODS, MIN_VALUES, StatisticsOptions
+from tracescreen.statistics.options import METHODS, MIN_VALUES, UCL_METHODS, StatisticsOptions
 
 from .common import add_data_options, announce, pipeline_inputs, print_caution
 
@@ -37,8 +37,11 @@ def add_statistics_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--stats-method", choices=METHODS, default="kaplan_meier",
                    help="estimator for series with non-detects; substitution_* only on request, "
                         "labelled in the output")
+    g.add_argument("--ucl", choices=UCL_METHODS, default=UCL_METHODS[0],
+                   help="ucl95_mean: km_t = Kaplan-Meier mean + t x its standard error (fast); bootstrap = "
+                        "seeded percentile bootstrap of the Kaplan-Meier mean (B resamples per series)")
     g.add_argument("--bootstrap", type=int, default=1000, metavar="B",
-                   help="bootstrap resamples for ucl95_mean")
+                   help="bootstrap resamples for ucl95_mean with --ucl bootstrap")
     g.add_argument("--seed", type=int, default=20240601, help="random seed of the bootstrap")
     add_trend_options(g)
 
@@ -46,7 +49,7 @@ def add_statistics_options(p: argparse.ArgumentParser) -> None:
 def statistics_options(args, tables=None) -> StatisticsOptions:
     """The run's :class:`~tracescreen.statistics.options.StatisticsOptions` from the arguments."""
     base = StatisticsOptions()
-    return StatisticsOptions(method=getattr(args, "stats_method", base.method),
+    return StatisticsOptions(method=getattr(args, "stats_method", base.method), ucl=getattr(args, "ucl", base.ucl),
                              n_boot=getattr(args, "bootstrap", base.n_boot), seed=getattr(args, "seed", base.seed),
                              alpha=args.alpha, seasonal=args.seasonal, min_trend_values=args.min_trend_values,
                              tables=tables or base.tables)

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import re
 from pathlib import Path
+from typing import Iterator
 
 import numpy as np
 import pandas as pd
@@ -55,13 +56,20 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
     return out
 
 
-def _format_dates(df: pd.DataFrame) -> pd.DataFrame:
-    """Dates as ISO text (with the time only where a column has one), as categoricals of the distinct dates."""
+def _format_dates(df: pd.DataFrame, days=None) -> pd.DataFrame:
+    """Dates as ISO text, as categoricals of the distinct dates.
+
+    ``days``: columns written as days (``YYYY-MM-DD``); the other date columns then carry the time
+    (``YYYY-MM-DD HH:MM``). None: each column shows the time only where it has one.
+    """
     out = df.copy(deep=False)
     for c in out.columns:
         if pd.api.types.is_datetime64_any_dtype(out[c]):
             codes, uniq = pd.factorize(out[c])
-            has_time = (uniq != uniq.normalize()).any() if len(uniq) else False
+            if days is None:
+                has_time = (uniq != uniq.normalize()).any() if len(uniq) else False
+            else:
+                has_time = c not in days
             text = pd.Index(uniq.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d"), dtype="str")
             text = text.append(pd.Index([""], dtype="str"))  # NaT: empty text
             out[c] = pd.Categorical.from_codes(np.where(codes < 0, len(text) - 1, codes), categories=text)
@@ -89,15 +97,14 @@ def _csv_block(table: pa.Table, header: bool) -> pa.Buffer:
     return sink.getvalue()
 
 
-def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
-    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path.
+def csv_blocks(df: pd.DataFrame, header: bool = True, days=None) -> Iterator[pa.Buffer]:
+    """``df`` as UTF-8 CSV bytes (ISO dates, formula-safe), in blocks of :data:`CSV_BLOCK_ROWS` rows.
 
-    Blocks of :data:`CSV_BLOCK_ROWS` rows are rendered by Arrow's CSV writer on all cores (Arrow
-    releases the interpreter lock) and written in order.
+    Blocks are rendered by Arrow's CSV writer on all cores (Arrow releases the interpreter lock)
+    and yielded in order; ``header``: the first block starts with the header row. ``days``: see
+    :func:`_format_dates`.
     """
-    p = Path(path)
-    p.parent.mkdir(parents=True, exist_ok=True)
-    dated = _format_dates(df)
+    dated = _format_dates(df, days)
     # columns of Python objects (long texts, mixed values) are made safe and turned into Arrow
     # text block by block, so that a large text column is never held twice in full
     objects = [c for c in dated.columns if dated[c].dtype == object]
@@ -115,11 +122,30 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
             t = t.append_column(c, pa.Array.from_pandas(v.astype(object)))
         return t.select(names)
 
-    blocks = ((block(i), i == 0) for i in range(0, max(len(dated), 1), CSV_BLOCK_ROWS))
+    if not len(dated) and not header:
+        return
+    blocks = ((block(i), header and i == 0) for i in range(0, max(len(dated), 1), CSV_BLOCK_ROWS))
+    yield from ordered_map(_csv_block, blocks, workers(4))
+
+
+def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
+    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path.
+
+    One table in one go; :class:`tracescreen.report.streams.TableStream` writes a table part by part.
+    """
+    p = Path(path)
+    p.parent.mkdir(parents=True, exist_ok=True)
     with open(p, "wb") as f:
-        for data in ordered_map(_csv_block, blocks, workers(4)):
+        for data in csv_blocks(df):
             f.write(data)
     return p
+
+
+def xlsx_cell(value):
+    """A value as a worksheet cell: missing values (NaN, NA, NaT) as empty cells."""
+    if value is None or value is pd.NA or value is pd.NaT or (isinstance(value, float) and value != value):
+        return None
+    return value
 
 
 def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path) -> Path:
@@ -136,6 +162,6 @@ def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path) -> Path:
         safe = prepare(df)
         ws.append([str(c) for c in safe.columns])
         for rec in safe.itertuples(index=False, name=None):
-            ws.append([None if (isinstance(v, float) and np.isnan(v)) else v for v in rec])
+            ws.append([xlsx_cell(v) for v in rec])
     wb.save(p)
     return p

@@ -47,7 +47,7 @@ def _fmt(x) -> pd.Series:
 
 
 def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: int = 1000,
-              seed: int = 20240601) -> pd.DataFrame:
+              seed: int = 20240601, ucl: str = "km_t") -> pd.DataFrame:
     """Summary statistics per site x analyte x fraction from accepted results.
 
     Parameters
@@ -59,17 +59,21 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
         ``mle_lognormal``, or, only on request, ``substitution_zero``, ``substitution_half_dl``,
         ``substitution_dl`` (see :mod:`tracescreen.censored`). Series without non-detects get
         the plain sample statistics (``method`` = ``sample_statistics``).
+    ucl : str
+        How ``ucl95_mean`` is computed (:data:`tracescreen.statistics.options.UCL_METHODS`): ``km_t``
+        (default) Student's t on the Kaplan-Meier mean and its standard error,
+        :func:`ucl_km_t`; ``bootstrap`` a seeded percentile bootstrap of the KM mean.
     n_boot, seed : int
-        Bootstrap resamples and random seed for ``ucl95_mean``.
+        Bootstrap resamples and random seed for ``ucl95_mean`` (``ucl="bootstrap"``).
 
     Returns
     -------
     DataFrame
         :data:`SUMMARY_COLUMNS`. Concentrations in µg/L; ``percent_nondetect`` in percent;
         ``max_detection_limit`` is the highest detection limit among the non-detects;
-        ``ucl95_mean`` is the 95 % upper confidence limit on the mean by a seeded percentile
-        bootstrap of the Kaplan-Meier mean (of the substituted mean for substitution methods),
-        ``ucl_method`` says which.
+        ``ucl95_mean`` is the one-sided 95 % upper confidence limit on the mean: t on the
+        Kaplan-Meier mean and its standard error, or a seeded percentile bootstrap of the
+        Kaplan-Meier mean (of the substituted mean for substitution methods); ``ucl_method`` says which.
 
     Notes
     -----
@@ -96,22 +100,26 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
                                  max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
     st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
-    keys = bootstrap.series_seed_keys(table[KEYS])
-    if method in censored.SUBSTITUTION:
-        ucl = bootstrap.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
-                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed,
-                                                keys=keys)
-        ucl_method = f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
+    sub = method in censored.SUBSTITUTION
+    xu, ndu = (censored.substitute(x, nd, censored.SUBSTITUTION[method]), np.zeros(x.size, bool)) if sub else (x, nd)
+    what = "the substituted mean" if sub else "the Kaplan-Meier mean"
+    if ucl == "bootstrap":
+        keys = bootstrap.series_seed_keys(table[KEYS])
+        ucl_value = bootstrap.bootstrap_ucl_km_grouped(xu, ndu, codes, g, n_boot=n_boot, seed=seed, keys=keys)
+        ucl_method = f"percentile bootstrap of {what} (B={n_boot}, seed={seed})"
+    elif ucl == "km_t":
+        km = censored.kaplan_meier_grouped(xu, ndu, codes, g, probs=())
+        ucl_value = ucl_km_t(km["mean"].to_numpy(), km["se"].to_numpy(), n)
+        ucl_method = f"Student's t on {what} and its standard error (Helsel 2012)"
     else:
-        ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed, keys=keys)
-        ucl_method = f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
+        raise ValueError(f"unknown ucl {ucl!r}; choose km_t or bootstrap")
     out = table.copy()
     out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd
     for col in ("min_detected", "max_detected", "max_detection_limit"):
         out[col] = ext[col].to_numpy()
     out["mean"], out["sd"] = st["mean"].to_numpy(), st["sd"].to_numpy()
     out["median"], out["p90"], out["p95"] = st["q50"].to_numpy(), st["q90"].to_numpy(), st["q95"].to_numpy()
-    out["ucl95_mean"] = ucl
+    out["ucl95_mean"] = ucl_value
     out["ucl_method"] = ucl_method
     out["method"] = st["method"].to_numpy()
 
@@ -152,6 +160,32 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
         (n == 0, "no usable results"),
     ], g)
     return out[SUMMARY_COLUMNS].reset_index(drop=True)
+
+
+def ucl_km_t(mean, se, n, level: float = 0.95) -> np.ndarray:
+    """One-sided upper confidence limit of a mean from its standard error: mean + t(level; n - 1) se.
+
+    On the Kaplan-Meier mean of censored data with the Greenwood-type standard error
+    (:func:`tracescreen.statistics.censored.kaplan_meier_grouped`) this is the t-interval on the KM
+    mean (Helsel 2012, sec. 7.2 [helsel2012]_; Singh, Maichle and Lee 2006 [singh2006]_, the
+    "KM (t)" limit); without non-detects it is the Student's t limit of the mean. It costs a few
+    operations per series, where the bootstrap resamples each series a thousand times.
+
+    >>> round(float(ucl_km_t(10.0, 1.0, 16)[0]), 4)   # t(0.95; 15) = 1.7531 (any t table)
+    11.7531
+
+    References
+    ----------
+    .. [helsel2012] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab
+       and R, 2nd ed. Wiley. (Section and edition of the t-interval from memory.)
+    .. [singh2006] Singh, A., Maichle, R., Lee, S.E. (2006). On the Computation of a 95% Upper
+       Confidence Limit of the Unknown Population Mean Based Upon Data Sets with Below Detection
+       Limit Observations. EPA/600/R-06/022, US EPA Office of Research and Development (from memory).
+    """
+    n = np.atleast_1d(np.asarray(n, dtype=float))
+    with np.errstate(invalid="ignore"):
+        t = stats.t.ppf(level, np.where(n >= 2, n - 1, np.nan))
+    return np.atleast_1d(np.asarray(mean, float)) + t * np.atleast_1d(np.asarray(se, float))
 
 
 def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndarray]:
