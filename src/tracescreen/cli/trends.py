@@ -8,7 +8,7 @@ from pathlib import Path
 
 from tracescreen.statistics.options import METHODS, MIN_VALUES, UCL_METHODS, StatisticsOptions
 
-from .common import add_data_options, announce, pipeline_inputs, print_caution
+from .common import add_data_options, add_format_option, announce, pipeline_inputs, print_caution, warn
 
 
 def _probability(text: str) -> float:
@@ -65,20 +65,22 @@ def register(sub) -> None:
     add_data_options(p)
     add_trend_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for trends.csv and rejected.csv")
+    add_format_option(p)
     p.set_defaults(func=run)
 
 
 def run(args) -> int:
     from tracescreen import pipeline
-    from tracescreen.report import writers as outputs
+    from tracescreen.report.streams import write_table
 
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False, retest=None, lab_qc=None,
                                statistics=statistics_options(args, tables=("trends",)), record_run=args.command)
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     table = res.trends
     out = Path(args.out)
-    paths = {"trends": outputs.write_csv(table, out / "trends.csv"),
-             "rejected": outputs.write_csv(res.loaded.rejected, out / "rejected.csv")}
+    fmt = args.format or "csv"
+    written = {name: write_table(t, out / f"{name}.{fmt}", fmt, name=name)
+               for name, t in (("trends", table), ("rejected", res.loaded.rejected))}
     print(f"Results accepted: {len(res.loaded.accepted)}  rejected: {len(res.loaded.rejected)}")
     print(f"Series: {len(table)}")
     for d, n in table["direction"].value_counts().items():
@@ -90,7 +92,9 @@ def run(args) -> int:
             print(f"  {r.site_id} {r.analyte} ({r.fraction}): {r.slope_per_year:+.3g} µg/L per year, "
                   f"reaches {r.lowest_limit_ug_L:.3g} µg/L about {r.crosses_limit_on:%Y-%m-%d}")
     print("\nOutputs:")
-    for name, path in paths.items():
-        print(f"  {name:<10} {path}")
+    for name, stream in written.items():
+        print(f"  {name:<10} {stream.path}")
+        if stream.warning:
+            warn(stream.warning)
     print_caution()
     return 0
