@@ -33,7 +33,8 @@ screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
 
 report: setup
-	$(VENV)/bin/tracescreen report $(DEMO_DATA) --out out/demo/report.html --xlsx out/demo/report.xlsx
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) --cover scenario_data/report_cover.yaml --out out/demo/report.html \
+		--pdf out/demo/report.pdf --docx out/demo/report.docx --xlsx out/demo/report.xlsx
 
 test: setup
 	$(VENV)/bin/ruff check .

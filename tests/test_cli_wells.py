@@ -131,10 +131,12 @@ def test_report_states_the_statistical_design_and_draws_wells_needing_attention(
     assert main(args + ["--network", "scenario_data/network.csv", "--design", "scenario_data/design.yaml",
                         "--out", str(tmp_path / "r.html"), "--xlsx", str(tmp_path / "r.xlsx")]) == 0
     page = (tmp_path / "r.html").read_text(encoding="utf-8")
-    section = page[page.index('<section id="wells">'):]
-    assert "site-wide false positive rate (SWFPR) 0.1" in section and "kappa computed" in section
-    assert section.index("Statistical design") < section.index("Status over the retest sequence")
-    assert 'class="well-chart"' in section and "BH01 arsenic total" in section
+    section = page[page.index('<section id="wells"'):page.index('<section id="design"')]
+    design = page[page.index('<section id="design"'):]
+    assert "site-wide false positive rate (SWFPR) 0.1" in design and "kappa computed" in design
+    assert "Wells against background: design" in design  # the design is stated in the appendix
+    assert "Status over the retest sequence" in section
+    assert 'id="well-chart-BH01-arsenic-total"' in section
     sheets = pd.ExcelFile(tmp_path / "r.xlsx").sheet_names
     assert {"wells_design", "wells_status", "wells_limits", "wells_confidence"} <= set(sheets)
     assert main(args + ["--out", str(tmp_path / "plain.html")]) == 0

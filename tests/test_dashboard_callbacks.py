@@ -306,7 +306,7 @@ def test_screened_input_order_does_not_matter():
 def test_site_chart_shows_engine_trend(session):
     """KR02 dissolved zinc (the scenario's rising site): the chart's trend text and line are the
     engine's trend_table result for that series (Mann-Kendall / Sen, tested against pymannkendall
-    in test_trends.py)."""
+    in test_statistics_trends.py)."""
     from tracescreen.statistics.series import decimal_years
     from tracescreen.statistics.trends import trend_table
 

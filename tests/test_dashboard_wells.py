@@ -102,6 +102,14 @@ def test_wells_page_in_the_browser(wells_inputs, tmp_path):
             expect(page.locator("#wells-design")).to_contain_text("SWFPR")
             SHOTS.mkdir(parents=True, exist_ok=True)
             page.screenshot(path=str(SHOTS / "wells.png"), full_page=True)
+            # the Site & metal chart of a compliance well carries its background limit and a link here
+            page.goto(f"http://127.0.0.1:{server.server_port}/site?site=BH01&analyte=arsenic&fraction=total")
+            expect(page.locator("#site-wells")).to_contain_text("Against background (interwell", timeout=60_000)
+            expect(page.locator("#site-chart .legend")).to_contain_text("background prediction limit")
+            page.screenshot(path=str(SHOTS / "site_with_background_limit.png"), full_page=True)
+            page.get_by_role("link", name="open on the Wells page").click()
+            expect(page.locator("#wells-status")).to_contain_text("Evaluations", timeout=60_000)
+            expect(page.locator("#wells-chart .gtitle").first).to_contain_text("BH01: arsenic (total)")
             browser.close()
         assert errors == []
     finally:

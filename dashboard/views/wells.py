@@ -86,3 +86,29 @@ def series_view(tables: dict, value: str) -> dict:
     as_rows = lambda f: [{c: _text(v) for c, v in r.items()} for r in f.to_dict("records")]  # noqa: E731
     return {"figure": well_figure(tables, site, analyte, fraction), "status": status, "facts": facts,
             "sequence": as_rows(seq), "confidence": as_rows(ci)}
+
+
+def site_overlay(session: SessionData, site: str, analyte: str, fraction: str):
+    """For the Site & metal chart: the background prediction limit of a compliance well as a line
+    (plotly dict, or None) and a sentence with its status over the retest sequence (or "")."""
+    tables = wells_tables(session)
+    if tables is None:
+        return None, ""
+    value = SEP.join((str(site), str(analyte), str(fraction)))
+    lim = _row(tables["prediction_limits"], value)
+    st = _row(tables["well_status"], value)
+    if lim.empty:
+        return None, ""
+    r = lim.iloc[0]
+    words = vocabulary.SEQUENCE_LABEL.get(st.iloc[0]["latest_status"], "") if len(st) else ""
+    text = (f"Against background ({r['comparison']}, {r['method'].replace('_', ' ')}, {r['plan']}): "
+            f"{words or 'no compliance data'}.")
+    seq = _row(tables["retest_sequence"], value)
+    if pd.isna(r["limit_ug_L"]) or seq.empty:
+        return None, text
+    x = [seq["sampled_at"].min(), seq["sampled_at"].max()]
+    trace = {"type": "scatter", "mode": "lines", "x": x, "y": [float(r["limit_ug_L"])] * 2,
+             "name": f"background prediction limit {r['limit_ug_L']:.4g} µg/L ({r['plan']})",
+             "line": {"dash": "dashdot", "width": 2, "color": vocabulary.SEQUENCE_COLOUR["confirmed_exceedance"]},
+             "hoverinfo": "name", "meta": {"role": "background_limit"}}
+    return trace, text

@@ -1,7 +1,7 @@
 """The run on a Dask cluster: each site group of a results dataset screened on a worker, outputs as partitioned Parquet.
 
 Past one machine the same per-part computation (:func:`tracescreen.streaming.dataset_part_tables`)
-runs on the workers of a ``dask.distributed`` cluster [dask]_: one task per site group of the
+runs on the workers of a ``dask.distributed`` cluster [Dask]_: one task per site group of the
 dataset (:mod:`tracescreen.io.dataset`; a site's results never split across workers), each task
 reading its group's Parquet files, computing every per-result and per-series table and writing
 each as one file of a partitioned Parquet output (``OUT/screening/part-00003.parquet``: the part's
@@ -17,8 +17,7 @@ a cluster".
 
 References
 ----------
-.. [dask] Dask Development Team (2016). Dask: Library for dynamic task scheduling.
-   https://www.dask.org ; distributed: https://distributed.dask.org
+[Dask]_ (docs/references.md)
 """
 
 from __future__ import annotations

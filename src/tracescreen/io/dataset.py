@@ -1,8 +1,8 @@
 """Accepted results as a Parquet dataset partitioned by site group and year, read one site group at a time.
 
 ``tracescreen export --parquet DIR`` writes a workspace's current results as Hive-style folders
-``DIR/site_group=K/year=Y/part-0.parquet`` (Apache Arrow datasets [arrow]_): every site's results
-lie in one site group (a stable hash of the site id, :func:`site_groups`), so a site group is a
+``DIR/site_group=K/year=Y/part-0.parquet`` (Apache Arrow datasets, [Parquet]_): every site's results
+lie in one site group (a stable hash of the site id, :func:`site_groups`; CRC-32 [ISO3309]_), so a site group is a
 partition of whole sites that screening, the series statistics and the retest flags can take on
 their own -- in one process one after the other (:mod:`tracescreen.streaming`), or on the workers of
 a Dask cluster (:mod:`tracescreen.distributed`). The columns are the accepted-results contract
@@ -10,8 +10,7 @@ a Dask cluster (:mod:`tracescreen.distributed`). The columns are the accepted-re
 
 References
 ----------
-.. [arrow] Apache Arrow, "Tabular Datasets: writing partitioned datasets",
-   https://arrow.apache.org/docs/python/dataset.html
+[Parquet]_, [ISO3309]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -2,9 +2,8 @@
 
 * ``csv`` -- UTF-8 text, one file per table (the default: spreadsheets are where most users work);
 * ``parquet`` -- Apache Parquet, one file per table: text columns dictionary-encoded, dates as
-  dates, numbers as numbers, the same columns as the CSV (Apache Parquet format specification
-  [parquet]_);
-* ``xlsx`` -- Office Open XML workbook, one file per table (ECMA-376 [ecma376]_).
+  dates, numbers as numbers, the same columns as the CSV ([Parquet]_);
+* ``xlsx`` -- Office Open XML workbook, one file per table ([ECMA376]_).
 
 A worksheet holds at most :data:`SPREADSHEET_ROWS` rows (1,048,576, header row included; ECMA-376
 and the limits spreadsheet programs document). A longer table is still written whole (CSV; the
@@ -12,8 +11,7 @@ XLSX file continues on further sheets), and the run says so and suggests Parquet
 
 References
 ----------
-.. [parquet] Apache Parquet format specification, https://parquet.apache.org/docs/
-.. [ecma376] ECMA-376, Office Open XML File Formats, 5th ed. (2016), Part 1.
+[Parquet]_, [ECMA376]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -6,7 +6,7 @@ held whole. The formats (:mod:`tracescreen.report.formats`):
 
 * CSV: the blocks of :func:`tracescreen.report.writers.csv_blocks` (formula-safe, ISO dates), the
   header once;
-* Parquet: one row group per part (Apache Parquet [parquet]_ through pyarrow); text columns are
+* Parquet: one row group per part ([Parquet]_ through pyarrow); text columns are
   dictionary-encoded (``dictionary<int32, string>``, read back by pandas as categoricals), date
   columns are Parquet ``DATE`` (days) or ``TIMESTAMP`` (millisecond) values, numbers stay numbers;
   the columns are the CSV's. Text is written as it is (a Parquet file is read by programs, not
@@ -19,7 +19,7 @@ it when the table is closed (:func:`begin_file`, :func:`finish_file`, :func:`dis
 
 References
 ----------
-.. [parquet] Apache Parquet format specification, https://parquet.apache.org/docs/
+[Parquet]_ (docs/references.md)
 """
 
 from __future__ import annotations

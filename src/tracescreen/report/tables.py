@@ -123,7 +123,8 @@ def status_matrix(screening: pd.DataFrame) -> pd.DataFrame:
     res = result_status(screening)
     if res.empty:
         return pd.DataFrame()
-    res = res.assign(series=res["analyte"] + " (" + res["fraction"] + ")")
+    res = res.assign(series=res["analyte"].astype(str) + " (" + res["fraction"].astype(str) + ")",
+                     site_id=res["site_id"].astype(str))  # the engine's categoricals as text
     n = res.groupby(["site_id", "series"]).size().rename("n")
     codes = pd.Categorical(res["status"], categories=STATUS_ORDER, ordered=True).codes
     worst = res.assign(_c=codes).groupby(["site_id", "series"])["_c"].min().rename("_c")

@@ -227,8 +227,7 @@ def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
 
     References
     ----------
-    .. [1] Bettencourt da Silva, R. and Williams, A. (eds.) (2021). Eurachem/CITAC Guide: Use of
-       uncertainty information in compliance assessment, 2nd ed. Eurachem.
+    [Eurachem2021]_ (docs/references.md)
     """
     if "uncertainty_ug_L" not in screening.columns:
         return empty_retest()

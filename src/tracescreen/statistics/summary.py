@@ -10,12 +10,7 @@ not averaged in), so that each sampling event counts once.
 
 References
 ----------
-.. [1] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-   2nd ed. Wiley. (Rules of thumb for the share of non-detects: ch. 1 and 6.)
-.. [2] Helsel, D.R., Hirsch, R.M., Ryberg, K.R., Archfield, S.A., Gilroy, E.J. (2020).
-   Statistical Methods in Water Resources. USGS Techniques and Methods 4-A3.
-.. [3] Clopper, C.J., Pearson, E.S. (1934). The use of confidence or fiducial limits illustrated
-   in the case of the binomial. Biometrika 26: 404-413.
+[Helsel2012]_, [HelselEtAl2020]_, [ClopperPearson1934]_ (docs/references.md)
 """
 
 from __future__ import annotations
@@ -167,20 +162,12 @@ def ucl_km_t(mean, se, n, level: float = 0.95) -> np.ndarray:
 
     On the Kaplan-Meier mean of censored data with the Greenwood-type standard error
     (:func:`tracescreen.statistics.censored.kaplan_meier_grouped`) this is the t-interval on the KM
-    mean (Helsel 2012, sec. 7.2 [helsel2012]_; Singh, Maichle and Lee 2006 [singh2006]_, the
-    "KM (t)" limit); without non-detects it is the Student's t limit of the mean. It costs a few
-    operations per series, where the bootstrap resamples each series a thousand times.
+    mean ([Helsel2012]_, the chapter on confidence intervals; [SinghEtAl2006]_, the "KM (t)" limit);
+    without non-detects it is the Student's t limit of the mean. It costs a few operations per
+    series, where the bootstrap resamples each series a thousand times.
 
     >>> round(float(ucl_km_t(10.0, 1.0, 16)[0]), 4)   # t(0.95; 15) = 1.7531 (any t table)
     11.7531
-
-    References
-    ----------
-    .. [helsel2012] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab
-       and R, 2nd ed. Wiley. (Section and edition of the t-interval from memory.)
-    .. [singh2006] Singh, A., Maichle, R., Lee, S.E. (2006). On the Computation of a 95% Upper
-       Confidence Limit of the Unknown Population Mean Based Upon Data Sets with Below Detection
-       Limit Observations. EPA/600/R-06/022, US EPA Office of Research and Development (from memory).
     """
     n = np.atleast_1d(np.asarray(n, dtype=float))
     with np.errstate(invalid="ignore"):
@@ -195,7 +182,7 @@ def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndar
 
     References
     ----------
-    .. [1] Clopper, C.J., Pearson, E.S. (1934). Biometrika 26: 404-413.
+    [ClopperPearson1934]_ (docs/references.md)
     """
     k, n = np.asarray(k, float), np.asarray(n, float)
     a = (1 - confidence) / 2

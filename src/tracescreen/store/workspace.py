@@ -1,14 +1,14 @@
 """The workspace: every imported campaign in one SQLite database file, with provenance.
 
 A workspace is a directory holding ``workspace.sqlite``. Each import runs in one SQLite
-transaction [1]_, so it lands whole or not at all, whatever happens to the process (a bad file,
-a crash, SIGKILL). The database runs in write-ahead-log mode [2]_: a reader (the dashboard,
+transaction [SQLiteCommit]_, so it lands whole or not at all, whatever happens to the process (a bad file,
+a crash, SIGKILL). The database runs in write-ahead-log mode [SQLiteWAL]_: a reader (the dashboard,
 ``screen``) sees the state before an import or after it, never part of it, and is not blocked.
 
 Relational tables hold what is small and queried (imports, files, sheets, rejected rows with
 their reasons and cells, supersessions, screening runs). Each lab file's bytes are kept
 (zstd-compressed, checked against the file's SHA-256), so the original cells of every row stay
-available exactly as reported. The accepted results are stored column-wise, one Arrow IPC [3]_
+available exactly as reported. The accepted results are stored column-wise, one Arrow IPC [ArrowIPC]_
 file per lab file split into BLOB parts, so that they load back into the accepted-results
 DataFrame faster than re-reading the lab files.
 
@@ -22,9 +22,7 @@ was: a revision cannot withdraw a result.
 
 References
 ----------
-.. [1] SQLite, "Atomic Commit In SQLite", https://www.sqlite.org/atomiccommit.html
-.. [2] SQLite, "Write-Ahead Logging", https://www.sqlite.org/wal.html
-.. [3] Apache Arrow, "Arrow IPC file format", https://arrow.apache.org/docs/format/Columnar.html
+[SQLiteCommit]_, [SQLiteWAL]_, [ArrowIPC]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -22,10 +22,29 @@ def _sheet(path, name) -> pd.DataFrame:
 
 
 def test_workbook_has_one_sheet_per_table(demo_report):
-    """The --xlsx workbook reads back with openpyxl with one sheet per report table, the caution first."""
+    """The --xlsx workbook reads back with openpyxl: a first sheet with the cover, caution and summary,
+    then one sheet per report table, the caution first."""
     wb = openpyxl.load_workbook(demo_report["xlsx"], read_only=True)
-    assert wb.sheetnames[:len(SHEETS)] == SHEETS
+    assert wb.sheetnames[0] == "report"
+    assert wb.sheetnames[1:len(SHEETS) + 1] == SHEETS
     assert _sheet(demo_report["xlsx"], "caution").iloc[0, 0] == CAUTION
+    front = [r for r in wb["report"].iter_rows(values_only=True)]
+    assert ("Caution", CAUTION) in front and front[0][0] == "Title"
+    assert any(label == "Summary" and text.startswith("This report screens") for label, text in front)
+
+
+def test_workbook_sheets_are_formatted(demo_report):
+    """Every table sheet has its header row frozen, an autofilter over the table, widths set and a number
+    format on decimal columns (openpyxl read-back)."""
+    wb = openpyxl.load_workbook(demo_report["xlsx"])
+    ws = wb["exceedances"]
+    assert ws.freeze_panes == "A2"
+    assert ws.auto_filter.ref == f"A1:{openpyxl.utils.get_column_letter(ws.max_column)}{ws.max_row}"
+    head = [c.value for c in ws[1]]
+    col = head.index("value_ug_L") + 1
+    assert ws.cell(2, col).number_format.startswith("0.0")
+    assert ws.column_dimensions["A"].width >= len("site_id")
+    assert ws.cell(1, 1).font.bold
 
 
 @pytest.mark.parametrize("name", ["retest", "rejected"])
@@ -119,7 +138,7 @@ def test_build_report_html_from_a_pipeline_run():
     res = pipeline.run(inputs, pipeline.Options(periods=False))
     data = report.report_data(res)
     page = report_html.build_report_html(data, site_ids=["KR02"])
-    assert page.index(CAUTION) < page.index('<section id="scope">')
+    assert page.index(CAUTION) < page.index('<section id="grid">')
     assert 'id="summary-table"' in page and 'id="trends-table"' in page
     assert set(data.retest["site_id"]) <= set(res.sites["site_id"]) and len(data.retest)
     assert set(report.report_tables(data, ["KR02"])["summary"]["site_id"]) == {"KR02"}

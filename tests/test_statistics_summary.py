@@ -1,4 +1,6 @@
-"""Summary table and exceedance rates checked against scipy, numpy and the shared check case."""
+"""Summary table and exceedance rates checked against scipy, numpy and the check case in tests/data."""
+
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -8,9 +10,10 @@ from scipy import stats
 
 from tracescreen.statistics import summary
 
-# Check case from /work/shared/docs/censored-statistics.md (KM mean 1.789333, median 0.8).
-CHECK_X = [0.5, 0.5, 0.5, 0.6, 0.8, 1.0, 1.0, 1.0, 1.2, 1.5, 1.9, 2.4, 3.1, 4.6, 7.5]
-CHECK_ND = [1, 1, 1, 0, 0, 1, 1, 1, 0, 0, 0, 0, 0, 0, 0]
+# Check case (KM mean 1.789333, median 0.8; tests/data/README.md)
+_CASE = np.genfromtxt(Path(__file__).parent / "data" / "censored_check_case_15_values.csv", delimiter=",", names=True)
+CHECK_X = _CASE["value"].astype(float).tolist()
+CHECK_ND = _CASE["nondetect"].astype(int).tolist()
 
 
 def results(site, values, nondetect, sample_type="sample", analyte="arsenic"):
@@ -37,7 +40,7 @@ def test_clopper_pearson_matches_scipy_binomtest():
 
 
 def test_summary_km_on_check_case():
-    """KM mean 1.789333 and median 0.8 of the shared check case appear in the summary (method kaplan_meier)."""
+    """KM mean 1.789333 and median 0.8 of the check case (tests/data) appear in the summary (method kaplan_meier)."""
     s = summary.summarise(results("A", CHECK_X, CHECK_ND)).iloc[0]
     assert s["method"] == "kaplan_meier"
     assert s["mean"] == pytest.approx(1.789333, abs=5e-7)

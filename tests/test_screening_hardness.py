@@ -4,6 +4,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from tracescreen.screening import hardness
 from tracescreen.screening.hardness import hardness_from_calcium_magnesium, sample_hardness
 
 
@@ -12,10 +13,13 @@ def test_standard_methods_2340b_example():
     assert hardness_from_calcium_magnesium(40, 12) == pytest.approx(149.296)
 
 
-def test_coefficients_are_molar_mass_ratios():
-    """2.497 = M(CaCO3)/M(Ca) = 100.087/40.078 and 4.118 = 100.087/24.305 (IUPAC atomic weights)."""
-    assert 100.087 / 40.078 == pytest.approx(2.497, abs=5e-4)
-    assert 100.087 / 24.305 == pytest.approx(4.118, abs=5e-4)
+def test_coefficients_are_the_published_molar_mass_ratios():
+    """The code's coefficients are Standard Methods 2340 B's printed 2.497 and 4.118, which are the
+    molar-mass ratios M(CaCO3)/M(Ca) and M(CaCO3)/M(Mg) to three decimals (IUPAC standard atomic
+    weights, abridged: Ca 40.078, Mg 24.305, C 12.011, O 15.999; from memory)."""
+    caco3 = 40.078 + 12.011 + 3 * 15.999
+    assert hardness.CA_TO_CACO3 == 2.497 == round(caco3 / 40.078, 3)
+    assert hardness.MG_TO_CACO3 == 4.118 == round(caco3 / 24.305, 3)
 
 
 def _results(rows):

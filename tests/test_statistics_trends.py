@@ -1,6 +1,7 @@
 """Trend tests checked against pymannkendall, scipy.stats.theilslopes, exact enumeration and hand counts."""
 
 import itertools
+from unittest import mock
 
 import numpy as np
 import pandas as pd
@@ -248,12 +249,74 @@ def test_crosses_limit_on_from_sen_line():
 @settings(max_examples=40, deadline=None)
 @given(st.lists(st.floats(0.0, 50.0), min_size=3, max_size=30))
 def test_censoring_nothing_changes_nothing(xs):
-    """All-detected flags give exactly the uncensored test and Sen slope (property; Helsel 2012 reduction)."""
+    """A series without non-detects gets exactly the uncensored test and Sen slope even on the censored
+    code path (Helsel 2012 reduction: the pair rules and the Daniels variance reduce to the ordinary ones).
+
+    The series is computed alone (uncensored path) and beside a companion series holding a non-detect,
+    which sends the whole chunk through the censored pair scores (checked with a spy)."""
     y = np.round(np.array(xs), 1)
     t = np.arange(y.size) / 4.0
-    a, b = _one(t, y), _one(t, y, np.zeros(y.size, bool))
+    alone = _one(t, y)
+    companion = np.zeros(y.size, bool)
+    companion[0] = True
+    with mock.patch.object(mann_kendall, "_pair_scores", wraps=mann_kendall._pair_scores) as spy:
+        both = mann_kendall.mann_kendall_grouped(np.r_[t, t], np.r_[y, y], np.r_[np.zeros(y.size, bool), companion],
+                                                 np.repeat([0, 1], y.size), 2).iloc[0]
+    assert spy.called  # the censored path ran
     for col in ("s", "var_s", "p_value", "slope_per_year", "slope_low", "slope_high", "intercept"):
-        assert a[col] == pytest.approx(b[col], nan_ok=True, rel=1e-15)
+        assert both[col] == pytest.approx(alone[col], nan_ok=True, rel=1e-12), col
+
+
+def _brute_force_s(t, y, nd):
+    """Kendall's S by enumerating every pair with Helsel's (2012, sec. 12.2) rules, written independently
+    of the engine: a pair in time order scores +1 / -1 when the order of the true values is known, else 0.
+    A non-detect's true value is below its detection limit; tied times score 0."""
+    s = 0
+    for i in range(len(y)):
+        for j in range(len(y)):
+            if not t[i] < t[j]:
+                continue
+            lo_i, hi_i = (0.0, y[i]) if nd[i] else (y[i], y[i])  # the interval holding each true value
+            lo_j, hi_j = (0.0, y[j]) if nd[j] else (y[j], y[j])
+            if lo_j > hi_i or (nd[i] and not nd[j] and lo_j >= hi_i):  # later surely higher
+                s += 1
+            elif lo_i > hi_j or (nd[j] and not nd[i] and lo_i >= hi_j):  # later surely lower
+                s -= 1
+    return s
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(0, 2**31 - 1), st.integers(5, 30))
+def test_censored_s_equals_brute_force_pair_enumeration(seed, n):
+    """Censored S equals an independent enumeration of every pair's score, on random series with several
+    detection limits, values tied with a detection limit and tied sampling times (reference: the pair
+    rules of Helsel 2012, sec. 12.2, coded separately in this test)."""
+    rng = np.random.default_rng(seed)
+    t = np.sort(rng.integers(0, n, n)).astype(float)  # tied times
+    dl = rng.choice([0.5, 1.0, 2.0], n)
+    true = np.round(rng.lognormal(0.0, 1.0, n), 1)
+    nd = true < dl
+    y = np.where(nd, dl, np.where(rng.random(n) < 0.1, dl, true))  # some detects equal to a DL
+    assert _one(t, y, nd)["s"] == _brute_force_s(t, y, nd)
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_censored_variance_equals_brute_force_permutation_variance(seed):
+    """Var(S) equals the variance of the brute-force S over all 7! assignments of the values to the
+    sampling times (the definition of the permutation variance under "no trend", Daniels 1944), with
+    non-detects at two detection limits and a tied time; S is the independent enumeration above."""
+    rng = np.random.default_rng(seed)
+    t = np.array([0, 1, 1, 2, 3, 4, 5.0])
+    dl = rng.choice([1.0, 2.0], 7)
+    true = np.round(rng.lognormal(0.0, 0.8, 7), 1)
+    nd = true < dl
+    y = np.where(nd, dl, true)
+    assert nd.any() and (~nd).any()
+    s_all = np.array([_brute_force_s(t, y[list(p)], nd[list(p)]) for p in itertools.permutations(range(7))])
+    r = _one(t, y, nd)
+    assert r["s"] == _brute_force_s(t, y, nd)
+    assert_allclose(r["var_s"], np.mean(s_all.astype(float) ** 2), rtol=1e-12)  # E[S] = 0 under permutation
+    assert abs(s_all.mean()) < 1e-9
 
 
 def test_series_of_one_value_gives_no_statistic_instead_of_an_error():

@@ -1,4 +1,7 @@
-"""Censored-data statistics checked against statsmodels, scipy, closed forms and the shared check case."""
+"""Censored-data statistics checked against statsmodels, scipy, closed forms and the check case in tests/data."""
+
+import csv
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -12,10 +15,15 @@ from tracescreen.statistics import bootstrap, censored
 from tracescreen.statistics.lognormal import lognormal_mle
 from tracescreen.statistics.ros import ros
 
-# Check case (15 values, detection limits 0.5 and 1.0) from /work/shared/docs/censored-statistics.md;
-# its KM, ROS and MLE values were computed there with lifelines, statsmodels and by hand.
-CHECK_X = np.array([0.5, 0.5, 0.5, 0.6, 0.8, 1.0, 1.0, 1.0, 1.2, 1.5, 1.9, 2.4, 3.1, 4.6, 7.5])
-CHECK_ND = np.array([1, 1, 1, 0, 0, 1, 1, 1, 0, 0, 0, 0, 0, 0, 0], bool)
+# Check case (15 values, detection limits 0.5 and 1.0) and its KM, ROS and MLE statistics computed
+# with lifelines, statsmodels and by hand: tests/data/censored_check_case_15_values*.csv (origin in
+# tests/data/README.md).
+DATA = Path(__file__).parent / "data"
+_CASE = np.genfromtxt(DATA / "censored_check_case_15_values.csv", delimiter=",", names=True)
+CHECK_X = _CASE["value"].astype(float)
+CHECK_ND = _CASE["nondetect"].astype(bool)
+EXPECTED = {r["statistic"]: float(r["value"])
+            for r in csv.DictReader((DATA / "censored_check_case_15_values_expected.csv").open(encoding="utf-8"))}
 
 
 def km_reference(x, nd, probs):
@@ -38,10 +46,10 @@ def km_reference(x, nd, probs):
 
 
 def test_km_check_case():
-    """KM mean 1.789333 (Efron), median 0.8, 75th percentile 2.4: shared check case (lifelines/statsmodels/hand)."""
+    """KM mean (Efron), median and 75th percentile of the check case (tests/data: lifelines/statsmodels/hand)."""
     r = censored.kaplan_meier(CHECK_X, CHECK_ND, probs=(0.5, 0.75))
-    assert_allclose(r["mean"], 1.789333, atol=5e-7)
-    assert_allclose(r["quantiles"], [0.8, 2.4], rtol=1e-12)
+    assert_allclose(r["mean"], EXPECTED["kaplan_meier_mean_efron"], atol=5e-7)
+    assert_allclose(r["quantiles"], [EXPECTED["kaplan_meier_median"], EXPECTED["kaplan_meier_p75"]], rtol=1e-12)
 
 
 @pytest.mark.parametrize("seed,dls", [(1, [1.0]), (2, [0.5, 1.0, 2.0]), (3, [0.2, 0.3, 0.7, 1.5])])
@@ -106,9 +114,9 @@ def test_km_without_nondetects_is_sample_statistics(xs):
 
 
 def test_ros_check_case():
-    """ROS mean 1.700152 and sd 2.043878: shared check case (statsmodels impute_ros)."""
+    """ROS mean and sd of the check case (tests/data: statsmodels impute_ros)."""
     imputed = ros(CHECK_X, CHECK_ND)
-    assert_allclose([imputed.mean(), imputed.std(ddof=1)], [1.700152, 2.043878], atol=5e-7)
+    assert_allclose([imputed.mean(), imputed.std(ddof=1)], [EXPECTED["ros_mean"], EXPECTED["ros_sd"]], atol=5e-7)
 
 
 @pytest.mark.parametrize("seed", [11, 12, 13])
@@ -131,9 +139,10 @@ def test_ros_too_few_detects_is_nan():
 
 
 def test_mle_check_case():
-    """Lognormal MLE mu -0.0828755, sigma 1.187899, mean 1.863910: shared check case."""
+    """Lognormal MLE mu, sigma and mean of the check case (tests/data: scipy optimiser on the likelihood)."""
     r = lognormal_mle(CHECK_X, CHECK_ND)
-    assert_allclose([r["mu"], r["sigma"], r["mean"]], [-0.0828755, 1.187899, 1.863910], atol=2e-6)
+    assert_allclose([r["mu"], r["sigma"], r["mean"]], [EXPECTED["lognormal_mle_mu"], EXPECTED["lognormal_mle_sigma"], EXPECTED["lognormal_mle_mean"]],
+                    atol=2e-6)
 
 
 def test_mle_uncensored_is_closed_form():
@@ -171,7 +180,7 @@ def test_grouped_ros_and_mle_match_single_series():
     ros = censored.censored_statistics_grouped(x, nd, codes, 2, method="ros")
     assert ros.loc[0, "mean"] == pytest.approx(1.7001522567, rel=1e-9)
     mle = censored.censored_statistics_grouped(x, nd, codes, 2, method="mle_lognormal")
-    assert mle.loc[1, "mean"] == pytest.approx(2 * 1.863910, rel=1e-6)
+    assert mle.loc[1, "mean"] == pytest.approx(2 * EXPECTED["lognormal_mle_mean"], rel=1e-6)
 
 
 def test_bootstrap_ucl_is_seeded_and_above_mean():
@@ -180,7 +189,7 @@ def test_bootstrap_ucl_is_seeded_and_above_mean():
     a = bootstrap.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
     b = bootstrap.bootstrap_ucl_km_grouped(CHECK_X, CHECK_ND, codes, 1, n_boot=2000, seed=3)
     assert a[0] == b[0]
-    assert 1.789333 < a[0] < 4.0
+    assert EXPECTED["kaplan_meier_mean_efron"] < a[0] < 4.0
 
 
 def test_bootstrap_ucl_without_censoring_near_t_interval():
@@ -237,7 +246,7 @@ def test_grouped_mle_matches_scipy_fit_per_series():
         one = lognormal_mle(x[codes == g], nd[codes == g])
         assert table.loc[g, "mean"] == pytest.approx(one["mean"], rel=1e-7, nan_ok=True)
         assert table.loc[g, "q90"] == pytest.approx(one["quantiles"][1], rel=1e-7, nan_ok=True)
-    assert table.loc[40, "mean"] == pytest.approx(1.863910, abs=2e-6)  # shared check case
+    assert table.loc[40, "mean"] == pytest.approx(EXPECTED["lognormal_mle_mean"], abs=2e-6)  # check case
 
 
 def test_bootstrap_resample_means_equal_kaplan_meier_of_each_resample():

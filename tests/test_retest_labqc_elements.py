@@ -3,7 +3,7 @@
 Formulas: spike recovery 100 (spiked - unspiked) / added (US EPA SW-846 Method 1312 section 8.2.4,
 seen); a spike on a sample below the MDL uses zero for the sample (CLP inorganic statement of work,
 Exhibit C 12.6.7, as quoted on the WEF forum, seen); RPD = 100 |A - B| / ((A + B) / 2) (common
-practice). Windows and tiers: see test_labqc_windows.py.
+practice). Windows and tiers: see test_retest_labqc_windows.py.
 """
 
 from __future__ import annotations
