@@ -202,6 +202,11 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
     return Loaded(loaded, limits, sites, pd.DataFrame(rows))
 
 
+def sites_name(path) -> str:
+    """The sites file's name in messages."""
+    return Path(path).name if path else "the sites file"
+
+
 def read_results(inputs: Inputs, sites=None):
     """The lab results of a run: the lab files of ``inputs``, or its workspace's current results
     (:class:`tracescreen.io.loading.LoadResult`; results of sites not in ``sites`` are rejected)."""
@@ -213,13 +218,13 @@ def read_results(inputs: Inputs, sites=None):
         from tracescreen.store.workspace import open_workspace
 
         with open_workspace(inputs.workspace) as ws:
-            return ws.load_result(sites, sites_name(inputs))
+            return ws.load_result(sites, sites_name(inputs.sites))
     from tracescreen.io.loading import load_results
 
-    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name(inputs))
+    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name(inputs.sites))
 
 
-def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
+def screen(accepted, limits, sites, options: Options, period_base: int = 0, one_part: bool = False) -> tuple:
     """Step 2: the screening rows and (when ``options.periods``) the periods table, from one pass.
 
     Parameters
@@ -230,23 +235,29 @@ def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
     sites : DataFrame or None
     options : Options
         ``cross_fraction``, ``guard_band``, ``periods`` and ``part_rows`` apply.
+    period_base, one_part : int, bool
+        ``accepted`` is one part of whole sites (:mod:`tracescreen.streaming`), screened in one go; its
+        period ids follow ``period_base``; each screening row's result (position in ``accepted``) is returned too.
 
     Returns
     -------
-    (screened, periods)
+    (screened, periods), or (screened, periods, position) with ``one_part``
     """
     from tracescreen._internal.memory import release_unused
-    from tracescreen.screening.parts import PART_ROWS, screen_in_parts
+    from tracescreen.screening.parts import PART_ROWS, screen_in_parts, screen_part
 
-    screened, periods = screen_in_parts(accepted, limits, sites,
-                                        cross_fraction=options.cross_fraction, with_periods=options.periods,
-                                        part_rows=options.part_rows or PART_ROWS)
+    if one_part:
+        screened, periods, position = screen_part(accepted, limits, sites, options.cross_fraction, options.periods,
+                                                  period_base)
+    else:
+        screened, periods = screen_in_parts(accepted, limits, sites, cross_fraction=options.cross_fraction,
+                                            with_periods=options.periods, part_rows=options.part_rows or PART_ROWS)
     if options.guard_band is not None:
         from tracescreen.screening.uncertainty import uncertainty_decision
 
         screened = uncertainty_decision(screened, options.guard_band)
     release_unused()
-    return screened, periods
+    return (screened, periods, position) if one_part else (screened, periods)
 
 
 def statistics(accepted, screened, options: StatisticsOptions) -> dict:
@@ -309,12 +320,13 @@ def lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, An
     return review, calibration
 
 
-def retest(screened, options: RetestOptions, lab_qc=None):
-    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the others."""
+def retest(screened, options: RetestOptions, lab_qc=None, blanks=None):
+    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the
+    others; ``blanks``: the run's blanks when ``screened`` holds some of its sites (a run in parts)."""
     from tracescreen._internal.memory import release_unused
     from tracescreen.retest.listing import retest_list
 
-    out = retest_list(screened, options, lab_qc=lab_qc)
+    out = retest_list(screened, options, lab_qc=lab_qc, blanks=blanks)
     release_unused()
     return out
 
@@ -341,40 +353,31 @@ def run(inputs: Inputs, options: Options | None = None,
     data = load(inputs, options.record_run)
     if on_loaded is not None:
         on_loaded(data)
-    from tracescreen.streaming import MemorySink
+    from tracescreen.streaming import RESULTS, MemorySink
 
-    sink = MemorySink()
-    out = run_loaded(data, inputs, options, sink)
-    out.screened, out.periods = sink.table("screening"), sink.table("periods")
-    for name in ("summary", "exceedances", "trends", "retest"):
-        setattr(out, name, sink.table(name))
+    out = run_loaded(data, inputs, options, sink := MemorySink())
+    for name, table in RESULTS.items():
+        setattr(out, name, sink.table(table))
     if options.wells is not None:
         out.wells = wells(data.loaded.accepted, out.screened, options.wells)
     return out
 
 
 def run_loaded(data: Loaded, inputs: Inputs, options: Options, sink, wide: bool = False) -> Results:
-    """Steps 2-5 on loaded inputs, in partitions of whole sites (:mod:`tracescreen.streaming`): every
-    per-result and per-series table goes to ``sink`` part by part; returns the :class:`Results`
-    holding the whole-run tables (laboratory QC review, calibration), the tables themselves being
-    the sink's. ``wide``: also the result-wide screening table (``screening_wide``)."""
+    """Steps 2-5 in partitions of whole sites (:mod:`tracescreen.streaming`), each table to ``sink`` part by
+    part (``wide``: also ``screening_wide``); the :class:`Results` hold the whole-run tables (lab QC, calibration)."""
     from tracescreen import streaming
 
     out = Results(data.loaded, data.limits, data.sites, data.input_files, options=options)
     if inputs.dataset:
         ctx = streaming.dataset_context(inputs.dataset, data, options, wide)
-        streaming.run_dataset_parts(inputs.dataset, ctx, sink, sites_name(inputs))
+        streaming.run_dataset_parts(inputs.dataset, ctx, sink, sites_name(inputs.sites))
         return out
     if options.lab_qc is not None:
         out.lab_qc, out.calibration = lab_qc(data, inputs, options.lab_qc)
     ctx = streaming.files_context(data, options, wide, out.lab_qc, out.calibration)
     streaming.run_in_parts(data.loaded.accepted, ctx, sink, options.part_rows)
     return out
-
-
-def sites_name(inputs: Inputs) -> str:
-    """The sites file's name in messages."""
-    return Path(inputs.sites).name if inputs.sites else "the sites file"
 
 
 @dataclass(frozen=True)

@@ -31,6 +31,9 @@ import pandas as pd
 
 #: Output tables computed per part, in the order they are written.
 PART_TABLES = ("screening", "screening_wide", "periods", "summary", "exceedances", "trends", "retest")
+#: The attributes of :class:`tracescreen.pipeline.Results` that hold part tables, and the tables.
+RESULTS = {"screened": "screening", "periods": "periods", "summary": "summary", "exceedances": "exceedances",
+           "trends": "trends", "retest": "retest"}
 
 
 @dataclass
@@ -105,15 +108,10 @@ def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0) 
         order, with the column ``row`` as given, and ``position``: each screening row's result (0-based
         position in ``accepted``).
     """
-    from tracescreen.screening.parts import screen_part
+    from tracescreen import pipeline
 
     o = ctx.options
-    screened, periods, position = screen_part(accepted, ctx.limits, ctx.sites, o.cross_fraction, o.periods,
-                                              period_base)
-    if o.guard_band is not None:
-        from tracescreen.screening.uncertainty import uncertainty_decision
-
-        screened = uncertainty_decision(screened, o.guard_band)
+    screened, periods, position = pipeline.screen(accepted, ctx.limits, ctx.sites, o, period_base, one_part=True)
     out = {"screening": screened, "position": position}
     if ctx.keys is not None:
         from tracescreen.screening.wide import result_wide
@@ -122,14 +120,10 @@ def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0) 
     if periods is not None:
         out["periods"] = periods
     if o.statistics is not None:
-        from tracescreen.pipeline import statistics
-
-        out.update(statistics(accepted, screened, o.statistics))
+        out.update(pipeline.statistics(accepted, screened, o.statistics))
     if o.retest is not None:
-        from tracescreen.retest.listing import retest_list
-
         lab = lab_qc_rows_of(ctx.lab_qc, accepted["site_id"], ctx)
-        out["retest"] = retest_list(screened, o.retest, lab_qc=lab, blanks=ctx.blanks)
+        out["retest"] = pipeline.retest(screened, o.retest, lab_qc=lab, blanks=ctx.blanks)
         if ctx.calibration is not None:
             out["retest"] = ctx.calibration.annotate(out["retest"])
     return out
