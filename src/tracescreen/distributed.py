@@ -76,7 +76,7 @@ class ClusterRun:
 
 
 def run_on_cluster(dataset, ctx: PartContext, out, *, scheduler: str | None = None, workers: int = 2,
-                   sites_name: str = "the sites file", progress=None) -> ClusterRun:
+                   sites_name: str = "the sites file") -> ClusterRun:
     """Screen every site group of ``dataset`` on a Dask cluster; outputs under ``out`` as partitioned Parquet.
 
     Parameters
@@ -91,12 +91,11 @@ def run_on_cluster(dataset, ctx: PartContext, out, *, scheduler: str | None = No
         Address of a running scheduler (``tcp://host:8786``); default: a LocalCluster on this machine.
     workers : int
         Worker processes of the LocalCluster (one thread each).
-    progress : callable, optional
-        Called with (done, total) as site groups finish.
     """
     from distributed import Client, LocalCluster, as_completed
 
     from tracescreen.io.dataset import dataset_parts, group_of
+    from tracescreen.progress import report
 
     parts = dataset_parts(dataset)
     cluster = None
@@ -120,8 +119,8 @@ def run_on_cluster(dataset, ctx: PartContext, out, *, scheduler: str | None = No
             result.status_counts = result.status_counts.add(pd.Series(s["status"], dtype="int64"), fill_value=0)
             result.reason_counts = result.reason_counts.add(pd.Series(s["reasons"], dtype="int64"), fill_value=0)
             result.workers[s["worker"]] = max(result.workers.get(s["worker"], 0.0), s["peak_mb"])
-            if progress is not None:
-                progress(done, len(futures))
+            report("screen", done, len(futures), unit="site groups", detail=f"on {s['worker']}",
+                   finished=done == len(futures))
     finally:
         client.close()
         if cluster is not None:

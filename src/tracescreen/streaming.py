@@ -136,12 +136,17 @@ def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int 
     result as its position in ``accepted``.
     """
     from tracescreen._internal.memory import release_unused
+    from tracescreen.progress import report, reporting
     from tracescreen.screening.parts import PART_ROWS, last_period_id, site_partitions
 
-    base = 0
+    base, done, total = 0, 0, len(accepted)
+    report("screen", 0, total, detail="screening, statistics and retest list, part by part")
     for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
         ctx.first_part = k == 0
-        tables = part_tables(part, ctx, base)
+        with reporting(_silent):  # the run reports parts, not each part's own steps
+            tables = part_tables(part, ctx, base)
+        done += len(part)
+        report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
         del part
         position = positions[tables.pop("position")]
         base = last_period_id(tables["screening"], base)
@@ -152,6 +157,11 @@ def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int 
                 sink.add(name, tables[name], position if name == "screening" else None)
         del tables
         release_unused()
+    report("screen", total, total, finished=True)
+
+
+def _silent(step) -> None:
+    """A progress callback that shows nothing (the steps inside one part)."""
 
 
 class MemorySink:
@@ -326,11 +336,15 @@ def run_dataset_parts(path, ctx: PartContext, sink, sites_name: str = "the sites
     number of results accepted. ``sink`` also receives each group's ``rejected`` rows."""
     from tracescreen._internal.memory import release_unused
     from tracescreen.io.dataset import dataset_parts, group_of
+    from tracescreen.progress import report, reporting
 
-    accepted = 0
-    for k, part in enumerate(dataset_parts(path)):
+    accepted, parts = 0, dataset_parts(path)
+    report("screen", 0, len(parts), unit="site groups")
+    for k, part in enumerate(parts):
         ctx.first_part = k == 0
-        tables = dataset_part_tables(part, group_of(part), ctx, sites_name)
+        with reporting(_silent):
+            tables = dataset_part_tables(part, group_of(part), ctx, sites_name)
+        report("screen", k + 1, len(parts), unit="site groups", detail=part.name, finished=k + 1 == len(parts))
         accepted += tables.pop("accepted")
         tables.pop("position")
         for name in PART_TABLES + ("rejected",):

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
-import argparse
-
 from .common import print_caution
+from .parser import group
+
+EXAMPLES = ["tracescreen export --workspace out/demo-workspace --parquet out/demo-parquet"]
 
 
 def register(sub) -> None:
@@ -14,11 +15,11 @@ def register(sub) -> None:
                     "row, import, the file's SHA-256), as a Parquet dataset partitioned by site group "
                     "(whole sites, about 250,000 results each) and sampling year "
                     "(DIR2/site_group=3/year=2021/part-0.parquet), for use in other tools and as the input "
-                    "of 'tracescreen screen --dataset DIR2' (one site group at a time, or on a Dask cluster).",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
-    p.add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
-    p.add_argument("--parquet", required=True, metavar="DIR2", help="new (or empty) folder to write")
-    p.add_argument("--history", action="store_true",
+                    "of 'tracescreen screen --dataset DIR2' (one site group at a time, or on a Dask cluster).")
+    group(p, "inputs").add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
+    out = group(p, "output")
+    out.add_argument("--parquet", required=True, metavar="DIR2", help="new (or empty) folder to write")
+    out.add_argument("--history", action="store_true",
                    help="include superseded results (column superseded_by names the import that replaced them)")
     p.set_defaults(func=run)
 

@@ -21,6 +21,7 @@ import pandas as pd
 from pandas.api.types import union_categoricals
 
 from tracescreen._internal.memory import release_unused
+from tracescreen.progress import report
 from tracescreen.screening.screen import screen, screen_with_periods
 
 #: results per part (a part always holds whole sites, so it may be larger)
@@ -125,10 +126,12 @@ def screen_in_parts(results: pd.DataFrame, limits, sites: pd.DataFrame | None = 
         The screening rows in input order, exactly as one call of ``screen`` gives them (categories
         of text columns aside); ``periods`` is None unless ``with_periods``.
     """
-    screened_parts, period_parts, positions, base = [], [], [], 0
+    screened_parts, period_parts, positions, base, done = [], [], [], 0, 0
     for where, part in site_partitions(results, part_rows):
         screened, table, position = screen_part(part, limits, sites, cross_fraction, with_periods, base, with_results)
         positions.append(where[position])
+        done += len(where)
+        report("screen", done, len(results), unit="rows")
         base = max(last_period_id(screened, base), int(table["period_id"].max()) if table is not None and len(table) else 0)
         screened_parts.append(screened)
         if table is not None and (len(table) or not period_parts):
