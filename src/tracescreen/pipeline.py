@@ -6,11 +6,9 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
    (:mod:`tracescreen.io.sites`) and the lab files or a workspace's current results
    (:mod:`tracescreen.io.loading`, :mod:`tracescreen.store.workspace`): accepted, set-aside and
    rejected rows, and every input file with its SHA-256.
-2. :func:`screen` -- every accepted result against every limit that applies
-   (:mod:`tracescreen.screening`), in parts of whole sites so that peak memory stays bounded
-   (:mod:`tracescreen.screening.parts`); the period rules (running means, percentiles) are
-   evaluated once, giving both the period statuses and the periods table; optionally the
-   measurement-uncertainty guard band (:mod:`tracescreen.screening.uncertainty`).
+2. :func:`screen` -- every accepted result against every limit that applies (:mod:`tracescreen.screening`);
+   the period rules evaluated once (statuses and the periods table); optionally the uncertainty guard band.
+   Steps 2, 3 and 5 run in partitions of whole sites (:mod:`tracescreen.streaming`): memory bounded by a part.
 3. :func:`statistics` -- summaries, exceedance rates and trend tests per series
    (:mod:`tracescreen.statistics`).
 4. :func:`lab_qc` -- the laboratory QC review of the QC rows the lab files carry (and of separate
@@ -204,11 +202,6 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
     return Loaded(loaded, limits, sites, pd.DataFrame(rows))
 
 
-def sites_name(path) -> str:
-    """The sites file's name in messages."""
-    return Path(path).name if path else "the sites file"
-
-
 def read_results(inputs: Inputs, sites=None):
     """The lab results of a run: the lab files of ``inputs``, or its workspace's current results
     (:class:`tracescreen.io.loading.LoadResult`; results of sites not in ``sites`` are rejected)."""
@@ -216,6 +209,8 @@ def read_results(inputs: Inputs, sites=None):
         from tracescreen.io.dataset import dataset_files
 
         return dataset_files(inputs.dataset)
+    from tracescreen.io.sites import sites_name
+
     if inputs.workspace:
         from tracescreen.store.workspace import open_workspace
 
@@ -377,20 +372,11 @@ def _run(inputs: Inputs, options: Options, on_loaded) -> Results:
 
 
 def run_loaded(data: Loaded, inputs: Inputs, options: Options, sink, wide: bool = False) -> Results:
-    """Steps 2-5 in partitions of whole sites (:mod:`tracescreen.streaming`), each table to ``sink`` part by
-    part (``wide``: also ``screening_wide``); the :class:`Results` hold the whole-run tables (lab QC, calibration)."""
-    from tracescreen import streaming
+    """Steps 2-5 in partitions of whole sites, each table to ``sink`` part by part (``wide``: also
+    ``screening_wide``): :func:`tracescreen.streaming.run_steps`."""
+    from tracescreen.streaming import run_steps
 
-    out = Results(data.loaded, data.limits, data.sites, data.input_files, options=options)
-    if inputs.dataset:
-        ctx = streaming.dataset_context(inputs.dataset, data, options, wide)
-        streaming.run_dataset_parts(inputs.dataset, ctx, sink, sites_name(inputs.sites))
-        return out
-    if options.lab_qc is not None:
-        out.lab_qc, out.calibration = lab_qc(data, inputs, options.lab_qc)
-    ctx = streaming.files_context(data, options, wide, out.lab_qc, out.calibration)
-    streaming.run_in_parts(data.loaded.accepted, ctx, sink, options.part_rows)
-    return out
+    return run_steps(data, inputs, options, sink, wide)
 
 
 @dataclass(frozen=True)

@@ -129,6 +129,26 @@ def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0) 
     return out
 
 
+def run_steps(data, inputs, options, sink, wide: bool = False):
+    """Steps 2-5 of a run (:mod:`tracescreen.pipeline`) in partitions of whole sites: the lab files' (or a
+    workspace's) accepted results in parts (:func:`run_in_parts`), or a results dataset one site group at a
+    time (:func:`run_dataset_parts`); each table to ``sink``. Returns the :class:`~tracescreen.pipeline.Results`
+    holding the whole-run tables (laboratory QC review, calibration); the part tables are the sink's."""
+    from tracescreen import pipeline
+    from tracescreen.io.sites import sites_name
+
+    out = pipeline.Results(data.loaded, data.limits, data.sites, data.input_files, options=options)
+    if inputs.dataset:
+        run_dataset_parts(inputs.dataset, dataset_context(inputs.dataset, data, options, wide), sink,
+                          sites_name(inputs.sites))
+        return out
+    if options.lab_qc is not None:
+        out.lab_qc, out.calibration = pipeline.lab_qc(data, inputs, options.lab_qc)
+    run_in_parts(data.loaded.accepted, files_context(data, options, wide, out.lab_qc, out.calibration), sink,
+                 options.part_rows)
+    return out
+
+
 def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int | None = None) -> None:
     """Compute every part's tables (:func:`part_tables`) and hand them to ``sink``.
 

@@ -122,8 +122,8 @@ def engine_format(args) -> str:
 
 def run_dask(args, inputs, options, data, out: Path) -> int:
     """The site groups of --dataset on a Dask cluster; outputs as partitioned Parquet under ``out``."""
-    from tracescreen import pipeline
     from tracescreen.distributed import run_on_cluster
+    from tracescreen.io.sites import sites_name
     from tracescreen.report.streams import write_table
     from tracescreen.streaming import dataset_context
 
@@ -135,7 +135,7 @@ def run_dask(args, inputs, options, data, out: Path) -> int:
         raise UserError("--engine dask needs dask.distributed: pip install 'tracescreen[distributed]'") from None
     ctx = dataset_context(inputs.dataset, data, options, wide=True)
     run = run_on_cluster(inputs.dataset, ctx, out, scheduler=args.scheduler, workers=args.workers,
-                         sites_name=pipeline.sites_name(inputs.sites))
+                         sites_name=sites_name(inputs.sites))
     write_table(data.input_files, out / "inputs.parquet", "parquet", name="inputs")
     write_table(limit_tables_table(data.limits), out / "limit_tables.parquet", "parquet", name="limit_tables")
     read = int(data.loaded.files["rows_read"].sum())

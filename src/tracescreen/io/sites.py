@@ -101,3 +101,8 @@ def _optional_columns(raw: pd.DataFrame, out: pd.DataFrame, rows: np.ndarray, p:
 def site_uses(sites: pd.DataFrame) -> pd.DataFrame:
     """One row per (site_id, use)."""
     return sites[["site_id", "uses"]].explode("uses").dropna().rename(columns={"uses": "use"}).reset_index(drop=True)
+
+
+def sites_name(path) -> str:
+    """The sites file's name in messages ("the sites file" without one)."""
+    return Path(path).name if path else "the sites file"
