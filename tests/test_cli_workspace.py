@@ -85,7 +85,7 @@ def test_workspace_user_errors_exit_2(tmp_path):
         (["screen", "--workspace", str(tmp_path / "none"), "--limits", "limits", "--out", str(tmp_path)],
          "no workspace here"),
         (["screen", str(lab), "--workspace", str(tmp_path), "--limits", "limits", "--out", str(tmp_path)],
-         "not both"),
+         "not several"),
         (["screen", "--limits", "limits", "--out", str(tmp_path)], "no lab result files given"),
         (["import", str(tmp_path / "missing.csv"), "--workspace", str(tmp_path / "ws")], "file not found"),
         (["history", "--workspace", str(tmp_path / "none")], "no workspace here"),

@@ -226,8 +226,9 @@ def test_open_errors(tmp_path):
         open_workspace(tmp_path / "other")
 
 
-def test_export_parquet_partitioned_by_year(tmp_path, ws_dir):
-    """The export holds exactly the current results, one Hive folder per sampling year (pyarrow reads it)."""
+def test_export_parquet_partitioned_by_site_group_and_year(tmp_path, ws_dir):
+    """The export holds exactly the current results, one Hive folder per site group and sampling year
+    (pyarrow reads it); every site lies in one site group."""
     a_rows = lab_rows(200, seed=4)
     _import(ws_dir, write_lab_csv(tmp_path / "a.csv", a_rows))
     _import(ws_dir, write_lab_csv(tmp_path / "b.csv", a_rows.iloc[:8].assign(result="1.25")))
@@ -237,8 +238,10 @@ def test_export_parquet_partitioned_by_year(tmp_path, ws_dir):
         with pytest.raises(WorkspaceError, match="not an empty folder"):
             export_parquet(ws, tmp_path / "export")
     years = sorted(cur["sampled_at"].dt.year.unique())
-    assert sorted(p.parent.name for p in files) == [f"year={y}" for y in years]
+    assert sorted({p.parent.name for p in files}) == [f"year={y}" for y in years]
+    assert {p.parent.parent.name for p in files} == {"site_group=0"}  # 200 results: one group
     back = ds.dataset(tmp_path / "export", format="parquet", partitioning="hive").to_table().to_pandas()
+    assert (back.groupby("site_id", observed=True)["site_group"].nunique() == 1).all()
     assert len(back) == len(cur) == 200
     assert (back["year"] == back["sampled_at"].dt.year).all()
     key = ["file", "row"]

@@ -6,11 +6,9 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
    (:mod:`tracescreen.io.sites`) and the lab files or a workspace's current results
    (:mod:`tracescreen.io.loading`, :mod:`tracescreen.store.workspace`): accepted, set-aside and
    rejected rows, and every input file with its SHA-256.
-2. :func:`screen` -- every accepted result against every limit that applies
-   (:mod:`tracescreen.screening`), in parts of whole sites so that peak memory stays bounded
-   (:mod:`tracescreen.screening.parts`); the period rules (running means, percentiles) are
-   evaluated once, giving both the period statuses and the periods table; optionally the
-   measurement-uncertainty guard band (:mod:`tracescreen.screening.uncertainty`).
+2. :func:`screen` -- every accepted result against every limit that applies (:mod:`tracescreen.screening`);
+   the period rules evaluated once (statuses and the periods table); optionally the uncertainty guard band.
+   Steps 2, 3 and 5 run in partitions of whole sites (:mod:`tracescreen.streaming`): memory bounded by a part.
 3. :func:`statistics` -- summaries, exceedance rates and trend tests per series
    (:mod:`tracescreen.statistics`).
 4. :func:`lab_qc` -- the laboratory QC review of the QC rows the lab files carry (and of separate
@@ -65,6 +63,9 @@ class Inputs:
         Separate laboratory QC summary files (the QC rows of the lab files are reviewed without them).
     calibration_files : tuple of str
         The laboratory's calibration files (standards, calibration blanks, MDL study, sample responses).
+    dataset : str or None
+        A results dataset (Parquet, partitioned by site group: ``tracescreen export --parquet``), read one
+        site group at a time (:mod:`tracescreen.io.dataset`) instead of ``results``.
     """
 
     results: tuple = ()
@@ -74,6 +75,7 @@ class Inputs:
     reading: Any = None
     qc_files: tuple = ()
     calibration_files: tuple = ()
+    dataset: str | None = None
 
 
 @dataclass(frozen=True)
@@ -204,18 +206,23 @@ def load(inputs: Inputs, record_run: str | None = None) -> Loaded:
 def read_results(inputs: Inputs, sites=None):
     """The lab results of a run: the lab files of ``inputs``, or its workspace's current results
     (:class:`tracescreen.io.loading.LoadResult`; results of sites not in ``sites`` are rejected)."""
-    sites_name = Path(inputs.sites).name if inputs.sites else "the sites file"
+    if inputs.dataset:  # read part by part during the run (streaming.run_dataset_parts)
+        from tracescreen.io.dataset import dataset_files
+
+        return dataset_files(inputs.dataset)
+    from tracescreen.io.sites import sites_name
+
     if inputs.workspace:
         from tracescreen.store.workspace import open_workspace
 
         with stage("read", detail=Path(inputs.workspace).name), open_workspace(inputs.workspace) as ws:
-            return ws.load_result(sites, sites_name)
+            return ws.load_result(sites, sites_name(inputs.sites))
     from tracescreen.io.loading import load_results
 
-    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name)
+    return load_results(inputs.results, inputs.reading, sites, sites_name=sites_name(inputs.sites))
 
 
-def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
+def screen(accepted, limits, sites, options: Options, period_base: int = 0, one_part: bool = False) -> tuple:
     """Step 2: the screening rows and (when ``options.periods``) the periods table, from one pass.
 
     Parameters
@@ -226,25 +233,31 @@ def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
     sites : DataFrame or None
     options : Options
         ``cross_fraction``, ``guard_band``, ``periods`` and ``part_rows`` apply.
+    period_base, one_part : int, bool
+        ``accepted`` is one part of whole sites (:mod:`tracescreen.streaming`), screened in one go; its
+        period ids follow ``period_base``; each screening row's result (position in ``accepted``) is returned too.
 
     Returns
     -------
-    (screened, periods)
+    (screened, periods), or (screened, periods, position) with ``one_part``
     """
     from tracescreen._internal.memory import release_unused
-    from tracescreen.screening.parts import PART_ROWS, screen_in_parts
+    from tracescreen.screening.parts import PART_ROWS, screen_in_parts, screen_part
 
     report("screen", 0, len(accepted))
-    screened, periods = screen_in_parts(accepted, limits, sites,
-                                        cross_fraction=options.cross_fraction, with_periods=options.periods,
-                                        part_rows=options.part_rows or PART_ROWS)
+    if one_part:
+        screened, periods, position = screen_part(accepted, limits, sites, options.cross_fraction, options.periods,
+                                                  period_base)
+    else:
+        screened, periods = screen_in_parts(accepted, limits, sites, cross_fraction=options.cross_fraction,
+                                            with_periods=options.periods, part_rows=options.part_rows or PART_ROWS)
     if options.guard_band is not None:
         from tracescreen.screening.uncertainty import uncertainty_decision
 
         screened = uncertainty_decision(screened, options.guard_band)
     release_unused()
     report("screen", len(accepted), len(accepted), finished=True)
-    return screened, periods
+    return (screened, periods, position) if one_part else (screened, periods)
 
 
 def statistics(accepted, screened, options: StatisticsOptions) -> dict:
@@ -252,7 +265,8 @@ def statistics(accepted, screened, options: StatisticsOptions) -> dict:
     from tracescreen._internal.memory import release_unused
     from tracescreen.statistics.summary import exceedance_rates, summarise
 
-    steps = {"summary": lambda: summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed),
+    steps = {"summary": lambda: summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed,
+                                              ucl=options.ucl),
              "exceedances": lambda: exceedance_rates(screened), "trends": lambda: trends(accepted, screened, options)}
     names, out = [t for t in steps if t in options.tables], {}
     for k, name in enumerate(names):
@@ -307,22 +321,14 @@ def _lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, A
     return review, calibration
 
 
-def lab_qc_retest(review, calibration):
-    """The retest rows of the laboratory QC review and the calibration checks (None when there are none)."""
-    import pandas as pd
-
-    parts = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None))
-             if t is not None and len(t)]
-    return pd.concat(parts, ignore_index=True) if parts else None
-
-
-def retest(screened, options: RetestOptions, lab_qc=None):
-    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the others."""
+def retest(screened, options: RetestOptions, lab_qc=None, blanks=None):
+    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the
+    others; ``blanks``: the run's blanks when ``screened`` holds some of its sites (a run in parts)."""
     from tracescreen._internal.memory import release_unused
     from tracescreen.retest.listing import retest_list
 
     with stage("retest"):
-        out = retest_list(screened, options, lab_qc=lab_qc)
+        out = retest_list(screened, options, lab_qc=lab_qc, blanks=blanks)
         release_unused()
     return out
 
@@ -356,21 +362,22 @@ def _run(inputs: Inputs, options: Options, on_loaded) -> Results:
     data = load(inputs, options.record_run)
     if on_loaded is not None:
         on_loaded(data)
-    screened, periods = screen(data.loaded.accepted, data.limits, data.sites, options)
-    out = Results(data.loaded, data.limits, data.sites, data.input_files, screened=screened, periods=periods,
-                  options=options)
-    if options.statistics is not None:
-        for name, table in statistics(data.loaded.accepted, screened, options.statistics).items():
-            setattr(out, name, table)
-    if options.lab_qc is not None:
-        out.lab_qc, out.calibration = lab_qc(data, inputs, options.lab_qc)
-    if options.retest is not None:
-        out.retest = retest(screened, options.retest, lab_qc_retest(out.lab_qc, out.calibration))
-        if out.calibration is not None:
-            out.retest = out.calibration.annotate(out.retest)
+    from tracescreen.streaming import RESULTS, MemorySink
+
+    out = run_loaded(data, inputs, options, sink := MemorySink())
+    for name, table in RESULTS.items():
+        setattr(out, name, sink.table(table))
     if options.wells is not None:
-        out.wells = wells(data.loaded.accepted, screened, options.wells)
+        out.wells = wells(data.loaded.accepted, out.screened, options.wells)
     return out
+
+
+def run_loaded(data: Loaded, inputs: Inputs, options: Options, sink, wide: bool = False) -> Results:
+    """Steps 2-5 in partitions of whole sites, each table to ``sink`` part by part (``wide``: also
+    ``screening_wide``): :func:`tracescreen.streaming.run_steps`."""
+    from tracescreen.streaming import run_steps
+
+    return run_steps(data, inputs, options, sink, wide)
 
 
 @dataclass(frozen=True)

@@ -21,10 +21,13 @@ def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) 
     """Add the options that say which results, limit tables and sites to read."""
     inputs, limits = group(p, "inputs"), group(p, "limits")
     inputs.add_argument("results", nargs="*", metavar="RESULTS",
-                        help="lab result files (CSV or XLSX); or use --workspace")
+                        help="lab result files (CSV or XLSX); or use --workspace or --dataset")
     inputs.add_argument("--workspace", metavar="DIR",
                         help="use the current results of this workspace (see 'tracescreen import') instead of "
                              "lab files; the run is recorded in it with the SHA-256 of the limit tables and sites")
+    inputs.add_argument("--dataset", metavar="DIR",
+                        help="use a results dataset (Parquet partitioned by site group, written by 'tracescreen "
+                             "export --parquet') instead of lab files, read one site group at a time")
     inputs.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
                         "hardness_mg_L); without it every table applies to every site")
     limits.add_argument("--limits", required=True, metavar="PATH", action="append",
@@ -88,6 +91,16 @@ def read_caps(args):
     return ReadCaps(**values)
 
 
+def add_format_option(p: argparse.ArgumentParser) -> None:
+    """Add ``--format``: the file format of the output tables."""
+    from tracescreen.report.formats import FORMATS
+
+    group(p, "output").add_argument("--format", choices=FORMATS, default=None,
+                   help="file format of the output tables: csv (the default; spreadsheets), parquet (text "
+                        "dictionary-encoded, dates as dates, the same columns; for tables past a spreadsheet's "
+                        "1,048,576 rows; the only format of --engine dask) or xlsx (one workbook per table)")
+
+
 def load_options(args):
     """How to read the lab files (:class:`tracescreen.io.loading.LoadOptions`) from the arguments."""
     from tracescreen.io.columns import load_column_map
@@ -104,13 +117,14 @@ def pipeline_inputs(args, limits: bool = True):
     from tracescreen.pipeline import Inputs
 
     workspace = getattr(args, "workspace", None)
-    if workspace and args.results:
-        raise UserError("give lab result files or --workspace DIR, not both")
-    if not workspace and not args.results and getattr(args, "results_required", True):
-        raise UserError("no lab result files given (give files, or --workspace DIR)")
+    dataset = getattr(args, "dataset", None)
+    if sum(bool(x) for x in (workspace, args.results, dataset)) > 1:
+        raise UserError("give lab result files, --workspace DIR or --dataset DIR, not several")
+    if not workspace and not dataset and not args.results and getattr(args, "results_required", True):
+        raise UserError("no lab result files given (give files, --workspace DIR or --dataset DIR)")
     return Inputs(results=tuple(args.results), limits=tuple(args.limits) if limits else (),
                   sites=getattr(args, "sites", None), workspace=workspace, reading=load_options(args),
-                  qc_files=tuple(getattr(args, "qc", None) or ()),
+                  qc_files=tuple(getattr(args, "qc", None) or ()), dataset=dataset,
                   calibration_files=tuple(getattr(args, "calibration", None) or ()))
 
 

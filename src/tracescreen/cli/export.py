@@ -1,4 +1,4 @@
-"""``tracescreen export``: write a workspace's current results as Parquet, partitioned by year."""
+"""``tracescreen export``: write a workspace's current results as Parquet, partitioned by site group and year."""
 
 from __future__ import annotations
 
@@ -10,10 +10,12 @@ EXAMPLES = ["tracescreen export --workspace out/demo-workspace --parquet out/dem
 
 def register(sub) -> None:
     p = sub.add_parser(
-        "export", help="write the workspace's current results as Parquet, one folder per year",
+        "export", help="write the workspace's current results as Parquet, one folder per site group and year",
         description="Write the current results of the workspace, with their provenance (file, sheet, "
-                    "row, import, the file's SHA-256), as a Parquet dataset partitioned by sampling "
-                    "year (DIR2/year=2021/part-0.parquet), for use in other tools.")
+                    "row, import, the file's SHA-256), as a Parquet dataset partitioned by site group "
+                    "(whole sites, about 250,000 results each) and sampling year "
+                    "(DIR2/site_group=3/year=2021/part-0.parquet), for use in other tools and as the input "
+                    "of 'tracescreen screen --dataset DIR2' (one site group at a time, or on a Dask cluster).")
     group(p, "inputs").add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
     out = group(p, "output")
     out.add_argument("--parquet", required=True, metavar="DIR2", help="new (or empty) folder to write")
@@ -29,7 +31,8 @@ def run(args) -> int:
     with open_workspace(args.workspace) as ws:
         files = export_parquet(ws, args.parquet, history=args.history)
     years = sorted({p.parent.name.removeprefix("year=") for p in files})
+    groups = {p.parent.parent.name for p in files}
     print(f"Wrote {len(files)} Parquet files to {args.parquet}"
-          + (f" (years {years[0]}-{years[-1]})" if years else " (no results)"))
+          + (f" ({len(groups)} site groups, years {years[0]}-{years[-1]})" if years else " (no results)"))
     print_caution()
     return 0

@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import argparse
 
-from tracescreen.statistics.options import METHODS, MIN_VALUES, StatisticsOptions
+from tracescreen.statistics.options import METHODS, MIN_VALUES, UCL_METHODS, StatisticsOptions
 
-from .common import add_data_options, announce, output_folder, pipeline_inputs, print_caution
+from .common import add_data_options, add_format_option, announce, output_folder, pipeline_inputs, print_caution, warn
 from .parser import group
 
 EXAMPLES = [
@@ -42,8 +42,11 @@ def add_statistics_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--stats-method", choices=METHODS, default="kaplan_meier",
                    help="estimator for series with non-detects; substitution_* only on request, "
                         "labelled in the output")
+    g.add_argument("--ucl", choices=UCL_METHODS, default=UCL_METHODS[0],
+                   help="ucl95_mean: km_t = Kaplan-Meier mean + t x its standard error (fast); bootstrap = "
+                        "seeded percentile bootstrap of the Kaplan-Meier mean (B resamples per series)")
     g.add_argument("--bootstrap", type=int, default=1000, metavar="B",
-                   help="bootstrap resamples for ucl95_mean")
+                   help="bootstrap resamples for ucl95_mean with --ucl bootstrap")
     g.add_argument("--seed", type=int, default=20240601, help="random seed of the bootstrap")
     add_trend_options(g)
 
@@ -51,7 +54,7 @@ def add_statistics_options(p: argparse.ArgumentParser) -> None:
 def statistics_options(args, tables=None) -> StatisticsOptions:
     """The run's :class:`~tracescreen.statistics.options.StatisticsOptions` from the arguments."""
     base = StatisticsOptions()
-    return StatisticsOptions(method=getattr(args, "stats_method", base.method),
+    return StatisticsOptions(method=getattr(args, "stats_method", base.method), ucl=getattr(args, "ucl", base.ucl),
                              n_boot=getattr(args, "bootstrap", base.n_boot), seed=getattr(args, "seed", base.seed),
                              alpha=args.alpha, seasonal=args.seasonal, min_trend_values=args.min_trend_values,
                              tables=tables or base.tables)
@@ -66,21 +69,24 @@ def register(sub) -> None:
     add_data_options(p)
     add_trend_options(group(p, "statistics"))
     group(p, "output").add_argument("--out", required=True, metavar="DIR", help="folder for trends.csv and rejected.csv")
+    add_format_option(p)
     p.set_defaults(func=run)
 
 
 def run(args) -> int:
     from tracescreen import pipeline
+    from tracescreen.cli.screen import stage_table
 
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False, retest=None, lab_qc=None,
                                statistics=statistics_options(args, tables=("trends",)), record_run=args.command)
     folder = output_folder(args)
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     table = res.trends
+    fmt = args.format or "csv"
     with folder:
-        paths = {"trends": folder.csv("trends", table, "trends.csv"),
-                 "rejected": folder.csv("rejected", res.loaded.rejected, "rejected.csv")}
-        paths["manifest"] = folder.commit(res.input_files)
+        written = {name: stage_table(folder, name, t, name, fmt, None)
+                   for name, t in (("trends", table), ("rejected", res.loaded.rejected))}
+        manifest = folder.commit(res.input_files)
     print(f"Results accepted: {len(res.loaded.accepted)}  rejected: {len(res.loaded.rejected)}")
     print(f"Series: {len(table)}")
     for d, n in table["direction"].value_counts().items():
@@ -92,7 +98,10 @@ def run(args) -> int:
             print(f"  {r.site_id} {r.analyte} ({r.fraction}): {r.slope_per_year:+.3g} µg/L per year, "
                   f"reaches {r.lowest_limit_ug_L:.3g} µg/L about {r.crosses_limit_on:%Y-%m-%d}")
     print("\nOutputs:")
-    for name, path in paths.items():
-        print(f"  {name:<10} {path}")
+    for name, stream in written.items():
+        print(f"  {name:<10} {folder.final_path(name)}")
+        if stream.warning:
+            warn(stream.warning)
+    print(f"  {'manifest':<10} {manifest}")
     print_caution()
     return 0

@@ -138,3 +138,8 @@ def use_warnings(sites: pd.DataFrame | None, table_uses) -> list[str]:
 def _some(site_ids: list[str]) -> str:
     shown = ", ".join(printable(s[:40]) for s in site_ids[:5])
     return f"site{'s' if len(site_ids) > 1 else ''} {shown}" + (f" and {len(site_ids) - 5} more" if len(site_ids) > 5 else "")
+
+
+def sites_name(path) -> str:
+    """The sites file's name in messages ("the sites file" without one)."""
+    return Path(path).name if path else "the sites file"

@@ -149,6 +149,22 @@ class OutputFolder:
         self._staged.append((name, final, tmp, rows))
         return final
 
+    def reserve(self, name: str, filename: str) -> Path:
+        """The temporary path of output ``filename``, for a writer that fills it part by part (a table
+        streamed as its parts come); staged with the rest, its rows given later by :meth:`set_rows`."""
+        final = self.folder / filename
+        tmp = _temporary(final)
+        self._staged.append((name, final, tmp, None))
+        return tmp
+
+    def set_rows(self, name: str, rows: int) -> None:
+        """The number of rows of staged output ``name`` (recorded in the manifest)."""
+        self._staged = [(n, f, t, rows if n == name else r) for n, f, t, r in self._staged]
+
+    def final_path(self, name: str) -> Path:
+        """The path staged output ``name`` has (or will have once committed)."""
+        return next(f for n, f, _, _ in self._staged if n == name)
+
     def csv(self, name: str, table, filename: str) -> Path:
         """Stage ``table`` as a CSV output (:func:`tracescreen.report.writers.write_csv`)."""
         from tracescreen.report.writers import write_csv

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import re
 from pathlib import Path
+from typing import Iterator
 
 import numpy as np
 import pandas as pd
@@ -66,14 +67,23 @@ def date_format(uniq: pd.DatetimeIndex) -> str:
     return "%Y-%m-%d %H:%M:%S" if (uniq == uniq.floor("s")).all() else "%Y-%m-%d %H:%M:%S.%f"
 
 
-def _format_dates(df: pd.DataFrame) -> pd.DataFrame:
-    """Dates as ISO text (with the time only where a column has one), as categoricals of the distinct dates."""
+def _format_dates(df: pd.DataFrame, days=None) -> pd.DataFrame:
+    """Dates as ISO text, as categoricals of the distinct dates.
+
+    ``days``: columns written as days (``YYYY-MM-DD``); the other date columns then carry the time
+    (``YYYY-MM-DD HH:MM``, seconds where one has them). None: each column shows the time only where it has one.
+    """
     out = df.copy(deep=False)
     for c in out.columns:
         if pd.api.types.is_datetime64_any_dtype(out[c]):
             codes, uniq = pd.factorize(out[c])
             uniq = pd.DatetimeIndex(uniq)
-            text = pd.Index(uniq.strftime(date_format(uniq)), dtype="str")
+            fmt = date_format(uniq)
+            if days is not None and c in days:  # a stream's parts share one format per column
+                fmt = "%Y-%m-%d"
+            elif days is not None and fmt == "%Y-%m-%d":
+                fmt = "%Y-%m-%d %H:%M"
+            text = pd.Index(uniq.strftime(fmt), dtype="str")
             text = text.append(pd.Index([""], dtype="str"))  # NaT: empty text
             out[c] = pd.Categorical.from_codes(np.where(codes < 0, len(text) - 1, codes), categories=text)
     return out
@@ -100,16 +110,14 @@ def _csv_block(table: pa.Table, header: bool) -> pa.Buffer:
     return sink.getvalue()
 
 
-def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
-    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path.
+def csv_blocks(df: pd.DataFrame, header: bool = True, days=None) -> Iterator[pa.Buffer]:
+    """``df`` as UTF-8 CSV bytes (ISO dates, formula-safe), in blocks of :data:`CSV_BLOCK_ROWS` rows.
 
-    Blocks of :data:`CSV_BLOCK_ROWS` rows are rendered by Arrow's CSV writer on all cores (Arrow
-    releases the interpreter lock) and written in order.
+    Blocks are rendered by Arrow's CSV writer on all cores (Arrow releases the interpreter lock)
+    and yielded in order; ``header``: the first block starts with the header row. ``days``: see
+    :func:`_format_dates`.
     """
-    p = Path(path)
-    report("write", None, unit="files", detail=p.name)
-    p.parent.mkdir(parents=True, exist_ok=True)
-    dated = _format_dates(df)
+    dated = _format_dates(df, days)
     # columns of Python objects (long texts, mixed values) are made safe and turned into Arrow
     # text block by block, so that a large text column is never held twice in full
     objects = [c for c in dated.columns if dated[c].dtype == object]
@@ -127,11 +135,31 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
             t = t.append_column(c, pa.Array.from_pandas(v.astype(object)))
         return t.select(names)
 
-    blocks = ((block(i), i == 0) for i in range(0, max(len(dated), 1), CSV_BLOCK_ROWS))
+    if not len(dated) and not header:
+        return
+    blocks = ((block(i), header and i == 0) for i in range(0, max(len(dated), 1), CSV_BLOCK_ROWS))
+    yield from ordered_map(_csv_block, blocks, workers(4))
+
+
+def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
+    """Write ``df`` as UTF-8 CSV (header row, ISO dates, formula-safe). Returns the path.
+
+    One table in one go; :class:`tracescreen.report.streams.TableStream` writes a table part by part.
+    """
+    p = Path(path)
+    report("write", None, unit="files", detail=p.name)
+    p.parent.mkdir(parents=True, exist_ok=True)
     with open(p, "wb") as f:
-        for data in ordered_map(_csv_block, blocks, workers(4)):
+        for data in csv_blocks(df):
             f.write(data)
     return p
+
+
+def xlsx_cell(value):
+    """A value as a worksheet cell: missing values (NaN, NA, NaT) as empty cells."""
+    if value is None or value is pd.NA or value is pd.NaT or (isinstance(value, float) and value != value):
+        return None
+    return value
 
 
 #: Widest column in the workbook (characters) and rows sampled to size the columns.
@@ -207,7 +235,7 @@ def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path, front: list[tu
         formats = {j: number_format(safe[c]) for j, c in enumerate(safe.columns)
                    if pd.api.types.is_float_dtype(safe[c])}
         for rec in safe.itertuples(index=False, name=None):
-            row = [None if (isinstance(v, float) and np.isnan(v)) else v for v in rec]
+            row = [xlsx_cell(v) for v in rec]
             for j, fmt in formats.items():
                 if row[j] is not None:
                     cell = WriteOnlyCell(ws, row[j])

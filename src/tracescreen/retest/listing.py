@@ -24,7 +24,7 @@ the laboratory QC review (:mod:`tracescreen.retest.labqc.reasons`) and the calib
 (:mod:`tracescreen.retest.calibration.checks`), whose rows are built by their review and passed in."""
 
 def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
-                lab_qc: pd.DataFrame | None = None) -> pd.DataFrame:
+                lab_qc: pd.DataFrame | None = None, blanks: pd.DataFrame | None = None) -> pd.DataFrame:
     """All retest flags and QC checks on a screening table.
 
     Parameters
@@ -35,6 +35,10 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
     lab_qc : pandas.DataFrame, optional
         Retest rows of the laboratory QC review and calibration checks
         (:attr:`tracescreen.retest.labqc.review.LabQcReview.retest`), listed with the others.
+    blanks : pandas.DataFrame, optional
+        Field and laboratory blank results of the whole run (accepted-results columns), when
+        ``screening`` holds only some sites (a run in parts, :mod:`tracescreen.streaming`): a blank
+        speaks for every sample of its batch.
 
     Returns
     -------
@@ -50,6 +54,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
     # selected once while text is still categorical (fast), then as plain text for the messages
     results = plain_text(rows.results_from_screening(screening))
     single = plain_text(rows.single_sample_rows(screening))  # what the four result flags look at
+    blanks = None if blanks is None else plain_text(blanks)
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(single, lookback=o.lookback),
         "above_range": lambda: flags.above_range(single),
@@ -60,7 +65,7 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
             results, z_threshold=o.outlier_z, min_prior=o.outlier_min_prior),
         "duplicate_disagrees": lambda: qc.duplicate_disagrees(
             results, o.duplicate_rpd_percent, o.duplicate_rpd_min_multiple, o.duplicate_abs_multiple),
-        "blank_contamination": lambda: qc.blank_contamination(results, o.blank_multiple),
+        "blank_contamination": lambda: qc.blank_contamination(results, o.blank_multiple, blanks=blanks),
         "dissolved_exceeds_total": lambda: qc.dissolved_exceeds_total(
             results, o.dissolved_percent, o.dissolved_min_multiple, o.dissolved_abs_multiple),
         "holding_time_exceeded": lambda: qc.holding_time_exceeded(results, o.holding_times),
@@ -69,8 +74,12 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
     parts = [p for p in parts if not p.empty]
     if not parts:
         return rows.empty_retest()
-    out = pd.concat(parts, ignore_index=True)
-    out["_order"] = out["reason"].map({r: i for i, r in enumerate(LISTED_REASONS)})
+    return sort_retest(pd.concat(parts, ignore_index=True))
+
+
+def sort_retest(out: pd.DataFrame) -> pd.DataFrame:
+    """Retest rows sorted by site, sampling date, sample, analyte, fraction and reason (:data:`LISTED_REASONS` order)."""
+    out = out.assign(_order=out["reason"].map({r: i for i, r in enumerate(LISTED_REASONS)}))
     out = out.sort_values(["site_id", "sampled_at", "sample_id", "analyte", "fraction", "_order"],
                           kind="stable")
     return out.drop(columns="_order").reset_index(drop=True)

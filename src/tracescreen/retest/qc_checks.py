@@ -115,7 +115,7 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
     return _both_sides(flagged, "_p", "_d", detail, "duplicate_disagrees")
 
 
-def blank_contamination(results: pd.DataFrame, multiple: float = 5.0) -> pd.DataFrame:
+def blank_contamination(results: pd.DataFrame, multiple: float = 5.0, blanks: pd.DataFrame | None = None) -> pd.DataFrame:
     """Detected samples in a batch whose blank is contaminated, when below ``multiple`` × the blank.
 
     A field or lab blank detected above its detection limit for an analyte marks its batch (same
@@ -134,6 +134,9 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0) -> pd.Data
         practice). The 2020 edition qualifies by the blank's and the quantitation limit's tiers;
         the laboratory QC review applies them to the lab's calibration and method blanks
         (retest reason ``blank_affects_result``, :mod:`tracescreen.retest.labqc.blanks`).
+    blanks : pandas.DataFrame, optional
+        The blanks of the whole run, when ``results`` holds only some of its sites (the blanks of
+        ``results`` are then among them).
 
     Returns
     -------
@@ -142,8 +145,10 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0) -> pd.Data
     """
     res = results_from_screening(results)
     batch = res["batch"].fillna("")
-    blank = res[res["sample_type"].isin(BLANK_TYPES) & batch.ne("") & res["detected"].astype(bool)
-                & ~(res["value_ug_L"] <= res["detection_limit_ug_L"])]
+    pool = res if blanks is None else blanks[[c for c in res.columns if c in blanks.columns]]
+    pool_batch = pool["batch"].astype(object).fillna("")
+    blank = pool[pool["sample_type"].isin(BLANK_TYPES) & pool_batch.ne("") & pool["detected"].astype(bool)
+                 & ~(pool["value_ug_L"] <= pool["detection_limit_ug_L"])]
     if blank.empty:
         return empty_retest()
     worst = (blank.sort_values("value_ug_L", ascending=False, kind="stable")

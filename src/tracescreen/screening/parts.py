@@ -14,6 +14,8 @@ several parts each part's ids follow the previous part's.
 
 from __future__ import annotations
 
+from typing import Iterator
+
 import numpy as np
 import pandas as pd
 from pandas.api.types import union_categoricals
@@ -46,6 +48,58 @@ def site_parts(site_codes: np.ndarray, part_rows: int = PART_ROWS) -> list[tuple
     return list(zip(bounds[:-1], bounds[1:]))
 
 
+def site_partitions(results: pd.DataFrame, part_rows: int = PART_ROWS) -> Iterator[tuple[np.ndarray, pd.DataFrame]]:
+    """Groups of whole sites of about ``part_rows`` results: ``(positions, part)`` one after the other.
+
+    ``positions`` are the part's rows' positions in ``results`` (ascending: each part keeps the input
+    order); sites are taken in sorted order. One part (``results`` itself) when it is small enough.
+    """
+    if len(results) <= part_rows:
+        yield np.arange(len(results)), results
+        return
+    site_codes, _ = pd.factorize(results["site_id"], sort=True)
+    order = np.argsort(site_codes, kind="stable")
+    for lo, hi in site_parts(site_codes[order], part_rows):
+        positions = order[lo:hi]
+        yield positions, results.iloc[positions].reset_index(drop=True)
+
+
+def screen_part(results: pd.DataFrame, limits, sites, cross_fraction: bool = True, with_periods: bool = False,
+                period_base: int = 0, with_results: bool = True):
+    """Screening rows (and the periods table) of one group of whole sites, in input order.
+
+    Returns ``(screened, periods, position)``: ``position`` gives each screening row's result as its
+    position in ``results``; period ids are numbered from ``period_base + 1``.
+    """
+    # `row` carries each result's position through screening (it is only copied to the output)
+    original_row = results["row"].to_numpy()
+    frame = results.assign(row=np.arange(len(results)))
+    if with_periods:
+        screened, periods = screen_with_periods(frame, limits, sites, cross_fraction=cross_fraction,
+                                                with_results=with_results)
+    else:
+        screened, periods = screen(frame, limits, sites, cross_fraction=cross_fraction), None
+    del frame
+    position = screened["row"].to_numpy()
+    if not (np.diff(position) >= 0).all():
+        screened = screened.iloc[np.argsort(position, kind="stable")].reset_index(drop=True)
+        position = screened["row"].to_numpy()
+    screened["row"] = original_row[position]
+    if period_base and "period_id" in screened.columns:
+        screened["period_id"] = screened["period_id"] + period_base
+        if periods is not None:
+            periods["period_id"] = periods["period_id"].to_numpy() + period_base
+    return screened, periods, position
+
+
+def last_period_id(screened: pd.DataFrame, base: int) -> int:
+    """The highest period id of a screened part (``base`` when it has none): the next part numbers from it."""
+    if "period_id" not in screened.columns:
+        return base
+    ids = screened["period_id"]
+    return max(base, int(ids.max())) if ids.notna().any() else base
+
+
 def screen_in_parts(results: pd.DataFrame, limits, sites: pd.DataFrame | None = None, *,
                     cross_fraction: bool = True, with_periods: bool = False, with_results: bool = True,
                     part_rows: int = PART_ROWS) -> tuple[pd.DataFrame, pd.DataFrame | None]:
@@ -72,40 +126,23 @@ def screen_in_parts(results: pd.DataFrame, limits, sites: pd.DataFrame | None = 
         The screening rows in input order, exactly as one call of ``screen`` gives them (categories
         of text columns aside); ``periods`` is None unless ``with_periods``.
     """
-    def one(frame):
-        if with_periods:
-            return screen_with_periods(frame, limits, sites, cross_fraction=cross_fraction, with_results=with_results)
-        return screen(frame, limits, sites, cross_fraction=cross_fraction), None
-
-    if len(results) <= part_rows:
-        return one(results)
-    # `row` carries each result's input position through screening (it is only copied to the
-    # output) and gets its own value back at the end
-    original_row = results["row"].to_numpy()
-    site_codes, _ = pd.factorize(results["site_id"], sort=True)
-    order = np.argsort(site_codes, kind="stable")
-    ordered = results.iloc[order].reset_index(drop=True).assign(row=order)
-    screened_parts, period_parts, offset = [], [], 0
-    for lo, hi in site_parts(site_codes[order], part_rows):
-        part, table = one(ordered.iloc[lo:hi])
-        if "period_id" in part.columns and part["period_id"].notna().any():
-            ids = part["period_id"]
-            part["period_id"] = ids + offset
-            if table is not None:
-                table["period_id"] = table["period_id"].to_numpy() + offset
-            offset += len(table) if table is not None else int(ids.max())
-        screened_parts.append(part)
-        report("screen", hi, len(ordered), unit="rows")
+    screened_parts, period_parts, positions, base, done = [], [], [], 0, 0
+    for where, part in site_partitions(results, part_rows):
+        screened, table, position = screen_part(part, limits, sites, cross_fraction, with_periods, base, with_results)
+        positions.append(where[position])
+        done += len(where)
+        report("screen", done, len(results), unit="rows")
+        base = max(last_period_id(screened, base), int(table["period_id"].max()) if table is not None and len(table) else 0)
+        screened_parts.append(screened)
         if table is not None and (len(table) or not period_parts):
             period_parts.append(table)  # parts without period values add nothing (and no object dtypes)
         release_unused()
-    del ordered
+    if len(screened_parts) == 1:
+        return screened_parts[0], period_parts[0] if with_periods else None
     screened = join_frames(screened_parts, consume=True)
-    position = screened["row"].to_numpy()
+    position = np.concatenate(positions)
     if not (np.diff(position) >= 0).all():
         screened = screened.iloc[np.argsort(position, kind="stable")].reset_index(drop=True)
-        position = screened["row"].to_numpy()
-    screened["row"] = original_row[position]
     period_parts = [t for t in period_parts if len(t)] or period_parts[:1]
     periods = join_frames(period_parts, consume=True) if with_periods else None
     return screened, periods

@@ -47,7 +47,8 @@ def _km_rows(x, nd, valid, probs=PROBS):
     """Kaplan-Meier for left-censored data, one series per row of padded arrays.
 
     ``x`` (g, m) values or detection limits, ``nd`` non-detect flags, ``valid`` real cells.
-    Returns a dict of (g,) arrays: ``mean``, ``sd``, ``efron_mass`` and ``q`` (g, len(probs)).
+    Returns a dict of (g,) arrays: ``mean``, ``sd``, ``se`` (standard error of the mean,
+    :func:`_km_mean_se`), ``efron_mass`` and ``q`` (g, len(probs)).
     """
     x = np.where(valid, x, np.inf)
     order = np.argsort(x, axis=1, kind="stable")
@@ -89,10 +90,32 @@ def _km_rows(x, nd, valid, probs=PROBS):
         pos = np.argmax(hit, axis=1)
         ok = hit.any(axis=1) & ~(efron >= p - _F_TOL)
         q[ok, k] = x[ok, pos[ok]]
+    se = _km_mean_se(xs, jump, below, d, b, n)
     none = n == 0
     mean[none] = sd[none] = np.nan
     sd[n < 2] = np.nan
-    return {"mean": mean, "sd": sd, "efron_mass": efron, "q": q}
+    return {"mean": mean, "sd": sd, "se": se, "efron_mass": efron, "q": q}
+
+
+def _km_mean_se(xs, jump, below, d, b, n):
+    """Standard error of the Kaplan-Meier mean, rows of sorted padded arrays (as in :func:`_km_rows`).
+
+    The Greenwood-type variance of the restricted mean ([KleinMoeschberger2003]_, sec. 4.5) on the
+    flipped scale: sum over distinct detected values v_j of A_j^2 d_j / (b_j (b_j - d_j)), with A_j the
+    area under F from the smallest value to v_j; times n / (n - 1), so that without non-detects it
+    is s / sqrt(n) ([Helsel2012]_, ch. 6). NaN with fewer than 2 values or no detect.
+    """
+    g, m = xs.shape
+    col = np.arange(m)
+    jump_at = np.maximum.accumulate(np.where(jump, col, -1), axis=1)  # last distinct detect at or before
+    prev = np.full((g, m), -1)
+    prev[:, 1:] = jump_at[:, :-1]
+    prev_value = np.where(prev >= 0, np.take_along_axis(xs, np.maximum(prev, 0), axis=1), xs[:, :1])
+    area = np.cumsum(np.where(jump, (xs - prev_value) * below, 0.0), axis=1)  # ∫ F from the smallest value
+    with np.errstate(invalid="ignore", divide="ignore"):
+        terms = np.where(jump & (b > d), area ** 2 * d / (b * (b - d)), 0.0)
+        var = terms.sum(axis=1) * n / (n - 1)
+    return np.where((n >= 2) & jump.any(axis=1), np.sqrt(var), np.nan)
 
 
 def kaplan_meier(values, nondetect, probs=PROBS) -> dict:
@@ -158,15 +181,15 @@ def kaplan_meier_grouped(values, nondetect, codes, n_groups, probs=PROBS) -> pd.
     Returns
     -------
     DataFrame
-        One row per group code: ``mean``, ``sd``, ``efron_mass`` and ``q<100 p>`` columns
-        (e.g. ``q50``); NaN for groups without values.
+        One row per group code: ``mean``, ``sd``, ``se`` (standard error of the mean), ``efron_mass``
+        and ``q<100 p>`` columns (e.g. ``q50``); NaN for groups without values.
     """
     x, nd = as_series(values, nondetect)
-    out = np.full((n_groups, 3 + len(probs)), np.nan)
+    out = np.full((n_groups, 4 + len(probs)), np.nan)
     for chunk in chunks(np.asarray(codes), n_groups):
         r = _km_rows(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, tuple(probs))
-        out[chunk.groups] = np.column_stack([r["mean"], r["sd"], r["efron_mass"], r["q"]])
-    names = ["mean", "sd", "efron_mass"] + [f"q{round(100 * p)}" for p in probs]
+        out[chunk.groups] = np.column_stack([r["mean"], r["sd"], r["se"], r["efron_mass"], r["q"]])
+    names = ["mean", "sd", "se", "efron_mass"] + [f"q{round(100 * p)}" for p in probs]
     return pd.DataFrame(out, columns=names)
 
 

@@ -175,23 +175,21 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
         slopes = np.where(usable, dy / np.where(usable, dt, 1.0), np.nan)
     p = 2.0 * stats.norm.sf(np.abs(z))
     censored = nd.any(axis=1) | force_ats
-    if censored.any():
-        order = np.argsort(np.where(np.isnan(slopes), np.inf, slopes), axis=1)  # NaN last, sorted twice as fast
-        cand = np.take_along_axis(slopes, order, axis=1)
-    else:
-        cand = np.sort(slopes, axis=1)
     n_pairs = usable.sum(axis=1)
-    # Sen slope: median of the pairwise slopes; CI by Gilbert (1987), ranks as scipy.theilslopes
-    slope = (_pick(cand, (n_pairs - 1) // 2) + _pick(cand, n_pairs // 2)) / 2.0
     c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)
-    low = _pick(cand, np.maximum(np.round((n_pairs - c) / 2.0) - 1, 0).astype(np.int64))
-    high = _pick(cand, np.minimum(np.round((n_pairs + c) / 2.0), n_pairs - 1).astype(np.int64))
+    # Sen slope: median of the pairwise slopes; CI by Gilbert (1987), ranks as scipy.theilslopes
+    ranks = np.stack([(n_pairs - 1) // 2, n_pairs // 2, np.round((n_pairs - c) / 2.0) - 1,
+                      np.round((n_pairs + c) / 2.0)], axis=1)
+    sen = _select(slopes, ranks, n_pairs)
+    slope, low, high = (sen[:, 0] + sen[:, 1]) / 2.0, sen[:, 2], sen[:, 3]
     if censored.any():
-        # pair kind: 1 detect/detect, 2 non-detect then detect, 3 detect then non-detect
-        kind = np.where(det[:, j], np.where(det[:, i], 1, 2), np.where(det[:, i], 3, 0)).astype(np.int8)
-        kind = np.take_along_axis(np.where(usable, kind, 0).astype(np.int8), order, axis=1)
-        ats = _ats(cand, n_pairs, kind, c)
-        slope, low, high = (np.where(censored, new, old) for new, old in zip(ats, (slope, low, high)))
+        det_j = det[:, j]
+        both = det[:, i] & det_j & usable  # detect/detect pairs count twice in S(beta) (see _ats_ranks)
+        ats = _select(np.concatenate([slopes, np.where(both, slopes, np.nan)], axis=1),
+                      *_ats_ranks(both.sum(axis=1), (usable & ~det[:, i] & det_j).sum(axis=1), n_pairs, c))
+        ats_slope = (ats[:, 0] + ats[:, 1]) / 2.0
+        slope, low, high = (np.where(censored, new, old) for new, old in zip((ats_slope, ats[:, 2], ats[:, 3]),
+                                                                            (slope, low, high)))
     none = n_pairs == 0
     slope[none] = low[none] = high[none] = np.nan
     # intercept: value of the line at the first sampling time t0 (median of residuals)
@@ -211,36 +209,47 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     }
 
 
-def _ats(cand, n_pairs, kind, c):
-    """Akritas-Theil-Sen slope and its interval by inverting the censored Kendall test.
+def _select(values, ranks, n):
+    """The ``ranks``-th smallest (0-based, clipped to 0 .. n - 1) of each row's valid values.
 
-    S(beta) of the residuals e = y - beta t is a non-increasing step function of beta that
-    changes only at the candidate pairwise slopes c_p (values or detection limits). For a pair
-    (i earlier, j later) the residual order is sign(c_p - beta): detect/detect scores
-    sign(c_p - beta); non-detect then detect scores +1 while beta <= c_p; detect then non-detect
-    scores -1 once beta >= c_p. So S just right of the k-th sorted candidate is
-    S_k = DD - 2 DD_<=k + ND_D - ND_D_<=k - D_ND_<=k (cumulative counts over sorted candidates).
-    beta_low(C) = inf{beta: S(beta) <= C} is the first candidate with S_k <= C;
-    beta_high(C) = sup{beta: S(beta) >= -C} the last with S_(k-1) >= -C. The estimate is the
-    midpoint of the zero set (beta_low(0) + beta_high(0)) / 2; with no non-detects it is the
-    Theil-Sen median.
+    ``values`` (g, L) holds each row's values with NaN in the other cells; ``n`` (g,) counts the
+    valid ones. One partial sort (``numpy.partition``, introselect) at the ranks asked for, not a
+    full sort of the row: the slopes' order statistics are all the Sen and Akritas-Theil-Sen
+    estimates need. NaN where a row has no value.
     """
-    dd, ndd, dnd = (np.cumsum(kind == k, axis=1, dtype=np.int32) for k in (1, 2, 3))
-    s_right = (dd[:, -1:] - 2 * dd) + (ndd[:, -1:] - ndd) - dnd
-    s_left = np.concatenate([(dd[:, -1:] + ndd[:, -1:]), s_right[:, :-1]], axis=1)
-    inside = np.arange(cand.shape[1]) < n_pairs[:, None]
+    ranks = np.clip(np.asarray(ranks, dtype=np.int64), 0, np.maximum(n - 1, 0)[:, None])
+    kth = np.unique(ranks)
+    if values.shape[1] == 0:
+        return np.full(ranks.shape, np.nan)
+    part = np.partition(values, np.clip(kth, 0, values.shape[1] - 1), axis=1)
+    out = np.take_along_axis(part, ranks, axis=1)
+    return np.where((n > 0)[:, None], out, np.nan)
 
-    def low(thr):
-        hit = (s_right <= thr[:, None]) & inside
-        return _pick(cand, np.where(hit.any(axis=1), hit.argmax(axis=1), n_pairs - 1))
 
-    def high(thr):
-        hit = (s_left >= -thr[:, None]) & inside
-        last = cand.shape[1] - 1 - hit[:, ::-1].argmax(axis=1)
-        return _pick(cand, np.where(hit.any(axis=1), last, 0))
+def _ats_ranks(n_dd, n_nd_d, n_pairs, c):
+    """Ranks of the Akritas-Theil-Sen slope and interval in the candidate slopes, detect/detect ones twice.
 
-    zero = np.zeros(cand.shape[0])
-    return (low(zero) + high(zero)) / 2.0, low(c), high(c)
+    S(beta) of the residuals e = y - beta t is a non-increasing step function of beta that changes
+    only at the candidate pairwise slopes c_p (values or detection limits). For a pair (i earlier,
+    j later): detect/detect scores sign(c_p - beta); non-detect then detect scores +1 while
+    beta <= c_p; detect then non-detect scores -1 once beta >= c_p. So just right of a candidate
+    value v, S = (DD + ND_D) - W(v), with W(v) the number of candidates <= v counting each
+    detect/detect candidate twice. beta_low(C) = inf{beta: S(beta) <= C} is therefore the
+    ceil(DD + ND_D - C)-th smallest of that multiset, and beta_high(C) = sup{beta: S(beta) >= -C}
+    its (floor(DD + ND_D + C) + 1)-th smallest: order statistics, found by selection. The estimate
+    is the midpoint of the zero set (beta_low(0) + beta_high(0)) / 2; with no non-detects it is the
+    Theil-Sen median.
+
+    Returns
+    -------
+    (ranks, n)
+        0-based ranks (g, 4): beta_low(0), beta_high(0), beta_low(C), beta_high(C); and the size of
+        each row's multiset.
+    """
+    total = (n_dd + n_nd_d).astype(float)
+    size = n_pairs + n_dd
+    ranks = np.stack([np.ceil(total) - 1, np.floor(total), np.ceil(total - c) - 1, np.floor(total + c)], axis=1)
+    return ranks, size
 
 
 def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None,

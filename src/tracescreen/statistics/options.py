@@ -14,6 +14,11 @@ METHODS = ("kaplan_meier", "ros", "mle_lognormal", "substitution_zero", "substit
 #: Fewer values than this in a series: no trend test (direction ``too_few``; common practice).
 MIN_VALUES = 8
 
+#: How the upper confidence limit of the mean (``ucl95_mean``) is computed: Student's t on the
+#: Kaplan-Meier mean and its standard error (the default; a few operations per series), or a seeded
+#: percentile bootstrap of the Kaplan-Meier mean (``n_boot`` resamples per series).
+UCL_METHODS = ("km_t", "bootstrap")
+
 #: The statistics tables a run can compute.
 TABLES = ("summary", "exceedances", "trends")
 
@@ -26,8 +31,10 @@ class StatisticsOptions:
     ----------
     method : str
         Non-detect method of the summaries (:data:`METHODS`).
+    ucl : str
+        How ``ucl95_mean`` is computed (:data:`UCL_METHODS`).
     n_boot : int
-        Bootstrap resamples for the upper confidence limit of the mean.
+        Bootstrap resamples for the upper confidence limit of the mean (``ucl="bootstrap"``).
     seed : int
         Seed of the bootstrap (the same seed gives the same limits).
     alpha : float
@@ -41,6 +48,7 @@ class StatisticsOptions:
     """
 
     method: str = "kaplan_meier"
+    ucl: str = UCL_METHODS[0]
     n_boot: int = 1000
     seed: int = 20240601
     alpha: float = 0.05
@@ -52,8 +60,10 @@ class StatisticsOptions:
         """The methods in words, for the report's method notes."""
         return [
             f"Summaries: non-detects by {self.method} (Helsel 2012); series without non-detects use "
-            "plain sample statistics; ucl95_mean by a seeded percentile bootstrap "
-            f"(B={self.n_boot}, seed={self.seed}).",
+            "plain sample statistics; ucl95_mean " + (
+                f"by a seeded percentile bootstrap of the Kaplan-Meier mean (B={self.n_boot}, seed={self.seed})."
+                if self.ucl == "bootstrap" else
+                "= Kaplan-Meier mean + t(0.95; n - 1) x its standard error (Helsel 2012; Singh et al. 2006)."),
             f"Trends: Mann-Kendall or seasonal Kendall (seasonal: {self.seasonal}) at alpha = {self.alpha}; "
             "non-detects count as ties where the order is unknown; Sen or Akritas-Theil-Sen slope per "
             "year from the sampling dates.",

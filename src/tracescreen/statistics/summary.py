@@ -42,7 +42,7 @@ def _fmt(x) -> pd.Series:
 
 
 def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: int = 1000,
-              seed: int = 20240601) -> pd.DataFrame:
+              seed: int = 20240601, ucl: str = "km_t") -> pd.DataFrame:
     """Summary statistics per site x analyte x fraction from accepted results.
 
     Parameters
@@ -54,17 +54,21 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
         ``mle_lognormal``, or, only on request, ``substitution_zero``, ``substitution_half_dl``,
         ``substitution_dl`` (see :mod:`tracescreen.censored`). Series without non-detects get
         the plain sample statistics (``method`` = ``sample_statistics``).
+    ucl : str
+        How ``ucl95_mean`` is computed (:data:`tracescreen.statistics.options.UCL_METHODS`): ``km_t``
+        (default) Student's t on the Kaplan-Meier mean and its standard error,
+        :func:`ucl_km_t`; ``bootstrap`` a seeded percentile bootstrap of the KM mean.
     n_boot, seed : int
-        Bootstrap resamples and random seed for ``ucl95_mean``.
+        Bootstrap resamples and random seed for ``ucl95_mean`` (``ucl="bootstrap"``).
 
     Returns
     -------
     DataFrame
         :data:`SUMMARY_COLUMNS`. Concentrations in µg/L; ``percent_nondetect`` in percent;
         ``max_detection_limit`` is the highest detection limit among the non-detects;
-        ``ucl95_mean`` is the 95 % upper confidence limit on the mean by a seeded percentile
-        bootstrap of the Kaplan-Meier mean (of the substituted mean for substitution methods),
-        ``ucl_method`` says which.
+        ``ucl95_mean`` is the one-sided 95 % upper confidence limit on the mean: t on the
+        Kaplan-Meier mean and its standard error, or a seeded percentile bootstrap of the
+        Kaplan-Meier mean (of the substituted mean for substitution methods); ``ucl_method`` says which.
 
     Notes
     -----
@@ -91,30 +95,37 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
                                  max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
     st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
-    ucl, ucl_method = _ucl(x, nd, codes, table, method, n_boot, seed)
+    ucl_value, ucl_method = _ucl(x, nd, codes, table, n, method, ucl, n_boot, seed)
     out = table.copy()
     out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd
     for col in ("min_detected", "max_detected", "max_detection_limit"):
         out[col] = ext[col].to_numpy()
     out["mean"], out["sd"] = st["mean"].to_numpy(), st["sd"].to_numpy()
     out["median"], out["p90"], out["p95"] = st["q50"].to_numpy(), st["q90"].to_numpy(), st["q95"].to_numpy()
-    out["ucl95_mean"] = ucl
+    out["ucl95_mean"] = ucl_value
     out["ucl_method"] = ucl_method
     out["method"] = st["method"].to_numpy()
     return _rules_of_thumb(out, x, nd, codes, n, n_det, pct_nd, ext["min_dl"].to_numpy(), lost)[SUMMARY_COLUMNS] \
         .reset_index(drop=True)
 
 
-def _ucl(x, nd, codes, table: pd.DataFrame, method: str, n_boot: int, seed: int) -> tuple[np.ndarray, str]:
-    """95 % upper confidence limit on each series' mean by a seeded percentile bootstrap, and its method in words."""
-    g, keys = len(table), bootstrap.series_seed_keys(table[KEYS])
-    if method in censored.SUBSTITUTION:
-        ucl = bootstrap.bootstrap_ucl_km_grouped(censored.substitute(x, nd, censored.SUBSTITUTION[method]),
-                                                np.zeros(x.size, bool), codes, g, n_boot=n_boot, seed=seed,
-                                                keys=keys)
-        return ucl, f"percentile bootstrap of the substituted mean (B={n_boot}, seed={seed})"
-    ucl = bootstrap.bootstrap_ucl_km_grouped(x, nd, codes, g, n_boot=n_boot, seed=seed, keys=keys)
-    return ucl, f"percentile bootstrap of the Kaplan-Meier mean (B={n_boot}, seed={seed})"
+def _ucl(x, nd, codes, table: pd.DataFrame, n, method: str, ucl: str, n_boot: int,
+         seed: int) -> tuple[np.ndarray, str]:
+    """95 % upper confidence limit on each series' mean and its method in words: t on the Kaplan-Meier
+    (or substituted) mean and its standard error (``km_t``), or a seeded percentile bootstrap."""
+    g = len(table)
+    sub = method in censored.SUBSTITUTION
+    xu, ndu = (censored.substitute(x, nd, censored.SUBSTITUTION[method]), np.zeros(x.size, bool)) if sub else (x, nd)
+    what = "the substituted mean" if sub else "the Kaplan-Meier mean"
+    if ucl == "bootstrap":
+        keys = bootstrap.series_seed_keys(table[KEYS])
+        value = bootstrap.bootstrap_ucl_km_grouped(xu, ndu, codes, g, n_boot=n_boot, seed=seed, keys=keys)
+        return value, f"percentile bootstrap of {what} (B={n_boot}, seed={seed})"
+    if ucl == "km_t":
+        km = censored.kaplan_meier_grouped(xu, ndu, codes, g, probs=())
+        return ucl_km_t(km["mean"].to_numpy(), km["se"].to_numpy(), n), \
+            f"Student's t on {what} and its standard error (Helsel 2012)"
+    raise ValueError(f"unknown ucl {ucl!r}; choose km_t or bootstrap")
 
 
 def _rules_of_thumb(out: pd.DataFrame, x, nd, codes, n, n_det, pct_nd, min_dl, lost) -> pd.DataFrame:
@@ -157,6 +168,24 @@ def _rules_of_thumb(out: pd.DataFrame, x, nd, codes, n, n_det, pct_nd, min_dl, l
         (n == 0, "no usable results"),
     ], g)
     return out
+
+
+def ucl_km_t(mean, se, n, level: float = 0.95) -> np.ndarray:
+    """One-sided upper confidence limit of a mean from its standard error: mean + t(level; n - 1) se.
+
+    On the Kaplan-Meier mean of censored data with the Greenwood-type standard error
+    (:func:`tracescreen.statistics.censored.kaplan_meier_grouped`) this is the t-interval on the KM
+    mean ([Helsel2012]_, the chapter on confidence intervals; [SinghEtAl2006]_, the "KM (t)" limit);
+    without non-detects it is the Student's t limit of the mean. It costs a few operations per
+    series, where the bootstrap resamples each series a thousand times.
+
+    >>> round(float(ucl_km_t(10.0, 1.0, 16)[0]), 4)   # t(0.95; 15) = 1.7531 (any t table)
+    11.7531
+    """
+    n = np.atleast_1d(np.asarray(n, dtype=float))
+    with np.errstate(invalid="ignore"):
+        t = stats.t.ppf(level, np.where(n >= 2, n - 1, np.nan))
+    return np.atleast_1d(np.asarray(mean, float)) + t * np.atleast_1d(np.asarray(se, float))
 
 
 def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndarray]:

@@ -1,6 +1,7 @@
-"""Export the workspace's current results as a Parquet dataset partitioned by sampling year.
+"""Export the workspace's current results as a Parquet dataset partitioned by site group and sampling year.
 
-The dataset uses Hive-style partition folders (``year=2021/part-0.parquet``), which pyarrow,
+The dataset uses Hive-style partition folders (``site_group=3/year=2021/part-0.parquet``; a site
+group holds whole sites, :mod:`tracescreen.io.dataset`), which pyarrow,
 DuckDB, Spark, R arrow and others read as a ``year`` column. Each row keeps its provenance
 (file, sheet, row, import id, the file's SHA-256, import time). The dataset is written into a
 temporary folder beside ``dest`` and renamed into place, so ``dest`` is either complete or absent.
@@ -12,15 +13,9 @@ References
 
 from __future__ import annotations
 
-import os
-import shutil
-import tempfile
 from pathlib import Path
 
-import pyarrow as pa
-import pyarrow.dataset as ds
-
-from tracescreen.caution import CAUTION
+from tracescreen.io.dataset import write_dataset
 from tracescreen.store.workspace import Workspace, WorkspaceError
 
 
@@ -46,21 +41,5 @@ def export_parquet(ws: Workspace, dest: str | Path, history: bool = False) -> li
     df = ws.results_history()
     if not history:
         df = df[df["superseded_by"].isna()].drop(columns=["superseded_by"])
-    df["year"] = df["sampled_at"].dt.year.astype("int32")
-    table = pa.Table.from_pandas(df, preserve_index=False)
-    table = table.replace_schema_metadata({**(table.schema.metadata or {}),
-                                           b"tracescreen.caution": CAUTION.encode(),
-                                           b"tracescreen.store.workspace": str(ws.path.resolve()).encode()})
-    dest.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{dest.name}.", dir=dest.parent))
-    try:
-        ds.write_dataset(table, tmp, format="parquet", basename_template="part-{i}.parquet",
-                         partitioning=ds.partitioning(pa.schema([("year", pa.int32())]), flavor="hive"),
-                         existing_data_behavior="error")
-        if dest.exists():
-            dest.rmdir()
-        os.replace(tmp, dest)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    return sorted(dest.rglob("*.parquet"))
+    return write_dataset(df, dest, {"tracescreen.store.workspace": str(ws.path.resolve())})
+

@@ -1,0 +1,244 @@
+"""Output tables written part by part: CSV, Parquet or XLSX, one file per table, memory bounded by a part.
+
+A run in partitions of whole sites (:mod:`tracescreen.streaming`) hands each output table its
+rows part after part; :class:`TableStream` appends them to the table's file, so no table is ever
+held whole. The formats (:mod:`tracescreen.report.formats`):
+
+* CSV: the blocks of :func:`tracescreen.report.writers.csv_blocks` (formula-safe, ISO dates), the
+  header once;
+* Parquet: one row group per part ([Parquet]_ through pyarrow); text columns are
+  dictionary-encoded (``dictionary<int32, string>``, read back by pandas as categoricals), date
+  columns are Parquet ``DATE`` (days) or ``TIMESTAMP`` (millisecond) values, numbers stay numbers;
+  the columns are the CSV's. Text is written as it is (a Parquet file is read by programs, not
+  opened as a spreadsheet), so it has no formula-guard apostrophes;
+* XLSX: a write-only workbook (openpyxl); past :data:`~tracescreen.report.formats.SPREADSHEET_ROWS`
+  rows the table continues on a further sheet.
+
+A file appears complete or not at all: rows go to a temporary name beside the target, renamed over
+it when the table is closed (:func:`begin_file`, :func:`finish_file`, :func:`discard_file`).
+
+References
+----------
+[Parquet]_ (docs/references.md)
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+
+from tracescreen.report.formats import FORMATS, SPREADSHEET_ROWS, too_long_for_spreadsheet
+
+TEXT = pa.dictionary(pa.int32(), pa.string())
+
+
+def begin_file(path: Path) -> Path:
+    """The temporary name a table is written under until it is complete."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    return path.with_name(f".{path.name}.partial")
+
+
+def finish_file(tmp: Path, path: Path) -> Path:
+    """Put the complete file in place (an atomic rename on one file system)."""
+    os.replace(tmp, path)
+    return path
+
+
+def discard_file(tmp: Path) -> None:
+    """Remove the temporary file of a table that was not completed."""
+    tmp.unlink(missing_ok=True)
+
+
+def days_of(frame: pd.DataFrame) -> set[str]:
+    """Date columns of ``frame`` whose values are all whole days (no time of day)."""
+    out = set()
+    for c in frame.columns:
+        s = frame[c]
+        if pd.api.types.is_datetime64_any_dtype(s.dtype):
+            v = s.dropna()
+            if (v == v.dt.normalize()).all():
+                out.add(c)
+    return out
+
+
+def _text_array(values: pd.Series) -> pa.Array:
+    """A text (or categorical) column as ``dictionary<int32, string>``; missing values stay missing."""
+    if isinstance(values.dtype, pd.CategoricalDtype):
+        cats = values.cat.categories
+        dictionary = pa.array(np.asarray(cats.astype(str), dtype=object), type=pa.string())
+        codes = values.cat.codes.to_numpy().astype(np.int32)
+        return pa.DictionaryArray.from_arrays(pa.array(codes, mask=codes < 0), dictionary)
+    missing = values.isna().to_numpy()
+    text = values.to_numpy(dtype=object).copy()
+    text[missing] = None
+    if values.dtype == object:  # mixed cells (numbers among text): each as its text
+        odd = ~missing & ~np.fromiter((isinstance(v, str) for v in text), bool, len(text))
+        text[odd] = [str(v) for v in text[odd]]
+    return pa.array(text, type=pa.string()).dictionary_encode().cast(TEXT)
+
+
+def arrow_part(frame: pd.DataFrame, days: set[str]) -> pa.Table:
+    """One part of a table as Arrow columns for Parquet (see the module docstring)."""
+    cols = {}
+    for c in frame.columns:
+        s = frame[c]
+        dtype = s.dtype
+        if isinstance(dtype, pd.CategoricalDtype) or dtype == object or pd.api.types.is_string_dtype(dtype):
+            cols[str(c)] = _text_array(s)
+        elif pd.api.types.is_datetime64_any_dtype(dtype):
+            arr = pa.array(s.astype("datetime64[ms]").to_numpy(), mask=s.isna().to_numpy(), type=pa.timestamp("ms"))
+            cols[str(c)] = arr.cast(pa.date32()) if c in days else arr
+        else:
+            cols[str(c)] = pa.Array.from_pandas(s)
+    return pa.table(cols)
+
+
+class TableStream:
+    """One output table, written part by part (see the module docstring).
+
+    Parameters
+    ----------
+    path : path
+        The file to write (its suffix is not changed).
+    fmt : str
+        ``csv``, ``parquet`` or ``xlsx``.
+    name : str, optional
+        The table's name in messages and as the XLSX sheet name (default: the file's stem).
+    days : set of str, optional
+        Date columns written as days; other date columns carry the time. Default: the date columns
+        whose values in the first part are whole days.
+
+    Examples
+    --------
+    >>> import pandas as pd, tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "t.parquet"
+    >>> with TableStream(path, "parquet") as t:
+    ...     t.write(pd.DataFrame({"site_id": ["A", "A"], "value_ug_L": [1.0, 2.0]}))
+    ...     t.write(pd.DataFrame({"site_id": ["B"], "value_ug_L": [3.0]}))
+    >>> t.rows, pd.read_parquet(path)["site_id"].tolist()
+    (3, ['A', 'A', 'B'])
+    """
+
+    def __init__(self, path, fmt: str, name: str | None = None, days: set[str] | None = None):
+        if fmt not in FORMATS:
+            raise ValueError(f"unknown format {fmt!r}; choose one of {', '.join(FORMATS)}")
+        self.path, self.fmt = Path(path), fmt
+        self.name = name or self.path.stem
+        self.days = None if days is None else set(days)
+        self.rows = 0
+        self.columns: list[str] | None = None
+        self._tmp = begin_file(self.path)
+        self._out = None  # the open file, Parquet writer or workbook
+        self._sheet = None
+
+    # -- writing
+
+    def write(self, frame: pd.DataFrame) -> None:
+        """Append the rows of ``frame`` (the first part fixes the columns; later parts must have them)."""
+        if self.columns is None:
+            self.columns = [str(c) for c in frame.columns]
+            if self.days is None:
+                self.days = days_of(frame)
+        elif [str(c) for c in frame.columns] != self.columns:
+            frame = self._aligned(frame)
+        getattr(self, f"_write_{self.fmt}")(frame)
+        self.rows += len(frame)
+
+    def _aligned(self, frame: pd.DataFrame) -> pd.DataFrame:
+        extra = [c for c in frame.columns if str(c) not in self.columns]
+        if extra:
+            raise ValueError(f"{self.name}: a later part has columns the first part has not: {', '.join(map(str, extra))}")
+        return frame.reindex(columns=self.columns)
+
+    def _write_csv(self, frame: pd.DataFrame) -> None:
+        from tracescreen.report.writers import csv_blocks
+
+        header = self._out is None
+        if header:
+            self._out = open(self._tmp, "wb")
+        for data in csv_blocks(frame, header=header, days=self.days):
+            self._out.write(data)
+
+    def _write_parquet(self, frame: pd.DataFrame) -> None:
+        import pyarrow.parquet as pq
+
+        table = arrow_part(frame, self.days)
+        if self._out is None:
+            schema = pa.schema([pa.field(f.name, TEXT if pa.types.is_null(f.type) else f.type) for f in table.schema])
+            self._out = pq.ParquetWriter(self._tmp, schema, compression="snappy", use_dictionary=True)
+        schema = self._out.schema
+        try:
+            table = table.cast(schema)
+        except (pa.ArrowInvalid, pa.ArrowNotImplementedError) as exc:
+            raise ValueError(f"{self.name}: a part's columns differ in type from the first part's ({exc})") from None
+        self._out.write_table(table)
+
+    def _write_xlsx(self, frame: pd.DataFrame) -> None:
+        from tracescreen.report.writers import prepare, xlsx_cell
+
+        if self._out is None:
+            from openpyxl import Workbook
+
+            self._out = Workbook(write_only=True)
+        safe = prepare(frame)
+        for rec in safe.itertuples(index=False, name=None):
+            if self._sheet is None or self._sheet_rows >= SPREADSHEET_ROWS:
+                self._new_sheet(safe.columns)
+            self._sheet.append([xlsx_cell(v) for v in rec])
+            self._sheet_rows += 1
+
+    def _new_sheet(self, columns) -> None:
+        n = len(self._out.worksheets)
+        self._sheet = self._out.create_sheet(title=(self.name if n == 0 else f"{self.name} ({n + 1})")[:31])
+        self._sheet.append([str(c) for c in columns])
+        self._sheet_rows = 1
+
+    # -- closing
+
+    @property
+    def warning(self) -> str | None:
+        """What the run says about this table's length (None when a spreadsheet opens it whole)."""
+        return too_long_for_spreadsheet(self.name, self.rows, self.fmt)
+
+    def close(self) -> Path:
+        """Finish the file and put it in place; returns its path. A table given no part is written empty."""
+        if self._out is None:
+            if self.columns is None:
+                self.columns = []
+                self.days = set()
+            getattr(self, f"_write_{self.fmt}")(pd.DataFrame({c: pd.Series(dtype=object) for c in self.columns}))
+        if self.fmt == "xlsx":
+            if self._sheet is None:
+                self._new_sheet(self.columns)
+            self._out.save(self._tmp)
+        else:
+            self._out.close()
+        self._out = None
+        return finish_file(self._tmp, self.path)
+
+    def abort(self) -> None:
+        """Stop writing and remove the unfinished file (the target is left as it was)."""
+        if self._out is not None and self.fmt != "xlsx":
+            self._out.close()
+        self._out = None
+        discard_file(self._tmp)
+
+    def __enter__(self) -> "TableStream":
+        return self
+
+    def __exit__(self, kind, value, tb) -> None:
+        if kind is None:
+            self.close()
+        else:
+            self.abort()
+
+
+def write_table(frame: pd.DataFrame, path, fmt: str, name: str | None = None, days: set[str] | None = None) -> TableStream:
+    """Write one whole table in ``fmt`` (a stream of one part); returns the closed stream (path, rows, warning)."""
+    with TableStream(path, fmt, name, days) as stream:
+        stream.write(frame)
+    return stream

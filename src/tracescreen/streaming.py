@@ -1,0 +1,396 @@
+"""One run in partitions of whole sites: every per-result and per-series output table, part by part.
+
+Everything screening and the series statistics compute stays within one site: the limits that
+apply follow the site's uses, hardness is per sample, a cross-fraction pair is one sample, running
+means and percentiles are per site and metal, a series is a site, metal and fraction, the retest
+flags look at one result or one series. So the run takes the accepted results a group of whole
+sites at a time (:func:`tracescreen.screening.parts.site_partitions`, about
+:data:`~tracescreen.screening.parts.PART_ROWS` results each), computes every table of that group
+(:func:`part_tables`) and hands the tables to a *sink*, then frees the group's memory:
+
+* :class:`MemorySink` joins the parts into whole tables (the pipeline's :class:`~tracescreen.pipeline.Results`,
+  used by the report and the dashboard; the screening rows in input order);
+* :class:`FileSink` streams each table to its file (:class:`tracescreen.report.streams.TableStream`):
+  peak memory is set by the part size, not by the number of results.
+
+Two checks look across sites and are given whole-run inputs: a contaminated blank speaks for every
+sample of its batch, whichever site (the run's blank rows, :func:`blank_rows`, go to every part), and
+the laboratory QC review judges whole batches (its retest rows are computed once and each part
+lists those of its sites, :func:`lab_qc_rows_of`). The result is the same rows as one pass over all
+results; only the order of the screening rows differs between sinks (parts one after the other, each
+in input order, for files; input order in memory).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+#: Output tables computed per part, in the order they are written.
+PART_TABLES = ("screening", "screening_wide", "periods", "summary", "exceedances", "trends", "retest")
+#: The attributes of :class:`tracescreen.pipeline.Results` that hold part tables, and the tables.
+RESULTS = {"screened": "screening", "periods": "periods", "summary": "summary", "exceedances": "exceedances",
+           "trends": "trends", "retest": "retest"}
+
+
+@dataclass
+class PartContext:
+    """What every part of a run needs besides its own results.
+
+    Attributes
+    ----------
+    limits, sites
+        The run's limit set and sites table (:class:`tracescreen.pipeline.Loaded`).
+    options : tracescreen.pipeline.Options
+    keys : DataFrame or None
+        :func:`tracescreen.screening.wide.limit_keys` of the limit set; None: no result-wide table.
+    blanks : DataFrame or None
+        The run's blank rows (:func:`blank_rows`), for the blank check of every part.
+    lab_qc : DataFrame or None
+        Retest rows of the laboratory QC review and the calibration checks (whole run).
+    calibration : CalibrationReview or None
+        The calibration checks: they annotate the retest rows (:meth:`~tracescreen.retest.calibration.review.CalibrationReview.annotate`).
+    run_sites : array of str or None
+        Every site of the run (laboratory QC rows of other sites are listed with the first part).
+    days : set of str
+        Date columns of the outputs written as days (:func:`output_days`).
+    """
+
+    limits: Any
+    sites: Any
+    options: Any
+    keys: Any = None
+    blanks: Any = None
+    lab_qc: Any = None
+    calibration: Any = None
+    run_sites: Any = None
+    days: set = field(default_factory=set)
+    first_part: bool = field(default=True)
+
+
+def blank_rows(accepted: pd.DataFrame) -> pd.DataFrame | None:
+    """The field and laboratory blanks of a run (few rows): the blank check judges every part's samples by them."""
+    from tracescreen.retest.qc_checks import BLANK_TYPES
+
+    blanks = accepted[accepted["sample_type"].isin(BLANK_TYPES)]
+    return blanks if len(blanks) else None
+
+
+def lab_qc_rows_of(rows: pd.DataFrame | None, part_sites: pd.Series, ctx: "PartContext") -> pd.DataFrame | None:
+    """The laboratory QC retest rows of a part's sites (the first part also lists those of no site of the run)."""
+    if rows is None or not len(rows):
+        return None
+    site = rows["site_id"].astype(str)
+    mine = site.isin(pd.unique(part_sites.astype(str)))
+    if ctx.first_part and ctx.run_sites is not None:
+        mine |= ~site.isin(ctx.run_sites)
+    return rows[mine.to_numpy()]
+
+
+def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0) -> dict[str, pd.DataFrame]:
+    """Every per-result and per-series table of one part of whole sites.
+
+    Parameters
+    ----------
+    accepted : DataFrame
+        Accepted results of whole sites (DEVELOPERS.md contract), any order.
+    ctx : PartContext
+    period_base : int
+        Added to the part's period ids (numbered 1, 2, ... within the part).
+
+    Returns
+    -------
+    dict
+        The :data:`PART_TABLES` the options ask for (DataFrames); ``screening`` in the part's input
+        order, with the column ``row`` as given, and ``position``: each screening row's result (0-based
+        position in ``accepted``).
+    """
+    from tracescreen import pipeline
+
+    o = ctx.options
+    screened, periods, position = pipeline.screen(accepted, ctx.limits, ctx.sites, o, period_base, one_part=True)
+    out = {"screening": screened, "position": position}
+    if ctx.keys is not None:
+        from tracescreen.screening.wide import result_wide
+
+        out["screening_wide"] = result_wide(screened, ctx.keys, result_id=position)
+    if periods is not None:
+        out["periods"] = periods
+    if o.statistics is not None:
+        out.update(pipeline.statistics(accepted, screened, o.statistics))
+    if o.retest is not None:
+        lab = lab_qc_rows_of(ctx.lab_qc, accepted["site_id"], ctx)
+        out["retest"] = pipeline.retest(screened, o.retest, lab_qc=lab, blanks=ctx.blanks)
+        if ctx.calibration is not None:
+            out["retest"] = ctx.calibration.annotate(out["retest"])
+    return out
+
+
+def run_steps(data, inputs, options, sink, wide: bool = False):
+    """Steps 2-5 of a run (:mod:`tracescreen.pipeline`) in partitions of whole sites: the lab files' (or a
+    workspace's) accepted results in parts (:func:`run_in_parts`), or a results dataset one site group at a
+    time (:func:`run_dataset_parts`); each table to ``sink``. Returns the :class:`~tracescreen.pipeline.Results`
+    holding the whole-run tables (laboratory QC review, calibration); the part tables are the sink's."""
+    from tracescreen import pipeline
+    from tracescreen.io.sites import sites_name
+
+    out = pipeline.Results(data.loaded, data.limits, data.sites, data.input_files, options=options)
+    if inputs.dataset:
+        run_dataset_parts(inputs.dataset, dataset_context(inputs.dataset, data, options, wide), sink,
+                          sites_name(inputs.sites))
+        return out
+    if options.lab_qc is not None:
+        out.lab_qc, out.calibration = pipeline.lab_qc(data, inputs, options.lab_qc)
+    run_in_parts(data.loaded.accepted, files_context(data, options, wide, out.lab_qc, out.calibration), sink,
+                 options.part_rows)
+    return out
+
+
+def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int | None = None) -> None:
+    """Compute every part's tables (:func:`part_tables`) and hand them to ``sink``.
+
+    ``sink.add(name, frame, position)``: ``position`` (screening only, else None) gives each row's
+    result as its position in ``accepted``.
+    """
+    from tracescreen._internal.memory import release_unused
+    from tracescreen.progress import report, reporting
+    from tracescreen.screening.parts import PART_ROWS, last_period_id, site_partitions
+
+    base, done, total = 0, 0, len(accepted)
+    report("screen", 0, total, detail="screening, statistics and retest list, part by part")
+    for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
+        ctx.first_part = k == 0
+        with reporting(_silent):  # the run reports parts, not each part's own steps
+            tables = part_tables(part, ctx, base)
+        done += len(part)
+        report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
+        del part
+        position = positions[tables.pop("position")]
+        base = last_period_id(tables["screening"], base)
+        if "periods" in tables and len(tables["periods"]):
+            base = max(base, int(tables["periods"]["period_id"].max()))
+        for name in PART_TABLES:
+            if name in tables:
+                sink.add(name, tables[name], position if name == "screening" else None)
+        del tables
+        release_unused()
+    report("screen", total, total, finished=True)
+
+
+def _silent(step) -> None:
+    """A progress callback that shows nothing (the steps inside one part)."""
+
+
+class MemorySink:
+    """Collects the parts of each table and joins them (text stays categorical)."""
+
+    def __init__(self):
+        self.parts: dict[str, list[pd.DataFrame]] = {}
+        self.positions: list[np.ndarray] = []
+
+    def add(self, name: str, frame: pd.DataFrame, position: np.ndarray | None = None) -> None:
+        """Keep one part of table ``name``."""
+        if name == "screening":
+            self.positions.append(np.arange(len(frame)) if position is None else position)
+        self.parts.setdefault(name, []).append(frame)
+
+    def table(self, name: str) -> pd.DataFrame | None:
+        """Table ``name`` whole (None when no part had it); the screening rows in input order."""
+        from tracescreen.screening.parts import join_frames
+
+        parts = self.parts.pop(name, None)
+        if parts is None:
+            return None
+        if len(parts) > 1:
+            kept = [p for p in parts if len(p)] or parts[:1]
+            joined = join_frames(kept, consume=True)
+        else:
+            joined = parts[0]
+        if name == "screening" and len(self.positions) > 1:
+            position = np.concatenate(self.positions)
+            if not (np.diff(position) >= 0).all():
+                joined = joined.iloc[np.argsort(position, kind="stable")].reset_index(drop=True)
+        if name == "retest" and len(parts) > 1:
+            from tracescreen.retest.listing import sort_retest
+
+            joined = sort_retest(joined)
+        return joined
+
+
+class FileSink:
+    """Streams each table to ``out/<table>.<fmt>`` as its parts come (:class:`~tracescreen.report.streams.TableStream`).
+
+    Keeps only what the command prints: the status counts of the screening rows and the retest
+    reasons' counts.
+
+    Parameters
+    ----------
+    out : path
+        Output folder.
+    fmt : str
+        ``csv``, ``parquet`` or ``xlsx``.
+    days : set of str, optional
+        Date columns written as days (the others with their time); default: decided per table from its first part.
+    names : dict, optional
+        File stem of each table (default: the table's name).
+    path_for : callable, optional
+        ``path_for(table, file_name)``: where a table's file is written (default: ``out/file_name``); an
+        :class:`~tracescreen.report.output_folder.OutputFolder`'s ``reserve`` stages it with the run's other outputs.
+    """
+
+    def __init__(self, out, fmt: str, days: set[str] | None = None, names: dict | None = None, path_for=None):
+        from pathlib import Path
+
+        self.out, self.fmt, self.days = Path(out), fmt, days
+        self.names = names or {}
+        self.path_for = path_for or (lambda name, filename: self.out / filename)
+        self.streams: dict[str, Any] = {}
+        self.status_counts = pd.Series(dtype="int64")
+        self.reason_counts = pd.Series(dtype="int64")
+
+    def add(self, name: str, frame: pd.DataFrame, position: np.ndarray | None = None) -> None:
+        """Append one part of table ``name`` to its file (``position`` is not needed: parts are written as they come)."""
+        from tracescreen.report.formats import file_name
+        from tracescreen.report.streams import TableStream
+
+        if name not in self.streams:
+            stem = self.names.get(name, name)
+            self.streams[name] = TableStream(self.path_for(name, file_name(stem, self.fmt)), self.fmt, name=stem,
+                                             days=self.days)
+        self.streams[name].write(frame)
+        if name == "screening":
+            self.status_counts = self.status_counts.add(frame["status"].value_counts(), fill_value=0)
+        elif name == "retest":
+            self.reason_counts = self.reason_counts.add(frame["reason"].value_counts(sort=False), fill_value=0)
+
+    def close(self) -> dict:
+        """Finish every file; returns the closed streams by table (``path``, ``rows``, ``warning``)."""
+        for s in self.streams.values():
+            s.close()
+        return self.streams
+
+    def abort(self) -> None:
+        """Remove every unfinished file (after an error)."""
+        for s in self.streams.values():
+            s.abort()
+
+
+
+#: Period ids of a site group of a dataset start at group x this (a group numbers its periods without
+#: waiting for the others; ids stay below 10^15, exact in a spreadsheet).
+GROUP_STRIDE = 1_000_000_000
+
+
+def dataset_part_tables(part, group: int, ctx: PartContext, sites_name: str = "the sites file") -> dict:
+    """Every per-result and per-series table of one site group of a results dataset
+    (:mod:`tracescreen.io.dataset`), and its ``rejected`` rows (sites not in the sites file)."""
+    from tracescreen.io.dataset import read_part
+
+    accepted, rejected = read_part(part, ctx.sites, sites_name)
+    tables = part_tables(accepted, ctx, period_base=group * GROUP_STRIDE)
+    tables["rejected"] = rejected
+    tables["accepted"] = len(accepted)
+    return tables
+
+
+def _keys(limits, wide: bool):
+    """The result-wide table's limit keys (None: no result-wide table)."""
+    if not wide:
+        return None
+    from tracescreen.screening.wide import limit_keys
+
+    return limit_keys(limits.entries)
+
+
+def files_context(data, options, wide: bool = False, review=None, calibration=None) -> PartContext:
+    """The :class:`PartContext` of a run over loaded lab files (:class:`tracescreen.pipeline.Loaded`): the
+    run's blanks, the retest rows of the laboratory QC review and the calibration checks, every site of the run."""
+    accepted = data.loaded.accepted
+    retest = options.retest is not None
+    lab = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None)) if t is not None and len(t)]
+    lab = pd.concat(lab, ignore_index=True) if lab and retest else None
+    return PartContext(data.limits, data.sites, options, keys=_keys(data.limits, wide),
+                       blanks=blank_rows(accepted) if retest else None, lab_qc=lab,
+                       calibration=calibration, run_sites=accepted["site_id"].astype(str).unique(),
+                       days=output_days(accepted))
+
+
+def dataset_context(path, data, options, wide: bool = False) -> PartContext:
+    """The :class:`PartContext` of a run over a results dataset: the dataset's blanks (read with a
+    filter, few rows) for the blank check; no laboratory QC rows (a dataset holds accepted results only)."""
+    from tracescreen.io.dataset import read_rows
+    from tracescreen.retest.qc_checks import BLANK_TYPES
+
+    keys = _keys(data.limits, wide)
+    blanks = None
+    if options.retest is not None:
+        blanks = read_rows(path, "sample_type", BLANK_TYPES)
+        blanks = blanks if len(blanks) else None
+    return PartContext(data.limits, data.sites, options, keys=keys, blanks=blanks, days=dataset_days(path))
+
+
+def dataset_days(path) -> set[str]:
+    """:func:`output_days` of a results dataset, from its sampling and analysis dates alone (two columns read)."""
+    import pyarrow.compute as pc
+    import pyarrow.dataset as ds
+
+    table = ds.dataset(path, format="parquet", partitioning="hive").to_table(columns=["sampled_at", "analysed_at"])
+    whole = set()
+    for c in ("sampled_at", "analysed_at"):
+        col = table.column(c).cast(pa_timestamp())
+        if pc.all(pc.equal(pc.floor_temporal(col, unit="day"), col)).as_py() in (True, None):
+            whole.add(c)
+    days = set(DAY_COLUMNS)
+    if "sampled_at" in whole:
+        days |= {"sampled_at", "first_sampled", "last_sampled"}
+    return days | (whole & {"analysed_at"})
+
+
+def pa_timestamp():
+    """Arrow's millisecond timestamp type."""
+    import pyarrow as pa
+
+    return pa.timestamp("ms")
+
+
+def run_dataset_parts(path, ctx: PartContext, sink, sites_name: str = "the sites file") -> int:
+    """:func:`run_in_parts` over the site groups of a results dataset, read one at a time; returns the
+    number of results accepted. ``sink`` also receives each group's ``rejected`` rows."""
+    from tracescreen._internal.memory import release_unused
+    from tracescreen.io.dataset import dataset_parts, group_of
+    from tracescreen.progress import report, reporting
+
+    accepted, parts = 0, dataset_parts(path)
+    report("screen", 0, len(parts), unit="site groups")
+    for k, part in enumerate(parts):
+        ctx.first_part = k == 0
+        with reporting(_silent):
+            tables = dataset_part_tables(part, group_of(part), ctx, sites_name)
+        report("screen", k + 1, len(parts), unit="site groups", detail=part.name, finished=k + 1 == len(parts))
+        accepted += tables.pop("accepted")
+        tables.pop("position")
+        for name in PART_TABLES + ("rejected",):
+            if name in tables and (len(tables[name]) or name != "rejected"):
+                sink.add(name, tables[name], None)
+        del tables
+        release_unused()
+    return accepted
+
+
+#: Date columns of the output tables that are days by construction (periods, trend-line crossings).
+DAY_COLUMNS = {"period_start", "period_end", "crosses_limit_on"}
+
+
+def output_days(accepted: pd.DataFrame) -> set[str]:
+    """Date columns of a run's output tables written as days: :data:`DAY_COLUMNS`, and the sampling
+    (analysis) dates and the columns taken from them when no result of the run has a time of day."""
+    from tracescreen.report.streams import days_of
+
+    days = set(DAY_COLUMNS)
+    whole = days_of(accepted[[c for c in ("sampled_at", "analysed_at") if c in accepted.columns]])
+    if "sampled_at" in whole:
+        days |= {"sampled_at", "first_sampled", "last_sampled"}
+    return days | (whole & {"analysed_at"})
