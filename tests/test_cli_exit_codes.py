@@ -45,7 +45,7 @@ def test_one_for_a_bug_with_the_traceback_in_a_log_file_not_on_screen(tmp_path, 
     def broken(*args, **kwargs):
         raise RuntimeError("something the code did not expect")
 
-    monkeypatch.setattr("tracescreen.pipeline.run", broken)
+    monkeypatch.setattr("tracescreen.pipeline.run_loaded", broken)
     monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
     monkeypatch.delenv("TRACESCREEN_TRACEBACK", raising=False)
     assert main(["screen", *ONE_FILE, "--out", str(tmp_path / "out")]) == 1

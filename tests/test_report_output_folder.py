@@ -21,7 +21,7 @@ import pytest
 from workspace_support import lab_rows, write_lab_csv
 
 from tracescreen.cli import main
-from tracescreen.report import writers
+from tracescreen.report import streams
 from tracescreen.report.output_folder import MANIFEST, read_manifest
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -71,17 +71,17 @@ def test_failed_write_leaves_the_earlier_run_whole_and_says_so(lab, tmp_path, ca
     out = tmp_path / "out"
     assert main(_screen(lab, out)) == 0
     before = {p.name: p.read_bytes() for p in out.iterdir()}
-    real = writers.write_csv
+    real = streams.TableStream.write
     calls = {"n": 0}
 
-    def failing(df, path):
+    def failing(self, frame):
         calls["n"] += 1
         if calls["n"] == 3:
-            Path(path).write_bytes(b"half a fi")  # a partial file, then the disk is full
-            raise OSError(errno.ENOSPC, "No space left on device", str(path))
-        return real(df, path)
+            real(self, frame.head(1))  # part of a table is on disk, then the disk is full
+            raise OSError(errno.ENOSPC, "No space left on device", str(self.path))
+        return real(self, frame)
 
-    monkeypatch.setattr(writers, "write_csv", failing)
+    monkeypatch.setattr(streams.TableStream, "write", failing)
     capsys.readouterr()
     assert main(_screen(lab, out)) == 2
     err = capsys.readouterr().err.strip()

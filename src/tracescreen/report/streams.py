@@ -239,6 +239,9 @@ class TableStream:
 
 def write_table(frame: pd.DataFrame, path, fmt: str, name: str | None = None, days: set[str] | None = None) -> TableStream:
     """Write one whole table in ``fmt`` (a stream of one part); returns the closed stream (path, rows, warning)."""
+    from tracescreen.progress import report
+
+    report("write", None, unit="files", detail=f"{name or Path(path).stem}.{fmt}")
     with TableStream(path, fmt, name, days) as stream:
         stream.write(frame)
     return stream
