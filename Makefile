@@ -21,19 +21,21 @@ DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
                 --columns scenario_data/columns_eastbank.yaml
 
 DEMO_WS      := out/demo-workspace
+# the demo laboratory's QC summary (the Lab QC page, and the lab QC review of screen and report)
+DEMO_QC      := --qc scenario_data/lab_qc_fernleigh_2021-2025.csv
 
 # the demo lab files go into a workspace (a re-run adds nothing); the dashboard reads the workspace
 run: setup
 	$(VENV)/bin/tracescreen import $(DEMO_RESULTS) --workspace $(DEMO_WS) --columns scenario_data/columns_eastbank.yaml \
 		--sites scenario_data/sites.csv
 	$(VENV)/bin/tracescreen dashboard --workspace $(DEMO_WS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
-		--host 127.0.0.1 --port 8050
+		$(DEMO_QC) --host 127.0.0.1 --port 8050
 
 screen: setup
-	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
+	$(VENV)/bin/tracescreen screen $(DEMO_DATA) $(DEMO_QC) --out out/demo
 
 report: setup
-	$(VENV)/bin/tracescreen report $(DEMO_DATA) --out out/demo/report.html --xlsx out/demo/report.xlsx
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) $(DEMO_QC) --out out/demo/report.html --xlsx out/demo/report.xlsx
 
 test: setup
 	$(PY) -m pytest

@@ -35,6 +35,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         app = create_app(results or None, args.limits, args.sites, options=load_options(args),
                          workspace=args.workspace, cross_fraction=args.cross_fraction,
+                         qc_files=args.qc, calibration_files=args.calibration,
                          max_upload_bytes=int(args.max_upload_mb * 1e6))
     except (ValueError, OSError, KeyError) as exc:
         lines = str(exc).strip().splitlines()

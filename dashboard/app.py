@@ -17,7 +17,7 @@ DEFAULT_MAX_UPLOAD_BYTES = 20 * 1000 * 1000
 
 
 def create_app(results=None, limits=None, sites=None, columns=None, *, options=None, workspace=None,
-               cross_fraction: bool = True, inputs: Inputs | None = None,
+               cross_fraction: bool = True, inputs: Inputs | None = None, qc_files=(), calibration_files=(),
                max_upload_bytes: int = DEFAULT_MAX_UPLOAD_BYTES, upload_dir=None,
                preload: bool = True) -> Dash:
     """Build the dashboard on lab result files and limit tables.
@@ -46,12 +46,16 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         Where uploaded files are kept (a temporary folder by default).
     preload : bool
         Load and screen the base data now rather than on the first request.
+    qc_files, calibration_files : list of paths
+        Laboratory QC summary files and calibration files for the Lab QC page (the QC rows of the
+        result files are reviewed without them).
     """
     if inputs is None:
         if (results is None and workspace is None) or limits is None:
             raise ValueError("create_app needs result files (or a workspace) and limit tables (or inputs=...)")
         def base():
-            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction)
+            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction,
+                               qc_files, calibration_files)
     else:
         base = inputs
     store = DataStore(base, upload_dir=upload_dir, max_upload_bytes=max_upload_bytes)

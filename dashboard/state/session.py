@@ -41,6 +41,8 @@ class Inputs:
     sites_name: str = "the sites file"
     set_aside: pd.DataFrame | None = None  # rows that are not results to screen (lab QC, other analytes)
     cross_fraction: bool = True  # screening option: decide across fractions where certain
+    qc_files: tuple = ()  # separate laboratory QC summary files (the Lab QC page)
+    calibration_files: tuple = ()  # the laboratory's calibration files (the Lab QC page)
 
 
 @dataclass
@@ -77,6 +79,9 @@ class SessionData:
     campaign_code: np.ndarray
     day: np.ndarray  # sampling date as int32 days since 1970-01-01 (NO_DAY when undated)
     series_key: np.ndarray
+    reading: Any = None  # the LoadOptions the files were read with (column map, date order: the QC rows)
+    qc_files: tuple = ()
+    calibration_files: tuple = ()
     memo: Memo = field(default_factory=Memo, repr=False)
     _derived: dict = field(default_factory=dict, repr=False)
     _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
@@ -262,6 +267,9 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
         campaign_code=campaign_code,
         day=day,
         series_key=series_key,
+        reading=inputs.options,
+        qc_files=tuple(inputs.qc_files),
+        calibration_files=tuple(inputs.calibration_files),
     )
 
 

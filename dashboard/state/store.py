@@ -27,7 +27,7 @@ STORE_EXTENSION = "tracescreen"
 
 # ---- building ---------------------------------------------------------------------------------
 def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None,
-                cross_fraction: bool = True) -> Inputs:
+                cross_fraction: bool = True, qc_files=(), calibration_files=()) -> Inputs:
     """Load result files, limit tables and sites with the engine's pipeline (user errors raise ValueError).
 
     ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
@@ -54,6 +54,8 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
         sites_name=Path(sites).name if sites is not None else "the sites file",
         set_aside=loaded.set_aside,
         cross_fraction=cross_fraction,
+        qc_files=tuple(str(p) for p in qc_files),
+        calibration_files=tuple(str(p) for p in calibration_files),
     )
 
 
@@ -213,6 +215,7 @@ class DataStore:
             files=pd.concat(files, ignore_index=True),
             sources=base.sources + tuple(f"upload {t}" for t in kept),
             cross_fraction=self.base_inputs().cross_fraction,
+            options=base.options, qc_files=base.qc_files, calibration_files=base.calibration_files,
         )
         del merged
         return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)

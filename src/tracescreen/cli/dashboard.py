@@ -25,6 +25,10 @@ def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--port", type=int, default=8050, help="port to listen on")
     p.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
     p.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+    p.add_argument("--qc", metavar="FILE", action="append", default=[],
+                   help="a separate laboratory QC summary file for the Lab QC page (repeat for several)")
+    p.add_argument("--calibration", metavar="FILE", action="append", default=[],
+                   help="the laboratory's calibration file for the Lab QC page (repeat for several)")
 
 
 def result_files(args: argparse.Namespace) -> list[str]:
@@ -55,6 +59,9 @@ def to_argv(args: argparse.Namespace) -> list[str]:
     argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
     if not args.cross_fraction:
         argv.append("--same-fraction-only")
+    for opt in ("qc", "calibration"):
+        for path in getattr(args, opt, None) or ():
+            argv += [f"--{opt}", str(path)]
     return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else [])
 
 
