@@ -9,7 +9,7 @@ STAMP  := $(VENV)/.installed-stamp
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install -q --upgrade pip
-	$(PY) -m pip install -q -e ".[test]"
+	$(PY) -m pip install -q -e ".[test,dashboard]"
 	@touch $(STAMP)
 
 setup: $(STAMP)
@@ -35,9 +35,11 @@ screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) $(DEMO_QC) --out out/demo
 
 report: setup
-	$(VENV)/bin/tracescreen report $(DEMO_DATA) $(DEMO_QC) --out out/demo/report.html --xlsx out/demo/report.xlsx
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) $(DEMO_QC) --cover scenario_data/report_cover.yaml --out out/demo/report.html \
+		--pdf out/demo/report.pdf --docx out/demo/report.docx --xlsx out/demo/report.xlsx
 
 test: setup
+	$(VENV)/bin/ruff check .
 	$(PY) -m pytest
 
 bench: setup

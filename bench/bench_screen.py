@@ -65,9 +65,9 @@ def make_file(path: Path, n: int, seed: int = 1) -> None:
 def run_screen(path: Path, out: Path) -> dict:
     """Run one screen in this process; returns timings."""
     sys.path.insert(0, str(ROOT / "src"))
-    from tracescreen.report import writers as outputs
-    from tracescreen.limits.load import load_limits
     from tracescreen.io.loading import LoadOptions, load_results
+    from tracescreen.limits.load import load_limits
+    from tracescreen.report import writers as outputs
     from tracescreen.screening.screen import screen
 
     t0 = time.perf_counter()

@@ -6,7 +6,7 @@ mg/L) and times, in the same run:
   loader     tracescreen.io.loading.load_results of the CSV (parsing only, nothing stored; once)
   import     Workspace.import_files into an empty workspace (read, parse, hash, store, commit; best of 2)
   load back  Workspace.current_results, the accepted-results DataFrame (best of 3)
-and prints the figures and the ratios to the reference. Goals (issue 7): import <= 4x the bare
+and prints the figures and the ratios to the reference. Goals (README.md#workspace-keep-every-campaign): import <= 4x the bare
 read, load back <= 1x.   Usage: python bench/bench_workspace.py [N]
 """
 

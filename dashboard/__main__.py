@@ -9,6 +9,7 @@ from tracescreen.caution import CAUTION
 
 
 def build_parser() -> argparse.ArgumentParser:
+    """The parser of ``python -m dashboard`` (the options of ``tracescreen dashboard``)."""
     from tracescreen.cli.dashboard import add_dashboard_options
 
     p = argparse.ArgumentParser(
@@ -21,8 +22,11 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Load and screen the inputs, then serve the dashboard; returns the exit code (2 on a user error)."""
+    from tracescreen.cli import UserError
     from tracescreen.cli.common import load_options
     from tracescreen.cli.dashboard import result_files
+    from tracescreen.cli.wells import wells_options
 
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -34,10 +38,10 @@ def main(argv: list[str] | None = None) -> int:
     print("Loading and screening ...", file=sys.stderr)
     try:
         app = create_app(results or None, args.limits, args.sites, options=load_options(args),
-                         workspace=args.workspace, cross_fraction=args.cross_fraction,
+                         workspace=args.workspace, cross_fraction=args.cross_fraction, wells=wells_options(args),
                          qc_files=args.qc, calibration_files=args.calibration,
                          max_upload_bytes=int(args.max_upload_mb * 1e6))
-    except (ValueError, OSError, KeyError) as exc:
+    except (ValueError, OSError, KeyError, UserError) as exc:
         lines = str(exc).strip().splitlines()
         print(f"tracescreen dashboard: error: {lines[0] if lines else type(exc).__name__}", file=sys.stderr)
         return 2

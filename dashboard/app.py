@@ -17,7 +17,8 @@ DEFAULT_MAX_UPLOAD_BYTES = 20 * 1000 * 1000
 
 
 def create_app(results=None, limits=None, sites=None, columns=None, *, options=None, workspace=None,
-               cross_fraction: bool = True, inputs: Inputs | None = None, qc_files=(), calibration_files=(),
+               cross_fraction: bool = True, wells=None, inputs: Inputs | None = None, qc_files=(),
+               calibration_files=(),
                max_upload_bytes: int = DEFAULT_MAX_UPLOAD_BYTES, upload_dir=None,
                preload: bool = True) -> Dash:
     """Build the dashboard on lab result files and limit tables.
@@ -38,6 +39,8 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         A workspace folder (``tracescreen import``): its current results instead of ``results``.
     cross_fraction : bool
         Decide across fractions where certain (``--same-fraction-only`` turns it off), as ``screen`` does.
+    wells : tracescreen.pipeline.WellsOptions, optional
+        Network and design of monitoring wells: the Wells page compares them with background.
     inputs : Inputs, optional
         Already loaded inputs (instead of the paths above), e.g. from a workspace.
     max_upload_bytes : int
@@ -54,7 +57,7 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         if (results is None and workspace is None) or limits is None:
             raise ValueError("create_app needs result files (or a workspace) and limit tables (or inputs=...)")
         def base():
-            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction,
+            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction, wells,
                                qc_files, calibration_files)
     else:
         base = inputs

@@ -38,13 +38,15 @@ def demo_screen_dir(tmp_path_factory) -> Path:
 
 @pytest.fixture(scope="session")
 def demo_report(tmp_path_factory) -> dict[str, Path]:
-    """``tracescreen report`` on the demo scenario: paths of the HTML report and its workbook."""
+    """``tracescreen report`` on the demo scenario: paths of the HTML report, its PDF, Word document
+    and workbook (the cover from scenario_data/report_cover.yaml)."""
     from tracescreen.cli import main
 
     out = tmp_path_factory.mktemp("demo_report")
-    html, xlsx = out / "report.html", out / "report.xlsx"
-    assert main(["report", *demo_args(), "--out", str(html), "--xlsx", str(xlsx)]) == 0
-    return {"html": html, "xlsx": xlsx}
+    paths = {k: out / f"report.{k}" for k in ("html", "pdf", "docx", "xlsx")}
+    assert main(["report", *demo_args(), "--cover", str(SCENARIO / "report_cover.yaml"), "--out", str(paths["html"]),
+                 "--pdf", str(paths["pdf"]), "--docx", str(paths["docx"]), "--xlsx", str(paths["xlsx"])]) == 0
+    return paths
 
 
 def demo_inputs():

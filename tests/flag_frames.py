@@ -13,6 +13,12 @@ RESULT_DEFAULTS = {
 }
 
 
+def quarterly_series(values, start="2015-01-01", **kw) -> list[dict]:
+    """Rows of one series sampled every quarter from ``start`` (sample ids Q0, Q1, ...)."""
+    dates = pd.date_range(start, periods=len(values), freq="QS")
+    return [dict(sample_id=f"Q{i}", sampled_at=d, value=v, **kw) for i, (d, v) in enumerate(zip(dates, values))]
+
+
 def results(rows: list[dict]) -> pd.DataFrame:
     """Accepted results from dicts; ``value`` is the detected value, ``nd=True`` makes a non-detect
     at ``detection_limit_ug_L``."""
@@ -36,20 +42,24 @@ def results(rows: list[dict]) -> pd.DataFrame:
 
 
 def screening(rows: list[dict], limits: list[tuple[str, float]] = (("who-dw", 10.0),)) -> pd.DataFrame:
-    """A screening table: every site sample against every ``(table, limit_ug_L)``; QC rows get
-    ``qc_sample``. The status rules are those of issue 2 (equal meets)."""
+    """The engine's own screening table (:func:`tracescreen.screening.screen.screen`) of ``rows`` against
+    one limit table per ``(table, limit_ug_L)``, each giving that limit for every analyte and fraction
+    of the rows (single-sample basis, use drinking_water; a table id's ``-`` is written ``_``)."""
+    import tempfile
+    from pathlib import Path
+
+    from tracescreen.limits.load import load_limits
+    from tracescreen.screening.screen import screen
+
     res = results(rows)
-    lim = pd.DataFrame([{"limit_table": t, "limit_ug_L": v, "use": "drinking_water",
-                         "duration": "", "basis": "single_sample", "source": f"source of {t}"}
-                        for t, v in limits])
-    site = res[res["sample_type"].eq("sample")].merge(lim, how="cross")
-    det = site["detected"]
-    site["status"] = np.select(
-        [det & (site["value_ug_L"] > site["limit_ug_L"]), det,
-         site["detection_limit_ug_L"] <= site["limit_ug_L"]],
-        ["exceeds", "meets", "nondetect_meets"], "nondetect_inconclusive")
-    qc = res[~res["sample_type"].eq("sample")].assign(status="qc_sample")
-    out = pd.concat([site, qc], ignore_index=True)
-    out["ratio"] = out["value_ug_L"] / out["limit_ug_L"]
-    out["note"] = ""
-    return out
+    pairs = res[["analyte", "fraction"]].drop_duplicates().itertuples(index=False)
+    entries = "".join(f"  - {{analyte: {a}, fraction: {f}, value: {{v}}}}\n" for a, f in pairs)
+    with tempfile.TemporaryDirectory() as tmp:
+        paths = []
+        for table, value in limits:
+            path = Path(tmp) / f"{table.replace('-', '_')}.yaml"
+            path.write_text(f"id: {table.replace('-', '_')}\nname: {table}\nsource: constructed for a test\n"
+                            f"use: drinking_water\nunit: µg/L\nentries:\n" + entries.replace("{v}", repr(float(value))),
+                            encoding="utf-8")
+            paths.append(path)
+        return screen(res, load_limits(paths))

@@ -1,6 +1,6 @@
 """Published values of the shipped limit tables, each with the document it comes from.
 
-This is the outside reference that ``tests/test_published_limits.py`` checks the files in ``limits/``
+This is the outside reference that ``tests/test_limits_published.py`` checks the files in ``limits/``
 against. Each record names the primary document (table, section or annex) and where the value was
 confirmed:
 
@@ -9,7 +9,7 @@ confirmed:
 - ``memory``: not confirmed against any stored copy; re-check against the primary document.
 
 Each value has exactly one status, the same as the YAML comment above its entry in ``limits/``
-(``tests/test_published_limits.py`` checks that they agree and prints every value still from memory).
+(``tests/test_limits_published.py`` checks that they agree and prints every value still from memory).
 Values are in the unit the document prints them in. A computed limit carries its form's parameters
 (``form``, as the YAML states them) and ``worked``: values the document (or, where marked, memory)
 gives for stated inputs, each ``(inputs, value, where)``.
@@ -81,21 +81,26 @@ _NPDWR_SEC = "checked (secondary: EPA NPDWR summary table as reproduced; Indiana
 _LCR = "40 CFR 141.80(c) and 141.2 (action level, 90th percentile per monitoring period)"
 _RAA = "running_annual_mean"  # 40 CFR 141.23(i): compliance on a running annual average
 _TAP = "sampling_point_type: tap"  # 40 CFR 141.86: lead and copper samples are tap samples
+#: effective dates of the Phase II (56 FR 3526) and Phase V (57 FR 31776) MCLs: from memory, re-check
+_PHASE2, _PHASE5 = "1992-07-30", "1994-01-17"
 
 US_EPA_NPDWR = [
-    Published("antimony", "total", 0.006, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
+    Published("antimony", "total", 0.006, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA, effective_from=_PHASE5),
     Published("arsenic", "total", 0.05, "mg/L", "40 CFR 141.11(b)",
               "checked (law: 141.11(b) '0.05 milligrams per liter ... until January 23, 2006', FindLaw copy)",
               effective_to="2006-01-22", basis=_RAA),
     Published("arsenic", "total", 0.010, "mg/L", CFR141, _NPDWR_SEC + " ('0.010 as of 01/23/06')",
               effective_from="2006-01-23", basis=_RAA),
-    Published("barium", "total", 2.0, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
-    Published("beryllium", "total", 0.004, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
-    Published("cadmium", "total", 0.005, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
-    Published("chromium", "total", 0.1, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA),
-    Published("mercury", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM and fval.com MCL tables)", basis=_RAA),
-    Published("selenium", "total", 0.05, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)", basis=_RAA),
-    Published("thallium", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)", basis=_RAA),
+    Published("barium", "total", 2.0, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA, effective_from=_PHASE2),
+    Published("beryllium", "total", 0.004, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA, effective_from=_PHASE5),
+    Published("cadmium", "total", 0.005, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA, effective_from=_PHASE2),
+    Published("chromium", "total", 0.1, "mg/L", CFR141, _NPDWR_SEC, basis=_RAA, effective_from=_PHASE2),
+    Published("mercury", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM and fval.com MCL tables)",
+              basis=_RAA, effective_from=_PHASE2),
+    Published("selenium", "total", 0.05, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)",
+              basis=_RAA, effective_from=_PHASE2),
+    Published("thallium", "total", 0.002, "mg/L", CFR141, "checked (secondary: Indiana IDEM MCL table)",
+              basis=_RAA, effective_from=_PHASE5),
     Published("uranium", "total", 0.030, "mg/L", "40 CFR 141.66(e), effective 2003-12-08",
               "checked (secondary: Maryland COMAR 26.04.01.09 reproducing the MCL, effective December 2003)",
               basis=_RAA, effective_from="2003-12-08"),

@@ -1,4 +1,5 @@
 import re
+
 """The command line end to end on the demo scenario, and its handling of user errors."""
 
 import subprocess

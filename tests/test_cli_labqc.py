@@ -1,7 +1,7 @@
 """``tracescreen labqc`` end to end: the real deliverable, a constructed batch with a QC file and a
 calibration file, and clear one-line errors.
 
-Check values: the real deliverable's verdict counts (see test_labqc_real_deliverable.py); the
+Check values: the real deliverable's verdict counts (see test_retest_labqc_real_deliverable.py); the
 constructed batch's matrix spike at 50 % (NFG 2020 30-74 % tier: J- / UJ, memory) and a result
 above the highest calibration standard (dilute and reanalyse: EPA 200.7 / 200.8 practice, memory).
 """

@@ -63,3 +63,20 @@ def test_limits_command_errors_are_one_line(capsys):
     assert "water_category is one of inland, other" in capsys.readouterr().err
     assert main(["limits", "--limits", str(LIMITS), "--table", "nope"]) == 2
     assert "no limit table with id nope" in capsys.readouterr().err
+
+
+def test_limits_command_for_one_site_of_a_sites_file(tmp_path, capsys):
+    """--sites/--site take the site's uses, default hardness and attributes: the demo's soft-water stream KR07
+    (hardness 18, lotic) gets the lead CCC at its own hardness, 0.36 µg/L (exp(1.273 ln 18 - 4.705) with the CF
+    capped at 1, rounded to two significant figures; no 25 mg/L floor), and only the lotic selenium value."""
+    out_csv = tmp_path / "kr07.csv"
+    sites = Path(__file__).resolve().parents[1] / "scenario_data" / "sites.csv"
+    assert main(["limits", "--limits", str(LIMITS), "--sites", str(sites), "--site", "KR07", "--date", "2024-06-01",
+                 "--out", str(out_csv)]) == 0
+    rows = pd.read_csv(out_csv)
+    assert set(rows["table_id"]) == {"us_epa_nrwqc_freshwater_aquatic_life"}  # KR07 serves freshwater_aquatic only
+    pb = rows[(rows["analyte"] == "lead") & (rows["duration"] == "chronic")].iloc[0]
+    assert pb["limit_ug_L"] == 0.36
+    assert rows.loc[rows["analyte"] == "selenium", "limit_ug_L"].tolist() == [3.1]
+    assert main(["limits", "--limits", str(LIMITS), "--sites", str(sites), "--site", "NOPE"]) == 2
+    assert "--site 'NOPE' is not in" in capsys.readouterr().err

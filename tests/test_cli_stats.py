@@ -2,8 +2,8 @@
 
 import numpy as np
 import pandas as pd
-
 from lab_files import write_csv
+
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 from tracescreen.statistics.summary import EXCEEDANCE_COLUMNS, SUMMARY_COLUMNS
@@ -26,7 +26,7 @@ def _lab_file(tmp_path):
 
 
 def test_screen_writes_statistics_tables(tmp_path, capsys):
-    """`screen` writes summary, exceedance and trend tables with the documented columns (issue 3)."""
+    """`screen` writes summary, exceedance and trend tables with the documented columns (README.md#statistics-summarycsv-exceedancescsv-trendscsv)."""
     lab = _lab_file(tmp_path)
     assert main(["screen", str(lab), "--limits", "limits", "--out", str(tmp_path / "o")]) == 0
     assert CAUTION in capsys.readouterr().out

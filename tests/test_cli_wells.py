@@ -3,14 +3,13 @@ traceback). Check values here come from the Unified Guidance's Example 19-1 (tes
 
 import pandas as pd
 import pytest
-
 from lab_files import write_csv
+from usepa2009_examples import example
+
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
 from tracescreen.cli.wells import FILES
 from tracescreen.io.network import NetworkError, read_design, read_network
-
-from usepa2009_examples import example
 
 
 def _example_19_1_files(tmp_path):
@@ -121,3 +120,26 @@ def test_network_constituent_windows(tmp_path):
     p.write_text("site_id,role,analyte\nW1,compliance,\nW2,,arsenic\n", encoding="utf-8")
     with pytest.raises(NetworkError, match="row 3: window for arsenic at 'W2', but 'W2' has no row"):
         read_network(p)
+
+
+def test_report_states_the_statistical_design_and_draws_wells_needing_attention(tmp_path, capsys):
+    """`report --network --design` adds the wells section: the design statement first (SWFPR,
+    plan, kappa, non-detects), the status table, charts of wells needing attention, and the same
+    tables as workbook sheets; without --network the report has no such section."""
+    args = ["report", "scenario_data/lab_results_eastbank.xlsx", "--columns", "scenario_data/columns_eastbank.yaml",
+            "--sites", "scenario_data/sites.csv", "--limits", "limits"]
+    assert main(args + ["--network", "scenario_data/network.csv", "--design", "scenario_data/design.yaml",
+                        "--out", str(tmp_path / "r.html"), "--xlsx", str(tmp_path / "r.xlsx")]) == 0
+    page = (tmp_path / "r.html").read_text(encoding="utf-8")
+    section = page[page.index('<section id="wells"'):page.index('<section id="design"')]
+    design = page[page.index('<section id="design"'):]
+    assert "site-wide false positive rate (SWFPR) 0.1" in design and "kappa computed" in design
+    assert "Wells against background: design" in design  # the design is stated in the appendix
+    assert "Status over the retest sequence" in section
+    assert 'id="well-chart-BH01-arsenic-total"' in section
+    sheets = pd.ExcelFile(tmp_path / "r.xlsx").sheet_names
+    assert {"wells_design", "wells_status", "wells_limits", "wells_confidence"} <= set(sheets)
+    assert main(args + ["--out", str(tmp_path / "plain.html")]) == 0
+    assert 'id="wells"' not in (tmp_path / "plain.html").read_text(encoding="utf-8")
+    assert main(args + ["--design", "scenario_data/design.yaml", "--out", str(tmp_path / "x.html")]) == 2
+    assert "--design needs --network" in capsys.readouterr().err

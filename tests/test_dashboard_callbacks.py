@@ -114,7 +114,7 @@ def test_overview_totals_count_each_site_sample_once(session):
 
 
 def test_series_point_count_and_nondetects_at_detection_limit(session):
-    """One point per site-sample result; non-detects sit at their detection limit (issue 5)."""
+    """One point per site-sample result; non-detects sit at their detection limit (README.md#dashboard)."""
     acc = engine_view()[0].accepted
     sel = acc[(acc["site_id"] == "BH01") & (acc["analyte"] == "arsenic") & (acc["fraction"] == "total")
               & (acc["sample_type"] == "sample")]
@@ -306,7 +306,7 @@ def test_screened_input_order_does_not_matter():
 def test_site_chart_shows_engine_trend(session):
     """KR02 dissolved zinc (the scenario's rising site): the chart's trend text and line are the
     engine's trend_table result for that series (Mann-Kendall / Sen, tested against pymannkendall
-    in test_trends.py)."""
+    in test_statistics_trends.py)."""
     from tracescreen.statistics.series import decimal_years
     from tracescreen.statistics.trends import trend_table
 

@@ -38,9 +38,9 @@ def test_same_fraction_only_reaches_the_dashboards_screening(monkeypatch):
     """`python -m dashboard --same-fraction-only` screens as `tracescreen screen --same-fraction-only` does:
     the option reaches create_app and the session's screening (reference: the engine's own screen with
     cross_fraction=False on the same results)."""
-    import dashboard.__main__ as entry
     from dashboard_support import scenario_inputs
 
+    import dashboard.__main__ as entry
     from dashboard.state.session import build_session
     from tracescreen.screening.screen import screen
 
@@ -68,7 +68,7 @@ def test_same_fraction_only_reaches_the_dashboards_screening(monkeypatch):
 
 
 def test_missing_file_is_a_one_line_error(tmp_path):
-    """A missing results file ends with exit code 2 and one line, no traceback (issue 2 rule)."""
+    """A missing results file ends with exit code 2 and one line, no traceback (README.md#dashboard; common practice for command-line tools)."""
     proc = subprocess.run([sys.executable, "-m", "dashboard", "--results", str(tmp_path / "missing.csv"),
                            "--limits", str(ROOT / "limits")], capture_output=True, text=True, cwd=ROOT, timeout=120)
     assert proc.returncode == 2

@@ -3,7 +3,7 @@ was checked in that source (seen) or is from memory; the source keys resolve to 
 
 Checked files (src/tracescreen/data/): limit_types.yaml, result_status.yaml, media.yaml,
 sample_types.yaml, fractions.yaml, nwis_parameters.yaml (qualifiers.yaml is checked in
-tests/test_qualifiers.py). The rule itself is this project's (README, "Vocabularies"); spot checks
+tests/test_io_qualifiers.py). The rule itself is this project's (README, "Vocabularies"); spot checks
 name the source of the meaning they check.
 """
 

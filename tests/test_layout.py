@@ -111,3 +111,61 @@ def test_no_module_over_400_lines():
     """A module a newcomer can read: none over 400 lines (DEVELOPERS.md, "Layout rules")."""
     long = {m: len(p.read_text(encoding="utf-8").splitlines()) for m, p in _modules().items()}
     assert long and not {m: n for m, n in long.items() if n > 400}
+
+
+def _readme_anchors(path: Path) -> set[str]:
+    """GitHub's anchors of a Markdown file's headings (lower case, punctuation dropped, spaces to hyphens)."""
+    import re
+
+    anchors = set()
+    for line in path.read_text(encoding="utf-8").splitlines():
+        m = re.match(r"^#{1,6} (.+)$", line)
+        if m:
+            text = re.sub(r"[^\w\- ]", "", m.group(1).strip().lower())
+            anchors.add(text.replace(" ", "-"))
+    return anchors
+
+
+def test_readme_anchors_cited_in_code_and_tests_exist():
+    """Tests and modules cite rules by README anchors (README.md#...): each anchor is a README heading."""
+    import re
+
+    root = PKG.parents[1]
+    anchors = _readme_anchors(root / "README.md")
+    cited = {}
+    for folder in ("src", "dashboard", "tests", "bench"):
+        for p in (root / folder).rglob("*.py"):
+            for a in re.findall(r"README\.md#([\w\-]+)", p.read_text(encoding="utf-8")):
+                cited.setdefault(a, str(p.relative_to(root)))
+    assert cited, "no README anchors cited"
+    assert {a: f for a, f in cited.items() if a not in anchors} == {}
+
+
+#: the first word after ``test_`` of a test file: an engine package, a top-level module, or the dashboard
+TEST_PREFIXES = ("io", "limits", "screening", "statistics", "retest", "report", "store", "internal", "cli",
+                 "dashboard", "pipeline", "vocabulary", "package", "layout", "lint")
+
+
+def test_test_files_mirror_the_packages():
+    """tests/test_<package>_<module>.py: a newcomer finds the tests of a module by its name (DEVELOPERS.md)."""
+    tests = PKG.parents[1] / "tests"
+    names = [p.stem for p in tests.glob("test_*.py")]
+    stray = [n for n in names if n.split("_")[1] not in TEST_PREFIXES]
+    assert names and stray == []
+    for package in ("io", "limits", "screening", "statistics", "retest", "report", "store"):
+        assert any(n.startswith(f"test_{package}_") for n in names), package
+
+
+def test_cited_reference_keys_are_in_the_bibliography():
+    """Docstrings cite sources by key ([Key]_); every key is an entry of docs/references.md (case-insensitive)."""
+    import re
+
+    root = PKG.parents[1]
+    listed = {k.lower() for k in re.findall(r"\*\*\[([^\]]+)\]\*\*", (root / "docs" / "references.md").read_text(encoding="utf-8"))}
+    cited = {}
+    for folder in ("src", "dashboard"):
+        for p in (root / folder).rglob("*.py"):
+            for key in re.findall(r"\[([A-Za-z][\w\-]*)\]_", p.read_text(encoding="utf-8")):
+                cited.setdefault(key.lower(), str(p.relative_to(root)))
+    assert len(listed) > 20 and cited
+    assert {k: f for k, f in cited.items() if k not in listed} == {}

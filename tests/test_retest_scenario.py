@@ -3,8 +3,8 @@
 import pandas as pd
 import pytest
 
-from tracescreen.retest.rows import RETEST_COLUMNS
 from tracescreen.retest.listing import REASONS
+from tracescreen.retest.rows import RETEST_COLUMNS
 
 
 @pytest.fixture(scope="module")
@@ -24,7 +24,7 @@ def _hits(retest, reason, site=None, month=None, analyte=None):
 
 
 def test_retest_csv_columns_and_every_reason(retest):
-    """retest.csv has the issue's columns in order and at least one row of each of the nine reasons (issue 6)."""
+    """retest.csv has the documented columns in order and at least one row of each of the nine reasons (README.md#retest-list-retestcsv)."""
     assert list(retest.columns) == RETEST_COLUMNS
     assert set(REASONS) <= set(retest["reason"])
     assert (retest["detail"].str.len() > 0).all() and (retest["suggested_action"].str.len() > 0).all()
@@ -53,7 +53,7 @@ def test_dl_too_high_names_the_detection_limit_needed(retest):
 
 
 def test_duplicate_pairs_flag_both_samples(retest):
-    """Each disagreeing field duplicate pair lists both its samples (issue 6: both samples flagged)."""
+    """Each disagreeing field duplicate pair lists both its samples (README.md#retest-list-retestcsv: both samples flagged)."""
     dup = _hits(retest, "duplicate_disagrees")
     per_pair = dup.groupby(["detail", "analyte", "fraction"])["sample_id"].nunique()
     assert len(per_pair) > 0 and (per_pair == 2).all()

@@ -1,13 +1,13 @@
-"""The status vocabulary is defined once and every view uses it (issue 12)."""
+"""The status vocabulary is defined once and every view uses it (DEVELOPERS.md, "Architecture": vocabulary.py)."""
 
 from __future__ import annotations
 
 import re
 from pathlib import Path
 
-from tracescreen import vocabulary
 import numpy as np
 
+from tracescreen import vocabulary
 from tracescreen.screening import status
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -51,9 +51,11 @@ def test_dashboard_css_uses_the_vocabulary_colours():
         assert glyph.group(1).lower() == vocabulary.COLOUR[s].lower() and glyph.group(2).lower() == vocabulary.TINT[s]
 
 
-def test_report_uses_the_vocabulary_tints_and_labels():
+def test_report_uses_the_vocabulary_glyphs_colours_and_labels():
     from tracescreen.report import html
+    from tracescreen.report.words import codes_table
 
+    codes = codes_table([]).set_index("code")["words"]
     for s in vocabulary.RANKED:
-        assert f".{s}{{background:{vocabulary.TINT[s]}}}" in html._CSS
-        assert vocabulary.LABEL[s] in html.STATUS_TEXT[s]
+        assert f".st-{s} .g{{color:{vocabulary.COLOUR[s]}}}" in html.CSS
+        assert codes[s] == f"{vocabulary.GLYPH[s]} {vocabulary.SHORT[s]}: {vocabulary.LABEL[s]}"

@@ -8,6 +8,7 @@ from dashboard.render.components import page_header
 from dashboard.render.series import series_view, trend_view
 from dashboard.state.store import current_session
 from dashboard.views.series import analyte_options, default_selection, site_options
+from dashboard.views.wells import site_overlay
 
 dash.register_page(__name__, path="/site", name="Site & metal", order=2,
                    title="tracescreen · site and metal")
@@ -44,6 +45,7 @@ def layout(site=None, analyte=None, fraction=None, **_query):
         dcc.Loading(dcc.Graph(id="site-chart", config={"displaylogo": False}), type="dot"),
         html.Div(id="site-summary", className="summary"),
         html.P(id="site-trend", className="trend"),
+        html.P(id="site-wells", className="trend"),
     ])
 
 
@@ -82,3 +84,25 @@ def update_site_trend(shown):
     patch = Patch()
     patch["data"].append(trace)
     return patch, text
+
+
+@callbacks.callback(
+    Output("site-chart", "figure", allow_duplicate=True), Output("site-wells", "children"),
+    Input("site-shown", "data"),
+    prevent_initial_call=True,
+)
+def update_site_wells(shown):
+    """For a compliance well (dashboard started with --network): its background prediction limit on
+    the chart and its status over the retest sequence, with a link to the Wells page."""
+    if not shown:
+        return no_update, ""
+    trace, text = site_overlay(current_session(shown["key"]), shown["site"], shown["analyte"], shown["fraction"])
+    if not text:
+        return no_update, ""
+    link = dcc.Link("open on the Wells page", href="/wells?series=" + "|".join(
+        (shown["site"], shown["analyte"], shown["fraction"])))
+    if trace is None:
+        return no_update, [text, " ", link]
+    patch = Patch()
+    patch["data"].append(trace)
+    return patch, [text, " ", link]

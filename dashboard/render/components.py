@@ -16,6 +16,7 @@ def caution_banner() -> html.Div:
 
 
 def page_header(title: str, intro: str) -> html.Div:
+    """A page's title and one paragraph saying what it shows."""
     return html.Div([html.H2(title), html.P(intro, className="intro")], className="page-header")
 
 

@@ -10,6 +10,7 @@ from dashboard.views.quality import FILE_COLUMNS, reason_counts, set_aside_count
 
 
 def html_table(frame: pd.DataFrame, table_id: str) -> html.Table:
+    """A small frame as an HTML table (headers as given, cells as text)."""
     head = html.Thead(html.Tr([html.Th(c) for c in frame.columns]))
     body = html.Tbody([html.Tr([html.Td(f"{v:,}" if isinstance(v, int) else str(v)) for v in row])
                        for row in frame.itertuples(index=False)])
@@ -17,6 +18,7 @@ def html_table(frame: pd.DataFrame, table_id: str) -> html.Table:
 
 
 def file_table(session: SessionData) -> html.Table:
+    """Rows read, accepted, set aside and rejected per file and sheet, with its SHA-256."""
     files = session.files[[c for c in FILE_COLUMNS if c in session.files.columns]].copy()
     if "sha256" in files:
         files["sha256"] = files["sha256"].astype(str).str[:12] + "…"
@@ -27,6 +29,7 @@ def file_table(session: SessionData) -> html.Table:
 
 
 def reason_table(session: SessionData):
+    """Rejected rows counted by reason."""
     counts = reason_counts(session)
     if counts.empty:
         return html.P("No rejected rows.")
@@ -35,6 +38,7 @@ def reason_table(session: SessionData):
 
 
 def set_aside_table(session: SessionData):
+    """Rows set aside (not screened) counted by kind."""
     counts = set_aside_counts(session)
     if counts.empty:
         return html.P("No rows set aside.")

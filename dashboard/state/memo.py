@@ -129,6 +129,7 @@ class Memo:
                 count -= 1
 
     def clear(self) -> None:
+        """Forget every memoised view."""
         with self._lock:
             self._items.clear()
             self._per_name.clear()

@@ -41,6 +41,7 @@ class Inputs:
     sites_name: str = "the sites file"
     set_aside: pd.DataFrame | None = None  # rows that are not results to screen (lab QC, other analytes)
     cross_fraction: bool = True  # screening option: decide across fractions where certain
+    wells: Any = None  # tracescreen.pipeline.WellsOptions: wells against background, or None
     qc_files: tuple = ()  # separate laboratory QC summary files (the Lab QC page)
     calibration_files: tuple = ()  # the laboratory's calibration files (the Lab QC page)
 
@@ -79,6 +80,7 @@ class SessionData:
     campaign_code: np.ndarray
     day: np.ndarray  # sampling date as int32 days since 1970-01-01 (NO_DAY when undated)
     series_key: np.ndarray
+    wells_options: Any = None  # tracescreen.pipeline.WellsOptions, or None
     reading: Any = None  # the LoadOptions the files were read with (column map, date order: the QC rows)
     qc_files: tuple = ()
     calibration_files: tuple = ()
@@ -267,6 +269,7 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame) -> SessionData:
         campaign_code=campaign_code,
         day=day,
         series_key=series_key,
+        wells_options=inputs.wells,
         reading=inputs.options,
         qc_files=tuple(inputs.qc_files),
         calibration_files=tuple(inputs.calibration_files),

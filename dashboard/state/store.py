@@ -9,7 +9,6 @@ mutable global: the :class:`DataStore` belongs to one app (``app.server.extensio
 
 from __future__ import annotations
 
-import hashlib
 import tempfile
 import threading
 from collections import OrderedDict
@@ -19,6 +18,7 @@ import pandas as pd
 
 from dashboard.state.frames import accepted_from_session, engine_frame
 from dashboard.state.session import BASE_KEY, Inputs, SessionData, build_session
+from tracescreen._internal.hashing import sha256_hex
 from tracescreen._internal.memory import release_unused
 from tracescreen.screening.parts import join_frames
 
@@ -27,13 +27,14 @@ STORE_EXTENSION = "tracescreen"
 
 # ---- building ---------------------------------------------------------------------------------
 def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None,
-                cross_fraction: bool = True, qc_files=(), calibration_files=()) -> Inputs:
+                cross_fraction: bool = True, wells=None, qc_files=(), calibration_files=()) -> Inputs:
     """Load result files, limit tables and sites with the engine's pipeline (user errors raise ValueError).
 
     ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
     the optional ``columns`` mapping file. With ``workspace`` (a folder), the current results of
     that workspace are used instead of ``results`` (one consistent state, even during an import).
     ``cross_fraction`` is the screening option of the same name (``--same-fraction-only`` turns it off).
+    ``wells`` (:class:`tracescreen.pipeline.WellsOptions`) adds the wells-against-background page's data.
     """
     from tracescreen import pipeline
 
@@ -54,6 +55,7 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
         sites_name=Path(sites).name if sites is not None else "the sites file",
         set_aside=loaded.set_aside,
         cross_fraction=cross_fraction,
+        wells=wells,
         qc_files=tuple(str(p) for p in qc_files),
         calibration_files=tuple(str(p) for p in calibration_files),
     )
@@ -79,10 +81,7 @@ def session_nbytes(session: SessionData) -> int:
 # ---- the per-app store ------------------------------------------------------------------------
 def content_token(*parts: bytes) -> str:
     """Short content hash naming an upload (same bytes, same token)."""
-    h = hashlib.sha256()
-    for p in parts:
-        h.update(hashlib.sha256(p).digest())
-    return h.hexdigest()[:16]
+    return sha256_hex(b"".join(bytes.fromhex(sha256_hex(p)) for p in parts))[:16]
 
 
 class DataStore:
@@ -122,6 +121,7 @@ class DataStore:
 
     # base
     def base_inputs(self) -> Inputs:
+        """The base inputs, loaded on first use."""
         with self._lock:
             if self._base_inputs is None:
                 self._base_inputs = self._base() if callable(self._base) else self._base
@@ -129,10 +129,12 @@ class DataStore:
 
     @property
     def sites(self) -> pd.DataFrame | None:
+        """The sites table of the base inputs (None without a sites file)."""
         return self.base_inputs().sites
 
     # uploads
     def upload_path(self, token: str) -> Path:
+        """The folder that keeps the upload named ``token``."""
         return self.upload_dir / token
 
     def save_upload(self, filename: str, content: bytes, mapping: bytes | None) -> str:

@@ -18,6 +18,8 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
    :mod:`tracescreen.retest.calibration`); skipped when there is neither.
 5. :func:`retest` -- the retest list from result flags and QC checks (:mod:`tracescreen.retest`),
    with the laboratory QC review's and the calibration's reasons.
+6. :func:`wells` (when ``Options.wells`` is set) -- monitoring wells against background and fixed
+   standards (:mod:`tracescreen.statistics.background`, US EPA Unified Guidance 2009).
 
 ``tracescreen screen``, ``trends`` and ``report`` and the dashboard call these functions; none
 wires the stages itself. The module is light to import: each step imports its stage when it runs.
@@ -95,6 +97,8 @@ class Options:
         limit tables and the sites file).
     lab_qc : LabQcOptions or None
         Laboratory QC review and calibration checks; None: neither.
+    wells : WellsOptions or None
+        Statistics of monitoring wells against background and standards (network, design); None: none.
     """
 
     cross_fraction: bool = True
@@ -105,6 +109,7 @@ class Options:
     part_rows: int | None = None
     record_run: str | None = None
     lab_qc: LabQcOptions | None = field(default_factory=LabQcOptions)
+    wells: Any = None
 
 
 @dataclass
@@ -136,6 +141,8 @@ class Results(Loaded):
         None when the run has no laboratory QC rows.
     calibration : tracescreen.retest.calibration.review.CalibrationReview or None
         The calibration checks; None without calibration files.
+    wells : dict of DataFrame or None
+        The tables of ``tracescreen wells`` (:data:`tracescreen.statistics.background.run.TABLES`).
     options : Options
         The options of the run.
     """
@@ -148,6 +155,7 @@ class Results(Loaded):
     retest: Any = None
     lab_qc: Any = None
     calibration: Any = None
+    wells: Any = None
     options: Options = field(default_factory=Options)
 
     @property
@@ -346,4 +354,26 @@ def run(inputs: Inputs, options: Options | None = None,
         out.retest = retest(screened, options.retest, lab_qc_retest(out.lab_qc, out.calibration))
         if out.calibration is not None:
             out.retest = out.calibration.annotate(out.retest)
+    if options.wells is not None:
+        out.wells = wells(data.loaded.accepted, screened, options.wells)
     return out
+
+
+@dataclass(frozen=True)
+class WellsOptions:
+    """What the wells step needs: the network (:func:`tracescreen.io.network.read_network`), the
+    design (:class:`tracescreen.statistics.background.design.Design`) and whether a background upper
+    tolerance limit above a table value replaces it as the standard."""
+
+    network: Any
+    design: Any
+    background_standard: bool = False
+
+
+def wells(accepted, screened, options: WellsOptions) -> dict:
+    """Step 6: monitoring wells against background and fixed standards: background checks,
+    prediction limits with retesting and each well's status over its retest sequence, control charts,
+    tolerance limits and confidence limits against the screened limits (one table per method)."""
+    from tracescreen.statistics.background.run import well_statistics
+
+    return well_statistics(accepted, options.network, options.design, screened, options.background_standard)

@@ -26,7 +26,7 @@ Statuses, worst first (:data:`STATUSES`):
     samples (the retest checks use them); never ranked with site samples.
 
 Every status is shown with a text label and a marker shape as well as a colour, so nothing depends
-on colour alone. The colours are the eight-colour set of Okabe and Ito [1]_, designed
+on colour alone. The colours are the eight-colour set of Okabe and Ito [OkabeIto2008]_, designed
 to stay distinct for the common forms of colour-vision deficiency (their yellow darkened, for
 contrast on white); the tints are light versions
 for table cell backgrounds.
@@ -37,8 +37,7 @@ equal value into an exceedance through binary floating-point error (0.007 mg/L i
 
 References
 ----------
-.. [1] Okabe, M. and Ito, K. (2008). "Color Universal Design (CUD): how to make figures and
-   presentations that are friendly to colorblind people." J*FLY, https://jfly.uni-koeln.de/color/
+[OkabeIto2008]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -8,8 +8,7 @@ memory and, where the C library is glibc, ``malloc_trim(0)`` returns free heap p
 
 References
 ----------
-.. [1] GNU C Library manual, "Memory Allocation Tunables" and malloc_trim(3).
-.. [2] Apache Arrow, ``pyarrow.MemoryPool.release_unused``.
+[glibc-malloc]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -6,7 +6,7 @@ loader is used when PyYAML was built with it (several times faster); the pure-Py
 
 References
 ----------
-.. [1] PyYAML documentation, "Loading YAML" (``SafeLoader``, ``CSafeLoader``).
+[PyYAML]_ (docs/references.md)
 """
 
 from __future__ import annotations

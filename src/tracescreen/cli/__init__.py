@@ -34,12 +34,12 @@ class UserError(Exception):
 
 def _user_error_types() -> tuple[type[BaseException], ...]:
     from tracescreen.io.columns import ColumnMapError
-    from tracescreen.limits.load import LimitTableError
     from tracescreen.io.loading import LoadError
     from tracescreen.io.sites import SitesError
-    from tracescreen.store.workspace import WorkspaceError
+    from tracescreen.limits.load import LimitTableError
     from tracescreen.retest.calibration.reading import CalibrationFileError
     from tracescreen.retest.labqc.reading import QcFileError
+    from tracescreen.store.workspace import WorkspaceError
 
     return (UserError, LoadError, LimitTableError, SitesError, ColumnMapError, FileNotFoundError,
             WorkspaceError, QcFileError, CalibrationFileError)

@@ -29,6 +29,9 @@ def add_dashboard_options(p: argparse.ArgumentParser) -> None:
                    help="a separate laboratory QC summary file for the Lab QC page (repeat for several)")
     p.add_argument("--calibration", metavar="FILE", action="append", default=[],
                    help="the laboratory's calibration file for the Lab QC page (repeat for several)")
+    from .wells import add_wells_options
+
+    add_wells_options(p, design_options=False)
 
 
 def result_files(args: argparse.Namespace) -> list[str]:
@@ -62,6 +65,11 @@ def to_argv(args: argparse.Namespace) -> list[str]:
     for opt in ("qc", "calibration"):
         for path in getattr(args, opt, None) or ():
             argv += [f"--{opt}", str(path)]
+    for opt in ("network", "design"):
+        if getattr(args, opt, None):
+            argv += [f"--{opt}", str(getattr(args, opt))]
+    if getattr(args, "background_standard", False):
+        argv.append("--background-standard")
     return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else [])
 
 
@@ -70,8 +78,8 @@ def run(args) -> int:
 
     if bool(result_files(args)) == bool(getattr(args, "workspace", None)):
         raise UserError("give lab result files (positional or --results FILE ...) or --workspace DIR")
-    if importlib.util.find_spec("dashboard") is None:
-        raise UserError("the dashboard package is not installed (pip install -e . in the project folder)")
+    if importlib.util.find_spec("dashboard") is None or importlib.util.find_spec("dash") is None:
+        raise UserError("the dashboard is not installed: pip install -e '.[dashboard]' in the project folder")
     command = [sys.executable, "-m", "dashboard", *to_argv(args)]
     sys.stdout.flush()
     sys.stderr.flush()

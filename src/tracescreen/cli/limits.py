@@ -10,11 +10,8 @@ from __future__ import annotations
 import argparse
 import datetime as dt
 
-import numpy as np
-
-from tracescreen.limits.in_force import entries_in_force
-from tracescreen.limits.load import load_limits
 from tracescreen.limits.schema import SCOPE_ATTRIBUTES
+
 from . import UserError
 from .common import print_caution
 
@@ -39,6 +36,9 @@ def register(sub) -> None:
                    help="site attribute that scopes entries: " + "; ".join(
                        f"{k} ({', '.join(v)})" for k, v in SCOPE_ATTRIBUTES.items()))
     p.add_argument("--analyte", metavar="NAME", action="append", help="show only this analyte (repeat for several)")
+    p.add_argument("--sites", metavar="FILE", help="sites CSV; with --site, take that site's uses, default "
+                   "hardness, pH, DOC, temperature and attributes (options given here win)")
+    p.add_argument("--site", metavar="ID", help="a site id of --sites")
     p.add_argument("--out", metavar="FILE.csv", help="also write the rows as CSV")
     p.set_defaults(func=run)
 
@@ -57,7 +57,30 @@ def _attributes(items: list[str]) -> dict[str, str]:
     return out
 
 
+def _site(args) -> tuple[dict, dict, tuple]:
+    """The inputs, attributes and uses of ``--site`` in ``--sites``."""
+    import numpy as np
+
+    from tracescreen.io.sites import load_sites
+
+    if not (args.site and args.sites):
+        raise UserError("give both --sites FILE and --site ID")
+    sites = load_sites(args.sites).set_index("site_id")
+    if args.site not in sites.index:
+        raise UserError(f"--site '{args.site}' is not in {args.sites}")
+    row = sites.loc[args.site]
+    columns = {"hardness": "hardness_mg_L", "ph": "ph", "doc": "doc_mg_L", "temperature": "temperature_C"}
+    inputs = {k: float(row[c]) for k, c in columns.items() if c in row.index and not np.isnan(row[c])}
+    attributes = {a: str(row[a]) for a in SCOPE_ATTRIBUTES if a in row.index and str(row[a])}
+    return inputs, attributes, tuple(row["uses"])
+
+
 def run(args) -> int:
+    import numpy as np
+
+    from tracescreen.limits.in_force import entries_in_force
+    from tracescreen.limits.load import load_limits
+
     try:
         day = dt.date.fromisoformat(args.date)
     except ValueError:
@@ -68,8 +91,18 @@ def run(args) -> int:
             raise UserError(f"--{name} {v:g} is outside {lo}-{hi}")
     limits = load_limits(args.limits)
     inputs = {k: getattr(args, k) for k in ("hardness", "ph", "doc", "temperature")}
+    attributes, tables = _attributes(args.site_attribute), args.table
+    if args.site or args.sites:
+        site_inputs, site_attributes, uses = _site(args)
+        inputs = {k: v if v is not None else site_inputs.get(k) for k, v in inputs.items()}
+        attributes = {**site_attributes, **attributes}
+        in_use = limits.tables.loc[limits.tables["use"].isin(uses), "table_id"].tolist()
+        tables = [t for t in (tables or in_use) if t in in_use]
+        if not tables:
+            raise UserError(f"no loaded limit table (of those chosen) protects a use of site {args.site} "
+                            f"({', '.join(uses) or 'no uses'})")
     try:
-        rows = entries_in_force(limits, day, inputs, _attributes(args.site_attribute), args.table)
+        rows = entries_in_force(limits, day, inputs, attributes, tables)
     except ValueError as exc:
         raise UserError(str(exc)) from None
     if args.analyte:

@@ -1,4 +1,4 @@
-"""``tracescreen report``: one self-contained HTML site summary (and optionally a workbook)."""
+"""``tracescreen report``: the site summary report as printable HTML, and on request PDF, Word and a workbook."""
 
 from __future__ import annotations
 
@@ -7,40 +7,85 @@ from pathlib import Path
 
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
-from .labqc import add_lab_qc_options, lab_qc_options
 from .flag_options import add_retest_options, retest_options
+from .labqc import add_lab_qc_options, lab_qc_options
 from .trends import add_statistics_options, statistics_options
+from .wells import add_wells_options, wells_options
+
+#: choices of --charts (tracescreen.report.charts.WHICH; kept here so that --help loads no pandas)
+CHART_CHOICES = ("findings", "all", "none")
+COVER_OPTIONS = (("client", "client the report is for"), ("project", "project name"),
+                 ("project-site", "the site or area the report covers (the cover's 'Site')"),
+                 ("prepared-by", "who prepared the report"), ("checked-by", "who checked it"),
+                 ("report-version", "version of the report (e.g. 1.0, draft 2)"),
+                 ("report-date", "date on the cover (default today)"), ("notes", "a note on the cover"))
 
 
 def register(sub) -> None:
     p = sub.add_parser(
-        "report", help="write a cited site summary report (self-contained HTML; optional XLSX)",
-        description="Screen the results as `screen` does and write one HTML file that opens offline: "
-                    "job and scope with file checksums, limit tables with citations, status matrix, "
-                    "exceedances, charts per metal, summaries, trends, retest list, rejected rows and "
-                    "method notes, with the caution first.",
+        "report", help="write the site summary report: printable HTML, and PDF, Word and workbook on request",
+        description="Screen the results as `screen` does and write the site summary report as one HTML file "
+                    "that opens offline and prints on A4 (optionally also PDF, Word and a workbook): a first "
+                    "page with the cover, the caution and an executive summary; the site–metal grid; "
+                    "exceedances with their limits side by side; undecided results; trends; charts per metal "
+                    "with one panel per site; the confirmatory retest list; laboratory QC and wells where given; "
+                    "appendices with the statistical design, full limit citations, files and rejected rows, "
+                    "and the codes behind the words. Charts and PDF need Chromium or Chrome.",
         formatter_class=argparse.ArgumentDefaultsHelpFormatter)
     add_data_options(p)
     add_statistics_options(p)
     p.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
+    p.add_argument("--pdf", metavar="FILE.pdf", help="also print the report to PDF (headless Chromium)")
+    p.add_argument("--docx", metavar="FILE.docx", help="also write an editable Word document")
+    p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
     p.add_argument("--site", action="append", metavar="ID",
                    help="report only this site (repeat for several; default all)")
-    p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
     p.add_argument("--title", help="report title (default names the sites)")
+    p.add_argument("--cover", metavar="FILE.yaml", help="cover fields (title, client, project, site, prepared_by, "
+                   "checked_by, version, date, notes) from a YAML file; the options below win over it")
+    for name, text in COVER_OPTIONS:
+        p.add_argument(f"--{name}", metavar="TEXT", help=text)
+    p.add_argument("--charts", choices=CHART_CHOICES, default="findings",
+                   help="chart the series with findings (an exceedance, or a rising trend toward a limit), all, or none")
+    p.add_argument("--max-charts", type=int, default=120, metavar="N",
+                   help="draw at most N chart panels (one per site and metal); the rest are named")
+    p.add_argument("--max-rows", type=int, default=2000, metavar="N",
+                   help="rows of a long table in the report (every row is in the workbook)")
     add_retest_options(p)
     add_lab_qc_options(p)
+    add_wells_options(p, design_options=False)
     p.set_defaults(func=run)
+
+
+def report_options(args):
+    """:class:`tracescreen.report.build.ReportOptions` from the command's options (cover file and fields)."""
+    from tracescreen.report.build import ReportOptions
+    from tracescreen.report.cover import CoverError, load_cover
+
+    fields = {"title": args.title, "client": args.client, "project": args.project, "site": args.project_site,
+              "prepared_by": args.prepared_by, "checked_by": args.checked_by, "version": args.report_version,
+              "date": args.report_date, "notes": args.notes}
+    try:
+        cover = load_cover(args.cover, **fields)
+    except CoverError as exc:
+        raise UserError(f"--cover {exc}") from None
+    if args.max_charts < 0 or args.max_rows < 1:
+        raise UserError("--max-charts must be 0 or more and --max-rows 1 or more")
+    return ReportOptions(cover=cover, charts=args.charts, max_panels=args.max_charts, max_rows=args.max_rows)
 
 
 def run(args) -> int:
     from tracescreen import pipeline
     from tracescreen.report import writers as outputs
-    from tracescreen.report.html import build_report_html
+    from tracescreen.report.build import build_document, front_rows
+    from tracescreen.report.html import render_html
+    from tracescreen.report.images import ReportError, draw
     from tracescreen.report.tables import report_data, report_tables
 
+    report = report_options(args)
     options = pipeline.Options(cross_fraction=args.cross_fraction, periods=False,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
-                               record_run=args.command, lab_qc=lab_qc_options(args))
+                               record_run=args.command, lab_qc=lab_qc_options(args), wells=wells_options(args))
     res = pipeline.run(pipeline_inputs(args), options, on_loaded=announce)
     site_ids = None
     if args.site:
@@ -53,13 +98,26 @@ def run(args) -> int:
         "non-detect method (summaries)": args.stats_method,
         "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
                       f"at least {args.min_trend_values} values"})
+    doc = build_document(data, site_ids, report)
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
-    out.write_text(build_report_html(data, site_ids, args.title), encoding="utf-8")
-    print(f"Report: {out}")
+    try:
+        draw(doc.figures(), ("svg", "png") if args.docx else ("svg",))
+        out.write_text(render_html(doc), encoding="utf-8")
+        print(f"Report: {out}")
+        if args.pdf:
+            from tracescreen.report.pdf import print_pdf
+
+            print(f"PDF: {print_pdf(out, args.pdf)}")
+    except ReportError as exc:
+        raise UserError(str(exc)) from None
+    if args.docx:
+        from tracescreen.report.word import write_docx
+
+        print(f"Word document: {write_docx(doc, args.docx)}")
     if args.xlsx:
         try:
-            path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx)
+            path = outputs.write_xlsx(report_tables(data, site_ids), args.xlsx, front=front_rows(doc))
         except ValueError as exc:  # a table longer than a sheet holds
             raise UserError(f"--xlsx {args.xlsx}: {exc}") from None
         print(f"Workbook: {path}")

@@ -77,10 +77,17 @@ def run(args) -> int:
 
 def limit_tables_table(limits):
     """One row per loaded limit table with its full citation (``screening.csv`` names the table)."""
+    import pandas as pd
+
     t = limits.tables
     n = limits.entries.groupby("table_id").size()
-    return t[["table_id", "name", "source", "url", "use", "unit", "notes", "path"]].assign(
+    out = t[["table_id", "name", "source", "url", "use", "unit", "notes", "path"]].assign(
         entries=t["table_id"].map(n).fillna(0).astype(int))
+    for c in ("effective_from", "effective_to"):  # the table's own dates (its entries' are within them)
+        out[c] = t[c] if c in t else pd.NaT
+    scope = t["default_scope"] if "default_scope" in t else pd.Series([{}] * len(t), index=t.index)
+    out["default_scope"] = ["; ".join(f"{k}: {v}" for k, v in (d or {}).items()) for d in scope]
+    return out
 
 
 def print_summary(loaded, screened) -> None:

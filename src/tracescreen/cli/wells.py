@@ -9,7 +9,7 @@ import argparse
 from pathlib import Path
 
 from . import UserError
-from .common import add_reading_options, print_caution, results_from_args, warn
+from .common import add_reading_options, announce, pipeline_inputs, print_caution, results_from_args, warn
 
 #: Output file of each table.
 FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "well_data": "well_data.csv",
@@ -47,6 +47,44 @@ _DESIGN_OPTIONS = {
 }
 
 
+def add_wells_options(p: argparse.ArgumentParser, design_options: bool = True) -> None:
+    """The network, design and background-standard options (``wells``, ``report``, ``dashboard``);
+    with ``design_options`` also one option per design key."""
+    g = p.add_argument_group("wells against background and standards (US EPA Unified Guidance 2009)")
+    g.add_argument("--network", metavar="FILE", help="network CSV: site_id, role (background/compliance), "
+                   "well_group, comparison, stage, background_from, background_to, analyte")
+    g.add_argument("--design", metavar="FILE", help="design YAML (SWFPR, evaluations a year, plan, windows, ...)"
+                   + ("; the options below override it" if design_options else ""))
+    g.add_argument("--background-standard", action="store_true",
+                   help="where the well group's background upper tolerance limit is above the table value, "
+                        "compare confidence limits with it instead (background-based standard)")
+    if design_options:
+        d = p.add_argument_group("design (each overrides the --design file)")
+        for key, (opt, kind, text) in _DESIGN_OPTIONS.items():
+            d.add_argument(opt, dest=f"design_{key}", metavar={int: "N", float: "X", str: "TEXT"}[kind], help=text)
+
+
+def wells_options(args, required: bool = False):
+    """:class:`tracescreen.pipeline.WellsOptions` from the options; None without --network (unless
+    ``required``). User errors end with one line naming the file and row."""
+    from tracescreen.io.network import NetworkError, read_network
+    from tracescreen.pipeline import WellsOptions
+
+    if not getattr(args, "network", None):
+        if required:
+            raise UserError("give --network FILE (site_id, role, well_group, ...)")
+        if getattr(args, "design", None):
+            raise UserError("--design needs --network FILE")
+        return None
+    try:
+        network = read_network(args.network)
+    except NetworkError as exc:
+        raise UserError(str(exc)) from None
+    if network.empty:
+        raise UserError(f"{args.network}: no well has a role (background or compliance)")
+    return WellsOptions(network, design_from_args(args), bool(getattr(args, "background_standard", False)))
+
+
 def register(sub) -> None:
     p = sub.add_parser(
         "wells", help="per-well statistics against background and standards (US EPA Unified Guidance 2009)",
@@ -55,23 +93,13 @@ def register(sub) -> None:
                     "status of every compliance well over its retest sequence; Shewhart-CUSUM control charts; "
                     "upper tolerance limits; confidence limits of each well's mean, median or percentile "
                     "compared with the limit tables. One CSV per method in --out.",
-        formatter_class=argparse.RawDescriptionHelpFormatter,
-        epilog="Network file columns: site_id, role (background/compliance), well_group, comparison, stage "
-               "(detection/assessment/corrective), background_from, background_to.")
+        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("results", nargs="*", metavar="RESULTS", help="lab result files (CSV or XLSX); or --workspace")
     p.add_argument("--workspace", metavar="DIR", help="use the current results of this workspace")
-    p.add_argument("--network", metavar="FILE", help="network CSV (roles and groups of wells); default: the "
-                   "same columns in --sites")
-    p.add_argument("--design", metavar="FILE", help="design YAML (any of the design keys; options override it)")
     p.add_argument("--limits", metavar="PATH", action="append",
                    help="limit table(s) whose values are the fixed standards of the confidence limits")
     p.add_argument("--sites", metavar="FILE", help="sites CSV (which limit tables apply where)")
-    p.add_argument("--background-standard", action="store_true",
-                   help="where the well group's background upper tolerance limit is above the table value, "
-                        "compare confidence limits with it instead (background-based standard)")
-    g = p.add_argument_group("design (each overrides the --design file)")
-    for key, (opt, kind, text) in _DESIGN_OPTIONS.items():
-        g.add_argument(opt, dest=f"design_{key}", metavar={int: "N", float: "X", str: "TEXT"}[kind], help=text)
+    add_wells_options(p)
     add_reading_options(p)
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the CSV tables")
     p.set_defaults(func=run, results_required=True)
@@ -83,12 +111,12 @@ def design_from_args(args):
     from tracescreen.statistics.background.design import Design, DesignError
 
     try:
-        values = read_design(args.design) if args.design else {}
+        values = read_design(args.design) if getattr(args, "design", None) else {}
     except NetworkError as exc:
         raise UserError(str(exc)) from None
-    source = args.design or "options"
+    source = getattr(args, "design", None) or "options"
     for key, (opt, kind, _) in _DESIGN_OPTIONS.items():
-        raw = getattr(args, f"design_{key}")
+        raw = getattr(args, f"design_{key}", None)
         if raw is None:
             continue
         try:
@@ -103,37 +131,26 @@ def design_from_args(args):
 
 
 def run(args) -> int:
-    from tracescreen.io.network import NetworkError, read_network
-    from tracescreen.io.sites import load_sites
-    from tracescreen.limits.load import load_limits
+    from tracescreen import pipeline
     from tracescreen.report import writers as outputs
-    from tracescreen.screening.screen import screen
-    from tracescreen.statistics.background.run import well_statistics
 
-    design = design_from_args(args)
-    network_path = args.network or args.sites
-    if not network_path:
-        raise UserError("give --network FILE (or --sites with role and well_group columns)")
-    try:
-        network = read_network(network_path)
-    except NetworkError as exc:
-        raise UserError(str(exc)) from None
-    if network.empty:
-        raise UserError(f"{network_path}: no well has a role (background or compliance)")
-    sites = load_sites(args.sites) if args.sites else None
-    loaded = results_from_args(args, sites)
-    screened = None
+    wopts = wells_options(args, required=True)
     if args.limits:
-        screened = screen(loaded.accepted, load_limits(args.limits), sites, cross_fraction=False)
+        data = pipeline.load(pipeline_inputs(args))
+        announce(data)
+        loaded = data.loaded
+        screened, _ = pipeline.screen(loaded.accepted, data.limits, data.sites,
+                                      pipeline.Options(cross_fraction=False, periods=False))
     else:
         warn("no --limits: confidence limits are not compared with standards")
+        loaded, screened = results_from_args(args), None
     have = set(loaded.accepted["site_id"].astype(str))
-    unknown = sorted(set(network["site_id"]) - have)
-    if len(unknown) == len(network):
-        raise UserError(f"{network_path}: none of its wells has accepted results")
+    unknown = sorted(set(wopts.network["site_id"]) - have)
+    if len(unknown) == wopts.network["site_id"].nunique():
+        raise UserError(f"{args.network}: none of its wells has accepted results")
     if unknown:
         warn(f"{len(unknown)} network well(s) without accepted results: {', '.join(unknown[:5])}")
-    tables = well_statistics(loaded.accepted, network, design, screened, args.background_standard)
+    tables = pipeline.wells(loaded.accepted, screened, wopts)
     out = Path(args.out)
     paths = {name: outputs.write_csv(tables[name], out / FILES[name]) for name in FILES}
     paths["rejected"] = outputs.write_csv(loaded.rejected, out / "rejected.csv")

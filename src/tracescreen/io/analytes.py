@@ -48,6 +48,7 @@ _FRACTION_RE = re.compile(
 
 @dataclass(frozen=True)
 class Analyte:
+    """One analyte of the registry: canonical name, symbol, CAS number and the names it goes by."""
     name: str
     symbol: str
     cas: str
@@ -103,12 +104,16 @@ def canonical_names() -> list[str]:
 
 
 def split_fraction(text: str) -> tuple[str, str | None]:
-    """Remove fraction words from an analyte label.
+    """Remove fraction words from an analyte label: (the rest in lower case, the fraction or None).
+
+    Two different fraction words give ``"conflict"``.
 
     >>> split_fraction("Lead, dissolved")
-    ('Lead', 'dissolved')
+    ('lead', 'dissolved')
     >>> split_fraction("Total Recoverable Zinc")
-    ('Zinc', 'total')
+    ('zinc', 'total')
+    >>> split_fraction("Arsenic")
+    ('Arsenic', None)
     """
     s = str(text).strip()
     low = s.lower()

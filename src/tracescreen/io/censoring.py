@@ -75,6 +75,7 @@ class Limits:
 
     @classmethod
     def none(cls, n: int) -> Limits:
+        """No censoring limits for ``n`` rows."""
         nan = np.full(n, np.nan)
         return cls(nan, nan.copy(), nan.copy(), nan.copy(), np.full(n, None, dtype=object))
 

@@ -84,7 +84,7 @@ def header_key(header: str) -> str:
 
 
 def _variants() -> dict[str, tuple[str, int]]:
-    """header key -> (column, rank): exchange layouts first (their names are exact), then lab
+    """Header key -> (column, rank): exchange layouts first (their names are exact), then lab
     spellings, then each column's own name."""
     out: dict[str, tuple[str, int]] = {}
     for table in (wqx.HEADERS, nwis.HEADERS, LAB_HEADERS):

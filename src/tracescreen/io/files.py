@@ -13,7 +13,6 @@ from __future__ import annotations
 
 import csv
 import datetime as dt
-import hashlib
 import io
 import zipfile
 from dataclasses import dataclass, field
@@ -24,6 +23,7 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.csv as pacsv
 
+from tracescreen._internal.hashing import sha256_hex
 from tracescreen.io.columns import REQUIRED, recognise_columns, score_header_row
 from tracescreen.io.mapping import ColumnMap, mapping_applies, missing_required
 
@@ -64,7 +64,8 @@ class LoadOptions:
 # --------------------------------------------------------------------------------------------
 
 def sha256_of(data: bytes) -> str:
-    return hashlib.sha256(data).hexdigest()
+    """SHA-256 of a file's bytes as hex (the file's identity in outputs and the workspace)."""
+    return sha256_hex(data)
 
 
 def _decode(data: bytes, name: str, encoding: str) -> str:

@@ -94,6 +94,7 @@ def empty_accepted() -> pd.DataFrame:
 
 
 def normalise_empty() -> pd.DataFrame:
+    """An empty frame of rows not accepted (the columns every normalised sheet gives)."""
     no_text = pd.Categorical([], categories=pd.Index([], dtype="str"))
     cols = {c: pd.Series(no_text) if c in TEXT_COLUMNS else pd.Series(dtype=str)
             for c in ACCEPTED_COLUMNS}

@@ -62,7 +62,7 @@ def split_species(units: pd.Series) -> tuple[pd.Series, pd.Series]:
 
 @functools.lru_cache(maxsize=1)
 def _registry() -> pint.UnitRegistry:
-    """pint's default registry; its parsed definitions are cached on disk (pint's own cache)."""
+    """Pint's default registry; its parsed definitions are cached on disk (pint's own cache)."""
     try:
         return pint.UnitRegistry(cache_folder=":auto:")
     except OSError:  # no writable cache folder: parse the definitions each time

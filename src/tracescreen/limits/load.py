@@ -21,17 +21,29 @@ import numpy as np
 import pandas as pd
 import yaml
 
-from tracescreen.io import analytes
-from tracescreen.io import units
 from tracescreen._internal.yamlfiles import SAFE_LOADER
-
+from tracescreen.io import analytes, units
 from tracescreen.limits import forms, scope
 from tracescreen.limits.evaluate import (  # noqa: F401  (re-exported: evaluation used to live here)
-    evaluate, evaluate_pairs, hardness_formula_limit, is_formula,
+    evaluate,
+    evaluate_pairs,
+    hardness_formula_limit,
+    is_formula,
 )
 from tracescreen.limits.schema import (  # noqa: F401  (re-exported: the format is declared there)
-    BASES, CF_KEYS, ENTRY_KEYS_OPTIONAL, ENTRY_KEYS_REQUIRED, EXTRA_ENTRY_KEYS, FORMULA_KEYS, FRACTIONS,
-    SETTINGS, TABLE_CHECKS, TABLE_KEYS_OPTIONAL, TABLE_KEYS_REQUIRED, VALUE_KEYS, LimitTableError,
+    BASES,
+    CF_KEYS,
+    ENTRY_KEYS_OPTIONAL,
+    ENTRY_KEYS_REQUIRED,
+    EXTRA_ENTRY_KEYS,
+    FORMULA_KEYS,
+    FRACTIONS,
+    SETTINGS,
+    TABLE_CHECKS,
+    TABLE_KEYS_OPTIONAL,
+    TABLE_KEYS_REQUIRED,
+    VALUE_KEYS,
+    LimitTableError,
 )
 
 ENTRY_COLUMNS = [
@@ -50,6 +62,7 @@ class LimitSet:
 
     @property
     def uses(self) -> list[str]:
+        """The water uses the loaded tables protect, in table order."""
         return sorted(set(self.tables["use"]))
 
 
@@ -84,8 +97,8 @@ def _check_keys(mapping: dict, keys: tuple[str, ...], label: str, where: str) ->
             raise LimitTableError(f"{label}: {where}: missing key '{k}'")
 
 
-def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
-    label = f"{name}: entry {i}" + (f" ({e.get('analyte')})" if isinstance(e, dict) and e.get("analyte") else "")
+def _check_entry_keys(e, label: str) -> None:
+    """An entry is a mapping with every required key and no unknown one."""
     if not isinstance(e, dict):
         raise LimitTableError(f"{label}: an entry must be a mapping of keys")
     allowed = set(ENTRY_KEYS_REQUIRED) | set(ENTRY_KEYS_OPTIONAL) | set(_extra_entry_keys())
@@ -95,6 +108,37 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
     for k in ENTRY_KEYS_REQUIRED:
         if k not in e or e[k] in (None, ""):
             raise LimitTableError(f"{label}: missing key '{k}'")
+
+
+def _hardness_formula(e: dict, label: str, row: dict) -> None:
+    """Put an entry's hardness formula (m, b, cf and the optional hardness range) into ``row``."""
+    f = e["hardness_formula"]
+    if not isinstance(f, dict):
+        raise LimitTableError(f"{label}: key 'hardness_formula' must be a mapping with m, b, cf")
+    _check_keys(f, FORMULA_KEYS, label, "hardness_formula")
+    row["hf_m"] = _number(f["m"], label, "hardness_formula.m", allow_negative=True)
+    row["hf_b"] = _number(f["b"], label, "hardness_formula.b", allow_negative=True)
+    cf = f["cf"]
+    if isinstance(cf, dict):
+        _check_keys(cf, CF_KEYS, label, "hardness_formula.cf")
+        row["hf_cf_intercept"] = _number(cf["intercept"], label, "hardness_formula.cf.intercept", True)
+        row["hf_cf_ln_slope"] = _number(cf["ln_hardness"], label, "hardness_formula.cf.ln_hardness", True)
+    else:
+        row["hf_cf"] = _number(cf, label, "hardness_formula.cf")
+    rng = e.get("hardness_range")
+    if rng is not None:
+        if not (isinstance(rng, list) and len(rng) == 2):
+            raise LimitTableError(f"{label}: key 'hardness_range' must be [min, max] in mg/L as CaCO3")
+        lo = np.nan if rng[0] is None else _number(rng[0], label, "hardness_range")
+        hi = np.nan if rng[1] is None else _number(rng[1], label, "hardness_range")
+        if lo > hi:
+            raise LimitTableError(f"{label}: key 'hardness_range': min {lo} is above max {hi}")
+        row["hardness_min"], row["hardness_max"] = lo, hi
+
+
+def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
+    label = f"{name}: entry {i}" + (f" ({e.get('analyte')})" if isinstance(e, dict) and e.get("analyte") else "")
+    _check_entry_keys(e, label)
     canon = analytes.resolve(str(e["analyte"]))
     if canon is None:
         raise LimitTableError(f"{label}: key 'analyte': '{e['analyte']}' is not in the analyte registry")
@@ -123,28 +167,7 @@ def _parse_entry(e, i: int, name: str, table: dict, factor: float) -> dict:
     if has_v:
         row["value_ug_L"] = units.clean_decimal(np.array([_number(e["value"], label, "value") * factor]))[0]
     elif has_f:
-        f = e["hardness_formula"]
-        if not isinstance(f, dict):
-            raise LimitTableError(f"{label}: key 'hardness_formula' must be a mapping with m, b, cf")
-        _check_keys(f, FORMULA_KEYS, label, "hardness_formula")
-        row["hf_m"] = _number(f["m"], label, "hardness_formula.m", allow_negative=True)
-        row["hf_b"] = _number(f["b"], label, "hardness_formula.b", allow_negative=True)
-        cf = f["cf"]
-        if isinstance(cf, dict):
-            _check_keys(cf, CF_KEYS, label, "hardness_formula.cf")
-            row["hf_cf_intercept"] = _number(cf["intercept"], label, "hardness_formula.cf.intercept", True)
-            row["hf_cf_ln_slope"] = _number(cf["ln_hardness"], label, "hardness_formula.cf.ln_hardness", True)
-        else:
-            row["hf_cf"] = _number(cf, label, "hardness_formula.cf")
-        rng = e.get("hardness_range")
-        if rng is not None:
-            if not (isinstance(rng, list) and len(rng) == 2):
-                raise LimitTableError(f"{label}: key 'hardness_range' must be [min, max] in mg/L as CaCO3")
-            lo = np.nan if rng[0] is None else _number(rng[0], label, "hardness_range")
-            hi = np.nan if rng[1] is None else _number(rng[1], label, "hardness_range")
-            if lo > hi:
-                raise LimitTableError(f"{label}: key 'hardness_range': min {lo} is above max {hi}")
-            row["hardness_min"], row["hardness_max"] = lo, hi
+        _hardness_formula(e, label, row)
     if not has_f and "hardness_range" in e:
         raise LimitTableError(f"{label}: key 'hardness_range' only applies with 'hardness_formula'")
     if pd.notna(row["effective_from"]) and pd.notna(row["effective_to"]) and row["effective_to"] < row["effective_from"]:
@@ -206,12 +229,11 @@ def _table_dates(row: dict, table: dict, label: str) -> None:
         row["effective_to"] = t_hi if pd.isna(row["effective_to"]) else min(row["effective_to"], t_hi)
 
 
-def load_table(path: str | Path) -> tuple[dict, list[dict]]:
-    """Read and check one limit-table file; returns (table row, entry rows)."""
-    p = Path(path)
+def _read_yaml(p: Path):
+    """The YAML document of a limit-table file (a missing file, bad text or YAML raise LimitTableError)."""
     name = p.name
     try:
-        data = yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
+        return yaml.load(p.read_text(encoding="utf-8"), Loader=SAFE_LOADER)
     except FileNotFoundError:
         raise LimitTableError(f"{p}: limit table not found") from None
     except UnicodeDecodeError:
@@ -220,6 +242,10 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
         mark = getattr(exc, "problem_mark", None)
         where = f" at line {mark.line + 1}" if mark is not None else ""
         raise LimitTableError(f"{name}: not valid YAML{where}") from None
+
+
+def _check_table_keys(data, name: str) -> None:
+    """A table is a mapping with every required key, no unknown one, a usable id and valid settings."""
     if not isinstance(data, dict):
         raise LimitTableError(f"{name}: a limit table must be a mapping with keys {', '.join(TABLE_KEYS_REQUIRED)}")
     for k in data:
@@ -231,8 +257,7 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
             raise LimitTableError(f"{name}: missing {what} '{k}'")
     if not re.fullmatch(r"[a-z0-9_]+", str(data["id"])):
         raise LimitTableError(f"{name}: key 'id': '{data['id']}' must use lower-case letters, digits and _")
-    factor = units.factor_to_ug_per_L(str(data["unit"]))
-    if factor is None:
+    if units.factor_to_ug_per_L(str(data["unit"])) is None:
         raise LimitTableError(f"{name}: key 'unit': '{data['unit']}' is not a concentration unit tracescreen knows")
     settings = data.get("settings") or {}
     if not isinstance(settings, dict):
@@ -244,6 +269,16 @@ def load_table(path: str | Path) -> tuple[dict, list[dict]]:
             raise LimitTableError(f"{name}: settings: key '{k}': '{v}' is not one of {', '.join(SETTINGS[k])}")
     if not isinstance(data["entries"], list):
         raise LimitTableError(f"{name}: key 'entries' must be a list")
+
+
+def load_table(path: str | Path) -> tuple[dict, list[dict]]:
+    """Read and check one limit-table file; returns (table row, entry rows)."""
+    p = Path(path)
+    name = p.name
+    data = _read_yaml(p)
+    _check_table_keys(data, name)
+    factor = units.factor_to_ug_per_L(str(data["unit"]))
+    settings = data.get("settings") or {}
     table = {"table_id": str(data["id"]), "name": str(data["name"]), "source": " ".join(str(data["source"]).split()),
              "url": str(data.get("url") or ""), "use": str(data["use"]).strip().lower(), "unit": str(data["unit"]),
              "notes": str(data.get("notes") or "").strip(), "path": str(p), "settings": settings,

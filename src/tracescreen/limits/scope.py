@@ -65,6 +65,7 @@ def parse_default_scope(value, name: str) -> dict[str, str]:
 
 
 def site_attribute_columns(sites: pd.DataFrame | None) -> list[str]:
+    """The scope attributes (water-body type, sampling point, ...) the sites table gives."""
     return [a for a in ATTRIBUTES if sites is not None and a in sites.columns]
 
 

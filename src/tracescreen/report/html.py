@@ -1,195 +1,165 @@
-"""The site summary report as one self-contained HTML file.
+"""The report as one self-contained, printable HTML file: :func:`render_html` of a
+:class:`~tracescreen.report.document.Document`.
 
-``build_report_html(data)`` returns the HTML text of the tables of :mod:`tracescreen.report.tables`:
-the caution first, then job and scope, limit tables with their full citations, the status matrix,
-exceedances, per-metal charts, summaries, trends, the retest list, rejected rows and method notes.
-plotly.js is inlined once, so the file opens without a network.
+No script and no outside request: charts are SVG images inside the file (``<img>`` elements with
+data addresses, so a chart cannot run code). Every text of the document is escaped here.
+
+Printing (the browser's print, or :mod:`tracescreen.report.pdf`): A4 pages with the caution and
+"Page n of N" in the footer; every section starts a page; sections with wide tables print on
+landscape pages; table headers repeat on every page, rows never split across pages, tables too wide
+for a page are printed in parts that repeat the key columns (:func:`~tracescreen.report.document.column_parts`);
+no scroll boxes in print.
 """
 
 from __future__ import annotations
 
+import base64
 import html
 
 import numpy as np
 import pandas as pd
 
 from tracescreen import vocabulary
-from tracescreen._internal.text import format_date, format_number
-from tracescreen.caution import CAUTION
-from tracescreen.report.figures import analyte_figures, figure_divs, plotly_script
-from tracescreen.report.tables import STATUS_ORDER, ReportData, named_values, only_sites, report_tables, status_matrix
-
-#: legend text: the status's glyph and label, as on the dashboard (tracescreen.vocabulary)
-STATUS_TEXT = {s: f"{vocabulary.GLYPH[s]} {vocabulary.LABEL[s]}" for s in vocabulary.STATUSES}
-
-SECTIONS = [
-    ("scope", "Job and scope"),
-    ("limits", "Limit tables used"),
-    ("status", "Status matrix"),
-    ("exceedances", "Exceedances"),
-    ("charts", "Results by metal"),
-    ("summaries", "Summaries"),
-    ("trends", "Trends"),
-    ("retest", "Retest list"),
-    ("labqc", "Laboratory QC review"),
-    ("rejected", "Rejected rows"),
-    ("methods", "Method notes"),
-]
-"""Report sections: (element id, heading), in order."""
-
-def _cells(col: pd.Series) -> pd.Series:
-    """Display text of a column (numbers to 6 significant figures, dates ISO, HTML-escaped)."""
-    if pd.api.types.is_bool_dtype(col):
-        text = col.map({True: "yes", False: "no"}).fillna("")
-    elif pd.api.types.is_numeric_dtype(col):
-        text = format_number(col.astype(float), 6)
-    elif pd.api.types.is_datetime64_any_dtype(col):
-        text = format_date(col)
-    else:
-        text = col.fillna("").astype(str)
-    return text.map(html.escape)
+from tracescreen.report.document import Bullets, Document, Figure, Heading, Paragraph, Table, column_parts
 
 
-def table_html(df: pd.DataFrame, table_id: str, cell_class: pd.DataFrame | None = None) -> str:
-    """An HTML table of ``df`` (escaped), with ``data-col`` attributes on cells."""
-    if df.empty:
-        return f'<p class="none" id="{table_id}">None.</p>'
-    head = "".join(f"<th>{html.escape(str(c))}</th>" for c in df.columns)
-    cols = []
-    for j, c in enumerate(df.columns):
-        attr = f' data-col="{html.escape(str(c), quote=True)}"'
-        if cell_class is not None and c in cell_class.columns:
-            cls = cell_class[c].fillna("").astype(str).to_numpy()
-            cols.append("<td" + attr + ' class="' + cls.astype(object) + '">' + _cells(df[c]).to_numpy() + "</td>")
-        else:
-            cols.append(("<td" + attr + ">" + _cells(df[c]) + "</td>").to_numpy())
-    body_rows = np.sum(np.stack(cols, axis=1).astype(object), axis=1) if cols else []
-    body = "".join("<tr>" + r + "</tr>\n" for r in body_rows)
-    return (f'<div class="scroll"><table id="{table_id}"><thead><tr>{head}</tr></thead>'
-            f"<tbody>\n{body}</tbody></table></div>")
+def esc(text) -> str:
+    """Text escaped for HTML (quotes too)."""
+    return html.escape(str(text), quote=True)
 
 
-_STATUS_CSS = "".join(f".{s}{{background:{vocabulary.TINT[s]}}}" for s in vocabulary.STATUSES)
-_CSS = _STATUS_CSS + """
-body{font-family:system-ui,-apple-system,"Segoe UI",sans-serif;margin:0 auto;max-width:1200px;padding:1rem 1.5rem;color:#1d2329}
-h1{font-size:1.6rem;margin:.3rem 0}h2{border-bottom:2px solid #d0d7de;padding-bottom:.2rem;margin-top:2.2rem}
-.caution{border:3px solid #9a3412;background:#fff7ed;padding:.8rem 1rem;font-size:1.05rem;margin:.8rem 0}
-nav a{margin-right:.9rem}table{border-collapse:collapse;font-size:.85rem;margin:.4rem 0}
-th,td{border:1px solid #d0d7de;padding:.2rem .45rem;text-align:left;vertical-align:top}
-th{background:#f3f4f6;position:sticky;top:0}.scroll{overflow:auto;max-height:34rem}
-.citation{margin:.2rem 0 .8rem 1rem}
-td[data-col=note],td[data-col=detail],td[data-col=suggested_action],td[data-col=source],td[data-col=value]{min-width:24rem}
-.none{color:#57606a;font-style:italic}.legend span{padding:.1rem .4rem;margin-right:.4rem;border:1px solid #d0d7de}
+_GLYPH_CSS = "".join(f".st-{s} .g{{color:{vocabulary.COLOUR[s]}}}" for s in vocabulary.STATUSES)
+CSS = _GLYPH_CSS + """
+:root{--ink:#1d2329;--muted:#57606a;--rule:#c9d1d9}
+body{font-family:"DejaVu Sans",system-ui,-apple-system,"Segoe UI",sans-serif;margin:0 auto;max-width:1180px;
+ padding:1rem 1.5rem;color:var(--ink);font-size:10.5pt;line-height:1.4}
+h1{font-size:20pt;margin:.2rem 0 .6rem}h2{font-size:14pt;border-bottom:2px solid var(--rule);padding-bottom:.2rem;margin:1.6rem 0 .6rem}
+h3{font-size:11.5pt;margin:1rem 0 .4rem}
+.cover dl{display:grid;grid-template-columns:max-content 1fr;gap:.15rem 1rem;margin:.4rem 0 .8rem}
+.cover dt{font-weight:bold}.cover dd{margin:0;white-space:pre-wrap}
+.caution{border:3px solid #9a3412;background:#fff7ed;padding:.6rem .9rem;margin:.6rem 0;font-size:10.5pt}
+.lead{margin:.35rem 0}.note{color:var(--muted);font-size:9.5pt}ul{margin:.3rem 0 .5rem 1.2rem;padding:0}
+li{margin:.15rem 0}nav ul{columns:2;list-style:none;margin:.3rem 0 0 0}
+.tablewrap{overflow-x:auto;margin:.4rem 0 .8rem}
+table{border-collapse:collapse;font-size:8.5pt}caption{text-align:left;font-weight:bold;padding:.2rem 0}
+th,td{border:1px solid var(--rule);padding:.15rem .35rem;text-align:left;vertical-align:top}
+th{background:#f0f2f4}td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
+td.key{white-space:nowrap}
+figure{margin:.6rem 0 1rem}figure img{max-width:100%;height:auto;display:block}
+figcaption{font-size:9pt;color:var(--muted)}
+@page{size:A4 portrait;margin:14mm 12mm 16mm 12mm;
+ @bottom-left{content:"tracescreen site summary: a screening aid, not a compliance decision";font:8pt "DejaVu Sans",sans-serif;color:#57606a}
+ @bottom-right{content:"Page " counter(page) " of " counter(pages);font:8pt "DejaVu Sans",sans-serif;color:#57606a}}
+@page wide{size:A4 landscape;margin:12mm 12mm 14mm 12mm}
+@media print{
+ body{max-width:none;padding:0;font-size:9.5pt}
+ section{break-before:page}section.landscape{page:wide}
+ .tablewrap{overflow:visible}thead{display:table-header-group}tr,figure,li{break-inside:avoid}
+ h2,h3,caption{break-after:avoid}nav{display:none}
+ table{font-size:7.5pt;width:100%}th,td{overflow-wrap:break-word}
+ figure img{width:100%;max-width:720px}
+}
 """
 
 
-def _section(sid: str, title: str, body: str) -> str:
-    return f'<section id="{sid}"><h2>{html.escape(title)}</h2>\n{body}\n</section>\n'
+def _paragraph(b: Paragraph) -> str:
+    if b.style == "caution":
+        return f'<div class="caution" role="note"><b>Caution.</b> {esc(b.text)}</div>'
+    return f'<p class="{esc(b.style)}">{esc(b.text)}</p>'
 
 
-def _limits_html(tables: pd.DataFrame, entries: pd.DataFrame) -> str:
-    if tables.empty:
-        return '<p class="none">No limit table applied to these results.</p>'
-    parts = []
-    for _, t in tables.iterrows():  # one block per limit table (a handful)
-        tid = str(t["table_id"])
-        url = str(t.get("url", "") or "")
-        link = f' <a href="{html.escape(url, quote=True)}">{html.escape(url)}</a>' if url and url != "nan" else ""
-        notes = str(t.get("notes", "") or "")
-        parts.append(
-            f'<h3 id="limit-{html.escape(tid, quote=True)}">{html.escape(str(t["name"]))} ({html.escape(tid)})</h3>'
-            f'<p class="citation"><b>Source:</b> {html.escape(str(t["source"]))}.{link}<br>'
-            f'<b>Use protected:</b> {html.escape(str(t["use"]))}; table unit {html.escape(str(t.get("unit", "")))}'
-            + (f"<br><b>Notes:</b> {html.escape(notes)}" if notes and notes != "nan" else "") + "</p>"
-            + table_html(entries[entries["table_id"].eq(tid)].drop(columns="table_id"), f"entries-{tid}"))
-    return "\n".join(parts)
+def _part_html(frame: pd.DataFrame, t: Table, caption: str) -> str:
+    head = "".join(f"<th>{esc(c)}</th>" for c in frame.columns)
+    cols = []
+    keys = set(t.frame.columns[:t.key_columns])
+    for c in frame.columns:
+        cls = "num" if c in t.numeric else "key" if c in keys else ""
+        text = frame[c].astype(str).map(esc).to_numpy(dtype=object)
+        if t.status is not None and c in t.status.columns:
+            st = t.status[c].astype(str).to_numpy(dtype=object)
+            has = st != ""
+            glyph = np.where(has, '<span class="g">' + frame[c].astype(str).str[:1].map(esc).to_numpy(dtype=object)
+                             + "</span>" + frame[c].astype(str).str[1:].map(esc).to_numpy(dtype=object), text)
+            cols.append(np.where(has, '<td class="st-' + st + '">', "<td>") + glyph + "</td>")
+        else:
+            cols.append((f'<td class="{cls}">' if cls else "<td>") + text + "</td>")
+    body = "".join("<tr>" + "".join(r) + "</tr>\n" for r in np.stack(cols, axis=1)) if len(frame) else ""
+    cap = f"<caption>{esc(caption)}</caption>" if caption else ""
+    return f'<div class="tablewrap"><table>{cap}<thead><tr>{head}</tr></thead><tbody>\n{body}</tbody></table></div>'
 
 
-def _matrix_html(matrix: pd.DataFrame) -> str:
-    if matrix.empty:
-        return '<p class="none">No site-sample results.</p>'
-    classes = matrix.apply(lambda col: col.str.split(" ").str[0])
-    legend = "".join(f'<span class="{s}">{html.escape(STATUS_TEXT[s])}</span>' for s in STATUS_ORDER)
-    return f'<p class="legend">Worst status, k/n: {legend}</p>' + table_html(matrix.reset_index(), "status-matrix", classes)
+def table_html(t: Table) -> str:
+    """A table (in column parts when too wide), with its caption and the sentence on rows left out."""
+    parts = column_parts(t)
+    out = []
+    for i, frame in enumerate(parts):
+        caption = t.caption
+        if len(parts) > 1:
+            caption = f"{caption} (columns, part {i + 1} of {len(parts)})".strip()
+        out.append(_part_html(frame, t, caption))
+    html_ = "".join(out)
+    html_ = html_.replace("<div class=\"tablewrap\"><table>", f'<div class="tablewrap"><table id="{esc(t.table_id)}">', 1)
+    return html_ + (f'<p class="note">{esc(t.more)}</p>' if t.more else "")
 
 
-def _lab_qc_html(data: ReportData) -> str:
-    """The data review narrative of each batch, the QC values outside their windows, calibration fits."""
-    if data.lab_qc_batches is None and data.calibration is None:
-        return ('<p class="none">The files carry no laboratory QC rows and no calibration data was given: ask the '
-                "laboratory for the QC summary of each batch (see <code>tracescreen labqc</code>).</p>")
-    parts = []
-    if data.lab_qc_batches is not None:
-        parts.append("<h3>Data review narrative, by batch</h3>")
-        parts += [f'<p class="narrative">{html.escape(str(t))}</p>' for t in data.lab_qc_batches["narrative"]]
-        parts.append("<h3>QC values outside their windows or not judged</h3>")
-        parts.append(table_html(data.lab_qc_verdicts, "labqc-verdicts-table") if len(data.lab_qc_verdicts)
-                     else '<p class="none">Every QC value was judged and within its window.</p>')
-    if data.calibration is not None:
-        parts.append("<h3>Calibration</h3><p>Fits per analyte and run, with LOD = 3.3 σ / slope and "
-                     "LOQ = 10 σ / slope (ICH Q2(R2)).</p>" + table_html(data.calibration, "calibration-table"))
-    return "".join(parts)
+def figure_html(f: Figure) -> str:
+    """A chart as an SVG image (drawn beforehand) with its caption."""
+    svg = f.images.get("svg")
+    if svg is None:
+        return f'<p class="note">Chart {esc(f.caption)} was not drawn.</p>'
+    data = base64.b64encode(svg if isinstance(svg, bytes) else svg.encode("utf-8")).decode("ascii")
+    return (f'<figure id="{esc(f.figure_id)}"><img src="data:image/svg+xml;base64,{data}" width="{f.width}" '
+            f'height="{f.height}" alt="{esc("Chart: " + f.caption)}"><figcaption>{esc(f.caption)}</figcaption></figure>')
 
 
-def build_report_html(data: ReportData, site_ids=None, title: str | None = None) -> str:
-    """The report as one self-contained HTML document (plotly.js inlined once; no network needed).
+def block_html(b) -> str:
+    """One block of the document as HTML."""
+    if isinstance(b, Paragraph):
+        return _paragraph(b)
+    if isinstance(b, Bullets):
+        return "<ul>" + "".join(f"<li>{esc(i)}</li>" for i in b.items) + "</ul>"
+    if isinstance(b, Heading):
+        return f"<h3>{esc(b.text)}</h3>"
+    if isinstance(b, Table):
+        return table_html(b)
+    if isinstance(b, Figure):
+        return figure_html(b)
+    raise TypeError(f"unknown block {type(b).__name__}")
 
-    Parameters
-    ----------
-    data : ReportData
-    site_ids : list of str, optional
-        Restrict to these sites.
-    title : str, optional
-        Page title (default names the sites).
 
-    Returns
-    -------
-    str
-        The HTML text.
-    """
-    tables = report_tables(data, site_ids)
-    scr = only_sites(data.screening, site_ids)
-    title = title or ("tracescreen site summary: " + (", ".join(site_ids) if site_ids else "all sites"))
-    figures = analyte_figures(scr)
-    summary_note = trend_note = ""
-    if named_values(tables["summary"], "method"):
-        summary_note = ("<p>Non-detect method: " + html.escape(named_values(tables["summary"], "method"))
-                        + " (column <code>method</code>)"
-                        + ("; upper confidence limit on the mean: " + html.escape(named_values(tables["summary"], "ucl_method"))
-                           if named_values(tables["summary"], "ucl_method") else "") + ".</p>")
-    if named_values(tables["trends"], "test"):
-        trend_note = ("<p>Test used: " + html.escape(named_values(tables["trends"], "test")) + " (column <code>test</code>)"
-                      + ("; slope: " + html.escape(named_values(tables["trends"], "slope_method"))
-                         if named_values(tables["trends"], "slope_method") else "")
-                      + ". Dates where a trend line reaches a limit are extrapolations: an indication only.</p>")
-    bodies = {
-        "scope": table_html(tables["scope"], "scope-table") + "<h3>Files read</h3>"
-                 + table_html(tables["files"], "files-table"),
-        "limits": _limits_html(tables["limit_tables"], tables["limit_entries"]),
-        "status": _matrix_html(status_matrix(scr)),
-        "exceedances": table_html(tables["exceedances"], "exceedances-table"),
-        "charts": figure_divs(figures) if figures else '<p class="none">No site-sample results to plot.</p>',
-        "summaries": summary_note + (table_html(tables["summary"], "summary-table") if data.summary is not None
-                                     else '<p class="none">Summaries were not computed for this run.</p>')
-                     + ("<h3>Results above each limit</h3><p>Count and proportion of results above each "
-                        "applicable limit, with a 95 % binomial (Clopper-Pearson) interval; non-detects with "
-                        "a detection limit above the limit are counted as undecided.</p>"
-                        + table_html(tables["exceedance_rates"], "exceedance-rates-table")
-                        if data.exceedance_rates is not None else ""),
-        "trends": trend_note + (table_html(tables["trends"], "trends-table") if data.trends is not None
-                                else '<p class="none">Trends were not computed for this run.</p>'),
-        "retest": table_html(tables["retest"], "retest-table"),
-        "labqc": _lab_qc_html(data),
-        "rejected": table_html(tables["rejected"], "rejected-table"),
-        "methods": table_html(tables["method_notes"], "methods-table"),
-    }
-    nav = "".join(f'<a href="#{sid}">{html.escape(t)}</a>' for sid, t in SECTIONS)
-    sections = "".join(_section(sid, t, bodies[sid]) for sid, t in SECTIONS)
+def render_html(doc: Document) -> str:
+    """The document as one self-contained HTML page (charts must be drawn as SVG first)."""
+    cover = doc.cover
+    rows = "".join(f"<dt>{esc(k)}</dt><dd>{esc(v)}</dd>" for k, v in cover.rows())
+    summary = "".join(block_html(b) for b in doc.summary)
+    numbered = doc.numbered()
+    nav = "".join(f'<li><a href="#{esc(s.section_id)}">{esc(n)} {esc(s.title)}</a></li>' for n, s in numbered)
+    sections = "".join(
+        f'<section id="{esc(s.section_id)}"' + (' class="landscape"' if s.landscape else "") + ">"
+        + f"<h2>{esc(n)} {esc(s.title)}</h2>\n" + "\n".join(block_html(b) for b in s.blocks) + "</section>\n"
+        for n, s in numbered)
     return (
-        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
-        f"<title>{html.escape(title)}</title><style>{_CSS}</style>"
-        f"<script>{plotly_script()}</script></head><body>\n"
-        f"<h1>{html.escape(title)}</h1>\n"
-        f'<div class="caution" id="caution" role="note"><b>Caution.</b> {html.escape(CAUTION)}</div>\n'
-        f"<nav>{nav}</nav>\n{sections}</body></html>\n"
+        '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+        '<meta name="viewport" content="width=device-width, initial-scale=1">'
+        f"<title>{esc(cover.title)}</title><style>{CSS}</style></head><body>\n"
+        f'<header class="cover" id="cover"><h1>{esc(cover.title)}</h1><dl>{rows}</dl>'
+        f'<div class="caution" id="caution" role="note"><b>Caution.</b> {esc(doc.caution)}</div></header>\n'
+        f'<div id="summary"><h2>Executive summary</h2>{summary}</div>\n'
+        f'<nav aria-label="Contents"><h2>Contents</h2><ul>{nav}</ul></nav>\n{sections}</body></html>\n'
     )
+
+
+def build_report_html(data, site_ids=None, title: str | None = None, options=None) -> str:
+    """The report of a run as HTML: :func:`~tracescreen.report.build.build_document`, the charts
+    drawn as SVG, :func:`render_html`. ``title`` replaces the cover's title."""
+    from dataclasses import replace
+
+    from tracescreen.report.build import ReportOptions, build_document
+    from tracescreen.report.images import draw
+
+    options = options or ReportOptions()
+    if title:
+        options = replace(options, cover=replace(options.cover, title=title))
+    doc = build_document(data, site_ids, options)
+    draw(doc.figures(), ("svg",))
+    return render_html(doc)

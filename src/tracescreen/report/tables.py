@@ -57,6 +57,8 @@ class ReportData:
         the run had no laboratory QC rows.
     calibration : pandas.DataFrame or None
         Calibration fits with LOD/LOQ (``calibration_fits.csv``), when calibration files were given.
+    wells : dict of pandas.DataFrame or None
+        The tables of monitoring wells against background and standards (``tracescreen wells``).
     """
 
     screening: pd.DataFrame
@@ -74,6 +76,7 @@ class ReportData:
     lab_qc_batches: pd.DataFrame | None = None
     lab_qc_verdicts: pd.DataFrame | None = None
     calibration: pd.DataFrame | None = None
+    wells: dict | None = None
 
     def __post_init__(self):
         # the engine's tables hold text as categoricals; the report builds text from them
@@ -120,7 +123,8 @@ def status_matrix(screening: pd.DataFrame) -> pd.DataFrame:
     res = result_status(screening)
     if res.empty:
         return pd.DataFrame()
-    res = res.assign(series=res["analyte"] + " (" + res["fraction"] + ")")
+    res = res.assign(series=res["analyte"].astype(str) + " (" + res["fraction"].astype(str) + ")",
+                     site_id=res["site_id"].astype(str))  # the engine's categoricals as text
     n = res.groupby(["site_id", "series"]).size().rename("n")
     codes = pd.Categorical(res["status"], categories=STATUS_ORDER, ordered=True).codes
     worst = res.assign(_c=codes).groupby(["site_id", "series"])["_c"].min().rename("_c")
@@ -289,7 +293,7 @@ def report_data(results, settings: dict | None = None) -> ReportData:
         summary=results.summary, trends=results.trends, exceedance_rates=results.exceedances, sites=results.sites,
         settings={**(settings or {}), **retest_options.describe(), **lab["settings"]},
         method_notes=list(results.statistics_notes), lab_qc_batches=lab["batches"], lab_qc_verdicts=lab["verdicts"],
-        calibration=lab["calibration"])
+        calibration=lab["calibration"], wells=getattr(results, "wells", None))
 
 
 LAB_QC_VERDICT_COLUMNS = ["lab", "batch", "element_name", "analyte", "fraction", "qc_sample_id", "value",
@@ -335,7 +339,7 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
     scr = only_sites(data.screening, site_ids)
     tables, entries = limit_tables_used(data, scr)
     empty = pd.DataFrame()
-    return {
+    out = {
         "caution": pd.DataFrame({"caution": [CAUTION]}),
         "scope": scope_table(data, scr, site_ids),
         "files": files_table(data.files),
@@ -354,3 +358,8 @@ def report_tables(data: ReportData, site_ids=None) -> dict[str, pd.DataFrame]:
         "lab_qc_verdicts": data.lab_qc_verdicts if data.lab_qc_verdicts is not None else empty,
         "calibration": data.calibration if data.calibration is not None else empty,
     }
+    if data.wells is not None:
+        from tracescreen.report.wells import wells_tables
+
+        out.update(wells_tables(data.wells, site_ids))
+    return out

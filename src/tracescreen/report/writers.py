@@ -6,7 +6,7 @@ spreadsheets show as text; numbers (including negative numbers) stay numbers.
 
 References
 ----------
-.. [1] OWASP Foundation. "CSV Injection" (formula injection), OWASP community pages.
+[OWASP-CSV]_ (docs/references.md)
 """
 
 from __future__ import annotations
@@ -122,20 +122,84 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
     return p
 
 
-def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path) -> Path:
-    """Write one sheet per table (formula-safe). Raises ValueError if a table is too long for Excel."""
+#: Widest column in the workbook (characters) and rows sampled to size the columns.
+XLSX_MAX_WIDTH, XLSX_WIDTH_SAMPLE = 60, 500
+
+
+def number_format(values: pd.Series) -> str:
+    """An Excel number format showing a numeric column to the decimals its values carry (at most 6):
+    ``0`` for whole numbers, ``0.0##`` style otherwise (common practice: no padding beyond the data)."""
+    v = values.to_numpy(dtype=float, na_value=np.nan)
+    v = v[np.isfinite(v)]
+    if v.size == 0 or np.all(v == np.round(v)):
+        return "0"
+    sample = v[:XLSX_WIDTH_SAMPLE]
+    decimals = max(len(f"{x:.6f}".rstrip("0").split(".")[1]) for x in sample)
+    return "0.0" + "#" * (min(decimals, 6) - 1)
+
+
+def _column_widths(df: pd.DataFrame) -> list[float]:
+    head = df.head(XLSX_WIDTH_SAMPLE)
+    out = []
+    for c in df.columns:
+        longest = head[c].astype(str).str.len().max() if len(head) else 0
+        out.append(float(min(max(len(str(c)), int(longest if longest == longest else 0)) + 2, XLSX_MAX_WIDTH)))
+    return out
+
+
+def _front_sheet(wb, front: list[tuple[str, str]]) -> None:
+    from openpyxl.cell import WriteOnlyCell
+    from openpyxl.styles import Alignment, Font
+
+    ws = wb.create_sheet(title="report")
+    ws.column_dimensions["A"].width = 22
+    ws.column_dimensions["B"].width = 110
+    wrap = Alignment(wrap_text=True, vertical="top")
+    for label, text in front:
+        a, b = WriteOnlyCell(ws, neutralise_text(str(label))), WriteOnlyCell(ws, neutralise_text(str(text)))
+        a.font, a.alignment, b.alignment = Font(bold=True), wrap, wrap
+        ws.append([a, b])
+
+
+def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path, front: list[tuple[str, str]] | None = None) -> Path:
+    """Write one sheet per table (formula-safe) with a frozen header row, an autofilter, column widths
+    and number formats; ``front``: (label, text) rows of a first sheet named ``report`` (cover, caution,
+    summary). Raises ValueError if a table is too long for Excel."""
     from openpyxl import Workbook
+    from openpyxl.cell import WriteOnlyCell
+    from openpyxl.styles import Font
+    from openpyxl.utils import get_column_letter
 
     p = Path(path)
     p.parent.mkdir(parents=True, exist_ok=True)
     wb = Workbook(write_only=True)
+    if front:
+        _front_sheet(wb, front)
     for name, df in sheets.items():
         if len(df) + 1 > XLSX_MAX_ROWS:
             raise ValueError(f"table '{name}' has {len(df)} rows, more than an Excel sheet holds; use CSV")
         ws = wb.create_sheet(title=str(name)[:31])
         safe = prepare(df)
-        ws.append([str(c) for c in safe.columns])
+        ws.freeze_panes = "A2"
+        if safe.shape[1]:
+            ws.auto_filter.ref = f"A1:{get_column_letter(safe.shape[1])}{len(safe) + 1}"
+        for j, width in enumerate(_column_widths(safe), start=1):
+            ws.column_dimensions[get_column_letter(j)].width = width
+        head = []
+        for c in safe.columns:
+            cell = WriteOnlyCell(ws, str(c))
+            cell.font = Font(bold=True)
+            head.append(cell)
+        ws.append(head)
+        formats = {j: number_format(safe[c]) for j, c in enumerate(safe.columns)
+                   if pd.api.types.is_float_dtype(safe[c])}
         for rec in safe.itertuples(index=False, name=None):
-            ws.append([None if (isinstance(v, float) and np.isnan(v)) else v for v in rec])
+            row = [None if (isinstance(v, float) and np.isnan(v)) else v for v in rec]
+            for j, fmt in formats.items():
+                if row[j] is not None:
+                    cell = WriteOnlyCell(ws, row[j])
+                    cell.number_format = fmt
+                    row[j] = cell
+            ws.append(row)
     wb.save(p)
     return p

@@ -9,7 +9,9 @@ from __future__ import annotations
 import pandas as pd
 
 from tracescreen._internal.frames import plain_text
-from tracescreen.retest import outliers, qc_checks as qc, result_flags as flags, rows
+from tracescreen.retest import outliers, rows
+from tracescreen.retest import qc_checks as qc
+from tracescreen.retest import result_flags as flags
 from tracescreen.retest.calibration.checks import REASONS as CALIBRATION_REASONS
 from tracescreen.retest.labqc.reasons import REASONS as LAB_QC_REASONS
 from tracescreen.retest.options import REASONS, RetestOptions

@@ -32,9 +32,7 @@ def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
 
     References
     ----------
-    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Basic
-       References in Quality Control, vol. 16. Milwaukee: ASQC Quality Press. (|M| > 3.5 labelled
-       as potential outliers.)
+    [IglewiczHoaglin1993]_ (docs/references.md)
     """
     med = np.median(history, axis=1)
     dev = np.abs(history - med[:, None])
@@ -146,8 +144,7 @@ def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
 
     References
     ----------
-    .. [1] Iglewicz, B. and Hoaglin, D. C. (1993). How to Detect and Handle Outliers. ASQC Quality
-       Press.
+    [IglewiczHoaglin1993]_ (docs/references.md)
     """
     res = site_samples(results_from_screening(results))
     det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]

@@ -19,7 +19,14 @@ import pandas as pd
 
 from tracescreen._internal.text import format_date, format_number
 from tracescreen.retest.rows import (
-    RTOL, censored_value, empty_retest, results_from_screening, retest_rows, shown, site_samples, ug,
+    RTOL,
+    censored_value,
+    empty_retest,
+    results_from_screening,
+    retest_rows,
+    shown,
+    site_samples,
+    ug,
 )
 
 BLANK_TYPES = ("field_blank", "lab_blank")
@@ -75,14 +82,15 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
     pandas.DataFrame
         Retest rows, reason ``duplicate_disagrees`` (two rows per disagreeing pair).
 
+    The US EPA National Functional Guidelines [USEPA2020NFG]_ give no numeric criterion for field
+    duplicates (the 30 % is common practice of project plans). Their laboratory-duplicate rule has
+    the same shape, RPD <= 20 % when both results are >= 5 x the quantitation limit, else
+    |A - B| <= the quantitation limit (from memory); the laboratory QC review applies it to the
+    lab's own duplicates (retest reason ``lab_duplicate_disagrees``, :mod:`tracescreen.retest.labqc.precision`).
+
     References
     ----------
-    .. [1] US EPA (2020), National Functional Guidelines for Inorganic Superfund Methods Data Review
-       [USEPA2020NFG]: the guideline gives no numeric criterion for field duplicates (the 30 % is
-       common practice of project plans). Its laboratory-duplicate rule has the same shape, RPD
-       <= 20 % when both results are >= 5 x the quantitation limit, else |A - B| <= the
-       quantitation limit (from memory); the laboratory QC review applies it to the lab's own
-       duplicates (retest reason ``lab_duplicate_disagrees``, :mod:`tracescreen.retest.labqc.precision`).
+    [USEPA2020NFG]_ (docs/references.md)
     """
     res = results_from_screening(results)
     dup = res[res["sample_type"].eq("field_duplicate") & res["parent_sample_id"].fillna("").ne("")]
@@ -258,8 +266,7 @@ def holding_time_exceeded(results: pd.DataFrame, holding_times: dict | None = No
 
     References
     ----------
-    .. [1] US EPA, 40 CFR 136.3, Table II: Required containers, preservation techniques, and
-       holding times.
+    [CFR40-136]_ (docs/references.md)
     """
     holds = dict(HOLDING_TIMES if holding_times is None else holding_times)
     default = holds.pop("*", None)

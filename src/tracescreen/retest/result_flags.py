@@ -14,7 +14,15 @@ import pandas as pd
 
 from tracescreen._internal.text import format_date, format_number
 from tracescreen.retest.rows import (
-    RESULT_KEY, RTOL, SERIES_KEY, empty_retest, limit_label, retest_rows, single_sample_rows, site_samples, ug,
+    RESULT_KEY,
+    RTOL,
+    SERIES_KEY,
+    empty_retest,
+    limit_label,
+    retest_rows,
+    single_sample_rows,
+    site_samples,
+    ug,
 )
 from tracescreen.screening.uncertainty import uncertainty_decision
 
@@ -219,8 +227,7 @@ def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
 
     References
     ----------
-    .. [1] Bettencourt da Silva, R. and Williams, A. (eds.) (2021). Eurachem/CITAC Guide: Use of
-       uncertainty information in compliance assessment, 2nd ed. Eurachem.
+    [Eurachem2021]_ (docs/references.md)
     """
     if "uncertainty_ug_L" not in screening.columns:
         return empty_retest()

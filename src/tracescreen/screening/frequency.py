@@ -2,7 +2,7 @@
 
 Where a sampling point is monitored more than once a year, compliance with an inorganic MCL is
 decided on the running annual average of its results; where it is monitored once a year or less,
-on each single result (with a confirmation sample averaged in where the State requires one) [1]_.
+on each single result (with a confirmation sample averaged in where the State requires one) [CFR40-141]_.
 An entry says so with ``basis: running_annual_mean`` and ``infrequent_basis: single_sample``.
 
 Screening cannot see the monitoring schedule, only the sampling dates. A series (limit table,
@@ -12,7 +12,7 @@ its rows are then compared result by result (``basis`` becomes ``single_sample``
 
 References
 ----------
-.. [1] 40 CFR 141.23(i)(1)-(2), compliance with the MCLs for inorganic contaminants.
+[CFR40-141]_ (docs/references.md): 141.23(i)(1)-(2), compliance with the MCLs for inorganic contaminants.
 """
 
 from __future__ import annotations

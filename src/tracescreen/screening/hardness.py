@@ -36,8 +36,7 @@ def hardness_from_calcium_magnesium(calcium_mg_L, magnesium_mg_L):
 
     References
     ----------
-    .. [1] APHA, AWWA, WEF. Standard Methods for the Examination of Water and Wastewater,
-       Method 2340 B, Hardness by Calculation.
+    [SM2340B]_ (docs/references.md)
     """
     return CA_TO_CACO3 * np.asarray(calcium_mg_L, dtype=float) + MG_TO_CACO3 * np.asarray(magnesium_mg_L, dtype=float)
 

@@ -33,12 +33,7 @@ results that formed it (``periods.csv``).
 
 References
 ----------
-.. [1] 40 CFR 141.23(i): compliance with inorganic MCLs on a running annual average; 40 CFR
-   141.80(c)(1)-(3): lead and copper action levels on the 90th percentile of a monitoring period.
-.. [2] Hyndman, R. J. and Fan, Y. (1996). Sample quantiles in statistical packages. The American
-   Statistician 50(4): 361-365.
-.. [3] Helsel, D. R. (2012). Statistics for Censored Environmental Data Using Minitab and R, 2nd ed.
-   Wiley (substitution bounds; Kaplan-Meier).
+[CFR40-141]_, [HyndmanFan1996]_, [Helsel2012]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -18,9 +18,8 @@ import re
 import numpy as np
 import pandas as pd
 
-from tracescreen.limits.evaluate import is_formula
-
 from tracescreen._internal.frames import replace_at
+from tracescreen.limits.evaluate import is_formula
 from tracescreen.screening.status import classify
 
 _NUMBER = re.compile(r"^[+-]?(\d*)(?:\.(\d*))?(?:[eE][+-]?\d+)?$")

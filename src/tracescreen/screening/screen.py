@@ -19,12 +19,13 @@ import pandas as pd
 
 from tracescreen._internal.frames import entry_attribute, take_column
 from tracescreen._internal.memory import release_unused
-from tracescreen.limits import forms, load as limits_mod
+from tracescreen.limits import forms
+from tracescreen.limits import load as limits_mod
 from tracescreen.limits.in_force import round_criteria
 from tracescreen.screening import fractions, frequency, periods, rounding
-from tracescreen.screening.inputs import USED_COLUMNS, sample_inputs
 from tracescreen.screening.applicability import applicable_pairs, cross_fraction_pairs, in_force
 from tracescreen.screening.hardness import sample_hardness
+from tracescreen.screening.inputs import USED_COLUMNS, sample_inputs
 from tracescreen.screening.status import above_range, status_codes
 from tracescreen.vocabulary import REL_TOL, STATUS_CODE, STATUSES
 

@@ -38,8 +38,7 @@ def uncertainty_decision(screened: pd.DataFrame, guard_band_factor: float = 1.0)
 
     References
     ----------
-    .. [1] Eurachem/CITAC Guide: Use of uncertainty information in compliance assessment, 2nd ed.
-       (2021), decision rules with a guard band.
+    [Eurachem2021]_ (docs/references.md)
     """
     if not np.isfinite(guard_band_factor) or guard_band_factor < 0:
         raise ValueError("the guard band factor must be a number >= 0")

@@ -8,17 +8,15 @@ and a series' limit does not change when other series are in the same run.
 
 References
 ----------
-.. [1] Efron, B., Tibshirani, R.J. (1993). An Introduction to the Bootstrap. Chapman & Hall.
-.. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-   2nd ed. Wiley.
+[EfronTibshirani1993]_, [Helsel2012]_ (docs/references.md)
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from tracescreen.statistics.series import as_series, chunks
 from tracescreen._internal.parallel import ordered_map, workers
+from tracescreen.statistics.series import as_series, chunks
 
 
 def series_seed_keys(table) -> np.ndarray:
@@ -53,9 +51,7 @@ def bootstrap_ucl_km_grouped(
 
     References
     ----------
-    .. [1] Efron, B., Tibshirani, R.J. (1993). An Introduction to the Bootstrap. Chapman & Hall.
-    .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-       2nd ed. Wiley.
+    [EfronTibshirani1993]_, [Helsel2012]_ (docs/references.md)
     """
     x, nd = as_series(values, nondetect)
     keys = np.arange(n_groups, dtype=np.uint64) if keys is None else np.asarray(keys, dtype=np.uint64)

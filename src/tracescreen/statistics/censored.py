@@ -19,11 +19,7 @@ over padded arrays (:func:`tracescreen.statistics.series.chunks`).
 
 References
 ----------
-.. [1] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-   2nd ed. Wiley, Hoboken NJ.
-.. [2] Helsel, D.R., Hirsch, R.M., Ryberg, K.R., Archfield, S.A., Gilroy, E.J. (2020).
-   Statistical Methods in Water Resources. USGS Techniques and Methods 4-A3.
-   https://doi.org/10.3133/tm4A3
+[Helsel2012]_, [HelselEtAl2020]_ (docs/references.md)
 """
 
 from __future__ import annotations
@@ -135,12 +131,7 @@ def kaplan_meier(values, nondetect, probs=PROBS) -> dict:
 
     References
     ----------
-    .. [1] Kaplan, E.L., Meier, P. (1958). Nonparametric estimation from incomplete
-       observations. J. Am. Stat. Assoc. 53: 457-481.
-    .. [2] Efron, B. (1967). The two sample problem with censored data. Proc. 5th Berkeley
-       Symposium on Mathematical Statistics and Probability, 4: 831-853.
-    .. [3] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-       2nd ed., ch. 6. Wiley.
+    [KaplanMeier1958]_, [Efron1967]_, [Helsel2012]_ (docs/references.md)
     """
     x, nd = as_series(values, nondetect)
     out = _km_rows(x[None, :], nd[None, :], np.ones((1, x.size), bool), tuple(probs))
@@ -206,8 +197,7 @@ def substitute(values, nondetect, fraction: float) -> np.ndarray:
 
     References
     ----------
-    .. [1] Helsel, D.R. (2006). Fabricating data: how substituting values for nondetects can
-       ruin results, and what can be done about it. Chemosphere 65: 2434-2439.
+    [Helsel2006]_ (docs/references.md)
     """
     x, nd = as_series(values, nondetect)
     return np.where(nd, fraction * x, x)

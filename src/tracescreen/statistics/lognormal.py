@@ -31,10 +31,7 @@ def lognormal_mle(values, nondetect, probs=PROBS) -> dict:
 
     References
     ----------
-    .. [1] Cohen, A.C. (1959). Simplified estimators for the normal distribution when samples are
-       singly censored or truncated. Technometrics 1: 217-237.
-    .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-       2nd ed., ch. 5. Wiley.
+    [Cohen1959]_, [Helsel2012]_ (docs/references.md)
     """
     from scipy import optimize, stats  # imported on use (a slow import)
     x, nd = as_series(values, nondetect)

@@ -20,22 +20,7 @@ loop over series (:func:`tracescreen.statistics.series.chunks` packs them in buc
 
 References
 ----------
-.. [1] Mann, H.B. (1945). Nonparametric tests against trend. Econometrica 13: 245-259.
-.. [2] Kendall, M.G. (1975). Rank Correlation Methods, 4th ed. Griffin, London.
-.. [3] Daniels, H.E. (1944). The relation between measures of correlation in the universe of
-   sample permutations. Biometrika 33: 129-135.
-.. [4] Gilbert, R.O. (1987). Statistical Methods for Environmental Pollution Monitoring.
-   Van Nostrand Reinhold, New York. Ch. 16-17.
-.. [5] Sen, P.K. (1968). Estimates of the regression coefficient based on Kendall's tau.
-   J. Am. Stat. Assoc. 63: 1379-1389.
-.. [6] Hirsch, R.M., Slack, J.R., Smith, R.A. (1982). Techniques of trend analysis for monthly
-   water quality data. Water Resources Research 18(1): 107-121.
-.. [7] Hirsch, R.M., Slack, J.R. (1984). A nonparametric trend test for seasonal data with
-   serial dependence. Water Resources Research 20(6): 727-732.
-.. [8] Akritas, M.G., Murphy, S.A., LaValley, M.P. (1995). The Theil-Sen estimator with doubly
-   censored data and applications to astronomy. J. Am. Stat. Assoc. 90: 170-177.
-.. [9] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-   2nd ed., ch. 12. Wiley.
+[Mann1945]_, [Kendall1975]_, [Daniels1944]_, [Gilbert1987]_, [Sen1968]_, [HirschEtAl1982]_, [HirschSlack1984]_, [AkritasEtAl1995]_, [Helsel2012]_ (docs/references.md)
 """
 
 from __future__ import annotations

@@ -42,10 +42,7 @@ def ros(values, nondetect) -> np.ndarray:
 
     References
     ----------
-    .. [1] Helsel, D.R., Cohn, T.A. (1988). Estimation of descriptive statistics for multiply
-       censored water quality data. Water Resources Research 24(12): 1997-2004.
-    .. [2] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-       2nd ed., ch. 6. Wiley.
+    [HelselCohn1988]_, [Helsel2012]_ (docs/references.md)
     """
     x, nd = as_series(values, nondetect)
     return _ros_rows(x[None, :], nd[None, :], np.ones((1, x.size), bool))[0]

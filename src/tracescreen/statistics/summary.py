@@ -10,12 +10,7 @@ not averaged in), so that each sampling event counts once.
 
 References
 ----------
-.. [1] Helsel, D.R. (2012). Statistics for Censored Environmental Data Using Minitab and R,
-   2nd ed. Wiley. (Rules of thumb for the share of non-detects: ch. 1 and 6.)
-.. [2] Helsel, D.R., Hirsch, R.M., Ryberg, K.R., Archfield, S.A., Gilroy, E.J. (2020).
-   Statistical Methods in Water Resources. USGS Techniques and Methods 4-A3.
-.. [3] Clopper, C.J., Pearson, E.S. (1934). The use of confidence or fiducial limits illustrated
-   in the case of the binomial. Biometrika 26: 404-413.
+[Helsel2012]_, [HelselEtAl2020]_, [ClopperPearson1934]_ (docs/references.md)
 """
 
 from __future__ import annotations
@@ -161,7 +156,7 @@ def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndar
 
     References
     ----------
-    .. [1] Clopper, C.J., Pearson, E.S. (1934). Biometrika 26: 404-413.
+    [ClopperPearson1934]_ (docs/references.md)
     """
     k, n = np.asarray(k, float), np.asarray(n, float)
     a = (1 - confidence) / 2

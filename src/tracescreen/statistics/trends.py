@@ -15,7 +15,11 @@ from tracescreen._internal.text import join_notes
 from tracescreen.statistics.mann_kendall import TREND_COLUMNS, mann_kendall_grouped
 from tracescreen.statistics.options import MIN_VALUES
 from tracescreen.statistics.series import (
-    censored_series, date_from_decimal_year, decimal_years, group_codes, site_samples,
+    censored_series,
+    date_from_decimal_year,
+    decimal_years,
+    group_codes,
+    site_samples,
 )
 
 TABLE_COLUMNS = ["site_id", "analyte", "fraction", "n", "n_nondetect", "first_sampled",

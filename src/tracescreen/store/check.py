@@ -5,7 +5,7 @@ one consistent state even while an import is running in another process.
 
 References
 ----------
-.. [1] SQLite, "PRAGMA integrity_check", https://www.sqlite.org/pragma.html#pragma_integrity_check
+[SQLitePragma]_ (docs/references.md)
 """
 
 from __future__ import annotations

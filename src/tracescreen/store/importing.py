@@ -86,7 +86,7 @@ class Importing:
         say = progress or (lambda msg: None)
         site_ids = set(sites["site_id"]) if sites is not None else None
         sites_name = Path(sites_path).name if sites_path else "the sites file"
-        known = self.knownsha256_hex()
+        known = self.known_sha256()
         batches: list[FileBatch] = []
         skipped: list[FileOutcome] = []
         seen: dict[str, str] = {}
@@ -118,7 +118,7 @@ class Importing:
         started = now()
         with write(self.con):
             say("transaction begun")
-            known = self.knownsha256_hex()  # again, now under the write lock
+            known = self.known_sha256()  # again, now under the write lock
             todo = [b for b in batches if b.sha256 not in known]
             skipped += [FileOutcome(b.name, b.sha256, "already imported",
                                     note="imported meanwhile by another process")

@@ -46,9 +46,11 @@ class ImportSummary:
     files: list[FileOutcome]
 
     def total(self, attr: str) -> int:
+        """Sum of ``attr`` over the files of the import."""
         return sum(getattr(f, attr) for f in self.files)
 
     def lines(self) -> list[str]:
+        """The import's outcome in lines of text, one per file and a total."""
         out = []
         for f in self.files:
             if f.status != "stored":

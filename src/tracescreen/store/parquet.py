@@ -7,9 +7,7 @@ temporary folder beside ``dest`` and renamed into place, so ``dest`` is either c
 
 References
 ----------
-.. [1] Apache Parquet format specification, https://parquet.apache.org/docs/
-.. [2] Apache Arrow, "Tabular Datasets: writing partitioned datasets",
-   https://arrow.apache.org/docs/python/dataset.html
+[Parquet]_ (docs/references.md)
 """
 
 from __future__ import annotations

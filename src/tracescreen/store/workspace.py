@@ -1,14 +1,14 @@
 """The workspace: every imported campaign in one SQLite database file, with provenance.
 
 A workspace is a directory holding ``workspace.sqlite``. Each import runs in one SQLite
-transaction [1]_, so it lands whole or not at all, whatever happens to the process (a bad file,
-a crash, SIGKILL). The database runs in write-ahead-log mode [2]_: a reader (the dashboard,
+transaction [SQLiteCommit]_, so it lands whole or not at all, whatever happens to the process (a bad file,
+a crash, SIGKILL). The database runs in write-ahead-log mode [SQLiteWAL]_: a reader (the dashboard,
 ``screen``) sees the state before an import or after it, never part of it, and is not blocked.
 
 Relational tables hold what is small and queried (imports, files, sheets, rejected rows with
 their reasons and cells, supersessions, screening runs). Each lab file's bytes are kept
 (zstd-compressed, checked against the file's SHA-256), so the original cells of every row stay
-available exactly as reported. The accepted results are stored column-wise, one Arrow IPC [3]_
+available exactly as reported. The accepted results are stored column-wise, one Arrow IPC [ArrowIPC]_
 file per lab file split into BLOB parts, so that they load back into the accepted-results
 DataFrame faster than re-reading the lab files.
 
@@ -22,9 +22,7 @@ was: a revision cannot withdraw a result.
 
 References
 ----------
-.. [1] SQLite, "Atomic Commit In SQLite", https://www.sqlite.org/atomiccommit.html
-.. [2] SQLite, "Write-Ahead Logging", https://www.sqlite.org/wal.html
-.. [3] Apache Arrow, "Arrow IPC file format", https://arrow.apache.org/docs/format/Columnar.html
+[SQLiteCommit]_, [SQLiteWAL]_, [ArrowIPC]_ (docs/references.md)
 """
 
 from __future__ import annotations
@@ -66,6 +64,7 @@ class Workspace(Importing):
         self.directory, self.path, self.con = directory, path, con
 
     def close(self) -> None:
+        """Close the database connection."""
         self.con.close()
 
     def __enter__(self) -> "Workspace":
@@ -94,7 +93,8 @@ class Workspace(Importing):
         with self.reading():
             return fn(self.con)
 
-    def knownsha256_hex(self) -> set[str]:
+    def known_sha256(self) -> set[str]:
+        """SHA-256 of every file stored in the workspace."""
         return {r[0] for r in self.con.execute("SELECT sha256 FROM files")}
 
     # ---- reading back ----------------------------------------------------------------------
@@ -146,14 +146,17 @@ class Workspace(Importing):
         return df
 
     def imports(self) -> pd.DataFrame:
+        """Every import: times, tool version, read options, inputs with SHA-256, row counts."""
         return pd.read_sql_query("SELECT * FROM imports ORDER BY import_id", self.con)
 
     def files(self) -> pd.DataFrame:
+        """Every stored file with its import, SHA-256, counts and sheets."""
         return pd.read_sql_query(
             "SELECT f.*, (SELECT group_concat(sheet, ', ') FROM sheets s WHERE s.file_id = f.file_id) "
             "AS sheets FROM files f ORDER BY file_id", self.con)
 
     def sheets(self) -> pd.DataFrame:
+        """Every stored sheet: header row, rows read, accepted, rejected and blank."""
         return pd.read_sql_query(
             "SELECT f.name AS file, f.path, s.sheet, f.sha256, s.header_row, s.rows_read, "
             "s.rows_accepted AS accepted, s.rows_rejected AS rejected, s.blank_rows, f.import_id "
@@ -232,9 +235,11 @@ class Workspace(Importing):
         return loading.LoadResult(acc, rejected, files, warnings, set_aside)
 
     def last_import_id(self) -> int | None:
+        """The id of the latest import (None in an empty workspace)."""
         return self.con.execute("SELECT max(import_id) FROM imports").fetchone()[0]
 
     def screening_runs(self) -> pd.DataFrame:
+        """Every recorded screening run with the SHA-256 of its limit tables and sites file."""
         return pd.read_sql_query("SELECT * FROM screening_runs ORDER BY run_id", self.con)
 
     # ---- integrity -------------------------------------------------------------------------

@@ -72,6 +72,7 @@ def review_blanks(qc: pd.DataFrame, windows: dict[str, Window] | None = None) ->
 
 def _blank_window(window: Window) -> Window:
     from dataclasses import replace
+
     from tracescreen.retest.labqc.windows import Tier
 
     return replace(window, below=(Tier(None, "J-", "UJ"),), above=(Tier(None, "U", ""),))

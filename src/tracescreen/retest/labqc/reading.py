@@ -37,6 +37,7 @@ from tracescreen.io.qualifiers import NONDETECT_MEANINGS, has_meaning, read_colu
 from tracescreen.io.units import factors_for
 from tracescreen.retest.labqc.elements import classify
 
+
 class QcFileError(ValueError):
     """A QC file that cannot be read (the message names the file)."""
 

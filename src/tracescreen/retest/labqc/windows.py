@@ -134,7 +134,7 @@ def window_for(element: str, mercury: bool = False, windows: dict[str, Window] |
 
 
 def _below(x: np.ndarray, edge: np.ndarray) -> np.ndarray:
-    """x < edge beyond the relative tolerance (NaN edge: never)."""
+    """X < edge beyond the relative tolerance (NaN edge: never)."""
     with np.errstate(invalid="ignore"):
         return x < edge - REL_TOL * np.maximum(np.abs(edge), 1.0)
 

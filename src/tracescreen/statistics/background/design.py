@@ -85,6 +85,7 @@ class Design:
         return out
 
     def check(self, source: str = "design") -> None:
+        """Raise ValueError naming ``source`` and the setting when the design cannot be used."""
         problems = []
         if not 0 < self.swfpr < 1:
             problems.append(f"swfpr {self.swfpr} is not between 0 and 1")

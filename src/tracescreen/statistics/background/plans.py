@@ -88,6 +88,7 @@ class RetestPlan:
 
     @property
     def label(self) -> str:
+        """The retest plan in words (e.g. ``1-of-2``)."""
         base = {"k-of-m": f"{self.k}-of-{self.m}", "california": f"california-of-{self.m}",
                 "modified-california": "modified-california"}[self.rule]
         return base if self.order == 1 else f"{base}, order {self.order}"
@@ -107,6 +108,7 @@ class RetestPlan:
         return p + (1 - p) * _at_least(2, 3)
 
     def with_order(self, order: int) -> "RetestPlan":
+        """The same retest rule with another ``order`` (see :class:`RetestPlan`)."""
         return RetestPlan(self.rule, self.k, self.m, order)
 
 

@@ -25,7 +25,6 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-
 from scipy import stats
 
 from .checks import choose_distribution, describe_sets, pooled_sd, spatial_variability

@@ -57,6 +57,9 @@ def standards_for_series(screened: pd.DataFrame, series: pd.DataFrame) -> pd.Dat
         return pd.DataFrame(columns=SERIES + ["limit_table", "entry_id", "standard_ug_L", "standard_basis"])
     s = screened[screened["limit_ug_L"].notna()]
     s = s[s["sample_type"].astype(str) == "sample"] if "sample_type" in s else s
+    if "limit_fraction" in s:  # a standard of the series' own fraction (no cross-fraction decisions here)
+        lf = s["limit_fraction"].astype(str)
+        s = s[(lf == s["fraction"].astype(str)) | (lf == "") | s["limit_fraction"].isna()]
     keys = SERIES + ["limit_table", "entry_id"]
     frame = pd.DataFrame({k: s[k].astype(str).to_numpy() for k in keys})
     frame["limit_ug_L"] = s["limit_ug_L"].to_numpy(float)

@@ -1,0 +1,77 @@
+"""Static images of the report's charts, and the browser that draws them and prints the PDF.
+
+Charts are plotly figures drawn once to SVG (HTML, PDF) or PNG (Word) by kaleido in a headless
+Chromium or Chrome, with plotly.js from the installed plotly package and no MathJax, so nothing is
+fetched from the network. The browser is :func:`find_browser`: ``TRACESCREEN_BROWSER`` (or
+``BROWSER_PATH``) if set, else the first of ``chromium``, ``chromium-browser``, ``google-chrome``,
+``google-chrome-stable``, ``chrome``, ``msedge`` on the PATH.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import os
+import shutil
+
+BROWSERS = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome", "msedge")
+#: Parallel browser tabs drawing charts.
+TABS = 2
+#: PNG pixels per CSS pixel (Word images stay sharp when printed).
+PNG_SCALE = 2
+
+
+class ReportError(RuntimeError):
+    """The report cannot be written as asked (no browser for charts or PDF, a PDF that failed)."""
+
+
+def find_browser() -> str:
+    """Path of the Chromium or Chrome that draws charts and prints PDFs.
+
+    Raises
+    ------
+    ReportError
+        When none is found (the message says how to install one or to go without charts).
+    """
+    for var in ("TRACESCREEN_BROWSER", "BROWSER_PATH"):
+        path = os.environ.get(var)
+        if path:
+            if shutil.which(path) or os.path.isfile(path):
+                return shutil.which(path) or path
+            raise ReportError(f"{var}={path!r}: no browser there")
+    for name in BROWSERS:
+        path = shutil.which(name)
+        if path:
+            return path
+    raise ReportError("charts and PDF need Chromium or Chrome: install one (Debian: apt-get install chromium) "
+                      "or set TRACESCREEN_BROWSER to its path; or write the report with --charts none and without --pdf")
+
+
+async def _draw(figures: list, fmt: str, browser: str) -> list[bytes]:
+    import kaleido
+
+    async with kaleido.Kaleido(n=min(TABS, max(len(figures), 1)), mathjax=False, path=browser) as k:
+        jobs = [k.calc_fig(f.figure, opts={"format": fmt, "width": f.width, "height": f.height,
+                                             "scale": PNG_SCALE if fmt == "png" else 1}) for f in figures]
+        return await asyncio.gather(*jobs)
+
+
+def draw(figures: list, formats=("svg",)) -> None:
+    """Draw each :class:`tracescreen.report.document.Figure` in each format into its ``images``.
+
+    Raises
+    ------
+    ReportError
+        No browser, or the browser failed to draw.
+    """
+    todo = [f for f in figures if any(fmt not in f.images for fmt in formats)]
+    if not todo:
+        return
+    browser = find_browser()
+    for fmt in formats:
+        need = [f for f in todo if fmt not in f.images]
+        try:
+            images = asyncio.run(_draw(need, fmt, browser))
+        except Exception as exc:  # the browser's own errors are many kinds
+            raise ReportError(f"drawing the charts with {browser} failed: {exc}") from None
+        for f, data in zip(need, images):
+            f.images[fmt] = data
