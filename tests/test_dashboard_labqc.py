@@ -78,9 +78,10 @@ def test_the_retest_list_carries_the_lab_qc_reasons(session):
 
 
 def test_no_qc_rows_no_review():
+    from dashboard_support import scenario_inputs
+
     from dashboard.state.session import build_session
     from dashboard.views.labqc import batch_options, lab_qc
-    from dashboard_support import scenario_inputs
 
     review, _, _ = lab_qc(build_session(scenario_inputs()))
     assert review is None and batch_options(review) == []
@@ -103,9 +104,8 @@ def labqc_url():
 
 
 @pytest.mark.browser
-def test_pick_a_batch_click_a_qc_value_see_its_results(labqc_url, browser, page):
+def test_pick_a_batch_click_a_qc_value_see_its_results(labqc_url, page):  # noqa: F811 (the shared fixture)
     from playwright.sync_api import expect
-
     from test_dashboard_browser import _shot
 
     page.goto(labqc_url + "/labqc")

@@ -7,9 +7,18 @@ from dashboard.pages._shared import PageCallbacks
 from dashboard.render.components import data_table, page_header
 from dashboard.render.quality import html_table
 from dashboard.state.store import current_session
-from dashboard.views.labqc import (AFFECTED_COLUMNS, VERDICT_COLUMNS, affected_results,
-                                   batch_options, batch_table, calibration_table, element_options, lab_qc, narrative,
-                                   verdict_table)
+from dashboard.views.labqc import (
+    AFFECTED_COLUMNS,
+    VERDICT_COLUMNS,
+    affected_results,
+    batch_options,
+    batch_table,
+    calibration_table,
+    element_options,
+    lab_qc,
+    narrative,
+    verdict_table,
+)
 
 dash.register_page(__name__, path="/labqc", name="Lab QC", order=4.5, title="tracescreen · lab QC")
 callbacks = PageCallbacks()
