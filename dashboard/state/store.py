@@ -217,7 +217,7 @@ class DataStore:
             files=pd.concat(files, ignore_index=True),
             sources=base.sources + tuple(f"upload {t}" for t in kept),
             cross_fraction=self.base_inputs().cross_fraction,
-            options=base.options, qc_files=base.qc_files, calibration_files=base.calibration_files,
+            options=base.reading, qc_files=base.qc_files, calibration_files=base.calibration_files,
         )
         del merged
         return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)
