@@ -13,22 +13,31 @@ import subprocess
 import sys
 
 from .common import add_data_options
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen dashboard --workspace out/demo-workspace --limits limits --limits scenario_data/limits "
+    "--sites scenario_data/sites.csv --port 8060",
+]
 
 
 def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     """The dashboard's options (shared by ``tracescreen dashboard`` and ``python -m dashboard``)."""
     add_data_options(p, results_required=False)
-    p.add_argument("--results", nargs="+", default=[], dest="results_option", metavar="FILE",
+    group(p, "inputs").add_argument("--results", nargs="+", default=[], dest="results_option", metavar="FILE",
                    help="lab result files (CSV or XLSX), as an option instead of positional")
-    p.add_argument("--host", default="127.0.0.1",
-                   help="address to listen on; the default serves this machine only")
-    p.add_argument("--port", type=int, default=8050, help="port to listen on")
-    p.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
-    p.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
-    p.add_argument("--qc", metavar="FILE", action="append", default=[],
-                   help="a separate laboratory QC summary file for the Lab QC page (repeat for several)")
-    p.add_argument("--calibration", metavar="FILE", action="append", default=[],
-                   help="the laboratory's calibration file for the Lab QC page (repeat for several)")
+    server = group(p, "server")
+    server.add_argument("--host", default="127.0.0.1",
+                        help="address to listen on; the default serves this machine only (there is no login: "
+                             "never serve beyond a trusted network)")
+    server.add_argument("--port", type=int, default=8050, help="port to listen on")
+    server.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
+    server.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+    lab = group(p, "labqc")  # the Lab QC page
+    lab.add_argument("--qc", metavar="FILE", action="append", default=[],
+                     help="a separate laboratory QC summary file (repeat for several)")
+    lab.add_argument("--calibration", metavar="FILE", action="append", default=[],
+                     help="the laboratory's calibration file (repeat for several)")
     from .wells import add_wells_options
 
     add_wells_options(p, design_options=False)
@@ -43,8 +52,7 @@ def register(sub) -> None:
     p = sub.add_parser(
         "dashboard", help="start the dashboard (a local web page) on results and limit tables",
         description="Start the tracescreen dashboard: overview matrix, map, site charts, exceedances, "
-                    "retest list, data quality, limit tables and uploads, at http://HOST:PORT/.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+                    "retest list, data quality, limit tables and uploads, at http://HOST:PORT/.")
     add_dashboard_options(p)
     p.set_defaults(func=run)
 
