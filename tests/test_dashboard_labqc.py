@@ -10,8 +10,6 @@ Check values: the engine's :func:`tracescreen.retest.labqc.review.review_load` o
 
 from __future__ import annotations
 
-import threading
-
 import pytest
 from dashboard_support import SCENARIO, scenario_paths
 
@@ -90,37 +88,47 @@ def test_no_qc_rows_no_review():
 # ---------------------------------------------------------------- in the browser
 @pytest.fixture(scope="module")
 def labqc_url():
-    from werkzeug.serving import make_server
+    from browser_support import serve
 
     from dashboard.app import create_app
 
-    app = create_app(inputs=_inputs())
-    server = make_server("127.0.0.1", 0, app.server, threaded=True)
-    thread = threading.Thread(target=server.serve_forever, daemon=True)
-    thread.start()
-    yield f"http://127.0.0.1:{server.server_port}"
-    server.shutdown()
-    thread.join(5)
+    with serve(create_app(inputs=_inputs())) as url:
+        yield url
+
+
+@pytest.fixture(scope="module")
+def browser():
+    from browser_support import CHROMIUM, chromium
+
+    if not CHROMIUM.exists():  # pragma: no cover - .ci/run installs it
+        pytest.skip("Debian chromium is not installed (apt-get install chromium)")
+    with chromium() as b:
+        yield b
+
+
+@pytest.fixture
+def page(browser):
+    from browser_support import new_page
+
+    with new_page(browser) as pg:
+        yield pg
 
 
 @pytest.mark.browser
-def test_pick_a_batch_click_a_qc_value_see_its_results(labqc_url, page):  # noqa: F811 (the shared fixture)
+def test_pick_a_batch_click_a_qc_value_see_its_results(labqc_url, page):
+    from browser_support import shot
     from playwright.sync_api import expect
-    from test_dashboard_browser import _shot
 
     page.goto(labqc_url + "/labqc")
     expect(page.locator("#lq-batches-summary")).to_contain_text("20 with laboratory QC rows", timeout=30_000)
     page.locator("#lq-batch").click()
     page.get_by_role("option", name="FLB-2022-08", exact=False).click()
     expect(page.locator("#lq-narrative")).to_contain_text("zinc matrix spike (FL-1192MS): recovery 62 %", timeout=20_000)
-    first = page.locator("#lq-verdicts td[data-dash-column='element_name']").first
+    first = page.locator("#lq-verdicts .ag-row[row-index='0'] .ag-cell[col-id='element_name']").first
     expect(first).to_have_text("matrix spike")
     first.click()
     expect(page.locator("#lq-affected-count")).to_have_text("8 results qualified by this QC value", timeout=20_000)
-    quals = page.locator("#lq-affected td[data-dash-column='qualifier_given']").all_inner_texts()
+    quals = page.locator("#lq-affected .ag-cell[col-id='qualifier_given']").all_inner_texts()
     assert set(quals) <= {"J-", "UJ"} and len(quals) == 8
-    _shot(page, "labqc")
+    shot(page, "labqc")
     assert page.js_errors == []
-
-
-from test_dashboard_browser import browser, page  # noqa: E402,F401  (the shared Chromium fixtures)
