@@ -21,6 +21,8 @@ DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
                 --columns scenario_data/columns_eastbank.yaml
 
 DEMO_WS      := out/demo-workspace
+# the demo laboratory's QC summary (the Lab QC page, and the lab QC review of screen and report)
+DEMO_QC      := --qc scenario_data/lab_qc_fernleigh_2021-2025.csv
 # where `make run` serves the dashboard: make run PORT=8060 HOST=127.0.0.1 (HOST=0.0.0.0 opens it to the
 # network: the dashboard has no login, so only on a trusted network; README "Serving the dashboard")
 PORT         ?= 8050
@@ -31,13 +33,13 @@ run: setup
 	$(VENV)/bin/tracescreen import $(DEMO_RESULTS) --workspace $(DEMO_WS) --columns scenario_data/columns_eastbank.yaml \
 		--sites scenario_data/sites.csv
 	$(VENV)/bin/tracescreen dashboard --workspace $(DEMO_WS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
-		--host $(HOST) --port $(PORT)
+		$(DEMO_QC) --host $(HOST) --port $(PORT)
 
 screen: setup
-	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo
+	$(VENV)/bin/tracescreen screen $(DEMO_DATA) $(DEMO_QC) --out out/demo
 
 report: setup
-	$(VENV)/bin/tracescreen report $(DEMO_DATA) --cover scenario_data/report_cover.yaml --out out/demo/report.html \
+	$(VENV)/bin/tracescreen report $(DEMO_DATA) $(DEMO_QC) --cover scenario_data/report_cover.yaml --out out/demo/report.html \
 		--pdf out/demo/report.pdf --docx out/demo/report.docx --xlsx out/demo/report.xlsx
 
 test: setup

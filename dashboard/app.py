@@ -23,7 +23,8 @@ LOG = logging.getLogger("tracescreen.dashboard")
 
 
 def create_app(results=None, limits=None, sites=None, columns=None, *, options=None, workspace=None,
-               cross_fraction: bool = True, wells=None, inputs: Inputs | None = None,
+               cross_fraction: bool = True, wells=None, inputs: Inputs | None = None, qc_files=(),
+               calibration_files=(),
                max_upload_bytes: int = DEFAULT_MAX_UPLOAD_BYTES, upload_dir=None,
                preload: bool = True, overlays=()) -> Dash:
     """Build the dashboard on lab result files and limit tables.
@@ -56,12 +57,16 @@ def create_app(results=None, limits=None, sites=None, columns=None, *, options=N
         Load and screen the base data now rather than on the first request.
     overlays : sequence of paths
         GeoJSON files drawn under the sites on the map (catchment, rivers, site boundaries).
+    qc_files, calibration_files : list of paths
+        Laboratory QC summary files and calibration files for the Lab QC page (the QC rows of the
+        result files are reviewed without them).
     """
     if inputs is None:
         if (results is None and workspace is None) or limits is None:
             raise ValueError("create_app needs result files (or a workspace) and limit tables (or inputs=...)")
         def base():
-            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction, wells)
+            return load_inputs(results, limits, sites, columns, options, workspace, cross_fraction, wells,
+                               qc_files, calibration_files)
     else:
         base = inputs
     store = DataStore(base, upload_dir=upload_dir, max_upload_bytes=max_upload_bytes, workspace=workspace,

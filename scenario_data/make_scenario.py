@@ -175,6 +175,61 @@ def main() -> None:
     write_fernleigh(fl_rows[1], HERE / "lab_results_fernleigh_2021-2025.csv", with_uncertainty=True, bad=False)
     write_eastbank(eb_rows, HERE / "lab_results_eastbank.xlsx")
     write_sites(HERE / "sites.csv")
+    write_lab_qc(fl_rows[1], HERE / "lab_qc_fernleigh_2021-2025.csv")
+
+
+#: scripted QC events of the demo's QC summary (each gives the Lab QC review something to find):
+#: batch, analyte, element -> recovery % (or, for a blank, its result in ug/L)
+QC_EVENTS = {
+    ("FLB-2021-11", "cadmium", "lcs"): 45.0,       # control sample failed: the batch's cadmium rejected (R)
+    ("FLB-2022-08", "zinc", "ms"): 62.0,           # matrix interference: zinc biased low (J- / UJ)
+    ("FLB-2022-08", "zinc", "msd"): 64.0,
+    ("FLB-2023-05", "lead", "ccv"): 113.0,         # calibration drifted high: lead detects J+
+    ("FLB-2024-02", "copper", "method_blank"): 1.5,  # contaminated blank: low copper results U
+}
+QC_METALS = ("zinc", "cadmium", "copper", "lead", "nickel", "arsenic", "chromium", "mercury")
+QC_CODES = {"method_blank": "MB", "lcs": "LCS", "ms": "MS", "msd": "MSD", "ccv": "CCV"}
+
+
+def write_lab_qc(rows, path: Path) -> None:
+    """The QC summary Fernleigh sends with its 2021-2025 certificates (invented): per batch and metal
+    (total fraction) a method blank, an LCS, an MS/MSD pair on the batch's Ashby Weir sample and a CCV,
+    with the laboratory's own limits. Its own seed: the other demo files do not change with it."""
+    rng = np.random.default_rng(SEED + 15)
+    header = ["Batch", "Laboratory", "QC Type", "QC Sample", "Parent Sample", "Analyte", "Fraction", "Units",
+              "Result", "True Value", "Spike Added", "Original Result", "Lower Limit", "Upper Limit", "RPD Limit",
+              "Detection Limit", "Quantitation Limit"]
+    lab = "Fernleigh Laboratories (invented)"
+    parents = {}
+    for r in rows:
+        if r["site"] == "KR05" and r["stype"] == "sample" and r["fraction"] == "total":
+            parents.setdefault((r["batch"], r["analyte"]), r)
+    with path.open("w", newline="", encoding="utf-8") as fh:
+        fh.write("Fernleigh Laboratories (invented) - QC summary, Kestrel catchment programme 2021-2025\n")
+        w = csv.writer(fh)
+        w.writerow(header)
+        for batch in sorted({r["batch"] for r in rows}):
+            for a in QC_METALS:
+                parent = parents.get((batch, a))
+                dl = parent["dl"] if parent else 0.1
+                ql = round(dl * 4, 6)
+                spike = 100.0 if a == "zinc" else 2.0 if a == "mercury" else 20.0
+                blank = QC_EVENTS.get((batch, a, "method_blank"))
+                w.writerow([batch, lab, "MB", f"{batch}-MB", "", FL_NAMES[a], "Total", "ug/L",
+                            fmt(blank) if blank else f"<{fmt(dl)}", "", "", "", "", "", "", fmt(dl), fmt(ql)])
+                rec = QC_EVENTS.get((batch, a, "lcs"), float(rng.normal(100, 4)))
+                w.writerow([batch, lab, "LCS", f"{batch}-LCS", "", FL_NAMES[a], "Total", "ug/L",
+                            fmt(spike * rec / 100), fmt(spike), "", "", 85, 115, "", fmt(dl), fmt(ql)])
+                if parent:
+                    orig = parent["value"] if parent["value"] >= dl else 0.0
+                    for el in ("ms", "msd"):
+                        rec = QC_EVENTS.get((batch, a, el), float(rng.normal(100, 6)))
+                        w.writerow([batch, lab, QC_CODES[el], f"{parent['sample']}{QC_CODES[el]}", parent["sample"],
+                                    FL_NAMES[a], "Total", "ug/L", fmt(orig + spike * rec / 100), "", fmt(spike),
+                                    fmt(orig) if orig else f"<{fmt(dl)}", 75, 125, 20, fmt(dl), fmt(ql)])
+                rec = QC_EVENTS.get((batch, a, "ccv"), float(rng.normal(100, 3)))
+                w.writerow([batch, lab, "CCV", f"{batch}-CCV", "", FL_NAMES[a], "Total", "ug/L",
+                            fmt(50 * rec / 100), "50", "", "", "", "", "", fmt(dl), fmt(ql)])
 
 
 #: site attributes that scope limit entries (README "Input: sites"): the invented catchment's streams

@@ -87,3 +87,11 @@ def test_unreadable_qc_files_name_the_file(tmp_path):
     p.write_text("a,b\n1,2\n", encoding="utf-8")
     with pytest.raises(ValueError, match="notes.csv: no recognisable QC columns"):
         read_qc_file(p)
+
+
+def test_a_less_than_result_is_a_nondetect_at_that_level():
+    # "<2" in a blank's result cell is not a 2 ug/L contamination: not detected, DL 2 (common practice)
+    q = qc_from_cells(_cells(**{"QC Type": ["MB", "MB"], "QC Sample": ["B-MB", "B-MB"], "Analyte": ["Zinc", "Copper"],
+                                "Result": ["<2", "1.5"], "Unit": ["ug/L", "ug/L"], "Detection Limit": ["", "0.5"]}))
+    assert q["detected"].tolist() == [False, True]
+    assert q["detection_limit_ug_L"].tolist() == [2.0, 0.5] and q["qc_sample_id"].tolist() == ["B-MB", "B-MB"]

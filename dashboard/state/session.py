@@ -43,6 +43,8 @@ class Inputs:
     set_aside: pd.DataFrame | None = None  # rows that are not results to screen (lab QC, other analytes)
     cross_fraction: bool = True  # screening option: decide across fractions where certain
     wells: Any = None  # tracescreen.pipeline.WellsOptions: wells against background, or None
+    qc_files: tuple = ()  # separate laboratory QC summary files (the Lab QC page)
+    calibration_files: tuple = ()  # the laboratory's calibration files (the Lab QC page)
 
 
 @dataclass
@@ -83,6 +85,9 @@ class SessionData:
     # per result (row = _rid): the accepted columns screening does not carry (own hardness, pH, DOC,
     # temperature, quantitation limit), so that the results can be screened again with uploads
     result_columns: pd.DataFrame | None = field(default=None, repr=False)
+    reading: Any = None  # the LoadOptions the files were read with (column map, date order: the QC rows)
+    qc_files: tuple = ()
+    calibration_files: tuple = ()
     memo: Memo = field(default_factory=Memo, repr=False)
     _derived: dict = field(default_factory=dict, repr=False)
     _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
@@ -292,6 +297,9 @@ def _index(inputs: Inputs, key: str, screened: pd.DataFrame, result_columns: pd.
         series_key=series_key,
         wells_options=inputs.wells,
         result_columns=result_columns,
+        reading=inputs.options,
+        qc_files=tuple(inputs.qc_files),
+        calibration_files=tuple(inputs.calibration_files),
     )
 
 

@@ -36,7 +36,7 @@ LOG = logging.getLogger("tracescreen.dashboard")
 
 # ---- building ---------------------------------------------------------------------------------
 def load_inputs(results, limits, sites=None, columns=None, options=None, workspace=None,
-                cross_fraction: bool = True, wells=None) -> Inputs:
+                cross_fraction: bool = True, wells=None, qc_files=(), calibration_files=()) -> Inputs:
     """Load result files, limit tables and sites with the engine's pipeline (user errors raise ValueError).
 
     ``options`` (the engine's LoadOptions) says how to read the files; without it, defaults with
@@ -65,6 +65,8 @@ def load_inputs(results, limits, sites=None, columns=None, options=None, workspa
         set_aside=loaded.set_aside,
         cross_fraction=cross_fraction,
         wells=wells,
+        qc_files=tuple(str(p) for p in qc_files),
+        calibration_files=tuple(str(p) for p in calibration_files),
     )
 
 
@@ -319,6 +321,7 @@ class DataStore:
             files=pd.concat(files, ignore_index=True),
             sources=base.sources + tuple(f"upload {t}" for t in kept),
             cross_fraction=self.base_inputs().cross_fraction,
+            options=base.reading, qc_files=base.qc_files, calibration_files=base.calibration_files,
         )
         del current
         return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)

@@ -1,5 +1,6 @@
 """The session's retest list (:func:`tracescreen.pipeline.retest`) and the request built from it
-(:func:`tracescreen.retest.request.request_lines`) with each line's status."""
+(:func:`tracescreen.retest.request.request_lines`) with each line's status;
+the laboratory QC review's reasons (:mod:`dashboard.views.labqc`) join the list."""
 
 from __future__ import annotations
 
@@ -16,12 +17,19 @@ STATUS_WORDS = {"": "not requested yet", "requested": "requested, still open", "
 def retest_frame(session: SessionData) -> pd.DataFrame:
     """The retest list of a session (the engine's rows with its default thresholds; computed once per session)."""
 
+    from dashboard.views.labqc import lab_qc
+
+    # the laboratory QC review's reasons join the list; derived first, as a value of its own (the
+    # session's derived values are computed under one lock, so one may not ask for another)
+    review, _results, calibration = lab_qc(session)
+
     def compute():
         from tracescreen import pipeline
         from tracescreen.retest.options import RetestOptions
 
-        return pipeline.retest(engine_frame(session.screened.drop(columns=["_rid", "campaign"], errors="ignore")),
-                               RetestOptions())
+        out = pipeline.retest(engine_frame(session.screened.drop(columns=["_rid", "campaign"], errors="ignore")),
+                              RetestOptions(), lab_qc=pipeline.lab_qc_retest(review, calibration))
+        return calibration.annotate(out) if calibration is not None else out
 
     return session.derived("retest", compute)
 

@@ -36,6 +36,11 @@ def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     group(p, "inputs").add_argument(
         "--overlay", action="append", default=[], metavar="GEOJSON",
         help="a GeoJSON file (catchment, rivers, site boundaries) drawn under the sites on the map; repeatable")
+    lab = group(p, "labqc")  # the Lab QC page
+    lab.add_argument("--qc", metavar="FILE", action="append", default=[],
+                     help="a separate laboratory QC summary file (repeat for several)")
+    lab.add_argument("--calibration", metavar="FILE", action="append", default=[],
+                     help="the laboratory's calibration file (repeat for several)")
     from .wells import add_wells_options
 
     add_wells_options(p, design_options=False)
@@ -73,6 +78,9 @@ def to_argv(args: argparse.Namespace) -> list[str]:
         argv += ["--overlay", str(path)]
     if not args.cross_fraction:
         argv.append("--same-fraction-only")
+    for opt in ("qc", "calibration"):
+        for path in getattr(args, opt, None) or ():
+            argv += [f"--{opt}", str(path)]
     for opt in ("network", "design"):
         if getattr(args, opt, None):
             argv += [f"--{opt}", str(getattr(args, opt))]

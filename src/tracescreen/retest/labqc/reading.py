@@ -47,7 +47,8 @@ class QcFileError(ValueError):
 #: deliverable (``tests/data/bwam_qaqc_ramapo_2018_lab_edd_metals_qc.csv``) and common practice.
 QC_HEADER_VARIANTS: dict[str, tuple[str, ...]] = {
     "parent_sample_id": ("parentsamplecode", "originalsampleid", "sourcesampleid", "parentlabsampleid"),
-    "qc_type": ("qctype", "qcsampletype", "qccode", "sampletypecode", "qcsample"),
+    "sample_id": ("qcsample", "qcsampleid", "syssamplecode", "qcid"),
+    "qc_type": ("qctype", "qcsampletype", "qccode", "sampletypecode"),
     "true_value": ("truevalue", "trueconc", "trueconcentration", "expectedvalue", "expectedconc",
                    "expected", "certifiedvalue", "nominalvalue", "nominalconc", "nominal"),
     "spike_added": ("qcspikeadded", "spikeadded", "spikeamount", "amountadded", "spikelevel", "spike",
@@ -190,8 +191,10 @@ def qc_from_cells(cells: pd.DataFrame, column_map: ColumnMap | None = None, date
     nondetect = has_meaning(read_column(t("qualifier"), "qualifier")["meanings"], NONDETECT_MEANINGS)
     detect_flag = _text(cells, [h for h in headers if header_key(h) == "detectflag"]).str.upper()
     measured = n["spike_measured"].where(n["spike_measured"].notna(), result)
-    detected = measured.notna() & ~nondetect & (detect_flag != "N")
-    dl = qc_number(t("detection_limit")) * factor
+    res_text = t("result").str.lower()
+    censored = res_text.str.match(r"^\s*<") | res_text.isin(["nd", "n.d.", "not detected", "bdl", "u"])
+    detected = measured.notna() & ~nondetect & (detect_flag != "N") & ~censored.to_numpy()
+    dl = qc_number(t("detection_limit")).fillna(result.where(censored)) * factor
     conc = {"true_value_ug_L": n["true_value"] * factor, "spike_added_ug_L": n["spike_added"] * factor,
             "original_ug_L": n["original_result"] * factor, "duplicate_ug_L": n["duplicate_result"] * factor}
     out = pd.DataFrame({
