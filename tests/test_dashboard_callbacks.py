@@ -299,3 +299,89 @@ def test_site_chart_shows_engine_trend(session):
     years = decimal_years([ref["last_sampled"]])[0] - decimal_years([ref["first_sampled"]])[0]
     np.testing.assert_allclose(line["y"], [ref["intercept"], ref["intercept"] + ref["slope_per_year"] * years])
     assert f"S = {ref['s']:.0f}" in text and "increasing" in text
+
+
+def test_cell_table_latest_campaign_and_exceedance_dates_match_pandas(session):
+    """Per site and metal: the latest campaign is the campaign of the latest sampling date, its status the
+    worst of that campaign's results; first and last exceedance dates are the extreme dates of results whose
+    worst status is exceeds (reference: pandas groupby on the engine's own worst status per result)."""
+    from dashboard.views.matrix import cell_table
+
+    cells = cell_table(session, Filters()).frame().set_index(["site_id", "analyte"])
+    per_result = worst_status(_engine_samples(), ["file", "sheet", "row", "site_id", "analyte", "sampled_at"])
+    per_result["campaign"] = (per_result["sampled_at"].dt.year.astype(str) + "-Q"
+                              + per_result["sampled_at"].dt.quarter.astype(str))
+    for (site, analyte), g in per_result.groupby(["site_id", "analyte"]):
+        row = cells.loc[(site, analyte)]
+        latest = g.loc[g["sampled_at"].idxmax(), "campaign"]
+        in_latest = g[g["campaign"] == latest]
+        rank = {s: i for i, s in enumerate(vocabulary.RANKED)}
+        assert row["latest_campaign"] == latest and row["latest_n"] == len(in_latest)
+        assert row["latest"] == min(in_latest["worst_status"], key=rank.get)
+        ex = g[g["worst_status"] == "exceeds"]["sampled_at"]
+        if len(ex):
+            assert pd.Timestamp(row["first_exceedance"]) == ex.min().normalize()
+            assert pd.Timestamp(row["last_exceedance"]) == ex.max().normalize()
+        else:
+            assert pd.isna(row["first_exceedance"])
+
+
+def test_an_upload_session_screens_the_base_results_as_before(store, session):
+    """Adding a file re-screens the base results with their own inputs (the sample's hardness): every base
+    result keeps its limits and statuses (reference: the base session itself)."""
+    text = "site_id,sample_id,sampled_at,analyte,fraction,result,unit\nKR01,UP-9,2025-11-07,zinc,total,13,ug/L\n"
+    prev = preview_upload(store, _as_upload(text), "one_more.csv")
+    assert (prev.new, prev.unchanged, prev.revised) == (1, 0, 0)
+    grown = store.get(add_token("base", prev.token))
+    cols = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "limit_table", "duration", "limit_ug_L",
+            "status"]
+    before = plain_frame(session.screened[cols])
+    after = plain_frame(grown.screened[cols])
+    after = after[after["sample_id"] != "UP-9"]
+    _same(after, before, cols)
+
+
+def test_geojson_overlay_of_rfc_7946_example():
+    """The FeatureCollection example of RFC 7946 section 1.5 (from memory: a point at [102.0, 0.5], a line
+    and a polygon ring) gives one point, one line of four positions and one closed ring of five."""
+    import json
+
+    from dashboard.state.overlays import load_overlay
+
+    doc = {"type": "FeatureCollection", "features": [
+        {"type": "Feature", "geometry": {"type": "Point", "coordinates": [102.0, 0.5]}, "properties": {"prop0": "value0"}},
+        {"type": "Feature", "geometry": {"type": "LineString", "coordinates": [[102.0, 0.0], [103.0, 1.0], [104.0, 0.0],
+                                                                              [105.0, 1.0]]}, "properties": {}},
+        {"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [[[100.0, 0.0], [101.0, 0.0], [101.0, 1.0],
+                                                                             [100.0, 1.0], [100.0, 0.0]]]},
+         "properties": {"name": "square"}}]}
+    import tempfile
+    from pathlib import Path
+
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "rfc.geojson"
+        path.write_text(json.dumps(doc))
+        ov = load_overlay(path)
+        assert (ov.point_x, ov.point_y) == ([102.0], [0.5])
+        assert ov.line_x == [102.0, 103.0, 104.0, 105.0, None] and len(ov.polygon_x) == 6 and ov.features == 3
+        path.write_text('{"type": "Feature", "geometry": {"type": "Circle", "coordinates": [0, 0]}}')
+        with pytest.raises(ValueError, match="feature 1: geometry type 'Circle' is not GeoJSON"):
+            load_overlay(path)
+
+
+def test_request_statuses_kept_in_the_workspace_reach_the_next_session(tmp_path):
+    """A line recorded as requested from one dashboard run is still open in the next one on the workspace."""
+    from dashboard.state.requests import RequestBook
+    from dashboard.views.retest import request_frame, retest_frame
+    from tracescreen.store.workspace import open_workspace
+
+    with open_workspace(tmp_path / "ws", create=True):
+        pass
+    session = build_session(scenario_inputs())
+    first = RequestBook(tmp_path / "ws")
+    lines = request_frame(session, "2026-01-01", first)
+    first.record(lines.head(3), "requested")
+    again = RequestBook(tmp_path / "ws")
+    shown = request_frame(session, "2026-01-01", again)
+    assert (shown["status"] == "requested").sum() == 3
+    assert len(retest_frame(session)) > 0

@@ -36,6 +36,9 @@ COLUMNS = [
     Column("test", "Test", width=200), Column("note", "Notes", "words", width=360),
 ]
 
+#: the series heading soonest for their limit first, then the strongest evidence of a trend
+DEFAULT_SORT = [{"colId": "crosses_limit_on", "sort": "asc"}, {"colId": "p_value", "sort": "asc"}]
+
 
 def _frame(session) -> pd.DataFrame:
     rows = trend_rows(session)
@@ -59,7 +62,8 @@ def layout(**query):
         grid_toolbar("tr", "tr-grid", COLUMNS, [html.Button("Download CSV", id="tr-csv-btn", className="button")]),
         html.Div(id="tr-error", className="error", role="alert"),
         dcc.Store(id="tr-query", data={"filterModel": filter_model, "sortModel": sort_model}),
-        dcc.Loading(html.Div(server_grid("tr-grid", COLUMNS, PAGE_SIZE, filter_model=filter_model, sort_model=sort_model),
+        dcc.Loading(html.Div(server_grid("tr-grid", COLUMNS, PAGE_SIZE, filter_model=filter_model,
+                                         sort_model=sort_model or DEFAULT_SORT),
                              id="tr-grid-box"), type="dot", delay_show=300),
         dcc.Download(id="tr-download"),
     ])
@@ -78,7 +82,7 @@ def wait_for_trends(n, dataset_key, query):
     if trend_rows(session) is not None:
         query = query or {}
         grid = server_grid("tr-grid", COLUMNS, PAGE_SIZE, filter_model=query.get("filterModel"),
-                           sort_model=query.get("sortModel")) if n else dash.no_update
+                           sort_model=query.get("sortModel") or DEFAULT_SORT) if n else dash.no_update
         return "", True, grid
     start_trend_table(session)
     return "The trend tests are being computed for every series (about a minute for a million results) ...", False, \

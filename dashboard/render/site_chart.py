@@ -9,7 +9,8 @@
 * Period-basis limits (running annual means, percentiles over a period) are drawn with the period
   values they are compared with, coloured by the period's status, never as if one sample were
   compared with them.
-* A logarithmic axis is labelled at whole decades only (0.1, 1, 10, 100), never "2" for 20.
+* A logarithmic axis is labelled with full numbers (0.1, 1, 10, 100; or 5, 10, 20 over a short range),
+  never a lone "2" for 20.
 """
 
 from __future__ import annotations
@@ -208,16 +209,20 @@ def period_traces(rows: pd.DataFrame, fraction: str, several: bool) -> list[dict
     return out
 
 
-def decade_ticks(values: np.ndarray) -> dict:
-    """Tick values and labels of a logarithmic axis at whole decades only (``0.01, 0.1, 1, 10, 100, 1,000``)."""
+def log_ticks(values: np.ndarray) -> dict:
+    """Tick values and labels of a logarithmic axis, every label the full number it marks: whole decades
+    (0.01, 0.1, 1, 10, 100, 1,000) when the values span more than two decades, else 1, 2 and 5 of each
+    decade (0.5, 1, 2, 5, 10, 20): never a lone "2" standing for 20."""
     v = values[np.isfinite(values) & (values > 0)]
     if not len(v):
         return {}
     lo, hi = math.floor(math.log10(v.min())), math.ceil(math.log10(v.max()))
-    hi = max(hi, lo + 1)
-    ticks = [10.0 ** k for k in range(lo, hi + 1)]
-    return {"tickvals": ticks, "ticktext": [f"{t:,.{max(0, -k)}f}" for t, k in zip(ticks, range(lo, hi + 1))],
-            "minor": {"ticks": "outside", "ticklen": 3, "showgrid": False}}
+    steps = (1,) if hi - lo > 2 else (1, 2, 5)
+    ticks = [m * 10.0 ** k for k in range(lo, hi + 1) for m in steps if v.min() / 1.5 <= m * 10.0 ** k <= v.max() * 1.5]
+    if len(ticks) < 2:
+        ticks = [10.0 ** k for k in range(lo, hi + 1)]
+    text = [f"{t:,.{max(0, -math.floor(math.log10(t)))}f}" for t in ticks]
+    return {"tickvals": ticks, "ticktext": text, "minor": {"ticks": "outside", "ticklen": 3, "showgrid": False}}
 
 
 def site_chart(rows_by_fraction: dict, title: str, log_y: bool = False, x_range=None) -> tuple[dict, dict]:
@@ -255,7 +260,7 @@ def site_chart(rows_by_fraction: dict, title: str, log_y: bool = False, x_range=
     yaxis = {"title": {"text": "Concentration [µg/L]"},
              "type": "log" if log_y else "linear"}
     if log_y:
-        yaxis.update(decade_ticks(np.concatenate(all_y) if all_y else np.zeros(0)))
+        yaxis.update(log_ticks(np.concatenate(all_y) if all_y else np.zeros(0)))
     else:
         yaxis["rangemode"] = "tozero"
     xaxis = {"title": {"text": "Sampling date"}, "type": "date"}
