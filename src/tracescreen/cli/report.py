@@ -47,9 +47,9 @@ def register(sub) -> None:
         p.add_argument(f"--{name}", metavar="TEXT", help=text)
     p.add_argument("--charts", choices=CHART_CHOICES, default="findings",
                    help="chart the series with findings (an exceedance, or a rising trend toward a limit), all, or none")
-    p.add_argument("--max-charts", type=int, default=120, metavar="N",
+    p.add_argument("--max-charts", type=int, default=96, metavar="N",
                    help="draw at most N chart panels (one per site and metal); the rest are named")
-    p.add_argument("--max-rows", type=int, default=2000, metavar="N",
+    p.add_argument("--max-rows", type=int, default=1000, metavar="N",
                    help="rows of a long table in the report (every row is in the workbook)")
     add_retest_options(p)
     add_lab_qc_options(p)

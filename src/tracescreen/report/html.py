@@ -43,8 +43,7 @@ li{margin:.15rem 0}nav ul{columns:2;list-style:none;margin:.3rem 0 0 0}
 .tablewrap{overflow-x:auto;margin:.4rem 0 .8rem}
 table{border-collapse:collapse;font-size:8.5pt}caption{text-align:left;font-weight:bold;padding:.2rem 0}
 th,td{border:1px solid var(--rule);padding:.15rem .35rem;text-align:left;vertical-align:top}
-th{background:#f0f2f4}td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
-td.key{white-space:nowrap}
+th{background:#f0f2f4}td.n{text-align:right;font-variant-numeric:tabular-nums}td.w{min-width:9em}td.d{white-space:nowrap}
 figure{margin:.6rem 0 1rem}figure img{max-width:100%;height:auto;display:block}
 figcaption{font-size:9pt;color:var(--muted)}
 @page{size:A4 portrait;margin:14mm 12mm 16mm 12mm;
@@ -62,6 +61,14 @@ figcaption{font-size:9pt;color:var(--muted)}
 """
 
 
+#: Headers of text columns given room (a name or sentence squeezed to one word per line is unreadable).
+WIDE_TEXT = frozenset({"Site name", "Name", "Detail", "Suggested action", "Note", "Source", "Reason", "Limit", "Value",
+                       "Words"})
+#: Headers of date columns (never broken inside a date).
+DATES = frozenset({"Sampled", "First sampled", "Last sampled", "Trend line reaches the limit", "In force from",
+                   "In force to"})
+
+
 def _paragraph(b: Paragraph) -> str:
     if b.style == "caution":
         return f'<div class="caution" role="note"><b>Caution.</b> {esc(b.text)}</div>'
@@ -71,9 +78,8 @@ def _paragraph(b: Paragraph) -> str:
 def _part_html(frame: pd.DataFrame, t: Table, caption: str) -> str:
     head = "".join(f"<th>{esc(c)}</th>" for c in frame.columns)
     cols = []
-    keys = set(t.frame.columns[:t.key_columns])
     for c in frame.columns:
-        cls = "num" if c in t.numeric else "key" if c in keys else ""
+        cls = "n" if c in t.numeric else "w" if c in WIDE_TEXT else "d" if c in DATES else ""
         text = frame[c].astype(str).map(esc).to_numpy(dtype=object)
         if t.status is not None and c in t.status.columns:
             st = t.status[c].astype(str).to_numpy(dtype=object)
