@@ -145,3 +145,41 @@ def test_markup_in_user_text_stays_text(tmp_path, scenario_args):
     assert "<script>alert(1)" not in page and "&lt;script&gt;alert(1)&lt;/script&gt;" in page
     cells = [c.text for t in docx.Document(str(word)).tables for r in t.rows for c in r.cells]
     assert "<script>alert(1)</script>" in cells
+
+
+@pytest.fixture(scope="module")
+def demo_run():
+    from conftest import demo_inputs
+
+    from tracescreen import pipeline
+    from tracescreen._internal.frames import plain_text
+
+    res = pipeline.run(demo_inputs(), pipeline.Options(periods=False, retest=None, lab_qc=None))
+    return res, plain_text(res.screened)
+
+
+def test_charts_mark_every_exceedance_and_label_limits(demo_run):
+    """Chart figures (before drawing): one marker per result above a limit, shaped as on the dashboard
+    (vocabulary.SYMBOL), arsenic's limit line labelled with the published 10 µg/L and its tables'
+    references (WHO GDWQ 2022 Table A3.3; Directive (EU) 2020/2184 Annex I Part B), log-axis ticks
+    written in full."""
+    from tracescreen import vocabulary
+    from tracescreen.report.charts import chart_series, metal_figures
+
+    res, scr = demo_run
+    refs = findings.limit_references(res.limits.tables, scr["limit_table"].dropna().astype(str).unique())
+    series = chart_series(scr, res.trends)
+    figures = metal_figures(scr, series, res.limits.entries, refs, res.sites)
+    drawn = sum(len(t["x"]) for f in figures for t in f.figure["data"]
+                if t.get("legendgroup") == "exceeds" and t["marker"]["symbol"] == vocabulary.SYMBOL["exceeds"])
+    site = scr[scr["sample_type"].eq("sample")]
+    assert drawn == len(site[site["status"].eq("exceeds")].drop_duplicates(["file", "sheet", "row"])) > 100
+    arsenic = next(f for f in figures if f.caption == "arsenic (total)")
+    who, eu = (int(refs.set_index("table_id").loc[t, "ref"]) for t in ("who_gdwq_2022", "eu_dwd_2020_2184"))
+    labels = [a["text"] for a in arsenic.figure["layout"]["annotations"]]
+    assert any(lab.startswith("10 µg/L") and f"[{who}]" in lab and f"[{eu}]" in lab for lab in labels)
+    for f in figures:
+        for key, axis in f.figure["layout"].items():
+            if key.startswith("yaxis") and axis["type"] == "log":
+                assert "log scale" in axis["title"]["text"]
+                assert axis["ticktext"] == [f"{v:g}" for v in axis["tickvals"]]

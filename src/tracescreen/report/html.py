@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import base64
 import html
+import re
 
 import numpy as np
 import pandas as pd
@@ -43,7 +44,7 @@ li{margin:.15rem 0}nav ul{columns:2;list-style:none;margin:.3rem 0 0 0}
 .tablewrap{overflow-x:auto;margin:.4rem 0 .8rem}
 table{border-collapse:collapse;font-size:8.5pt}caption{text-align:left;font-weight:bold;padding:.2rem 0}
 th,td{border:1px solid var(--rule);padding:.15rem .35rem;text-align:left;vertical-align:top}
-th{background:#f0f2f4}td.n{text-align:right;font-variant-numeric:tabular-nums}td.w{min-width:9em}td.d{white-space:nowrap}
+th{background:#f0f2f4}td.n{text-align:right;font-variant-numeric:tabular-nums}td.w{min-width:9em}.d{white-space:nowrap}
 figure{margin:.6rem 0 1rem}figure img{max-width:100%;height:auto;display:block}
 figcaption{font-size:9pt;color:var(--muted)}
 @page{size:A4 portrait;margin:14mm 12mm 16mm 12mm;
@@ -69,10 +70,18 @@ DATES = frozenset({"Sampled", "First sampled", "Last sampled", "Trend line reach
                    "In force to"})
 
 
+_DATE = re.compile(r"(\d{4}-\d{2}(?:-\d{2})?)")
+
+
+def prose(text) -> str:
+    """Text of a sentence, escaped, with its dates kept on one line."""
+    return _DATE.sub(r'<span class="d">\1</span>', esc(text))
+
+
 def _paragraph(b: Paragraph) -> str:
     if b.style == "caution":
         return f'<div class="caution" role="note"><b>Caution.</b> {esc(b.text)}</div>'
-    return f'<p class="{esc(b.style)}">{esc(b.text)}</p>'
+    return f'<p class="{esc(b.style)}">{prose(b.text)}</p>'
 
 
 def _part_html(frame: pd.DataFrame, t: Table, caption: str) -> str:
@@ -123,7 +132,7 @@ def block_html(b) -> str:
     if isinstance(b, Paragraph):
         return _paragraph(b)
     if isinstance(b, Bullets):
-        return "<ul>" + "".join(f"<li>{esc(i)}</li>" for i in b.items) + "</ul>"
+        return "<ul>" + "".join(f"<li>{prose(i)}</li>" for i in b.items) + "</ul>"
     if isinstance(b, Heading):
         return f"<h3>{esc(b.text)}</h3>"
     if isinstance(b, Table):
