@@ -46,6 +46,8 @@ def test_exceedance_rows_one_per_result_with_limits_side_by_side():
     assert out[["[1]", "[2]"]].to_numpy().tolist() == [["▲\u00a05.00", "10.0"], ["▲\u00a05.00", "▲\u00a010.0"]]
     assert set(long["status"]) == {"exceeds", "meets"} and len(long) == 4
     assert (out["hardness_used_mg_L"] == "").all()  # neither limit depends on hardness
+    first, _ = findings.exceedance_rows(scr, pd.DataFrame({"entry_id": []}), _refs(["eu", "who"]), max_results=1)
+    assert first["sample_id"].tolist() == ["A"] and first.attrs["total"] == 2
 
 
 def test_numbers_keep_the_laboratory_precision_of_a_real_download():

@@ -102,7 +102,7 @@ def run(args) -> int:
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     try:
-        draw(doc.figures(), ("svg", "png") if args.docx else ("svg",))
+        draw(doc.figures(), ("page", "png") if args.docx else ("page",))
         out.write_text(render_html(doc), encoding="utf-8")
         print(f"Report: {out}")
         if args.pdf:

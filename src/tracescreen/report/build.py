@@ -110,15 +110,18 @@ def grid_section(ctx: Context) -> Section:
 
 def exceedance_section(ctx: Context) -> Section:
     """2: every result above a limit, one row per result with its limits side by side."""
-    rows, _ = findings.exceedance_rows(ctx.screening, ctx.data.limit_entries, ctx.refs, ctx.data.sites)
-    blocks = [Paragraph(f"{len(rows):,} results exceed at least one limit. Each row is one result with every limit "
+    rows, _ = findings.exceedance_rows(ctx.screening, ctx.data.limit_entries, ctx.refs, ctx.data.sites,
+                                       max_results=ctx.options.max_rows)
+    total = rows.attrs.get("total", len(rows))
+    blocks = [Paragraph(f"{total:,} results exceed at least one limit. Each row is one result with every limit "
                         f"that applies to it, in µg/L; {findings.EXCEEDED_MARK} marks a limit the result exceeds. "
                         "A period limit (running annual mean, percentile) is judged on its period value, shown in "
                         "brackets after the limit. The hardness used is shown where a limit depends on it; '–' means the limit does not "
                         "apply to that result.")]
     if rows.empty:
         return Section("exceedances", "Exceedances", blocks + [Paragraph("No result exceeds a limit.", "note")])
-    shown, more = cut(rows, ctx.options.max_rows, "the workbook (sheet exceedances)")
+    shown, more = rows, (f"The first {len(rows):,} of {total:,} results are shown; every one is in the workbook "
+                         "(sheet exceedances)." if total > len(rows) else "")
     if not (shown["hardness_used_mg_L"] != "").any():
         shown = shown.drop(columns="hardness_used_mg_L")
     frame = once_per_site(in_words(shown))
@@ -270,9 +273,10 @@ def build_document(data: ReportData, site_ids=None, options: ReportOptions | Non
     """
     from tracescreen.report import appendices
     from tracescreen.report.summary import executive_summary
+    from tracescreen.retest.rows import site_samples
 
     options = options or ReportOptions()
-    scr = only_sites(data.screening, site_ids)
+    scr = site_samples(only_sites(data.screening, site_ids))  # once: QC samples are not screened
     refs = findings.limit_references(data.limit_tables, scr["limit_table"].dropna().astype(str).unique())
     ctx = Context(data, scr, refs, site_ids, options)
     extra = appendices.summary_sentences(ctx)

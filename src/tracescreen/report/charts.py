@@ -313,5 +313,6 @@ def metal_figures(screening: pd.DataFrame, series: pd.DataFrame, entries: pd.Dat
             title = f"{analyte} ({fraction})" + (f", part {n + 1} of {len(parts)}" if len(parts) > 1 else "")
             fig = metal_figure(points, lines, part, names, title)
             fid = "chart-" + "".join(ch if ch.isalnum() else "-" for ch in f"{analyte}-{fraction}-{n + 1}")
-            out.append(Figure(fig, fid, caption=title, width=WIDTH, height=int(fig["layout"]["height"])))
+            out.append(Figure(fig, fid, caption=title, width=WIDTH, height=int(fig["layout"]["height"]),
+                              points=sum(len(points[k]) for k in part)))
     return out

@@ -83,6 +83,9 @@ class Figure:
     caption : str
     width, height : int
         Size in CSS pixels.
+    points : int
+        Markers drawn; a figure of more than :data:`MAX_SVG_POINTS` is shown on the page as PNG (an SVG
+        grows with every point, a PNG with the page area only).
     images : dict
         Format (``"svg"``, ``"png"``) -> bytes, filled when drawn.
     """
@@ -92,7 +95,18 @@ class Figure:
     caption: str = ""
     width: int = 700
     height: int = 900
+    points: int = 0
     images: dict = field(default_factory=dict)
+
+    @property
+    def page_format(self) -> str:
+        """The image format of this figure in HTML and PDF: SVG, or PNG for a dense figure."""
+        return "png" if self.points > MAX_SVG_POINTS else "svg"
+
+
+#: Markers above which a chart is embedded in HTML and PDF as PNG rather than SVG (about 1.5 MB of
+#: SVG; measured in bench/bench_report.py).
+MAX_SVG_POINTS = 1500
 
 
 @dataclass

@@ -86,7 +86,7 @@ def _depends_on_hardness(rows: pd.DataFrame, entries: pd.DataFrame) -> np.ndarra
 
 
 def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame,
-                    sites: pd.DataFrame | None = None) -> tuple[pd.DataFrame, pd.DataFrame]:
+                    sites: pd.DataFrame | None = None, max_results: int | None = None) -> tuple[pd.DataFrame, pd.DataFrame]:
     """One row per site-sample result above at least one limit, with every limit that applies to it
     side by side (one column per table and duration or period basis).
 
@@ -100,6 +100,9 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         :func:`limit_references`.
     sites : pandas.DataFrame, optional
         For the site names.
+    max_results : int, optional
+        Keep the first results only (in site, metal, date order); ``rows.attrs["total"]`` is the count
+        of all results above a limit.
 
     Returns
     -------
@@ -120,6 +123,12 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         cols = ["site_id", "site_name", "sampled_at", "sample_id", "analyte", "fraction", "result_text", "value_ug_L",
                 "hardness_used_mg_L"]
         return pd.DataFrame({c: [] for c in cols}), site.iloc[:0]
+    total = len(hit)
+    if max_results is not None and total > max_results:
+        first = site.loc[site["status"].eq("exceeds"), key + ["site_id", "analyte", "fraction", "sampled_at"]]
+        first = first.drop_duplicates(key).sort_values(["site_id", "analyte", "fraction", "sampled_at"] + key,
+                                                       kind="stable")
+        hit = first[key].head(max_results)
     rows = site.merge(hit, on=key)
     rows = rows.sort_values(["site_id", "analyte", "fraction", "sampled_at"] + key, kind="stable").reset_index(drop=True)
     label = limit_label(rows, refs)
@@ -153,6 +162,7 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         out[c] = wide[c].fillna("–").to_numpy()
     cols = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "value_ug_L", "limit_ug_L", "ratio",
             "status", "limit_table", "label"]
+    out.attrs["total"] = total
     return out, long[[c for c in cols if c in long.columns]]
 
 

@@ -55,20 +55,24 @@ async def _draw(figures: list, fmt: str, browser: str) -> list[bytes]:
         return await asyncio.gather(*jobs)
 
 
-def draw(figures: list, formats=("svg",)) -> None:
-    """Draw each :class:`tracescreen.report.document.Figure` in each format into its ``images``.
+def draw(figures: list, formats=("page",)) -> None:
+    """Draw each :class:`tracescreen.report.document.Figure` in each format into its ``images``;
+    ``"page"`` is each figure's own :attr:`~tracescreen.report.document.Figure.page_format`.
 
     Raises
     ------
     ReportError
         No browser, or the browser failed to draw.
     """
-    todo = [f for f in figures if any(fmt not in f.images for fmt in formats)]
-    if not todo:
+    wanted = [(f, f.page_format if fmt == "page" else fmt) for f in figures for fmt in formats]
+    wanted = [(f, fmt) for f, fmt in wanted if fmt not in f.images]
+    if not wanted:
         return
     browser = find_browser()
-    for fmt in formats:
-        need = [f for f in todo if fmt not in f.images]
+    for fmt in ("svg", "png"):
+        need = list({id(f): f for f, w in wanted if w == fmt}.values())
+        if not need:
+            continue
         try:
             images = asyncio.run(_draw(need, fmt, browser))
         except Exception as exc:  # the browser's own errors are many kinds
