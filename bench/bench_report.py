@@ -134,8 +134,8 @@ def main() -> None:
         print(f"report HTML total: wall {html_s[0]:.1f} s ({html_s[0] / t_run[0]:.2f} x the reference), CPU "
               f"{html_s[1]:.1f} s ({html_s[1] / t_run[1]:.2f} x); with PDF wall {html_s[0] + times['pdf'][0]:.1f} s")
         svg = sum(len(f.images[f.page_format]) for f in doc.figures()) * 4 / 3 / 1e6
-        n_png = sum(f.page_format == "png" for f in doc.figures())
-        print(f"HTML {html.stat().st_size / 1e6:.2f} MB (goal < 5 MB; charts {svg:.2f} MB of it, {n_png} as PNG); PDF {pdf.stat().st_size / 1e6:.2f} MB, {pages} pages")
+        n_png = sum(f.page_format == "webp" for f in doc.figures())
+        print(f"HTML {html.stat().st_size / 1e6:.2f} MB (goal < 5 MB; charts {svg:.2f} MB of it, {n_png} as WebP); PDF {pdf.stat().st_size / 1e6:.2f} MB, {pages} pages")
         for name in ("report.docx", "report.xlsx"):
             if (tmp / name).exists():
                 print(f"{name} {(tmp / name).stat().st_size / 1e6:.2f} MB")

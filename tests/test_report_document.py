@@ -185,3 +185,15 @@ def test_charts_mark_every_exceedance_and_label_limits(demo_run):
             if key.startswith("yaxis") and axis["type"] == "log":
                 assert "log scale" in axis["title"]["text"]
                 assert axis["ticktext"] == [f"{v:g}" for v in axis["tickvals"]]
+
+
+def test_dense_chart_is_embedded_as_webp_and_sparse_as_svg():
+    """A chart of more markers than MAX_SVG_POINTS goes into the page as WebP (an SVG grows with every
+    marker); others as SVG; both inside <img> (inert: an image cannot run code)."""
+    from tracescreen.report.document import MAX_SVG_POINTS, Figure
+    from tracescreen.report.html import figure_html
+
+    sparse = Figure({}, "a", "sparse", points=MAX_SVG_POINTS, images={"svg": b"<svg/>"})
+    dense = Figure({}, "b", "dense", points=MAX_SVG_POINTS + 1, images={"webp": b"RIFF"})
+    assert 'src="data:image/svg+xml;base64,' in figure_html(sparse)
+    assert 'src="data:image/webp;base64,' in figure_html(dense)

@@ -1,7 +1,7 @@
 """The report as one self-contained, printable HTML file: :func:`render_html` of a
 :class:`~tracescreen.report.document.Document`.
 
-No script and no outside request: charts are images inside the file (SVG; PNG for a dense chart) (``<img>`` elements with
+No script and no outside request: charts are images inside the file (SVG; WebP for a dense chart) (``<img>`` elements with
 data addresses, so a chart cannot run code). Every text of the document is escaped here.
 
 Printing (the browser's print, or :mod:`tracescreen.report.pdf`): A4 pages with the caution and
@@ -118,13 +118,13 @@ def table_html(t: Table) -> str:
 
 
 def figure_html(f: Figure) -> str:
-    """A chart as an image (SVG, or PNG when dense; drawn beforehand) with its caption."""
+    """A chart as an image (SVG, or WebP when dense; drawn beforehand) with its caption."""
     fmt = f.page_format
     image = f.images.get(fmt)
     if image is None:
         return f'<p class="note">Chart {esc(f.caption)} was not drawn.</p>'
     data = base64.b64encode(image if isinstance(image, bytes) else image.encode("utf-8")).decode("ascii")
-    mime = "image/svg+xml" if fmt == "svg" else "image/png"
+    mime = {"svg": "image/svg+xml", "png": "image/png", "webp": "image/webp"}[fmt]
     return (f'<figure id="{esc(f.figure_id)}"><img src="data:{mime};base64,{data}" width="{f.width}" '
             f'height="{f.height}" alt="{esc("Chart: " + f.caption)}"><figcaption>{esc(f.caption)}</figcaption></figure>')
 
