@@ -21,13 +21,17 @@ DEMO_DATA    := $(DEMO_RESULTS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
                 --columns scenario_data/columns_eastbank.yaml
 
 DEMO_WS      := out/demo-workspace
+# where `make run` serves the dashboard: make run PORT=8060 HOST=127.0.0.1 (HOST=0.0.0.0 opens it to the
+# network: the dashboard has no login, so only on a trusted network; README "Serving the dashboard")
+PORT         ?= 8050
+HOST         ?= 127.0.0.1
 
 # the demo lab files go into a workspace (a re-run adds nothing); the dashboard reads the workspace
 run: setup
 	$(VENV)/bin/tracescreen import $(DEMO_RESULTS) --workspace $(DEMO_WS) --columns scenario_data/columns_eastbank.yaml \
 		--sites scenario_data/sites.csv
 	$(VENV)/bin/tracescreen dashboard --workspace $(DEMO_WS) $(DEMO_LIMITS) --sites scenario_data/sites.csv \
-		--host 127.0.0.1 --port 8050
+		--host $(HOST) --port $(PORT)
 
 screen: setup
 	$(VENV)/bin/tracescreen screen $(DEMO_DATA) --out out/demo

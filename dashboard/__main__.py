@@ -21,31 +21,42 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+def build_app(args):
+    """The dashboard app of parsed ``tracescreen dashboard`` options (user errors raise), its loading
+    and screening shown as the command line shows its stages, on a terminal (tracescreen.cli.progress)."""
+    from dashboard.app import create_app
+    from tracescreen.cli.common import load_options
+    from tracescreen.cli.dashboard import result_files
+    from tracescreen.cli.progress import shown
+    from tracescreen.cli.wells import wells_options
+    from tracescreen.progress import reporting
+
+    with shown(args, "dashboard") as progress, reporting(progress):
+        return create_app(result_files(args) or None, args.limits, args.sites, options=load_options(args),
+                          workspace=args.workspace, cross_fraction=args.cross_fraction,
+                          wells=wells_options(args), max_upload_bytes=int(args.max_upload_mb * 1e6),
+                          overlays=args.overlay)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Load and screen the inputs, then serve the dashboard; returns the exit code (2 on a user error)."""
     from tracescreen.cli import UserError
-    from tracescreen.cli.common import load_options
     from tracescreen.cli.dashboard import result_files
-    from tracescreen.cli.wells import wells_options
 
     parser = build_parser()
     args = parser.parse_args(argv)
-    results = result_files(args)
-    if bool(results) == bool(args.workspace):
+    if bool(result_files(args)) == bool(args.workspace):
         parser.error("give lab result files (positional or --results FILE ...) or --workspace DIR")
-    from dashboard.app import create_app
-
     print("Loading and screening ...", file=sys.stderr)
     try:
-        app = create_app(results or None, args.limits, args.sites, options=load_options(args),
-                         workspace=args.workspace, cross_fraction=args.cross_fraction, wells=wells_options(args),
-                         max_upload_bytes=int(args.max_upload_mb * 1e6))
+        app = build_app(args)
     except (ValueError, OSError, KeyError, UserError) as exc:
         lines = str(exc).strip().splitlines()
         print(f"tracescreen dashboard: error: {lines[0] if lines else type(exc).__name__}", file=sys.stderr)
         return 2
     print(f"CAUTION: {CAUTION}", file=sys.stderr)
-    print(f"Dashboard on http://{args.host}:{args.port}/  (Ctrl+C to stop)", file=sys.stderr)
+    print(f"Dashboard on http://{args.host}:{args.port}/  (Ctrl+C to stop; Flask's development server, for "
+          "one user on this machine: README \"Serving the dashboard\" for a team)", file=sys.stderr)
     app.run(host=args.host, port=args.port, debug=args.debug)
     return 0
 

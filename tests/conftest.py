@@ -2,9 +2,13 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import pytest
+
+# a tracescreen.yaml in the working folder (README "Configuration file") must not change what the tests run
+os.environ["TRACESCREEN_NO_CONFIG"] = "1"
 
 ROOT = Path(__file__).resolve().parents[1]
 SCENARIO = ROOT / "scenario_data"
@@ -18,6 +22,23 @@ def demo_args() -> list[str]:
     for lim in limits:
         args += ["--limits", str(lim)]
     return args + ["--sites", str(SCENARIO / "sites.csv"), "--columns", str(SCENARIO / "columns_eastbank.yaml")]
+
+
+@pytest.fixture(scope="session", autouse=True)
+def _crash_logs_in_a_temporary_folder(tmp_path_factory):
+    """A command that fails with a bug writes its log under the test session's folder, not the user's."""
+    os.environ["XDG_STATE_HOME"] = str(tmp_path_factory.mktemp("state"))
+
+
+@pytest.fixture
+def sites():
+    """Two sites: a well whose water is drunk (W) and a river with aquatic life (R), no default hardness."""
+    import numpy as np
+    import pandas as pd
+
+    return pd.DataFrame({"site_id": ["W", "R"], "name": ["well", "river"], "latitude": [0.0, 0.0],
+                         "longitude": [0.0, 0.0], "uses": [("drinking_water",), ("freshwater_aquatic",)],
+                         "hardness_mg_L": [np.nan, np.nan]})
 
 
 @pytest.fixture

@@ -73,7 +73,9 @@ WHO_GDWQ_2022 = [
     Published("mercury", "total", 0.006, "mg/L", WHO, _WHO_SEC + "; inorganic mercury"),
     Published("nickel", "total", 0.07, "mg/L", WHO, "memory"),
     Published("selenium", "total", 0.04, "mg/L", WHO, "memory; provisional"),
-    Published("uranium", "total", 0.03, "mg/L", WHO, "memory; provisional"),
+    Published("uranium", "total", 0.03, "mg/L", WHO,
+              "checked (secondary: Ansoborlo et al. 2015, Environ Int 77:1-4, '30 μg/L in 2011 ... still designated as "
+              "provisional'); provisional, 4th-edition value"),
 ]
 
 CFR141 = "40 CFR 141.62(b) maximum contaminant levels for inorganic contaminants"
@@ -162,10 +164,11 @@ EU_DWD_98_83 = [
     Published("chromium", "total", 50, "µg/L", EU98, _EU98_LAW),
     Published("copper", "total", 2.0, "mg/L", EU98, _EU98_LAW),
     Published("lead", "total", 25, "µg/L", EU98 + ", Note 4 (transitional value)",
-              "memory (Note 4 cut off in the stored copy; Note 2 has the same wording for bromate)",
-              effective_to="2013-12-25"),
-    Published("lead", "total", 10, "µg/L", EU98, _EU98_LAW + "; start date 15 years after entry into force: memory",
-              effective_from="2013-12-26"),
+              "checked (secondary: S2 Partnership news 2014-01-10, UK tap standard 'changed from 25µg/l to 10µg/l on the "
+              "25th December, 2013'; Galway summary of S.I. 439/2000 'Lead 25'); Note 4 cut off in the stored Directive copy",
+              effective_to="2013-12-24"),
+    Published("lead", "total", 10, "µg/L", EU98, _EU98_LAW + "; in force from 25 December 2013 (15 years after entry into "
+              "force; UK change date, secondary)", effective_from="2013-12-25"),
     Published("mercury", "total", 1.0, "µg/L", EU98, _EU98_LAW),
     Published("nickel", "total", 20, "µg/L", EU98, _EU98_LAW),
     Published("selenium", "total", 10, "µg/L", EU98, _EU98_LAW),
@@ -251,7 +254,8 @@ US_EPA_NSDWR = [
 EQS = "Directive 2008/105/EC as amended by 2013/39/EU, Annex I Part A"
 _EQS_LAW = "checked (law: legislation.gov.uk copy of 2008/105/EC Annex I Part A, row (6) cadmium)"
 _AA, _MAC = "annual average (AA-EQS)", "maximum allowable (MAC-EQS)"
-_AM = "period_mean"  # AA-EQS: the mean of a calendar year's results (Annex I Part B, memory)
+_AM = "period_mean"  # AA-EQS: the mean of a calendar year's results (Annex I Part B, memory); results below the
+#                      quantification limit at half of it (2009/90/EC Art. 5(1), checked: gesetze.legal German text)
 _INLAND, _OTHER = "water_category: inland", "water_category: other"
 _CD_CLASSES = {"rows": {"input": "hardness", "bounds": [40, 50, 100, 200]}}
 _EQS_DATE = "2015-12-22"  # revised EQS for existing priority substances apply from this date (memory)
@@ -271,8 +275,9 @@ EU_EQS = [
               effective_from=_EQS_DATE),
     Published("lead", "dissolved", 1.3, "µg/L", EQS, "memory", duration=_AA, basis=_AM, scope=_OTHER, effective_from=_EQS_DATE),
     Published("lead", "dissolved", 14, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
-    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)", "memory", duration=_AA, basis=_AM, scope=_INLAND,
-              effective_from=_EQS_DATE),
+    Published("nickel", "dissolved", 4, "µg/L", EQS + " (bioavailable)",
+              "checked (secondary: Peters et al. 2024, Environ Sci Adv, 'the existing EQS of 4 μg L−1 bioavailable nickel')",
+              duration=_AA, basis=_AM, scope=_INLAND, effective_from=_EQS_DATE),
     Published("nickel", "dissolved", 8.6, "µg/L", EQS, "memory", duration=_AA, basis=_AM, scope=_OTHER, effective_from=_EQS_DATE),
     Published("nickel", "dissolved", 34, "µg/L", EQS, "memory", duration=_MAC, effective_from=_EQS_DATE),
     Published("mercury", "dissolved", 0.07, "µg/L", EQS, "memory", duration=_MAC),
@@ -281,6 +286,8 @@ EU_EQS = [
 CCME = "CCME Canadian Water Quality Guidelines for the Protection of Aquatic Life, freshwater"
 _STATCAN = "checked (secondary: Statistics Canada archived CWQG table, fact sheet [S27])"
 _LT, _ST = "long-term", "short-term"
+_EC_U = ("checked (secondary: Environment Canada science article 2011-05-27, 'long-term exposure (15 µg/L) and "
+         "short-term exposure (33 µg/L)')")
 
 
 def _log10_formula(intercept, coefficient):
@@ -342,7 +349,7 @@ CCME_FRESHWATER = [
     Published("aluminium", "total", None, "µg/L", CCME + ", aluminium 1987", _STATCAN, duration=_LT,
               form={"lookup": {"rows": {"input": "ph", "bounds": [6.5]}, "values": [5, 100]}},
               worked=(({"ph": 6.0}, 5, "pH < 6.5, Statcan table"), ({"ph": 6.5}, 100, "pH >= 6.5, Statcan table"))),
-    Published("arsenic", "total", 5, "µg/L", CCME, "memory", duration=_LT),
+    Published("arsenic", "total", 5, "µg/L", CCME, _STATCAN + "; 'Arsenic Total 5 µg/L CCME, 2005b'", duration=_LT),
     Published("chromium(vi)", "total", 1.0, "µg/L", CCME, "memory", duration=_LT),
     Published("chromium(iii)", "total", 8.9, "µg/L", CCME, "memory", duration=_LT),
     Published("mercury", "total", 0.026, "µg/L", CCME + " (inorganic mercury)", _STATCAN, duration=_LT),
@@ -351,8 +358,8 @@ CCME_FRESHWATER = [
     Published("thallium", "total", 0.8, "µg/L", CCME, "memory", duration=_LT),
     Published("iron", "total", 300, "µg/L", CCME, "memory", duration=_LT),
     Published("silver", "total", 0.25, "µg/L", CCME + ", silver 2015", "memory", duration=_LT),
-    Published("uranium", "total", 15, "µg/L", CCME + ", uranium 2011", "memory", duration=_LT),
-    Published("uranium", "total", 33, "µg/L", CCME + ", uranium 2011", "memory", duration=_ST),
+    Published("uranium", "total", 15, "µg/L", CCME + ", uranium 2011", _EC_U, duration=_LT),
+    Published("uranium", "total", 33, "µg/L", CCME + ", uranium 2011", _EC_U, duration=_ST),
     Published("boron", "total", 1.5, "mg/L", CCME, "memory", duration=_LT),
     Published("boron", "total", 29, "mg/L", CCME, "memory", duration=_ST),
 ]
@@ -360,6 +367,7 @@ CCME_FRESHWATER = [
 HC = "Health Canada, Guidelines for Canadian Drinking Water Quality, summary table"
 _MACC, _AO = "maximum acceptable concentration", "aesthetic objective"
 _OGP = "checked (secondary: Open Government Portal record of the guideline technical document)"
+_HC_CU_2018 = "the 2018 proposal for the 2019 copper document, PMC6960211 Table 5"
 _MN2019 = "checked (secondary: news pages on the 2019 manganese guideline, esemag.com and adedgetech.com)"
 
 HEALTH_CANADA = [
@@ -371,16 +379,28 @@ HEALTH_CANADA = [
               duration=_MACC),
     Published("cadmium", "total", 0.007, "mg/L", HC + " (cadmium, 2020)",
               "checked (secondary: heavymetalindex.com summary of the 2020 cadmium document)", duration=_MACC),
-    Published("antimony", "total", 0.006, "mg/L", HC, "memory", duration=_MACC),
-    Published("barium", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
-    Published("selenium", "total", 0.05, "mg/L", HC, "memory", duration=_MACC),
-    Published("uranium", "total", 0.02, "mg/L", HC, "memory", duration=_MACC),
-    Published("strontium", "total", 7.0, "mg/L", HC, "memory", duration=_MACC),
-    Published("copper", "total", 2.0, "mg/L", HC, "memory", duration=_MACC),
-    Published("copper", "total", 1.0, "mg/L", HC, "memory", duration=_AO),
+    Published("antimony", "total", 0.006, "mg/L", HC, _OGP + " ('MAC for antimony ... is 0.006 mg/L (6 µg/L)')",
+              duration=_MACC),
+    Published("barium", "total", 2.0, "mg/L", HC + " (barium, 2020)",
+              "checked (law: barium guideline technical document, hc-sc.gc.ca copy, 'MAC for total barium ... is 2.0 mg/L')",
+              duration=_MACC),
+    Published("selenium", "total", 0.05, "mg/L", HC,
+              "checked (law: selenium guideline technical document, canada.ca copy, section 11.0 'A MAC of 0.05 mg/L')",
+              duration=_MACC),
+    Published("uranium", "total", 0.02, "mg/L", HC, "memory (only the 2019 proposal of 0.02 mg/L was seen)", duration=_MACC),
+    Published("strontium", "total", 7.0, "mg/L", HC + " (strontium, 2019)",
+              "checked (law: Canada Gazette Part I 2019-05-25, final guideline 'MAC for total strontium ... is 7.0 mg/L')",
+              duration=_MACC),
+    Published("copper", "total", 2.0, "mg/L", HC + " (copper, 2019)", "memory (only " + _HC_CU_2018 + " was seen)",
+              duration=_MACC),
+    Published("copper", "total", 1.0, "mg/L", HC + " (copper, 2019)",
+              "checked (secondary: superseded 1992 copper document 'aesthetic objective ... is <=1.0 mg/L', healthycanadians.gc.ca; "
+              + _HC_CU_2018 + ")", duration=_AO),
     Published("manganese", "total", 0.12, "mg/L", HC + " (manganese, 2019)", _MN2019, duration=_MACC),
     Published("manganese", "total", 0.02, "mg/L", HC + " (manganese, 2019)", _MN2019, duration=_AO),
-    Published("aluminium", "total", 2.9, "mg/L", HC, "memory", duration=_MACC),
+    Published("aluminium", "total", 2.9, "mg/L", HC + " (aluminum, 2021; locational running annual average)",
+              "checked (secondary: 2021 aluminum document quoted by waterstp.ca and summarised by heavymetalindex.com, MAC 2.9 mg/L)",
+              duration=_MACC),
     Published("iron", "total", 0.3, "mg/L", HC, _OGP, duration=_AO),
     Published("zinc", "total", 5.0, "mg/L", HC, _OGP, duration=_AO),
 ]
@@ -411,16 +431,31 @@ ANZG_FRESHWATER = [_anzg(a, lvl, v, x) for a, (vals, x) in _ANZG_VALUES.items() 
 ADWG = "NHMRC, NRMMC (2011) Australian Drinking Water Guidelines, Table 10.6"
 _ADWG_LAW = "checked (law: NHMRC guidelines site copy of Table 10.6)"
 
+
+def _adwg_sheet(name: str, endorsed: int) -> str:
+    return f"checked (law: NHMRC guidelines site, {name} fact sheet (endorsed {endorsed}), 'should not exceed')"
+
+
+_ADWG_CU = "checked (secondary: review table reproducing NHMRC 2011, PMC6960211 Table 5)"
+_ADWG_MN = "checked (secondary: Albury City Council water quality page, 'health value 0.5 / aesthetic value 0.1 mg/litre')"
+
 ADWG_2011 = [
     Published("aluminium", "total", 0.2, "mg/L", ADWG + " (acid-soluble)", _ADWG_LAW, duration="aesthetic"),
     Published("antimony", "total", 0.003, "mg/L", ADWG, _ADWG_LAW, duration="health"),
     Published("arsenic", "total", 0.01, "mg/L", ADWG, _ADWG_LAW, duration="health"),
+    Published("beryllium", "total", 0.06, "mg/L", ADWG, _adwg_sheet("beryllium", 2011), duration="health"),
+    Published("boron", "total", 4, "mg/L", ADWG,
+              "checked (secondary: Health Canada boron technical document 2023, Table 6 'Australia 2011 4 mg/L')", duration="health"),
+    Published("cadmium", "total", 0.002, "mg/L", ADWG, _adwg_sheet("cadmium", 1996), duration="health"),
+    Published("copper", "total", 2, "mg/L", ADWG, _ADWG_CU, duration="health"),
+    Published("copper", "total", 1, "mg/L", ADWG, _ADWG_CU, duration="aesthetic"),
+    Published("manganese", "total", 0.5, "mg/L", ADWG, _ADWG_MN, duration="health"),
+    Published("manganese", "total", 0.1, "mg/L", ADWG, _ADWG_MN, duration="aesthetic"),
+    Published("molybdenum", "total", 0.05, "mg/L", ADWG, _adwg_sheet("molybdenum", 1996), duration="health"),
     *[Published(a, "total", v, "mg/L", ADWG, "memory", duration=d) for a, v, d in (
-        ("barium", 2, "health"), ("beryllium", 0.06, "health"), ("boron", 4, "health"), ("cadmium", 0.002, "health"),
-        ("chromium(vi)", 0.05, "health"), ("copper", 2, "health"), ("copper", 1, "aesthetic"), ("iron", 0.3, "aesthetic"),
-        ("lead", 0.01, "health"), ("manganese", 0.5, "health"), ("manganese", 0.1, "aesthetic"),
-        ("mercury", 0.001, "health"), ("molybdenum", 0.05, "health"), ("nickel", 0.02, "health"),
-        ("selenium", 0.01, "health"), ("silver", 0.1, "health"), ("uranium", 0.017, "health"), ("zinc", 3, "aesthetic"))],
+        ("barium", 2, "health"), ("chromium(vi)", 0.05, "health"), ("iron", 0.3, "aesthetic"), ("lead", 0.01, "health"),
+        ("mercury", 0.001, "health"), ("nickel", 0.02, "health"), ("selenium", 0.01, "health"), ("silver", 0.1, "health"),
+        ("uranium", 0.017, "health"), ("zinc", 3, "aesthetic"))],
 ]
 
 #: table id -> (file in limits/: the default set at the top, further tables in a folder per region; records)

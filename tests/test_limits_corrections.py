@@ -37,6 +37,19 @@ def test_eu_antimony_before_and_after_the_recast(day, limit, table, status):
     assert out[["limit_table", "limit_ug_L", "status"]].values.tolist() == [[table, limit, status]]
 
 
+@pytest.mark.parametrize("day, limit, status", [
+    ("2013-12-24", 25.0, "meets"),     # last day of the 98/83/EC Note 4 transitional value
+    ("2013-12-25", 10.0, "exceeds"),   # 15 years after entry into force (25 December 1998): 10 µg/l
+])
+def test_eu_lead_transitional_value_ends_on_24_december_2013(day, limit, status):
+    """15 µg/L lead at the tap: meets the transitional 25 µg/l up to 24 December 2013 and exceeds the 10 µg/l
+    from 25 December 2013 (98/83/EC Annex I Note 4; the UK standard "changed from 25µg/l to 10µg/l on the
+    25th December, 2013", S2 Partnership news, 10 January 2014, secondary)."""
+    out = screen(make_results([{"analyte": "lead", "sampled_at": day, "value": 15.0}]),
+                 load_limits(LIMITS / "eu_dwd_98_83.yaml"))
+    assert out[["limit_ug_L", "status"]].values.tolist() == [[limit, status]]
+
+
 def test_eu_uranium_has_no_value_before_the_recast():
     """98/83/EC had no uranium value: a 2020 uranium result has no EU limit; a 2024 one has 30 µg/l."""
     out = screen(make_results([{"analyte": "uranium", "sampled_at": d, "value": 12.0}

@@ -3,8 +3,6 @@ within a dissolved criterion meets it (total >= dissolved for one sample; common
 definition of the fractions: the dissolved fraction is the part of the total that passes a
 0.45 µm filter, US EPA Method 200.8 section 3 / Standard Methods 3030 B)."""
 
-import numpy as np
-import pandas as pd
 import pytest
 from lab_files import write_csv
 
@@ -41,13 +39,6 @@ def limits(tmp_path):
     (tmp_path / "lim" / "dw.yaml").write_text(DW)
     (tmp_path / "lim" / "aq.yaml").write_text(AQ)
     return load_limits(tmp_path / "lim")
-
-
-@pytest.fixture
-def sites():
-    return pd.DataFrame({"site_id": ["W", "R"], "name": ["well", "river"], "latitude": [0.0, 0.0],
-                         "longitude": [0.0, 0.0], "uses": [("drinking_water",), ("freshwater_aquatic",)],
-                         "hardness_mg_L": [np.nan, np.nan]})
 
 
 def _screen(tmp_path, body, limits, sites, **kw):

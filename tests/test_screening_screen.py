@@ -46,13 +46,6 @@ def limits(tmp_path):
     return load_limits(tmp_path / "lim")
 
 
-@pytest.fixture
-def sites():
-    return pd.DataFrame({"site_id": ["W", "R"], "name": ["well", "river"], "latitude": [0.0, 0.0],
-                         "longitude": [0.0, 0.0], "uses": [("drinking_water",), ("freshwater_aquatic",)],
-                         "hardness_mg_L": [np.nan, np.nan]})
-
-
 def _screen(tmp_path, body, limits, sites):
     res = load_results([write_csv(tmp_path, HEAD + body)], LoadOptions())
     assert res.rejected.empty, res.rejected

@@ -28,19 +28,18 @@ def file_table(session: SessionData) -> html.Table:
     return html_table(files, "dq-files-table")
 
 
+def _count_table(counts: pd.DataFrame, table_id: str, none_text: str):
+    """Counts (column ``rows``) as an HTML table, or a sentence when there are none."""
+    if counts.empty:
+        return html.P(none_text)
+    return html_table(counts.assign(rows=counts["rows"].astype(object).map(int)), table_id)
+
+
 def reason_table(session: SessionData):
     """Rejected rows counted by reason."""
-    counts = reason_counts(session)
-    if counts.empty:
-        return html.P("No rejected rows.")
-    counts["rows"] = counts["rows"].astype(object).map(int)
-    return html_table(counts, "dq-reasons-table")
+    return _count_table(reason_counts(session), "dq-reasons-table", "No rejected rows.")
 
 
 def set_aside_table(session: SessionData):
     """Rows set aside (not screened) counted by kind."""
-    counts = set_aside_counts(session)
-    if counts.empty:
-        return html.P("No rows set aside.")
-    counts["rows"] = counts["rows"].astype(object).map(int)
-    return html_table(counts, "dq-aside-kinds-table")
+    return _count_table(set_aside_counts(session), "dq-aside-kinds-table", "No rows set aside.")

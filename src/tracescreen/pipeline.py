@@ -23,6 +23,7 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
 
 ``tracescreen screen``, ``trends`` and ``report`` and the dashboard call these functions; none
 wires the stages itself. The module is light to import: each step imports its stage when it runs.
+Each step reports its progress (:mod:`tracescreen.progress`) to ``run(..., progress=callback)``.
 
 Examples
 --------
@@ -38,6 +39,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable
 
+from tracescreen.progress import Callback, report, reporting, stage
 from tracescreen.retest.labqc.options import LabQcOptions
 from tracescreen.retest.options import RetestOptions
 from tracescreen.statistics.options import StatisticsOptions
@@ -205,7 +207,7 @@ def read_results(inputs: Inputs, sites=None):
     if inputs.workspace:
         from tracescreen.store.workspace import open_workspace
 
-        with open_workspace(inputs.workspace) as ws:
+        with stage("read", detail=Path(inputs.workspace).name), open_workspace(inputs.workspace) as ws:
             return ws.load_result(sites, sites_name)
     from tracescreen.io.loading import load_results
 
@@ -231,6 +233,7 @@ def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
     from tracescreen._internal.memory import release_unused
     from tracescreen.screening.parts import PART_ROWS, screen_in_parts
 
+    report("screen", 0, len(accepted))
     screened, periods = screen_in_parts(accepted, limits, sites,
                                         cross_fraction=options.cross_fraction, with_periods=options.periods,
                                         part_rows=options.part_rows or PART_ROWS)
@@ -239,26 +242,23 @@ def screen(accepted, limits, sites, options: Options) -> tuple[Any, Any]:
 
         screened = uncertainty_decision(screened, options.guard_band)
     release_unused()
+    report("screen", len(accepted), len(accepted), finished=True)
     return screened, periods
 
 
 def statistics(accepted, screened, options: StatisticsOptions) -> dict:
     """Step 3: the statistics tables ``options.tables`` asks for: ``summary``, ``exceedances``, ``trends``."""
     from tracescreen._internal.memory import release_unused
+    from tracescreen.statistics.summary import exceedance_rates, summarise
 
-    out = {}
-    if "summary" in options.tables:
-        from tracescreen.statistics.summary import summarise
-
-        out["summary"] = summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed)
+    steps = {"summary": lambda: summarise(accepted, method=options.method, n_boot=options.n_boot, seed=options.seed),
+             "exceedances": lambda: exceedance_rates(screened), "trends": lambda: trends(accepted, screened, options)}
+    names, out = [t for t in steps if t in options.tables], {}
+    for k, name in enumerate(names):
+        report("statistics", k, len(names), unit="tables", detail=name)
+        out[name] = steps[name]()
         release_unused()
-    if "exceedances" in options.tables:
-        from tracescreen.statistics.summary import exceedance_rates
-
-        out["exceedances"] = exceedance_rates(screened)
-    if "trends" in options.tables:
-        out["trends"] = trends(accepted, screened, options)
-        release_unused()
+    report("statistics", len(names), len(names), unit="tables", finished=True)
     return out
 
 
@@ -284,6 +284,11 @@ def lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, An
         ``inputs.qc_files`` carry laboratory QC rows) and
         :class:`tracescreen.retest.calibration.review.CalibrationReview` (None without calibration files).
     """
+    with stage("lab_qc"):
+        return _lab_qc(data, inputs, options)
+
+
+def _lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, Any]:
     from tracescreen.retest.labqc.review import review_load
     from tracescreen.retest.labqc.windows import load_windows
 
@@ -315,13 +320,14 @@ def retest(screened, options: RetestOptions, lab_qc=None):
     from tracescreen._internal.memory import release_unused
     from tracescreen.retest.listing import retest_list
 
-    out = retest_list(screened, options, lab_qc=lab_qc)
-    release_unused()
+    with stage("retest"):
+        out = retest_list(screened, options, lab_qc=lab_qc)
+        release_unused()
     return out
 
 
 def run(inputs: Inputs, options: Options | None = None,
-        on_loaded: Callable[[Loaded], None] | None = None) -> Results:
+        on_loaded: Callable[[Loaded], None] | None = None, progress: Callback | None = None) -> Results:
     """Load, screen, compute statistics, review the laboratory QC and build the retest list: every
     output table of one run.
 
@@ -333,12 +339,19 @@ def run(inputs: Inputs, options: Options | None = None,
         What to compute; the defaults compute everything.
     on_loaded : callable, optional
         Called with the :class:`Loaded` inputs before screening (e.g. to show the loader's warnings).
+    progress : callable, optional
+        Receives a :class:`tracescreen.progress.Step` as each step gets on (stage, units done, total);
+        None keeps the callback of an enclosing ``progress.reporting`` block, if any.
 
     Returns
     -------
     Results
     """
-    options = options or Options()
+    with reporting(progress):
+        return _run(inputs, options or Options(), on_loaded)
+
+
+def _run(inputs: Inputs, options: Options, on_loaded) -> Results:
     data = load(inputs, options.record_run)
     if on_loaded is not None:
         on_loaded(data)
@@ -376,4 +389,5 @@ def wells(accepted, screened, options: WellsOptions) -> dict:
     tolerance limits and confidence limits against the screened limits (one table per method)."""
     from tracescreen.statistics.background.run import well_statistics
 
-    return well_statistics(accepted, options.network, options.design, screened, options.background_standard)
+    with stage("wells"):
+        return well_statistics(accepted, options.network, options.design, screened, options.background_standard)

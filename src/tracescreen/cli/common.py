@@ -14,20 +14,22 @@ from tracescreen.caution import CAUTION
 from tracescreen.vocabulary import DATE_ORDERS
 
 from . import UserError
+from .parser import group
 
 
 def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) -> None:
     """Add the options that say which results, limit tables and sites to read."""
-    p.add_argument("results", nargs="*", metavar="RESULTS",
-                   help="lab result files (CSV or XLSX); or use --workspace")
-    p.add_argument("--workspace", metavar="DIR",
-                   help="use the current results of this workspace (see 'tracescreen import') instead of "
-                        "lab files; the run is recorded in it with the SHA-256 of the limit tables and sites")
-    p.add_argument("--limits", required=True, metavar="PATH", action="append",
-                   help="limit table (YAML) or folder of tables; repeat for several")
-    p.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
-                   "hardness_mg_L); without it every table applies to every site")
-    p.add_argument("--same-fraction-only", dest="cross_fraction", action="store_false",
+    inputs, limits = group(p, "inputs"), group(p, "limits")
+    inputs.add_argument("results", nargs="*", metavar="RESULTS",
+                        help="lab result files (CSV or XLSX); or use --workspace")
+    inputs.add_argument("--workspace", metavar="DIR",
+                        help="use the current results of this workspace (see 'tracescreen import') instead of "
+                             "lab files; the run is recorded in it with the SHA-256 of the limit tables and sites")
+    inputs.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
+                        "hardness_mg_L); without it every table applies to every site")
+    limits.add_argument("--limits", required=True, metavar="PATH", action="append",
+                        help="limit table (YAML) or folder of tables; repeat for several")
+    limits.add_argument("--same-fraction-only", dest="cross_fraction", action="store_false",
                    help="compare results only with limits of their own fraction; by default a dissolved result "
                         "above a total limit exceeds it and a total result within a dissolved criterion meets it "
                         "(total >= dissolved), when the sample has no result of the limit's fraction")
@@ -37,15 +39,16 @@ def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) 
 
 def add_reading_options(p: argparse.ArgumentParser) -> None:
     """Add the options that say how to read lab files."""
-    p.add_argument("--columns", metavar="FILE", help="YAML mapping of the lab's headers to canonical columns")
-    p.add_argument("--date-order", choices=DATE_ORDERS, default="iso",
+    g = group(p, "reading")
+    g.add_argument("--columns", metavar="FILE", help="YAML mapping of the lab's headers to canonical columns")
+    g.add_argument("--date-order", choices=DATE_ORDERS, default="iso",
                    help="how to read dates that are not ISO 8601: dmy (04/03/2021 = 4 March) or mdy; "
                         "default iso accepts ISO 8601 only")
-    p.add_argument("--decimal-comma", action="store_true", help="read 0,5 as 0.5 (otherwise rejected)")
-    p.add_argument("--encoding", default="utf-8", help="text encoding of CSV files (default utf-8)")
-    p.add_argument("--default-fraction", choices=("total", "dissolved"),
+    g.add_argument("--decimal-comma", action="store_true", help="read 0,5 as 0.5 (otherwise rejected)")
+    g.add_argument("--encoding", default="utf-8", help="text encoding of CSV files (default utf-8)")
+    g.add_argument("--default-fraction", choices=("total", "dissolved"),
                    help="fraction for rows that give none (otherwise such rows are rejected)")
-    p.add_argument("--sheet", help="read only this sheet of XLSX files (default: every sheet with recognisable columns)")
+    g.add_argument("--sheet", help="read only this sheet of XLSX files (default: every sheet with recognisable columns)")
 
 
 def load_options(args):

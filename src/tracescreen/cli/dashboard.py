@@ -13,18 +13,29 @@ import subprocess
 import sys
 
 from .common import add_data_options
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen dashboard --workspace out/demo-workspace --limits limits --limits scenario_data/limits "
+    "--sites scenario_data/sites.csv --port 8060",
+]
 
 
 def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     """The dashboard's options (shared by ``tracescreen dashboard`` and ``python -m dashboard``)."""
     add_data_options(p, results_required=False)
-    p.add_argument("--results", nargs="+", default=[], dest="results_option", metavar="FILE",
+    group(p, "inputs").add_argument("--results", nargs="+", default=[], dest="results_option", metavar="FILE",
                    help="lab result files (CSV or XLSX), as an option instead of positional")
-    p.add_argument("--host", default="127.0.0.1",
-                   help="address to listen on; the default serves this machine only")
-    p.add_argument("--port", type=int, default=8050, help="port to listen on")
-    p.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
-    p.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+    server = group(p, "server")
+    server.add_argument("--host", default="127.0.0.1",
+                        help="address to listen on; the default serves this machine only (there is no login: "
+                             "never serve beyond a trusted network)")
+    server.add_argument("--port", type=int, default=8050, help="port to listen on")
+    server.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
+    server.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+    group(p, "inputs").add_argument(
+        "--overlay", action="append", default=[], metavar="GEOJSON",
+        help="a GeoJSON file (catchment, rivers, site boundaries) drawn under the sites on the map; repeatable")
     from .wells import add_wells_options
 
     add_wells_options(p, design_options=False)
@@ -39,8 +50,7 @@ def register(sub) -> None:
     p = sub.add_parser(
         "dashboard", help="start the dashboard (a local web page) on results and limit tables",
         description="Start the tracescreen dashboard: overview matrix, map, site charts, exceedances, "
-                    "retest list, data quality, limit tables and uploads, at http://HOST:PORT/.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+                    "retest list, data quality, limit tables and uploads, at http://HOST:PORT/.")
     add_dashboard_options(p)
     p.set_defaults(func=run)
 
@@ -56,6 +66,8 @@ def to_argv(args: argparse.Namespace) -> list[str]:
         if getattr(args, opt, None):
             argv += [f"--{opt.replace('_', '-')}", str(getattr(args, opt))]
     argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
+    for path in getattr(args, "overlay", []) or []:
+        argv += ["--overlay", str(path)]
     if not args.cross_fraction:
         argv.append("--same-fraction-only")
     for opt in ("network", "design"):

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
-import argparse
-
 from .common import print_caution
+from .parser import group
+
+EXAMPLES = ["tracescreen export --workspace out/demo-workspace --parquet out/demo-parquet"]
 
 
 def register(sub) -> None:
@@ -12,11 +13,11 @@ def register(sub) -> None:
         "export", help="write the workspace's current results as Parquet, one folder per year",
         description="Write the current results of the workspace, with their provenance (file, sheet, "
                     "row, import, the file's SHA-256), as a Parquet dataset partitioned by sampling "
-                    "year (DIR2/year=2021/part-0.parquet), for use in other tools.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
-    p.add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
-    p.add_argument("--parquet", required=True, metavar="DIR2", help="new (or empty) folder to write")
-    p.add_argument("--history", action="store_true",
+                    "year (DIR2/year=2021/part-0.parquet), for use in other tools.")
+    group(p, "inputs").add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
+    out = group(p, "output")
+    out.add_argument("--parquet", required=True, metavar="DIR2", help="new (or empty) folder to write")
+    out.add_argument("--history", action="store_true",
                    help="include superseded results (column superseded_by names the import that replaced them)")
     p.set_defaults(func=run)
 

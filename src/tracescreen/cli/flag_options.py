@@ -6,12 +6,14 @@ import re
 
 from tracescreen.retest.options import REASONS, RetestOptions
 
+from .parser import group
+
 _DURATION = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*(h|d|m)\s*$", re.IGNORECASE)
 
 
 def add_retest_options(p) -> None:
     """Add the thresholds of the retest flags (defaults: common practice or the cited source)."""
-    g = p.add_argument_group("retest flags and QC checks (retest.csv)")
+    g = group(p, "retest")
     g.add_argument("--lookback", default="all", metavar="N|DAYSd|all",
                    help="first exceedance: earlier results to look back over: a number of sampling dates "
                         "(e.g. 4), a duration in days (e.g. 730d) or all (default)")

@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
-import argparse
 import json
 
 from . import UserError
 from .common import print_caution
+from .parser import group
+
+EXAMPLES = ["tracescreen history --workspace out/demo-workspace --check"]
 
 _COUNTS = ["rows_read", "rows_new", "rows_unchanged", "rows_revised", "rows_superseded", "rows_rejected"]
 
@@ -16,13 +18,13 @@ def register(sub) -> None:
         "history", help="list a workspace's imports, files and screening runs",
         description="List every import (time, files, rows new/unchanged/revised/rejected), every stored "
                     "file with its SHA-256, and every screening run with the SHA-256 of its limit tables "
-                    "and sites file. With --sample, show every stored version of that sample's results.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
-    p.add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
-    p.add_argument("--sample", metavar="ID", help="show every version of this sample's results, with provenance")
-    p.add_argument("--rejected", action="store_true", help="list the rejected rows with their reasons")
-    p.add_argument("--check", action="store_true",
-                   help="also check the workspace's integrity (database, stored files, counts); exit 1 if damaged")
+                    "and sites file. With --sample, show every stored version of that sample's results.")
+    group(p, "inputs").add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
+    out = group(p, "output")
+    out.add_argument("--sample", metavar="ID", help="show every version of this sample's results, with provenance")
+    out.add_argument("--rejected", action="store_true", help="list the rejected rows with their reasons")
+    out.add_argument("--check", action="store_true",
+                     help="also check the workspace's integrity (database, stored files, counts); exit 2 if damaged")
     p.set_defaults(func=run)
 
 
@@ -72,6 +74,6 @@ def run(args) -> int:
         print("\nIntegrity: " + ("sound" if not problems else f"{len(problems)} problem(s)"))
         for p in problems:
             print(f"  {p}")
-        code = 1 if problems else 0
+        code = 2 if problems else 0  # a damaged workspace is unusable input (README "Exit codes")
     print_caution()
     return code

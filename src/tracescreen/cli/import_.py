@@ -2,11 +2,16 @@
 
 from __future__ import annotations
 
-import argparse
 import sys
 from pathlib import Path
 
 from .common import add_reading_options, load_options, print_caution
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen import scenario_data/lab_results_fernleigh_2017-2020.csv scenario_data/lab_results_fernleigh_2021-2025.csv "
+    "--sites scenario_data/sites.csv --workspace out/demo-workspace",
+]
 
 
 def register(sub) -> None:
@@ -16,14 +21,15 @@ def register(sub) -> None:
                     "with their provenance: file, SHA-256, sheet, row, import and the original file. "
                     "The import lands whole or not at all. A file already in the workspace adds nothing; "
                     "a revised report supersedes the earlier values of the same results, which stay in "
-                    "the history.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
-    p.add_argument("files", nargs="+", metavar="FILE", help="lab result files (CSV or XLSX)")
-    p.add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
-    p.add_argument("--sites", metavar="FILE",
-                   help="sites CSV: results of sites not in it are rejected (with that reason)")
+                    "the history.")
+    inputs = group(p, "inputs")
+    inputs.add_argument("files", nargs="+", metavar="FILE", help="lab result files (CSV or XLSX)")
+    inputs.add_argument("--workspace", required=True, metavar="DIR", help="workspace folder")
+    inputs.add_argument("--sites", metavar="FILE",
+                        help="sites CSV: results of sites not in it are rejected (with that reason)")
     add_reading_options(p)
-    p.add_argument("--progress", action="store_true", help="print each step of the import on stderr")
+    group(p, "output").add_argument("--progress", action="store_true",
+                                    help="print each step of the import on stderr as a line (for logs)")
     p.set_defaults(func=run)
 
 

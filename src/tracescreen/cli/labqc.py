@@ -18,11 +18,16 @@ from pathlib import Path
 
 from . import UserError
 from .common import add_reading_options, print_caution, results_from_args, warn
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen labqc scenario_data/lab_results_fernleigh_2021-2025.csv --out out/demo-labqc",
+]
 
 
 def add_lab_qc_options(p: argparse.ArgumentParser, qc_help: str = "") -> None:
     """Add the options of the laboratory QC review and the calibration checks."""
-    g = p.add_argument_group("laboratory QC and calibration (see 'tracescreen labqc')")
+    g = group(p, "labqc")
     g.add_argument("--qc", metavar="FILE", action="append", default=[],
                    help=qc_help or "a separate laboratory QC summary file (CSV or XLSX); repeat for several. "
                                    "The QC rows of the lab files are reviewed without it")
@@ -84,11 +89,11 @@ def register(sub) -> None:
         description="Judge every laboratory QC element of each batch (calibration checks, blanks, control "
                     "samples, matrix spikes, duplicates, interference checks, serial dilutions, internal "
                     "standards) against the laboratory's own limits or the US EPA National Functional "
-                    "Guidelines defaults, and qualify the results of the batch (U, J, J+, J-, UJ, R).",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
-    p.add_argument("results", nargs="*", metavar="RESULTS", help="lab result files (CSV or XLSX); or --workspace")
-    p.add_argument("--workspace", metavar="DIR", help="use the current results of this workspace instead of lab files")
-    p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
+                    "Guidelines defaults, and qualify the results of the batch (U, J, J+, J-, UJ, R).")
+    inputs = group(p, "inputs")
+    inputs.add_argument("results", nargs="*", metavar="RESULTS", help="lab result files (CSV or XLSX); or --workspace")
+    inputs.add_argument("--workspace", metavar="DIR", help="use the current results of this workspace instead of lab files")
+    group(p, "output").add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
     add_lab_qc_options(p)
     add_reading_options(p)
     p.set_defaults(func=run, results_required=False)

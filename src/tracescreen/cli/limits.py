@@ -7,13 +7,18 @@ Users check their tables with it before screening.
 
 from __future__ import annotations
 
-import argparse
 import datetime as dt
 
 from tracescreen.limits.schema import SCOPE_ATTRIBUTES
 
 from . import UserError
 from .common import print_caution
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen limits --limits limits/us_epa_nrwqc_freshwater_aquatic_life.yaml --date 2024-06-30 "
+    "--hardness 100 --analyte copper --analyte zinc",
+]
 
 
 def register(sub) -> None:
@@ -22,24 +27,25 @@ def register(sub) -> None:
         description="List every entry of the limit tables in force on DATE, with its limit computed for the "
                     "given water chemistry (hardness as CaCO3, pH, dissolved organic carbon, temperature) "
                     "and site attributes, its unit, basis, duration, scope and source, and the limit in words. "
-                    "An entry whose inputs are not given shows no value and says which input is missing.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
-    p.add_argument("--limits", required=True, metavar="PATH", action="append",
-                   help="limit table (YAML) or folder of tables; repeat for several")
-    p.add_argument("--table", metavar="ID", action="append", help="show only this table id (repeat for several)")
-    p.add_argument("--date", default=dt.date.today().isoformat(), metavar="YYYY-MM-DD", help="sampling date")
-    p.add_argument("--hardness", type=float, metavar="MG_L", help="hardness [mg/L as CaCO3]")
-    p.add_argument("--ph", type=float, metavar="PH", help="pH [pH units]")
-    p.add_argument("--doc", type=float, metavar="MG_L", help="dissolved organic carbon [mg/L]")
-    p.add_argument("--temperature", type=float, metavar="C", help="temperature [°C]")
-    p.add_argument("--site-attribute", metavar="NAME=VALUE", action="append", default=[],
-                   help="site attribute that scopes entries: " + "; ".join(
-                       f"{k} ({', '.join(v)})" for k, v in SCOPE_ATTRIBUTES.items()))
-    p.add_argument("--analyte", metavar="NAME", action="append", help="show only this analyte (repeat for several)")
-    p.add_argument("--sites", metavar="FILE", help="sites CSV; with --site, take that site's uses, default "
-                   "hardness, pH, DOC, temperature and attributes (options given here win)")
-    p.add_argument("--site", metavar="ID", help="a site id of --sites")
-    p.add_argument("--out", metavar="FILE.csv", help="also write the rows as CSV")
+                    "An entry whose inputs are not given shows no value and says which input is missing.")
+    lim, inputs = group(p, "limits"), group(p, "inputs")
+    lim.add_argument("--limits", required=True, metavar="PATH", action="append",
+                     help="limit table (YAML) or folder of tables; repeat for several")
+    lim.add_argument("--table", metavar="ID", action="append", help="show only this table id (repeat for several)")
+    inputs.add_argument("--date", default=dt.date.today().isoformat(), metavar="YYYY-MM-DD",
+                        help="sampling date (default today)")
+    inputs.add_argument("--hardness", type=float, metavar="MG_L", help="hardness [mg/L as CaCO3]")
+    inputs.add_argument("--ph", type=float, metavar="PH", help="pH [pH units]")
+    inputs.add_argument("--doc", type=float, metavar="MG_L", help="dissolved organic carbon [mg/L]")
+    inputs.add_argument("--temperature", type=float, metavar="C", help="temperature [°C]")
+    inputs.add_argument("--site-attribute", metavar="NAME=VALUE", action="append", default=[],
+                        help="site attribute that scopes entries: " + "; ".join(
+                            f"{k} ({', '.join(v)})" for k, v in SCOPE_ATTRIBUTES.items()))
+    lim.add_argument("--analyte", metavar="NAME", action="append", help="show only this analyte (repeat for several)")
+    inputs.add_argument("--sites", metavar="FILE", help="sites CSV; with --site, take that site's uses, default "
+                        "hardness, pH, DOC, temperature and attributes (options given here win)")
+    inputs.add_argument("--site", metavar="ID", help="a site id of --sites")
+    group(p, "output").add_argument("--out", metavar="FILE.csv", help="also write the rows as CSV")
     p.set_defaults(func=run)
 
 

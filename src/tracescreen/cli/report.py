@@ -2,15 +2,22 @@
 
 from __future__ import annotations
 
-import argparse
 from pathlib import Path
 
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options
+from .parser import group
 from .trends import add_statistics_options, statistics_options
 from .wells import add_wells_options, wells_options
+
+EXAMPLES = [
+    "tracescreen report scenario_data/lab_results_fernleigh_2017-2020.csv scenario_data/lab_results_fernleigh_2021-2025.csv "
+    "scenario_data/lab_results_eastbank.xlsx --columns scenario_data/columns_eastbank.yaml "
+    "--sites scenario_data/sites.csv --limits limits --limits scenario_data/limits "
+    "--out out/demo/report.html --xlsx out/demo/report.xlsx --client 'Kestrel Catchment Trust' --prepared-by 'A. Analyst'",
+]
 
 #: choices of --charts (tracescreen.report.charts.WHICH; kept here so that --help loads no pandas)
 CHART_CHOICES = ("findings", "all", "none")
@@ -30,27 +37,28 @@ def register(sub) -> None:
                     "exceedances with their limits side by side; undecided results; trends; charts per metal "
                     "with one panel per site; the confirmatory retest list; laboratory QC and wells where given; "
                     "appendices with the statistical design, full limit citations, files and rejected rows, "
-                    "and the codes behind the words. Charts and PDF need Chromium or Chrome.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+                    "and the codes behind the words. Charts and PDF need Chromium or Chrome.")
     add_data_options(p)
     add_statistics_options(p)
-    p.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
-    p.add_argument("--pdf", metavar="FILE.pdf", help="also print the report to PDF (headless Chromium)")
-    p.add_argument("--docx", metavar="FILE.docx", help="also write an editable Word document")
-    p.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
-    p.add_argument("--site", action="append", metavar="ID",
-                   help="report only this site (repeat for several; default all)")
-    p.add_argument("--title", help="report title (default names the sites)")
-    p.add_argument("--cover", metavar="FILE.yaml", help="cover fields (title, client, project, site, prepared_by, "
-                   "checked_by, version, date, notes) from a YAML file; the options below win over it")
+    out, contents, cover = group(p, "output"), group(p, "contents"), group(p, "cover")
+    out.add_argument("--out", required=True, metavar="FILE.html", help="HTML file to write")
+    out.add_argument("--pdf", metavar="FILE.pdf", help="also print the report to PDF (headless Chromium)")
+    out.add_argument("--docx", metavar="FILE.docx", help="also write an editable Word document")
+    out.add_argument("--xlsx", metavar="FILE", help="also write a workbook with one sheet per table")
+    contents.add_argument("--site", action="append", metavar="ID",
+                          help="report only this site (repeat for several; default all)")
+    cover.add_argument("--title", help="report title (default names the sites)")
+    cover.add_argument("--cover", metavar="FILE.yaml", help="cover fields (title, client, project, site, prepared_by, "
+                       "checked_by, version, date, notes) from a YAML file; the options below win over it")
     for name, text in COVER_OPTIONS:
-        p.add_argument(f"--{name}", metavar="TEXT", help=text)
-    p.add_argument("--charts", choices=CHART_CHOICES, default="findings",
-                   help="chart the series with findings (an exceedance, or a rising trend toward a limit), all, or none")
-    p.add_argument("--max-charts", type=int, default=96, metavar="N",
-                   help="draw at most N chart panels (one per site and metal); the rest are named")
-    p.add_argument("--max-rows", type=int, default=1000, metavar="N",
-                   help="rows of a long table in the report (every row is in the workbook)")
+        cover.add_argument(f"--{name}", metavar="TEXT", help=text)
+    contents.add_argument("--charts", choices=CHART_CHOICES, default="findings",
+                          help="chart the series with findings (an exceedance, or a rising trend toward a limit), "
+                               "all, or none")
+    contents.add_argument("--max-charts", type=int, default=96, metavar="N",
+                          help="draw at most N chart panels (one per site and metal); the rest are named")
+    contents.add_argument("--max-rows", type=int, default=1000, metavar="N",
+                          help="rows of a long table in the report (every row is in the workbook)")
     add_retest_options(p)
     add_lab_qc_options(p)
     add_wells_options(p, design_options=False)
@@ -75,7 +83,7 @@ def report_options(args):
 
 
 def run(args) -> int:
-    from tracescreen import pipeline
+    from tracescreen import pipeline, progress
     from tracescreen.report import writers as outputs
     from tracescreen.report.build import build_document, front_rows
     from tracescreen.report.html import render_html
@@ -94,16 +102,20 @@ def run(args) -> int:
         if missing:
             raise UserError(f"--site {', '.join(missing)}: no accepted results for this site")
         site_ids = list(dict.fromkeys(args.site))
+    progress.report("report", 0, 3, unit="steps", detail="tables")
     data = report_data(res, settings={
         "non-detect method (summaries)": args.stats_method,
         "trend test": f"Mann-Kendall / seasonal Kendall ({args.seasonal}), alpha {args.alpha:g}, "
                       f"at least {args.min_trend_values} values"})
+    progress.report("report", 1, 3, unit="steps", detail="document")
     doc = build_document(data, site_ids, report)
     out = Path(args.out)
     out.parent.mkdir(parents=True, exist_ok=True)
     try:
+        progress.report("report", 2, 3, unit="steps", detail="charts")
         draw(doc.figures(), ("page", "png") if args.docx else ("page",))
         out.write_text(render_html(doc), encoding="utf-8")
+        progress.report("report", 3, 3, unit="steps", finished=True)
         print(f"Report: {out}")
         if args.pdf:
             from tracescreen.report.pdf import print_pdf

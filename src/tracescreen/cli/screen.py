@@ -2,26 +2,31 @@
 
 from __future__ import annotations
 
-import argparse
 from pathlib import Path
 
 from . import UserError
 from .common import add_data_options, announce, pipeline_inputs, print_caution
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options, lab_qc_tables
+from .parser import group
 from .trends import add_statistics_options, statistics_options
+
+EXAMPLES = [
+    "tracescreen screen scenario_data/lab_results_fernleigh_2017-2020.csv scenario_data/lab_results_fernleigh_2021-2025.csv "
+    "scenario_data/lab_results_eastbank.xlsx --columns scenario_data/columns_eastbank.yaml "
+    "--sites scenario_data/sites.csv --limits limits --limits scenario_data/limits --out out/demo",
+]
 
 
 def register(sub) -> None:
     p = sub.add_parser(
         "screen", help="screen results against limit tables; write screening.csv, rejected.csv and retest.csv",
         description="Compare every accepted result with every limit that applies to its site, and list "
-                    "every row that could not be used with its reason.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+                    "every row that could not be used with its reason.")
     add_data_options(p)
     add_statistics_options(p)
-    p.add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
-    p.add_argument("--guard-band", type=float, metavar="F",
+    group(p, "output").add_argument("--out", required=True, metavar="DIR", help="folder for the output tables")
+    group(p, "limits").add_argument("--guard-band", type=float, metavar="F",
                    help="measurement-uncertainty decision rule (Eurachem/CITAC guide on compliance "
                         "assessment): guard band g = F x the result's expanded uncertainty; reports beside "
                         "each status whether the decision holds beyond g (e.g. 1 for g = U)")

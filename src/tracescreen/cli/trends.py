@@ -9,6 +9,12 @@ from pathlib import Path
 from tracescreen.statistics.options import METHODS, MIN_VALUES, StatisticsOptions
 
 from .common import add_data_options, announce, pipeline_inputs, print_caution
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen trends scenario_data/lab_results_fernleigh_2017-2020.csv scenario_data/lab_results_fernleigh_2021-2025.csv "
+    "--sites scenario_data/sites.csv --limits scenario_data/limits --out out/demo-trends",
+]
 
 
 def _probability(text: str) -> float:
@@ -33,7 +39,7 @@ def add_trend_options(p) -> None:
 
 def add_statistics_options(p: argparse.ArgumentParser) -> None:
     """Options of the summary statistics and the trend tests (``screen`` and ``report``)."""
-    g = p.add_argument_group("statistics (summary.csv, exceedances.csv, trends.csv)")
+    g = group(p, "statistics")
     g.add_argument("--stats-method", choices=METHODS, default="kaplan_meier",
                    help="estimator for series with non-detects; substitution_* only on request, "
                         "labelled in the output")
@@ -57,11 +63,10 @@ def register(sub) -> None:
         "trends", help="trend tests and slopes per site, analyte and fraction; write trends.csv",
         description="Mann-Kendall or seasonal Kendall test (censored where there are non-detects) "
                     "and Sen / Akritas-Theil-Sen slope per site x analyte x fraction, with the date "
-                    "an increasing trend line would reach the lowest applicable limit.",
-        formatter_class=argparse.ArgumentDefaultsHelpFormatter)
+                    "an increasing trend line would reach the lowest applicable limit.")
     add_data_options(p)
-    add_trend_options(p)
-    p.add_argument("--out", required=True, metavar="DIR", help="folder for trends.csv and rejected.csv")
+    add_trend_options(group(p, "statistics"))
+    group(p, "output").add_argument("--out", required=True, metavar="DIR", help="folder for trends.csv and rejected.csv")
     p.set_defaults(func=run)
 
 

@@ -10,6 +10,13 @@ from pathlib import Path
 
 from . import UserError
 from .common import add_reading_options, announce, pipeline_inputs, print_caution, results_from_args, warn
+from .parser import group
+
+EXAMPLES = [
+    "tracescreen wells scenario_data/lab_results_eastbank.xlsx --columns scenario_data/columns_eastbank.yaml "
+    "--sites scenario_data/sites.csv --network scenario_data/network.csv --design scenario_data/design.yaml "
+    "--limits limits --out out/demo-wells",
+]
 
 #: Output file of each table.
 FILES = {"design": "design.csv", "design_statement": "design_statement.csv", "well_data": "well_data.csv",
@@ -50,7 +57,7 @@ _DESIGN_OPTIONS = {
 def add_wells_options(p: argparse.ArgumentParser, design_options: bool = True) -> None:
     """The network, design and background-standard options (``wells``, ``report``, ``dashboard``);
     with ``design_options`` also one option per design key."""
-    g = p.add_argument_group("wells against background and standards (US EPA Unified Guidance 2009)")
+    g = group(p, "wells")
     g.add_argument("--network", metavar="FILE", help="network CSV: site_id, role (background/compliance), "
                    "well_group, comparison, stage, background_from, background_to, analyte")
     g.add_argument("--design", metavar="FILE", help="design YAML (SWFPR, evaluations a year, plan, windows, ...)"
@@ -59,7 +66,7 @@ def add_wells_options(p: argparse.ArgumentParser, design_options: bool = True) -
                    help="where the well group's background upper tolerance limit is above the table value, "
                         "compare confidence limits with it instead (background-based standard)")
     if design_options:
-        d = p.add_argument_group("design (each overrides the --design file)")
+        d = group(p, "design")
         for key, (opt, kind, text) in _DESIGN_OPTIONS.items():
             d.add_argument(opt, dest=f"design_{key}", metavar={int: "N", float: "X", str: "TEXT"}[kind], help=text)
 
@@ -92,16 +99,16 @@ def register(sub) -> None:
                     "prediction limits with retesting designed for a site-wide false positive rate, and the "
                     "status of every compliance well over its retest sequence; Shewhart-CUSUM control charts; "
                     "upper tolerance limits; confidence limits of each well's mean, median or percentile "
-                    "compared with the limit tables. One CSV per method in --out.",
-        formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("results", nargs="*", metavar="RESULTS", help="lab result files (CSV or XLSX); or --workspace")
-    p.add_argument("--workspace", metavar="DIR", help="use the current results of this workspace")
-    p.add_argument("--limits", metavar="PATH", action="append",
+                    "compared with the limit tables. One CSV per method in --out.")
+    inputs = group(p, "inputs")
+    inputs.add_argument("results", nargs="*", metavar="RESULTS", help="lab result files (CSV or XLSX); or --workspace")
+    inputs.add_argument("--workspace", metavar="DIR", help="use the current results of this workspace")
+    inputs.add_argument("--sites", metavar="FILE", help="sites CSV (which limit tables apply where)")
+    group(p, "limits").add_argument("--limits", metavar="PATH", action="append",
                    help="limit table(s) whose values are the fixed standards of the confidence limits")
-    p.add_argument("--sites", metavar="FILE", help="sites CSV (which limit tables apply where)")
     add_wells_options(p)
     add_reading_options(p)
-    p.add_argument("--out", required=True, metavar="DIR", help="folder for the CSV tables")
+    group(p, "output").add_argument("--out", required=True, metavar="DIR", help="folder for the CSV tables")
     p.set_defaults(func=run, results_required=True)
 
 

@@ -10,6 +10,8 @@ Rows whose every cell is empty are not data rows; they are counted in ``files.bl
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pandas as pd
 
 from tracescreen._internal.memory import release_unused
@@ -25,6 +27,7 @@ from tracescreen.io.results import (
     normalise_empty,
     split_set_aside,
 )
+from tracescreen.progress import report
 
 __all__ = [
     "ACCEPTED_COLUMNS", "SET_ASIDE_PREFIX", "TEXT_COLUMNS", "LoadError", "LoadOptions", "LoadResult",
@@ -53,7 +56,9 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
     opts = options or LoadOptions()
     site_ids = set(sites["site_id"]) if sites is not None else None
     accepted, rejected, files, warnings = [], [], [], []
-    for path in paths:
+    paths = list(paths)
+    for k, path in enumerate(paths):
+        report("read", k, len(paths), unit="files", detail=Path(path).name)
         raws, digest = read_raw(path, opts)
         for raw in raws:
             acc, rej = normalise(raw, opts, site_ids, sites_name)
@@ -66,6 +71,7 @@ def load_results(paths, options: LoadOptions | None = None, sites: pd.DataFrame 
                                                                  .str.startswith(SET_ASIDE_PREFIX).sum()),
                           "rejected": int((~rej["reason"].astype(str).str.startswith(SET_ASIDE_PREFIX)).sum()),
                           "blank_rows": raw.blank_rows})
+    report("read", len(paths), len(paths), unit="files", finished=True)
     acc = concat_accepted(accepted) if accepted else normalise_empty()
     rej = pd.concat(rejected, ignore_index=True) if rejected else pd.DataFrame(columns=["file", "sheet", "row", "reason"])
     rej, aside = split_set_aside(rej)

@@ -20,7 +20,7 @@ import pandas as pd
 from tracescreen import vocabulary
 from tracescreen._internal.text import format_significant
 from tracescreen.report.findings import RESULT_KEY, limit_label, limit_precision
-from tracescreen.retest.rows import site_samples
+from tracescreen.statistics.series import site_samples
 
 #: The plotly configuration of every interactive chart of tracescreen (the dashboard uses it too):
 #: no logo, no cloud or editing links, image export named for the chart.

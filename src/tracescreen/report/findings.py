@@ -13,7 +13,7 @@ import pandas as pd
 from tracescreen import vocabulary
 from tracescreen._internal.text import format_significant, significant_figures
 from tracescreen.report.words import result_precision
-from tracescreen.retest.rows import site_samples
+from tracescreen.statistics.series import site_samples
 
 RESULT_KEY = ["file", "sheet", "row"]
 EXCEEDED_MARK = vocabulary.GLYPH["exceeds"]

@@ -13,7 +13,7 @@ import pandas as pd
 
 from tracescreen._internal.text import format_date, format_significant
 from tracescreen.report.findings import RESULT_KEY, limit_precision
-from tracescreen.retest.rows import site_samples
+from tracescreen.statistics.series import site_samples
 
 #: Sites, series or reasons named in one sentence before "and N more".
 MAX_LISTED = 8

@@ -17,7 +17,7 @@ from tracescreen import __version__, vocabulary
 from tracescreen._internal.frames import plain_text
 from tracescreen._internal.text import format_date
 from tracescreen.caution import CAUTION
-from tracescreen.retest.rows import site_samples
+from tracescreen.statistics.series import site_samples
 
 STATUS_ORDER = list(vocabulary.RANKED)
 """Statuses from worst to least concern (a result's status in the matrix is its worst)."""

@@ -20,6 +20,7 @@ import pyarrow as pa
 import pyarrow.csv as pacsv
 
 from tracescreen._internal.parallel import ordered_map, workers
+from tracescreen.progress import report
 
 FORMULA_START = r"^[=+\-@\t\r]"
 XLSX_MAX_ROWS = 1_048_576
@@ -96,6 +97,7 @@ def write_csv(df: pd.DataFrame, path: str | Path) -> Path:
     releases the interpreter lock) and written in order.
     """
     p = Path(path)
+    report("write", None, unit="files", detail=p.name)
     p.parent.mkdir(parents=True, exist_ok=True)
     dated = _format_dates(df)
     # columns of Python objects (long texts, mixed values) are made safe and turned into Arrow
@@ -175,7 +177,8 @@ def write_xlsx(sheets: dict[str, pd.DataFrame], path: str | Path, front: list[tu
     wb = Workbook(write_only=True)
     if front:
         _front_sheet(wb, front)
-    for name, df in sheets.items():
+    for k, (name, df) in enumerate(sheets.items()):
+        report("write", k, len(sheets), unit="sheets", detail=f"{p.name} [{name}]")
         if len(df) + 1 > XLSX_MAX_ROWS:
             raise ValueError(f"table '{name}' has {len(df)} rows, more than an Excel sheet holds; use CSV")
         ws = wb.create_sheet(title=str(name)[:31])

@@ -10,7 +10,8 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_number
-from tracescreen.retest.rows import SERIES_KEY, empty_retest, results_from_screening, retest_rows, site_samples, ug
+from tracescreen.retest.rows import SERIES_KEY, empty_retest, results_from_screening, retest_rows, ug
+from tracescreen.statistics.series import site_samples
 
 
 def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:

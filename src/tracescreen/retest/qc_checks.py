@@ -18,16 +18,8 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_date, format_number
-from tracescreen.retest.rows import (
-    RTOL,
-    censored_value,
-    empty_retest,
-    results_from_screening,
-    retest_rows,
-    shown,
-    site_samples,
-    ug,
-)
+from tracescreen.retest.rows import RTOL, empty_retest, results_from_screening, retest_rows, shown, ug
+from tracescreen.statistics.series import censored_value, site_samples
 
 BLANK_TYPES = ("field_blank", "lab_blank")
 

@@ -21,10 +21,10 @@ from tracescreen.retest.rows import (
     limit_label,
     retest_rows,
     single_sample_rows,
-    site_samples,
     ug,
 )
 from tracescreen.screening.uncertainty import uncertainty_decision
+from tracescreen.statistics.series import site_samples
 
 
 def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:

@@ -11,6 +11,7 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_number
+from tracescreen.statistics.series import censored_value, site_samples
 from tracescreen.vocabulary import REL_TOL
 
 RETEST_COLUMNS = [
@@ -67,14 +68,6 @@ SUGGESTED_ACTIONS = {
 RTOL = REL_TOL
 
 
-def site_samples(frame: pd.DataFrame) -> pd.DataFrame:
-    """Rows of site samples (not blanks or field duplicates)."""
-    if "sample_type" not in frame.columns:
-        return frame
-    mask = frame["sample_type"].eq("sample")
-    return frame if mask.all() else frame[mask]
-
-
 def single_sample_rows(screening: pd.DataFrame) -> pd.DataFrame:
     """Site-sample rows compared with single-sample limits (period bases such as running annual
     means and percentiles are judged on periods, not on one result)."""
@@ -129,12 +122,6 @@ def limit_label(frame: pd.DataFrame) -> pd.Series:
 def ug(values) -> pd.Series:
     """Concentrations as text with their unit (``1.5 µg/L``; NaN gives `` µg/L``)."""
     return format_number(values) + " µg/L"
-
-
-def censored_value(frame: pd.DataFrame, suffix: str = "") -> pd.Series:
-    """Detected value, or the detection limit for a non-detect [µg/L]."""
-    det = frame["detected" + suffix].astype(bool)
-    return frame["value_ug_L" + suffix].where(det, frame["detection_limit_ug_L" + suffix])
 
 
 def shown(frame: pd.DataFrame, suffix: str = "") -> pd.Series:

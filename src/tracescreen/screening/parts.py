@@ -19,6 +19,7 @@ import pandas as pd
 from pandas.api.types import union_categoricals
 
 from tracescreen._internal.memory import release_unused
+from tracescreen.progress import report
 from tracescreen.screening.screen import screen, screen_with_periods
 
 #: results per part (a part always holds whole sites, so it may be larger)
@@ -94,6 +95,7 @@ def screen_in_parts(results: pd.DataFrame, limits, sites: pd.DataFrame | None = 
                 table["period_id"] = table["period_id"].to_numpy() + offset
             offset += len(table) if table is not None else int(ids.max())
         screened_parts.append(part)
+        report("screen", hi, len(ordered), unit="rows")
         if table is not None and (len(table) or not period_parts):
             period_parts.append(table)  # parts without period values add nothing (and no object dtypes)
         release_unused()

@@ -47,18 +47,29 @@ def as_series(values, nondetect):
     return x, nd
 
 
-def site_samples(results: pd.DataFrame) -> pd.DataFrame:
-    """Rows that are regular samples (``sample_type == "sample"``): QC samples are left out."""
-    if "sample_type" not in results:
-        return results
-    return results[results["sample_type"].fillna("sample") == "sample"]
+def site_samples(frame: pd.DataFrame) -> pd.DataFrame:
+    """Rows of site samples: QC samples (field duplicates, blanks) are left out.
+
+    A row without a ``sample_type`` (or a frame without the column) counts as a site sample; the
+    frame itself is returned when every row is one (no copy).
+    """
+    if "sample_type" not in frame.columns:
+        return frame
+    kind = frame["sample_type"]
+    mask = kind.eq("sample") | kind.isna()
+    return frame if mask.all() else frame[mask.to_numpy()]
+
+
+def censored_value(frame: pd.DataFrame, suffix: str = "") -> pd.Series:
+    """The detected value, or the detection limit of a non-detect [µg/L] (columns may carry ``suffix``)."""
+    det = frame["detected" + suffix].astype(bool)
+    return frame["value_ug_L" + suffix].where(det, frame["detection_limit_ug_L" + suffix])
 
 
 def censored_series(results: pd.DataFrame) -> pd.DataFrame:
-    """Add ``value`` (detected value, or the DL of a non-detect) and ``nondetect`` columns."""
+    """Add ``value`` (:func:`censored_value`) and ``nondetect`` columns: the censored-series convention."""
     nondetect = ~results["detected"].astype(bool).to_numpy()
-    value = np.where(nondetect, results["detection_limit_ug_L"], results["value_ug_L"])
-    return results.assign(value=value.astype(float), nondetect=nondetect)
+    return results.assign(value=censored_value(results).to_numpy(dtype=float), nondetect=nondetect)
 
 
 def decimal_years(dates) -> np.ndarray:

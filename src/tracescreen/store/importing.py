@@ -21,6 +21,7 @@ import pyarrow as pa
 from tracescreen import __version__
 from tracescreen._internal.hashing import file_sha256, sha256_hex
 from tracescreen.io import loading
+from tracescreen.progress import report
 from tracescreen.store.blobs import _encode
 from tracescreen.store.database import now, write
 from tracescreen.store.outcomes import FileBatch, FileOutcome, ImportSummary
@@ -90,8 +91,10 @@ class Importing:
         batches: list[FileBatch] = []
         skipped: list[FileOutcome] = []
         seen: dict[str, str] = {}
+        paths = [Path(p) for p in paths]
         with ThreadPoolExecutor(1) as pool:
-            for p in map(Path, paths):
+            for k, p in enumerate(paths):
+                report("read", k, len(paths), unit="files", detail=p.name)
                 if not p.is_file():
                     raise loading.LoadError(f"{p}: file not found")
                 data = p.read_bytes()
@@ -104,6 +107,7 @@ class Importing:
                 say(f"reading {p.name}")
                 batches.append(read_file(p, options, site_ids, sites_name, data, pool))
                 seen[digest] = p.name
+        report("read", len(paths), len(paths), unit="files", finished=True)
         inputs = {"options": options_record(options), "columns": columns_path, "sites": sites_path}
         return self.store(batches, skipped, inputs, say)
 
@@ -135,7 +139,8 @@ class Importing:
             next_id = self.con.execute(
                 "SELECT coalesce(max(first_result_id + rows_stored), 1) FROM files").fetchone()[0]
             outcomes = []
-            for b in todo:
+            for k, b in enumerate(todo):
+                report("store", k, len(todo), unit="files", detail=b.name)
                 outcome, current, next_id = self._store_file(import_id, b, current, next_id, say)
                 outcomes.append(outcome)
             totals = [sum(getattr(o, a) for o in outcomes)
@@ -146,7 +151,9 @@ class Importing:
                 "rows_unchanged = ?, rows_revised = ?, rows_superseded = ?, rows_rejected = ? "
                 "WHERE import_id = ?", (now(), len(outcomes), *totals, import_id))
             say("committing")
+            report("store", len(todo), len(todo), unit="files", detail="committing")
         say("committed")
+        report("store", len(todo), len(todo), unit="files", finished=True)
         return ImportSummary(import_id, outcomes + skipped)
 
     def _current_keys(self) -> pd.DataFrame:
