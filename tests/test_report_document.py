@@ -43,9 +43,11 @@ def test_exceedance_rows_one_per_result_with_limits_side_by_side():
     scr = screening(rows, [("eu", EU_LEAD_2036), ("who", WHO_LEAD)])
     out, long = findings.exceedance_rows(scr, pd.DataFrame({"entry_id": []}), _refs(["eu", "who"]))
     assert out["sample_id"].tolist() == ["A", "B"]  # C equals the EU value: meets
-    assert out[["[1]", "[2]"]].to_numpy().tolist() == [["▲ 5.00", "10.0"], ["▲ 5.00", "▲ 10.0"]]
+    assert out[["[1]", "[2]"]].to_numpy().tolist() == [["▲\u00a05.00", "10.0"], ["▲\u00a05.00", "▲\u00a010.0"]]
     assert set(long["status"]) == {"exceeds", "meets"} and len(long) == 4
     assert (out["hardness_used_mg_L"] == "").all()  # neither limit depends on hardness
+    first, _ = findings.exceedance_rows(scr, pd.DataFrame({"entry_id": []}), _refs(["eu", "who"]), max_results=1)
+    assert first["sample_id"].tolist() == ["A"] and first.attrs["total"] == 2
 
 
 def test_numbers_keep_the_laboratory_precision_of_a_real_download():
@@ -106,12 +108,13 @@ def engine_rows():
 
     from tracescreen import pipeline
     from tracescreen._internal.frames import plain_text
+    from tracescreen.report.build import once_per_site
 
     res = pipeline.run(demo_inputs(), pipeline.Options(periods=False, statistics=None, retest=None, lab_qc=None))
     scr = plain_text(res.screened)
     refs = findings.limit_references(res.limits.tables, scr["limit_table"].dropna().astype(str).unique())
     rows, _ = findings.exceedance_rows(scr, res.limits.entries, refs, res.sites)
-    return in_words(rows)
+    return once_per_site(in_words(rows))  # a printed table names each site once per run of its rows
 
 
 def _docx_table(document, first_headers):
@@ -144,3 +147,53 @@ def test_markup_in_user_text_stays_text(tmp_path, scenario_args):
     assert "<script>alert(1)" not in page and "&lt;script&gt;alert(1)&lt;/script&gt;" in page
     cells = [c.text for t in docx.Document(str(word)).tables for r in t.rows for c in r.cells]
     assert "<script>alert(1)</script>" in cells
+
+
+@pytest.fixture(scope="module")
+def demo_run():
+    from conftest import demo_inputs
+
+    from tracescreen import pipeline
+    from tracescreen._internal.frames import plain_text
+
+    res = pipeline.run(demo_inputs(), pipeline.Options(periods=False, retest=None, lab_qc=None))
+    return res, plain_text(res.screened)
+
+
+def test_charts_mark_every_exceedance_and_label_limits(demo_run):
+    """Chart figures (before drawing): one marker per result above a limit, shaped as on the dashboard
+    (vocabulary.SYMBOL), arsenic's limit line labelled with the published 10 µg/L and its tables'
+    references (WHO GDWQ 2022 Table A3.3; Directive (EU) 2020/2184 Annex I Part B), log-axis ticks
+    written in full."""
+    from tracescreen import vocabulary
+    from tracescreen.report.charts import chart_series, metal_figures
+
+    res, scr = demo_run
+    refs = findings.limit_references(res.limits.tables, scr["limit_table"].dropna().astype(str).unique())
+    series = chart_series(scr, res.trends)
+    figures = metal_figures(scr, series, res.limits.entries, refs, res.sites)
+    drawn = sum(len(t["x"]) for f in figures for t in f.figure["data"]
+                if t.get("legendgroup") == "exceeds" and t["marker"]["symbol"] == vocabulary.SYMBOL["exceeds"])
+    site = scr[scr["sample_type"].eq("sample")]
+    assert drawn == len(site[site["status"].eq("exceeds")].drop_duplicates(["file", "sheet", "row"])) > 100
+    arsenic = next(f for f in figures if f.caption == "arsenic (total)")
+    who, eu = (int(refs.set_index("table_id").loc[t, "ref"]) for t in ("who_gdwq_2022", "eu_dwd_2020_2184"))
+    labels = [a["text"] for a in arsenic.figure["layout"]["annotations"]]
+    assert any(lab.startswith("10 µg/L") and f"[{who}]" in lab and f"[{eu}]" in lab for lab in labels)
+    for f in figures:
+        for key, axis in f.figure["layout"].items():
+            if key.startswith("yaxis") and axis["type"] == "log":
+                assert "log scale" in axis["title"]["text"]
+                assert axis["ticktext"] == [f"{v:g}" for v in axis["tickvals"]]
+
+
+def test_dense_chart_is_embedded_as_webp_and_sparse_as_svg():
+    """A chart of more markers than MAX_SVG_POINTS goes into the page as WebP (an SVG grows with every
+    marker); others as SVG; both inside <img> (inert: an image cannot run code)."""
+    from tracescreen.report.document import MAX_SVG_POINTS, Figure
+    from tracescreen.report.html import figure_html
+
+    sparse = Figure({}, "a", "sparse", points=MAX_SVG_POINTS, images={"svg": b"<svg/>"})
+    dense = Figure({}, "b", "dense", points=MAX_SVG_POINTS + 1, images={"webp": b"RIFF"})
+    assert 'src="data:image/svg+xml;base64,' in figure_html(sparse)
+    assert 'src="data:image/webp;base64,' in figure_html(dense)

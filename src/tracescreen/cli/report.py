@@ -55,9 +55,9 @@ def register(sub) -> None:
     contents.add_argument("--charts", choices=CHART_CHOICES, default="findings",
                           help="chart the series with findings (an exceedance, or a rising trend toward a limit), "
                                "all, or none")
-    contents.add_argument("--max-charts", type=int, default=120, metavar="N",
+    contents.add_argument("--max-charts", type=int, default=96, metavar="N",
                           help="draw at most N chart panels (one per site and metal); the rest are named")
-    contents.add_argument("--max-rows", type=int, default=2000, metavar="N",
+    contents.add_argument("--max-rows", type=int, default=1000, metavar="N",
                           help="rows of a long table in the report (every row is in the workbook)")
     add_retest_options(p)
     add_lab_qc_options(p)
@@ -116,7 +116,7 @@ def run(args) -> int:
     out = Path(args.out)
     try:  # each file written whole or not at all (report/output_folder.py)
         progress.report("report", 2, 3, unit="steps", detail="charts")
-        draw(doc.figures(), ("svg", "png") if args.docx else ("svg",))
+        draw(doc.figures(), ("page", "png") if args.docx else ("page",))
         html = render_html(doc)
         write_atomic(out, lambda p: p.write_text(html, encoding="utf-8"))
         progress.report("report", 3, 3, unit="steps", finished=True)

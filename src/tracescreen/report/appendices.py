@@ -73,6 +73,11 @@ def design_appendix(ctx) -> Section:
                         "never counted as an exceedance: it is compared with a limit through its detection limit.")]
     blocks.append(Table(in_words(rows), "design-table", key_columns=1, max_columns=2) if len(rows)
                   else Paragraph("No settings were recorded.", "note"))
+    blocks.append(Paragraph(
+        "Measurement uncertainty: each result's guard band and decision are in the screening table (a guard band "
+        "of f × U around each limit, Eurachem/CITAC 2021)." if "guard_band_ug_L" in ctx.screening.columns else
+        "Measurement uncertainty: no guard band was applied; a result is compared with the limit as reported "
+        "(results within their reported uncertainty of a limit are flagged in the retest list)."))
     blocks += [Paragraph(str(n)) for n in d.method_notes]
     if d.wells is not None:
         blocks += [Heading("Wells against background: design"),

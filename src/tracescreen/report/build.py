@@ -21,7 +21,7 @@ from tracescreen.report import findings
 from tracescreen.report.cover import Cover
 from tracescreen.report.document import Bullets, Document, Heading, Paragraph, Section, Table
 from tracescreen.report.tables import ReportData, only_sites
-from tracescreen.report.words import in_words
+from tracescreen.report.words import in_words, numeric_headers
 
 
 @dataclass(frozen=True)
@@ -42,8 +42,8 @@ class ReportOptions:
 
     cover: Cover = field(default_factory=Cover)
     charts: str = "findings"
-    max_panels: int = 120
-    max_rows: int = 2000
+    max_panels: int = 96
+    max_rows: int = 1000
 
 
 @dataclass
@@ -67,6 +67,15 @@ def cut(frame: pd.DataFrame, max_rows: int, where: str) -> tuple[pd.DataFrame, s
 def _names(ctx: Context) -> pd.Series:
     sites = ctx.data.sites
     return dict(zip(sites["site_id"].astype(str), sites["name"].fillna("").astype(str))) if sites is not None else {}
+
+
+def once_per_site(frame: pd.DataFrame, column: str = "Site name") -> pd.DataFrame:
+    """``frame`` (sorted by site) with ``column`` blank where the row above is of the same site: a
+    printed table names each site once per run of its rows."""
+    if column not in frame.columns or frame.empty:
+        return frame
+    same = frame.iloc[:, 0].eq(frame.iloc[:, 0].shift())
+    return frame.assign(**{column: frame[column].where(~same, "")})
 
 
 def _with_names(frame: pd.DataFrame, ctx: Context) -> pd.DataFrame:
@@ -101,18 +110,21 @@ def grid_section(ctx: Context) -> Section:
 
 def exceedance_section(ctx: Context) -> Section:
     """2: every result above a limit, one row per result with its limits side by side."""
-    rows, _ = findings.exceedance_rows(ctx.screening, ctx.data.limit_entries, ctx.refs, ctx.data.sites)
-    blocks = [Paragraph(f"{len(rows):,} results exceed at least one limit. Each row is one result with every limit "
+    rows, _ = findings.exceedance_rows(ctx.screening, ctx.data.limit_entries, ctx.refs, ctx.data.sites,
+                                       max_results=ctx.options.max_rows)
+    total = rows.attrs.get("total", len(rows))
+    blocks = [Paragraph(f"{total:,} results exceed at least one limit. Each row is one result with every limit "
                         f"that applies to it, in µg/L; {findings.EXCEEDED_MARK} marks a limit the result exceeds. "
-                        "A period limit (running annual mean, percentile) is judged on its period value, shown beside "
-                        "it. The hardness used is shown where a limit depends on it; '–' means the limit does not "
+                        "A period limit (running annual mean, percentile) is judged on its period value, shown in "
+                        "brackets after the limit. The hardness used is shown where a limit depends on it; '–' means the limit does not "
                         "apply to that result.")]
     if rows.empty:
         return Section("exceedances", "Exceedances", blocks + [Paragraph("No result exceeds a limit.", "note")])
-    shown, more = cut(rows, ctx.options.max_rows, "the workbook (sheet exceedances)")
+    shown, more = rows, (f"The first {len(rows):,} of {total:,} results are shown; every one is in the workbook "
+                         "(sheet exceedances)." if total > len(rows) else "")
     if not (shown["hardness_used_mg_L"] != "").any():
         shown = shown.drop(columns="hardness_used_mg_L")
-    frame = in_words(shown.rename(columns={"result_text": "result_text"}))
+    frame = once_per_site(in_words(shown))
     numeric = tuple(c for c in frame.columns if c.startswith("[") or c in ("Value (µg/L)", "Hardness used (mg/L as CaCO₃)"))
     blocks += [Table(frame, "exceedances-table", "Results above a limit", key_columns=4, max_columns=18,
                      numeric=numeric, more=more), ref_note(ctx.refs)]
@@ -128,7 +140,8 @@ def undecided_section(ctx: Context) -> Section:
     if u.empty:
         return Section("undecided", "Undecided results", blocks + [Paragraph("No result is undecided.", "note")])
     u = u.rename(columns={"limit_min_ug_L": "lowest_limit_ug_L"})
-    return Section("undecided", "Undecided results", blocks + [Table(in_words(u), "undecided-table", key_columns=2)])
+    return Section("undecided", "Undecided results", blocks + [Table(in_words(u), "undecided-table", key_columns=2,
+                                                                     numeric=numeric_headers(u))])
 
 
 TREND_COLUMNS = ["site_id", "site_name", "analyte", "fraction", "n", "n_nondetect", "first_sampled", "last_sampled",
@@ -148,8 +161,9 @@ def trend_section(ctx: Context) -> Section:
     if len(sig):
         shown, more = cut(sig.sort_values(["direction", "crosses_limit_on", "site_id"]), ctx.options.max_rows,
                           "the workbook (sheet trends)")
-        blocks.append(Table(in_words(shown[[c for c in TREND_COLUMNS if c in shown.columns]]), "trends-table",
-                            key_columns=4, max_columns=16, more=more))
+        shown = shown[[c for c in TREND_COLUMNS if c in shown.columns]]
+        blocks.append(Table(in_words(shown), "trends-table", key_columns=4, max_columns=16, more=more,
+                            numeric=numeric_headers(shown)))
     return Section("trends", "Trends", blocks, landscape=True)
 
 
@@ -172,8 +186,9 @@ def statistics_section(ctx: Context) -> Section:
                         "summary) has every series.")]
     if len(s):
         shown, more = cut(_with_names(s, ctx), ctx.options.max_rows, "the workbook (sheet summary)")
-        blocks.append(Table(in_words(shown[[c for c in SUMMARY_COLUMNS if c in shown.columns]]), "summary-table",
-                            key_columns=4, max_columns=14, more=more))
+        shown = shown[[c for c in SUMMARY_COLUMNS if c in shown.columns]]
+        blocks.append(Table(in_words(shown), "summary-table", key_columns=4, max_columns=14, more=more,
+                            numeric=numeric_headers(shown)))
     return Section("summaries", "Summary statistics", blocks, landscape=True)
 
 
@@ -216,7 +231,7 @@ def retest_section(ctx: Context) -> Section:
     if r.empty:
         return Section("retest", "Confirmatory retest list", blocks + [Paragraph("No result is flagged.", "note")])
     shown, more = cut(r.sort_values(["site_id", "sampled_at", "analyte"]), ctx.options.max_rows, "the workbook (sheet retest)")
-    blocks.append(Table(in_words(shown[[c for c in RETEST_COLUMNS if c in shown.columns]]), "retest-table",
+    blocks.append(Table(once_per_site(in_words(shown[[c for c in RETEST_COLUMNS if c in shown.columns]])), "retest-table",
                         key_columns=3, max_columns=9, more=more))
     return Section("retest", "Confirmatory retest list", blocks, landscape=True)
 
@@ -258,9 +273,10 @@ def build_document(data: ReportData, site_ids=None, options: ReportOptions | Non
     """
     from tracescreen.report import appendices
     from tracescreen.report.summary import executive_summary
+    from tracescreen.retest.rows import site_samples
 
     options = options or ReportOptions()
-    scr = only_sites(data.screening, site_ids)
+    scr = site_samples(only_sites(data.screening, site_ids))  # once: QC samples are not screened
     refs = findings.limit_references(data.limit_tables, scr["limit_table"].dropna().astype(str).unique())
     ctx = Context(data, scr, refs, site_ids, options)
     extra = appendices.summary_sentences(ctx)

@@ -150,6 +150,11 @@ def _y_axis(values: np.ndarray) -> dict:
             "tickvals": ticks, "ticktext": [f"{t:g}" for t in ticks]}
 
 
+def plain(text) -> str:
+    """User text shown as text in a plotly label (plotly reads ``<b>``, ``<a href>`` and ``<br>`` in labels)."""
+    return str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
 def _axis_names(i: int) -> tuple[str, str]:
     n = "" if i == 0 else str(i + 1)
     return "x" + n, "y" + n
@@ -181,7 +186,7 @@ def _panel(traces: list, i: int, points: pd.DataFrame, lines: list[dict], x_rang
             symbol, colour = HARDNESS_MARKS[n_hardness % len(HARDNESS_MARKS)]
             n_hardness += 1
             kind = line["label"].split(" ", 2)[1] if line["label"].count(" ") > 1 else line["label"]
-            trace.update(mode="markers", name=line["label"].split(" µg/L")[0].rsplit(" ", 1)[0]
+            trace.update(mode="markers", name=plain(line["label"].split(" µg/L")[0].rsplit(" ", 1)[0])
                          + ": limit of each sample (hardness)", legendgroup=kind, showlegend=kind not in shown,
                          marker={"symbol": symbol, "size": 10, "color": colour, "line": {"width": 2, "color": colour}})
         else:
@@ -221,7 +226,7 @@ def _annotate(annotations: list, i: int, lines: list[dict], y_axis: dict) -> Non
     for p, label in sorted(pos):
         p = max(p, placed[-1] + gap) if placed else p
         placed.append(p)
-        annotations.append({"xref": f"{xa} domain", "yref": ya, "x": 1.0, "y": p, "text": label, "showarrow": False,
+        annotations.append({"xref": f"{xa} domain", "yref": ya, "x": 1.0, "y": p, "text": plain(label), "showarrow": False,
                             "xanchor": "right", "yanchor": "bottom", "font": {"size": 9, "color": "#222"},
                             "bgcolor": "rgba(255,255,255,0.5)"})
 
@@ -266,13 +271,13 @@ def metal_figure(points: dict, lines: dict, series: list[tuple], names: dict, ti
         x, y = titles[i]
         name = f"{k[0]} {names.get(k[0], '')}".strip()
         annotations.append({"xref": "paper", "yref": "paper", "x": x, "y": y, "xanchor": "left", "yanchor": "bottom",
-                            "showarrow": False, "text": name if len(name) <= 44 else name[:43] + "…",
+                            "showarrow": False, "text": plain(name if len(name) <= 44 else name[:43] + "…"),
                             "font": {"size": 11}})
     n_rows = max(int(np.ceil(len(series) / COLUMNS)), 1)
     height = 110 + PANEL_HEIGHT * n_rows
     layout = {"width": WIDTH, "height": height, "showlegend": True, "paper_bgcolor": "white", "plot_bgcolor": "white",
               "font": {"family": "DejaVu Sans, Arial, sans-serif"}, "margin": {"l": 60, "r": 15, "t": 95, "b": 30},
-              "annotations": annotations, "title": {"text": title, "x": 0.01, "y": 1 - 8 / height, "yanchor": "top",
+              "annotations": annotations, "title": {"text": plain(title), "x": 0.01, "y": 1 - 8 / height, "yanchor": "top",
                                                     "font": {"size": 14}},
               "legend": {"orientation": "h", "x": 0, "y": 1 + 40 / (height - 125), "yanchor": "bottom",
                          "font": {"size": 9}}, **axes}
@@ -308,5 +313,6 @@ def metal_figures(screening: pd.DataFrame, series: pd.DataFrame, entries: pd.Dat
             title = f"{analyte} ({fraction})" + (f", part {n + 1} of {len(parts)}" if len(parts) > 1 else "")
             fig = metal_figure(points, lines, part, names, title)
             fid = "chart-" + "".join(ch if ch.isalnum() else "-" for ch in f"{analyte}-{fraction}-{n + 1}")
-            out.append(Figure(fig, fid, caption=title, width=WIDTH, height=int(fig["layout"]["height"])))
+            out.append(Figure(fig, fid, caption=title, width=WIDTH, height=int(fig["layout"]["height"]),
+                              points=sum(len(points[k]) for k in part)))
     return out

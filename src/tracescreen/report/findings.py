@@ -44,12 +44,19 @@ def limit_references(limit_tables: pd.DataFrame, used) -> pd.DataFrame:
 
 def limit_precision(rows: pd.DataFrame, entries: pd.DataFrame) -> np.ndarray:
     """Significant figures of each row's limit: as its table writes the value, else
-    :data:`COMPUTED_LIMIT_DIGITS` for a computed limit."""
-    written = entries.set_index("entry_id")["value_text"] if "value_text" in entries.columns else pd.Series(dtype=object)
-    text = (rows["entry_id"].astype(object).map(written) if "entry_id" in rows.columns
-            else pd.Series("", index=rows.index, dtype=object))
-    sf = significant_figures(text.astype(object).where(text.notna(), ""))
-    return np.where(sf > 0, sf, COMPUTED_LIMIT_DIGITS)
+    :data:`COMPUTED_LIMIT_DIGITS` for a computed limit (figures counted once per entry)."""
+    if "value_text" not in entries.columns or "entry_id" not in rows.columns or entries.empty:
+        return np.full(len(rows), COMPUTED_LIMIT_DIGITS)
+    text = entries["value_text"].astype(object)
+    sf = significant_figures(text.where(text.notna(), ""))
+    digits = pd.Series(np.where(sf > 0, sf, COMPUTED_LIMIT_DIGITS), index=entries["entry_id"].astype(str).to_numpy())
+    digits = digits[~digits.index.duplicated()]
+    ids = rows["entry_id"]
+    if isinstance(ids.dtype, pd.CategoricalDtype):  # map the categories, take by code
+        cat = digits.reindex(ids.cat.categories.astype(str)).fillna(COMPUTED_LIMIT_DIGITS).to_numpy(int)
+        codes = ids.cat.codes.to_numpy()
+        return np.where(codes >= 0, cat[codes], COMPUTED_LIMIT_DIGITS)
+    return ids.astype(str).map(digits).fillna(COMPUTED_LIMIT_DIGITS).to_numpy(int)
 
 
 def limit_label(rows: pd.DataFrame, refs: pd.DataFrame) -> pd.Series:
@@ -79,7 +86,7 @@ def _depends_on_hardness(rows: pd.DataFrame, entries: pd.DataFrame) -> np.ndarra
 
 
 def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame,
-                    sites: pd.DataFrame | None = None) -> tuple[pd.DataFrame, pd.DataFrame]:
+                    sites: pd.DataFrame | None = None, max_results: int | None = None) -> tuple[pd.DataFrame, pd.DataFrame]:
     """One row per site-sample result above at least one limit, with every limit that applies to it
     side by side (one column per table and duration or period basis).
 
@@ -93,6 +100,9 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         :func:`limit_references`.
     sites : pandas.DataFrame, optional
         For the site names.
+    max_results : int, optional
+        Keep the first results only (in site, metal, date order); ``rows.attrs["total"]`` is the count
+        of all results above a limit.
 
     Returns
     -------
@@ -100,7 +110,8 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         ``rows``: ``site_id, site_name, sampled_at, sample_id, analyte, fraction, result_text, unit,
         value, hardness_used_mg_L`` (text; hardness only where a limit of the row depends on it) then
         one text column per limit label: the limit in µg/L to its table's precision, marked
-        :data:`EXCEEDED_MARK` where exceeded, with the period value where the limit is on a period.
+        :data:`EXCEEDED_MARK` where exceeded, with the period value in brackets where the limit is on a
+        period (its label then ends "(period value)").
         ``limits``: the same results × limits in long form with codes (``value_ug_L, limit_ug_L,
         ratio, status, limit_table, label``), for the workbook and the tests.
     """
@@ -112,6 +123,12 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         cols = ["site_id", "site_name", "sampled_at", "sample_id", "analyte", "fraction", "result_text", "value_ug_L",
                 "hardness_used_mg_L"]
         return pd.DataFrame({c: [] for c in cols}), site.iloc[:0]
+    total = len(hit)
+    if max_results is not None and total > max_results:
+        first = site.loc[site["status"].eq("exceeds"), key + ["site_id", "analyte", "fraction", "sampled_at"]]
+        first = first.drop_duplicates(key).sort_values(["site_id", "analyte", "fraction", "sampled_at"] + key,
+                                                       kind="stable")
+        hit = first[key].head(max_results)
     rows = site.merge(hit, on=key)
     rows = rows.sort_values(["site_id", "analyte", "fraction", "sampled_at"] + key, kind="stable").reset_index(drop=True)
     label = limit_label(rows, refs)
@@ -119,8 +136,9 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
     is_period = rows["period_value_ug_L"].notna().to_numpy() if "period_value_ug_L" in rows else np.zeros(len(rows), bool)
     period = format_significant(rows.get("period_value_ug_L", pd.Series(np.nan, index=rows.index)),
                                 result_precision(rows["result_text"]))
-    cell = np.where(rows["status"].eq("exceeds"), EXCEEDED_MARK + " ", "") + value
-    cell = np.where(is_period, cell + " (period value " + period + ")", cell)
+    cell = np.where(rows["status"].eq("exceeds"), EXCEEDED_MARK + "\u00a0", "") + value
+    cell = np.where(is_period, cell + " (" + period + ")", cell)
+    label = label.where(~is_period, label + " (period value)")
     long = rows.assign(label=label.to_numpy(), cell=cell)
     results = long.drop_duplicates(key).set_index(key)
     wide = long.pivot_table(index=key, columns="label", values="cell", aggfunc="first", observed=True)
@@ -144,6 +162,7 @@ def exceedance_rows(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.Dat
         out[c] = wide[c].fillna("–").to_numpy()
     cols = ["site_id", "sample_id", "sampled_at", "analyte", "fraction", "value_ug_L", "limit_ug_L", "ratio",
             "status", "limit_table", "label"]
+    out.attrs["total"] = total
     return out, long[[c for c in cols if c in long.columns]]
 
 

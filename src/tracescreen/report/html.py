@@ -1,7 +1,7 @@
 """The report as one self-contained, printable HTML file: :func:`render_html` of a
 :class:`~tracescreen.report.document.Document`.
 
-No script and no outside request: charts are SVG images inside the file (``<img>`` elements with
+No script and no outside request: charts are images inside the file (SVG; WebP for a dense chart) (``<img>`` elements with
 data addresses, so a chart cannot run code). Every text of the document is escaped here.
 
 Printing (the browser's print, or :mod:`tracescreen.report.pdf`): A4 pages with the caution and
@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import base64
 import html
+import re
 
 import numpy as np
 import pandas as pd
@@ -43,8 +44,7 @@ li{margin:.15rem 0}nav ul{columns:2;list-style:none;margin:.3rem 0 0 0}
 .tablewrap{overflow-x:auto;margin:.4rem 0 .8rem}
 table{border-collapse:collapse;font-size:8.5pt}caption{text-align:left;font-weight:bold;padding:.2rem 0}
 th,td{border:1px solid var(--rule);padding:.15rem .35rem;text-align:left;vertical-align:top}
-th{background:#f0f2f4}td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
-td.key{white-space:nowrap}
+th{background:#f0f2f4}td.n{text-align:right;font-variant-numeric:tabular-nums}td.w{min-width:9em}.d{white-space:nowrap}
 figure{margin:.6rem 0 1rem}figure img{max-width:100%;height:auto;display:block}
 figcaption{font-size:9pt;color:var(--muted)}
 @page{size:A4 portrait;margin:14mm 12mm 16mm 12mm;
@@ -62,18 +62,33 @@ figcaption{font-size:9pt;color:var(--muted)}
 """
 
 
+#: Headers of text columns given room (a name or sentence squeezed to one word per line is unreadable).
+WIDE_TEXT = frozenset({"Site name", "Name", "Detail", "Suggested action", "Note", "Source", "Reason", "Limit", "Value",
+                       "Words"})
+#: Headers of date columns (never broken inside a date).
+DATES = frozenset({"Sampled", "First sampled", "Last sampled", "Trend line reaches the limit", "In force from",
+                   "In force to"})
+
+
+_DATE = re.compile(r"(\d{4}-\d{2}(?:-\d{2})?)")
+
+
+def prose(text) -> str:
+    """Text of a sentence, escaped, with its dates kept on one line."""
+    return _DATE.sub(r'<span class="d">\1</span>', esc(text))
+
+
 def _paragraph(b: Paragraph) -> str:
     if b.style == "caution":
         return f'<div class="caution" role="note"><b>Caution.</b> {esc(b.text)}</div>'
-    return f'<p class="{esc(b.style)}">{esc(b.text)}</p>'
+    return f'<p class="{esc(b.style)}">{prose(b.text)}</p>'
 
 
 def _part_html(frame: pd.DataFrame, t: Table, caption: str) -> str:
     head = "".join(f"<th>{esc(c)}</th>" for c in frame.columns)
     cols = []
-    keys = set(t.frame.columns[:t.key_columns])
     for c in frame.columns:
-        cls = "num" if c in t.numeric else "key" if c in keys else ""
+        cls = "n" if c in t.numeric else "w" if c in WIDE_TEXT else "d" if c in DATES else ""
         text = frame[c].astype(str).map(esc).to_numpy(dtype=object)
         if t.status is not None and c in t.status.columns:
             st = t.status[c].astype(str).to_numpy(dtype=object)
@@ -103,12 +118,14 @@ def table_html(t: Table) -> str:
 
 
 def figure_html(f: Figure) -> str:
-    """A chart as an SVG image (drawn beforehand) with its caption."""
-    svg = f.images.get("svg")
-    if svg is None:
+    """A chart as an image (SVG, or WebP when dense; drawn beforehand) with its caption."""
+    fmt = f.page_format
+    image = f.images.get(fmt)
+    if image is None:
         return f'<p class="note">Chart {esc(f.caption)} was not drawn.</p>'
-    data = base64.b64encode(svg if isinstance(svg, bytes) else svg.encode("utf-8")).decode("ascii")
-    return (f'<figure id="{esc(f.figure_id)}"><img src="data:image/svg+xml;base64,{data}" width="{f.width}" '
+    data = base64.b64encode(image if isinstance(image, bytes) else image.encode("utf-8")).decode("ascii")
+    mime = {"svg": "image/svg+xml", "png": "image/png", "webp": "image/webp"}[fmt]
+    return (f'<figure id="{esc(f.figure_id)}"><img src="data:{mime};base64,{data}" width="{f.width}" '
             f'height="{f.height}" alt="{esc("Chart: " + f.caption)}"><figcaption>{esc(f.caption)}</figcaption></figure>')
 
 
@@ -117,7 +134,7 @@ def block_html(b) -> str:
     if isinstance(b, Paragraph):
         return _paragraph(b)
     if isinstance(b, Bullets):
-        return "<ul>" + "".join(f"<li>{esc(i)}</li>" for i in b.items) + "</ul>"
+        return "<ul>" + "".join(f"<li>{prose(i)}</li>" for i in b.items) + "</ul>"
     if isinstance(b, Heading):
         return f"<h3>{esc(b.text)}</h3>"
     if isinstance(b, Table):
@@ -161,5 +178,5 @@ def build_report_html(data, site_ids=None, title: str | None = None, options=Non
     if title:
         options = replace(options, cover=replace(options.cover, title=title))
     doc = build_document(data, site_ids, options)
-    draw(doc.figures(), ("svg",))
+    draw(doc.figures(), ("page",))
     return render_html(doc)

@@ -1,6 +1,6 @@
 """Static images of the report's charts, and the browser that draws them and prints the PDF.
 
-Charts are plotly figures drawn once to SVG (HTML, PDF) or PNG (Word) by kaleido in a headless
+Charts are plotly figures drawn once to SVG (HTML, PDF; WebP for a dense chart) or PNG (Word) by kaleido in a headless
 Chromium or Chrome, with plotly.js from the installed plotly package and no MathJax, so nothing is
 fetched from the network. The browser is :func:`find_browser`: ``TRACESCREEN_BROWSER`` (or
 ``BROWSER_PATH``) if set, else the first of ``chromium``, ``chromium-browser``, ``google-chrome``,
@@ -16,7 +16,7 @@ import shutil
 BROWSERS = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome", "msedge")
 #: Parallel browser tabs drawing charts.
 TABS = 2
-#: PNG pixels per CSS pixel (Word images stay sharp when printed).
+#: Pixels per CSS pixel of PNG and WebP images (sharp when printed: 1,440 pixels over 18 cm, 200 dpi).
 PNG_SCALE = 2
 
 
@@ -51,24 +51,28 @@ async def _draw(figures: list, fmt: str, browser: str) -> list[bytes]:
 
     async with kaleido.Kaleido(n=min(TABS, max(len(figures), 1)), mathjax=False, path=browser) as k:
         jobs = [k.calc_fig(f.figure, opts={"format": fmt, "width": f.width, "height": f.height,
-                                             "scale": PNG_SCALE if fmt == "png" else 1}) for f in figures]
+                                             "scale": 1 if fmt == "svg" else PNG_SCALE}) for f in figures]
         return await asyncio.gather(*jobs)
 
 
-def draw(figures: list, formats=("svg",)) -> None:
-    """Draw each :class:`tracescreen.report.document.Figure` in each format into its ``images``.
+def draw(figures: list, formats=("page",)) -> None:
+    """Draw each :class:`tracescreen.report.document.Figure` in each format into its ``images``;
+    ``"page"`` is each figure's own :attr:`~tracescreen.report.document.Figure.page_format`.
 
     Raises
     ------
     ReportError
         No browser, or the browser failed to draw.
     """
-    todo = [f for f in figures if any(fmt not in f.images for fmt in formats)]
-    if not todo:
+    wanted = [(f, f.page_format if fmt == "page" else fmt) for f in figures for fmt in formats]
+    wanted = [(f, fmt) for f, fmt in wanted if fmt not in f.images]
+    if not wanted:
         return
     browser = find_browser()
-    for fmt in formats:
-        need = [f for f in todo if fmt not in f.images]
+    for fmt in ("svg", "png", "webp"):
+        need = list({id(f): f for f, w in wanted if w == fmt}.values())
+        if not need:
+            continue
         try:
             images = asyncio.run(_draw(need, fmt, browser))
         except Exception as exc:  # the browser's own errors are many kinds

@@ -9,7 +9,6 @@ the caution. Long lists are cut to :data:`MAX_LISTED` items with a count of the 
 
 from __future__ import annotations
 
-import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_date, format_significant
@@ -57,8 +56,8 @@ def _limit_words(g: pd.DataFrame, entries: pd.DataFrame, refs: dict) -> str:
     by_value: dict[str, list[int]] = {}
     for table, t in g.groupby("limit_table", observed=True, sort=True):
         lo, hi = t["limit_ug_L"].min(), t["limit_ug_L"].max()
-        sf = limit_precision(t.iloc[[0]], entries)
-        text = format_significant([lo, hi], np.repeat(sf, 2)).tolist()
+        sf = int(t["_sf"].iloc[0]) if "_sf" in t.columns else limit_precision(t.iloc[[0]], entries)[0]
+        text = format_significant([lo, hi], [sf, sf]).tolist()
         value = text[0] if lo == hi else f"{text[0]}–{text[1]}"
         by_value.setdefault(value, []).append(refs.get(str(table), (0, ""))[0])
     return _and([f"{v} µg/L [{', '.join(map(str, sorted(r)))}]" for v, r in by_value.items()])
@@ -71,6 +70,7 @@ def exceeding_sites(site: pd.DataFrame, entries: pd.DataFrame, refs: dict, names
     exc = site[site["status"].eq("exceeds")]
     if exc.empty:
         return ["No result exceeds a limit."]
+    exc = exc.assign(_sf=limit_precision(exc, entries))
     n_series = site.drop_duplicates(key).groupby(["site_id", "analyte", "fraction"], observed=True).size()
     per_site = exc.drop_duplicates(key).groupby("site_id", observed=True).size().sort_values(ascending=False, kind="stable")
     out = [f"{_plural(len(exc.drop_duplicates(key)), 'result')} at {_plural(len(per_site), 'site')} exceed at least one "

@@ -188,7 +188,7 @@ def limit_tables_used(data: ReportData, screening: pd.DataFrame) -> tuple[pd.Dat
         ``entries`` has a ``limit`` column: the limit in words (:func:`tracescreen.limits.words.entry_words`:
         a value in µg/L, the hardness formula, or a computed form with its ranges and scope).
     """
-    used = set(screening["limit_table"].dropna().astype(str))
+    used = set(pd.unique(screening["limit_table"].dropna()).astype(str))
     tables = data.limit_tables[data.limit_tables["table_id"].isin(used)]
     tables = tables[[c for c in ("table_id", "name", "source", "url", "use", "unit", "notes")
                      if c in tables.columns]].reset_index(drop=True)
@@ -207,7 +207,7 @@ def named_values(frame: pd.DataFrame | None, column: str) -> str:
     """The distinct values of a text column, comma-separated ("" if absent)."""
     if frame is None or column not in frame.columns:
         return ""
-    return ", ".join(sorted(set(frame[column].dropna().astype(str)) - {""}))
+    return ", ".join(sorted(set(pd.unique(frame[column].dropna()).astype(str)) - {""}))
 
 
 def method_notes(data: ReportData) -> pd.DataFrame:

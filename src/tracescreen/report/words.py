@@ -117,6 +117,12 @@ def in_words(frame: pd.DataFrame, digits: dict | None = None) -> pd.DataFrame:
     return pd.DataFrame(out, index=frame.index).reset_index(drop=True)
 
 
+def numeric_headers(frame: pd.DataFrame) -> tuple[str, ...]:
+    """Header words of the numeric columns of a table in codes (right-aligned when shown)."""
+    return tuple(column_words(c) for c in frame.columns
+                 if pd.api.types.is_numeric_dtype(frame[c]) and not pd.api.types.is_bool_dtype(frame[c]))
+
+
 def codes_table(columns) -> pd.DataFrame:
     """The appendix of codes: each column code shown in the report with its words, then each status
     code with its glyph, short word and label."""
