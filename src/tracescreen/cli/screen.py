@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from . import UserError
-from .common import add_data_options, announce, pipeline_inputs, print_caution
+from .common import add_data_options, announce, pipeline_inputs, print_caution, print_rejections
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options, lab_qc_tables
 from .parser import group
@@ -107,6 +107,7 @@ def print_summary(loaded, screened) -> None:
         where = r.file + (f" [{r.sheet}]" if r.sheet else "")
         print(f"  {where}: {r.rows_read} read, {r.accepted} accepted, {getattr(r, 'set_aside', 0)} set aside, "
               f"{r.rejected} rejected")
+    print_rejections(loaded.rejected)
     counts = screened["status"].value_counts()
     print("Status (result x limit rows):")
     for s in STATUSES:
