@@ -34,7 +34,8 @@ def build_app(args):
     with shown(args, "dashboard") as progress, reporting(progress):
         return create_app(result_files(args) or None, args.limits, args.sites, options=load_options(args),
                           workspace=args.workspace, cross_fraction=args.cross_fraction,
-                          wells=wells_options(args), max_upload_bytes=int(args.max_upload_mb * 1e6))
+                          wells=wells_options(args), max_upload_bytes=int(args.max_upload_mb * 1e6),
+                          overlays=args.overlay)
 
 
 def main(argv: list[str] | None = None) -> int:

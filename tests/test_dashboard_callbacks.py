@@ -11,13 +11,10 @@ import pandas as pd
 import pytest
 from dashboard_support import engine_attention_rows, engine_view, scenario_inputs
 
-from dashboard.render.figures import (
-    WEBGL_THRESHOLD,
-    map_figure,
-    result_points,
-    site_metal_figure,
-)
+from dashboard.render.figures import WEBGL_THRESHOLD, result_points
+from dashboard.render.map_figure import map_figure
 from dashboard.render.series import series_view, trend_view
+from dashboard.render.site_chart import site_chart
 from dashboard.state.frames import plain_frame
 from dashboard.state.session import build_session
 from dashboard.state.store import DataStore
@@ -29,14 +26,7 @@ from dashboard.views.quality import (
     set_aside_counts,
     set_aside_frame,
 )
-from dashboard.views.tables import (
-    FilterError,
-    exceedance_rows,
-    filter_mask,
-    query_table,
-    table_page,
-    to_csv_bytes,
-)
+from dashboard.views.tables import exceedance_rows, to_csv_bytes
 from dashboard.views.uploads import (
     UploadError,
     add_token,
@@ -122,19 +112,21 @@ def test_series_point_count_and_nondetects_at_detection_limit(session):
     assert len(pts) == len(sel) > 0
     nd = pts[~pts["detected"]]
     np.testing.assert_allclose(nd["y"], nd["detection_limit_ug_L"])
-    fig, _ = series_view(session, "BH01", "arsenic", "total")
+    fig, _, _ = series_view(session, "BH01", "arsenic", "total")
     results = [t for t in fig["data"] if t["meta"]["role"] == "result"]
     assert sum(len(t["x"]) for t in results) == len(sel)
-    for t in results:  # open symbols for non-detect statuses, filled otherwise
-        assert t["marker"]["symbol"].endswith("-open") == t["meta"]["status"].startswith("nondetect")
+    for t in results:  # open symbols for non-detects, filled for detected values
+        detected = {d for d in sel["detected"]}
+        assert all(sym.endswith("-open") == t["meta"]["status"].startswith("nondetect")
+                   for sym in t["marker"]["symbol"]) or detected == {True, False}
 
 
 def test_who_arsenic_limit_line_at_10_ug_per_L(session):
     """BH01 (drinking water) arsenic chart draws the WHO guideline value 0.01 mg/L = 10 µg/L
     (WHO Guidelines for drinking-water quality, 4th ed. with 1st and 2nd addenda, 2022, Annex 3)."""
-    fig, _ = series_view(session, "BH01", "arsenic", "total")
-    who = [t for t in fig["data"] if t["meta"]["role"] == "limit" and t["meta"]["table"] == "who_gdwq_2022"]
-    assert len(who) == 1
+    fig, _, _ = series_view(session, "BH01", "arsenic", "total")
+    who = [t for t in fig["data"] if t["meta"]["role"] == "limit" and "who_gdwq_2022" in t["meta"]["tables"]]
+    assert len(who) == 1 and "10 µg/L" in who[0]["name"] and "who_gdwq_2022" in who[0]["name"]
     np.testing.assert_allclose(who[0]["y"], 10.0, rtol=1e-12)
     assert who[0]["line"]["shape"] == "hv"
 
@@ -151,9 +143,9 @@ def test_hardness_dependent_lead_limit_follows_sample_hardness(session):
 
     assert epa_lead_ccc(np.array([100.0]))[0] == pytest.approx(2.5, abs=0.05)
     rows = session.series("KR02", "lead", "dissolved")
-    fig, _ = series_view(session, "KR02", "lead", "dissolved")
+    fig, _, _ = series_view(session, "KR02", "lead", "dissolved")
     chronic = [t for t in fig["data"] if t["meta"]["role"] == "limit" and "chronic" in t["name"]
-               and t["meta"]["table"] == "us_epa_nrwqc_freshwater_aquatic_life"]
+               and "us_epa_nrwqc_freshwater_aquatic_life" in t["meta"]["tables"]]
     assert len(chronic) == 1 and chronic[0]["meta"]["varies"]
     ref = rows[(rows["limit_table"] == "us_epa_nrwqc_freshwater_aquatic_life") & (rows["duration"] == "chronic")
                & (rows["sample_type"] == "sample")].drop_duplicates("sampled_at").sort_values("sampled_at")
@@ -182,27 +174,16 @@ def test_exceedance_csv_is_written_by_the_engine_writer(session, tmp_path):
     _same(back, ref, list(rows.columns))
 
 
-def test_table_filter_and_sort(session):
-    """DataTable filter expressions and sorting select and order rows like pandas would."""
-    rows = exceedance_rows(session)
-    got = query_table(rows, '{site_id} contains "KR0" && {ratio} > 2', [{"column_id": "ratio", "direction": "desc"}])
-    want = rows[rows["site_id"].astype(str).str.contains("KR0") & (rows["ratio"] > 2)]
-    assert len(got) == len(want) > 0
-    assert got["ratio"].is_monotonic_decreasing
-    assert filter_mask(rows, "{status} = exceeds").sum() == (rows["status"] == "exceeds").sum()
-    with pytest.raises(FilterError):
-        filter_mask(rows, "{ratio} > lots")
-    records, n_pages, text, error, tips = table_page(rows, 1, 10, None, "{nonsense} = 1")
-    assert records == [] and "Filter not applied" in error
-
-
 def test_map_marks_every_located_site_by_worst_status(session):
     """Every site of the sites file is placed once, with the marker shape of its worst status."""
     table = site_worst(session, status_counts(session, Filters()))
     fig = map_figure(table)
     placed = {sid: t["marker"]["symbol"] for t in fig["data"] for sid in t["text"]}
+    assert "KR99" not in placed  # its every row was rejected (not in the sites file): not a site of the data
     sites = engine_view()[2]
     assert set(placed) == set(table["site_id"]) == set(sites["site_id"])
+    west = [t for t in fig["data"] if t["meta"]["status"] == "exceeds"][0]
+    assert west["customdata"][0][5].endswith("° W")  # the sites file's longitudes are negative: west
     for t in fig["data"]:
         assert t["marker"]["symbol"] == vocabulary.SYMBOL[t["meta"]["status"]]
     assert fig["layout"]["xaxis"]["scaleratio"] == pytest.approx(math.cos(math.radians(sites["latitude"].mean())))
@@ -225,8 +206,8 @@ def test_webgl_for_big_series():
         "status": "meets", "sample_type": "sample", "limit_table": "t", "duration": "", "basis": "single_sample",
         "limit_ug_L": 5.0, "source": "s", "use": "u",
     })
-    assert site_metal_figure(rows, "big")["data"][0]["type"] == "scattergl"
-    assert site_metal_figure(rows.iloc[:10], "small")["data"][0]["type"] == "scatter"
+    assert site_chart({"total": rows}, "big")[0]["data"][0]["type"] == "scattergl"
+    assert site_chart({"total": rows.iloc[:10]}, "small")[0]["data"][0]["type"] == "scatter"
 
 
 def test_limit_formula_in_words_and_sites_per_use(session):
@@ -313,7 +294,7 @@ def test_site_chart_shows_engine_trend(session):
     acc = engine_view()[0].accepted
     sel = acc[(acc["site_id"] == "KR02") & (acc["analyte"] == "zinc") & (acc["fraction"] == "dissolved")]
     ref = trend_table(sel).iloc[0]
-    line, text = trend_view(session, "KR02", "zinc", "dissolved")
+    (line,), (text,) = trend_view(session, "KR02", "zinc", "dissolved")
     assert line["meta"]["role"] == "trend" and ref["direction"] == "increasing"
     years = decimal_years([ref["last_sampled"]])[0] - decimal_years([ref["first_sampled"]])[0]
     np.testing.assert_allclose(line["y"], [ref["intercept"], ref["intercept"] + ref["slope_per_year"] * years])

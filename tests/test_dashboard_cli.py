@@ -19,14 +19,15 @@ def test_options_forwarded_to_the_dashboard_process():
     """Every reading option given to `tracescreen dashboard` reaches `python -m dashboard` unchanged."""
     args = build_parser().parse_args(
         ["dashboard", "a.csv", "--results", "b.xlsx", "--limits", "L1", "--limits", "L2", "--sites", "s.csv",
-         "--columns", "c.yaml", "--date-order", "dmy", "--decimal-comma", "--same-fraction-only", "--port", "9000"])
+         "--columns", "c.yaml", "--date-order", "dmy", "--decimal-comma", "--same-fraction-only", "--port", "9000",
+         "--overlay", "catchment.geojson", "--overlay", "rivers.geojson"])
     assert result_files(args) == ["a.csv", "b.xlsx"]
     argv = to_argv(args)
     from dashboard.__main__ import build_parser as dash_parser
 
     again = dash_parser().parse_args(argv)
     for name in ("limits", "sites", "columns", "date_order", "decimal_comma", "cross_fraction", "port", "host",
-                 "debug"):
+                 "debug", "overlay"):
         assert getattr(again, name) == getattr(args, name), name
     assert result_files(again) == ["a.csv", "b.xlsx"]
     assert args.host == "127.0.0.1" and not args.debug  # local only and no debug unless asked
@@ -109,3 +110,22 @@ def test_tracescreen_dashboard_serves_the_scenario_on_localhost():
     finally:
         proc.terminate()
         proc.wait(10)
+
+
+def test_bad_overlay_is_a_one_line_error(tmp_path):
+    """A map overlay that is not GeoJSON stops the start with a message naming the file (exit 2, no traceback)."""
+    bad = tmp_path / "rivers.geojson"
+    bad.write_text("not json")
+    p = scenario_paths()
+    cmd = [sys.executable, "-m", "dashboard", "--results", str(p["results"][0]), "--limits", str(p["limits"][0]),
+           "--overlay", str(bad)]
+    out = subprocess.run(cmd, cwd=ROOT, capture_output=True, text=True, timeout=120)
+    assert out.returncode == 2 and "rivers.geojson: not a GeoJSON file" in out.stderr
+    assert "Traceback" not in out.stderr
+
+
+def test_make_run_serves_on_port_and_host_variables():
+    """`make run PORT=... HOST=...` passes both to the dashboard (make -n shows the command without running it)."""
+    out = subprocess.run(["make", "-n", "run", "PORT=8123", "HOST=0.0.0.0"], cwd=ROOT, capture_output=True, text=True,
+                         timeout=60)
+    assert "--host 0.0.0.0 --port 8123" in out.stdout

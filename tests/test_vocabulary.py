@@ -43,12 +43,16 @@ def test_no_status_words_outside_the_vocabulary():
 
 
 def test_dashboard_css_uses_the_vocabulary_colours():
-    css = (ROOT / "dashboard" / "assets" / "style.css").read_text(encoding="utf-8")
-    for s in vocabulary.RANKED:
-        glyph = re.search(rf"\.status-{s} \.glyph \{{ color: (#[0-9A-Fa-f]{{6}}); \}} td\.status-{s} \{{ background: "
-                          r"(#[0-9A-Fa-f]{6}); \}", css)
-        assert glyph, s
-        assert glyph.group(1).lower() == vocabulary.COLOUR[s].lower() and glyph.group(2).lower() == vocabulary.TINT[s]
+    """The dashboard's status CSS is generated from the vocabulary (no status colour in its style sheet)."""
+    from dashboard.render.status_css import status_css
+
+    css = status_css()
+    static = (ROOT / "dashboard" / "assets" / "style.css").read_text(encoding="utf-8")
+    for s in vocabulary.STATUSES:
+        assert f".status-text.status-{s}, .status-{s} .glyph {{ color: {vocabulary.TEXT_COLOUR[s]}; }}" in css
+        assert f"td.status-{s}, .badge.status-{s} {{ background: {vocabulary.TINT[s]}; }}" in css
+        assert vocabulary.GLYPH[s] in css
+        assert f".status-{s}" not in static
 
 
 def test_report_uses_the_vocabulary_glyphs_colours_and_labels():
@@ -59,3 +63,34 @@ def test_report_uses_the_vocabulary_glyphs_colours_and_labels():
     for s in vocabulary.RANKED:
         assert f".st-{s} .g{{color:{vocabulary.COLOUR[s]}}}" in html.CSS
         assert codes[s] == f"{vocabulary.GLYPH[s]} {vocabulary.SHORT[s]}: {vocabulary.LABEL[s]}"
+
+
+def _relative_luminance(colour: str) -> float:
+    """WCAG 2.1 relative luminance of an sRGB colour (W3C, WCAG 2.1, definition "relative luminance")."""
+    h = colour.lstrip("#")
+    channels = [int(h[i:i + 2], 16) / 255 for i in (0, 2, 4)]
+    lin = [c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4 for c in channels]
+    return 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2]
+
+
+def _contrast(a: str, b: str) -> float:
+    """WCAG 2.1 contrast ratio (L1 + 0.05) / (L2 + 0.05)."""
+    hi, lo = sorted((_relative_luminance(a), _relative_luminance(b)), reverse=True)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+def test_wcag_contrast_formula_on_published_extremes():
+    # WCAG 2.1: contrast ratios range from 1:1 to 21:1 (black on white)
+    assert round(_contrast("#000000", "#ffffff"), 2) == 21.0
+    assert _contrast("#777777", "#777777") == 1.0
+    # #767676 on white is the lightest grey meeting 4.5:1 (common practice, WebAIM contrast checker from memory: 4.54)
+    assert round(_contrast("#767676", "#ffffff"), 2) == 4.54
+
+
+def test_status_text_meets_wcag_aa_on_white_and_on_its_tint():
+    """Status words and glyphs drawn as text reach 4.5:1 (WCAG 2.1 SC 1.4.3, level AA) on white and on the
+    status's cell tint; the plain chart colours are for markers beside shapes and words."""
+    assert set(vocabulary.TEXT_COLOUR) == set(vocabulary.STATUSES)
+    for s in vocabulary.STATUSES:
+        assert _contrast(vocabulary.TEXT_COLOUR[s], "#ffffff") >= 4.5, s
+        assert _contrast(vocabulary.TEXT_COLOUR[s], vocabulary.TINT[s]) >= 4.5, s

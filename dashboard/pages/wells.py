@@ -3,12 +3,15 @@ constituent at a time -- its background, prediction limit and retest sequence, c
 limit's inputs and its confidence limits against standards -- with the statistical design stated."""
 
 import dash
-from dash import Input, Output, dash_table, dcc, html
+from dash import Input, Output, dcc, html
 
-from dashboard.pages._shared import PageCallbacks
+from dashboard.pages._shared import PageCallbacks, register_url_state
 from dashboard.render.components import page_header
+from dashboard.render.grid import Column, client_grid
 from dashboard.state.store import current_session
+from dashboard.views.url_state import as_text
 from dashboard.views.wells import CI_COLUMNS, SEQUENCE_COLUMNS, series_options, series_view, wells_tables
+from tracescreen.report.charts import PLOTLY_CONFIG
 
 dash.register_page(__name__, path="/wells", name="Wells", order=2.5, title="tracescreen · wells against background")
 callbacks = PageCallbacks()
@@ -19,15 +22,15 @@ INTRO = ("Each compliance well is compared with background -- up-gradient wells,
          "with the standards. Statistical tests support, and do not replace, the regulator's decision.")
 
 
-def _table(table_id: str, columns: list[str]) -> dash_table.DataTable:
-    return dash_table.DataTable(
-        id=table_id, columns=[{"name": c, "id": c} for c in columns], data=[], page_size=12,
-        style_table={"overflowX": "auto"}, style_header={"fontWeight": "600", "backgroundColor": "#f1f3f5"},
-        style_cell={"fontFamily": "inherit", "fontSize": "13px", "padding": "4px 8px", "textAlign": "left",
-                    "whiteSpace": "normal", "maxWidth": "420px"})
+def _table(table_id: str, columns: list[str]):
+    """A grid of one of the well's tables (rows filled by the callback)."""
+    return client_grid(table_id, [Column(c, c.replace("_", " "), "words" if c in ("note", "ci_notes", "value") else "text",
+                                         width=300 if c in ("note", "ci_notes", "value") else 150) for c in columns],
+                       [], page_size=12)
 
 
 def layout(series=None, **_query):
+    series = as_text(series)
     session = current_session(None)
     tables = wells_tables(session)
     if tables is None:
@@ -48,7 +51,8 @@ def layout(series=None, **_query):
                             dcc.Dropdown(id="wells-series", options=options, value=value, clearable=False)],
                            className="filter wide")], className="filters"),
         html.P(id="wells-status", className="summary", role="status"),
-        dcc.Loading(dcc.Graph(id="wells-chart", config={"displaylogo": False}), type="dot"),
+        dcc.Store(id="wells-url"),
+        dcc.Loading(dcc.Graph(id="wells-chart", config=PLOTLY_CONFIG), type="dot", delay_show=300),
         html.H3("The limit and its inputs"), _table("wells-facts", ["setting", "value"]),
         html.H3("Retest sequence"), _table("wells-sequence", SEQUENCE_COLUMNS),
         html.H3("Confidence limits against standards"), _table("wells-confidence", CI_COLUMNS),
@@ -62,8 +66,8 @@ def update_series_options(dataset_key):
 
 
 @callbacks.callback(
-    Output("wells-chart", "figure"), Output("wells-status", "children"), Output("wells-facts", "data"),
-    Output("wells-sequence", "data"), Output("wells-confidence", "data"),
+    Output("wells-chart", "figure"), Output("wells-status", "children"), Output("wells-facts", "rowData"),
+    Output("wells-sequence", "rowData"), Output("wells-confidence", "rowData"),
     Input("wells-series", "value"), Input("dataset-key", "data"),
 )
 def update_series(value, dataset_key):
@@ -72,3 +76,6 @@ def update_series(value, dataset_key):
         return {}, "Choose a well and constituent.", [], [], []
     v = series_view(tables, value)
     return v["figure"], v["status"], v["facts"], v["sequence"], v["confidence"]
+
+
+register_url_state(callbacks, "/wells", "wells-url", [("series", "wells-series", "value", "text", None)])

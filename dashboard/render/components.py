@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
-from dash import dash_table, dcc, html
+from dash import dcc, html
 
-from dashboard.views.tables import LONG_TEXT_COLUMNS
 from tracescreen import vocabulary
 from tracescreen.caution import CAUTION
 
@@ -23,65 +22,44 @@ def page_header(title: str, intro: str) -> html.Div:
 def status_legend() -> html.Div:
     """Glyph, colour and words of every status."""
     return html.Div(
-        [html.Span([html.Span(vocabulary.GLYPH[s], className="glyph", style={"color": vocabulary.COLOUR[s]}),
-                    f" {vocabulary.LABEL[s]}"], className="legend-item") for s in vocabulary.RANKED],
+        [html.Span([html.Span(vocabulary.GLYPH[s], className="glyph", **{"aria-hidden": "true"}),
+                    f" {vocabulary.LABEL[s]}"], className=f"legend-item status-text status-{s}")
+         for s in vocabulary.RANKED],
         className="legend",
     )
 
 
-def filter_controls(prefix: str) -> html.Div:
-    """Water use, limit table, fraction, date range and campaign filters (options filled by callback)."""
+def filter_controls(prefix: str, values: dict | None = None) -> html.Div:
+    """Water use, limit table, fraction, date range and campaign filters (options filled by callback;
+    ``values``: the shared filters read from the address, :func:`dashboard.views.url_state.shared_filters`)."""
+    v = values or {}
+
+    def chosen(key):  # until the callback fills the options, the values read from the address are options
+        return [{"label": x, "value": x} for x in v.get(key) or []]
+
     return html.Div(
         [
             html.Div([html.Label("Water use", htmlFor=f"{prefix}-uses"),
-                      dcc.Dropdown(id=f"{prefix}-uses", multi=True, placeholder="all uses")],
+                      dcc.Dropdown(id=f"{prefix}-uses", multi=True, placeholder="all uses", value=v.get("uses") or [],
+                                   options=chosen("uses"))],
                      className="filter"),
             html.Div([html.Label("Limit table", htmlFor=f"{prefix}-tables"),
-                      dcc.Dropdown(id=f"{prefix}-tables", multi=True, placeholder="all tables")],
+                      dcc.Dropdown(id=f"{prefix}-tables", multi=True, placeholder="all tables",
+                                   value=v.get("tables") or [], options=chosen("tables"))],
                      className="filter wide"),
             html.Div([html.Label("Fraction", htmlFor=f"{prefix}-fraction"),
-                      dcc.Dropdown(id=f"{prefix}-fraction", value="all", clearable=False,
-                                   options=[{"label": "all fractions", "value": "all"}])],
+                      dcc.Dropdown(id=f"{prefix}-fraction", value=v.get("fraction") or "all", clearable=False,
+                                   options=[{"label": "all fractions", "value": "all"}]
+                                   + [{"label": f, "value": f} for f in [v.get("fraction")] if f and f != "all"])],
                      className="filter narrow"),
             html.Div([html.Label("Sampling dates", htmlFor=f"{prefix}-dates"),
-                      dcc.DatePickerRange(id=f"{prefix}-dates", display_format="YYYY-MM-DD",
-                                          clearable=True)],
+                      dcc.DatePickerRange(id=f"{prefix}-dates", display_format="YYYY-MM-DD", clearable=True,
+                                          start_date=v.get("start"), end_date=v.get("end"))],
                      className="filter"),
             html.Div([html.Label("Campaign", htmlFor=f"{prefix}-campaigns"),
-                      dcc.Dropdown(id=f"{prefix}-campaigns", multi=True, placeholder="all campaigns")],
+                      dcc.Dropdown(id=f"{prefix}-campaigns", multi=True, placeholder="all campaigns",
+                                   value=v.get("campaigns") or [], options=chosen("campaigns"))],
                      className="filter"),
         ],
         className="filters",
     )
-
-
-def data_table(table_id: str, columns: list, page_size: int = 25, server_side: bool = True,
-               **kwargs) -> dash_table.DataTable:
-    """A sortable, filterable table; with ``server_side`` the server filters, sorts and pages.
-
-    ``columns`` are column ids or ``(id, heading)`` pairs.
-    """
-    columns = [c if isinstance(c, tuple) else (c, c) for c in columns]
-    mode = "custom" if server_side else "native"
-    return dash_table.DataTable(
-        id=table_id,
-        columns=[{"name": name, "id": cid} for cid, name in columns],
-        page_current=0,
-        page_size=page_size,
-        page_action=mode,
-        sort_action=mode,
-        sort_mode="multi",
-        filter_action=mode,
-        style_table={"overflowX": "auto"},
-        style_cell={"fontFamily": "inherit", "fontSize": "13px", "padding": "4px 8px",
-                    "whiteSpace": "nowrap", "textAlign": "left"},
-        style_cell_conditional=[
-            {"if": {"column_id": c}, "maxWidth": "320px", "overflow": "hidden", "textOverflow": "ellipsis"}
-            for c in LONG_TEXT_COLUMNS],
-        tooltip_delay=300,
-        tooltip_duration=None,
-        style_header={"fontWeight": "600", "backgroundColor": "#f1f3f5"},
-        **kwargs,
-    )
-
-

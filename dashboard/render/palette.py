@@ -10,3 +10,4 @@ from __future__ import annotations
 LIMIT_DASHES: tuple[str, ...] = ("dash", "dot", "dashdot", "longdash", "longdashdot", "solid")
 LIMIT_COLOUR = "#0072B2"  # Okabe-Ito blue [OkabeIto2008]_
 TREND_COLOUR = "#000000"
+PERIOD_COLOUR = "#A8527F"  # Okabe-Ito reddish purple, darkened: period values and their limits

@@ -73,6 +73,25 @@ def accepted_from_session(session: SessionData) -> pd.DataFrame:
     categoricals with "" for missing, see :func:`engine_frame`)."""
     starts = np.flatnonzero(np.r_[True, session.rid[1:] != session.rid[:-1]]) if len(session.rid) else []
     added = {"hardness_used_mg_L", "hardness_origin", "limit_table", "use", "duration", "basis",
-             "limit_ug_L", "ratio", "status", "source", "note", "_rid", "campaign"}
+             "limit_ug_L", "ratio", "status", "source", "note", "_rid", "campaign", "entry_id", "compared_value_ug_L",
+             "period_id", "period_value_ug_L", "limit_fraction", "ph_used", "doc_used_mg_L", "temperature_used_C",
+             "limit_scope"}
     acc = session.screened.iloc[starts]
-    return engine_frame(acc[[c for c in acc.columns if c not in added]].reset_index(drop=True))
+    out = acc[[c for c in acc.columns if c not in added]].reset_index(drop=True)
+    return engine_frame(out.assign(**_sample_inputs(acc)))
+
+
+def _sample_inputs(screened_rows: pd.DataFrame) -> dict:
+    """The sample's own inputs of computed limits, which screening replaces by the values it used:
+    the hardness where it was the sample's own (a site default or a Ca/Mg hardness is found again when
+    the rows are screened anew), and pH, DOC and temperature as used (the sample's, else the site's:
+    the same value either way)."""
+    out = {}
+    if "hardness_used_mg_L" in screened_rows.columns:
+        own = (screened_rows["hardness_origin"] == "sample").to_numpy(dtype=bool) \
+            if "hardness_origin" in screened_rows.columns else np.zeros(len(screened_rows), dtype=bool)
+        out["hardness_mg_L"] = np.where(own, screened_rows["hardness_used_mg_L"].to_numpy(float), np.nan)
+    for used, col in (("ph_used", "ph"), ("doc_used_mg_L", "doc_mg_L"), ("temperature_used_C", "temperature_C")):
+        if used in screened_rows.columns and col not in screened_rows.columns:
+            out[col] = screened_rows[used].to_numpy(float)
+    return out

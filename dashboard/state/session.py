@@ -82,6 +82,7 @@ class SessionData:
     memo: Memo = field(default_factory=Memo, repr=False)
     _derived: dict = field(default_factory=dict, repr=False)
     _derived_lock: threading.Lock = field(default_factory=threading.Lock, repr=False)
+    _derived_locks: dict = field(default_factory=dict, repr=False)
 
     # ---- look-ups -------------------------------------------------------------------------
     def site_name(self, site_id: str) -> str:
@@ -92,16 +93,21 @@ class SessionData:
                 return hit.iloc[0]
         return str(site_id)
 
-    def series(self, site_id: str, analyte: str, fraction: str) -> pd.DataFrame:
-        """Screened rows (all statuses, QC included) of one site, analyte and fraction, by date."""
+    def series_bounds(self, site_id: str, analyte: str, fraction: str) -> tuple[int, int]:
+        """Positions ``lo:hi`` of the screened rows of one site, analyte and fraction (empty if none)."""
         try:
             s = self.site_ids.index(site_id)
             a = self.analytes.index(analyte)
             f = self.fractions.index(fraction)
         except ValueError:
-            return self.screened.iloc[0:0]
+            return 0, 0
         k = (s * len(self.analytes) + a) * len(self.fractions) + f
         lo, hi = np.searchsorted(self.series_key, [k, k + 1])
+        return int(lo), int(hi)
+
+    def series(self, site_id: str, analyte: str, fraction: str) -> pd.DataFrame:
+        """Screened rows (all statuses, QC included) of one site, analyte and fraction, by date."""
+        lo, hi = self.series_bounds(site_id, analyte, fraction)
         return self.screened.iloc[lo:hi]
 
     def cached(self, name: str, args: tuple, compute: Callable[[], Any], size: int | None = None) -> Any:
@@ -111,12 +117,25 @@ class SessionData:
         return self.memo.get(name, args, compute, entries=size)
 
     def derived(self, name: str, compute: Callable[[], Any]) -> Any:
-        """A value derived once from the whole session (the exceedance rows, the retest list):
-        kept as long as the session, outside the views' byte budget."""
+        """A value derived once from the whole session (the exceedance rows, the retest list, the trend
+        table): kept as long as the session, outside the views' byte budget. Each name has its own
+        lock, so a long computation (the trend table of a million results) holds up only the
+        requests that need that value."""
         with self._derived_lock:
+            if name in self._derived:
+                return self._derived[name]
+            lock = self._derived_locks.setdefault(name, threading.Lock())
+        with lock:
             if name not in self._derived:
-                self._derived[name] = compute()
+                value = compute()
+                with self._derived_lock:
+                    self._derived[name] = value
             return self._derived[name]
+
+    def ready(self, name: str) -> bool:
+        """Whether the derived value ``name`` is computed (without computing it)."""
+        with self._derived_lock:
+            return name in self._derived
 
 
 def _categorical(values: pd.Series) -> pd.Series:
@@ -214,6 +233,8 @@ def _codes(screened: pd.DataFrame, col: str) -> tuple[np.ndarray, list[str]]:
     cat = screened[col]
     if not isinstance(cat.dtype, pd.CategoricalDtype):
         cat = _categorical(cat)
+    # only the values present: a site whose every row was rejected is not a site of the session
+    cat = cat.cat.remove_unused_categories()
     return cat.cat.codes.to_numpy(), [str(c) for c in cat.cat.categories]
 
 

@@ -9,6 +9,8 @@ mutable global: the :class:`DataStore` belongs to one app (``app.server.extensio
 
 from __future__ import annotations
 
+import json
+import logging
 import tempfile
 import threading
 from collections import OrderedDict
@@ -17,12 +19,16 @@ from pathlib import Path
 import pandas as pd
 
 from dashboard.state.frames import accepted_from_session, engine_frame
+from dashboard.state.merge import merge_upload
+from dashboard.state.overlays import load_overlays
+from dashboard.state.requests import RequestBook
 from dashboard.state.session import BASE_KEY, Inputs, SessionData, build_session
 from tracescreen._internal.hashing import sha256_hex
 from tracescreen._internal.memory import release_unused
 from tracescreen.screening.parts import join_frames
 
 STORE_EXTENSION = "tracescreen"
+LOG = logging.getLogger("tracescreen.dashboard")
 
 
 # ---- building ---------------------------------------------------------------------------------
@@ -98,11 +104,19 @@ class DataStore:
     cache_bytes : int
         Bytes those sessions may hold together [bytes]; the least recently used go first, but the
         most recent one is always kept (a million-result base makes each upload session as large).
+    workspace : path, optional
+        The workspace the base results come from (retest request statuses are kept there).
+    overlays : sequence of paths
+        GeoJSON files drawn on the map (:func:`dashboard.state.overlays.load_overlays`).
     """
 
     def __init__(self, base, upload_dir=None, max_upload_bytes: int = 20 * 2**20, cache_size: int = 3,
-                 cache_bytes: int = 400 * 2**20):
+                 cache_bytes: int = 400 * 2**20, workspace=None, overlays=()):
         self._base = base
+        self.workspace = Path(workspace) if workspace is not None else None
+        self.overlays = load_overlays(overlays)
+        self.requests = RequestBook(self.workspace)
+        self._background: threading.Thread | None = None
         self._base_inputs: Inputs | None = None
         self._tmp = None
         if upload_dir is None:
@@ -135,15 +149,42 @@ class DataStore:
         """The folder that keeps the upload named ``token``."""
         return self.upload_dir / token
 
-    def save_upload(self, filename: str, content: bytes, mapping: bytes | None) -> str:
-        """Keep an uploaded file (and its column mapping) on disk; return its token."""
-        token = content_token(filename.encode(), content, mapping or b"")
+    def save_upload(self, filename: str, content: bytes, mapping: bytes | None, reading: dict | None = None) -> str:
+        """Keep an uploaded file (its column mapping and how to read it) on disk; return its token."""
+        reading = dict(reading or {})
+        token = content_token(filename.encode(), content, mapping or b"", json.dumps(reading, sort_keys=True).encode())
         folder = self.upload_path(token)
         folder.mkdir(parents=True, exist_ok=True)
         (folder / Path(filename).name).write_bytes(content)
         if mapping:
             (folder / "_columns.yaml").write_bytes(mapping)
+        (folder / "_upload.json").write_text(json.dumps({"filename": Path(filename).name, "sha256": sha256_hex(content),
+                                                         "reading": reading}))
         return token
+
+    def upload_info(self, token: str) -> dict:
+        """The kept upload's file name, SHA-256 and reading options."""
+        path = self.upload_path(token) / "_upload.json"
+        if not token.isalnum() or not path.is_file():
+            raise KeyError(token)
+        return json.loads(path.read_text())
+
+    def duplicate_of(self, sha256: str, dataset_key: str | None) -> str | None:
+        """The file already in the data of ``dataset_key`` with these exact bytes (its name), else None:
+        the base files by their SHA-256, then the uploads of the key."""
+        files = self.base_session().files
+        if "sha256" in files.columns:
+            hit = files.loc[files["sha256"].astype(str) == sha256, "file"]
+            if len(hit):
+                return str(hit.iloc[0])
+        for token in upload_tokens(dataset_key):
+            try:
+                info = self.upload_info(token)
+            except (KeyError, ValueError, OSError):
+                continue
+            if info.get("sha256") == sha256:
+                return f"{info.get('filename')} (uploaded earlier in this browser session)"
+        return None
 
     def load_upload(self, token: str):
         """Load one kept upload with the engine; returns the engine's LoadResult."""
@@ -154,12 +195,17 @@ class DataStore:
             raise KeyError(token)
         import dataclasses
 
-        files = [p for p in sorted(folder.iterdir()) if p.name != "_columns.yaml"]
+        files = [p for p in sorted(folder.iterdir()) if not p.name.startswith("_")]
         mapping = folder / "_columns.yaml"
         base = self.base_inputs()
         opts = base.options if base.options is not None else load_options(None)
-        # an upload is read like the base files (dates, decimal comma), with its own mapping
-        opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None)
+        # an upload is read like the base files unless the page says otherwise, with its own mapping
+        try:
+            reading = self.upload_info(token).get("reading", {})
+        except KeyError:
+            reading = {}
+        opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None,
+                                   **{k: v for k, v in reading.items() if k in READING_OPTIONS})
         return load_results(files, opts, sites=self.sites, sites_name=base.sites_name)
 
     # sessions
@@ -173,7 +219,7 @@ class DataStore:
 
     def get(self, key: str | None) -> SessionData:
         """The session data for a dataset key (unknown tokens fall back to the base data)."""
-        tokens = [t for t in (key or "").split("+")[1:] if t]
+        tokens = upload_tokens(key)
         if not tokens:
             return self.base_session()
         with self._lock:
@@ -191,23 +237,22 @@ class DataStore:
 
     def _build(self, tokens: list[str]) -> SessionData:
         base = self.base_session()
-        accepted, rejected, files, kept = [accepted_from_session(base)], [base.rejected], [base.files], []
-        aside = [base.set_aside]
+        current = accepted_from_session(base)
+        rejected, files, kept, aside = [base.rejected], [base.files], [], [base.set_aside]
         for token in tokens:
             try:
                 loaded = self.load_upload(token)
             except (KeyError, ValueError, OSError):
                 continue
-            accepted.append(loaded.accepted)
+            # as a workspace import: unchanged results are not added twice, revised ones replace the earlier
+            parts, _ = merge_upload(current, engine_frame(loaded.accepted))
+            current = engine_frame(join_frames(parts))
             rejected.append(loaded.rejected)
             aside.append(loaded.set_aside)
             files.append(loaded.files)
             kept.append(token)
-        # categorical text joined category-wise; the engine writes missing text as "", never NaN
-        merged = engine_frame(join_frames(accepted))
-        del accepted
         inputs = Inputs(
-            accepted=merged,
+            accepted=current,
             rejected=pd.concat([r for r in rejected if len(r)] or [base.rejected], ignore_index=True),
             set_aside=pd.concat([r for r in aside if len(r)] or [base.set_aside], ignore_index=True),
             limits=base.limits,
@@ -216,8 +261,38 @@ class DataStore:
             sources=base.sources + tuple(f"upload {t}" for t in kept),
             cross_fraction=self.base_inputs().cross_fraction,
         )
-        del merged
+        del current
         return build_session(inputs, "+".join([BASE_KEY, *kept]), release_input=True)
+
+    # work done off the requests
+    def start_background(self) -> None:
+        """Compute the base session's trend table and retest list on a worker thread, so that the
+        pages that need them do not wait on the first request (a million results take a minute)."""
+        from dashboard.views.retest import retest_frame
+        from dashboard.views.trends import trend_table
+
+        if self._background is not None:
+            return
+
+        def work():
+            session = self.base_session()
+            for compute in (retest_frame, trend_table):
+                try:
+                    compute(session)
+                except Exception:  # noqa: BLE001 - shown again, with its message, when a page asks
+                    LOG.exception("background computation failed")
+
+        self._background = threading.Thread(target=work, name="tracescreen-background", daemon=True)
+        self._background.start()
+
+
+#: upload options of the page that override how the base files were read
+READING_OPTIONS = ("decimal_comma", "date_order", "default_fraction", "sheet", "encoding")
+
+
+def upload_tokens(dataset_key: str | None) -> list[str]:
+    """The upload tokens of a dataset key (``base+<token>+<token>``)."""
+    return [t for t in (dataset_key or "").split("+")[1:] if t]
 
 
 def current_store() -> DataStore:

@@ -59,3 +59,29 @@ def sites_for_use(session: SessionData, use: str) -> list[str] | None:
     return sorted(sites.loc[has, "site_id"].astype(str))
 
 
+
+
+def no_limit_reason(session: SessionData, site: str, analyte: str, fraction: str) -> str:
+    """Why a series has no applicable limit, in words (from the loaded tables and the site's uses)."""
+    entries = session.limits.entries
+    of_metal = entries[entries["analyte"].astype(str) == analyte]
+    if of_metal.empty:
+        return f"no loaded limit table lists {analyte}"
+    uses = None
+    if session.sites is not None and "uses" in session.sites.columns:
+        hit = session.sites.loc[session.sites["site_id"].astype(str) == str(site), "uses"]
+        if len(hit):
+            u = hit.iloc[0]
+            uses = set(u if isinstance(u, (tuple, list)) else str(u).split(";"))
+    for_site = of_metal if uses is None else of_metal[of_metal["use"].astype(str).isin(uses)]
+    if for_site.empty:
+        listed = ", ".join(sorted(set(of_metal["use"].astype(str))))
+        mine = ", ".join(sorted(uses or [])) or "none"
+        return f"the tables for {analyte} protect {listed}; this site's uses are {mine}"
+    same = for_site[for_site["fraction"].astype(str).isin([fraction, "", "any"])]
+    if same.empty:
+        other = " and ".join(sorted(set(for_site["fraction"].astype(str))))
+        tables = ", ".join(sorted(set(for_site["table_id"].astype(str))))
+        return f"the tables for this site's uses ({tables}) have {other} criteria only for {analyte}"
+    return ("a table lists it, but no entry was in force on these dates or in this site's scope, or the "
+            "inputs of a computed limit (hardness, pH, DOC) were missing")

@@ -29,6 +29,10 @@ class Filters:
     end: str | None = None  # ISO date, inclusive
     campaigns: tuple[str, ...] = ()
 
+    def without_fraction(self) -> "Filters":
+        """The same filters over every fraction."""
+        return Filters(self.uses, self.tables, None, self.start, self.end, self.campaigns)
+
     @classmethod
     def from_controls(cls, uses=None, tables=None, fraction=None, start=None, end=None, campaigns=None):
         """Build from Dash control values (lists, ``"all"``, date strings with optional time)."""
@@ -54,21 +58,22 @@ def _allowed(codes: np.ndarray, names: list[str], wanted: tuple[str, ...]) -> np
     return lut[codes]
 
 
-def row_mask(session: SessionData, f: Filters) -> np.ndarray:
-    """Screened rows that count for the overview: site samples passing every filter."""
-    mask = session.rank >= 0
+def row_mask(session: SessionData, f: Filters, lo: int = 0, hi: int | None = None) -> np.ndarray:
+    """Screened rows ``lo:hi`` that count for the overview: site samples passing every filter."""
+    sl = slice(lo, hi)
+    mask = session.rank[sl] >= 0
     if f.uses:
-        mask &= _allowed(session.use_code, session.uses, f.uses)
+        mask &= _allowed(session.use_code[sl], session.uses, f.uses)
     if f.tables:
-        mask &= _allowed(session.table_code, session.tables, f.tables)
+        mask &= _allowed(session.table_code[sl], session.tables, f.tables)
     if f.fraction:
-        mask &= _allowed(session.fraction_code, session.fractions, (f.fraction,))
+        mask &= _allowed(session.fraction_code[sl], session.fractions, (f.fraction,))
     if f.start:
-        mask &= session.day >= int(np.datetime64(f.start, "D").astype(np.int64))  # a Python int keeps int32
+        mask &= session.day[sl] >= int(np.datetime64(f.start, "D").astype(np.int64))  # a Python int keeps int32
     if f.end:
-        mask &= session.day <= int(np.datetime64(f.end, "D").astype(np.int64))
+        mask &= session.day[sl] <= int(np.datetime64(f.end, "D").astype(np.int64))
     if f.campaigns:
-        mask &= _allowed(session.campaign_code, session.campaigns, f.campaigns)
+        mask &= _allowed(session.campaign_code[sl], session.campaigns, f.campaigns)
     return mask
 
 
@@ -168,3 +173,129 @@ def filter_options(session: SessionData) -> tuple:
     hi = str(days.max().astype("datetime64[D]")) if len(days) else None
     return ([{"label": u, "value": u} for u in session.uses], tables, fractions, lo, hi,
             [{"label": c, "value": c} for c in session.campaigns])
+
+
+#: columns of :func:`cell_table` (one row per site and metal with results)
+CELL_COLUMNS = ["site_id", "analyte", "n_results", "n_exceeds", "worst", "latest_campaign", "latest",
+                "latest_n", "latest_exceeds", "first_exceedance", "last_exceedance", "fractions"]
+
+
+def _series_ends(keys: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """First and last positions of each run of equal keys (``keys`` sorted by runs)."""
+    if not len(keys):
+        return np.zeros(0, np.int64), np.zeros(0, np.int64)
+    change = np.flatnonzero(keys[1:] != keys[:-1]) + 1
+    return np.r_[0, change], np.r_[change - 1, len(keys) - 1]
+
+
+def cell_table(session: SessionData, f: Filters) -> pd.DataFrame:
+    """Per site and metal (the overview's cells): results, worst status over the period, the latest
+    campaign's status, and the first and last dates of a result above a limit.
+
+    The latest campaign of a cell is the campaign of its latest sampling date among the results
+    passing the filters; its status is the worst of the cell's results in that campaign. All
+    vectorised: the session's rows are sorted by series and date, so each series' first and last
+    rows are the ends of its run (no sort here).
+    """
+    rows, worst = worst_per_result(session, row_mask(session, f))
+    n_a = len(session.analytes)
+    n_cells = len(session.site_ids) * n_a
+    cell = session.site_code[rows].astype(np.int64) * n_a + session.analyte_code[rows]
+    day = session.day[rows].astype(np.int64)
+    camp = session.campaign_code[rows].astype(np.int64)
+    # latest day of each cell: the last result of each of its series (rows are in date order per series)
+    _, last = _series_ends(session.series_key[rows])
+    latest_day = np.full(n_cells, np.iinfo(np.int64).min)
+    np.maximum.at(latest_day, cell[last], day[last])
+    at_latest = last[day[last] == latest_day[cell[last]]]
+    latest_camp = np.full(n_cells, -2, dtype=np.int64)
+    np.maximum.at(latest_camp, cell[at_latest], camp[at_latest])
+    in_latest = camp == latest_camp[cell]
+    status_idx = (N_STATUS - 1) - worst.astype(np.int64)
+    counts = np.bincount(cell * N_STATUS + status_idx, minlength=n_cells * N_STATUS).reshape(n_cells, N_STATUS)
+    latest_counts = np.bincount(cell[in_latest] * N_STATUS + status_idx[in_latest],
+                                minlength=n_cells * N_STATUS).reshape(n_cells, N_STATUS)
+    ex = np.flatnonzero(status_idx == vocabulary.RANKED.index("exceeds"))
+    first_ex = np.full(n_cells, np.iinfo(np.int64).max)
+    last_ex = np.full(n_cells, np.iinfo(np.int64).min)
+    if len(ex):
+        lo, hi = _series_ends(session.series_key[rows[ex]])
+        np.minimum.at(first_ex, cell[ex[lo]], day[ex[lo]])
+        np.maximum.at(last_ex, cell[ex[hi]], day[ex[hi]])
+    n_f = max(len(session.fractions), 1)
+    frac_bits = np.zeros(n_cells, dtype=np.int64)
+    np.bitwise_or.at(frac_bits, cell[last], 1 << (session.series_key[rows[last]].astype(np.int64) % n_f))
+    has = np.flatnonzero(counts.sum(axis=1))
+    ranked = np.asarray(vocabulary.RANKED, dtype=object)
+    no_day = np.iinfo(np.int64).max
+
+    def dates(values, missing):
+        v = values[has]
+        out = np.where(v == missing, np.iinfo(np.int64).min, v).astype("datetime64[D]")
+        return np.where(v == missing, np.datetime64("NaT"), out)
+
+    lw = worst_status(latest_counts[has])
+    return CellTable({
+        "site_id": np.asarray(session.site_ids, dtype=object)[has // n_a],
+        "analyte": np.asarray(session.analytes, dtype=object)[has % n_a],
+        "n_results": counts[has].sum(axis=1),
+        "n_exceeds": counts[has, vocabulary.RANKED.index("exceeds")],
+        "worst": ranked[worst_status(counts[has])],
+        "latest_campaign": np.asarray(session.campaigns + ["", ""], dtype=object)[latest_camp[has]],
+        "latest": np.where(lw >= 0, ranked[np.maximum(lw, 0)], ""),
+        "latest_n": latest_counts[has].sum(axis=1),
+        "latest_exceeds": latest_counts[has, vocabulary.RANKED.index("exceeds")],
+        "first_exceedance": dates(first_ex, no_day),
+        "last_exceedance": dates(last_ex, np.iinfo(np.int64).min),
+        "fractions": _fraction_names(session, frac_bits[has], n_f),
+    }, counts.sum(axis=0), latest_counts.sum(axis=0))
+
+
+def _fraction_names(session: SessionData, bits: np.ndarray, n_f: int) -> np.ndarray:
+    """"total, dissolved" for each cell's set of fractions (one text per distinct set)."""
+    names = {b: ", ".join(session.fractions[i] for i in range(n_f) if b >> i & 1) for b in np.unique(bits).tolist()}
+    return np.asarray([names[b] for b in bits.tolist()], dtype=object)
+
+
+@dataclass
+class CellTable:
+    """:func:`cell_table`: one array per column (:data:`CELL_COLUMNS`), and the results per status over the
+    period (``totals``) and in each cell's latest campaign (``latest_totals``), worst first."""
+
+    columns: dict
+    totals: np.ndarray
+    latest_totals: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.columns["site_id"])
+
+    @property
+    def empty(self) -> bool:
+        """No cell has results."""
+        return len(self) == 0
+
+    def __getitem__(self, name: str) -> np.ndarray:
+        return self.columns[name]
+
+    def rows(self):
+        """Each cell as a dict of its columns (a few hundred cells: plain Python is fine)."""
+        cols = [self.columns[c] for c in CELL_COLUMNS]
+        return (dict(zip(CELL_COLUMNS, values)) for values in zip(*cols))
+
+    def frame(self) -> pd.DataFrame:
+        """The cells as a DataFrame."""
+        return pd.DataFrame(self.columns)[CELL_COLUMNS]
+
+
+def cached_cell_table(session: SessionData, f: Filters) -> pd.DataFrame:
+    """:func:`cell_table`, memoised per session and filters."""
+    return session.cached("cell_table", (f,), lambda: cell_table(session, f))
+
+
+def filter_query(f: Filters) -> str:
+    """The filters as the address writes them (``uses=...&start=...``), without the fraction."""
+    from urllib.parse import urlencode
+
+    params = {"uses": ",".join(f.uses), "tables": ",".join(f.tables), "start": f.start or "", "end": f.end or "",
+              "campaigns": ",".join(f.campaigns)}
+    return urlencode({k: v for k, v in params.items() if v})

@@ -5,9 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from dashboard.state.frames import engine_frame
-
-DIRECTION_WORDS = {"increasing": "increasing", "decreasing": "decreasing", "no_trend": "no significant trend",
-                   "too_few": "too few values for a direction"}
+from dashboard.views.trends import DIRECTION_WORDS, evidence_words
 
 
 def _g(v, fmt: str = ".3g") -> str:
@@ -46,12 +44,16 @@ def series_trend(rows: pd.DataFrame, points: pd.DataFrame, alpha: float = 0.05) 
     r = table.iloc[0]
     test = str(r["test"]).replace("_", " ")
     text = (f"Trend ({test}, α = {alpha:g}): n = {int(r['n'])} ({int(r['n_nondetect'])} non-detects), "
-            f"S = {_g(r['s'], '.0f')}, p = {_g(r['p_value'])}: {DIRECTION_WORDS.get(r['direction'], r['direction'])}. "
+            f"S = {_g(r['s'], '.0f')}: {DIRECTION_WORDS.get(r['direction'], r['direction'])}, "
+            f"{evidence_words(float(r['p_value']) if pd.notna(r['p_value']) else float('nan'), alpha)}. "
             f"Slope ({r['slope_method']}) {_g(r['slope_per_year'])} µg/L per year "
             f"({100 * (1 - alpha):g} % interval {_g(r['slope_low'])} to {_g(r['slope_high'])}).")
     if pd.notna(r["crosses_limit_on"]):
+        from dashboard.views.trends import CROSSING_CAUTION
+
         text += (f" The trend line would reach the lowest limit ({_g(r['lowest_limit_ug_L'])} µg/L, "
-                 f"{r['lowest_limit_table']}) around {pd.Timestamp(r['crosses_limit_on']).date()}.")
+                 f"{r['lowest_limit_table']}) around {pd.Timestamp(r['crosses_limit_on']).date()}. "
+                 f"Caution: {CROSSING_CAUTION}")
     if r["note"]:
         text += f" Notes: {r['note']}."
     line = None

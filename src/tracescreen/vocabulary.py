@@ -89,6 +89,18 @@ COLOUR: dict[str, str] = {
     "no_limit": "#7A7A7A",  # neutral grey
     "qc_sample": "#CC79A7",  # reddish purple
 }
+#: status words and glyphs as text: the same hues darkened until they reach the WCAG 2.1 AA contrast of
+#: 4.5:1 for text on white and on the status's own :data:`TINT` (WCAG 2.1, success criterion 1.4.3;
+#: checked in tests/test_vocabulary.py with the standard's relative-luminance formula)
+TEXT_COLOUR: dict[str, str] = {
+    "exceeds": "#A84A00",
+    "above_range_inconclusive": "#846D00",
+    "nondetect_inconclusive": "#8E6200",
+    "meets": "#007857",
+    "nondetect_meets": "#367192",
+    "no_limit": "#6B6B6B",
+    "qc_sample": "#8E5474",
+}
 #: light backgrounds of table cells, one per status (same hue as :data:`COLOUR`)
 TINT: dict[str, str] = {
     "exceeds": "#fbe3d4",

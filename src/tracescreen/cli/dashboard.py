@@ -33,6 +33,9 @@ def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     server.add_argument("--port", type=int, default=8050, help="port to listen on")
     server.add_argument("--max-upload-mb", type=float, default=20.0, help="size cap of one uploaded file [MB]")
     server.add_argument("--debug", action="store_true", help="Dash debug mode (for development only)")
+    group(p, "inputs").add_argument(
+        "--overlay", action="append", default=[], metavar="GEOJSON",
+        help="a GeoJSON file (catchment, rivers, site boundaries) drawn under the sites on the map; repeatable")
     from .wells import add_wells_options
 
     add_wells_options(p, design_options=False)
@@ -63,6 +66,8 @@ def to_argv(args: argparse.Namespace) -> list[str]:
         if getattr(args, opt, None):
             argv += [f"--{opt.replace('_', '-')}", str(getattr(args, opt))]
     argv += ["--host", str(args.host), "--port", str(args.port), "--max-upload-mb", str(args.max_upload_mb)]
+    for path in getattr(args, "overlay", []) or []:
+        argv += ["--overlay", str(path)]
     if not args.cross_fraction:
         argv.append("--same-fraction-only")
     for opt in ("network", "design"):

@@ -13,7 +13,7 @@ from pathlib import Path
 
 from tracescreen import __version__
 from tracescreen.store.revisions import probe_hash
-from tracescreen.store.schema import _SCHEMA, APPLICATION_ID, SCHEMA_VERSION
+from tracescreen.store.schema import _SCHEMA, APPLICATION_ID, MIGRATIONS, SCHEMA_VERSION
 
 WORKSPACE_FILE = "workspace.sqlite"
 
@@ -62,6 +62,8 @@ def connect(directory: str | Path, create: bool = False) -> tuple[Path, sqlite3.
             initialise(con)
         elif app_id != APPLICATION_ID:
             raise WorkspaceError(f"{path}: not a tracescreen workspace")
+        elif version < SCHEMA_VERSION and all(v in MIGRATIONS for v in range(version, SCHEMA_VERSION)):
+            migrate(con, version)
         elif version != SCHEMA_VERSION:
             raise WorkspaceError(f"{path}: workspace format {version}; this tracescreen reads "
                                  f"format {SCHEMA_VERSION}")
@@ -89,6 +91,19 @@ def initialise(con: sqlite3.Connection) -> None:
                          ("row_hash_probe", probe_hash())])
         con.execute(f"PRAGMA application_id = {APPLICATION_ID}")
         con.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+
+
+def migrate(con: sqlite3.Connection, version: int) -> None:
+    """Bring a workspace of an older format up to :data:`SCHEMA_VERSION`, one format per transaction
+    (a crash leaves it at a whole format, never between two)."""
+    for v in range(version, SCHEMA_VERSION):
+        with write(con):
+            if con.execute("PRAGMA user_version").fetchone()[0] != v:  # another process migrated it meanwhile
+                continue
+            for stmt in MIGRATIONS[v].split(";"):
+                if stmt.strip():
+                    con.execute(stmt)
+            con.execute(f"PRAGMA user_version = {v + 1}")
 
 
 class write:

@@ -1,12 +1,29 @@
 """The workspace's SQLite schema and format number (one place, read by the workspace and its check).
 
+Format history: 1, the first; 2 adds ``retest_requests`` (the status of each retest request line,
+:mod:`tracescreen.store.requests`). An older workspace is brought up to date when it is opened
+(:data:`MIGRATIONS`, each step in one transaction).
+
 The design (why SQLite in WAL mode, what each table holds) is in DEVELOPERS.md "The workspace".
 ``rows_rejected`` counts every row not stored: rejected rows and rows set aside (not results to
 screen), told apart by their reason in table ``rejected`` (``loading.SET_ASIDE_PREFIX``).
 """
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 APPLICATION_ID = 0x54534357  # "TSCW": marks the SQLite file as a tracescreen workspace
+
+#: format 2: retest request lines sent to a laboratory and what came of them (one row per line)
+_RETEST_REQUESTS = """
+CREATE TABLE retest_requests (
+    request_id TEXT PRIMARY KEY, lab TEXT NOT NULL, batch TEXT NOT NULL, site_id TEXT NOT NULL,
+    sample_id TEXT NOT NULL, sampled_at TEXT NOT NULL, analytes TEXT NOT NULL, action TEXT NOT NULL,
+    reasons TEXT NOT NULL, reason_codes TEXT NOT NULL,
+    status TEXT NOT NULL CHECK (status IN ('requested', 'confirmed', 'not_confirmed')),
+    requested_at TEXT NOT NULL, updated_at TEXT NOT NULL, note TEXT NOT NULL DEFAULT '');
+"""
+
+#: the statements that bring a workspace of format N to format N + 1
+MIGRATIONS = {1: _RETEST_REQUESTS}
 
 _SCHEMA = """
 CREATE TABLE workspace_info (key TEXT PRIMARY KEY, value TEXT NOT NULL);
@@ -45,4 +62,5 @@ CREATE TABLE screening_runs (
     limits TEXT NOT NULL, limits_sha256 TEXT NOT NULL, sites_file TEXT, sites_sha256 TEXT,
     summary TEXT NOT NULL);
 CREATE INDEX segments_by_file ON segments(file_id);
-"""
+""" + _RETEST_REQUESTS
+
