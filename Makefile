@@ -9,7 +9,7 @@ STAMP  := $(VENV)/.installed-stamp
 $(STAMP): pyproject.toml
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install -q --upgrade pip
-	$(PY) -m pip install -q -e ".[test,dashboard,distributed]"
+	PYTHONWARNINGS=ignore::UserWarning $(PY) -m pip install -q -e ".[test,dashboard,distributed]"  # no setuptools notice on editable installs
 	@touch $(STAMP)
 
 setup: $(STAMP)

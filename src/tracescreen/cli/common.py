@@ -159,6 +159,31 @@ def output_folder(args):
     return OutputFolder(args.out, args.command, run_options(args))
 
 
+def rejection_problems(rejected, n: int = 5):
+    """The ``n`` most common problems of rejected rows (a row's reason lists its problems, ``; ``-joined),
+    with the row's own values left out (``'5/21/2024'`` -> ``'...'``) so that like problems count together.
+
+    >>> import pandas as pd
+    >>> rejection_problems(pd.DataFrame({"reason": ["date '5/1/24' is not a date (ISO; or mdy); unit is empty",
+    ...                                             "date '6/2/24' is not a date (ISO; or mdy)"]}))
+    [("date '...' is not a date (ISO; or mdy)", 2), ('unit is empty', 1)]
+    """
+    if rejected is None or not len(rejected):
+        return []
+    problems = rejected["reason"].astype(str).str.split(r";\s(?![^()]*\))", regex=True).explode()  # not in (...)
+    problems = problems.str.replace(r"'[^']*\d[^']*'", "'...'", regex=True).str.strip()  # values: dates, numbers
+    return list(problems[problems != ""].value_counts().head(n).items())
+
+
+def print_rejections(rejected, where: str = "rejected.csv", n: int = 5) -> None:
+    """The most common problems of the rejected rows, so a first run on a new lab file says what to fix."""
+    top = rejection_problems(rejected, n)
+    if top:
+        print(f"Most common problems of the rejected rows (every row with its reasons: {where}):")
+        for text, count in top:
+            print(f"  {count:>6}  {text}")
+
+
 def print_caution(stream=None) -> None:
     print(f"\nCAUTION: {CAUTION}", file=stream or sys.stdout)
 

@@ -5,7 +5,16 @@ from __future__ import annotations
 from pathlib import Path
 
 from . import UserError
-from .common import add_data_options, add_format_option, announce, output_folder, pipeline_inputs, print_caution, warn
+from .common import (
+    add_data_options,
+    add_format_option,
+    announce,
+    output_folder,
+    pipeline_inputs,
+    print_caution,
+    print_rejections,
+    warn,
+)
 from .flag_options import add_retest_options, retest_options
 from .labqc import add_lab_qc_options, lab_qc_options, lab_qc_tables
 from .parser import group
@@ -199,6 +208,7 @@ def print_summary(loaded, status_counts) -> None:
         where = r.file + (f" [{r.sheet}]" if r.sheet else "")
         print(f"  {where}: {r.rows_read} read, {r.accepted} accepted, {getattr(r, 'set_aside', 0)} set aside, "
               f"{r.rejected} rejected")
+    print_rejections(loaded.rejected)
     print_statuses(status_counts)
 
 
