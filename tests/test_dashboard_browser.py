@@ -64,8 +64,14 @@ def test_typed_number_date_and_status_filters_select_the_engine_rows(page, dash_
     grid_filter(page, "exc-grid", "Sampled").fill("< 2021-01-01")
     want = ((rows["ratio"] > 2) & (rows["sampled_at"] < "2021-01-01")).sum()
     expect(page.locator("#exc-count")).to_have_text(f"{want:,} of {len(rows):,} rows", timeout=10_000)
+    # as a person does, each change is seen on screen before the next: clearing a second box while the grid
+    # redraws from the first (within the 300 ms debounce) can have the redraw put the old text back, and the
+    # box then still shows its filter (seen once in CI: the Sampled filter stayed)
     grid_filter(page, "exc-grid", "Ratio result/limit").fill("")
+    want = (rows["sampled_at"] < "2021-01-01").sum()
+    expect(page.locator("#exc-count")).to_have_text(f"{want:,} of {len(rows):,} rows", timeout=10_000)
     grid_filter(page, "exc-grid", "Sampled").fill("")
+    expect(page.locator("#exc-count")).to_have_text(f"{len(rows):,} of {len(rows):,} rows", timeout=10_000)
     grid_filter(page, "exc-grid", "Status").fill("Above limit")
     want = (rows["status"] == "exceeds").sum()
     expect(page.locator("#exc-count")).to_have_text(f"{want:,} of {len(rows):,} rows", timeout=10_000)

@@ -53,7 +53,7 @@ def test_no_payload_runs_on_any_page(dash_url, hostile, tmp_path):
         page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
         page.on("console", lambda m: m.type == "error" and errors.append(m.text))
         page.on("pageerror", lambda e: errors.append(str(e)))
-        ready = {"/": "#matrix-table", "/map": "#map-graph .js-plotly-plot", "/exceedances": "#exc-table td",
+        ready = {"/": "#matrix-table", "/map": "#map-graph .js-plotly-plot", "/exceedances": "#exc-grid .ag-row",
                  "/retest": ".page-header", "/quality": "#dq-files-table", "/limits": ".limit-table",
                  "/upload": ".dropzone"}
         for path, selector in ready.items():
@@ -79,7 +79,7 @@ def test_no_payload_runs_on_any_page(dash_url, hostile, tmp_path):
         assert page.get_by_text(PAYLOADS[0] + " table").count() >= 1
         # an upload whose name and cells carry payloads
         up = tmp_path / "up.csv"
-        up.write_text(hostile["lab"].read_text(encoding="utf-8").replace("-0,", "-up0,"), encoding="utf-8")
+        up.write_text(hostile["lab"].read_text(encoding="utf-8").replace("2023-", "2024-"), encoding="utf-8")
         page.goto(dash_url + "/upload")
         page.locator("#up-results input[type=file]").set_input_files(
             files=[{"name": PAYLOADS[1][:60] + ".csv", "mimeType": "text/csv", "buffer": up.read_bytes()}])

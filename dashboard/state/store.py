@@ -232,15 +232,18 @@ class DataStore:
             raise KeyError(token)
         import dataclasses
 
-        files = [p for p in sorted(folder.iterdir()) if not p.name.startswith("_")]
         mapping = folder / "_columns.yaml"
         base = self.base_inputs()
         opts = base.options if base.options is not None else load_options(None)
         # an upload is read like the base files unless the page says otherwise, with its own mapping
         try:
-            reading = self.upload_info(token).get("reading", {})
+            info = self.upload_info(token)
         except KeyError:
-            reading = {}
+            info = {}
+        reading = info.get("reading", {})
+        # the kept file by its recorded name (a safe name may itself start with "_", as the helper files do)
+        files = [folder / info["filename"]] if info.get("filename") else \
+            [p for p in sorted(folder.iterdir()) if not p.name.startswith("_")]
         opts = dataclasses.replace(opts, column_map=load_options(mapping).column_map if mapping.exists() else None,
                                    caps=upload_caps(opts.caps),
                                    **{k: v for k, v in reading.items() if k in READING_OPTIONS})

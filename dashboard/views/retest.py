@@ -25,10 +25,11 @@ def retest_frame(session: SessionData) -> pd.DataFrame:
 
     def compute():
         from tracescreen import pipeline
+        from tracescreen.retest.listing import lab_qc_retest
         from tracescreen.retest.options import RetestOptions
 
         out = pipeline.retest(engine_frame(session.screened.drop(columns=["_rid", "campaign"], errors="ignore")),
-                              RetestOptions(), lab_qc=pipeline.lab_qc_retest(review, calibration))
+                              RetestOptions(), lab_qc=lab_qc_retest(review, calibration))
         return calibration.annotate(out) if calibration is not None else out
 
     return session.derived("retest", compute)

@@ -6,16 +6,15 @@ The steps, each run once, in order (the data contract between them: DEVELOPERS.m
    (:mod:`tracescreen.io.sites`) and the lab files or a workspace's current results
    (:mod:`tracescreen.io.loading`, :mod:`tracescreen.store.workspace`): accepted, set-aside and
    rejected rows, and every input file with its SHA-256.
-2. :func:`screen` -- every accepted result against every limit that applies (:mod:`tracescreen.screening`);
-   the period rules evaluated once (statuses and the periods table); optionally the uncertainty guard band.
-   Steps 2, 3 and 5 run in partitions of whole sites (:mod:`tracescreen.streaming`): memory bounded by a part.
-3. :func:`statistics` -- summaries, exceedance rates and trend tests per series
-   (:mod:`tracescreen.statistics`).
-4. :func:`lab_qc` -- the laboratory QC review of the QC rows the lab files carry (and of separate
+2. :func:`lab_qc` -- the laboratory QC review of the QC rows the lab files carry (and of separate
    QC files), and the calibration checks of calibration files (:mod:`tracescreen.retest.labqc`,
-   :mod:`tracescreen.retest.calibration`); skipped when there is neither.
+   :mod:`tracescreen.retest.calibration`); whole batches, before the parts; skipped when there is neither.
+3. :func:`screen` -- every accepted result against every limit that applies (:mod:`tracescreen.screening`);
+   the period rules evaluated once (statuses and the periods table); optionally the uncertainty guard band.
+4. :func:`statistics` -- summaries, exceedance rates and trend tests per series (:mod:`tracescreen.statistics`).
 5. :func:`retest` -- the retest list from result flags and QC checks (:mod:`tracescreen.retest`),
    with the laboratory QC review's and the calibration's reasons.
+   Steps 3 to 5 run in partitions of whole sites (:mod:`tracescreen.streaming`): memory bounded by a part.
 6. :func:`wells` (when ``Options.wells`` is set) -- monitoring wells against background and fixed
    standards (:mod:`tracescreen.statistics.background`, US EPA Unified Guidance 2009).
 

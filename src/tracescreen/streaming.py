@@ -308,10 +308,11 @@ def _keys(limits, wide: bool):
 def files_context(data, options, wide: bool = False, review=None, calibration=None) -> PartContext:
     """The :class:`PartContext` of a run over loaded lab files (:class:`tracescreen.pipeline.Loaded`): the
     run's blanks, the retest rows of the laboratory QC review and the calibration checks, every site of the run."""
+    from tracescreen.retest.listing import lab_qc_retest
+
     accepted = data.loaded.accepted
     retest = options.retest is not None
-    lab = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None)) if t is not None and len(t)]
-    lab = pd.concat(lab, ignore_index=True) if lab and retest else None
+    lab = lab_qc_retest(review, calibration) if retest else None
     return PartContext(data.limits, data.sites, options, keys=_keys(data.limits, wide),
                        blanks=blank_rows(accepted) if retest else None, lab_qc=lab,
                        calibration=calibration, run_sites=accepted["site_id"].astype(str).unique(),

@@ -66,10 +66,28 @@ def _encoding(data: bytes, name: str, asked: str) -> str:
     except LookupError:
         raise LoadError(f"{name}: unknown encoding '{asked}'") from None
     head = data[:4096]
-    if head.count(b"\x00") > len(head) // 20 and not asked_name.startswith(("utf-16", "utf-32")):
+    if (head.count(b"\x00") > len(head) // 20 or _looks_binary(head, asked_name)) \
+            and not asked_name.startswith(("utf-16", "utf-32")):
         raise LoadError(f"{name}: binary data, not a CSV text file (or UTF-16/32 text without a byte-order "
                         "mark: give --encoding utf-16-le, utf-16-be ...)")
     return asked
+
+
+_CONTROL = bytes(b for b in range(32) if b not in (9, 10, 13))
+
+
+def _looks_binary(head: bytes, encoding: str) -> bool:
+    """Not text in ``encoding`` and more than 5 % control bytes (a text file in another encoding has
+    almost none: it gets the "not ... text" message with the offending byte instead)."""
+    try:
+        head.decode(encoding)
+        return False
+    except UnicodeDecodeError as exc:
+        if exc.start >= len(head) - 4:  # a character cut by the 4 kB window
+            return False
+    except LookupError:
+        return False
+    return len(head) - len(head.translate(None, _CONTROL)) > len(head) // 20
 
 
 def _decode(data: bytes, name: str, encoding: str) -> str:

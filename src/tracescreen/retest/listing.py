@@ -77,6 +77,14 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
     return sort_retest(pd.concat(parts, ignore_index=True))
 
 
+def lab_qc_retest(review, calibration) -> pd.DataFrame | None:
+    """The retest rows of the laboratory QC review and of the calibration checks, as one table (None when
+    there are none); :func:`retest_list` lists them with the result- and series-side reasons."""
+    parts = [t for t in (getattr(review, "retest", None), getattr(calibration, "retest", None))
+             if t is not None and len(t)]
+    return pd.concat(parts, ignore_index=True) if parts else None
+
+
 def sort_retest(out: pd.DataFrame) -> pd.DataFrame:
     """Retest rows sorted by site, sampling date, sample, analyte, fraction and reason (:data:`LISTED_REASONS` order)."""
     out = out.assign(_order=out["reason"].map({r: i for i, r in enumerate(LISTED_REASONS)}))
