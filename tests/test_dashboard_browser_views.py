@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 import math
 
+import pandas as pd
 import pytest
 from browser_support import CHROMIUM, chart, choose, chromium, grid_filter, new_page, serve, shot
 from dashboard_support import engine_view, scenario_inputs
@@ -142,6 +143,31 @@ def test_headers_sort_from_the_keyboard(page, dash_url):
     assert page.js_errors == []
 
 
+def test_column_chooser_shows_a_hidden_column_and_key_columns_stay_frozen(page, dash_url):
+    """"Columns" lists the columns that are not frozen: unticking Unit hides it, ticking Source (hidden at
+    first) shows it; Site, Sampled and Metal stay at the left when the grid is scrolled to its last column
+    (README.md#dashboard, "Tables")."""
+    from playwright.sync_api import expect
+
+    page.goto(dash_url + "/exceedances")
+    expect(page.locator("#exc-grid .ag-row").first).to_be_visible(timeout=30_000)
+    header = '#exc-grid [role=columnheader][col-id="{}"]'
+    shown = "(c) => dash_ag_grid.getApi('exc-grid').getColumn(c).isVisible()"
+    assert page.evaluate(shown, "unit") and not page.evaluate(shown, "source")
+    page.locator("#exc-grid-columns").locator("xpath=..").locator("summary").click()
+    page.get_by_label("Source", exact=True).check()
+    page.get_by_label("Unit", exact=True).uncheck()
+    page.wait_for_function(f"() => ({shown})('source') && !({shown})('unit')", timeout=10_000)
+    # the grid draws only the columns in view (column virtualisation): scroll to Source as a person would
+    page.evaluate("() => dash_ag_grid.getApi('exc-grid').ensureColumnVisible('source')")
+    expect(page.locator(header.format("source"))).to_be_visible(timeout=10_000)
+    expect(page.locator(header.format("unit"))).to_have_count(0)
+    for key in ("site_id", "sampled_at", "analyte"):
+        expect(page.locator(f"#exc-grid .ag-pinned-left-header {header.format(key)[9:]}")).to_be_visible()
+    shot(page, "exceedances_columns_chosen")
+    assert page.js_errors == []
+
+
 def test_trends_page_lists_every_series_and_opens_its_chart(page, dash_url):
     """The Trends page is the engine's trend table (one row per series, README.md#dashboard); the crossing
     date carries its caution; filtering the direction and following a row's link opens that series."""
@@ -158,6 +184,10 @@ def test_trends_page_lists_every_series_and_opens_its_chart(page, dash_url):
     grid_filter(page, "tr-grid", "Direction").fill("increasing")
     rising = (table["direction"] == "increasing").sum()
     expect(page.locator("#tr-count")).to_have_text(f"{rising:,} of {len(table):,} rows", timeout=10_000)
+    with page.expect_download(timeout=30_000) as info:  # the CSV holds the rows on screen
+        page.locator("#tr-csv-btn").click()
+    got = pd.read_csv(info.value.path())
+    assert len(got) == rising and set(got["direction"]) == {"increasing"}
     row = page.evaluate("() => dash_ag_grid.getApi('tr-grid').getDisplayedRowAtIndex(0).data")
     page.locator("#tr-grid .ag-row").first.locator("a", has_text="chart").click()
     page.wait_for_function("() => { const g = document.querySelector('#site-chart .js-plotly-plot');"
