@@ -168,6 +168,31 @@ def test_column_chooser_shows_a_hidden_column_and_key_columns_stay_frozen(page, 
     assert page.js_errors == []
 
 
+def test_overview_cells_carry_the_engines_trend_arrows(page, dash_url):
+    """A cell shows ↑ / ↓ exactly where the engine's trend table (pipeline.trends, the same table as
+    trends.csv) finds a significant increase / decrease for that site and metal (README.md#dashboard)."""
+    from playwright.sync_api import expect
+
+    from tracescreen import pipeline
+    from tracescreen.statistics.options import StatisticsOptions
+
+    loaded, _, _, screened = engine_view()
+    table = pipeline.trends(loaded.accepted, screened, StatisticsOptions())
+    moving = table[table["direction"].isin(["increasing", "decreasing"])]
+    want = {(str(r.site_id), str(r.analyte)): set() for r in moving.itertuples()}
+    for r in moving.itertuples():
+        want[(str(r.site_id), str(r.analyte))].add("↑" if r.direction == "increasing" else "↓")
+    assert want  # the demo has trends to show
+    _matrix(page, dash_url)
+    expect(page.locator("#matrix-table .trend-arrow").first).to_be_visible(timeout=60_000)  # worker thread
+    got = page.eval_on_selector_all(
+        "#matrix-table td.cell", "els => els.map(e => [e.dataset.site, e.dataset.analyte,"
+        " (e.querySelector('.trend-arrow') || {}).textContent || ''])")
+    shown = {(s, a): {c for c in text if c in "↑↓"} for s, a, text in got if text}
+    assert shown == want
+    assert page.js_errors == []
+
+
 def test_trends_page_lists_every_series_and_opens_its_chart(page, dash_url):
     """The Trends page is the engine's trend table (one row per series, README.md#dashboard); the crossing
     date carries its caution; filtering the direction and following a row's link opens that series."""
