@@ -249,6 +249,32 @@ def test_chart_labels_limits_hover_words_log_decades_and_data_table(page, dash_u
     assert page.js_errors == []
 
 
+def test_a_series_without_a_limit_keeps_its_shapes_and_says_why(page, dash_url):
+    """KR01 (Kestrel Springs, freshwater_aquatic use in the demo's sites.csv), total chromium: the shipped
+    tables that list total chromium protect drinking water (WHO GDWQ 2022, EU 98/83/EC and 2020/2184, US EPA
+    NPDWR), while the US EPA aquatic life criteria list chromium(III) and chromium(VI) only. No line is
+    drawn, the page says why in those words, and detected and non-detect results keep filled and open shapes."""
+    from playwright.sync_api import expect
+
+    page.goto(dash_url + "/site?site=KR01&analyte=chromium&fraction=total")
+    expect(page.locator("#site-no-limit")).to_contain_text("No limit applies", timeout=30_000)
+    words = page.locator("#site-no-limit").inner_text()
+    assert "protect drinking_water" in words and "this site's uses are freshwater_aquatic" in words, words
+    page.wait_for_function("() => { const g = document.querySelector('#site-chart .js-plotly-plot');"
+                           " return g && g._fullData && (g.layout.title.text || '').includes('KR01'); }", timeout=30_000)
+    c = chart(page)
+    assert c["limits"] == [] and c["points"] > 0
+    points = page.evaluate("""() => document.querySelector('#site-chart .js-plotly-plot')._fullData
+        .filter(t => t.meta && t.meta.role === 'result').flatMap(t => t.customdata.map((d, i) =>
+            [d[2], String(Array.isArray(t.marker.symbol) ? t.marker.symbol[i] : t.marker.symbol)]))""")
+    opened = {words.startswith("not detected"): [] for words, _ in points}
+    for words, symbol in points:
+        opened[words.startswith("not detected")].append(symbol.endswith("-open"))
+    assert opened.get(False) and not any(opened[False]), points  # detected: filled
+    assert opened.get(True) and all(opened[True]), points  # not detected: open
+    assert page.js_errors == []
+
+
 def test_period_limits_are_drawn_with_their_period_values(page, dash_url):
     """A running annual mean limit (US EPA NPDWR: MCL compliance on the running annual average, 40 CFR 141.23)
     is drawn with the running means it is compared with, apart from the single results."""
