@@ -1,0 +1,96 @@
+"""Benchmark: one long series (site x analyte x fraction) through `tracescreen screen` with all statistics.
+
+Issue 20: trend-test memory used to grow with the square of the series length (10,000 results in one
+series took 3.7 GB, 20,000 took 13 GB). Fifty years of daily samples is 18,000 values. Goal: a series of
+100,000 results screens with all statistics (summary, UCL, trends with Sen / Akritas-Theil-Sen slope,
+retest checks) within 1 GB peak resident memory and in seconds.
+
+Generates N results of lead (total) at one site, every 4 hours from 1980 (about 20 % non-detects at two
+detection limits, a slow upward drift), writes the lab file, then runs ``tracescreen screen`` in a fresh
+child process and reports its wall time and peak resident memory (``ru_maxrss`` of the child). The
+reference in the same run is the same number of results spread over series of 40 values each (the
+ordinary shape of a monitoring programme): the long series should cost about the same.
+
+    flock /work/wt/bench.lock .venv/bin/python bench/bench_long_series.py [--n 100000]
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+ROOT = Path(__file__).resolve().parents[1]
+LIMITS = ROOT / "limits" / "who_gdwq_2022.yaml"
+
+
+def make_file(path: Path, n: int, per_series: int | None = None, seed: int = 20) -> None:
+    """N lead results; one series, or series of ``per_series`` values at as many sites."""
+    rng = np.random.default_rng(seed)
+    k = np.arange(n)
+    if per_series is None:
+        site = np.full(n, "L001")
+        when = pd.Timestamp("1980-01-01") + pd.to_timedelta(k * 4, unit="h")
+        years = k * 4 / 8766.0
+    else:
+        site = np.char.add("S", (k // per_series).astype(str))
+        step = k % per_series
+        when = pd.Timestamp("2010-01-01") + pd.to_timedelta(step * 91, unit="D")
+        years = step / 4.0
+    value = np.round(rng.lognormal(0.5, 0.7, n) * np.exp(0.01 * years), 3)
+    dl = np.where(years < 10, 1.0, 0.5)
+    nd = value < dl
+    pd.DataFrame({
+        "site_id": site, "sample_id": np.char.add("X", k.astype(str)), "sampled_at": when.strftime("%Y-%m-%d %H:%M"),
+        "analyte": "Lead", "fraction": "total",
+        "result": np.where(nd, np.char.add("<", dl.astype(str)), value.astype(str)),
+        "unit": "ug/L", "detection_limit": dl,
+    }).to_csv(path, index=False)
+
+
+def run_screen(lab: Path, out: Path) -> tuple[float, float, int]:
+    """Wall time [s], peak RSS [MB] of a fresh `tracescreen screen` child, and its exit code."""
+    code = ("import resource, sys\nfrom tracescreen.cli import main\nrc = main(sys.argv[1:])\n"
+            "print('PEAK_KB', resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, file=sys.stderr)\nsys.exit(rc)")
+    args = [sys.executable, "-c", code, "screen", str(lab), "--limits", str(LIMITS), "--out", str(out), "--quiet"]
+    t0 = time.perf_counter()
+    proc = subprocess.run(args, capture_output=True, text=True)
+    wall = time.perf_counter() - t0
+    peak = [line for line in proc.stderr.splitlines() if line.startswith("PEAK_KB")]
+    if proc.returncode != 0 or not peak:
+        print(proc.stderr[-2000:], file=sys.stderr)
+    return wall, (int(peak[-1].split()[1]) / 1024 if peak else float("nan")), proc.returncode
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--n", type=int, default=100_000)
+    args = ap.parse_args()
+    ok = True
+    with tempfile.TemporaryDirectory() as tmp:
+        tmp = Path(tmp)
+        rows = []
+        for label, per in (("one series", None), ("series of 40 (reference)", 40)):
+            lab = tmp / f"lab_{per}.csv"
+            make_file(lab, args.n, per)
+            wall, peak, rc = run_screen(lab, tmp / f"out_{per}")
+            trends = pd.read_csv(tmp / f"out_{per}" / "trends.csv") if rc == 0 else pd.DataFrame()
+            rows.append((label, wall, peak, rc, len(trends)))
+            print(f"{label:28s} n={args.n:,}: {wall:6.1f} s, peak RSS {peak:7.0f} MB, exit {rc}, "
+                  f"{len(trends)} trend rows (load average {os.getloadavg()[0]:.1f})", flush=True)
+        (_, w1, p1, rc1, t1), (_, w2, p2, _, _) = rows
+        print(f"ratios one series / reference: time {w1 / w2:.2f}x, peak memory {p1 / p2:.2f}x")
+        ok = rc1 == 0 and t1 == 1 and p1 < 1024
+        print("goal (one series of", f"{args.n:,}", "results within 1 GB):", "met" if ok else "MISSED")
+    return 0 if ok else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())
