@@ -55,7 +55,7 @@ def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
     while (lo < hi).any():
         mid = (lo + hi) // 2
         # while lo < hi, mid < n_a and 0 <= k - mid < n_b; elsewhere the indices are only clipped
-        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.clip(k - mid, 0, None)))
+        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.maximum(k - mid, 0)))
         lo = np.where(take_more, mid + 1, lo)
         hi = np.where((lo < hi) & ~take_more, mid, hi)
     na = lo
@@ -97,11 +97,13 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
             n_right = i - n_left
             rix = np.arange(k)
 
+            # (np.minimum / np.maximum rather than np.clip: called a few times per step of a long
+            # series, np.clip's overhead was most of the check's time)
             def left(t):  # t-th smallest deviation left of the median (values read downwards)
-                return med - h[rix, np.clip(n_left - 1 - t, 0, i - 1)]
+                return med - h[rix, np.minimum(np.maximum(n_left - 1 - t, 0), i - 1)]
 
             def right(t):
-                return h[rix, np.clip(n_left + t, 0, i - 1)] - med
+                return h[rix, np.minimum(np.maximum(n_left + t, 0), i - 1)] - med
 
             mad = (_kth_of_two_sorted(left, n_left, right, n_right, np.full(k, (i - 1) // 2))
                    + _kth_of_two_sorted(left, n_left, right, n_right, np.full(k, i // 2))) / 2.0
@@ -112,6 +114,12 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
                 zr[flat] = modified_z_score(xr[flat], h[flat])
             z[rows], med_out[rows] = zr, med
         # insert this step's value into its series' sorted history
+        if k <= 4:  # the last few long series: a binary search and a shift of each row (O(i) copy, no index arrays)
+            for r in range(k):
+                at = int(np.searchsorted(hist[r, :i], xr[r], "left"))
+                hist[r, at + 1:i + 1] = hist[r, at:i]
+                hist[r, at] = xr[r]
+            continue
         p = np.count_nonzero(h < xr[:, None], axis=1)
         col = np.arange(i + 1)
         grown = np.take_along_axis(hist[:k, :i + 1], np.where(col <= p[:, None], col, col - 1), axis=1)
