@@ -55,18 +55,26 @@ def make_file(path: Path, n: int, per_series: int | None = None, seed: int = 20)
     }).to_csv(path, index=False)
 
 
-def run_screen(lab: Path, out: Path) -> tuple[float, float, int]:
-    """Wall time [s], peak RSS [MB] of a fresh `tracescreen screen` child, and its exit code."""
+def run_screen_args(args: list[str], out: Path) -> tuple[float, float, int, str]:
+    """`tracescreen screen ARGS --limits ... --out OUT --quiet` in a fresh child: wall time [s], peak RSS [MB]
+    of the child, its exit code and its stderr."""
     code = ("import resource, sys\nfrom tracescreen.cli import main\nrc = main(sys.argv[1:])\n"
             "print('PEAK_KB', resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, file=sys.stderr)\nsys.exit(rc)")
-    args = [sys.executable, "-c", code, "screen", str(lab), "--limits", str(LIMITS), "--out", str(out), "--quiet"]
+    argv = [sys.executable, "-c", code, "screen", *args, "--limits", str(LIMITS), "--out", str(out), "--quiet"]
     t0 = time.perf_counter()
-    proc = subprocess.run(args, capture_output=True, text=True)
+    proc = subprocess.run(argv, capture_output=True, text=True)
     wall = time.perf_counter() - t0
     peak = [line for line in proc.stderr.splitlines() if line.startswith("PEAK_KB")]
-    if proc.returncode != 0 or not peak:
-        print(proc.stderr[-2000:], file=sys.stderr)
-    return wall, (int(peak[-1].split()[1]) / 1024 if peak else float("nan")), proc.returncode
+    err = "\n".join(line for line in proc.stderr.splitlines() if not line.startswith("PEAK_KB"))
+    return wall, (int(peak[-1].split()[1]) / 1024 if peak else float("nan")), proc.returncode, err
+
+
+def run_screen(lab: Path, out: Path) -> tuple[float, float, int]:
+    """Wall time [s], peak RSS [MB] of a fresh `tracescreen screen` child on one lab file, and its exit code."""
+    wall, peak, rc, err = run_screen_args([str(lab)], out)
+    if rc != 0:
+        print(err[-2000:], file=sys.stderr)
+    return wall, peak, rc
 
 
 def main() -> int:

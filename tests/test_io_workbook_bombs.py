@@ -11,13 +11,14 @@ from __future__ import annotations
 import base64
 
 import pytest
+from conftest import ROOT
 from workbook_bombs import write_bomb
 
 from tracescreen.cli import main
 from tracescreen.io.caps import ReadCaps
 from tracescreen.io.loading import LoadError, LoadOptions, load_results
 
-LIMITS = "limits/who_gdwq_2022.yaml"
+LIMITS = str(ROOT / "limits" / "who_gdwq_2022.yaml")
 
 
 def test_a_claimed_dimension_is_not_believed(tmp_path):

@@ -7,6 +7,7 @@ shapes, each the kind of file the issue's attack used (sizes from the attack are
 * ``claimed``: a sheet whose ``<dimension>`` claims A1:XFD1048576 (17 billion cells) but holds 3 rows;
 * ``far_cell``: a header, one data row and one cell at XFD1048576 (a reader that fills the gap holds
   a million empty rows and a row of 16,384 cells);
+* ``ordinary``: a header and two data rows (a reference);
 * ``deflate``: ``rows`` identical data rows (a multiple of 1,000), which deflate about 230:1.
 
 Used by tests/test_io_workbook_bombs.py (small sizes, small caps) and bench/bench_hostile_input.py.
@@ -60,7 +61,7 @@ def write_bomb(path: Path, shape: str, rows: int = 1_000_000) -> Path:
                 same = ("<row>" + "".join(f'<c t="inlineStr"><is><t>{v}</t></is></c>' for v in ROW) + "</row>") * 1000
                 for _ in range(rows // 1000):
                     f.write(same.encode())
-            else:
+            else:  # claimed, far_cell and ordinary: two data rows
                 f.write((_row(2, ROW) + _row(3, ROW)).encode())
             if shape == "far_cell":
                 f.write(b'<row r="1048576"><c r="XFD1048576" t="inlineStr"><is><t>x</t></is></c></row>')
