@@ -65,6 +65,32 @@ def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
     return np.maximum(from_a, from_b)
 
 
+def _kth_deviation(row: np.ndarray, med: float, n_left: int, n: int, k: int) -> float:
+    """k-th smallest (0-based) |row[:n] - med| of one sorted row: :func:`_kth_of_two_sorted` on plain numbers."""
+    n_right = n - n_left
+    lo, hi = max(0, k + 1 - n_right), min(k + 1, n_left)
+    while lo < hi:
+        mid = (lo + hi) // 2
+        if med - row[n_left - 1 - mid] < row[n_left + k - mid] - med:
+            lo = mid + 1
+        else:
+            hi = mid
+    nb = k + 1 - lo
+    from_a = med - row[n_left - lo] if lo > 0 else -np.inf
+    from_b = row[n_left + nb - 1] - med if nb > 0 else -np.inf
+    return float(max(from_a, from_b))
+
+
+def _row_score(row: np.ndarray, i: int, x: float) -> tuple[float, float]:
+    """Modified z-score of ``x`` against the first ``i`` values of one sorted history row, and their median."""
+    med = (row[(i - 1) // 2] + row[i // 2]) / 2.0
+    n_left = int(np.searchsorted(row[:i], med, "left"))
+    mad = (_kth_deviation(row, med, n_left, i, (i - 1) // 2) + _kth_deviation(row, med, n_left, i, i // 2)) / 2.0
+    if mad > 0:
+        return 0.6745 * (x - med) / mad, float(med)
+    return float(modified_z_score(np.array([x]), row[None, :i])[0]), float(med)
+
+
 def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tuple[np.ndarray, np.ndarray]:
     """:func:`modified_z_score` of each value against all earlier values of its series, and their median.
 
@@ -91,7 +117,10 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
         rows = firsts[:k] + i
         h = hist[:k, :i]  # a view
         xr = x[rows]
-        if i >= min_prior:
+        if i >= min_prior and k <= 4:  # the last few long series: each row by binary searches on plain numbers
+            for r in range(k):
+                z[rows[r]], med_out[rows[r]] = _row_score(hist[r], i, float(xr[r]))
+        elif i >= min_prior:
             med = (h[:, (i - 1) // 2] + h[:, i // 2]) / 2.0
             n_left = np.count_nonzero(h < med[:, None], axis=1)  # below the median: deviations med - h
             n_right = i - n_left
