@@ -19,7 +19,7 @@ from tracescreen._internal.parallel import ordered_map, workers
 from tracescreen.statistics.series import as_series, chunks
 
 #: Resample cells (resamples x values) drawn at once for one long series.
-RESAMPLE_CELLS = 8_000_000
+RESAMPLE_CELLS = 2_000_000
 
 
 def series_seed_keys(table) -> np.ndarray:
