@@ -5,7 +5,7 @@ series took 3.7 GB, 20,000 took 13 GB). Fifty years of daily samples is 18,000 v
 100,000 results screens with all statistics (summary, UCL, trends with Sen / Akritas-Theil-Sen slope,
 retest checks; also with the bootstrap UCL) within 1 GB peak resident memory and in seconds.
 
-Generates N results of lead (total) at one site, every 4 hours from 1980 (about 20 % non-detects at two
+Generates N results of lead (total) at one site, every 4 hours from 1980 (about 6 % non-detects at two
 detection limits, a slow upward drift), writes the lab file, then runs ``tracescreen screen`` in a fresh
 child process and reports its wall time and peak resident memory (``ru_maxrss`` of the child). The
 reference in the same run is the same number of results spread over series of 40 values each (the
