@@ -208,7 +208,7 @@ def print_summary(loaded, status_counts) -> None:
         where = r.file + (f" [{r.sheet}]" if r.sheet else "")
         print(f"  {where}: {r.rows_read} read, {r.accepted} accepted, {getattr(r, 'set_aside', 0)} set aside, "
               f"{r.rejected} rejected")
-    print_rejections(loaded.rejected)
+    print_rejections(loaded.rejected, set_aside=loaded.set_aside)
     print_statuses(status_counts)
 
 
