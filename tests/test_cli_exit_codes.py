@@ -79,3 +79,17 @@ def test_130_when_interrupted_with_one_line_and_no_bug_report(tmp_path, monkeypa
     assert err.strip().splitlines()[-1] == "tracescreen: interrupted" and "Traceback" not in err
     assert not (tmp_path / "state").exists()  # not a bug: no crash log
     assert not (tmp_path / "out" / "screening.csv").exists()  # nothing half-written in place
+
+
+def test_help_and_version_into_a_closed_pipe_are_quiet():
+    """``tracescreen --version | true``: the reader is gone before the text is written; no traceback, exit 0
+    (common practice for command-line tools: a closed pipe is not an error)."""
+    import subprocess
+    import sys
+
+    for args in (["--version"], ["screen", "--help"]):
+        proc = subprocess.Popen([sys.executable, "-m", "tracescreen", *args], stdout=subprocess.PIPE,
+                                stderr=subprocess.PIPE)
+        proc.stdout.close()  # nobody reads
+        err = proc.stderr.read().decode()
+        assert proc.wait(timeout=60) == 0 and "Traceback" not in err, err

@@ -82,6 +82,20 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _quiet_stdout() -> None:
+    """Send what is left of stdout nowhere: the reader stopped (``| head``), which is not an error."""
+    import os
+
+    os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+
+
+def _flush_stdout() -> None:
+    try:
+        sys.stdout.flush()
+    except BrokenPipeError:
+        _quiet_stdout()
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run one command; returns its exit code (README "Exit codes")."""
     from tracescreen.progress import reporting
@@ -96,7 +110,14 @@ def main(argv: list[str] | None = None) -> int:
     except UserError as exc:
         print(f"tracescreen: error: {exc}", file=sys.stderr)
         return 2
-    args = parser.parse_args(argv)
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit:  # --help, --version or a usage error: already printed
+        _flush_stdout()
+        raise
+    except BrokenPipeError:  # --help or --version piped into a command that stopped reading
+        _quiet_stdout()
+        return 0
     if not getattr(args, "command", None):
         parser.print_help()
         return 2
@@ -113,9 +134,7 @@ def main(argv: list[str] | None = None) -> int:
         print(f"tracescreen: error: {msg}", file=sys.stderr)
         return 2
     except BrokenPipeError:  # output piped into a command that stopped reading (e.g. `| head`)
-        import os
-
-        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        _quiet_stdout()
         return 0
     except KeyboardInterrupt:
         print("tracescreen: interrupted", file=sys.stderr)
