@@ -197,3 +197,36 @@ def test_dense_chart_is_embedded_as_webp_and_sparse_as_svg():
     dense = Figure({}, "b", "dense", points=MAX_SVG_POINTS + 1, images={"webp": b"RIFF"})
     assert 'src="data:image/svg+xml;base64,' in figure_html(sparse)
     assert 'src="data:image/webp;base64,' in figure_html(dense)
+
+
+def test_batches_without_qc_summary_are_one_request_per_batch_not_thousands_of_retests():
+    """A batch without its QC summary asks the laboratory for documents (retest.request.REASON_ACTION); the
+    summary and the retest section say so per batch and count only the other reasons as flagged results.
+    Counts recomputed here with pandas from the rows given (common practice: one request per batch)."""
+    from types import SimpleNamespace
+
+    from tracescreen.report.build import Context, ReportOptions, retest_section
+    from tracescreen.report.summary import retest_sentence
+    from tracescreen.retest.labqc.reasons import SUGGESTED_ACTIONS
+
+    rows = pd.DataFrame({
+        "site_id": ["S1", "S1", "S2", "S1", "S2", "S2"], "sample_id": ["A", "A", "B", "C", "D", "D"],
+        "sampled_at": pd.to_datetime(["2024-01-02", "2024-01-02", "2024-01-03", "2024-02-01", "2024-03-01",
+                                      "2024-03-01"]),
+        "analyte": ["lead", "zinc", "lead", "lead", "copper", "copper"], "fraction": "total", "lab": "L",
+        "batch": ["B1", "B1", "B1", "B2", "B3", "B3"],
+        "reason": ["qc_summary_missing"] * 4 + ["near_limit", "history_outlier"], "detail": "d",
+    })
+    rows["suggested_action"] = rows["reason"].map(SUGGESTED_ACTIONS).fillna("confirm")
+    text = retest_sentence(rows)
+    assert text.startswith("1 result is flagged for a confirmatory retest")
+    assert "near limit 1" in text and "history outlier 1" in text and "qc summary" not in text.split(".")[0]
+    assert "2 batches (4 results) came without the laboratory's QC summary" in text
+
+    ctx = Context(SimpleNamespace(retest=rows, sites=None), pd.DataFrame(), pd.DataFrame(), None, ReportOptions())
+    tables = [b for b in retest_section(ctx).blocks if isinstance(b, Table)]
+    docs = next(t for t in tables if t.table_id == "retest-documents-table").frame
+    assert docs["Batch"].tolist() == ["B1", "B2"] and docs["Results"].tolist() == ["3", "1"]
+    assert docs["Samples"].tolist() == ["2", "1"] and docs["Sites"].tolist() == ["2", "1"]
+    flagged = next(t for t in tables if t.table_id == "retest-table").frame
+    assert len(flagged) == 2 and set(flagged["Reason"]) == {"near limit", "history outlier"}
