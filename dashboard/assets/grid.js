@@ -127,7 +127,16 @@ dagcomponentfuncs.ComparisonFilter = function (props) {
             var model = parse(value);
             bad[1](model === null);
             if (model === null) { return; }
-            timer.current = setTimeout(function () { props.onModelChange(model); }, 350);
+            timer.current = setTimeout(function () { timer.current = null; props.onModelChange(model); }, 350);
+        },
+        // leaving the box (a click on a download button, Tab) applies what it holds at once, so a download
+        // made straight after typing holds the rows of the filter typed, not of the one before
+        onBlur: function () {
+            if (!timer.current) { return; }
+            clearTimeout(timer.current);
+            timer.current = null;
+            var model = parse(text);
+            if (model) { props.onModelChange(model); }
         }
     });
 };
@@ -148,6 +157,25 @@ window.dash_clientside = Object.assign({}, window.dash_clientside, {
             api.setColumnsVisible(show, true);
             api.setColumnsVisible(hide, false);
             return window.dash_clientside.no_update;
+        },
+        // a download button pressed: the filter and sort models the grid holds at this moment (the rows it
+        // shows, or is about to show), not those of its last answered row request, which lag behind while a
+        // request is on its way; `kept` (the {prefix}-query store) when the grid is not there
+        shownQuery: function () {
+            var gridId = arguments[arguments.length - 2], kept = arguments[arguments.length - 1] || {};
+            var ctx = window.dash_clientside.callback_context || {};
+            var button = ((ctx.triggered || [])[0] || {}).prop_id || "";
+            var api = window.dash_ag_grid && window.dash_ag_grid.getApi ? window.dash_ag_grid.getApi(gridId) : null;
+            var out = {filterModel: kept.filterModel || {}, sortModel: kept.sortModel || [], error: kept.error,
+                       button: button.split(".")[0], at: Date.now()};
+            if (api && !api.isDestroyed()) {
+                out.filterModel = api.getFilterModel() || {};
+                out.sortModel = api.getColumnState().filter(function (c) { return c.sort; })
+                    .sort(function (a, b) { return (a.sortIndex || 0) - (b.sortIndex || 0); })
+                    .map(function (c) { return {colId: c.colId, sort: c.sort}; });
+                delete out.error;  // the server applies the grid's models again and says if it cannot
+            }
+            return out;
         }
     })
 });

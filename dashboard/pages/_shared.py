@@ -138,6 +138,22 @@ def rows_on_screen(session, prefix: str, frame_for, query_data: dict | None, col
     return query_frame(session, prefix, frame_for, query_data, columns, state_values)[0]
 
 
+def register_download_query(callbacks: PageCallbacks, prefix: str, grid_id: str, buttons: list[str]) -> None:
+    """A press of one of ``buttons`` writes ``{prefix}-shown`` (a ``dcc.Store`` of the page): the grid's
+    filter and sort models at that moment and the button pressed (``assets/grid.js``, ``shownQuery``).
+
+    A download callback takes ``Input(f"{prefix}-shown", "data")`` and passes it to :func:`rows_on_screen`.
+    Reading the grid itself, not ``{prefix}-query`` (the models of the last row request answered), keeps a
+    download made while the grid's request for a new filter is on its way from holding the rows of the
+    superseded filter.
+    """
+    callbacks.clientside_callback(
+        ClientsideFunction("grid", "shownQuery"), Output(f"{prefix}-shown", "data"),
+        *[Input(b, "n_clicks") for b in buttons], State(grid_id, "id"), State(f"{prefix}-query", "data"),
+        prevent_initial_call=True,
+    )
+
+
 def register_url_state(callbacks: PageCallbacks, path: str, store_id: str, params: list[tuple],
                        shared: bool = False) -> None:
     """Write a page's controls into its address as they change (``assets/url_state.js``); ``store_id``

@@ -3,7 +3,13 @@
 import dash
 from dash import Input, Output, State, dcc, html
 
-from dashboard.pages._shared import PageCallbacks, register_server_grid, register_url_state, rows_on_screen
+from dashboard.pages._shared import (
+    PageCallbacks,
+    register_download_query,
+    register_server_grid,
+    register_url_state,
+    rows_on_screen,
+)
 from dashboard.render.components import page_header, status_legend
 from dashboard.render.grid import FILTER_HELP, Column, grid_toolbar, server_grid
 from dashboard.state.store import current_session
@@ -47,7 +53,7 @@ def layout(**query):
             html.Button("Download XLSX", id="exc-xlsx-btn", className="button")]),
         html.Div(id="exc-error", className="error", role="alert"),
         dcc.Store(id="exc-query", data={"filterModel": filter_model, "sortModel": sort_model}),
-        dcc.Store(id="exc-url"),
+        dcc.Store(id="exc-url"), dcc.Store(id="exc-shown"),
         dcc.Loading(server_grid("exc-grid", COLUMNS, PAGE_SIZE, filter_model=filter_model, sort_model=sort_model),
                     type="dot", delay_show=300),
         dcc.Download(id="exc-download"),
@@ -69,14 +75,15 @@ def download(session, kind, query_data):
     return dcc.send_bytes(to_csv_bytes(rows), "exceedances.csv"), ""
 
 
+register_download_query(callbacks, "exc", "exc-grid", ["exc-csv-btn", "exc-xlsx-btn"])
+
+
 @callbacks.callback(
     Output("exc-download", "data"), Output("exc-error", "children", allow_duplicate=True),
-    Input("exc-csv-btn", "n_clicks"), Input("exc-xlsx-btn", "n_clicks"),
-    State("dataset-key", "data"), State("exc-query", "data"),
-    prevent_initial_call=True,
+    Input("exc-shown", "data"), State("dataset-key", "data"), prevent_initial_call=True,
 )
-def download_exceedances(_csv, _xlsx, dataset_key, query_data):
-    kind = "xlsx" if dash.ctx.triggered_id == "exc-xlsx-btn" else "csv"
+def download_exceedances(query_data, dataset_key):
+    kind = "xlsx" if (query_data or {}).get("button") == "exc-xlsx-btn" else "csv"
     payload, message = download(current_session(dataset_key), kind, query_data)
     return payload if payload is not None else dash.no_update, message
 

@@ -5,7 +5,13 @@ import dash
 import pandas as pd
 from dash import Input, Output, State, dcc, html
 
-from dashboard.pages._shared import PageCallbacks, register_server_grid, register_url_state, rows_on_screen
+from dashboard.pages._shared import (
+    PageCallbacks,
+    register_download_query,
+    register_server_grid,
+    register_url_state,
+    rows_on_screen,
+)
 from dashboard.render.components import page_header
 from dashboard.render.grid import FILTER_HELP, Column, grid_toolbar, server_grid
 from dashboard.state.store import current_session
@@ -61,7 +67,7 @@ def layout(**query):
         html.P(id="tr-waiting", className="count-text", role="status"),
         grid_toolbar("tr", "tr-grid", COLUMNS, [html.Button("Download CSV", id="tr-csv-btn", className="button")]),
         html.Div(id="tr-error", className="error", role="alert"),
-        dcc.Store(id="tr-query", data={"filterModel": filter_model, "sortModel": sort_model}),
+        dcc.Store(id="tr-query", data={"filterModel": filter_model, "sortModel": sort_model}), dcc.Store(id="tr-shown"),
         dcc.Loading(html.Div(server_grid("tr-grid", COLUMNS, PAGE_SIZE, filter_model=filter_model,
                                          sort_model=sort_model or DEFAULT_SORT),
                              id="tr-grid-box"), type="dot", delay_show=300),
@@ -89,10 +95,12 @@ def wait_for_trends(n, dataset_key, query):
         dash.no_update
 
 
+register_download_query(callbacks, "tr", "tr-grid", ["tr-csv-btn"])
+
+
 @callbacks.callback(Output("tr-download", "data"), Output("tr-error", "children", allow_duplicate=True),
-                    Input("tr-csv-btn", "n_clicks"), State("dataset-key", "data"), State("tr-query", "data"),
-                    prevent_initial_call=True)
-def download_trends(_n, dataset_key, query_data):
+                    Input("tr-shown", "data"), State("dataset-key", "data"), prevent_initial_call=True)
+def download_trends(query_data, dataset_key):
     try:
         rows = rows_on_screen(current_session(dataset_key), "tr", _frame, query_data, COLUMNS)
     except FilterError as exc:
