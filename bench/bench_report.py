@@ -70,7 +70,7 @@ def cpu() -> float:
 
 
 def peak_mb() -> tuple[float, float]:
-    """Peak resident memory (MB) so far of this process and of its largest finished child (the browser)."""
+    """Peak resident memory (MB) so far of this process and of its largest finished child."""
     own, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
     return own.ru_maxrss / 1024, kids.ru_maxrss / 1024  # ru_maxrss is in KiB on Linux
 
@@ -145,10 +145,10 @@ def main() -> None:
         for k, (w, c) in times.items():
             print(f"{'report: ' + k:<40} {w:8.1f} {c:8.1f} {peaks.get(k, peaks['content ']):8.0f} "
                   f"{loads[k]:8.2f}")
-        own, browser = peak_mb()
-        print(f"peak resident memory: this process {own:.0f} MB (the process's peak; the reference run's own "
-              f"peak is {peaks[ref]:.0f} MB), largest child process (browser or chart export) {browser:.0f} MB; load average now "
-              + ", ".join(f"{x:.2f}" for x in os.getloadavg()) + " (shared 2-core machine)")
+        print(f"peak resident memory of this process: {peak_mb()[0]:.0f} MB (the reference run's own peak: "
+              f"{peaks[ref]:.0f} MB; the browser's is not separable: a child's figure counts the pages it shares "
+              "with this process); load average now " + ", ".join(f"{x:.2f}" for x in os.getloadavg())
+              + " (shared 2-core machine)")
         html_s = [sum(times[k][i] for k in ("content", "charts", "html")) for i in (0, 1)]
         print(f"report HTML total: wall {html_s[0]:.1f} s ({html_s[0] / t_run[0]:.2f} x the reference), CPU "
               f"{html_s[1]:.1f} s ({html_s[1] / t_run[1]:.2f} x); with PDF wall {html_s[0] + times['pdf'][0]:.1f} s")
