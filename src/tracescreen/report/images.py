@@ -18,9 +18,9 @@ BROWSERS = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stab
 TABS = 2
 #: Pixels per CSS pixel of PNG images (Word; sharp when printed: 1,440 pixels over 18 cm, 200 dpi).
 PNG_SCALE = 2
-#: Pixels per CSS pixel of WebP images (dense charts in HTML and PDF: 1,080 pixels over 18 cm, 150 dpi; at 300
-#: sites and 1,000,000 results this keeps the HTML under 5 MB, a WebP being about 0.7 of its size at scale 2).
-WEBP_SCALE = 1.5
+#: Pixels per CSS pixel of WebP images (dense charts in HTML and PDF: 1,008 pixels over 18 cm, 140 dpi). At 300
+#: sites and 1,000,000 results the HTML was 6.2 MB at scale 2 and 5.1 MB at 1.5 (bench/bench_report.py).
+WEBP_SCALE = 1.4
 
 
 class ReportError(RuntimeError):
