@@ -66,3 +66,16 @@ def test_a_file_system_error_is_the_users_not_a_bug(tmp_path, capsys):
     assert main(["screen", *ONE_FILE, "--out", str(blocker / "out")]) == 2
     err = capsys.readouterr().err
     assert len(err.strip().splitlines()) == 1 and "a-file" in err and "bug" not in err
+
+
+def test_130_when_interrupted_with_one_line_and_no_bug_report(tmp_path, monkeypatch, capsys):
+    def interrupted(*args, **kwargs):
+        raise KeyboardInterrupt  # what Ctrl+C raises in the running command
+
+    monkeypatch.setattr("tracescreen.pipeline.run_loaded", interrupted)
+    monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
+    assert main(["screen", *ONE_FILE, "--out", str(tmp_path / "out")]) == 130  # 128 + SIGINT, common practice
+    err = capsys.readouterr().err
+    assert err.strip().splitlines()[-1] == "tracescreen: interrupted" and "Traceback" not in err
+    assert not (tmp_path / "state").exists()  # not a bug: no crash log
+    assert not (tmp_path / "out" / "screening.csv").exists()  # nothing half-written in place

@@ -118,3 +118,14 @@ def test_quiet_turns_progress_off_on_a_terminal(tmp_path):
 def test_quick_work_shows_nothing_before_the_delay(tmp_path):
     code, _, err = _run(["trends", *ONE_FILE, "--out", str(tmp_path)], tty=True, delay="600")
     assert code == 0 and "screening" not in err and "done in" not in err
+
+
+def test_import_shows_reading_and_storing_on_a_terminal_and_nothing_in_a_pipe(tmp_path):
+    lab = str(SCENARIO / "lab_results_fernleigh_2021-2025.csv")
+    code, out, err = _run(["import", lab, "--workspace", str(tmp_path / "ws")], tty=True)
+    assert code == 0, err
+    assert "reading files" in err and "storing in the workspace" in err and "1/1 files" in err
+    assert re.search(r"tracescreen import: done in [\d.]+ s \(reading files [\d.]+ s, storing", err)
+    code, out2, err = _run(["import", lab, "--workspace", str(tmp_path / "ws2")], tty=False)
+    assert code == 0 and "storing" not in err and "done in" not in err and "\x1b[" not in err
+    assert out2 == out.replace(str(tmp_path / "ws"), str(tmp_path / "ws2"))  # stdout the same either way

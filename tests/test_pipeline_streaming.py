@@ -166,6 +166,24 @@ def test_parquet_parts_with_missing_text_in_the_first_part(tmp_path):
     assert back["note"].astype(object).where(back["note"].notna(), None).tolist() == [None, None, "a", None]
 
 
+def test_parquet_text_of_every_kind_keeps_its_cells(tmp_path):
+    """Arrow-backed text (pandas' str), text objects, and objects mixing numbers with text all come back
+    as the same text, missing cells missing (numbers as their text; common practice for text columns)."""
+    path = tmp_path / "t.parquet"
+    frame = pd.DataFrame({"arrow": pd.Series(["a", None, "b"], dtype="str"),
+                          "text": pd.Series(["x", None, "y"], dtype=object),
+                          "mixed": pd.Series(["x", 3, np.nan], dtype=object)})
+    with TableStream(path, "parquet") as t:
+        t.write(frame)
+        t.write(pd.concat([frame.iloc[:1], frame.iloc[1:]]))  # a part whose text is in several Arrow chunks
+    table = pq.read_table(path)
+    assert all(str(table.schema.field(c).type) == "dictionary<values=string, indices=int32, ordered=0>"
+               for c in frame.columns)
+    assert table.column("arrow").to_pylist() == ["a", None, "b"] * 2
+    assert table.column("text").to_pylist() == ["x", None, "y"] * 2
+    assert table.column("mixed").to_pylist() == ["x", "3", None] * 2
+
+
 def test_memory_sink_restores_input_order():
     """Parts handed over out of input order come back in input order."""
     sink = MemorySink()

@@ -159,9 +159,13 @@ def output_folder(args):
     return OutputFolder(args.out, args.command, run_options(args))
 
 
-def rejection_problems(rejected, n: int = 5):
+def rejection_problems(rejected, n: int = 5, values: str = r"'[^']*\d[^']*'"):
     """The ``n`` most common problems of rejected rows (a row's reason lists its problems, ``; ``-joined),
     with the row's own values left out (``'5/21/2024'`` -> ``'...'``) so that like problems count together.
+
+    ``values`` is the pattern of the quoted values left out: by default those with a digit (dates,
+    numbers), so that a quoted word that is the problem itself stays; :func:`set_aside_kinds` leaves
+    every quoted value out.
 
     >>> import pandas as pd
     >>> rejection_problems(pd.DataFrame({"reason": ["date '5/1/24' is not a date (ISO; or mdy); unit is empty",
@@ -171,16 +175,35 @@ def rejection_problems(rejected, n: int = 5):
     if rejected is None or not len(rejected):
         return []
     problems = rejected["reason"].astype(str).str.split(r";\s(?![^()]*\))", regex=True).explode()  # not in (...)
-    problems = problems.str.replace(r"'[^']*\d[^']*'", "'...'", regex=True).str.strip()  # values: dates, numbers
+    problems = problems.str.replace(values, "'...'", regex=True).str.strip()
     return list(problems[problems != ""].value_counts().head(n).items())
 
 
-def print_rejections(rejected, where: str = "rejected.csv", n: int = 5) -> None:
-    """The most common problems of the rejected rows, so a first run on a new lab file says what to fix."""
+def set_aside_kinds(set_aside, n: int = 5):
+    """The ``n`` commonest kinds of rows set aside (not screened), every quoted value left out, so that
+    analytes outside the registry count as one kind whatever their names.
+
+    >>> import pandas as pd
+    >>> set_aside_kinds(pd.DataFrame({"reason": ["analyte 'Escherichia coli' is not in the analyte registry",
+    ...                                          "analyte 'Ammonia' is not in the analyte registry"]}))
+    [("analyte '...' is not in the analyte registry", 2)]
+    """
+    return rejection_problems(set_aside, n, values=r"'[^']*'")
+
+
+def print_rejections(rejected, where: str = "rejected.csv", n: int = 5, set_aside=None,
+                     aside_where: str = "not_screened.csv") -> None:
+    """The most common problems of the rejected rows, so a first run on a new lab file says what to fix;
+    then, with ``set_aside``, the commonest kinds of rows set aside (why rows were not screened)."""
     top = rejection_problems(rejected, n)
     if top:
         print(f"Most common problems of the rejected rows (every row with its reasons: {where}):")
         for text, count in top:
+            print(f"  {count:>6}  {text}")
+    kinds = set_aside_kinds(set_aside, n)
+    if kinds:
+        print(f"Rows set aside, not screened, by kind (every row with its reason: {aside_where}):")
+        for text, count in kinds:
             print(f"  {count:>6}  {text}")
 
 

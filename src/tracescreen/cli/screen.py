@@ -56,13 +56,14 @@ def register(sub) -> None:
 
 def run(args) -> int:
     from tracescreen import pipeline
+    from tracescreen.screening.parts import STREAM_PART_ROWS
     from tracescreen.streaming import FileSink, dataset_days, output_days
 
     if args.guard_band is not None and not args.guard_band >= 0:
         raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")
     options = pipeline.Options(cross_fraction=args.cross_fraction, guard_band=args.guard_band,
                                statistics=statistics_options(args), retest=retest_options(args, UserError),
-                               record_run=args.command, lab_qc=lab_qc_options(args))
+                               record_run=args.command, lab_qc=lab_qc_options(args), part_rows=STREAM_PART_ROWS)
     inputs = pipeline_inputs(args)
     out, fmt = Path(args.out), engine_format(args)
     if args.engine == "dask":
@@ -208,7 +209,7 @@ def print_summary(loaded, status_counts) -> None:
         where = r.file + (f" [{r.sheet}]" if r.sheet else "")
         print(f"  {where}: {r.rows_read} read, {r.accepted} accepted, {getattr(r, 'set_aside', 0)} set aside, "
               f"{r.rejected} rejected")
-    print_rejections(loaded.rejected)
+    print_rejections(loaded.rejected, set_aside=loaded.set_aside)
     print_statuses(status_counts)
 
 

@@ -29,6 +29,16 @@ def sha256_of(data: bytes) -> str:
     return sha256_hex(data)
 
 
+def check_lab_file(path: Path, shown: str | None = None) -> None:
+    """Raise :class:`LoadError` unless ``path`` is a file: a folder is named as one (its files are
+    given one by one, or with a shell pattern), anything else is not found."""
+    shown = printable(path) if shown is None else shown
+    if path.is_dir():
+        raise LoadError(f"{shown}: a folder, not a lab file: give the files in it ({shown}/*.csv, {shown}/*.xlsx)")
+    if not path.is_file():
+        raise LoadError(f"{shown}: file not found")
+
+
 def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list[RawTable], str]:
     """Read a CSV or XLSX file as text tables (one per sheet), with the file's SHA-256.
 
@@ -42,8 +52,7 @@ def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list
     opts = options or LoadOptions()
     p = Path(path)
     shown = printable(p)
-    if not p.is_file():
-        raise LoadError(f"{shown}: file not found")
+    check_lab_file(p, shown)
     suffix = p.suffix.lower()
     name = printable(p.name)
     try:

@@ -72,10 +72,17 @@ def _text_array(values: pd.Series) -> pa.Array:
         dictionary = pa.array(np.asarray(cats.astype(str), dtype=object), type=pa.string())
         codes = values.cat.codes.to_numpy().astype(np.int32)
         return pa.DictionaryArray.from_arrays(pa.array(codes, mask=codes < 0), dictionary)
+    if isinstance(values.dtype, pd.StringDtype) and values.dtype.storage == "pyarrow":
+        arr = pa.array(values.array)  # Arrow-backed text is taken as it is (no Python string per row)
+        if isinstance(arr, pa.ChunkedArray):
+            arr = arr.combine_chunks()
+        return arr.dictionary_encode().cast(TEXT)
     missing = values.isna().to_numpy()
     text = values.to_numpy(dtype=object).copy()
     text[missing] = None
-    if values.dtype == object:  # mixed cells (numbers among text): each as its text
+    # mixed cells (numbers among text): each as its text; infer_dtype looks at the cells in C and
+    # stops at the first that is not text, so text-only columns cost no Python call per row
+    if values.dtype == object and pd.api.types.infer_dtype(text, skipna=True) not in ("string", "empty"):
         odd = ~missing & ~np.fromiter((isinstance(v, str) for v in text), bool, len(text))
         text[odd] = [str(v) for v in text[odd]]
     return pa.array(text, type=pa.string()).dictionary_encode().cast(TEXT)

@@ -26,6 +26,11 @@ from tracescreen.screening.screen import screen, screen_with_periods
 
 #: results per part (a part always holds whole sites, so it may be larger)
 PART_ROWS = 250_000
+#: results per part when every table streams to its file (``tracescreen screen``): the peak memory of
+#: such a run is the loaded results plus one part's tables (about 4 kB per result at the part's peak,
+#: bench/bench_scale.py), so smaller parts keep 1,000,000 results under 1.5 GB; the work per part
+#: is per result or per series, so the time hardly changes
+STREAM_PART_ROWS = 125_000
 
 
 def site_parts(site_codes: np.ndarray, part_rows: int = PART_ROWS) -> list[tuple[int, int]]:

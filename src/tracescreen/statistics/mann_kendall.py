@@ -178,18 +178,25 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     n_pairs = usable.sum(axis=1)
     c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)
     # Sen slope: median of the pairwise slopes; CI by Gilbert (1987), ranks as scipy.theilslopes
-    ranks = np.stack([(n_pairs - 1) // 2, n_pairs // 2, np.round((n_pairs - c) / 2.0) - 1,
-                      np.round((n_pairs + c) / 2.0)], axis=1)
-    sen = _select(slopes, ranks, n_pairs)
-    slope, low, high = (sen[:, 0] + sen[:, 1]) / 2.0, sen[:, 2], sen[:, 3]
-    if censored.any():
-        det_j = det[:, j]
-        both = det[:, i] & det_j & usable  # detect/detect pairs count twice in S(beta) (see _ats_ranks)
-        ats = _select(np.concatenate([slopes, np.where(both, slopes, np.nan)], axis=1),
-                      *_ats_ranks(both.sum(axis=1), (usable & ~det[:, i] & det_j).sum(axis=1), n_pairs, c))
-        ats_slope = (ats[:, 0] + ats[:, 1]) / 2.0
-        slope, low, high = (np.where(censored, new, old) for new, old in zip((ats_slope, ats[:, 2], ats[:, 3]),
-                                                                            (slope, low, high)))
+    # each series' slope is selected once: the Sen ranks for series without non-detects, the
+    # Akritas-Theil-Sen ranks for the others (the rows are taken apart; selection is the cost here)
+    slope, low, high = (np.full(g, np.nan) for _ in range(3))
+    sen_rows = np.flatnonzero(~censored)
+    if sen_rows.size:
+        k = n_pairs[sen_rows]
+        ranks = np.stack([(k - 1) // 2, k // 2, np.round((k - c[sen_rows]) / 2.0) - 1,
+                          np.round((k + c[sen_rows]) / 2.0)], axis=1)
+        sen = _select(slopes[sen_rows], ranks, k)
+        slope[sen_rows], low[sen_rows], high[sen_rows] = (sen[:, 0] + sen[:, 1]) / 2.0, sen[:, 2], sen[:, 3]
+    ats_rows = np.flatnonzero(censored)
+    if ats_rows.size:
+        sl, u, d_ = slopes[ats_rows], usable[ats_rows], det[ats_rows]
+        det_j = d_[:, j]
+        both = d_[:, i] & det_j & u  # detect/detect pairs count twice in S(beta) (see _ats_ranks)
+        ats = _select(np.concatenate([sl, np.where(both, sl, np.nan)], axis=1),
+                      *_ats_ranks(both.sum(axis=1), (u & ~d_[:, i] & det_j).sum(axis=1), n_pairs[ats_rows],
+                                  c[ats_rows]))
+        slope[ats_rows], low[ats_rows], high[ats_rows] = (ats[:, 0] + ats[:, 1]) / 2.0, ats[:, 2], ats[:, 3]
     none = n_pairs == 0
     slope[none] = low[none] = high[none] = np.nan
     # intercept: value of the line at the first sampling time t0 (median of residuals)

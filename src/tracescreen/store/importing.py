@@ -21,6 +21,7 @@ import pyarrow as pa
 from tracescreen import __version__
 from tracescreen._internal.hashing import file_sha256, sha256_hex
 from tracescreen.io import loading
+from tracescreen.io.files import check_lab_file
 from tracescreen.progress import report
 from tracescreen.store.blobs import _encode
 from tracescreen.store.check import REJECTED_DIGEST_KEY, rejected_digest
@@ -96,8 +97,7 @@ class Importing:
         with ThreadPoolExecutor(1) as pool:
             for k, p in enumerate(paths):
                 report("read", k, len(paths), unit="files", detail=p.name)
-                if not p.is_file():
-                    raise loading.LoadError(f"{p}: file not found")
+                check_lab_file(p)
                 data = p.read_bytes()
                 digest = sha256_hex(data)
                 if digest in known or digest in seen:
