@@ -8,6 +8,7 @@ import sys
 import pandas as pd
 import pyarrow.dataset as ds
 import pytest
+from conftest import ROOT
 
 from tracescreen.caution import CAUTION
 from tracescreen.cli import main
@@ -116,3 +117,20 @@ def test_dashboard_reads_the_workspace(tmp_path, scenario_args):
     assert f"{len(want.rejected):,} rows rejected" in describe_dataset(session)
     args = build_parser().parse_args(["dashboard", "--workspace", str(ws), *limits, "--sites", sites])
     assert to_argv(args)[:2] == ["--workspace", str(ws)]
+
+
+def test_times_with_seconds_and_mixed_offsets_survive_the_workspace(tmp_path):
+    """Issue 20: once a file with two sampling times in the same minute was imported, `screen --workspace`
+    failed for the whole workspace ('Categorical categories must be unique'); offsets mixed with plain dates
+    raised 'Mixed timezones detected'. Offsets are read as the local clock time (README, lab results)."""
+    lab = tmp_path / "lab.csv"
+    lab.write_text("site_id,sample_id,sampled_at,analyte,fraction,result,unit,detection_limit\n"
+                   "S1,A1,2021-03-04 10:30:15,Lead,total,5,ug/L,1\nS1,A2,2021-03-04 10:30:45,Lead,total,7,ug/L,1\n"
+                   "S1,A3,2021-03-05T10:30:00+01:00,Lead,total,7,ug/L,1\nS1,A4,2021-03-06,Lead,total,7,ug/L,1\n")
+    ws = tmp_path / "ws"
+    assert main(["import", str(lab), "--workspace", str(ws), "--quiet"]) == 0
+    out = tmp_path / "out"
+    assert main(["screen", "--workspace", str(ws), "--limits", str(ROOT / "limits" / "who_gdwq_2022.yaml"), "--out", str(out),
+                 "--quiet"]) == 0
+    got = pd.read_csv(out / "screening.csv").sort_values("sample_id")["sampled_at"].tolist()
+    assert got == ["2021-03-04 10:30:15", "2021-03-04 10:30:45", "2021-03-05 10:30:00", "2021-03-06 00:00:00"]

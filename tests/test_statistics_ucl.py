@@ -93,3 +93,17 @@ def test_summary_default_is_the_t_limit_and_bootstrap_on_request():
     assert "t on the Kaplan-Meier mean" in t["ucl_method"]
     b = summarise(data, ucl="bootstrap", n_boot=2000).iloc[0]
     assert "bootstrap" in b["ucl_method"] and b["ucl95_mean"] == pytest.approx(t["ucl95_mean"], rel=0.03)
+
+
+def test_long_series_resamples_in_blocks_give_the_same_limit(monkeypatch):
+    """A long series draws its bootstrap resamples in blocks (memory of the order of RESAMPLE_CELLS, not
+    B x n): the generator gives the same numbers in rows of any block size, so the limit is identical
+    (the property of numpy's Generator.random filling row by row; common practice)."""
+    rng = np.random.default_rng(8)
+    x = np.round(rng.lognormal(0, 1, 2500), 2)
+    nd = x < 0.5
+    x = np.where(nd, 0.5, x)
+    whole = bootstrap.bootstrap_ucl_km_grouped(x, nd, np.zeros(x.size, np.int64), 1, n_boot=200)
+    monkeypatch.setattr(bootstrap, "RESAMPLE_CELLS", 2500 * 7)  # blocks of 7 resamples, the last one shorter
+    blocked = bootstrap.bootstrap_ucl_km_grouped(x, nd, np.zeros(x.size, np.int64), 1, n_boot=200)
+    assert blocked[0] == whole[0]

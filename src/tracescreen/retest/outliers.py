@@ -55,7 +55,7 @@ def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
     while (lo < hi).any():
         mid = (lo + hi) // 2
         # while lo < hi, mid < n_a and 0 <= k - mid < n_b; elsewhere the indices are only clipped
-        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.clip(k - mid, 0, None)))
+        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.maximum(k - mid, 0)))
         lo = np.where(take_more, mid + 1, lo)
         hi = np.where((lo < hi) & ~take_more, mid, hi)
     na = lo
@@ -63,6 +63,32 @@ def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
     from_a = np.where(na > 0, a_at(np.maximum(na - 1, 0)), -np.inf)
     from_b = np.where(nb > 0, b_at(np.maximum(nb - 1, 0)), -np.inf)
     return np.maximum(from_a, from_b)
+
+
+def _kth_deviation(row: np.ndarray, med: float, n_left: int, n: int, k: int) -> float:
+    """k-th smallest (0-based) |row[:n] - med| of one sorted row: :func:`_kth_of_two_sorted` on plain numbers."""
+    n_right = n - n_left
+    lo, hi = max(0, k + 1 - n_right), min(k + 1, n_left)
+    while lo < hi:
+        mid = (lo + hi) // 2
+        if med - row[n_left - 1 - mid] < row[n_left + k - mid] - med:
+            lo = mid + 1
+        else:
+            hi = mid
+    nb = k + 1 - lo
+    from_a = med - row[n_left - lo] if lo > 0 else -np.inf
+    from_b = row[n_left + nb - 1] - med if nb > 0 else -np.inf
+    return float(max(from_a, from_b))
+
+
+def _row_score(row: np.ndarray, i: int, x: float) -> tuple[float, float]:
+    """Modified z-score of ``x`` against the first ``i`` values of one sorted history row, and their median."""
+    med = (row[(i - 1) // 2] + row[i // 2]) / 2.0
+    n_left = int(np.searchsorted(row[:i], med, "left"))
+    mad = (_kth_deviation(row, med, n_left, i, (i - 1) // 2) + _kth_deviation(row, med, n_left, i, i // 2)) / 2.0
+    if mad > 0:
+        return 0.6745 * (x - med) / mad, float(med)
+    return float(modified_z_score(np.array([x]), row[None, :i])[0]), float(med)
 
 
 def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tuple[np.ndarray, np.ndarray]:
@@ -91,17 +117,22 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
         rows = firsts[:k] + i
         h = hist[:k, :i]  # a view
         xr = x[rows]
-        if i >= min_prior:
+        if i >= min_prior and k <= 4:  # the last few long series: each row by binary searches on plain numbers
+            for r in range(k):
+                z[rows[r]], med_out[rows[r]] = _row_score(hist[r], i, float(xr[r]))
+        elif i >= min_prior:
             med = (h[:, (i - 1) // 2] + h[:, i // 2]) / 2.0
             n_left = np.count_nonzero(h < med[:, None], axis=1)  # below the median: deviations med - h
             n_right = i - n_left
             rix = np.arange(k)
 
+            # (np.minimum / np.maximum rather than np.clip: called a few times per step of a long
+            # series, np.clip's overhead was most of the check's time)
             def left(t):  # t-th smallest deviation left of the median (values read downwards)
-                return med - h[rix, np.clip(n_left - 1 - t, 0, i - 1)]
+                return med - h[rix, np.minimum(np.maximum(n_left - 1 - t, 0), i - 1)]
 
             def right(t):
-                return h[rix, np.clip(n_left + t, 0, i - 1)] - med
+                return h[rix, np.minimum(np.maximum(n_left + t, 0), i - 1)] - med
 
             mad = (_kth_of_two_sorted(left, n_left, right, n_right, np.full(k, (i - 1) // 2))
                    + _kth_of_two_sorted(left, n_left, right, n_right, np.full(k, i // 2))) / 2.0
@@ -112,6 +143,12 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
                 zr[flat] = modified_z_score(xr[flat], h[flat])
             z[rows], med_out[rows] = zr, med
         # insert this step's value into its series' sorted history
+        if k <= 4:  # the last few long series: a binary search and a shift of each row (O(i) copy, no index arrays)
+            for r in range(k):
+                at = int(np.searchsorted(hist[r, :i], xr[r], "left"))
+                hist[r, at + 1:i + 1] = hist[r, at:i]
+                hist[r, at] = xr[r]
+            continue
         p = np.count_nonzero(h < xr[:, None], axis=1)
         col = np.arange(i + 1)
         grown = np.take_along_axis(hist[:k, :i + 1], np.where(col <= p[:, None], col, col - 1), axis=1)

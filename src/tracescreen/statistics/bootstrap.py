@@ -18,6 +18,9 @@ import numpy as np
 from tracescreen._internal.parallel import ordered_map, workers
 from tracescreen.statistics.series import as_series, chunks
 
+#: Resample cells (resamples x values) drawn at once for one long series.
+RESAMPLE_CELLS = 2_000_000
+
 
 def series_seed_keys(table) -> np.ndarray:
     """A stable 64-bit key per series from its identifying columns (e.g. ``site_id, analyte,
@@ -57,22 +60,33 @@ def bootstrap_ucl_km_grouped(
     keys = np.arange(n_groups, dtype=np.uint64) if keys is None else np.asarray(keys, dtype=np.uint64)
     ucl = np.full(n_groups, np.nan)
 
-    def one(chunk, pick):
-        means = km_means_of_resamples(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, pick)
-        ucl[chunk.groups] = np.quantile(means, level, axis=1)
+    def one(chunk, pick, last):
+        return chunk, km_means_of_resamples(chunk.take(x, np.inf), chunk.take(nd, False), chunk.valid, pick), last
 
     def drawn():  # each series from its own generator: the same numbers whatever else is in the run
         for chunk in chunks(np.asarray(codes), n_groups, cells=lambda m: m * n_boot):
             n = chunk.valid.sum(axis=1)
-            pick = np.zeros((len(n), n_boot, chunk.valid.shape[1]), np.int64)
-            for i, (grp, size) in enumerate(zip(chunk.groups, n)):  # one generator per series
+            m = chunk.valid.shape[1]
+            # a long series alone in its chunk draws its resamples in blocks (the generator gives the same
+            # numbers in rows of any block size): memory of the order of RESAMPLE_CELLS, not n_boot x m
+            block = n_boot if len(n) > 1 else max(1, min(n_boot, RESAMPLE_CELLS // max(m, 1)))
+            rngs = []
+            for grp in chunk.groups:  # one generator per series
                 k = int(keys[grp])
-                rng = np.random.default_rng([seed, k & 0xFFFFFFFF, k >> 32])
-                pick[i, :, :size] = (rng.random((n_boot, size)) * size).astype(np.int64)
-            yield chunk, pick
+                rngs.append(np.random.default_rng([seed, k & 0xFFFFFFFF, k >> 32]))
+            for first in range(0, n_boot, block):
+                b = min(block, n_boot - first)
+                pick = np.zeros((len(n), b, m), np.int64)
+                for i, size in enumerate(n):
+                    pick[i, :, :size] = (rngs[i].random((b, size)) * size).astype(np.int64)
+                yield chunk, pick, first + b == n_boot
 
-    for _ in ordered_map(one, drawn(), workers(2)):  # chunks on worker threads, two at a time
-        pass
+    parts = []
+    for chunk, means, last in ordered_map(one, drawn(), workers(2)):  # blocks on worker threads, two at a time
+        parts.append(means)
+        if last:
+            ucl[chunk.groups] = np.quantile(np.concatenate(parts, axis=1), level, axis=1)
+            parts = []
     return ucl
 
 

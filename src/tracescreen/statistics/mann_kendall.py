@@ -29,6 +29,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from tracescreen.statistics import long_series
 from tracescreen.statistics.censored import _km_rows
 from tracescreen.statistics.series import chunks
 
@@ -153,7 +154,10 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     a = np.sign(dt).astype(np.int8)
     any_nd = bool(nd.any())
     if any_nd:
-        b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j])
+        # a pair of different seasons is no pair: without the mask a non-detect and a later detect of
+        # another season scored +1 and entered the B row sums of Var(S) (the seasonal variance came
+        # out too large; S was right because its time score is 0)
+        b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j]) * pair
     else:
         b = np.sign(dy).astype(np.int8)
     s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
@@ -259,6 +263,38 @@ def _ats_ranks(n_dd, n_nd_d, n_pairs, c):
     return ranks, size
 
 
+def _long_trend_row(t, y, nd, season, z_crit, force_ats=False) -> dict:
+    """:func:`_trend_rows` for one long series (sorted by time) without its pairs (see :mod:`.long_series`)."""
+    s, var_s, pairs = long_series.kendall_s_var(t, y, nd, season)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        z = (s - np.sign(s)) / np.sqrt(var_s) if var_s > 0 else (0.0 if pairs > 0 else np.nan)
+    p = 2.0 * stats.norm.sf(abs(z))
+    censored = bool(nd.any()) or force_ats
+    counts = long_series.SlopeCounts(t, y, nd, season)
+    n_pairs, n_dd, n_nd_d = counts.usable()
+    c = float(np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0))
+    if n_pairs == 0:
+        slope = low = high = np.nan
+    elif censored:
+        ranks, size = _ats_ranks(np.array([n_dd]), np.array([n_nd_d]), np.array([n_pairs]), c)
+        r = long_series.slope_order_statistics(counts, ranks[0], int(size[0]), True)
+        slope, low, high = (r[0] + r[1]) / 2.0, r[2], r[3]
+    else:
+        ranks = [(n_pairs - 1) // 2, n_pairs // 2, np.round((n_pairs - c) / 2.0) - 1, np.round((n_pairs + c) / 2.0)]
+        r = long_series.slope_order_statistics(counts, ranks, n_pairs, False)
+        slope, low, high = (r[0] + r[1]) / 2.0, r[2], r[3]
+    t0 = float(t.min())
+    tv = t - t0
+    if censored and np.isfinite(slope):
+        resid = y - slope * tv
+        intercept = _km_rows(resid[None, :], nd[None, :], np.ones((1, t.size), bool), (0.5,))["q"][0, 0]
+    else:
+        intercept = float(np.median(y) - slope * np.median(tv))
+    return {"n": t.size, "n_nondetect": int(nd.sum()), "s": s, "var_s": var_s, "z": z, "p_value": p,
+            "tau": s / pairs if pairs else np.nan, "slope_per_year": slope, "slope_low": low, "slope_high": high,
+            "slope_method": "akritas_theil_sen" if censored else "sen", "intercept": intercept, "t0": t0}
+
+
 def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None,
                          alpha=0.05, force_ats=False) -> pd.DataFrame:
     """Mann-Kendall / seasonal Kendall test and Sen / ATS slope for many series at once.
@@ -300,8 +336,18 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     cols = {c: np.full(n_groups, np.nan) for c in TREND_COLUMNS}
     cols["slope_method"] = np.full(n_groups, None, dtype=object)
     cols["n"][:] = cols["n_nondetect"][:] = 0
+    size = np.bincount(codes, minlength=n_groups)
+    for g in np.flatnonzero(size > long_series.LONG_SERIES):  # a few long series, each without its pairs
+        at = np.flatnonzero(codes == g)
+        at = at[np.argsort(t[at], kind="stable")]
+        row = _long_trend_row(t[at], y[at], nd[at], season[at], z_crit, force_ats)
+        for col in TREND_COLUMNS:
+            cols[col][g] = row[col]
+    short = size[codes] <= long_series.LONG_SERIES
+    if not short.all():
+        t, y, nd, season, codes = t[short], y[short], nd[short], season[short], codes[short]
     for chunk in chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2,
-                                budget=PAIR_BUDGET):
+                        budget=PAIR_BUDGET):
         r = _trend_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
                         chunk.valid, chunk.take(season, -1), z_crit, force_ats)
         for col in TREND_COLUMNS:

@@ -1,0 +1,251 @@
+"""Mann-Kendall, seasonal Kendall and Sen / Akritas-Theil-Sen slope of long series in O(n log n) memory-light work.
+
+:mod:`tracescreen.statistics.mann_kendall` computes every pair of a series at once: fast for the
+ordinary series of tens to hundreds of values, but a series of n values needs n(n - 1)/2 pairs in
+memory (10,000 values: 50 million pairs, several GB). Long series (loggers, fifty years of daily
+samples) take this path instead; the numbers are the same.
+
+* **Pair counts without pairs.** Every statistic here is built from counts of the form
+  ``#{(i, j): same season, t_i < t_j, a_i < b_j}`` (:func:`count_pairs`), found level by level over the
+  bits of the time rank (the pairs whose time ranks first differ at bit k are counted at level k, by
+  one sort and one binary search: O(n log n) per level, O(n) memory). Pairs tied in time are never
+  counted, as in the pairwise kernel.
+* **Kendall's S with non-detects** (Helsel 2012, sec. 12.2): each value is an interval, a detect
+  ``[y, y]``, a non-detect ``[-inf, DL)``; j is certainly above i when j's lower end is above i's
+  upper end. On doubled ranks (a non-detect's upper end just below its DL) that is one integer
+  comparison, so S = count(i below j, i earlier) - count(i above j, i earlier).
+* **Var(S)** is Daniels' (1944) exact permutation variance, as in the pairwise kernel: it needs only
+  each value's row sums ``A_i.``, ``B_i.`` and ``sum_j A_ij^2``, ``sum_j B_ij^2``, which are counts
+  of values before/after (time) or above/below (value) each value in its season: binary searches.
+* **Slopes.** The Sen slope and the Akritas-Theil-Sen slope and interval are order statistics of
+  the pairwise slopes (detect/detect slopes twice for ATS, see ``mann_kendall._ats_ranks``). The
+  number of pairwise slopes at or below beta is a pair count on ``y - beta t``, so each order
+  statistic is found by bisection on beta, started from a bracket taken from a random sample of
+  pairs and checked by exact counts (Dillencourt, Mount & Netanyahu 1992 use the same count). The
+  bisection stops when the bracket is narrower than :data:`SLOPE_RTOL` of the slopes' scale, so
+  slopes agree with the pairwise kernel to that relative tolerance; S, Var(S), z, p and tau are exact.
+
+Units: times in decimal years, values in µg/L, slopes in µg/L per year.
+
+References
+----------
+[Daniels1944]_, [Kendall1975]_, [Helsel2012]_, [Sen1968]_, [AkritasEtAl1995]_, [DillencourtEtAl1992]_ (docs/references.md)
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+#: Series longer than this go through this module (n(n-1)/2 pairs would exceed about 4.5 million).
+LONG_SERIES = 3000
+
+#: Relative width at which the bisection for a slope stops (of the largest |slope| bound).
+SLOPE_RTOL = 1e-8
+
+#: Random pairs drawn to bracket each slope before the bisection.
+SAMPLE_PAIRS = 200_000
+
+
+def _dense(values: np.ndarray) -> np.ndarray:
+    """Dense ranks (0, 1, ...) with equal values equal."""
+    return np.unique(values, return_inverse=True)[1].astype(np.int64)
+
+
+def count_pairs(trank: np.ndarray, group: np.ndarray, a: np.ndarray, b: np.ndarray) -> int:
+    """``#{(i, j): group_i == group_j, trank_i < trank_j, a_i < b_j}``.
+
+    ``trank`` non-negative integer time ranks; ``group`` non-negative integers; ``a``, ``b`` numbers
+    compared exactly. O(n log n) per bit of the largest time rank; memory O(n).
+    """
+    n = trank.size
+    if n < 2:
+        return 0
+    ab = _dense(np.concatenate([a, b]))
+    ra, rb = ab[:n], ab[n:]
+    k_width = int(ab.max()) + 2
+    top = int(trank.max())
+    total = 0
+    for level in range(top.bit_length()):
+        block = group * ((top >> (level + 1)) + 1) + (trank >> (level + 1))
+        left = ((trank >> level) & 1) == 0
+        if left.all() or not left.any():
+            continue
+        # one sort of keys and queries together: a query sorts before keys equal to it, so the keys
+        # before it are those of lower blocks and those of its block below it (ranks < k_width - 1)
+        key = block * (2 * k_width) + 2 * np.where(left, ra, rb) + np.where(left, 1, 0)
+        is_key = left[np.argsort(key)]
+        keys_before = np.cumsum(is_key)[~is_key]
+        lower_blocks = np.concatenate(([0], np.cumsum(np.bincount(block[left], minlength=int(block.max()) + 1))))
+        total += int(keys_before.sum() - lower_blocks[block[~left]].sum())
+    return total
+
+
+def _interval_keys(y: np.ndarray, nd: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Upper and lower ends of each value's interval on doubled ranks (see the module docstring)."""
+    r = _dense(y)
+    hi = 2 * r + 1 - nd.astype(np.int64)  # a non-detect's upper end lies just below its DL
+    lo = np.where(nd, 0, 2 * r + 1)
+    return hi, lo
+
+
+def _by_group_counts(group: np.ndarray, key: np.ndarray, query: np.ndarray, side: str) -> np.ndarray:
+    """For each element, how many elements of its group have ``key`` < (``side='left'``) or <= its ``query``."""
+    width = int(max(key.max(), query.max())) + 2
+    keys = np.sort(group * width + key)
+    start = np.searchsorted(keys, group * width, "left")
+    return np.searchsorted(keys, group * width + query, side) - start
+
+
+def kendall_s_var(t: np.ndarray, y: np.ndarray, nd: np.ndarray, season: np.ndarray) -> tuple[float, float, float]:
+    """Censored Kendall S, Daniels' Var(S) and the number of same-season pairs of one series.
+
+    ``t`` decimal years, ``y`` value or DL [µg/L], ``nd`` non-detect flags, ``season`` 0 .. P - 1.
+    """
+    tr = _dense(t)
+    hi, lo = _interval_keys(y, nd)
+    s = count_pairs(tr, season, hi, lo) - count_pairs(tr, season, -lo, -hi)
+    size = np.bincount(season)
+    n_in = size[season]
+    # A (time): later minus earlier values of the same season; B (value): above minus below
+    earlier = _by_group_counts(season, tr, tr, "left")
+    not_later = _by_group_counts(season, tr, tr, "right")
+    a_row = (n_in - not_later) - earlier
+    a_sq = (n_in - not_later) + earlier
+    above = n_in - _by_group_counts(season, lo, hi, "right")  # values whose lower end is above my upper end
+    below = _by_group_counts(season, hi, lo, "left")  # values whose upper end is below my lower end
+    b_row = above - below
+    b_sq = above + below
+    var = 0.0
+    for k in np.flatnonzero(size > 1):
+        at = season == k
+        n = float(size[k])
+        sa2, sb2 = float(a_sq[at].sum()), float(b_sq[at].sum())
+        ra, rb = float((a_row[at].astype(float) ** 2).sum()), float((b_row[at].astype(float) ** 2).sum())
+        one = 2.0 / (n * (n - 1)) * sa2 * sb2
+        two = 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2) if n > 2 else 0.0
+        var += (one + two) / 4.0
+    pairs = float((size * (size - 1) / 2).sum())
+    return float(s), var, pairs
+
+
+class SlopeCounts:
+    """Counts of pairwise slopes at or below beta: all usable pairs, non-detect pairs, detect pairs."""
+
+    def __init__(self, t, y, nd, season):
+        self.t, self.y, self.season = t, y, season
+        self.tr = _dense(t)
+        self.nd = nd
+        self.det = ~nd
+
+    def _usable(self, t, g) -> int:
+        """Pairs of the same season not tied in time."""
+        tie = _dense(t)
+        size = np.bincount(g * (int(tie.max()) + 1) + tie)
+        same = np.bincount(g)
+        return int((same * (same - 1) // 2).sum() - (size * (size - 1) // 2).sum())
+
+    def _le(self, beta: float, pick: np.ndarray | None) -> int:
+        """Pairs (earlier i, later j, same season, among ``pick``) with slope <= beta."""
+        t, y, tr, g = self.t, self.y, self.tr, self.season
+        if pick is not None:
+            t, y, tr, g = t[pick], y[pick], tr[pick], g[pick]
+        if t.size < 2:
+            return 0
+        z = y - beta * t
+        return self._usable(t, g) - count_pairs(tr, g, z, z)  # minus the pairs with z_j > z_i (slope > beta)
+
+    def usable(self) -> tuple[int, int, int]:
+        """Usable pairs (not both non-detects), detect/detect pairs, non-detect-then-detect pairs."""
+        def n(pick):
+            return self._usable(self.t[pick], self.season[pick]) if pick.sum() > 1 else 0
+        n_all = self._usable(self.t, self.season)
+        n_dd = n(self.det)
+        nd_d = count_pairs(self.tr, self.season, self.det.astype(np.int64), self.det.astype(np.int64))
+        return n_all - n(self.nd), n_dd, nd_d
+
+    def multiset_le(self, beta: float, censored: bool) -> int:
+        """Slopes <= beta among usable pairs (detect/detect ones twice when ``censored``)."""
+        le = self._le(beta, None)
+        if not censored:
+            return le
+        return le - self._le(beta, self.nd) + self._le(beta, self.det)
+
+
+def _sample_slopes(t, y, nd, season, censored: bool, rng) -> np.ndarray:
+    """Slopes of random usable pairs (detect/detect pairs twice when ``censored``)."""
+    n = t.size
+    i = rng.integers(0, n, SAMPLE_PAIRS)
+    j = rng.integers(0, n, SAMPLE_PAIRS)
+    i, j = np.minimum(i, j), np.maximum(i, j)
+    ok = (season[i] == season[j]) & (t[j] > t[i]) & ~(nd[i] & nd[j])
+    i, j = i[ok], j[ok]
+    s = (y[j] - y[i]) / (t[j] - t[i])
+    if censored:
+        s = np.concatenate([s, s[~nd[i] & ~nd[j]]])
+    return np.sort(s)
+
+
+def slope_order_statistics(counts: SlopeCounts, ranks, size: int, censored: bool, seed: int = 0) -> np.ndarray:
+    """The ``ranks``-th smallest (0-based, clipped to 0 .. size - 1) pairwise slopes of one series [µg/L per year].
+
+    Among usable pairs (later minus earlier in a season, not both non-detects), detect/detect pairs
+    counted twice when ``censored`` (the Akritas-Theil-Sen multiset of ``size`` slopes). NaN where
+    there is no pair.
+    """
+    t, y, nd, season = counts.t, counts.y, counts.nd, counts.season
+    ranks = np.asarray(ranks, dtype=float)
+    out = np.full(ranks.shape, np.nan)
+    if size == 0:
+        return out
+    dt_min = np.diff(np.unique(t)).min() if np.unique(t).size > 1 else 1.0
+    bound = (y.max() - y.min()) / dt_min + 1.0
+    sample = _sample_slopes(t, y, nd, season, censored, np.random.default_rng(seed))
+    found: dict[int, float] = {}
+    last, last_count = None, -1
+    for r in np.unique(np.clip(ranks, 0, size - 1).astype(np.int64)):
+        if last is not None and last_count >= r + 1:  # the next rank has the same value
+            found[int(r)] = last
+            continue
+        last, last_count = _order_statistic(counts, int(r), size, censored, sample, bound)
+        found[int(r)] = last
+    clipped = np.clip(ranks, 0, size - 1).astype(np.int64)
+    return np.array([found[int(k)] for k in clipped.ravel()]).reshape(ranks.shape)
+
+
+def _order_statistic(counts: SlopeCounts, r: int, size: int, censored: bool, sample: np.ndarray,
+                     bound: float) -> tuple[float, int]:
+    """The r-th smallest slope: the least beta with at least r + 1 slopes <= beta (to :data:`SLOPE_RTOL`).
+
+    The bracket (lo, hi] with count(lo) < r + 1 <= count(hi) starts from the random sample's
+    quantiles (checked by exact counts; the whole range of slopes otherwise) and shrinks by steps
+    interpolated on the counts (the count of slopes rises almost linearly over a narrow bracket),
+    with a halving step whenever an interpolated step did not halve the bracket.
+    """
+    lo, hi, c_lo, c_hi = -bound, bound, 0, size
+    if sample.size:
+        q = (r + 0.5) / size
+        spread = 6.0 * np.sqrt(q * (1 - q) / sample.size) + 2.0 / sample.size
+        a = np.nextafter(sample[int(np.clip(np.floor((q - spread) * sample.size), 0, sample.size - 1))], -np.inf)
+        b = sample[int(np.clip(np.ceil((q + spread) * sample.size), 0, sample.size - 1))]
+        ca = counts.multiset_le(a, censored)
+        if ca < r + 1:
+            lo, c_lo = a, ca
+        cb = counts.multiset_le(b, censored) if b > lo else -1
+        if cb >= r + 1:
+            hi, c_hi = b, cb
+    interpolate = True
+    while hi - lo > SLOPE_RTOL * max(abs(lo), abs(hi), 1e-300):
+        width = hi - lo
+        if interpolate and c_hi > c_lo:
+            mid = lo + width * min(max((r + 0.5 - c_lo) / (c_hi - c_lo), 0.05), 0.95)
+        else:
+            mid = lo + width / 2.0
+        if mid <= lo or mid >= hi:
+            break
+        c = counts.multiset_le(mid, censored)
+        if c >= r + 1:
+            hi, c_hi = mid, c
+        else:
+            lo, c_lo = mid, c
+        interpolate = (hi - lo) <= width / 2.0
+    return hi, c_hi
