@@ -18,6 +18,7 @@ def build_parser() -> argparse.ArgumentParser:
         epilog=CAUTION,
     )
     add_dashboard_options(p)
+    p.add_argument("--quiet", "-q", action="store_true", help="no progress display while loading and screening")
     return p
 
 

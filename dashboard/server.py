@@ -114,7 +114,11 @@ def check_request(body: Any, callback_map: dict) -> None:
         if not isinstance(given, list) or len(given) != len(declared) or len(given) > MAX_ARGUMENTS:
             raise MalformedRequest(f"'{part}' must list the callback's {len(declared)} {part}")
         for dep, dec in zip(given, declared):
-            if isinstance(dep, list):  # pattern-matching (ALL) arguments
+            if isinstance(dep, list):  # pattern-matching (ALL) arguments: one object per matched component
+                if not str(dec.get("id", "")).startswith("{") or not all(
+                        isinstance(d, dict) and isinstance(d.get("id"), (str, dict)) and isinstance(d.get("property"), str)
+                        for d in dep):
+                    raise MalformedRequest(f"an entry of '{part}' is a list where the callback takes one value")
                 continue
             if not isinstance(dep, dict):
                 raise MalformedRequest(f"an entry of '{part}' is not an object")

@@ -129,3 +129,39 @@ def test_make_run_serves_on_port_and_host_variables():
     out = subprocess.run(["make", "-n", "run", "PORT=8123", "HOST=0.0.0.0"], cwd=ROOT, capture_output=True, text=True,
                          timeout=60)
     assert "--host 0.0.0.0 --port 8123" in out.stdout
+
+
+def test_every_option_of_tracescreen_dashboard_reaches_python_m_dashboard():
+    """Each option `tracescreen dashboard --help` lists, set away from its default (so a value taken from
+    tracescreen.yaml counts too), arrives in `python -m dashboard` with the same value: none is dropped."""
+    import argparse
+
+    from dashboard.__main__ import build_parser as dash_parser
+
+    sub = build_parser()._subparsers._group_actions[0].choices["dashboard"]
+    argv = ["dashboard", "a.csv"]
+    general = {"help", "config", "no_config"}
+    for action in sub._actions:
+        if not action.option_strings or action.dest in general:
+            continue
+        flag = action.option_strings[-1] if action.option_strings[-1].startswith("--") else action.option_strings[0]
+        if isinstance(action, (argparse._StoreTrueAction, argparse._StoreFalseAction)):
+            argv.append(flag)
+        elif action.choices:
+            argv += [flag, next(c for c in action.choices if c != action.default)]
+        elif action.type in (int, float):
+            argv += [flag, str(action.type(7))]
+        elif isinstance(action, argparse._AppendAction):
+            argv += [flag, f"{action.dest}-1", flag, f"{action.dest}-2"]
+        elif action.dest == "earliest_date":
+            argv += [flag, "1950-01-01"]
+        elif action.dest != "workspace":  # lab files are given; a workspace is the other source
+            argv += [flag, f"{action.dest}-x"]
+    args = build_parser().parse_args(argv)
+    again = dash_parser().parse_args(to_argv(args))
+    for dest, value in vars(args).items():
+        if dest in general | {"func", "command", "results_required", "results", "results_option"}:
+            continue
+        assert getattr(again, dest) == value, dest
+    assert result_files(again) == result_files(args) == ["a.csv", "results_option-x"]
+    assert again.quiet and not hasattr(args, "dataset")  # the dashboard reads files or a workspace only

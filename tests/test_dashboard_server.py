@@ -62,7 +62,9 @@ def _dataset_info(client, key) -> str:
 @pytest.mark.parametrize("body", [b"{", b"[]", b"null", b'"x"', b'{"output": 5}', b'{"output": "nope.children"}',
                                   b'{"output": "dataset-info.children", "inputs": "x"}',
                                   b'{"output": "dataset-info.children", "inputs": [1]}',
-                                  b'{"output": "dataset-info.children", "inputs": [], "outputs": 3}'])
+                                  b'{"output": "dataset-info.children", "inputs": [], "outputs": 3}',
+                                  b'{"output": "dataset-info.children", "inputs": [[null]]}',
+                                  b'{"output": "dataset-info.children", "inputs": [[{"id": 1}]]}'])
 def test_malformed_callback_requests_answer_400(client, body):
     """These used to answer 500 with a traceback in the log."""
     r = client.post(ROUTE, data=body, content_type="application/json")

@@ -17,17 +17,19 @@ from . import UserError
 from .parser import group
 
 
-def add_data_options(p: argparse.ArgumentParser, results_required: bool = True) -> None:
-    """Add the options that say which results, limit tables and sites to read."""
+def add_data_options(p: argparse.ArgumentParser, results_required: bool = True, dataset: bool = True) -> None:
+    """Add the options that say which results, limit tables and sites to read (``--dataset`` only where
+    the command reads a Parquet results dataset: ``dataset``)."""
     inputs, limits = group(p, "inputs"), group(p, "limits")
     inputs.add_argument("results", nargs="*", metavar="RESULTS",
-                        help="lab result files (CSV or XLSX); or use --workspace or --dataset")
+                        help="lab result files (CSV or XLSX); or use --workspace" + (" or --dataset" if dataset else ""))
     inputs.add_argument("--workspace", metavar="DIR",
                         help="use the current results of this workspace (see 'tracescreen import') instead of "
                              "lab files; the run is recorded in it with the SHA-256 of the limit tables and sites")
-    inputs.add_argument("--dataset", metavar="DIR",
-                        help="use a results dataset (Parquet partitioned by site group, written by 'tracescreen "
-                             "export --parquet') instead of lab files, read one site group at a time")
+    if dataset:
+        inputs.add_argument("--dataset", metavar="DIR",
+                            help="use a results dataset (Parquet partitioned by site group, written by 'tracescreen "
+                                 "export --parquet') instead of lab files, read one site group at a time")
     inputs.add_argument("--sites", metavar="FILE", help="sites CSV (site_id, name, latitude, longitude, uses, "
                         "hardness_mg_L); without it every table applies to every site")
     limits.add_argument("--limits", required=True, metavar="PATH", action="append",

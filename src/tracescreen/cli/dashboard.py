@@ -23,7 +23,7 @@ EXAMPLES = [
 
 def add_dashboard_options(p: argparse.ArgumentParser) -> None:
     """The dashboard's options (shared by ``tracescreen dashboard`` and ``python -m dashboard``)."""
-    add_data_options(p, results_required=False)
+    add_data_options(p, results_required=False, dataset=False)  # the dashboard reads files or a workspace
     group(p, "inputs").add_argument("--results", nargs="+", default=[], dest="results_option", metavar="FILE",
                    help="lab result files (CSV or XLSX), as an option instead of positional")
     server = group(p, "server")
@@ -86,7 +86,8 @@ def to_argv(args: argparse.Namespace) -> list[str]:
             argv += [f"--{opt}", str(getattr(args, opt))]
     if getattr(args, "background_standard", False):
         argv.append("--background-standard")
-    return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else [])
+    return argv + (["--decimal-comma"] if args.decimal_comma else []) + (["--debug"] if args.debug else []) + (
+        ["--quiet"] if getattr(args, "quiet", False) else [])
 
 
 def run(args) -> int:

@@ -151,6 +151,17 @@ def dataset_files(path):
                       [f"dataset {path}: {n:,} results in {len(files)} Parquet files, read one site group at a time"])
 
 
+def arrow_table(df: pd.DataFrame):
+    """``df`` as an Arrow table for a partitioned dataset, categorical text as plain text: a dictionary
+    column would carry the whole run's dictionary (every sample id) into every partition file; each
+    file dictionary-encodes its own values when written."""
+    import pyarrow as pa
+
+    table = pa.Table.from_pandas(df, preserve_index=False)
+    return table.cast(pa.schema([pa.field(f.name, f.type.value_type) if pa.types.is_dictionary(f.type) else f
+                                 for f in table.schema], metadata=table.schema.metadata))
+
+
 def write_dataset(results: pd.DataFrame, dest, metadata: dict | None = None, group_rows: int = GROUP_ROWS) -> list[Path]:
     """Write accepted results (plus any provenance columns) as a dataset partitioned by site group and year.
 
@@ -169,7 +180,7 @@ def write_dataset(results: pd.DataFrame, dest, metadata: dict | None = None, gro
     dest = Path(dest)
     df = results.assign(**{SITE_GROUP: site_groups(results["site_id"], group_count(len(results), group_rows)),
                            "year": results["sampled_at"].dt.year.astype("int32")})
-    table = pa.Table.from_pandas(df, preserve_index=False)
+    table = arrow_table(df)
     meta = {b"tracescreen.caution": CAUTION.encode()}
     meta.update({k.encode(): str(v).encode() for k, v in (metadata or {}).items()})
     table = table.replace_schema_metadata({**(table.schema.metadata or {}), **meta})
