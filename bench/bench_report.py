@@ -18,6 +18,7 @@ count. Goals (issue: the report as a deliverable): HTML under 5 MB and report un
 from __future__ import annotations
 
 import argparse
+import os
 import resource
 import subprocess
 import sys
@@ -68,16 +69,26 @@ def cpu() -> float:
     return own.ru_utime + own.ru_stime + kids.ru_utime + kids.ru_stime
 
 
+def peak_mb() -> tuple[float, float]:
+    """Peak resident memory (MB) so far of this process and of its largest finished child."""
+    own, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_maxrss / 1024, kids.ru_maxrss / 1024  # ru_maxrss is in KiB on Linux
+
+
 class Clock:
-    """Wall and CPU time of each step."""
+    """Wall and CPU time of each step, the peak memory after it and the load average before it."""
 
     def __init__(self):
         self.times: dict[str, tuple[float, float]] = {}
+        self.peaks: dict[str, float] = {}
+        self.loads: dict[str, float] = {}
 
     def __call__(self, name: str, fn, *args, **kwargs):
+        self.loads[name] = os.getloadavg()[0]
         w, c = time.perf_counter(), cpu()
         out = fn(*args, **kwargs)
         self.times[name] = (time.perf_counter() - w, cpu() - c)
+        self.peaks[name] = peak_mb()[0]
         return out
 
 
@@ -126,10 +137,18 @@ def main() -> None:
         panels = sum(len([t for t in f.figure["data"] if t.get("mode") == "markers" and t.get("legendgroup")]) > 0
                      for f in doc.figures())
         print(f"{n_results:,} results at {a.sites} sites; {len(doc.figures())} chart figures ({panels} with markers)")
-        print(f"{'step':<40} {'wall s':>8} {'CPU s':>8}")
-        print(f"{'reference: pipeline.run (load ... retest)':<40} {t_run[0]:8.1f} {t_run[1]:8.1f}")
+        loads, peaks = clock.loads, clock.peaks
+        print(f"{'step':<40} {'wall s':>8} {'CPU s':>8} {'peak MB':>8} {'load 1m':>8}")
+        ref = "pipeline.run (reference)"
+        print(f"{'reference: pipeline.run (load ... retest)':<40} {t_run[0]:8.1f} {t_run[1]:8.1f} "
+              f"{peaks[ref]:8.0f} {loads[ref]:8.2f}")
         for k, (w, c) in times.items():
-            print(f"{'report: ' + k:<40} {w:8.1f} {c:8.1f}")
+            print(f"{'report: ' + k:<40} {w:8.1f} {c:8.1f} {peaks.get(k, peaks['content ']):8.0f} "
+                  f"{loads[k]:8.2f}")
+        print(f"peak resident memory of this process: {peak_mb()[0]:.0f} MB (the reference run's own peak: "
+              f"{peaks[ref]:.0f} MB; the browser's is not separable: a child's figure counts the pages it shares "
+              "with this process); load average now " + ", ".join(f"{x:.2f}" for x in os.getloadavg())
+              + " (shared 2-core machine)")
         html_s = [sum(times[k][i] for k in ("content", "charts", "html")) for i in (0, 1)]
         print(f"report HTML total: wall {html_s[0]:.1f} s ({html_s[0] / t_run[0]:.2f} x the reference), CPU "
               f"{html_s[1]:.1f} s ({html_s[1] / t_run[1]:.2f} x); with PDF wall {html_s[0] + times['pdf'][0]:.1f} s")

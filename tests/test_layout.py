@@ -8,6 +8,7 @@ deferred and cannot form an import-time cycle).
 from __future__ import annotations
 
 import ast
+import re
 from pathlib import Path
 
 PKG = Path(__file__).resolve().parents[1] / "src" / "tracescreen"
@@ -170,3 +171,43 @@ def test_cited_reference_keys_are_in_the_bibliography():
                 cited.setdefault(key.lower(), str(p.relative_to(root)))
     assert len(listed) > 20 and cited
     assert {k: f for k, f in cited.items() if k not in listed} == {}
+
+
+def _architecture_names(text: str) -> set[str]:
+    """Module paths named in DEVELOPERS.md's architecture tree (indented names; ``a.py, b.py`` lines name several)."""
+    block = text.split("## Architecture", 1)[1].split("```")[1]
+    named: set[str] = set()
+    stack: list[tuple[int, str]] = []
+    for line in block.splitlines():
+        m = re.match(r"^( *)([\w./]+(?:, [\w./]+)*)(?:\s|$)", line)
+        if not m or not all(n.endswith((".py", "/")) for n in m.group(2).split(", ")):
+            continue
+        indent, names = len(m.group(1)), m.group(2).split(", ")
+        while stack and stack[-1][0] >= indent:
+            stack.pop()
+        prefix = "".join(folder for _, folder in stack)
+        named.update(prefix + n for n in names)
+        if len(names) == 1 and names[0].endswith("/"):
+            stack.append((indent, names[0]))
+    return named
+
+
+def test_developers_guide_names_every_module():
+    """One line per module in DEVELOPERS.md ("Architecture"): a newcomer finds where a rule lives from the
+    file list, and a module added without its line fails here (source of the rule: this project's
+    DEVELOPERS.md)."""
+    root = PKG.parents[1]
+    named = _architecture_names((root / "DEVELOPERS.md").read_text(encoding="utf-8"))
+    modules = {p.relative_to(root).as_posix() for folder in (PKG, root / "dashboard") for p in folder.rglob("*.py")
+               if p.name != "__init__.py"}
+    missing = sorted(m for m in modules if m not in named)
+    gone = sorted(n for n in named if n.endswith(".py") and n not in modules)
+    assert not missing, f"modules without a line in DEVELOPERS.md's architecture tree: {missing}"
+    assert not gone, f"DEVELOPERS.md names modules that are not there: {gone}"
+
+
+def test_architecture_names_reads_nested_folders_and_lists():
+    """The reader of the tree itself (a check that cannot pass by reading nothing)."""
+    text = "## Architecture\n\n```\nsrc/pkg/    x\n  io/       y\n    a.py, b.py   z\n  c.py  w\n```\n"
+    assert _architecture_names(text) == {"src/pkg/", "src/pkg/io/", "src/pkg/io/a.py", "src/pkg/io/b.py",
+                                         "src/pkg/c.py"}

@@ -197,3 +197,89 @@ def test_dense_chart_is_embedded_as_webp_and_sparse_as_svg():
     dense = Figure({}, "b", "dense", points=MAX_SVG_POINTS + 1, images={"webp": b"RIFF"})
     assert 'src="data:image/svg+xml;base64,' in figure_html(sparse)
     assert 'src="data:image/webp;base64,' in figure_html(dense)
+
+
+def test_batches_without_qc_summary_are_one_request_per_batch_not_thousands_of_retests():
+    """A batch without its QC summary asks the laboratory for documents (retest.request.REASON_ACTION); the
+    summary and the retest section say so per batch and count only the other reasons as flagged results.
+    Counts recomputed here with pandas from the rows given (common practice: one request per batch)."""
+    from types import SimpleNamespace
+
+    from tracescreen.report.build import Context, ReportOptions, retest_section
+    from tracescreen.report.summary import retest_sentence
+    from tracescreen.retest.labqc.reasons import SUGGESTED_ACTIONS
+
+    rows = pd.DataFrame({
+        "site_id": ["S1", "S1", "S2", "S1", "S2", "S2"], "sample_id": ["A", "A", "B", "C", "D", "D"],
+        "sampled_at": pd.to_datetime(["2024-01-02", "2024-01-02", "2024-01-03", "2024-02-01", "2024-03-01",
+                                      "2024-03-01"]),
+        "analyte": ["lead", "zinc", "lead", "lead", "copper", "copper"], "fraction": "total", "lab": "L",
+        "batch": ["B1", "B1", "B1", "B2", "B3", "B3"],
+        "reason": ["qc_summary_missing"] * 4 + ["near_limit", "history_outlier"], "detail": "d",
+    })
+    rows["suggested_action"] = rows["reason"].map(SUGGESTED_ACTIONS).fillna("confirm")
+    text = retest_sentence(rows)
+    assert text.startswith("1 result is flagged for a confirmatory retest")
+    assert "near limit 1" in text and "history outlier 1" in text and "qc summary" not in text.split(".")[0]
+    assert "2 batches (4 results) came without the laboratory's QC summary" in text
+
+    ctx = Context(SimpleNamespace(retest=rows, sites=None), pd.DataFrame(), pd.DataFrame(), None, ReportOptions())
+    tables = [b for b in retest_section(ctx).blocks if isinstance(b, Table)]
+    docs = next(t for t in tables if t.table_id == "retest-documents-table").frame
+    assert docs["Batch"].tolist() == ["B1", "B2"] and docs["Results"].tolist() == ["3", "1"]
+    assert docs["Samples"].tolist() == ["2", "1"] and docs["Sites"].tolist() == ["2", "1"]
+    flagged = next(t for t in tables if t.table_id == "retest-table").frame
+    assert len(flagged) == 2 and set(flagged["Reason"]) == {"near limit", "history outlier"}
+
+
+def _panels(doc) -> int:
+    """Panels drawn: one x axis per site panel of each metal's figure."""
+    return sum(len([k for k in f.figure["layout"] if k.startswith("xaxis")]) for f in doc.figures())
+
+
+def test_charts_by_default_only_for_series_with_findings_and_all_on_request(demo_run):
+    """Issue rule (README "Site summary report"): by default a panel for each site–metal series with a finding (a
+    result above a limit, or an increasing trend whose line reaches a limit), every series with ``charts="all"``,
+    at most ``max_panels`` panels with the rest named. Series recomputed here with pandas from the run's tables."""
+    from tracescreen.report.build import ReportOptions, build_document
+    from tracescreen.report.tables import report_data
+
+    res, scr = demo_run
+    key = ["site_id", "analyte", "fraction"]
+    site = scr[scr["sample_type"].eq("sample")]
+    exceeding = site.loc[site["status"].eq("exceeds"), key].astype(str)
+    rising = res.trends.loc[res.trends["direction"].astype(str).eq("increasing")
+                            & res.trends["crosses_limit_on"].notna(), key].astype(str)
+    with_findings = len(pd.concat([exceeding, rising]).drop_duplicates())
+    every = len(site[key].astype(str).drop_duplicates())
+    data = report_data(res)
+    assert _panels(build_document(data, None, ReportOptions())) == with_findings < every
+    capped = build_document(data, None, ReportOptions(charts="all", max_panels=5))
+    assert _panels(capped) == 5
+    notes = [b.text for s in capped.sections if s.title == "Charts" for b in s.blocks if hasattr(b, "text")]
+    assert any(t.startswith(f"{every - 5} further series are not drawn (at most 5 panels)") for t in notes)
+    assert _panels(build_document(data, None, ReportOptions(charts="none"))) == 0
+
+
+def test_design_appendix_states_the_methods_of_the_run(demo_run):
+    """Appendix A states the non-detect method, the trend test and its alpha and the guard band of the run
+    (issue rule: the statistical design stays in the report; values are the run's own StatisticsOptions)."""
+    from dataclasses import replace
+
+    from tracescreen.report.build import build_document
+    from tracescreen.report.tables import report_data
+
+    res, _ = demo_run
+    doc = build_document(report_data(res))
+    design = next(s for s in doc.sections if s.title == "Statistical design")
+    text = " ".join(getattr(b, "text", "") for b in design.blocks) + " ".join(
+        " ".join(map(str, b.frame.to_numpy().ravel())) for b in design.blocks if isinstance(b, Table))
+    stats = res.options.statistics
+    assert "never taken as zero" in text and "no guard band was applied" in text
+    for note in stats.notes():
+        assert note in text
+    assert f"{stats.alpha:g}" in text
+    banded = replace(res, screened=res.screened.assign(guard_band_ug_L=0.0))
+    banded_text = " ".join(getattr(b, "text", "") for s in build_document(report_data(banded)).sections
+                           if s.title == "Statistical design" for b in s.blocks)
+    assert "a guard band of f × U around each limit" in banded_text

@@ -222,7 +222,7 @@ def read_results(inputs: Inputs, sites=None):
 
 
 def screen(accepted, limits, sites, options: Options, period_base: int = 0, one_part: bool = False) -> tuple:
-    """Step 2: the screening rows and (when ``options.periods``) the periods table, from one pass.
+    """Step 3: the screening rows and (when ``options.periods``) the periods table, from one pass.
 
     Parameters
     ----------
@@ -260,7 +260,7 @@ def screen(accepted, limits, sites, options: Options, period_base: int = 0, one_
 
 
 def statistics(accepted, screened, options: StatisticsOptions) -> dict:
-    """Step 3: the statistics tables ``options.tables`` asks for: ``summary``, ``exceedances``, ``trends``."""
+    """Step 4: the statistics tables ``options.tables`` asks for: ``summary``, ``exceedances``, ``trends``."""
     from tracescreen._internal.memory import release_unused
     from tracescreen.statistics.summary import exceedance_rates, summarise
 
@@ -289,7 +289,7 @@ def trends(accepted, screened, options: StatisticsOptions):
 
 
 def lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, Any]:
-    """Step 4: the laboratory QC review and the calibration checks.
+    """Step 2: the laboratory QC review and the calibration checks.
 
     Returns
     -------
@@ -321,7 +321,7 @@ def _lab_qc(data: Loaded, inputs: Inputs, options: LabQcOptions) -> tuple[Any, A
 
 
 def retest(screened, options: RetestOptions, lab_qc=None, blanks=None):
-    """Step 4: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the
+    """Step 5: the retest list (``retest.csv``); ``lab_qc``: rows of the laboratory QC review, listed with the
     others; ``blanks``: the run's blanks when ``screened`` holds some of its sites (a run in parts)."""
     from tracescreen._internal.memory import release_unused
     from tracescreen.retest.listing import retest_list

@@ -224,16 +224,43 @@ RETEST_COLUMNS = ["site_id", "site_name", "sample_id", "sampled_at", "analyte", 
 
 
 def retest_section(ctx: Context) -> Section:
-    """6: results flagged for a confirmatory retest or review."""
+    """7: results flagged for a confirmatory retest or review; batches without their QC summary by batch."""
+    from tracescreen.report.summary import documents_only
+
     r = _with_names(only_sites(ctx.data.retest, ctx.site_ids), ctx)
     blocks = [Paragraph("Results flagged for a confirmatory retest or a review of the laboratory's data, with the "
                         "reason and a suggested action (thresholds in Appendix A).")]
     if r.empty:
         return Section("retest", "Confirmatory retest list", blocks + [Paragraph("No result is flagged.", "note")])
-    shown, more = cut(r.sort_values(["site_id", "sampled_at", "analyte"]), ctx.options.max_rows, "the workbook (sheet retest)")
+    docs = documents_only(r)
+    if docs.any():
+        asks = " ".join(r.loc[docs, "suggested_action"].astype(str).unique())
+        blocks += [Heading("Documents to ask the laboratory for"),
+                   Paragraph("These batches came without the laboratory's QC summary, so their QC could not be "
+                             "reviewed; no sample needs analysing for this reason. Their results are counted here, "
+                             "not listed one by one (every row is in the workbook, sheet retest). " + asks),
+                   Table(in_words(documents_by_batch(r[docs])), "retest-documents-table", key_columns=2, max_columns=8)]
+    flagged = r[~docs]
+    if flagged.empty:
+        return Section("retest", "Confirmatory retest list", blocks + [Paragraph(
+            "No result is flagged for a confirmatory retest.", "note")], landscape=True)
+    shown, more = cut(flagged.sort_values(["site_id", "sampled_at", "analyte"]), ctx.options.max_rows,
+                      "the workbook (sheet retest)")
+    if docs.any():
+        blocks.append(Heading("Results flagged for a confirmatory retest or review"))
     blocks.append(Table(once_per_site(in_words(shown[[c for c in RETEST_COLUMNS if c in shown.columns]])), "retest-table",
                         key_columns=3, max_columns=9, more=more))
     return Section("retest", "Confirmatory retest list", blocks, landscape=True)
+
+
+def documents_by_batch(rows: pd.DataFrame) -> pd.DataFrame:
+    """Retest rows asking for documents, one row per laboratory, batch and reason: results, samples,
+    sites, first and last sampling date."""
+    g = rows.assign(**{c: rows[c].astype(str) for c in ("lab", "batch", "reason", "site_id")}).groupby(
+        ["lab", "batch", "reason"], sort=True)
+    out = g.agg(n=("sample_id", "size"), n_samples=("sample_id", "nunique"), n_sites=("site_id", "nunique"),
+                first_sampled=("sampled_at", "min"), last_sampled=("sampled_at", "max")).reset_index()
+    return out
 
 
 def lab_qc_section(ctx: Context) -> Section | None:

@@ -9,6 +9,7 @@ the caution. Long lists are cut to :data:`MAX_LISTED` items with a count of the 
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_date, format_significant
@@ -172,13 +173,35 @@ def rejected_sentence(rejected: pd.DataFrame) -> str:
 
 
 def retest_sentence(retest: pd.DataFrame | None) -> str:
-    """How many results are flagged for a confirmatory retest, by reason."""
+    """How many results are flagged for a confirmatory retest, by reason; batches that came without their
+    QC summary are a request for documents, said apart (one sentence, not thousands of flagged results)."""
     if retest is None or retest.empty:
         return "No result is flagged for a confirmatory retest."
-    n = len(retest[["site_id", "sample_id", "analyte", "fraction"]].astype(str).drop_duplicates())
-    reasons = retest["reason"].astype(str).value_counts()
-    items = [f"{k.replace('_', ' ')} {v}" for k, v in reasons.head(MAX_LISTED).items()]
-    return (f"{_plural(n, 'result')} are flagged for a confirmatory retest or review (" + _and(items) + ").")
+    docs = documents_only(retest)
+    key = ["site_id", "sample_id", "analyte", "fraction"]
+    flagged = retest[~docs]
+    text = "No result is flagged for a confirmatory retest."
+    if len(flagged):
+        n = len(flagged[key].astype(str).drop_duplicates())
+        reasons = flagged["reason"].astype(str).value_counts()
+        items = [f"{k.replace('_', ' ')} {v}" for k, v in reasons.head(MAX_LISTED).items()]
+        text = (f"{_plural(n, 'result')} {'is' if n == 1 else 'are'} flagged for a confirmatory retest or review ("
+                + _and(items) + ").")
+    if docs.any():
+        d = retest[docs]
+        n_batches = len(d[["lab", "batch"]].astype(str).drop_duplicates())
+        n = len(d[key].astype(str).drop_duplicates())
+        text += (f" {_plural(n_batches, 'batch', 'batches')} ({_plural(n, 'result')}) came without the laboratory's "
+                 "QC summary: ask the laboratory for it (listed by batch with the retest list).")
+    return text
+
+
+def documents_only(retest: pd.DataFrame) -> np.ndarray:
+    """Rows whose reason asks the laboratory for documents, not for a sample to be analysed
+    (:data:`tracescreen.retest.request.REASON_ACTION`)."""
+    from tracescreen.retest.request import REASON_ACTION
+
+    return retest["reason"].astype(str).map(REASON_ACTION).eq("documents").to_numpy()
 
 
 def executive_summary(screening: pd.DataFrame, entries: pd.DataFrame, refs: pd.DataFrame, sites=None, trends=None,

@@ -43,6 +43,7 @@ COLUMN_WORDS: dict[str, str] = {
     "item": "Item", "value": "Value", "topic": "Topic", "table_id": "Table", "limit": "Limit",
     "effective_from": "In force from", "effective_to": "In force to", "url": "Address", "notes": "Notes",
     "period_value_ug_L": "Period value (µg/L)", "count": "Count", "results": "Results", "sites": "Sites",
+    "n_samples": "Samples", "n_sites": "Sites",
 }
 
 #: Columns whose cells are codes, shown with spaces for underscores (statuses get their labels).
@@ -53,7 +54,8 @@ CODED_COLUMNS = frozenset({"fraction", "use", "duration", "basis", "reason", "di
 STATISTIC_DIGITS = 3
 #: Columns shown as whole numbers.
 COUNT_COLUMNS = frozenset({"n", "n_detected", "n_nondetect", "n_above", "n_undecided", "row", "rows_read",
-                           "accepted", "rejected", "set_aside", "count", "results", "sites"})
+                           "accepted", "rejected", "set_aside", "count", "results", "sites", "n_samples",
+                           "n_sites"})
 
 
 def column_words(code: str) -> str:
