@@ -165,14 +165,16 @@ def time_callbacks(path: Path, n_calls: int = 50) -> dict:
     return out
 
 
+#: a grid row with its data (the infinite row model first draws rows "loading" until the server answers)
+ROW = ".ag-row:not(.ag-row-loading)"
 #: each page and what shows that it is drawn
 PAGES = (
     ("overview", "/", "#matrix-table"),
     ("map", "/map", "#map-graph .js-plotly-plot .main-svg"),
     ("site & metal", "/site", "#site-chart .js-plotly-plot .scatterlayer .trace, #site-chart .gl-container"),
-    ("trends", "/trends", "#tr-grid .ag-row"),
-    ("exceedances", "/exceedances", "#exc-grid .ag-row"),
-    ("retest request", "/retest", "#rq-grid .ag-row"),
+    ("trends", "/trends", f"#tr-grid {ROW}"),
+    ("exceedances", "/exceedances", f"#exc-grid {ROW}"),
+    ("retest request", "/retest", f"#rq-grid {ROW}"),
     ("data quality", "/quality", "#dq-files-table"),
     ("limit tables", "/limits", ".limit-table"),
     ("upload", "/upload", ".dropzone"),
@@ -215,8 +217,8 @@ def browser_render(path: Path) -> dict:
             for warm in ("/site", "/exceedances"):  # plotly.js and the grid's script into the cache
                 page.goto(url + warm)
                 page.wait_for_timeout(2000)
-            page.goto(url + "/trends")  # wait for the worker thread's trend table and retest list
-            page.locator("#tr-grid .ag-row").first.wait_for(state="visible", timeout=600_000)
+            page.goto(url + "/trends")  # wait for the worker thread's retest list and trend table (in that order)
+            page.locator(f"#tr-grid {ROW}").first.wait_for(state="visible", timeout=600_000)
             out["background_s"] = time.perf_counter() - t0
             print(f"  trend table ready {out['background_s']:.0f} s after the start, load {_load()}", flush=True)
             for label, page_path, selector in PAGES:

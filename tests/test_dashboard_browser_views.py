@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 import math
 
+import pandas as pd
 import pytest
 from browser_support import CHROMIUM, chart, choose, chromium, grid_filter, new_page, serve, shot
 from dashboard_support import engine_view, scenario_inputs
@@ -142,6 +143,56 @@ def test_headers_sort_from_the_keyboard(page, dash_url):
     assert page.js_errors == []
 
 
+def test_column_chooser_shows_a_hidden_column_and_key_columns_stay_frozen(page, dash_url):
+    """"Columns" lists the columns that are not frozen: unticking Unit hides it, ticking Source (hidden at
+    first) shows it; Site, Sampled and Metal stay at the left when the grid is scrolled to its last column
+    (README.md#dashboard, "Tables")."""
+    from playwright.sync_api import expect
+
+    page.goto(dash_url + "/exceedances")
+    expect(page.locator("#exc-grid .ag-row").first).to_be_visible(timeout=30_000)
+    header = '#exc-grid [role=columnheader][col-id="{}"]'
+    shown = "(c) => dash_ag_grid.getApi('exc-grid').getColumn(c).isVisible()"
+    assert page.evaluate(shown, "unit") and not page.evaluate(shown, "source")
+    page.locator("#exc-grid-columns").locator("xpath=..").locator("summary").click()
+    page.get_by_label("Source", exact=True).check()
+    page.get_by_label("Unit", exact=True).uncheck()
+    page.wait_for_function(f"() => ({shown})('source') && !({shown})('unit')", timeout=10_000)
+    # the grid draws only the columns in view (column virtualisation): scroll to Source as a person would
+    page.evaluate("() => dash_ag_grid.getApi('exc-grid').ensureColumnVisible('source')")
+    expect(page.locator(header.format("source"))).to_be_visible(timeout=10_000)
+    expect(page.locator(header.format("unit"))).to_have_count(0)
+    for key in ("site_id", "sampled_at", "analyte"):
+        expect(page.locator(f"#exc-grid .ag-pinned-left-header {header.format(key)[9:]}")).to_be_visible()
+    shot(page, "exceedances_columns_chosen")
+    assert page.js_errors == []
+
+
+def test_overview_cells_carry_the_engines_trend_arrows(page, dash_url):
+    """A cell shows ↑ / ↓ exactly where the engine's trend table (pipeline.trends, the same table as
+    trends.csv) finds a significant increase / decrease for that site and metal (README.md#dashboard)."""
+    from playwright.sync_api import expect
+
+    from tracescreen import pipeline
+    from tracescreen.statistics.options import StatisticsOptions
+
+    loaded, _, _, screened = engine_view()
+    table = pipeline.trends(loaded.accepted, screened, StatisticsOptions())
+    moving = table[table["direction"].isin(["increasing", "decreasing"])]
+    want = {(str(r.site_id), str(r.analyte)): set() for r in moving.itertuples()}
+    for r in moving.itertuples():
+        want[(str(r.site_id), str(r.analyte))].add("↑" if r.direction == "increasing" else "↓")
+    assert want  # the demo has trends to show
+    _matrix(page, dash_url)
+    expect(page.locator("#matrix-table .trend-arrow").first).to_be_visible(timeout=60_000)  # worker thread
+    got = page.eval_on_selector_all(
+        "#matrix-table td.cell", "els => els.map(e => [e.dataset.site, e.dataset.analyte,"
+        " (e.querySelector('.trend-arrow') || {}).textContent || ''])")
+    shown = {(s, a): {c for c in text if c in "↑↓"} for s, a, text in got if text}
+    assert shown == want
+    assert page.js_errors == []
+
+
 def test_trends_page_lists_every_series_and_opens_its_chart(page, dash_url):
     """The Trends page is the engine's trend table (one row per series, README.md#dashboard); the crossing
     date carries its caution; filtering the direction and following a row's link opens that series."""
@@ -158,6 +209,10 @@ def test_trends_page_lists_every_series_and_opens_its_chart(page, dash_url):
     grid_filter(page, "tr-grid", "Direction").fill("increasing")
     rising = (table["direction"] == "increasing").sum()
     expect(page.locator("#tr-count")).to_have_text(f"{rising:,} of {len(table):,} rows", timeout=10_000)
+    with page.expect_download(timeout=30_000) as info:  # the CSV holds the rows on screen
+        page.locator("#tr-csv-btn").click()
+    got = pd.read_csv(info.value.path())
+    assert len(got) == rising and set(got["direction"]) == {"increasing"}
     row = page.evaluate("() => dash_ag_grid.getApi('tr-grid').getDisplayedRowAtIndex(0).data")
     page.locator("#tr-grid .ag-row").first.locator("a", has_text="chart").click()
     page.wait_for_function("() => { const g = document.querySelector('#site-chart .js-plotly-plot');"
@@ -191,6 +246,32 @@ def test_chart_labels_limits_hover_words_log_decades_and_data_table(page, dash_u
     n_rows = page.evaluate("() => dash_ag_grid.getApi('site-table-grid').getDisplayedRowCount()")
     assert n_rows == c["points"]
     shot(page, "site_log_bh01_arsenic")
+    assert page.js_errors == []
+
+
+def test_a_series_without_a_limit_keeps_its_shapes_and_says_why(page, dash_url):
+    """KR01 (Kestrel Springs, freshwater_aquatic use in the demo's sites.csv), total chromium: the shipped
+    tables that list total chromium protect drinking water (WHO GDWQ 2022, EU 98/83/EC and 2020/2184, US EPA
+    NPDWR), while the US EPA aquatic life criteria list chromium(III) and chromium(VI) only. No line is
+    drawn, the page says why in those words, and detected and non-detect results keep filled and open shapes."""
+    from playwright.sync_api import expect
+
+    page.goto(dash_url + "/site?site=KR01&analyte=chromium&fraction=total")
+    expect(page.locator("#site-no-limit")).to_contain_text("No limit applies", timeout=30_000)
+    words = page.locator("#site-no-limit").inner_text()
+    assert "protect drinking_water" in words and "this site's uses are freshwater_aquatic" in words, words
+    page.wait_for_function("() => { const g = document.querySelector('#site-chart .js-plotly-plot');"
+                           " return g && g._fullData && (g.layout.title.text || '').includes('KR01'); }", timeout=30_000)
+    c = chart(page)
+    assert c["limits"] == [] and c["points"] > 0
+    points = page.evaluate("""() => document.querySelector('#site-chart .js-plotly-plot')._fullData
+        .filter(t => t.meta && t.meta.role === 'result').flatMap(t => t.customdata.map((d, i) =>
+            [d[2], String(Array.isArray(t.marker.symbol) ? t.marker.symbol[i] : t.marker.symbol)]))""")
+    opened = {words.startswith("not detected"): [] for words, _ in points}
+    for words, symbol in points:
+        opened[words.startswith("not detected")].append(symbol.endswith("-open"))
+    assert opened.get(False) and not any(opened[False]), points  # detected: filled
+    assert opened.get(True) and all(opened[True]), points  # not detected: open
     assert page.js_errors == []
 
 

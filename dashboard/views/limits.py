@@ -9,9 +9,6 @@ import pandas as pd
 from dashboard.state.session import SessionData
 from tracescreen.limits import words
 
-ENTRY_COLUMNS = ["analyte", "fraction", "limit", "hardness_range", "scope", "duration", "basis",
-                 "effective_from", "effective_to", "note"]
-
 
 def _num(v) -> bool:
     return v is not None and not (isinstance(v, float) and math.isnan(v)) and v is not pd.NA
