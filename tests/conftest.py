@@ -102,3 +102,23 @@ def demo_results():
     from tracescreen.pipeline import run
 
     return run(demo_inputs())
+
+
+@pytest.fixture(scope="module")
+def browser():
+    """Debian's headless Chromium for the browser tests of a module (skipped where it is not installed)."""
+    from browser_support import CHROMIUM, chromium
+
+    if not CHROMIUM.exists():  # pragma: no cover - .ci/run installs it
+        pytest.skip("Debian chromium is not installed (apt-get install chromium)")
+    with chromium() as b:
+        yield b
+
+
+@pytest.fixture
+def page(browser):
+    """A fresh page of ``browser`` (its JavaScript errors in ``page.js_errors``)."""
+    from browser_support import new_page
+
+    with new_page(browser) as pg:
+        yield pg

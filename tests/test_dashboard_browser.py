@@ -10,7 +10,7 @@ import json
 
 import pandas as pd
 import pytest
-from browser_support import CHROMIUM, chart, chromium, grid_count, grid_filter, new_page, serve, shot
+from browser_support import CHROMIUM, chart, grid_count, grid_filter, serve, shot
 from dashboard_support import SCENARIO, engine_attention_rows, engine_view, scenario_inputs
 
 pytestmark = pytest.mark.browser
@@ -28,18 +28,6 @@ def dash_url(tmp_path_factory):
                      upload_dir=tmp_path_factory.mktemp("uploads"))
     with serve(app) as url:
         yield url
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with chromium() as b:
-        yield b
-
-
-@pytest.fixture
-def page(browser):
-    with new_page(browser) as pg:
-        yield pg
 
 
 def _exceedances(page, dash_url):

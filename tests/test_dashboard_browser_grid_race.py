@@ -14,7 +14,7 @@ import time
 
 import pandas as pd
 import pytest
-from browser_support import CHROMIUM, chromium, grid_filter, new_page, serve, shot
+from browser_support import CHROMIUM, grid_filter, serve, shot
 from dashboard_support import engine_attention_rows, scenario_inputs
 
 pytestmark = pytest.mark.browser
@@ -49,18 +49,6 @@ def dash_url(tmp_path_factory):
     app = create_app(inputs=scenario_inputs(), upload_dir=tmp_path_factory.mktemp("uploads"))
     with serve(app) as url:
         yield url
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with chromium() as b:
-        yield b
-
-
-@pytest.fixture
-def page(browser):
-    with new_page(browser) as pg:
-        yield pg
 
 
 @pytest.fixture

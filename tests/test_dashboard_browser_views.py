@@ -12,7 +12,7 @@ import math
 
 import pandas as pd
 import pytest
-from browser_support import CHROMIUM, chart, choose, chromium, grid_filter, new_page, serve, shot
+from browser_support import CHROMIUM, chart, choose, grid_filter, serve, shot
 from dashboard_support import engine_view, scenario_inputs
 
 pytestmark = pytest.mark.browser
@@ -38,18 +38,6 @@ def dash_url(tmp_path_factory):
     app = create_app(inputs=scenario_inputs(), upload_dir=folder / "uploads", overlays=[overlay])
     with serve(app) as url:
         yield url
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with chromium() as b:
-        yield b
-
-
-@pytest.fixture
-def page(browser):
-    with new_page(browser) as pg:
-        yield pg
 
 
 def _matrix(page, url):

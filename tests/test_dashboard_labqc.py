@@ -96,24 +96,6 @@ def labqc_url():
         yield url
 
 
-@pytest.fixture(scope="module")
-def browser():
-    from browser_support import CHROMIUM, chromium
-
-    if not CHROMIUM.exists():  # pragma: no cover - .ci/run installs it
-        pytest.skip("Debian chromium is not installed (apt-get install chromium)")
-    with chromium() as b:
-        yield b
-
-
-@pytest.fixture
-def page(browser):
-    from browser_support import new_page
-
-    with new_page(browser) as pg:
-        yield pg
-
-
 @pytest.mark.browser
 def test_pick_a_batch_click_a_qc_value_see_its_results(labqc_url, page):
     from browser_support import shot
