@@ -5,6 +5,9 @@ from __future__ import annotations
 import hashlib
 from pathlib import Path
 
+#: Bytes read at a time by :func:`file_sha256` (1 MiB): memory stays small whatever the file's size.
+CHUNK_BYTES = 1 << 20
+
 
 def sha256_hex(data: bytes) -> str:
     """SHA-256 of ``data`` as 64 hex digits.
@@ -17,6 +20,12 @@ def sha256_hex(data: bytes) -> str:
     return hashlib.sha256(data).hexdigest()
 
 
-def file_sha256(path: str | Path) -> str:
-    """SHA-256 of a file's bytes, as hex."""
-    return sha256_hex(Path(path).read_bytes())
+def file_sha256(path: str | Path, chunk_bytes: int = CHUNK_BYTES) -> str:
+    """SHA-256 of a file's bytes, as hex; the file is read ``chunk_bytes`` at a time (never whole)."""
+    digest = hashlib.sha256()
+    buffer = bytearray(chunk_bytes)
+    view = memoryview(buffer)
+    with open(path, "rb", buffering=0) as f:
+        while n := f.readinto(buffer):
+            digest.update(view[:n])
+    return digest.hexdigest()

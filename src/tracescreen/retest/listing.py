@@ -51,10 +51,10 @@ def retest_list(screening: pd.DataFrame, options: RetestOptions | None = None,
     if unknown:
         raise ValueError(f"unknown retest reason(s): {', '.join(sorted(unknown))}")
     screening = screening[[c for c in rows.USED_COLUMNS if c in screening.columns]]
-    # selected once while text is still categorical (fast), then as plain text for the messages
-    results = plain_text(rows.results_from_screening(screening))
-    single = plain_text(rows.single_sample_rows(screening))  # what the four result flags look at
-    blanks = None if blanks is None else plain_text(blanks)
+    # selected once, text still categorical (fast); each check makes plain text of the rows it flags only
+    results = rows.results_from_screening(screening)
+    single = rows.single_sample_rows(screening)  # what the four result flags look at
+    blanks = None if blanks is None else plain_text(blanks)  # few rows
     checks = {
         "first_exceedance": lambda: flags.first_exceedance(single, lookback=o.lookback),
         "above_range": lambda: flags.above_range(single),

@@ -10,7 +10,15 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_number
-from tracescreen.retest.rows import SERIES_KEY, empty_retest, results_from_screening, retest_rows, ug
+from tracescreen.retest.rows import (
+    SERIES_KEY,
+    empty_retest,
+    flagged_text,
+    results_from_screening,
+    retest_rows,
+    sort_as_text,
+    ug,
+)
 from tracescreen.statistics.series import site_samples
 
 
@@ -186,14 +194,14 @@ def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
     """
     res = site_samples(results_from_screening(results))
     det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]
-    det = det.sort_values(SERIES_KEY + ["sampled_at", "sample_id"], kind="stable").reset_index(drop=True)
+    det = sort_as_text(det, SERIES_KEY + ["sampled_at", "sample_id"]).reset_index(drop=True)
     if len(det) <= min_prior:
         return empty_retest()
     x = np.log(det["value_ug_L"].to_numpy(dtype=float))
     pos = det.groupby(SERIES_KEY, sort=False).cumcount().to_numpy()
     z, med = expanding_modified_z(x, pos, max(min_prior, 1))
     flag = np.abs(z) > z_threshold
-    out = det[flag].assign(_z=z[flag], _med=np.exp(med[flag]), _n=pos[flag])
+    out = flagged_text(det[flag].assign(_z=z[flag], _med=np.exp(med[flag]), _n=pos[flag]))
     if out.empty:
         return empty_retest()
     direction = np.where(out["_z"] > 0, "above", "below")

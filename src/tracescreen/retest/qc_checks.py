@@ -18,7 +18,16 @@ import numpy as np
 import pandas as pd
 
 from tracescreen._internal.text import format_date, format_number
-from tracescreen.retest.rows import RTOL, empty_retest, results_from_screening, retest_rows, shown, ug
+from tracescreen.retest.rows import (
+    RTOL,
+    empty_retest,
+    flagged_text,
+    nonblank,
+    results_from_screening,
+    retest_rows,
+    shown,
+    ug,
+)
 from tracescreen.statistics.series import censored_value, site_samples
 
 BLANK_TYPES = ("field_blank", "lab_blank")
@@ -85,10 +94,12 @@ def duplicate_disagrees(results: pd.DataFrame, rpd_percent: float = 30.0, rpd_mi
     [USEPA2020NFG]_ (docs/references.md)
     """
     res = results_from_screening(results)
-    dup = res[res["sample_type"].eq("field_duplicate") & res["parent_sample_id"].fillna("").ne("")]
+    dup = res[res["sample_type"].eq("field_duplicate").to_numpy() & nonblank(res["parent_sample_id"])]
     if dup.empty:
         return empty_retest()
+    dup = flagged_text(dup)
     parent = site_samples(res)
+    parent = flagged_text(parent[parent["sample_id"].isin(pd.unique(dup["parent_sample_id"])).to_numpy()])
     pairs = parent.merge(dup, left_on=["sample_id", "analyte", "fraction"],
                          right_on=["parent_sample_id", "analyte", "fraction"], suffixes=("_p", "_d"))
     if pairs.empty:
@@ -144,21 +155,20 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0, blanks: pd
         Retest rows, reason ``blank_contamination``.
     """
     res = results_from_screening(results)
-    batch = res["batch"].fillna("")
     pool = res if blanks is None else blanks[[c for c in res.columns if c in blanks.columns]]
-    pool_batch = pool["batch"].astype(object).fillna("")
-    blank = pool[pool["sample_type"].isin(BLANK_TYPES) & pool_batch.ne("") & pool["detected"].astype(bool)
-                 & ~(pool["value_ug_L"] <= pool["detection_limit_ug_L"])]
+    blank = pool[pool["sample_type"].isin(BLANK_TYPES).to_numpy() & nonblank(pool["batch"])
+                 & (pool["detected"].astype(bool) & ~(pool["value_ug_L"] <= pool["detection_limit_ug_L"])).to_numpy()]
     if blank.empty:
         return empty_retest()
+    blank = flagged_text(blank)
     worst = (blank.sort_values("value_ug_L", ascending=False, kind="stable")
              .drop_duplicates(["lab", "batch", "analyte"])
              [["lab", "batch", "analyte", "sample_id", "sample_type", "value_ug_L"]]
              .rename(columns={"sample_id": "_blank_id", "sample_type": "_blank_type",
                               "value_ug_L": "_blank"}))
-    samples = res[res["sample_type"].isin(["sample", "field_duplicate"]) & batch.ne("")
-                  & res["detected"].astype(bool)]
-    hit = samples.merge(worst, on=["lab", "batch", "analyte"])
+    samples = res[(res["sample_type"].isin(["sample", "field_duplicate"]) & res["detected"].astype(bool)
+                   & res["batch"].isin(pd.unique(worst["batch"]))).to_numpy() & nonblank(res["batch"])]
+    hit = flagged_text(samples).merge(worst, on=["lab", "batch", "analyte"])
     hit = hit[hit["value_ug_L"] < multiple * hit["_blank"] * (1 - RTOL)]
     if hit.empty:
         return empty_retest()
@@ -214,7 +224,7 @@ def dissolved_exceeds_total(results: pd.DataFrame, percent: float = 30.0, min_mu
     rel = (d - t) / t * 100
     by_rel = both_high & (rel > percent * (1 + RTOL))
     by_abs = ~both_high & ((d - t) > abs_multiple * dl * (1 + RTOL))
-    flagged = pairs[by_rel | by_abs]
+    flagged = flagged_text(pairs[by_rel | by_abs])
     if flagged.empty:
         return empty_retest()
     i = flagged.index
@@ -280,7 +290,7 @@ def holding_time_exceeded(results: pd.DataFrame, holding_times: dict | None = No
         if sub.empty:
             continue
         deadline = sub["sampled_at"] + hold
-        late = sub[sub["analysed_at"] > deadline]
+        late = flagged_text(sub[sub["analysed_at"] > deadline])
         if late.empty:
             continue
         elapsed = (late["analysed_at"] - late["sampled_at"]) / pd.Timedelta(days=1)

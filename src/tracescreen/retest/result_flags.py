@@ -18,7 +18,9 @@ from tracescreen.retest.rows import (
     RTOL,
     SERIES_KEY,
     empty_retest,
+    flagged_text,
     limit_label,
+    meaning_mask,
     retest_rows,
     single_sample_rows,
     ug,
@@ -78,7 +80,7 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
         first = none_before | ((events["sampled_at"] - events["_prev_at"]) > span)
         window = f"{span.days} days"
     events = events[first]
-    flagged = worst.merge(events, on=SERIES_KEY + ["sampled_at"])
+    flagged = flagged_text(worst.merge(events, on=SERIES_KEY + ["sampled_at"]))
     n_before = flagged["_rank"].astype(int)
     history = pd.Series(np.where(
         n_before.eq(0), "no earlier results",
@@ -104,12 +106,9 @@ def bias_note(frame: pd.DataFrame) -> pd.Series:
     """Text to add to an exceedance's detail for the bias its qualifiers state ("" if none)."""
     if "qualifier_meaning" not in frame.columns:
         return pd.Series("", index=frame.index)
-    from tracescreen.io.qualifiers import has_meaning
-
-    meaning = frame["qualifier_meaning"].fillna("").astype(str).to_numpy(dtype=object)
     out = np.full(len(frame), "", dtype=object)
     for key, text in _BIAS_NOTES:
-        out = np.where(has_meaning(meaning, {key}), out + text, out)
+        out = np.where(meaning_mask(frame["qualifier_meaning"], {key}), out + text, out)
     return pd.Series(out, index=frame.index, dtype=object)
 
 
@@ -126,12 +125,10 @@ def above_range(screening: pd.DataFrame) -> pd.DataFrame:
     site = site_samples(screening)
     if "qualifier_meaning" not in site.columns or site.empty:
         return empty_retest()
-    from tracescreen.io.qualifiers import has_meaning
-
-    hit = site[has_meaning(site["qualifier_meaning"].fillna("").astype(str).to_numpy(dtype=object), {"above_range"})]
+    hit = site[meaning_mask(site["qualifier_meaning"], {"above_range"})]
     if hit.empty:
         return empty_retest()
-    hit = hit.drop_duplicates([c for c in RESULT_KEY if c in hit.columns] or None)
+    hit = flagged_text(hit.drop_duplicates([c for c in RESULT_KEY if c in hit.columns] or None))
     detail = ("reported above the calibrated range: at least " + ug(hit["value_ug_L"])
               + "; status " + hit["status"].astype(str))
     return retest_rows(hit, "above_range", detail)
@@ -159,7 +156,7 @@ def dl_too_high(screening: pd.DataFrame) -> pd.DataFrame:
     key = [c for c in RESULT_KEY if c in inc.columns] or None
     inc = inc.sort_values("limit_ug_L", kind="stable")
     n_limits = inc.groupby(key or inc.index, sort=False)["limit_ug_L"].transform("size")
-    inc = inc.assign(_n=n_limits).drop_duplicates(key)
+    inc = flagged_text(inc.assign(_n=n_limits).drop_duplicates(key))
     others = np.where(inc["_n"] > 1, " (and " + (inc["_n"] - 1).astype(str) + " other limit(s))", "")
     detail = ("non-detect at detection limit " + ug(inc["detection_limit_ug_L"])
               + " decides nothing against limit " + ug(inc["limit_ug_L"]) + " ("
@@ -199,7 +196,7 @@ def near_limit(screening: pd.DataFrame, fraction: float = 0.8) -> pd.DataFrame:
     if near.empty:
         return empty_retest()
     near = near.assign(_r=near["value_ug_L"] / near["limit_ug_L"])
-    near = near.sort_values("_r", ascending=False, kind="stable").drop_duplicates(key)
+    near = flagged_text(near.sort_values("_r", ascending=False, kind="stable").drop_duplicates(key))
     detail = (ug(near["value_ug_L"]) + " is " + format_number(100 * near["_r"], 3)
               + " % of limit " + ug(near["limit_ug_L"]) + " (" + limit_label(near)
               + "); flagged at >= " + format_number([100 * fraction])[0] + " %")
@@ -241,7 +238,7 @@ def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:
         return empty_retest()
     key = [c for c in RESULT_KEY if c in hit.columns] or None
     hit = hit.assign(_g=(hit["value_ug_L"] - hit["limit_ug_L"]).abs() / hit["uncertainty_ug_L"])
-    hit = hit.sort_values("_g", kind="stable").drop_duplicates(key)
+    hit = flagged_text(hit.sort_values("_g", kind="stable").drop_duplicates(key))
     side = np.where(hit["uncertainty_decision"].eq("exceeds_within_uncertainty"),
                     "reported above", "reported at or below")
     detail = (ug(hit["value_ug_L"]) + " ± " + ug(hit["uncertainty_ug_L"])

@@ -3,6 +3,11 @@
 Every retest check returns rows with the columns :data:`RETEST_COLUMNS`: one row per flagged result
 and reason, with a detail a laboratory can act on and a suggested action. Concentrations are in
 µg/L throughout.
+
+The checks select on the screening table as it comes (text as categoricals: comparisons, merges and
+sorts work on their integer codes) and turn text into plain strings only for the rows they flag
+(:func:`flagged_text`), where the details are written: the cost follows the flagged rows, not the
+size of the run.
 """
 
 from __future__ import annotations
@@ -74,9 +79,63 @@ def single_sample_rows(screening: pd.DataFrame) -> pd.DataFrame:
     site = site_samples(screening)
     if "basis" not in site.columns:
         return site
-    basis = site["basis"].fillna("").astype(str)
-    mask = basis.isin(["single_sample", ""])
+    basis = site["basis"]
+    mask = (basis.isna() | basis.isin(["single_sample", ""])).to_numpy()
     return site if mask.all() else site[mask]
+
+
+def flagged_text(frame: pd.DataFrame) -> pd.DataFrame:
+    """The flagged rows with plain text columns (missing text as ``""``), ready for the details: as
+    :func:`tracescreen._internal.frames.plain_text`, decoding only the categories these rows use (a
+    run's sample ids are a million categories; a part flags a few thousand rows)."""
+    out = frame.copy(deep=False)
+    for c in out.columns:
+        col = out[c]
+        if isinstance(col.dtype, pd.CategoricalDtype):
+            codes = col.cat.codes.to_numpy()
+            vals = np.full(len(codes), "", dtype=object)
+            ok = codes >= 0
+            vals[ok] = np.asarray(col.cat.categories.take(codes[ok]), dtype=object)
+            out[c] = pd.Series(vals, index=out.index, dtype=object)
+    return out
+
+
+def nonblank(col: pd.Series) -> np.ndarray:
+    """Cells holding text (neither missing nor ``""``), as a boolean array; fast on categoricals."""
+    return (col.notna() & col.ne("")).to_numpy(dtype=bool)
+
+
+def text_rank(col: pd.Series):
+    """A sort key that orders ``col`` as its plain text (missing as ``""``): for a categorical, the rank
+    of each row's category among the categories' text (integers, whatever order the categories are
+    in); other columns as they are."""
+    if not isinstance(col.dtype, pd.CategoricalDtype):
+        return col
+    cats, codes = col.cat.categories, col.cat.codes.to_numpy()
+    if cats.is_monotonic_increasing and cats.is_unique:  # (cached on the categories) the codes are in text order
+        missing = -1 if not len(cats) or cats[0] != "" else 0  # missing sorts as "", the least text
+        return pd.Series(np.where(codes < 0, missing, codes), index=col.index)
+    used, where = np.unique(codes, return_inverse=True)  # the categories in use, text sorted once each
+    text = np.where(used < 0, "", np.asarray(cats.astype(object), dtype=object)[np.maximum(used, 0)])
+    _, rank = np.unique(text.astype(str), return_inverse=True)
+    return pd.Series(rank[where], index=col.index)
+
+
+def sort_as_text(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
+    """``frame.sort_values(keys, kind="stable")`` as if its text columns were plain text (see :func:`text_rank`)."""
+    order = pd.DataFrame({k: text_rank(frame[k]) for k in keys}).sort_values(keys, kind="stable").index
+    return frame.loc[order]
+
+
+def meaning_mask(col: pd.Series, wanted: set[str]) -> np.ndarray:
+    """:func:`tracescreen.io.qualifiers.has_meaning` of a qualifier-meaning column, worked out once per
+    distinct text (a categorical's categories) and spread to the rows by their codes."""
+    from tracescreen.io.qualifiers import has_meaning
+
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        cats = np.append(np.asarray(col.cat.categories.astype(object), dtype=object), "")  # code -1 -> ""
+        return has_meaning(cats, wanted)[col.cat.codes.to_numpy()]
+    return has_meaning(col.fillna("").astype(str).to_numpy(dtype=object), wanted)
 
 
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
@@ -88,7 +147,8 @@ def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
 
 
 def retest_rows(frame: pd.DataFrame, reason: str, detail) -> pd.DataFrame:
-    """Build retest rows (:data:`RETEST_COLUMNS`) from result rows, a reason and details."""
+    """Build retest rows (:data:`RETEST_COLUMNS`) from result rows (any text dtype), a reason and details."""
+    frame = flagged_text(frame[[c for c in RETEST_COLUMNS[:7] if c in frame.columns]])
     out = pd.DataFrame(index=frame.index)
     for col in ("site_id", "sample_id", "sampled_at", "analyte", "fraction"):
         out[col] = frame[col]
