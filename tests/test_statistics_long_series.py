@@ -38,19 +38,73 @@ def _series(rng, n, censored, tied_times, seasons):
     return t, np.where(nd, dl, y), nd, (np.arange(n) % 4 if seasons else np.zeros(n, np.int64))
 
 
+def _brute_s_var(t, y, nd, season):
+    """Censored S and Daniels' (1944) permutation variance by full matrices, per season, summed.
+
+    A_ij = sign(t_j - t_i); B_ij = +1 where j is certainly above i (a detect at or above a non-detect's DL,
+    or above a detect), -1 certainly below, 0 otherwise (Helsel 2012, sec. 12.2); Var = [2/(n(n-1)) sum A^2
+    sum B^2 + 4/(n(n-1)(n-2)) (sum_i A_i.^2 - sum A^2)(sum_i B_i.^2 - sum B^2)] / 4 over the full matrices.
+    """
+    s = var = 0.0
+    for k in np.unique(season):
+        at = season == k
+        tk, yk, ndk = t[at], y[at], nd[at]
+        n = float(tk.size)
+        a = np.sign(tk[None, :] - tk[:, None])
+        dy = yk[None, :] - yk[:, None]
+        det_i, det_j = ~ndk[:, None], ~ndk[None, :]
+        above = det_j & ((dy > 0) | (~det_i & (dy >= 0)))
+        below = det_i & ((dy < 0) | (~det_j & (dy <= 0)))
+        b = above.astype(float) - below.astype(float)
+        s += np.triu(a * b, 1).sum()
+        sa2, sb2 = (a**2).sum(), (b**2).sum()
+        one = 2.0 / (n * (n - 1)) * sa2 * sb2 if n > 1 else 0.0
+        two = 4.0 / (n * (n - 1) * (n - 2)) * ((a.sum(1) ** 2).sum() - sa2) * ((b.sum(1) ** 2).sum() - sb2) if n > 2 else 0.0
+        var += (one + two) / 4.0
+    return s, var
+
+
 @pytest.mark.parametrize("censored", [False, True])
 @pytest.mark.parametrize("tied_times", [False, True])
 @pytest.mark.parametrize("seasons", [False, True])
 def test_long_path_equals_the_pairwise_kernel(censored, tied_times, seasons):
-    """Every trend column of the long-series path equals the pairwise kernel (S exact; the rest rtol 1e-8,
-    slopes to long_series.SLOPE_RTOL)."""
+    """S and Var(S) from counts equal their definition by full pair matrices (S exact, Var rtol 1e-12); the
+    long path's slopes, interval and intercept equal the pairwise kernel's (to long_series.SLOPE_RTOL)."""
     rng = np.random.default_rng(7 + 2 * censored + 4 * tied_times + 8 * seasons)
     t, y, nd, season = _series(rng, 301, censored, tied_times, seasons)
+    s, var_s, _ = long_series.kendall_s_var(t, y, nd, season)
+    brute_s, brute_var = _brute_s_var(t, y, nd, season)
+    assert s == brute_s
+    assert var_s == pytest.approx(brute_var, rel=1e-12)
     ref = mann_kendall.mann_kendall(t, y, nd, season if seasons else None)
-    got = mann_kendall._long_trend_row(t, y, nd, season, Z95)
-    assert got["s"] == ref["s"] and got["slope_method"] == ref["slope_method"]
-    for col in ("var_s", "z", "p_value", "tau", "slope_per_year", "slope_low", "slope_high", "intercept", "t0"):
+    assert ref["s"] == brute_s and ref["var_s"] == pytest.approx(brute_var, rel=1e-12)
+    got = mann_kendall._long_trend_row(t, y, nd, season, Z95 * np.sqrt(var_s))
+    assert got["slope_method"] == ref["slope_method"]
+    for col in ("slope_per_year", "slope_low", "slope_high", "intercept", "t0"):
         assert_allclose(got[col], ref[col], rtol=1e-8, atol=1e-12, err_msg=col)
+
+
+@settings(max_examples=60, deadline=None, derandomize=True)
+@given(st.integers(0, 2**31 - 1), st.integers(1, 6), st.integers(1, 3))
+def test_grouped_counts_equal_each_series_alone(seed, n_series, n_seasons):
+    """Many series at once (kendall_grouped) give each series' own S and Var(S) (brute force above), with
+    tied times, tied values and non-detects; a code without values gets NaN."""
+    rng = np.random.default_rng(seed)
+    codes = rng.integers(0, n_series, 60)
+    t = 2000 + rng.integers(0, 30, 60) / 4.0
+    y = rng.integers(1, 6, 60).astype(float)
+    nd = rng.random(60) < 0.3
+    season = rng.integers(0, n_seasons, 60)
+    s, var, _ = long_series.kendall_grouped(t, y, nd, season, codes, n_series + 1)
+    for k in range(n_series):
+        at = codes == k
+        if not at.any():
+            assert np.isnan(s[k])
+            continue
+        bs, bv = _brute_s_var(t[at], y[at], nd[at], season[at])
+        assert s[k] == bs
+        assert var[k] == pytest.approx(bv, rel=1e-12, abs=1e-12)
+    assert np.isnan(s[n_series]) and np.isnan(var[n_series])
 
 
 def test_seasonal_variance_with_non_detects_is_the_sum_of_the_seasons():

@@ -51,33 +51,63 @@ def _dense(values: np.ndarray) -> np.ndarray:
     return np.unique(values, return_inverse=True)[1].astype(np.int64)
 
 
-def count_pairs(trank: np.ndarray, group: np.ndarray, a: np.ndarray, b: np.ndarray) -> int:
-    """``#{(i, j): group_i == group_j, trank_i < trank_j, a_i < b_j}``.
+def ranks_within(group: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """Dense ranks (0, 1, ...; equal values equal) of ``x`` within each ``group``."""
+    order = np.lexsort((x, group))
+    gs, xs = group[order], x[order]
+    first = np.ones(x.size, bool)
+    first[1:] = gs[1:] != gs[:-1]
+    new = first.copy()
+    new[1:] |= xs[1:] != xs[:-1]
+    c = np.cumsum(new) - 1
+    out = np.empty(x.size, np.int64)
+    out[order] = c - np.maximum.accumulate(np.where(first, c, 0))
+    return out
 
-    ``trank`` non-negative integer time ranks; ``group`` non-negative integers; ``a``, ``b`` numbers
-    compared exactly. O(n log n) per bit of the largest time rank; memory O(n).
+
+def pair_counts(trank: np.ndarray, group: np.ndarray, a: np.ndarray, b: np.ndarray, n_groups: int) -> np.ndarray:
+    """``#{(i, j): group_i == group_j == k, trank_i < trank_j, a_i < b_j}`` for each group k (int64, n_groups).
+
+    ``trank`` non-negative integer time ranks (compared within a group only); ``group`` 0 .. n_groups - 1;
+    ``a``, ``b`` numbers compared exactly. All groups at once: O(n log n) per bit of the largest time rank
+    of a group; memory O(n).
     """
+    out = np.zeros(n_groups, np.int64)
     n = trank.size
     if n < 2:
-        return 0
+        return out
     ab = _dense(np.concatenate([a, b]))
     ra, rb = ab[:n], ab[n:]
     k_width = int(ab.max()) + 2
-    top = int(trank.max())
-    total = 0
-    for level in range(top.bit_length()):
-        block = group * ((top >> (level + 1)) + 1) + (trank >> (level + 1))
+    top = np.maximum(ranks_top(trank, group, n_groups), 0)
+    for level in range(int(top.max()).bit_length()):
+        # blocks of equal high bits, numbered group after group (keys stay small for many groups)
+        width = (top >> (level + 1)) + 1
+        block = (np.cumsum(width) - width)[group] + (trank >> (level + 1))
         left = ((trank >> level) & 1) == 0
         if left.all() or not left.any():
             continue
         # one sort of keys and queries together: a query sorts before keys equal to it, so the keys
         # before it are those of lower blocks and those of its block below it (ranks < k_width - 1)
-        key = block * (2 * k_width) + 2 * np.where(left, ra, rb) + np.where(left, 1, 0)
-        is_key = left[np.argsort(key)]
-        keys_before = np.cumsum(is_key)[~is_key]
-        lower_blocks = np.concatenate(([0], np.cumsum(np.bincount(block[left], minlength=int(block.max()) + 1))))
-        total += int(keys_before.sum() - lower_blocks[block[~left]].sum())
-    return total
+        key = block * (2 * k_width) + 2 * np.where(left, ra, rb) + left
+        order = np.argsort(key)
+        is_key = left[order]
+        query = order[~is_key]
+        lower_blocks = np.concatenate(([0], np.cumsum(np.bincount(block[left], minlength=int(width.sum())))))
+        found = np.cumsum(is_key)[~is_key] - lower_blocks[block[query]]
+        out += np.bincount(group[query], weights=found, minlength=n_groups).astype(np.int64)
+    return out
+
+
+def count_pairs(trank: np.ndarray, group: np.ndarray, a: np.ndarray, b: np.ndarray) -> int:
+    """``#{(i, j): group_i == group_j, trank_i < trank_j, a_i < b_j}`` (:func:`pair_counts` summed).
+
+    ``trank`` non-negative integer time ranks; ``group`` non-negative integers; ``a``, ``b`` numbers
+    compared exactly. O(n log n) per bit of the largest time rank; memory O(n).
+    """
+    if trank.size < 2:
+        return 0
+    return int(pair_counts(trank, group, a, b, int(group.max()) + 1).sum())
 
 
 def _interval_keys(y: np.ndarray, nd: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -97,35 +127,71 @@ def _by_group_counts(group: np.ndarray, key: np.ndarray, query: np.ndarray, side
 
 
 def kendall_s_var(t: np.ndarray, y: np.ndarray, nd: np.ndarray, season: np.ndarray) -> tuple[float, float, float]:
-    """Censored Kendall S, Daniels' Var(S) and the number of same-season pairs of one series.
+    """Censored Kendall S, Var(S) and the number of same-season pairs of one series (:func:`kendall_grouped`).
 
     ``t`` decimal years, ``y`` value or DL [µg/L], ``nd`` non-detect flags, ``season`` 0 .. P - 1.
     """
-    tr = _dense(t)
+    s, var, pairs = kendall_grouped(t, y, nd, season, np.zeros(t.size, np.int64), 1)
+    return float(s[0]), float(var[0]), float(pairs[0])
+
+
+def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Censored Kendall S, Var(S) and same-season pairs of many series at once, without their pairs.
+
+    ``t`` decimal years, ``y`` value or DL [µg/L], ``nd`` non-detect flags, ``season`` 0 .. P - 1 and
+    ``codes`` 0 .. n_codes - 1 (the series), one per value. Var(S) is Daniels' (1944) permutation variance
+    for a series with a non-detect or two values of one season at one time; otherwise Kendall's (1975)
+    tie-corrected [n(n-1)(2n+5) - sum t(t-1)(2t+5)]/18 (Gilbert 1987, eq. 16.4), the same number in closed
+    form. Seasonal Kendall: each season's S and Var(S) summed (Hirsch, Slack & Smith 1982). A code
+    without values gets NaN.
+    """
+    if t.size == 0:
+        return np.full(n_codes, np.nan), np.full(n_codes, np.nan), np.zeros(n_codes)
+    n_seasons = int(season.max()) + 1
+    keys, grp = np.unique(codes * n_seasons + season, return_inverse=True)
+    n_grp, code_of = keys.size, keys // n_seasons
+    tr = ranks_within(grp, t)
     hi, lo = _interval_keys(y, nd)
-    s = count_pairs(tr, season, hi, lo) - count_pairs(tr, season, -lo, -hi)
-    size = np.bincount(season)
-    n_in = size[season]
+    s = pair_counts(tr, grp, hi, lo, n_grp) - pair_counts(tr, grp, -lo, -hi, n_grp)
+    size = np.bincount(grp, minlength=n_grp)
+    n_in = size[grp]
     # A (time): later minus earlier values of the same season; B (value): above minus below
-    earlier = _by_group_counts(season, tr, tr, "left")
-    not_later = _by_group_counts(season, tr, tr, "right")
-    a_row = (n_in - not_later) - earlier
-    a_sq = (n_in - not_later) + earlier
-    above = n_in - _by_group_counts(season, lo, hi, "right")  # values whose lower end is above my upper end
-    below = _by_group_counts(season, hi, lo, "left")  # values whose upper end is below my lower end
-    b_row = above - below
-    b_sq = above + below
-    var = 0.0
-    for k in np.flatnonzero(size > 1):
-        at = season == k
-        n = float(size[k])
-        sa2, sb2 = float(a_sq[at].sum()), float(b_sq[at].sum())
-        ra, rb = float((a_row[at].astype(float) ** 2).sum()), float((b_row[at].astype(float) ** 2).sum())
-        one = 2.0 / (n * (n - 1)) * sa2 * sb2
-        two = 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2) if n > 2 else 0.0
-        var += (one + two) / 4.0
-    pairs = float((size * (size - 1) / 2).sum())
-    return float(s), var, pairs
+    earlier = _by_group_counts(grp, tr, tr, "left")
+    not_later = _by_group_counts(grp, tr, tr, "right")
+    above = n_in - _by_group_counts(grp, lo, hi, "right")  # values whose lower end is above my upper end
+    below = _by_group_counts(grp, hi, lo, "left")  # values whose upper end is below my lower end
+    def by_group(w):
+        return np.bincount(grp, weights=w.astype(float), minlength=n_grp)
+    sa2, sb2 = by_group((n_in - not_later) + earlier), by_group(above + below)
+    ra, rb = by_group(((n_in - not_later) - earlier).astype(float) ** 2), by_group((above - below).astype(float) ** 2)
+    n = size.astype(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        one = np.where(n > 1, 2.0 / (n * (n - 1)) * sa2 * sb2, 0.0)
+        two = np.where(n > 2, 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2), 0.0)
+    order = np.lexsort((y, grp))  # Kendall's ties: runs of equal values in a season
+    gs, ys = grp[order], y[order]
+    run = np.ones(y.size, bool)
+    run[1:] = (gs[1:] != gs[:-1]) | (ys[1:] != ys[:-1])
+    starts = np.flatnonzero(run)
+    length = np.diff(np.append(starts, y.size)).astype(float)
+    ties = np.bincount(gs[starts], weights=length * (length - 1) * (2 * length + 5), minlength=n_grp)
+
+    def per_code(w):
+        return np.bincount(code_of, weights=w, minlength=n_codes)
+    time_tie = np.bincount(code_of, weights=ranks_top(tr, grp, n_grp) + 1 < size, minlength=n_codes) > 0
+    daniels = time_tie | (np.bincount(codes, weights=nd, minlength=n_codes) > 0)
+    kendall = (per_code(n * (n - 1) * (2 * n + 5)) - per_code(ties)) / 18.0
+    var = np.where(daniels, per_code((one + two) / 4.0), kendall)
+    empty = np.bincount(codes, minlength=n_codes) == 0
+    return (np.where(empty, np.nan, per_code(s.astype(float))), np.where(empty, np.nan, var),
+            per_code(n * (n - 1) / 2))
+
+
+def ranks_top(rank: np.ndarray, group: np.ndarray, n_groups: int) -> np.ndarray:
+    """The largest ``rank`` in each group (-1 for an empty group)."""
+    top = np.full(n_groups, -1, np.int64)
+    np.maximum.at(top, group, rank)
+    return top
 
 
 class SlopeCounts:

@@ -1,7 +1,10 @@
 """Mann-Kendall and seasonal Kendall tests, Sen and Akritas-Theil-Sen slopes, for many series at once.
 
-All series are computed at once on padded (series x values x values) arrays; there is no Python
-loop over series (:func:`tracescreen.statistics.series.chunks` packs them in buckets of similar length).
+S and Var(S) of all series come at once from counts, without the pairs
+(:func:`tracescreen.statistics.long_series.kendall_grouped`, O(n log n)). The slopes are order
+statistics of the pairwise slopes: those are computed on padded (series x values x values) arrays
+(:func:`tracescreen.statistics.series.chunks` packs series in buckets of similar length); series
+longer than :data:`tracescreen.statistics.long_series.LONG_SERIES` find them by counting instead.
 
 * Kendall's S counts concordant minus discordant pairs in time order. A pair whose order is
   uncertain because of a non-detect (non-detect vs non-detect, or a non-detect vs a detect below
@@ -40,84 +43,6 @@ TREND_COLUMNS = ["n", "n_nondetect", "s", "var_s", "z", "p_value", "tau", "slope
                  "slope_low", "slope_high", "slope_method", "intercept", "t0"]
 
 
-def _pair_scores(dy, det_i, det_j, nd_i, nd_j):
-    """Censored score of each pair (i earlier, j later) from dy = y_j - y_i (values or DLs).
-
-    +1 where j is certainly above i, -1 certainly below, 0 where the order is unknown
-    (Helsel 2012, sec. 12.2): a detect is above a non-detect when it is >= that non-detect's DL;
-    two non-detects, or a non-detect and a detect below its DL, are a tie.
-    """
-    gt = det_j & ((dy > 0) | (nd_i & (dy >= 0)))
-    lt = det_i & ((dy < 0) | (nd_j & (dy <= 0)))
-    return gt.astype(np.int8) - lt.astype(np.int8)
-
-
-def _daniels_variance(a, b, i, j, valid, season, n_seasons, time_ties=True):
-    """Exact permutation variance of S = sum over pairs a_p b_p, per season, summed (Daniels 1944).
-
-    With full antisymmetric matrices A, B over the values of one season (n of them):
-    Var = [2/(n(n-1)) sum A^2 sum B^2 + 4/(n(n-1)(n-2)) (sum_i A_i.^2 - sum A^2)
-    (sum_i B_i.^2 - sum B^2)] / 4. Pair p joins value ``i[p]`` (earlier) and ``j[p]`` (later);
-    the row sums are accumulated by value with ``bincount`` (memory of the order of the pairs,
-    not pairs x values). Without ties in time (``time_ties`` False) the time scores' sums are
-    counted directly from each value's place in its season.
-    """
-    g, m = valid.shape
-    onehot = ((season[:, :, None] == np.arange(n_seasons)) & valid[:, :, None]).astype(float)
-    off = (np.arange(g) * m)[:, None]
-    at_i, at_j = (off + i).ravel(), (off + j).ravel()
-
-    def by_value(at, w):
-        return np.bincount(at, weights=w, minlength=g * m).reshape(g, m)
-
-    out = []
-    if not time_ties:
-        # every same-season pair is in time order (a = +1): A_i. = later - earlier values of i's
-        # season and sum_j A_ij^2 = n_season - 1, counted directly (the same integers)
-        earlier = ((np.cumsum(onehot, axis=1) - onehot) * onehot).sum(axis=2)
-        n_own = (onehot * onehot.sum(axis=1, keepdims=True)).sum(axis=2)
-        row = np.where(valid, n_own - 1 - 2 * earlier, 0.0)
-        sq = np.where(valid, n_own - 1, 0.0)
-        out.append((np.einsum("gi,gis->gs", row**2, onehot), np.einsum("gi,gis->gs", sq, onehot)))
-    for w in ((b,) if not time_ties else (a, b)):
-        w = w.ravel().astype(float)
-        row = by_value(at_i, w) - by_value(at_j, w)  # A_i. for each value i
-        w2 = np.abs(w)  # scores are -1, 0, 1: A_ij^2 = |A_ij|
-        sq = by_value(at_i, w2) + by_value(at_j, w2)  # sum_j A_ij^2 for each value i
-        out.append((np.einsum("gi,gis->gs", row**2, onehot), np.einsum("gi,gis->gs", sq, onehot)))
-    (ra, sa2), (rb, sb2) = out
-    n = onehot.sum(axis=1)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        one = np.where(n > 1, 2.0 / (n * (n - 1)) * sa2 * sb2, 0.0)
-        two = np.where(n > 2, 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2), 0.0)
-    return ((one + two) / 4.0).sum(axis=1)
-
-
-def _kendall_tie_variance(y, valid, season, n_seasons):
-    """Kendall's (1975) tie-corrected Var(S), summed over seasons, for untied sampling times.
-
-    [n(n-1)(2n+5) - sum over tie groups t(t-1)(2t+5)] / 18 per season (Gilbert 1987, eq. 16.4).
-    """
-    g, m = y.shape
-    key = np.where(valid, season, n_seasons)
-    order = np.argsort(np.where(valid, y, np.inf), axis=1, kind="stable")
-    order = np.take_along_axis(order, np.argsort(np.take_along_axis(key, order, 1), axis=1,
-                                                 kind="stable"), 1)
-    ys, ks = np.take_along_axis(y, order, 1), np.take_along_axis(key, order, 1)
-    new = np.ones((g, m), bool)
-    new[:, 1:] = (ys[:, 1:] != ys[:, :-1]) | (ks[:, 1:] != ks[:, :-1])
-    starts = np.flatnonzero(new)
-    length = np.diff(np.append(starts, g * m)).astype(float)
-    real = ks.ravel()[starts] < n_seasons
-    ties = np.bincount(starts // m, weights=np.where(real, length * (length - 1) * (2 * length + 5), 0.0),
-                       minlength=g)
-    full = np.zeros(g)
-    for k in range(n_seasons):  # a few seasons, vectorised over series
-        n = (valid & (season == k)).sum(axis=1).astype(float)
-        full += n * (n - 1) * (2 * n + 5)
-    return (full - ties) / 18.0
-
-
 def _row_median(x, valid):
     """Median of the valid cells of each row (NaN for an empty row)."""
     xs = np.sort(np.where(valid, x, np.inf), axis=1)
@@ -133,8 +58,12 @@ def _pick(sorted_vals, k):
     return np.take_along_axis(sorted_vals, k[:, None], axis=1)[:, 0]
 
 
-def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
-    """Trend statistics for each row of padded arrays sorted by time (see the module docstring)."""
+def _slope_rows(t, y, nd, valid, season, c, force_ats=False):
+    """Sen / Akritas-Theil-Sen slope, interval and intercept for each row of padded arrays sorted by time.
+
+    ``c`` is each row's z_crit * sqrt(Var(S)) (the interval's half-width in ranks of S). Only the slopes
+    need the pairs; S and Var(S) come from :func:`tracescreen.statistics.long_series.kendall_grouped`.
+    """
     if t.shape[1] < 2:  # series of one value: pad with an empty cell so that the pair arrays exist
         t, y = (np.pad(a, ((0, 0), (0, 2 - a.shape[1])), constant_values=np.nan) for a in (t, y))
         nd, valid = (np.pad(a, ((0, 0), (0, 2 - a.shape[1])), constant_values=False) for a in (nd, valid))
@@ -143,44 +72,26 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
     det = valid & ~nd
     nd = valid & nd
     i, j = np.triu_indices(m, 1)  # pairs i < j in time order
-    n_seasons = int(season.max()) + 1 if season.size else 1
-    pair = valid[:, j]
-    if n_seasons > 1:
-        pair &= season[:, i] == season[:, j]
-    dt = t[:, j] - t[:, i]
-    dt[~pair] = 0.0
-    dy = y[:, j] - y[:, i]
-    dy[~pair] = 0.0
-    a = np.sign(dt).astype(np.int8)
-    any_nd = bool(nd.any())
-    if any_nd:
-        # a pair of different seasons is no pair: without the mask a non-detect and a later detect of
-        # another season scored +1 and entered the B row sums of Var(S) (the seasonal variance came
-        # out too large; S was right because its time score is 0)
-        b = _pair_scores(dy, det[:, i], det[:, j], nd[:, i], nd[:, j]) * pair
-    else:
-        b = np.sign(dy).astype(np.int8)
-    s = np.einsum("gp,gp->g", a, b, dtype=np.int64).astype(float)
-    time_ties = bool((pair & (dt == 0)).any())
-    if any_nd or time_ties:
-        var_s = _daniels_variance(a, b, i, j, valid, season, n_seasons, time_ties)
-    else:
-        var_s = _kendall_tie_variance(y, valid, season, n_seasons)
-    n_s = np.stack([(valid & (season == k)).sum(axis=1) for k in range(n_seasons)], axis=1)
-    pairs = (n_s * (n_s - 1) / 2).sum(axis=1)
+
+    def pairs_of(x, k):  # np.take along the rows: about twice as fast as x[:, k]
+        return np.take(x, k, axis=1)
+    # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs; a row's
+    # values fill its first cells (padding is NaN, so padded pairs compare False and divide to NaN)
     with np.errstate(invalid="ignore", divide="ignore"):
-        z = np.where(s > 0, (s - 1) / np.sqrt(var_s), np.where(s < 0, (s + 1) / np.sqrt(var_s), 0.0))
-        # every pair tied (all values equal, or every result <DL): S = 0 and Var(S) = 0; the
-        # reference libraries report z = 0, p = 1 (no trend), not a blank
-        z = np.where(var_s > 0, z, np.where(pairs > 0, 0.0, np.nan))
-        tau = s / pairs
-        # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs
-        usable = (dt > 0) & ~(nd[:, i] & nd[:, j])
-        slopes = np.where(usable, dy / np.where(usable, dt, 1.0), np.nan)
-    p = 2.0 * stats.norm.sf(np.abs(z))
+        dt = pairs_of(t, j)
+        dt -= pairs_of(t, i)
+        usable = dt > 0
+        slopes = pairs_of(y, j)
+        slopes -= pairs_of(y, i)
+        slopes /= dt
+    del dt
+    if int(season.max(initial=0)) > 0:
+        usable &= pairs_of(season, i) == pairs_of(season, j)
     censored = nd.any(axis=1) | force_ats
-    n_pairs = usable.sum(axis=1)
-    c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)
+    if nd.any():
+        usable &= ~(pairs_of(nd, i) & pairs_of(nd, j))
+    slopes[~usable] = np.nan
+    n_pairs = np.count_nonzero(usable, axis=1)
     # Sen slope: median of the pairwise slopes; CI by Gilbert (1987), ranks as scipy.theilslopes
     # each series' slope is selected once: the Sen ranks for series without non-detects, the
     # Akritas-Theil-Sen ranks for the others (the rows are taken apart; selection is the cost here)
@@ -190,16 +101,22 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
         k = n_pairs[sen_rows]
         ranks = np.stack([(k - 1) // 2, k // 2, np.round((k - c[sen_rows]) / 2.0) - 1,
                           np.round((k + c[sen_rows]) / 2.0)], axis=1)
-        sen = _select(slopes[sen_rows], ranks, k)
+        sen = _select(slopes[sen_rows] if sen_rows.size < g else slopes, ranks, k)
         slope[sen_rows], low[sen_rows], high[sen_rows] = (sen[:, 0] + sen[:, 1]) / 2.0, sen[:, 2], sen[:, 3]
     ats_rows = np.flatnonzero(censored)
     if ats_rows.size:
-        sl, u, d_ = slopes[ats_rows], usable[ats_rows], det[ats_rows]
-        det_j = d_[:, j]
-        both = d_[:, i] & det_j & u  # detect/detect pairs count twice in S(beta) (see _ats_ranks)
-        ats = _select(np.concatenate([sl, np.where(both, sl, np.nan)], axis=1),
-                      *_ats_ranks(both.sum(axis=1), (u & ~d_[:, i] & det_j).sum(axis=1), n_pairs[ats_rows],
-                                  c[ats_rows]))
+        every = ats_rows.size == g
+        sl, u, d_ = (slopes, usable, det) if every else (slopes[ats_rows], usable[ats_rows], det[ats_rows])
+        det_j = pairs_of(d_, j)
+        both = pairs_of(d_, i) & det_j & u  # detect/detect pairs count twice in S(beta) (see _ats_ranks)
+        n_dd = np.count_nonzero(both, axis=1)
+        n_nd_d = np.count_nonzero(u & det_j, axis=1) - n_dd  # non-detect then detect
+        multiset = np.empty((sl.shape[0], 2 * sl.shape[1]))
+        multiset[:, :sl.shape[1]] = sl
+        twice = multiset[:, sl.shape[1]:]
+        twice[...] = sl
+        twice[~both] = np.nan
+        ats = _select(multiset, *_ats_ranks(n_dd, n_nd_d, n_pairs[ats_rows], c[ats_rows]))
         slope[ats_rows], low[ats_rows], high[ats_rows] = (ats[:, 0] + ats[:, 1]) / 2.0, ats[:, 2], ats[:, 3]
     none = n_pairs == 0
     slope[none] = low[none] = high[none] = np.nan
@@ -212,29 +129,51 @@ def _trend_rows(t, y, nd, valid, season, z_crit, force_ats=False):
             resid = np.where(valid, y - slope[:, None] * np.nan_to_num(tv), np.inf)
             km = _km_rows(resid, nd, valid, (0.5,))["q"][:, 0]
             intercept = np.where(censored, km, intercept)
-    return {
-        "n": valid.sum(axis=1), "n_nondetect": nd.sum(axis=1), "s": s, "var_s": var_s, "z": z,
-        "p_value": p, "tau": tau, "slope_per_year": slope, "slope_low": low, "slope_high": high,
-        "slope_method": np.where(censored, "akritas_theil_sen", "sen"), "intercept": intercept,
-        "t0": t0,
-    }
+    return {"slope_per_year": slope, "slope_low": low, "slope_high": high,
+            "slope_method": np.where(censored, "akritas_theil_sen", "sen"), "intercept": intercept, "t0": t0}
+
+
+#: Rows at least this wide are selected one at a time (numpy's partition at several ranks of a 2-D array
+#: costs several times a one-rank partition; nested one-rank partitions of a row do not).
+ROW_SELECT_WIDTH = 512
 
 
 def _select(values, ranks, n):
     """The ``ranks``-th smallest (0-based, clipped to 0 .. n - 1) of each row's valid values.
 
-    ``values`` (g, L) holds each row's values with NaN in the other cells; ``n`` (g,) counts the
-    valid ones. One partial sort (``numpy.partition``, introselect) at the ranks asked for, not a
-    full sort of the row: the slopes' order statistics are all the Sen and Akritas-Theil-Sen
-    estimates need. NaN where a row has no value.
+    ``values`` (g, L) holds each row's values with NaN in the other cells (NaN sorts last); ``n`` (g,)
+    counts the valid ones. Partial sorts (``numpy.partition``, introselect) at the ranks asked for, not a
+    full sort of the row: the slopes' order statistics are all the Sen and Akritas-Theil-Sen estimates
+    need. Wide rows are partitioned in place (``values`` is scratch). NaN where a row has no value.
     """
     ranks = np.clip(np.asarray(ranks, dtype=np.int64), 0, np.maximum(n - 1, 0)[:, None])
-    kth = np.unique(ranks)
     if values.shape[1] == 0:
         return np.full(ranks.shape, np.nan)
-    part = np.partition(values, np.clip(kth, 0, values.shape[1] - 1), axis=1)
-    out = np.take_along_axis(part, ranks, axis=1)
+    if values.shape[1] >= ROW_SELECT_WIDTH:
+        out = np.stack([_select_row(values[r], ranks[r]) for r in range(values.shape[0])])
+    else:
+        kth = np.unique(ranks)
+        part = np.partition(values, np.clip(kth, 0, values.shape[1] - 1), axis=1)
+        out = np.take_along_axis(part, ranks, axis=1)
     return np.where((n > 0)[:, None], out, np.nan)
+
+
+def _select_row(row, ranks):
+    """``row``'s values at 0-based ``ranks`` by nested one-rank partitions of the segments between them."""
+    want = [int(k) for k in np.unique(ranks)]
+    found = {}
+    todo = [(0, row.size, want)]
+    while todo:
+        lo, hi, ks = todo.pop()
+        if not ks:
+            continue
+        mid = len(ks) // 2
+        k = ks[mid]
+        seg = row[lo:hi]
+        seg.partition(k - lo)
+        found[k] = seg[k - lo]
+        todo += [(lo, k, ks[:mid]), (k + 1, hi, ks[mid + 1:])]
+    return np.array([found[int(k)] for k in ranks])
 
 
 def _ats_ranks(n_dd, n_nd_d, n_pairs, c):
@@ -263,16 +202,11 @@ def _ats_ranks(n_dd, n_nd_d, n_pairs, c):
     return ranks, size
 
 
-def _long_trend_row(t, y, nd, season, z_crit, force_ats=False) -> dict:
-    """:func:`_trend_rows` for one long series (sorted by time) without its pairs (see :mod:`.long_series`)."""
-    s, var_s, pairs = long_series.kendall_s_var(t, y, nd, season)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = (s - np.sign(s)) / np.sqrt(var_s) if var_s > 0 else (0.0 if pairs > 0 else np.nan)
-    p = 2.0 * stats.norm.sf(abs(z))
+def _long_trend_row(t, y, nd, season, c, force_ats=False) -> dict:
+    """:func:`_slope_rows` for one long series (sorted by time) without its pairs (see :mod:`.long_series`)."""
     censored = bool(nd.any()) or force_ats
     counts = long_series.SlopeCounts(t, y, nd, season)
     n_pairs, n_dd, n_nd_d = counts.usable()
-    c = float(np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0))
     if n_pairs == 0:
         slope = low = high = np.nan
     elif censored:
@@ -290,8 +224,7 @@ def _long_trend_row(t, y, nd, season, z_crit, force_ats=False) -> dict:
         intercept = _km_rows(resid[None, :], nd[None, :], np.ones((1, t.size), bool), (0.5,))["q"][0, 0]
     else:
         intercept = float(np.median(y) - slope * np.median(tv))
-    return {"n": t.size, "n_nondetect": int(nd.sum()), "s": s, "var_s": var_s, "z": z, "p_value": p,
-            "tau": s / pairs if pairs else np.nan, "slope_per_year": slope, "slope_low": low, "slope_high": high,
+    return {"slope_per_year": slope, "slope_low": low, "slope_high": high,
             "slope_method": "akritas_theil_sen" if censored else "sen", "intercept": intercept, "t0": t0}
 
 
@@ -335,22 +268,34 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     z_crit = stats.norm.ppf(1 - alpha / 2)
     cols = {c: np.full(n_groups, np.nan) for c in TREND_COLUMNS}
     cols["slope_method"] = np.full(n_groups, None, dtype=object)
-    cols["n"][:] = cols["n_nondetect"][:] = 0
-    size = np.bincount(codes, minlength=n_groups)
+    # S and Var(S) of every series from counts (no pairs); z with the continuity correction
+    s, var_s, pairs = long_series.kendall_grouped(t, y, nd, season, codes, n_groups)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        z = np.where(s > 0, (s - 1) / np.sqrt(var_s), np.where(s < 0, (s + 1) / np.sqrt(var_s), 0.0))
+        # every pair tied (all values equal, or every result <DL): S = 0 and Var(S) = 0; the
+        # reference libraries report z = 0, p = 1 (no trend), not a blank
+        cols["z"] = np.where(var_s > 0, z, np.where(pairs > 0, 0.0, np.nan))
+        cols["tau"] = s / pairs
+    cols.update(s=s, var_s=var_s, p_value=2.0 * stats.norm.sf(np.abs(cols["z"])),
+                n=np.bincount(codes, minlength=n_groups).astype(float),
+                n_nondetect=np.bincount(codes, nd, minlength=n_groups).astype(float))
+    c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)
+    size = cols["n"]
+    slope_cols = TREND_COLUMNS[TREND_COLUMNS.index("slope_per_year"):]
     for g in np.flatnonzero(size > long_series.LONG_SERIES):  # a few long series, each without its pairs
         at = np.flatnonzero(codes == g)
         at = at[np.argsort(t[at], kind="stable")]
-        row = _long_trend_row(t[at], y[at], nd[at], season[at], z_crit, force_ats)
-        for col in TREND_COLUMNS:
+        row = _long_trend_row(t[at], y[at], nd[at], season[at], c[g], force_ats)
+        for col in slope_cols:
             cols[col][g] = row[col]
     short = size[codes] <= long_series.LONG_SERIES
     if not short.all():
         t, y, nd, season, codes = t[short], y[short], nd[short], season[short], codes[short]
     for chunk in chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2,
                         budget=PAIR_BUDGET):
-        r = _trend_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
-                        chunk.valid, chunk.take(season, -1), z_crit, force_ats)
-        for col in TREND_COLUMNS:
+        r = _slope_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
+                        chunk.valid, chunk.take(season, -1), c[chunk.groups], force_ats)
+        for col in slope_cols:
             cols[col][chunk.groups] = r[col]
     return pd.DataFrame(cols)
 
