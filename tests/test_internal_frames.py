@@ -16,3 +16,17 @@ def test_replace_at_categorical_with_text_equals_plain_assignment():
     assert isinstance(out, pd.Categorical)
     assert list(np.asarray(out, dtype=object)) == list(plain)
     assert set(out.categories) >= set(plain) and out.categories.is_unique
+
+
+def test_str_array_is_the_array_pandas_makes():
+    """str_array (built by Arrow) gives what pd.array(values, dtype="str") gives: text kept, missing
+    values missing, other values as their str (common practice: pandas' own conversion is the reference)."""
+    from tracescreen._internal.frames import str_array
+
+    cases = [np.array(["a", "b", None, np.nan, 1, "a"], dtype=object), ["x", "y; z"], ["x", None, "z"], [1, "a"],
+             np.array([], dtype=object), np.array(["µg/L", "=1"], dtype=object)]
+    for v in cases:
+        got, want = str_array(v), pd.array(np.asarray(v, dtype=object) if isinstance(v, np.ndarray) else v, dtype="str")
+        assert got.dtype == want.dtype
+        assert pd.Series(got).equals(pd.Series(want))
+    assert list(str_array("q", 3)) == ["q", "q", "q"]

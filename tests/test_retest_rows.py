@@ -60,3 +60,19 @@ def test_retest_list_the_same_on_categorical_and_plain_text(demo_results):
     assert len(reference) > 100
     pd.testing.assert_frame_equal(retest_list(screened), reference)
     pd.testing.assert_frame_equal(retest_list(_shuffled_categories(screened)), reference)
+
+
+def test_result_ids_equal_exactly_for_equal_keys():
+    """One integer per (file, sheet, row): equal keys give equal ids, different keys different ones,
+    whatever the dtypes (categorical, text with missing values, integers; a negative row is factorised)."""
+    from tracescreen.retest.rows import result_ids
+
+    frame = pd.DataFrame({"file": pd.Categorical(["a.csv", "a.csv", "b.csv", "a.csv", "b.csv"]),
+                          "sheet": ["", None, "", "", ""], "row": [2, 2, 2, 3, 2]})
+    for rows in ([2, 2, 2, 3, 2], [2, 2, 2, -3, 2]):
+        ids = result_ids(frame.assign(row=rows))
+        keys = list(zip(frame["file"], frame["sheet"].fillna("NA"), rows))
+        for i in range(len(frame)):
+            for j in range(len(frame)):
+                assert (ids[i] == ids[j]) == (keys[i] == keys[j])
+    assert result_ids(frame.drop(columns=["file", "sheet", "row"])) is None

@@ -88,3 +88,23 @@ def test_option_off(tmp_path, limits, sites):
     out = _screen(tmp_path, "W,S1,2021-01-01,chromium,dissolved,60,ug/L,1\n", limits, sites,
                   cross_fraction=False)
     assert list(out["status"]) == ["no_limit"]
+
+
+def test_lacks_other_fraction_same_for_categorical_and_plain_text():
+    """The coded comparison answers as comparing the texts row by row (common practice: a sample
+    with both fractions of a metal is screened on its own fraction); missing values match each
+    other only, not the text "nan"."""
+    import pandas as pd
+
+    from tracescreen.screening.fractions import lacks_other_fraction, swapped
+
+    rows = pd.DataFrame({"site_id": ["S1", "S1", "S1", "S2", "S2", "S3", "S3"],
+                         "sample_id": ["a", "a", "b", "a", "a", "c", "c"],
+                         "analyte": ["zinc", "zinc", "zinc", "lead", None, "nan", None],
+                         "fraction": ["total", "dissolved", "total", "dissolved", "total", "total", "dissolved"]})
+    want = [False, False, True, True, True, True, True]
+    assert lacks_other_fraction(rows).tolist() == want
+    coded = rows.astype({c: "category" for c in rows.columns})
+    assert lacks_other_fraction(coded).tolist() == want
+    assert swapped(coded)["fraction"].astype(str).tolist() == ["dissolved", "total", "dissolved", "total",
+                                                               "dissolved", "dissolved", "total"]

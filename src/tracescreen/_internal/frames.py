@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 
 
 def plain_text(df: pd.DataFrame, columns=None) -> pd.DataFrame:
@@ -97,3 +98,23 @@ def entry_attribute(values: pd.Series, e_pos: np.ndarray) -> pd.Categorical:
     cats, inv = np.unique(np.append(text, ""), return_inverse=True)
     codes = inv[np.where(e_pos < 0, len(text), e_pos)]
     return pd.Categorical.from_codes(codes, categories=cats.astype(str))
+
+
+def str_array(values, n: int | None = None):
+    """Text as pandas' ``str`` array: the array ``pd.array(values, dtype="str")`` gives, built by Arrow.
+
+    ``values``: an object array (coded first, so a column repeating a few texts is turned into text
+    once per distinct value), a list of str (copied by Arrow in one call), or one str repeated ``n``
+    times. Missing values stay missing; any other value becomes ``str(value)``.
+    """
+    if isinstance(values, str):
+        values = np.full(n, values, dtype=object)
+    if isinstance(values, list):
+        try:
+            return pd.array(pa.array(values, type=pa.large_string(), from_pandas=True), dtype="str")
+        except (pa.ArrowInvalid, pa.ArrowTypeError):  # not all str: each value's text, as pandas makes it
+            return pd.array(np.asarray(values, dtype=object), dtype="str")
+    codes, uniq = pd.factorize(np.asarray(values, dtype=object))
+    text = pa.array([u if isinstance(u, str) else str(u) for u in uniq], type=pa.large_string())
+    coded = pa.DictionaryArray.from_arrays(pa.array(codes.astype(np.int32), mask=codes < 0), text)
+    return pd.array(coded.cast(pa.large_string()), dtype="str")

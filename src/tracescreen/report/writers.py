@@ -18,6 +18,7 @@ from typing import Iterator
 import numpy as np
 import pandas as pd
 import pyarrow as pa
+import pyarrow.compute as pc
 import pyarrow.csv as pacsv
 
 from tracescreen._internal.parallel import ordered_map, workers
@@ -47,6 +48,12 @@ def neutralise_formulas(df: pd.DataFrame) -> pd.DataFrame:
             mask = cats.str.match(FORMULA_START)
             if mask.any():
                 out[c] = s.cat.rename_categories(cats.where(~mask, "'" + cats).tolist())
+            continue
+        if isinstance(s.dtype, pd.StringDtype) and s.dtype.storage == "pyarrow":
+            # Arrow-backed text: matched by Arrow where it lies (no copy of the column, no Python per row)
+            mask = pc.fill_null(pc.match_substring_regex(pa.array(s.array), FORMULA_START), False)
+            if pc.any(mask).as_py():
+                out[c] = s.where(~np.asarray(mask, dtype=bool), "'" + s)
             continue
         if pd.api.types.is_string_dtype(s.dtype) or s.dtype == object:
             is_text = s.map(type).eq(str) if s.dtype == object else s.notna()

@@ -52,29 +52,40 @@ def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
     return np.where((mad > 0) | (mean_ad > 0), z, np.nan)
 
 
-def _kth_of_two_sorted(a_at, n_a, b_at, n_b, k):
-    """k-th smallest (0-based) of the union of two ascending sequences per row (vectorised).
+def _middle_deviation(h, rix, med, n_left, i, order):
+    """The ``order``-th smallest (0-based) ``|h - med|`` of rows of sorted histories, vectorised.
 
-    ``a_at(t)`` / ``b_at(t)`` give the t-th element of each row's sequences (t an int array),
-    ``n_a``, ``n_b`` their lengths. Binary search on how many elements come from ``a``.
+    ``h`` holds sorted rows of ``i`` values, ``rix`` the rows to search (a row may be listed twice, for
+    the two middle orders of an even history), ``med`` their medians, ``n_left`` how many values of each
+    are below its median. The deviations left of the median, read downwards, and those right of it,
+    read upwards, are two ascending runs; a binary search on how many of the smallest ``order + 1``
+    come from the left run finds the answer, in about log2(i) steps for all rows at once.
     """
-    lo = np.maximum(0, k + 1 - n_b)
-    hi = np.minimum(k + 1, n_a)
-    while (lo < hi).any():
-        mid = (lo + hi) // 2
-        # while lo < hi, mid < n_a and 0 <= k - mid < n_b; elsewhere the indices are only clipped
-        take_more = (lo < hi) & (a_at(np.minimum(mid, np.maximum(n_a - 1, 0))) < b_at(np.maximum(k - mid, 0)))
-        lo = np.where(take_more, mid + 1, lo)
-        hi = np.where((lo < hi) & ~take_more, mid, hi)
-    na = lo
-    nb = k + 1 - na
-    from_a = np.where(na > 0, a_at(np.maximum(na - 1, 0)), -np.inf)
-    from_b = np.where(nb > 0, b_at(np.maximum(nb - 1, 0)), -np.inf)
+    n_right = i - n_left
+    lo = np.maximum(0, order + 1 - n_right)
+    hi = np.minimum(order + 1, n_left)
+    last = i - 1
+    # (np.minimum / np.maximum rather than np.clip: called a few times per step, np.clip's overhead
+    # was most of the check's time)
+    while True:
+        live = lo < hi
+        if not live.any():
+            break
+        mid = (lo + hi) >> 1
+        # while lo < hi, mid < n_left and 0 <= order - mid < n_right; elsewhere the indices are only clipped
+        left = med - h[rix, np.minimum(np.maximum(n_left - 1 - mid, 0), last)]
+        right = h[rix, np.minimum(np.maximum(n_left + order - mid, 0), last)] - med
+        more = live & (left < right)
+        lo = np.where(more, mid + 1, lo)
+        hi = np.where(live & ~more, mid, hi)
+    from_right = order + 1 - lo
+    from_a = np.where(lo > 0, med - h[rix, np.minimum(np.maximum(n_left - lo, 0), last)], -np.inf)
+    from_b = np.where(from_right > 0, h[rix, np.minimum(np.maximum(n_left + from_right - 1, 0), last)] - med, -np.inf)
     return np.maximum(from_a, from_b)
 
 
 def _kth_deviation(row: np.ndarray, med: float, n_left: int, n: int, k: int) -> float:
-    """k-th smallest (0-based) |row[:n] - med| of one sorted row: :func:`_kth_of_two_sorted` on plain numbers."""
+    """k-th smallest (0-based) |row[:n] - med| of one sorted row: :func:`_middle_deviation` on plain numbers."""
     n_right = n - n_left
     lo, hi = max(0, k + 1 - n_right), min(k + 1, n_left)
     while lo < hi:
@@ -131,19 +142,12 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
         elif i >= min_prior:
             med = (h[:, (i - 1) // 2] + h[:, i // 2]) / 2.0
             n_left = np.count_nonzero(h < med[:, None], axis=1)  # below the median: deviations med - h
-            n_right = i - n_left
-            rix = np.arange(k)
-
-            # (np.minimum / np.maximum rather than np.clip: called a few times per step of a long
-            # series, np.clip's overhead was most of the check's time)
-            def left(t):  # t-th smallest deviation left of the median (values read downwards)
-                return med - h[rix, np.minimum(np.maximum(n_left - 1 - t, 0), i - 1)]
-
-            def right(t):
-                return h[rix, np.minimum(np.maximum(n_left + t, 0), i - 1)] - med
-
-            mad = (_kth_of_two_sorted(left, n_left, right, n_right, np.full(k, (i - 1) // 2))
-                   + _kth_of_two_sorted(left, n_left, right, n_right, np.full(k, i // 2))) / 2.0
+            if i % 2:  # one middle value: the MAD is that deviation ((d + d) / 2 == d)
+                mad = _middle_deviation(h, np.arange(k), med, n_left, i, np.full(k, i // 2))
+            else:  # the mean of the two middle deviations, both found in one search
+                two = _middle_deviation(h, np.tile(np.arange(k), 2), np.tile(med, 2), np.tile(n_left, 2), i,
+                                        np.repeat([i // 2 - 1, i // 2], k))
+                mad = (two[:k] + two[k:]) / 2.0
             with np.errstate(divide="ignore", invalid="ignore"):
                 zr = 0.6745 * (xr - med) / mad
             flat = ~(mad > 0)
@@ -157,11 +161,12 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
                 hist[r, at + 1:i + 1] = hist[r, at:i]
                 hist[r, at] = xr[r]
             continue
-        p = np.count_nonzero(h < xr[:, None], axis=1)
-        col = np.arange(i + 1)
-        grown = np.take_along_axis(hist[:k, :i + 1], np.where(col <= p[:, None], col, col - 1), axis=1)
-        grown[np.arange(k), p] = xr
-        hist[:k, :i + 1] = grown
+        p = np.count_nonzero(h < xr[:, None], axis=1)  # where the value goes in each row
+        block = hist[:k, :i + 1]
+        shifted = np.empty_like(block)
+        shifted[:, 1:] = block[:, :-1]
+        np.copyto(block, shifted, where=np.arange(i + 1) > p[:, None])  # right of p: one place right
+        block[np.arange(k), p] = xr
     return z, med_out
 
 

@@ -21,6 +21,7 @@ from tracescreen.retest.rows import (
     flagged_text,
     limit_label,
     meaning_mask,
+    result_ids,
     retest_rows,
     single_sample_rows,
     ug,
@@ -187,12 +188,18 @@ def near_limit(screening: pd.DataFrame, fraction: float = 0.8) -> pd.DataFrame:
         raise ValueError(f"near-limit fraction must be in (0, 1], got {fraction}")
     site = single_sample_rows(screening)
     key = [c for c in RESULT_KEY if c in site.columns] or None
-    exceeded = site.loc[site["status"].eq("exceeds"), key] if key else None
-    near = site[site["status"].eq("meets")
-                & (site["value_ug_L"] >= fraction * site["limit_ug_L"] * (1 - RTOL))]
-    if key and not near.empty:
-        near = near.merge(exceeded.drop_duplicates(), on=key, how="left", indicator=True)
+    status = site["status"]
+    near = (status.eq("meets") & (site["value_ug_L"] >= fraction * site["limit_ug_L"] * (1 - RTOL))).to_numpy(copy=True)
+    ids = result_ids(site) if key and near.any() else None
+    if ids is not None:  # not a result that exceeds another limit
+        near &= ~np.isin(ids, ids[status.eq("exceeds").to_numpy()])
+        near = site[near].reset_index(drop=True)
+    elif key and near.any():
+        exceeded = site.loc[status.eq("exceeds"), key]
+        near = site[near].merge(exceeded.drop_duplicates(), on=key, how="left", indicator=True)
         near = near[near["_merge"].eq("left_only")].drop(columns="_merge")
+    else:
+        near = site[near]
     if near.empty:
         return empty_retest()
     near = near.assign(_r=near["value_ug_L"] / near["limit_ug_L"])

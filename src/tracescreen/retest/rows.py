@@ -140,10 +140,37 @@ def meaning_mask(col: pd.Series, wanted: set[str]) -> np.ndarray:
 
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
     """One row per accepted result from the screening table (drops the per-limit repetition)."""
-    key = [c for c in RESULT_KEY if c in screening.columns]
+    ids = result_ids(screening)
+    if ids is None:
+        key = [c for c in RESULT_KEY if c in screening.columns]
+        return screening.drop_duplicates(key).reset_index(drop=True) if key else screening.reset_index(drop=True)
+    first = ~pd.Series(ids).duplicated().to_numpy()
+    return (screening if first.all() else screening[first]).reset_index(drop=True)
+
+
+def result_ids(frame: pd.DataFrame) -> np.ndarray | None:
+    """One integer per accepted result (equal :data:`RESULT_KEY` values, equal integers), or None when the
+    frame lacks the key or the integers would not fit: a key that compares, merges and de-duplicates as
+    one int64 column instead of three."""
+    key = [c for c in RESULT_KEY if c in frame.columns]
     if not key:
-        return screening.reset_index(drop=True)
-    return screening.drop_duplicates(key).reset_index(drop=True)
+        return None
+    ids, span = np.zeros(len(frame), dtype=np.int64), 1
+    for c in key:
+        col = frame[c]
+        if isinstance(col.dtype, pd.CategoricalDtype):
+            codes, size = col.cat.codes.to_numpy().astype(np.int64) + 1, len(col.cat.categories) + 1
+        elif col.dtype.kind in "iu" and len(col) and col.min() >= 0:
+            codes = col.to_numpy(dtype=np.int64)
+            size = int(codes.max()) + 1
+        else:
+            codes, uniques = pd.factorize(col, use_na_sentinel=False)
+            codes, size = codes.astype(np.int64), max(len(uniques), 1)
+        span *= size
+        if span >= 2 ** 62:
+            return None
+        ids = ids * size + codes
+    return ids
 
 
 def retest_rows(frame: pd.DataFrame, reason: str, detail) -> pd.DataFrame:

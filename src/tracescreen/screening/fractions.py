@@ -32,19 +32,63 @@ CROSS_NOTES = {
 }
 
 
+def _text_codes(values: pd.Series) -> tuple[np.ndarray, pd.Index]:
+    """Integer codes of a column's text (``str`` of each value; a missing value is a code of its own),
+    and the distinct texts: a categorical is coded through its categories, never row by row."""
+    if not isinstance(values.dtype, pd.CategoricalDtype):
+        codes, uniq = pd.factorize(values.astype(str), use_na_sentinel=False)
+        return codes, pd.Index(uniq, dtype=object)
+    cats = values.cat.categories
+    codes = values.cat.codes.to_numpy().astype(np.int64)
+    if isinstance(cats.dtype, pd.StringDtype) or cats.inferred_type == "string":
+        recode, text = np.arange(len(cats)), pd.Index(np.asarray(cats, dtype=object), dtype=object)
+    else:  # other categories (numbers): distinct values may share a text (1 and "1")
+        recode, text = pd.factorize(pd.Index(cats.astype(str)))
+        text = pd.Index(np.asarray(text, dtype=object), dtype=object)
+    if (codes < 0).any():
+        return np.where(codes < 0, len(text), recode[np.maximum(codes, 0)]), text.append(pd.Index([None], dtype=object))
+    return recode[codes], text
+
+
+def _swap_text(texts) -> list:
+    return [_SWAP.get(t, t) for t in texts]
+
+
 def swapped(results: pd.DataFrame) -> pd.DataFrame:
     """The results with total and dissolved swapped (other fractions kept), to find the entries of
-    the other fraction with :func:`tracescreen.screening.applicability.applicable_pairs`."""
-    frac = results["fraction"].astype(str)
-    return results.assign(fraction=frac.map(_SWAP).fillna(frac).to_numpy(dtype=object))
+    the other fraction with :func:`tracescreen.screening.applicability.applicable_pairs`.
+
+    The swapped fraction is a categorical (a categorical's categories are renamed: no text per row)."""
+    frac = results["fraction"]
+    if isinstance(frac.dtype, pd.CategoricalDtype):
+        recode, text = pd.factorize(pd.Index(frac.cat.categories.astype(str)))
+        codes = frac.cat.codes.to_numpy()
+        new = np.where(codes < 0, -1, recode[codes] if len(recode) else codes)  # missing stays missing
+        return results.assign(fraction=pd.Categorical.from_codes(new, categories=_swap_text(text)))
+    text = frac.astype(str)
+    return results.assign(fraction=pd.Categorical(text.map(_SWAP).fillna(text)))
 
 
 def lacks_other_fraction(results: pd.DataFrame) -> np.ndarray:
-    """True where the same site, sample and analyte has no result of the other fraction."""
-    key = ["site_id", "sample_id", "analyte"]
-    own = pd.MultiIndex.from_frame(results[key + ["fraction"]].astype(str))
-    other = pd.MultiIndex.from_frame(swapped(results)[key + ["fraction"]].astype(str))
-    return ~np.asarray(other.isin(own), dtype=bool)
+    """True where the same site, sample and analyte has no result of the other fraction.
+
+    Compared on integer codes of the texts (one joint code per site, sample, analyte and fraction)."""
+    from tracescreen._internal.coded import joint_codes
+
+    key = [_text_codes(results[c])[0] for c in ("site_id", "sample_id", "analyte")]
+    f_codes, f_text = _text_codes(results["fraction"])
+    other_of = pd.Index(f_text).get_indexer(_swap_text(f_text))  # -1: the other fraction has no result
+    f_other = other_of[f_codes]
+    has_other = f_other >= 0
+    if not has_other.any():
+        return np.ones(len(results), dtype=bool)
+    n_f = len(f_text)
+    joint, _ = joint_codes(*key)
+    own = joint.astype(np.int64) * n_f + f_codes
+    other = joint.astype(np.int64) * n_f + f_other
+    out = np.ones(len(results), dtype=bool)
+    out[has_other] = ~np.isin(other[has_other], own)
+    return out
 
 
 def deciding(status: np.ndarray, entry_fraction: np.ndarray) -> np.ndarray:

@@ -43,7 +43,7 @@ import pandas as pd
 from pandas.api.types import union_categoricals
 
 from tracescreen._internal.coded import combo_text
-from tracescreen._internal.frames import replace_at
+from tracescreen._internal.frames import replace_at, str_array
 from tracescreen.io.units import clean_decimal
 from tracescreen.limits.schema import PERIOD_BASES
 from tracescreen.screening.percentiles import group_percentiles, substitute
@@ -195,11 +195,23 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
         per_row[c] = clean_decimal(per_row[c].to_numpy(dtype=float))
     if not with_table:
         return per_row, None
-    periods = pd.concat([pd.DataFrame(t) for t in tables], ignore_index=True)
+    periods = pd.concat([_frame(t) for t in tables], ignore_index=True)
     periods["period_id"] = np.arange(1, len(periods) + 1)
     for c in ("value_ug_L", "value_nondetects_zero_ug_L", "value_nondetects_at_dl_ug_L", "ratio"):
         periods[c] = clean_decimal(periods[c].to_numpy(dtype=float))
     return per_row, periods[PERIOD_COLUMNS]
+
+
+def _frame(table: dict) -> pd.DataFrame:
+    """A part of the periods table as a DataFrame; its text columns (what pandas would make ``str``)
+    are made ``str`` arrays by Arrow (:func:`~tracescreen._internal.frames.str_array`), not row by row."""
+    n = len(table["n_results"])
+
+    def text(v) -> bool:
+        return isinstance(v, str) or ((isinstance(v, list) or (isinstance(v, np.ndarray) and v.dtype == object))
+                                      and pd.api.types.infer_dtype(v, skipna=True) == "string")
+
+    return pd.DataFrame({k: str_array(v, n) if text(v) else v for k, v in table.items()}, copy=False)
 
 
 def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
