@@ -18,7 +18,7 @@ from tracescreen import pipeline
 from tracescreen.report.formats import SPREADSHEET_ROWS, too_long_for_spreadsheet
 from tracescreen.report.streams import TableStream, write_table
 from tracescreen.screening.wide import limit_keys, result_wide
-from tracescreen.streaming import MemorySink
+from tracescreen.sinks import MemorySink
 
 SORT = {
     "summary": ["site_id", "analyte", "fraction"],
