@@ -79,7 +79,7 @@ def make_dataset(csv: Path, dest: Path, copies: int) -> int:
     import pyarrow as pa
     import pyarrow.dataset as ds
 
-    from tracescreen.io.dataset import SITE_GROUP, arrow_table, group_count, site_groups
+    from tracescreen.io.dataset import ROW_GROUPS, SITE_GROUP, arrow_table, group_count, site_groups
     from tracescreen.io.loading import LoadOptions, load_results
 
     acc = load_results([csv], LoadOptions(default_fraction="total")).accepted
@@ -92,7 +92,7 @@ def make_dataset(csv: Path, dest: Path, copies: int) -> int:
         df["year"] = df["sampled_at"].dt.year.astype("int32")
         ds.write_dataset(arrow_table(df), dest, format="parquet",
                          basename_template=f"part-{k}-{{i}}.parquet", partitioning=part,
-                         existing_data_behavior="overwrite_or_ignore")
+                         existing_data_behavior="overwrite_or_ignore", **ROW_GROUPS)
     return len(acc) * copies
 
 

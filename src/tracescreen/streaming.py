@@ -136,7 +136,8 @@ def run_steps(data, inputs, options, sink, wide: bool = False):
 
     out = pipeline.Results(data.loaded, data.limits, data.sites, data.input_files, options=options)
     if inputs.dataset:
-        run_dataset_parts(inputs.dataset, dataset_context(inputs.dataset, data, options, wide), sink,
+        run_dataset_parts(inputs.dataset, dataset_context(inputs.dataset, data, options, wide,
+                                                          days=getattr(sink, "days", None)), sink,
                           sites_name(inputs.sites))
         return out
     if options.lab_qc is not None:
@@ -230,9 +231,10 @@ def files_context(data, options, wide: bool = False, review=None, calibration=No
                        days=output_days(accepted))
 
 
-def dataset_context(path, data, options, wide: bool = False) -> PartContext:
+def dataset_context(path, data, options, wide: bool = False, days: set[str] | None = None) -> PartContext:
     """The :class:`PartContext` of a run over a results dataset: the dataset's blanks (read with a
-    filter, few rows) for the blank check; no laboratory QC rows (a dataset holds accepted results only)."""
+    filter, few rows) for the blank check; no laboratory QC rows (a dataset holds accepted results only).
+    ``days``: the date columns written as days, when the caller has them (else :func:`dataset_days`)."""
     from tracescreen.io.dataset import read_rows
     from tracescreen.retest.qc_checks import BLANK_TYPES
 
@@ -241,20 +243,24 @@ def dataset_context(path, data, options, wide: bool = False) -> PartContext:
     if options.retest is not None:
         blanks = read_rows(path, "sample_type", BLANK_TYPES)
         blanks = blanks if len(blanks) else None
-    return PartContext(data.limits, data.sites, options, keys=keys, blanks=blanks, days=dataset_days(path))
+    return PartContext(data.limits, data.sites, options, keys=keys, blanks=blanks,
+                       days=dataset_days(path) if days is None else days)
 
 
 def dataset_days(path) -> set[str]:
     """:func:`output_days` of a results dataset, from its sampling and analysis dates alone (two columns read)."""
     import pyarrow.compute as pc
-    import pyarrow.dataset as ds
 
-    table = ds.dataset(path, format="parquet", partitioning="hive").to_table(columns=["sampled_at", "analysed_at"])
-    whole = set()
-    for c in ("sampled_at", "analysed_at"):
-        col = table.column(c).cast(pa_timestamp())
-        if pc.all(pc.equal(pc.floor_temporal(col, unit="day"), col)).as_py() in (True, None):
-            whole.add(c)
+    from tracescreen.io.dataset import scan
+
+    whole = {"sampled_at", "analysed_at"}
+    for table in scan(path, columns=["sampled_at", "analysed_at"]):  # file by file (memory: one file)
+        if not whole:
+            break
+        for c in list(whole):
+            col = table.column(c).cast(pa_timestamp())
+            if pc.all(pc.equal(pc.floor_temporal(col, unit="day"), col)).as_py() is False:
+                whole.discard(c)
     days = set(DAY_COLUMNS)
     if "sampled_at" in whole:
         days |= {"sampled_at", "first_sampled", "last_sampled"}

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import zlib
 from pathlib import Path
+from typing import Iterator
 
 import numpy as np
 import pandas as pd
@@ -32,6 +33,12 @@ GROUP_ROWS = 250_000
 
 class DatasetError(ValueError):
     """A results dataset that cannot be read (the message names the folder and the problem)."""
+
+
+#: Rows per Parquet row group of a dataset file: Arrow's dataset writer otherwise cuts a row group per
+#: input batch and partition (31 groups of about 30 rows in a file of 957), and every row group's
+#: statistics weigh on each reader's memory.
+ROW_GROUPS = {"min_rows_per_group": 1 << 17, "max_rows_per_group": 1 << 20}
 
 
 def site_groups(site_id: pd.Series, n_groups: int) -> np.ndarray:
@@ -116,21 +123,36 @@ def read_part(part, sites: pd.DataFrame | None = None, sites_name: str = "the si
     return acc, rejected.reset_index(drop=True)
 
 
+def files_of(path) -> list[Path]:
+    """The Parquet files of a dataset, in path order."""
+    return sorted(Path(path).rglob("*.parquet"))
+
+
+def scan(path, columns: list[str] | None = None, filters=None) -> Iterator:
+    """Each Parquet file of a dataset as an Arrow table, one file at a time (``pyarrow.parquet.read_table``
+    with ``columns`` and ``filters`` pushed down). A whole-dataset pass never holds every file's footer at
+    once, as a ``pyarrow.dataset`` scan of the whole dataset does (each fragment keeps its metadata: about
+    0.75 MB for a file of 31 row groups; 1.3 GB for a 2.4-million-result dataset of 1,600 files)."""
+    import pyarrow.parquet as pq
+
+    for f in files_of(path):
+        yield pq.read_table(f, columns=columns, filters=filters, partitioning=None)
+
+
 def read_rows(path, column: str, values) -> pd.DataFrame:
     """The results of the whole dataset whose ``column`` is one of ``values`` (e.g. every blank), read
-    with the filter pushed down to the Parquet files."""
-    import pyarrow.compute as pc
-    import pyarrow.dataset as ds
+    file by file with the filter pushed down to the Parquet files (:func:`scan`)."""
+    import pyarrow as pa
 
-    dataset = ds.dataset(Path(path), format="parquet", partitioning="hive")
-    return _accepted(dataset.to_table(filter=pc.field(column).isin(list(values))))
+    tables = list(scan(path, filters=[(column, "in", list(values))]))
+    return _accepted(pa.concat_tables(tables, promote_options="permissive"))
 
 
 def count_rows(path) -> int:
-    """Results in the dataset (from the Parquet footers, nothing read)."""
-    import pyarrow.dataset as ds
+    """Results in the dataset (from the Parquet footers, read one file at a time; no rows read)."""
+    import pyarrow.parquet as pq
 
-    return ds.dataset(Path(path), format="parquet", partitioning="hive").count_rows()
+    return sum(pq.ParquetFile(f).metadata.num_rows for f in files_of(path))
 
 
 def dataset_files(path):
@@ -142,7 +164,7 @@ def dataset_files(path):
     from tracescreen.io.results import LoadResult, empty_accepted
 
     dataset_parts(path)  # checks the folder
-    files = sorted(Path(path).rglob("*.parquet"))
+    files = files_of(path)
     rows = [{"file": str(f.relative_to(path)), "path": str(f), "sheet": "", "sha256": file_sha256(f),
              "rows_read": pq.ParquetFile(f).metadata.num_rows, "blank_rows": 0} for f in files]
     table = pd.DataFrame(rows, columns=["file", "path", "sheet", "sha256", "rows_read", "blank_rows"])
@@ -190,7 +212,7 @@ def write_dataset(results: pd.DataFrame, dest, metadata: dict | None = None, gro
         ds.write_dataset(table, tmp, format="parquet", basename_template="part-{i}.parquet",
                          partitioning=ds.partitioning(pa.schema([(SITE_GROUP, pa.int32()), ("year", pa.int32())]),
                                                       flavor="hive"),
-                         existing_data_behavior="error")
+                         existing_data_behavior="error", **ROW_GROUPS)
         if dest.exists():
             dest.rmdir()
         os.replace(tmp, dest)
