@@ -11,7 +11,8 @@ to every site: no sites file) and times, in the same run, against ``pandas.read_
    goal <= 12x the time of (2), peak <= 2 GB
 5. (``--big``) the same on Dask, a LocalCluster of 2 workers: time and each worker's peak memory
 
-Every measured run is a fresh child process; its peak resident memory is its own ``ru_maxrss``.
+Every measured run is a fresh child process; its peak resident memory is its own ``VmHWM``
+(``tracescreen._internal.memory.peak_memory_mb``: ``ru_maxrss`` would carry over this process's own peak).
 The load average before and after each run is printed (the machine may be shared).
 
     python bench/bench_scale.py [--n 1000000] [--big] [--keep DIR]
@@ -22,7 +23,6 @@ from __future__ import annotations
 import argparse
 import json
 import os
-import resource
 import shutil
 import subprocess
 import sys
@@ -58,8 +58,9 @@ def child(mode: str, args: list[str]) -> None:
         limits = load_limits(sorted((ROOT / "limits").glob("*.yaml")))
         res = load_results([args[0]], LoadOptions(default_fraction="total"))
         write_table(screen(res.accepted, limits, None), Path(args[1]) / "screening.parquet", "parquet")
-    print(json.dumps({"s": time.perf_counter() - t0,
-                      "peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024}))
+    from tracescreen._internal.memory import peak_memory_mb
+
+    print(json.dumps({"s": time.perf_counter() - t0, "peak_mb": peak_memory_mb()}))
 
 
 def measure(mode: str, args: list[str], label: str) -> dict:
@@ -156,7 +157,8 @@ def main() -> None:
 def dask_run(dest: Path, lim: list[str], out: Path, label: str) -> dict:
     """The Dask run in a child process; the workers' peaks come from the run's own summary."""
     code = (
-        "import json,sys,time,resource\n"
+        "import json,sys,time\n"
+        "from tracescreen._internal.memory import peak_memory_mb\n"
         "from tracescreen import pipeline\n"
         "from tracescreen.distributed import run_on_cluster\n"
         "from tracescreen.streaming import dataset_context\n"
@@ -166,7 +168,7 @@ def dask_run(dest: Path, lim: list[str], out: Path, label: str) -> dict:
         "ctx = dataset_context(inputs.dataset, data, pipeline.Options(lab_qc=None), wide=True)\n"
         f"run = run_on_cluster(inputs.dataset, ctx, {str(out)!r}, workers=2)\n"
         "print(json.dumps({'s': time.perf_counter() - t, 'workers': run.workers,"
-        " 'peak_mb': resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024}))\n"
+        " 'peak_mb': peak_memory_mb()}))\n"
     )
     before = os.getloadavg()[0]
     p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT)

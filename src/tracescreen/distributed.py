@@ -22,7 +22,6 @@ References
 
 from __future__ import annotations
 
-import resource
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -37,6 +36,7 @@ def screen_site_group(part: str, group: int, ctx: PartContext, out: str, sites_n
     Returns rows per table, status and retest-reason counts, accepted results and the worker's peak
     memory [MB].
     """
+    from tracescreen._internal.memory import peak_memory_mb
     from tracescreen.report.streams import write_table
     from tracescreen.streaming import dataset_part_tables
 
@@ -53,7 +53,7 @@ def screen_site_group(part: str, group: int, ctx: PartContext, out: str, sites_n
                         days=ctx.days)
     summary["status"] = tables["screening"]["status"].value_counts().to_dict()
     summary["reasons"] = tables["retest"]["reason"].value_counts().to_dict() if "retest" in tables else {}
-    summary["peak_mb"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    summary["peak_mb"] = peak_memory_mb()
     try:
         from distributed import get_worker
 

@@ -35,3 +35,24 @@ def release_unused() -> None:
     trim = _malloc_trim()
     if trim is not None:
         trim(0)
+
+
+def peak_memory_mb() -> float:
+    """This process's own peak resident memory [MB]: ``VmHWM`` of ``/proc/self/status`` on Linux.
+
+    ``getrusage(RUSAGE_SELF).ru_maxrss`` is not this process's own: Linux carries it over fork and exec,
+    so a worker or child started by a process holding 7 GB reports at least 7 GB. Elsewhere (no
+    ``/proc``) ``ru_maxrss`` is what there is (kB on Linux and BSD, bytes on macOS).
+    """
+    try:
+        with open("/proc/self/status", encoding="ascii") as f:
+            for line in f:
+                if line.startswith("VmHWM:"):
+                    return int(line.split()[1]) / 1024
+    except OSError:
+        pass
+    import resource
+    import sys
+
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    return peak / 2**20 if sys.platform == "darwin" else peak / 1024
