@@ -198,8 +198,9 @@ def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
     [IglewiczHoaglin1993]_ (docs/references.md)
     """
     res = site_samples(results_from_screening(results))
-    det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]
-    det = sort_as_text(det, SERIES_KEY + ["sampled_at", "sample_id"]).reset_index(drop=True)
+    keep = (res["detected"].astype(bool) & (res["value_ug_L"] > 0)).to_numpy()
+    used = SERIES_KEY + ["sampled_at", "sample_id", "value_ug_L"] + [c for c in ("lab", "batch") if c in res.columns]
+    det = sort_as_text(res.loc[keep, used], SERIES_KEY + ["sampled_at", "sample_id"]).reset_index(drop=True)
     if len(det) <= min_prior:
         return empty_retest()
     x = np.log(det["value_ug_L"].to_numpy(dtype=float))
