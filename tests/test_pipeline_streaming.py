@@ -18,7 +18,7 @@ from tracescreen import pipeline
 from tracescreen.report.formats import SPREADSHEET_ROWS, too_long_for_spreadsheet
 from tracescreen.report.streams import TableStream, write_table
 from tracescreen.screening.wide import limit_keys, result_wide
-from tracescreen.streaming import MemorySink
+from tracescreen.sinks import MemorySink
 
 SORT = {
     "summary": ["site_id", "analyte", "fraction"],
@@ -190,3 +190,19 @@ def test_memory_sink_restores_input_order():
     sink.add("screening", pd.DataFrame({"v": [2.0, 4.0]}), np.array([1, 3]))
     sink.add("screening", pd.DataFrame({"v": [1.0, 3.0]}), np.array([0, 2]))
     assert sink.table("screening")["v"].tolist() == [1.0, 2.0, 3.0, 4.0]
+
+
+def test_parquet_categoricals_write_the_same_file_whatever_their_categories_dtype(tmp_path):
+    """Categories held by Arrow (pandas' str) or as Python objects give the same Parquet bytes: the
+    dictionary is the categories in their order, unused ones included, missing cells missing."""
+    codes = np.array([2, 0, -1, 2])
+    files = []
+    for dtype in ("str", object):
+        cats = pd.Index(["Zn", "Cu", "Pb", "µg/L"], dtype=dtype)
+        frame = pd.DataFrame({"analyte": pd.Categorical.from_codes(codes, categories=cats), "v": [1.0, 2.0, 3.0, 4.0]})
+        path = tmp_path / f"{dtype}.parquet"
+        with TableStream(path, "parquet") as t:
+            t.write(frame)
+        files.append(path.read_bytes())
+    assert files[0] == files[1]
+    assert pq.read_table(tmp_path / "str.parquet").column("analyte").to_pylist() == ["Pb", "Zn", None, "Pb"]

@@ -242,3 +242,13 @@ def test_a_running_mean_depends_on_its_own_series_only(tmp_path):
     s0 = out[out["site_id"] == "S0"].sort_values("sampled_at")
     # S0: 2019-01-10 is "<?" (no DL): its window has no value; 2020-03-01's window (2019-03-01, 2020-03-01] holds only 2.0
     assert np.isnan(s0["period_value_ug_L"].iloc[0]) and s0["period_value_ug_L"].iloc[1] == pytest.approx(2.0)
+
+
+def test_results_listing_alike_in_blocks_of_any_size(tmp_path, monkeypatch):
+    """The results behind each value (joined block by block by Arrow) read the same whatever the
+    block size, windows of a block boundary included (see SERIES: windows worked by hand above)."""
+    _, whole = raa(tmp_path, "zero")
+    monkeypatch.setattr(periods, "JOIN_WINDOWS", 2)
+    _, blocks = raa(tmp_path, "zero")
+    assert blocks["results"].tolist() == whole["results"].tolist()
+    assert whole["results"].iloc[1] == "S1-0 (2020-01-15): 4.0; S1-1 (2020-04-15): <2.0"

@@ -361,7 +361,7 @@ def _run(inputs: Inputs, options: Options, on_loaded) -> Results:
     data = load(inputs, options.record_run)
     if on_loaded is not None:
         on_loaded(data)
-    from tracescreen.streaming import RESULTS, MemorySink
+    from tracescreen.sinks import RESULTS, MemorySink
 
     out = run_loaded(data, inputs, options, sink := MemorySink())
     for name, table in RESULTS.items():

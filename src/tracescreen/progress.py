@@ -98,6 +98,26 @@ def reporting(callback: Callback | None) -> Iterator[None]:
         _CURRENT.reset(token)
 
 
+@contextmanager
+def shared_between_threads() -> Iterator[None]:
+    """Inside the block, the current callback (if any) takes one step at a time, whichever thread reports:
+    a thread started with the block's context (``contextvars.copy_context``) reports to it safely."""
+    callback = _CURRENT.get()
+    if callback is None:
+        yield
+        return
+    import threading
+
+    lock = threading.Lock()
+
+    def locked(step: Step) -> None:
+        with lock:
+            callback(step)
+
+    with reporting(locked):
+        yield
+
+
 def report(stage: str, done: int | None = 0, total: int | None = None, unit: str = "rows", detail: str = "",
            finished: bool = False) -> None:
     """Tell the current callback how far ``stage`` has got (nothing happens without one)."""

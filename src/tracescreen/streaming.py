@@ -8,10 +8,11 @@ sites at a time (:func:`tracescreen.screening.parts.site_partitions`, about
 :data:`~tracescreen.screening.parts.PART_ROWS` results each), computes every table of that group
 (:func:`part_tables`) and hands the tables to a *sink*, then frees the group's memory:
 
-* :class:`MemorySink` joins the parts into whole tables (the pipeline's :class:`~tracescreen.pipeline.Results`,
-  used by the report and the dashboard; the screening rows in input order);
-* :class:`FileSink` streams each table to its file (:class:`tracescreen.report.streams.TableStream`):
-  peak memory is set by the part size, not by the number of results.
+* :class:`~tracescreen.sinks.MemorySink` joins the parts into whole tables (the pipeline's
+  :class:`~tracescreen.pipeline.Results`, used by the report and the dashboard; the screening rows in input order);
+* :class:`~tracescreen.sinks.FileSink` streams each table to its file (:class:`tracescreen.report.streams.TableStream`)
+  on a background thread while the next part is computed: peak memory is set by the part size, not by the
+  number of results.
 
 Two checks look across sites and are given whole-run inputs: a contaminated blank speaks for every
 sample of its batch, whichever site (the run's blank rows, :func:`blank_rows`, go to every part), and
@@ -26,14 +27,10 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
-import numpy as np
 import pandas as pd
 
 #: Output tables computed per part, in the order they are written.
 PART_TABLES = ("screening", "screening_wide", "periods", "summary", "exceedances", "trends", "retest")
-#: The attributes of :class:`tracescreen.pipeline.Results` that hold part tables, and the tables.
-RESULTS = {"screened": "screening", "periods": "periods", "summary": "summary", "exceedances": "exceedances",
-           "trends": "trends", "retest": "retest"}
 
 
 @dataclass
@@ -156,127 +153,41 @@ def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int 
     result as its position in ``accepted``.
     """
     from tracescreen._internal.memory import release_unused
+    from tracescreen._internal.parallel import BackgroundWork
     from tracescreen.progress import report, reporting
     from tracescreen.screening.parts import PART_ROWS, last_period_id, site_partitions
 
     base, done, total = 0, 0, len(accepted)
     report("screen", 0, total, detail="screening, statistics and retest list, part by part")
-    for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
-        ctx.first_part = k == 0
-        with reporting(_silent):  # the run reports parts, not each part's own steps
-            tables = part_tables(part, ctx, base)
-        done += len(part)
-        report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
-        del part
-        position = positions[tables.pop("position")]
-        base = last_period_id(tables["screening"], base)
-        if "periods" in tables and len(tables["periods"]):
-            base = max(base, int(tables["periods"]["period_id"].max()))
-        for name in PART_TABLES:
-            if name in tables:
-                sink.add(name, tables[name], position if name == "screening" else None)
-        del tables
-        release_unused()
+    with BackgroundWork(getattr(sink, "background", False)) as writes:
+        for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
+            ctx.first_part = k == 0
+            with reporting(_silent):  # the run reports parts, not each part's own steps
+                tables = part_tables(part, ctx, base)
+            done += len(part)
+            report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
+            del part
+            position = positions[tables.pop("position")]
+            base = last_period_id(tables["screening"], base)
+            if "periods" in tables and len(tables["periods"]):
+                base = max(base, int(tables["periods"]["period_id"].max()))
+            writes.submit(_adder(sink, [(name, tables[name], position if name == "screening" else None)
+                                        for name in PART_TABLES if name in tables]))
+            del tables
+            release_unused()
     report("screen", total, total, finished=True)
+
+
+def _adder(sink, tables: list):
+    """A job handing one part's ``(name, frame, position)`` tables to ``sink``, in order."""
+    def add() -> None:
+        for name, frame, position in tables:
+            sink.add(name, frame, position)
+    return add
 
 
 def _silent(step) -> None:
     """A progress callback that shows nothing (the steps inside one part)."""
-
-
-class MemorySink:
-    """Collects the parts of each table and joins them (text stays categorical)."""
-
-    def __init__(self):
-        self.parts: dict[str, list[pd.DataFrame]] = {}
-        self.positions: list[np.ndarray] = []
-
-    def add(self, name: str, frame: pd.DataFrame, position: np.ndarray | None = None) -> None:
-        """Keep one part of table ``name``."""
-        if name == "screening":
-            self.positions.append(np.arange(len(frame)) if position is None else position)
-        self.parts.setdefault(name, []).append(frame)
-
-    def table(self, name: str) -> pd.DataFrame | None:
-        """Table ``name`` whole (None when no part had it); the screening rows in input order."""
-        from tracescreen.screening.parts import join_frames
-
-        parts = self.parts.pop(name, None)
-        if parts is None:
-            return None
-        if len(parts) > 1:
-            kept = [p for p in parts if len(p)] or parts[:1]
-            joined = join_frames(kept, consume=True)
-        else:
-            joined = parts[0]
-        if name == "screening" and len(self.positions) > 1:
-            position = np.concatenate(self.positions)
-            if not (np.diff(position) >= 0).all():
-                joined = joined.iloc[np.argsort(position, kind="stable")].reset_index(drop=True)
-        if name == "retest" and len(parts) > 1:
-            from tracescreen.retest.listing import sort_retest
-
-            joined = sort_retest(joined)
-        return joined
-
-
-class FileSink:
-    """Streams each table to ``out/<table>.<fmt>`` as its parts come (:class:`~tracescreen.report.streams.TableStream`).
-
-    Keeps only what the command prints: the status counts of the screening rows and the retest
-    reasons' counts.
-
-    Parameters
-    ----------
-    out : path
-        Output folder.
-    fmt : str
-        ``csv``, ``parquet`` or ``xlsx``.
-    days : set of str, optional
-        Date columns written as days (the others with their time); default: decided per table from its first part.
-    names : dict, optional
-        File stem of each table (default: the table's name).
-    path_for : callable, optional
-        ``path_for(table, file_name)``: where a table's file is written (default: ``out/file_name``); an
-        :class:`~tracescreen.report.output_folder.OutputFolder`'s ``reserve`` stages it with the run's other outputs.
-    """
-
-    def __init__(self, out, fmt: str, days: set[str] | None = None, names: dict | None = None, path_for=None):
-        from pathlib import Path
-
-        self.out, self.fmt, self.days = Path(out), fmt, days
-        self.names = names or {}
-        self.path_for = path_for or (lambda name, filename: self.out / filename)
-        self.streams: dict[str, Any] = {}
-        self.status_counts = pd.Series(dtype="int64")
-        self.reason_counts = pd.Series(dtype="int64")
-
-    def add(self, name: str, frame: pd.DataFrame, position: np.ndarray | None = None) -> None:
-        """Append one part of table ``name`` to its file (``position`` is not needed: parts are written as they come)."""
-        from tracescreen.report.formats import file_name
-        from tracescreen.report.streams import TableStream
-
-        if name not in self.streams:
-            stem = self.names.get(name, name)
-            self.streams[name] = TableStream(self.path_for(name, file_name(stem, self.fmt)), self.fmt, name=stem,
-                                             days=self.days)
-        self.streams[name].write(frame)
-        if name == "screening":
-            self.status_counts = self.status_counts.add(frame["status"].value_counts(), fill_value=0)
-        elif name == "retest":
-            self.reason_counts = self.reason_counts.add(frame["reason"].value_counts(sort=False), fill_value=0)
-
-    def close(self) -> dict:
-        """Finish every file; returns the closed streams by table (``path``, ``rows``, ``warning``)."""
-        for s in self.streams.values():
-            s.close()
-        return self.streams
-
-    def abort(self) -> None:
-        """Remove every unfinished file (after an error)."""
-        for s in self.streams.values():
-            s.abort()
-
 
 
 #: Period ids of a site group of a dataset start at group x this (a group numbers its periods without
@@ -361,23 +272,24 @@ def run_dataset_parts(path, ctx: PartContext, sink, sites_name: str = "the sites
     """:func:`run_in_parts` over the site groups of a results dataset, read one at a time; returns the
     number of results accepted. ``sink`` also receives each group's ``rejected`` rows."""
     from tracescreen._internal.memory import release_unused
+    from tracescreen._internal.parallel import BackgroundWork
     from tracescreen.io.dataset import dataset_parts, group_of
     from tracescreen.progress import report, reporting
 
     accepted, parts = 0, dataset_parts(path)
     report("screen", 0, len(parts), unit="site groups")
-    for k, part in enumerate(parts):
-        ctx.first_part = k == 0
-        with reporting(_silent):
-            tables = dataset_part_tables(part, group_of(part), ctx, sites_name)
-        report("screen", k + 1, len(parts), unit="site groups", detail=part.name, finished=k + 1 == len(parts))
-        accepted += tables.pop("accepted")
-        tables.pop("position")
-        for name in PART_TABLES + ("rejected",):
-            if name in tables and (len(tables[name]) or name != "rejected"):
-                sink.add(name, tables[name], None)
-        del tables
-        release_unused()
+    with BackgroundWork(getattr(sink, "background", False)) as writes:
+        for k, part in enumerate(parts):
+            ctx.first_part = k == 0
+            with reporting(_silent):
+                tables = dataset_part_tables(part, group_of(part), ctx, sites_name)
+            report("screen", k + 1, len(parts), unit="site groups", detail=part.name, finished=k + 1 == len(parts))
+            accepted += tables.pop("accepted")
+            tables.pop("position")
+            writes.submit(_adder(sink, [(name, tables[name], None) for name in PART_TABLES + ("rejected",)
+                                        if name in tables and (len(tables[name]) or name != "rejected")]))
+            del tables
+            release_unused()
     return accepted
 
 

@@ -57,7 +57,8 @@ def register(sub) -> None:
 def run(args) -> int:
     from tracescreen import pipeline
     from tracescreen.screening.parts import STREAM_PART_ROWS
-    from tracescreen.streaming import FileSink, dataset_days, output_days
+    from tracescreen.sinks import FileSink
+    from tracescreen.streaming import dataset_days, output_days
 
     if args.guard_band is not None and not args.guard_band >= 0:
         raise UserError(f"--guard-band {args.guard_band}: needs a number >= 0")

@@ -158,7 +158,9 @@ def read_csv(data: bytes, name: str, path: str, opts: LoadOptions) -> RawTable:
             convert_options=pacsv.ConvertOptions(column_types={c: pa.string() for c in headers},
                                                  strings_can_be_null=False, quoted_strings_can_be_null=False),
         )
-        one_line_each = table.num_rows + h + 1 == _line_count(body) and not _has_line_breaks(table)
+        # a line feed inside a cell adds a line without a row, so equal counts rule it out; a lone
+        # carriage return inside a cell is looked for only in a file that has one at all
+        one_line_each = table.num_rows + h + 1 == _line_count(body) and not (b"\r" in body and _has_line_breaks(table))
     except pa.ArrowInvalid:
         table, one_line_each = None, False
     if invalid or not one_line_each:

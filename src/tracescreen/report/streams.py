@@ -69,7 +69,13 @@ def _text_array(values: pd.Series) -> pa.Array:
     """A text (or categorical) column as ``dictionary<int32, string>``; missing values stay missing."""
     if isinstance(values.dtype, pd.CategoricalDtype):
         cats = values.cat.categories
-        dictionary = pa.array(np.asarray(cats.astype(str), dtype=object), type=pa.string())
+        if isinstance(cats.dtype, pd.StringDtype) and cats.dtype.storage == "pyarrow":
+            dictionary = pa.array(cats.array)  # Arrow-backed categories are taken as they are
+            if isinstance(dictionary, pa.ChunkedArray):
+                dictionary = dictionary.combine_chunks()
+            dictionary = dictionary.cast(pa.string())
+        else:
+            dictionary = pa.array(np.asarray(cats.astype(str), dtype=object), type=pa.string())
         codes = values.cat.codes.to_numpy().astype(np.int32)
         return pa.DictionaryArray.from_arrays(pa.array(codes, mask=codes < 0), dictionary)
     if isinstance(values.dtype, pd.StringDtype) and values.dtype.storage == "pyarrow":
