@@ -77,3 +77,19 @@ def test_expanding_modified_z_equals_direct_definition():
             ref = modified_z_score(x[r:r + 1], hist[None, :])[0]
             assert med[r] == np.median(hist)
             assert (np.isnan(ref) and np.isnan(z[r])) or z[r] == pytest.approx(ref, rel=1e-12)
+
+
+def test_expanding_modified_z_in_groups_of_series_equals_one_pass(monkeypatch):
+    """Series taken a few at a time (a small HISTORY_CELLS, as for one very long series among many short
+    ones) give the same scores as all series at once (checked against the definition above)."""
+    from tracescreen.retest import outliers
+
+    rng = np.random.default_rng(11)
+    lens = np.array([120, 3, 40, 40, 9, 1, 70, 25, 25, 25, 2, 60])
+    pos = np.concatenate([np.arange(n) for n in lens])
+    x = np.log(np.round(rng.lognormal(0, 1, len(pos)), 2) + 0.01)
+    whole = outliers.expanding_modified_z(x, pos, 8)
+    monkeypatch.setattr(outliers, "HISTORY_CELLS", 130)  # the 120-long series alone, then groups of the rest
+    grouped = outliers.expanding_modified_z(x, pos, 8)
+    np.testing.assert_array_equal(grouped[0], whole[0])
+    np.testing.assert_array_equal(grouped[1], whole[1])

@@ -130,7 +130,24 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
     length = np.diff(np.append(firsts, n))
     by_length = np.argsort(-length, kind="stable")  # longest first: the live series are a prefix
     firsts, length = firsts[by_length], length[by_length]
-    hist = np.full((len(firsts), int(length.max())), np.inf)  # each series' sorted history, +inf after
+    start = 0
+    while start < len(firsts):  # groups of series whose sorted histories fit HISTORY_CELLS
+        stop = start + max(1, HISTORY_CELLS // int(length[start]))
+        _expanding_group(x, firsts[start:stop], length[start:stop], min_prior, z, med_out)
+        start = stop
+    return z, med_out
+
+
+#: Cells (float64) of the sorted histories held at once by :func:`expanding_modified_z` (32 MiB): the
+#: series are taken in groups of that size, longest first, so one very long series among many short
+#: ones does not make a series-by-length array of them all.
+HISTORY_CELLS = 1 << 22
+
+
+def _expanding_group(x, firsts, length, min_prior, z, med_out) -> None:
+    """:func:`expanding_modified_z` of the series starting at ``firsts`` (lengths ``length``, longest
+    first), written into ``z`` and ``med_out``."""
+    hist = np.full((len(firsts), int(length[0])), np.inf)  # each series' sorted history, +inf after
     for i in range(hist.shape[1]):  # step i: the value at place i of every series long enough
         k = int(np.count_nonzero(length > i))
         rows = firsts[:k] + i
@@ -167,7 +184,6 @@ def expanding_modified_z(x: np.ndarray, pos: np.ndarray, min_prior: int) -> tupl
         shifted[:, 1:] = block[:, :-1]
         np.copyto(block, shifted, where=np.arange(i + 1) > p[:, None])  # right of p: one place right
         block[np.arange(k), p] = xr
-    return z, med_out
 
 
 def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
@@ -198,8 +214,9 @@ def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
     [IglewiczHoaglin1993]_ (docs/references.md)
     """
     res = site_samples(results_from_screening(results))
-    det = res[res["detected"].astype(bool) & (res["value_ug_L"] > 0)]
-    det = sort_as_text(det, SERIES_KEY + ["sampled_at", "sample_id"]).reset_index(drop=True)
+    keep = (res["detected"].astype(bool) & (res["value_ug_L"] > 0)).to_numpy()
+    used = SERIES_KEY + ["sampled_at", "sample_id", "value_ug_L"] + [c for c in ("lab", "batch") if c in res.columns]
+    det = sort_as_text(res.loc[keep, used], SERIES_KEY + ["sampled_at", "sample_id"]).reset_index(drop=True)
     if len(det) <= min_prior:
         return empty_retest()
     x = np.log(det["value_ug_L"].to_numpy(dtype=float))

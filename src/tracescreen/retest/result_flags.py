@@ -60,7 +60,11 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
         [c for c in RESULT_KEY if c in exc.columns] or None)
 
     # sampling dates of each series, ranked; exceedance dates and the previous one
-    dates = site[SERIES_KEY + ["sampled_at"]].drop_duplicates().sort_values(SERIES_KEY + ["sampled_at"])
+    dates = site[SERIES_KEY + ["sampled_at"]]
+    ids = result_ids(site)
+    if ids is not None:  # one row per result first (a result's rows share its series and date): fewer rows to compare
+        dates = dates[~pd.Series(ids).duplicated().to_numpy()]
+    dates = dates.drop_duplicates().sort_values(SERIES_KEY + ["sampled_at"])
     dates["_rank"] = dates.groupby(SERIES_KEY, sort=False).cumcount()
     events = exc[SERIES_KEY + ["sampled_at"]].drop_duplicates().merge(dates, on=SERIES_KEY + ["sampled_at"])
     events = events.sort_values(SERIES_KEY + ["sampled_at"])
