@@ -8,12 +8,14 @@ instead of the files changes nothing either).
 
 from __future__ import annotations
 
+from unittest import mock
+
 import numpy as np
 import pandas as pd
 import pytest
 from conftest import demo_args, demo_inputs
 
-from tracescreen import pipeline
+from tracescreen import pipeline, streaming
 from tracescreen.cli import main
 from tracescreen.io.dataset import dataset_parts, read_part, site_groups, write_dataset
 
@@ -148,3 +150,32 @@ def test_dataset_files_are_few_row_groups_and_whole_dataset_passes_read_file_by_
     expected = many[many["sample_type"].astype(str).isin(["field_blank", "lab_blank"])]
     assert len(blanks) == len(expected) and len(expected) > 0
     assert sorted(blanks["sample_id"].astype(str)) == sorted(expected["sample_id"].astype(str))
+
+
+def test_a_large_site_group_is_screened_in_parts_of_whole_sites(demo_dataset, tmp_path):
+    """A dataset written as one site group (any writer may do so) is screened in parts of whole sites of
+    about part_rows results, so that memory follows the part, not the group: the tables equal the run of
+    the same group in one part (periods renumbered, so compared without their ids)."""
+    import dataclasses
+
+    from tracescreen.io.dataset import dataset_parts
+
+    _, data = demo_dataset
+    dest = tmp_path / "one_group"
+    write_dataset(data.loaded.accepted, dest, group_rows=10**9)
+    assert len(dataset_parts(dest)) == 1
+    inputs = dataclasses.replace(demo_inputs(), results=(), reading=None, dataset=dest)
+    whole = pipeline.run(inputs, pipeline.Options(part_rows=10**9, lab_qc=None))
+    with mock.patch.object(streaming, "part_tables", wraps=streaming.part_tables) as spy:
+        parts = pipeline.run(inputs, pipeline.Options(part_rows=1500, lab_qc=None))
+    assert spy.call_count >= 3  # the one group was screened in parts
+    assert max(len(c.args[0]) for c in spy.call_args_list) < len(data.loaded.accepted) / 2
+    assert data.loaded.accepted["site_id"].nunique() > 3  # several parts of whole sites
+    for attr, keys in (("screened", SORTS["screening"]), ("summary", SORTS["summary"]), ("trends", SORTS["trends"]),
+                       ("retest", SORTS["retest"])):
+        a, b = (getattr(r, attr).astype({c: object for c, t in getattr(r, attr).dtypes.items()
+                                          if isinstance(t, pd.CategoricalDtype)}) for r in (whole, parts))
+        cols = [c for c in a.columns if c != "period_id"]
+        pd.testing.assert_frame_equal(_sorted(a[cols], keys), _sorted(b[cols], keys), check_dtype=False,
+                                      check_column_type=False, obj=attr)
+    assert len(parts.periods) == len(whole.periods) > 0

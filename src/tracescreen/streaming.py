@@ -138,7 +138,7 @@ def run_steps(data, inputs, options, sink, wide: bool = False):
     if inputs.dataset:
         run_dataset_parts(inputs.dataset, dataset_context(inputs.dataset, data, options, wide,
                                                           days=getattr(sink, "days", None)), sink,
-                          sites_name(inputs.sites))
+                          sites_name(inputs.sites), options.part_rows)
         return out
     if options.lab_qc is not None:
         out.lab_qc, out.calibration = pipeline.lab_qc(data, inputs, options.lab_qc)
@@ -155,28 +155,37 @@ def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int 
     """
     from tracescreen._internal.memory import release_unused
     from tracescreen._internal.parallel import BackgroundWork
-    from tracescreen.progress import report, reporting
-    from tracescreen.screening.parts import PART_ROWS, last_period_id, site_partitions
+    from tracescreen.progress import report
 
-    base, done, total = 0, 0, len(accepted)
+    done, total = 0, len(accepted)
     report("screen", 0, total, detail="screening, statistics and retest list, part by part")
     with BackgroundWork(getattr(sink, "background", False)) as writes:
-        for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
-            ctx.first_part = k == 0
-            with reporting(_silent):  # the run reports parts, not each part's own steps
-                tables = part_tables(part, ctx, base)
-            done += len(part)
+        for k, (positions, tables) in enumerate(_parts(accepted, ctx, part_rows, 0, True)):
+            done += len(positions)
             report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
-            del part
             position = positions[tables.pop("position")]
-            base = last_period_id(tables["screening"], base)
-            if "periods" in tables and len(tables["periods"]):
-                base = max(base, int(tables["periods"]["period_id"].max()))
             writes.submit(_adder(sink, [(name, tables[name], position if name == "screening" else None)
                                         for name in PART_TABLES if name in tables]))
             del tables
             release_unused()
     report("screen", total, total, finished=True)
+
+
+def _parts(accepted: pd.DataFrame, ctx: PartContext, part_rows: int | None, base: int, first: bool):
+    """Each part of whole sites of ``accepted`` (positions in it) with its tables (:func:`part_tables`);
+    period ids numbered on from ``base``; ``first``: the run's first part is among them."""
+    from tracescreen.progress import reporting
+    from tracescreen.screening.parts import PART_ROWS, last_period_id, site_partitions
+
+    for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
+        ctx.first_part = first and k == 0
+        with reporting(_silent):  # the run reports parts, not each part's own steps
+            tables = part_tables(part, ctx, base)
+        del part
+        base = last_period_id(tables["screening"], base)
+        if "periods" in tables and len(tables["periods"]):
+            base = max(base, int(tables["periods"]["period_id"].max()))
+        yield positions, tables
 
 
 def _adder(sink, tables: list):
@@ -274,28 +283,32 @@ def pa_timestamp():
     return pa.timestamp("ms")
 
 
-def run_dataset_parts(path, ctx: PartContext, sink, sites_name: str = "the sites file") -> int:
-    """:func:`run_in_parts` over the site groups of a results dataset, read one at a time; returns the
-    number of results accepted. ``sink`` also receives each group's ``rejected`` rows."""
+def run_dataset_parts(path, ctx: PartContext, sink, sites_name: str = "the sites file",
+                      part_rows: int | None = None) -> int:
+    """:func:`run_in_parts` over the site groups of a results dataset, read one at a time, each in parts of
+    whole sites of about ``part_rows`` results (a group written with many results stays within the
+    memory of one part); returns the number of results accepted. ``sink`` also receives each group's
+    ``rejected`` rows."""
     from tracescreen._internal.memory import release_unused
     from tracescreen._internal.parallel import BackgroundWork
-    from tracescreen.io.dataset import dataset_parts, group_of
-    from tracescreen.progress import report, reporting
+    from tracescreen.io.dataset import dataset_parts, group_of, read_part
+    from tracescreen.progress import report
 
     accepted, parts = 0, dataset_parts(path)
     report("screen", 0, len(parts), unit="site groups")
     with BackgroundWork(getattr(sink, "background", False)) as writes:
         for k, part in enumerate(parts):
-            ctx.first_part = k == 0
-            with reporting(_silent):
-                tables = dataset_part_tables(part, group_of(part), ctx, sites_name)
+            rows, rejected = read_part(part, ctx.sites, sites_name)
+            accepted += len(rows)
+            if len(rejected):
+                writes.submit(_adder(sink, [("rejected", rejected, None)]))
+            for _, tables in _parts(rows, ctx, part_rows, group_of(part) * GROUP_STRIDE, k == 0):
+                tables.pop("position")
+                writes.submit(_adder(sink, [(name, tables[name], None) for name in PART_TABLES if name in tables]))
+                del tables
+                release_unused()
+            del rows
             report("screen", k + 1, len(parts), unit="site groups", detail=part.name, finished=k + 1 == len(parts))
-            accepted += tables.pop("accepted")
-            tables.pop("position")
-            writes.submit(_adder(sink, [(name, tables[name], None) for name in PART_TABLES + ("rejected",)
-                                        if name in tables and (len(tables[name]) or name != "rejected")]))
-            del tables
-            release_unused()
     return accepted
 
 
