@@ -90,3 +90,14 @@ def test_query_rows_and_records(rows):
     records = block_records(got.head(3), ["site_id", "sampled_at", "ratio", "status"], {"status": STATUS_DISPLAY})
     assert records[0]["status"] == vocabulary.LABEL[records[0]["status_code"]]
     assert len(records[0]["sampled_at"]) == 10 and isinstance(records[0]["ratio"], float)
+
+
+def test_a_missing_date_does_not_give_whole_days_a_time_of_day():
+    """A date column of whole days with a blank (a trend that never reaches its limit) shows days; a NaT's
+    hour is NaN, which compared unequal to 0 and put ' 00:00' after every date of the Trends page
+    (ISO 8601 calendar dates; common practice: no time where none was measured)."""
+    days = pd.Series(pd.to_datetime(["2029-10-25", None, "2058-04-14"]))
+    records = block_records(pd.DataFrame({"crosses_limit_on": days}), ["crosses_limit_on"])
+    assert records[0]["crosses_limit_on"] == "2029-10-25" and records[1]["crosses_limit_on"] == ""
+    timed = pd.Series(pd.to_datetime(["2024-05-01 09:30", None]))
+    assert block_records(pd.DataFrame({"t": timed}), ["t"])[0]["t"] == "2024-05-01 09:30"

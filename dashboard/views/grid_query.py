@@ -265,7 +265,7 @@ def block_records(frame: pd.DataFrame, columns: list[str], displays: dict | None
             continue
         s = frame[c]
         if pd.api.types.is_datetime64_any_dtype(s.dtype):
-            has_time = bool(((s.dt.hour != 0) | (s.dt.minute != 0)).any())
+            has_time = bool((s.notna() & ((s.dt.hour != 0) | (s.dt.minute != 0))).any())  # a NaT's hour is NaN
             text = s.dt.strftime("%Y-%m-%d %H:%M" if has_time else "%Y-%m-%d")
             out[c] = text.where(s.notna(), "").tolist()
         elif pd.api.types.is_bool_dtype(s.dtype):
