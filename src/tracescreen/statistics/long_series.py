@@ -160,21 +160,22 @@ def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.nd
     not_later = _by_group_counts(grp, tr, tr, "right")
     above = n_in - _by_group_counts(grp, lo, hi, "right")  # values whose lower end is above my upper end
     below = _by_group_counts(grp, hi, lo, "left")  # values whose upper end is below my lower end
+
     def by_group(w):
         return np.bincount(grp, weights=w.astype(float), minlength=n_grp)
-    sa2, sb2 = by_group((n_in - not_later) + earlier), by_group(above + below)
-    ra, rb = by_group(((n_in - not_later) - earlier).astype(float) ** 2), by_group((above - below).astype(float) ** 2)
+    later = n_in - not_later
+    sa2, sb2 = by_group(later + earlier), by_group(above + below)
+    ra, rb = by_group((later - earlier).astype(float) ** 2), by_group((above - below).astype(float) ** 2)
     n = size.astype(float)
     with np.errstate(invalid="ignore", divide="ignore"):
         one = np.where(n > 1, 2.0 / (n * (n - 1)) * sa2 * sb2, 0.0)
         two = np.where(n > 2, 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2), 0.0)
-    order = np.lexsort((y, grp))  # Kendall's ties: runs of equal values in a season
-    gs, ys = grp[order], y[order]
-    run = np.ones(y.size, bool)
-    run[1:] = (gs[1:] != gs[:-1]) | (ys[1:] != ys[:-1])
-    starts = np.flatnonzero(run)
-    length = np.diff(np.append(starts, y.size)).astype(float)
-    ties = np.bincount(gs[starts], weights=length * (length - 1) * (2 * length + 5), minlength=n_grp)
+    # Kendall's ties: values equal within a season (one dense rank within the season)
+    yr = ranks_within(grp, y)
+    width = int(yr.max()) + 1
+    run, length = np.unique(grp * width + yr, return_counts=True)
+    length = length.astype(float)
+    ties = np.bincount(run // width, weights=length * (length - 1) * (2 * length + 5), minlength=n_grp)
 
     def per_code(w):
         return np.bincount(code_of, weights=w, minlength=n_codes)

@@ -111,12 +111,8 @@ def _slope_rows(t, y, nd, valid, season, c, force_ats=False):
         both = pairs_of(d_, i) & det_j & u  # detect/detect pairs count twice in S(beta) (see _ats_ranks)
         n_dd = np.count_nonzero(both, axis=1)
         n_nd_d = np.count_nonzero(u & det_j, axis=1) - n_dd  # non-detect then detect
-        multiset = np.empty((sl.shape[0], 2 * sl.shape[1]))
-        multiset[:, :sl.shape[1]] = sl
-        twice = multiset[:, sl.shape[1]:]
-        twice[...] = sl
-        twice[~both] = np.nan
-        ats = _select(multiset, *_ats_ranks(n_dd, n_nd_d, n_pairs[ats_rows], c[ats_rows]))
+        ats = _select(np.concatenate([sl, np.where(both, sl, np.nan)], axis=1),
+                      *_ats_ranks(n_dd, n_nd_d, n_pairs[ats_rows], c[ats_rows]))
         slope[ats_rows], low[ats_rows], high[ats_rows] = (ats[:, 0] + ats[:, 1]) / 2.0, ats[:, 2], ats[:, 3]
     none = n_pairs == 0
     slope[none] = low[none] = high[none] = np.nan
