@@ -339,3 +339,42 @@ def test_all_tied_series_gives_no_trend_like_pymannkendall():
     row = trends.trend_table(data, seasonal="never").iloc[0]
     assert (row["z"], row["p_value"], row["direction"]) == (0, 1, "no_trend")
     assert "all values tied" in row["note"]
+
+
+def _brute_seasonal_sen(t, y, season):
+    """Median of the within-season pairwise slopes, later minus earlier, pairs tied in time left out
+    (the seasonal Sen slope by its definition, Hirsch, Slack & Smith 1982; Sen 1968)."""
+    slopes = [(y[b] - y[a]) / (t[b] - t[a]) for a, b in itertools.permutations(range(t.size), 2)
+              if season[a] == season[b] and t[b] > t[a]]
+    return np.median(slopes) if slopes else np.nan
+
+
+@settings(max_examples=40, deadline=None, derandomize=True)
+@given(st.integers(0, 2**31 - 1), st.integers(1, 7))
+def test_many_seasonal_series_at_once_equal_each_series_alone(seed, n_series):
+    """Ragged series of 1, 4 or 12 seasons, unsorted, with tied times and non-detects, slopes of all at once
+    (pairs built within a season's block of each row) equal: the brute-force seasonal Sen median (exact) for
+    series without non-detects, and the counting path of long series (long_series, to its SLOPE_RTOL) for
+    the Akritas-Theil-Sen slope, interval and intercept of series with non-detects."""
+    rng = np.random.default_rng(seed)
+    n = 150
+    codes = rng.integers(0, n_series, n)
+    periods = rng.choice([1, 4, 12], n_series)
+    t = 2000 + rng.integers(0, 60, n) / 12.0  # monthly dates, some repeated
+    month = np.round((t % 1) * 12).astype(int) % 12
+    season = np.select([periods[codes] == 12, periods[codes] == 4], [month, month // 3], 0)
+    y = np.round(rng.lognormal(0, 0.7, n) + 0.05 * (t - 2000), 1)
+    nd = (rng.random(n) < 0.25) & (codes % 2 == 1)  # odd series censored, even ones not
+    got = mann_kendall.mann_kendall_grouped(t, y, nd, codes, n_series, seasons=season)
+    for k in range(n_series):
+        at = np.flatnonzero(codes == k)
+        if at.size == 0:
+            continue
+        at = at[np.argsort(t[at], kind="stable")]
+        if not nd[at].any():
+            assert got["slope_per_year"][k] == pytest.approx(_brute_seasonal_sen(t[at], y[at], season[at]),
+                                                             rel=1e-12, abs=1e-12, nan_ok=True)
+            continue
+        ref = mann_kendall._long_trend_row(t[at], y[at], nd[at], season[at], stats.norm.ppf(0.975) * np.sqrt(got["var_s"][k]))
+        for col in ("slope_per_year", "slope_low", "slope_high", "intercept"):
+            assert_allclose(got[col][k], ref[col], rtol=1e-7, atol=1e-9, err_msg=col)

@@ -118,12 +118,18 @@ def _interval_keys(y: np.ndarray, nd: np.ndarray) -> tuple[np.ndarray, np.ndarra
     return hi, lo
 
 
-def _by_group_counts(group: np.ndarray, key: np.ndarray, query: np.ndarray, side: str) -> np.ndarray:
-    """For each element, how many elements of its group have ``key`` < (``side='left'``) or <= its ``query``."""
-    width = int(max(key.max(), query.max())) + 2
-    keys = np.sort(group * width + key)
-    start = np.searchsorted(keys, group * width, "left")
-    return np.searchsorted(keys, group * width + query, side) - start
+def _below_counts(group: np.ndarray, key: np.ndarray, query: np.ndarray, n_groups: int, inclusive: bool) -> np.ndarray:
+    """For each element, how many elements of its group have ``key`` < its ``query`` (<= when ``inclusive``).
+
+    ``key`` and ``query`` are small non-negative integers within each group (e.g. dense ranks within the
+    group): one histogram of the keys of every group and its running sum, O(n + sum of the groups'
+    largest keys); no sort.
+    """
+    top = ranks_top(np.maximum(key, query), group, n_groups)
+    offset = np.concatenate(([0], np.cumsum(top + 2)))  # each group's cells: keys 0 .. top, then one more
+    at = offset[group]
+    running = np.concatenate(([0], np.cumsum(np.bincount(at + key, minlength=int(offset[-1])))))
+    return running[at + query + int(inclusive)] - running[at]
 
 
 def kendall_s_var(t: np.ndarray, y: np.ndarray, nd: np.ndarray, season: np.ndarray) -> tuple[float, float, float]:
@@ -155,11 +161,14 @@ def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.nd
     s = pair_counts(tr, grp, hi, lo, n_grp) - pair_counts(tr, grp, -lo, -hi, n_grp)
     size = np.bincount(grp, minlength=n_grp)
     n_in = size[grp]
-    # A (time): later minus earlier values of the same season; B (value): above minus below
-    earlier = _by_group_counts(grp, tr, tr, "left")
-    not_later = _by_group_counts(grp, tr, tr, "right")
-    above = n_in - _by_group_counts(grp, lo, hi, "right")  # values whose lower end is above my upper end
-    below = _by_group_counts(grp, hi, lo, "left")  # values whose upper end is below my lower end
+    # A (time): later minus earlier values of the same season; B (value): above minus below, on the
+    # interval ends re-ranked within the season (the same order within it: the same counts)
+    yr = ranks_within(grp, y)
+    hi_in, lo_in = 2 * yr + 1 - nd.astype(np.int64), np.where(nd, 0, 2 * yr + 1)
+    earlier = _below_counts(grp, tr, tr, n_grp, False)
+    not_later = _below_counts(grp, tr, tr, n_grp, True)
+    above = n_in - _below_counts(grp, lo_in, hi_in, n_grp, True)  # values whose lower end is above my upper end
+    below = _below_counts(grp, hi_in, lo_in, n_grp, False)  # values whose upper end is below my lower end
 
     def by_group(w):
         return np.bincount(grp, weights=w.astype(float), minlength=n_grp)
@@ -171,7 +180,6 @@ def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.nd
         one = np.where(n > 1, 2.0 / (n * (n - 1)) * sa2 * sb2, 0.0)
         two = np.where(n > 2, 4.0 / (n * (n - 1) * (n - 2)) * (ra - sa2) * (rb - sb2), 0.0)
     # Kendall's ties: values equal within a season (one dense rank within the season)
-    yr = ranks_within(grp, y)
     width = int(yr.max()) + 1
     run, length = np.unique(grp * width + yr, return_counts=True)
     length = length.astype(float)

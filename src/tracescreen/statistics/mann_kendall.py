@@ -2,9 +2,11 @@
 
 S and Var(S) of all series come at once from counts, without the pairs
 (:func:`tracescreen.statistics.long_series.kendall_grouped`, O(n log n)). The slopes are order
-statistics of the pairwise slopes: those are computed on padded (series x values x values) arrays
-(:func:`tracescreen.statistics.series.chunks` packs series in buckets of similar length); series
-longer than :data:`tracescreen.statistics.long_series.LONG_SERIES` find them by counting instead.
+statistics of the pairwise slopes: those are computed on padded arrays of the pairs of each series
+(:func:`tracescreen.statistics.series.chunks` packs series in buckets of similar length; a seasonal
+series' row holds one block per season and only pairs within a block are formed, so 12 seasons cost
+about 1/12 of the pairs); series longer than :data:`tracescreen.statistics.long_series.LONG_SERIES`
+find them by counting instead.
 
 * Kendall's S counts concordant minus discordant pairs in time order. A pair whose order is
   uncertain because of a non-detect (non-detect vs non-detect, or a non-detect vs a detect below
@@ -58,25 +60,23 @@ def _pick(sorted_vals, k):
     return np.take_along_axis(sorted_vals, k[:, None], axis=1)[:, 0]
 
 
-def _slope_rows(t, y, nd, valid, season, c, force_ats=False):
-    """Sen / Akritas-Theil-Sen slope, interval and intercept for each row of padded arrays sorted by time.
+def _slope_rows(t, y, nd, valid, pairs, c, force_ats=False):
+    """Sen / Akritas-Theil-Sen slope, interval and intercept for each row of padded arrays.
 
-    ``c`` is each row's z_crit * sqrt(Var(S)) (the interval's half-width in ranks of S). Only the slopes
-    need the pairs; S and Var(S) come from :func:`tracescreen.statistics.long_series.kendall_grouped`.
+    ``pairs`` (i, j) are the column pairs compared, i earlier than j (:meth:`.series.Chunk.pairs`: cells
+    of one season; a row holds its seasons in blocks sorted by time). ``c`` is each row's
+    z_crit * sqrt(Var(S)) (the interval's half-width in ranks of S). Only the slopes need the pairs;
+    S and Var(S) come from :func:`tracescreen.statistics.long_series.kendall_grouped`.
     """
-    if t.shape[1] < 2:  # series of one value: pad with an empty cell so that the pair arrays exist
-        t, y = (np.pad(a, ((0, 0), (0, 2 - a.shape[1])), constant_values=np.nan) for a in (t, y))
-        nd, valid = (np.pad(a, ((0, 0), (0, 2 - a.shape[1])), constant_values=False) for a in (nd, valid))
-        season = np.pad(season, ((0, 0), (0, 2 - season.shape[1])), constant_values=0)
-    g, m = t.shape
+    g = t.shape[0]
     det = valid & ~nd
     nd = valid & nd
-    i, j = np.triu_indices(m, 1)  # pairs i < j in time order
+    i, j = pairs
 
     def pairs_of(x, k):  # np.take along the rows: about twice as fast as x[:, k]
         return np.take(x, k, axis=1)
-    # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs; a row's
-    # values fill its first cells (padding is NaN, so padded pairs compare False and divide to NaN)
+    # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs (padding
+    # is NaN, so padded pairs compare False and divide to NaN)
     with np.errstate(invalid="ignore", divide="ignore"):
         dt = pairs_of(t, j)
         dt -= pairs_of(t, i)
@@ -85,8 +85,6 @@ def _slope_rows(t, y, nd, valid, season, c, force_ats=False):
         slopes -= pairs_of(y, i)
         slopes /= dt
     del dt
-    if int(season.max(initial=0)) > 0:
-        usable &= pairs_of(season, i) == pairs_of(season, j)
     censored = nd.any(axis=1) | force_ats
     if nd.any():
         usable &= ~(pairs_of(nd, i) & pairs_of(nd, j))
@@ -287,10 +285,11 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     short = size[codes] <= long_series.LONG_SERIES
     if not short.all():
         t, y, nd, season, codes = t[short], y[short], nd[short], season[short], codes[short]
+    # pairs only within a season: each series' seasons are blocks of its row (12 seasons: 1/12 of the pairs)
     for chunk in chunks(codes, n_groups, order=t, cells=lambda m: m * (m - 1) // 2,
-                        budget=PAIR_BUDGET):
+                        budget=PAIR_BUDGET, blocks=season):
         r = _slope_rows(chunk.take(t, np.nan), chunk.take(y, np.nan), chunk.take(nd, False),
-                        chunk.valid, chunk.take(season, -1), c[chunk.groups], force_ats)
+                        chunk.valid, chunk.pairs(), c[chunk.groups], force_ats)
         for col in slope_cols:
             cols[col][chunk.groups] = r[col]
     return pd.DataFrame(cols)

@@ -103,30 +103,31 @@ class Chunk:
         Positions into the caller's flat arrays, in the order requested (e.g. by time);
         0 where ``valid`` is False (use :meth:`take` to read through it).
     valid : ndarray of bool, shape (g, m)
-        True for real observations; a group's observations fill its first ``n`` columns.
+        True for real observations. Without blocks a group's observations fill its first ``n``
+        columns; with blocks (:func:`chunks` ``blocks``) block b fills the first cells of columns
+        ``b * block_width .. (b + 1) * block_width - 1``.
+    blocks : int
+        Blocks per row (1 without blocks); ``m = blocks * block_width``.
+    block_width : int
+        Cells per block.
     """
 
     groups: np.ndarray
     rows: np.ndarray
     valid: np.ndarray
+    blocks: int = 1
+    block_width: int = 0
 
     def take(self, values: np.ndarray, fill) -> np.ndarray:
         """Read ``values`` (flat, one per input row) into the padded layout, ``fill`` as padding."""
         out = np.asarray(values)[self.rows]
         return np.where(self.valid, out, fill)
 
-
-def group_codes(frame: pd.DataFrame, keys: list[str]) -> tuple[np.ndarray, pd.DataFrame]:
-    """Integer code per row for the groups of ``keys``, and one row of key values per code.
-
-    Groups are numbered in sorted key order; rows whose key is missing get their own group.
-    """
-    if frame.empty:
-        return np.zeros(0, dtype=np.int64), pd.DataFrame(columns=keys)
-    grouped = frame.groupby(keys, sort=True, dropna=False, observed=True)
-    codes = grouped.ngroup().to_numpy(dtype=np.int64)
-    table = grouped.size().reset_index()[keys]
-    return codes, table
+    def pairs(self) -> tuple[np.ndarray, np.ndarray]:
+        """Column pairs (i, j), i < j, of cells in the same block: ``i`` earlier when rows are in time order."""
+        i, j = np.triu_indices(self.block_width, 1)
+        offset = (np.arange(self.blocks) * self.block_width)[:, None]
+        return (offset + i).ravel(), (offset + j).ravel()
 
 
 def _width_ladder(size: np.ndarray) -> np.ndarray:
@@ -143,6 +144,7 @@ def chunks(
     order: np.ndarray | None = None,
     cells: Callable[[int], int] = lambda m: m,
     budget: int = CELL_BUDGET,
+    blocks: np.ndarray | None = None,
 ) -> Iterator[Chunk]:
     """Yield padded chunks that together cover every group with at least one row.
 
@@ -155,32 +157,60 @@ def chunks(
     order : ndarray, optional
         Secondary sort key within a group (e.g. sampling time); rows keep input order otherwise.
     cells : callable
-        Cells one group of width ``m`` costs in the kernel (``m`` for per-value kernels,
-        ``m * m`` for pairwise ones).
+        Cells one group (or one block) of width ``m`` costs in the kernel (``m`` for per-value
+        kernels, ``m * m`` for pairwise ones).
     budget : int
         Cells per chunk.
+    blocks : ndarray of int, optional
+        Block of each row within its group (0, 1, ..., e.g. the season). A group with blocks
+        0 .. P - 1 gets a row of P blocks of equal width (its largest block, on the ladder) and costs
+        ``P * cells(width)``: a pairwise kernel over blocks compares only rows of one block
+        (:meth:`Chunk.pairs`). Chunks hold groups with the same P and width.
     """
     codes = np.asarray(codes, dtype=np.int64)
     if codes.size == 0:
         return
-    sort = np.lexsort((order,) + (codes,)) if order is not None else np.argsort(codes, kind="stable")
-    sorted_codes = codes[sort]
-    size = np.bincount(codes, minlength=n_groups)
+    block = np.zeros(codes.size, np.int64) if blocks is None else np.asarray(blocks, dtype=np.int64)
+    n_blocks = int(block.max()) + 1
+    keys = (block, codes) if order is None else (order, block, codes)
+    sort = np.lexsort(keys) if order is not None or blocks is not None else np.argsort(codes, kind="stable")
+    sub = codes[sort] * n_blocks + block[sort]  # sorted by group, then block
+    size = np.bincount(sub, minlength=n_groups * n_blocks)
     start = np.concatenate(([0], np.cumsum(size)[:-1]))
-    position = np.arange(sort.size) - start[sorted_codes]
-    width = _width_ladder(size)
-    present = np.flatnonzero(size > 0)
-    for w in np.unique(width[present]):
-        members = present[width[present] == w]
-        per_chunk = max(1, budget // max(1, cells(int(w))))
+    position = np.arange(sort.size) - start[sub]
+    per_block = size.reshape(n_groups, n_blocks)
+    used = per_block > 0
+    present = np.flatnonzero(used.any(axis=1))
+    span = np.where(used.any(axis=1), n_blocks - np.argmax(used[:, ::-1], axis=1), 0)  # blocks per group
+    width = _width_ladder(per_block.max(axis=1))
+    bucket = span * (int(width.max()) + 1) + width  # without blocks: by width, as before
+    sorted_codes = codes[sort]
+    cell = block[sort] * width[sorted_codes] + position
+    for key in np.unique(bucket[present]):
+        members = present[bucket[present] == key]
+        p, w = int(span[members[0]]), int(width[members[0]])
+        per_chunk = max(1, budget // max(1, p * cells(w)))
         for first in range(0, members.size, per_chunk):
             groups = members[first : first + per_chunk]
             slot = np.full(n_groups, -1, dtype=np.int64)
             slot[groups] = np.arange(groups.size)
             pick = slot[sorted_codes] >= 0
-            rows = np.zeros((groups.size, int(w)), dtype=np.int64)
-            valid = np.zeros((groups.size, int(w)), dtype=bool)
-            r, c = slot[sorted_codes[pick]], position[pick]
+            rows = np.zeros((groups.size, p * w), dtype=np.int64)
+            valid = np.zeros((groups.size, p * w), dtype=bool)
+            r, c = slot[sorted_codes[pick]], cell[pick]
             rows[r, c] = sort[pick]
             valid[r, c] = True
-            yield Chunk(groups=groups, rows=rows, valid=valid)
+            yield Chunk(groups=groups, rows=rows, valid=valid, blocks=p, block_width=w)
+
+
+def group_codes(frame: pd.DataFrame, keys: list[str]) -> tuple[np.ndarray, pd.DataFrame]:
+    """Integer code per row for the groups of ``keys``, and one row of key values per code.
+
+    Groups are numbered in sorted key order; rows whose key is missing get their own group.
+    """
+    if frame.empty:
+        return np.zeros(0, dtype=np.int64), pd.DataFrame(columns=keys)
+    grouped = frame.groupby(keys, sort=True, dropna=False, observed=True)
+    codes = grouped.ngroup().to_numpy(dtype=np.int64)
+    table = grouped.size().reset_index()[keys]
+    return codes, table
