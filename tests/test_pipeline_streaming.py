@@ -97,6 +97,10 @@ def test_wide_table_has_one_row_per_result_and_the_long_tables_statuses(whole_an
         lambda s: min(s, key=STATUS_CODE.get))
     got = idx["worst_status"].astype(str)
     assert (got.reindex(worst.index) == worst.astype(str)).all()
+    # results numbered in ascending order (a part's rows, no sort) or any other order: the same table
+    ids = scr.groupby(["file", "sheet", "row", "analyte", "fraction"], observed=True, sort=False).ngroup().to_numpy()
+    pd.testing.assert_frame_equal(result_wide(scr, keys, result_id=ids), wide)
+    pd.testing.assert_frame_equal(result_wide(scr, keys, result_id=ids.max() - ids), wide)
 
 
 def test_screen_command_formats_write_the_same_rows(tmp_path):

@@ -52,40 +52,33 @@ def modified_z_score(x: np.ndarray, history: np.ndarray) -> np.ndarray:
     return np.where((mad > 0) | (mean_ad > 0), z, np.nan)
 
 
-def _middle_deviation(h, rix, med, n_left, i, order):
-    """The ``order``-th smallest (0-based) ``|h - med|`` of rows of sorted histories, vectorised.
+def _middle_deviations(h: np.ndarray, med: np.ndarray, scratch: np.ndarray) -> np.ndarray:
+    """The median absolute deviation of each sorted row of ``h`` from its median ``med``.
 
-    ``h`` holds sorted rows of ``i`` values, ``rix`` the rows to search (a row may be listed twice, for
-    the two middle orders of an even history), ``med`` their medians, ``n_left`` how many values of each
-    are below its median. The deviations left of the median, read downwards, and those right of it,
-    read upwards, are two ascending runs; a binary search on how many of the smallest ``order + 1``
-    come from the left run finds the answer, in about log2(i) steps for all rows at once.
+    The ``w`` values nearest a row's median are ``w`` neighbours in the sorted row, and of any ``w``
+    neighbours the farthest from the median is one of the two ends (deviations fall towards the median
+    and rise after it); so the ``w``-th smallest deviation is the least, over windows of ``w``
+    neighbours, of the larger end deviation, ``min_s max(med - h[s], h[s + w - 1] - med)``: a few
+    whole-row operations, no search. Each deviation is the subtraction a sort of all deviations would
+    compare (``med - h`` left of the median, ``h - med`` right of it). For an even row length the
+    MAD is the mean of the two middle deviations (windows of ``n/2`` and ``n/2 + 1``, which share
+    their left ends). ``scratch``: at least ``2 x rows x (n // 2 + 1)`` floats.
     """
-    n_right = i - n_left
-    lo = np.maximum(0, order + 1 - n_right)
-    hi = np.minimum(order + 1, n_left)
-    last = i - 1
-    # (np.minimum / np.maximum rather than np.clip: called a few times per step, np.clip's overhead
-    # was most of the check's time)
-    while True:
-        live = lo < hi
-        if not live.any():
-            break
-        mid = (lo + hi) >> 1
-        # while lo < hi, mid < n_left and 0 <= order - mid < n_right; elsewhere the indices are only clipped
-        left = med - h[rix, np.minimum(np.maximum(n_left - 1 - mid, 0), last)]
-        right = h[rix, np.minimum(np.maximum(n_left + order - mid, 0), last)] - med
-        more = live & (left < right)
-        lo = np.where(more, mid + 1, lo)
-        hi = np.where(live & ~more, mid, hi)
-    from_right = order + 1 - lo
-    from_a = np.where(lo > 0, med - h[rix, np.minimum(np.maximum(n_left - lo, 0), last)], -np.inf)
-    from_b = np.where(from_right > 0, h[rix, np.minimum(np.maximum(n_left + from_right - 1, 0), last)] - med, -np.inf)
-    return np.maximum(from_a, from_b)
+    k, n = h.shape
+    w = n // 2 if n % 2 == 0 else n // 2 + 1  # the (first) middle deviation is the w-th smallest
+    m = n - w + 1  # windows of w neighbours per row
+    left = np.subtract(med[:, None], h[:, :m], out=scratch[0, :k, :m])
+    right = np.subtract(h[:, w - 1:], med[:, None], out=scratch[1, :k, :m])
+    if n % 2:  # one middle value: the MAD is that deviation ((d + d) / 2 == d)
+        return np.maximum(left, right, out=right).min(axis=1)
+    wider = np.maximum(left[:, :-1], right[:, 1:]).min(axis=1)  # windows of w + 1
+    return (np.maximum(left, right, out=right).min(axis=1) + wider) / 2.0
 
 
 def _kth_deviation(row: np.ndarray, med: float, n_left: int, n: int, k: int) -> float:
-    """k-th smallest (0-based) |row[:n] - med| of one sorted row: :func:`_middle_deviation` on plain numbers."""
+    """k-th smallest (0-based) |row[:n] - med| of one sorted row (``n_left`` values below ``med``): the deviations
+    left of the median, read downwards, and those right of it, read upwards, are two ascending runs; a
+    binary search on how many of the smallest ``k + 1`` come from the left run finds it in log2(n) steps."""
     n_right = n - n_left
     lo, hi = max(0, k + 1 - n_right), min(k + 1, n_left)
     while lo < hi:
@@ -148,6 +141,8 @@ def _expanding_group(x, firsts, length, min_prior, z, med_out) -> None:
     """:func:`expanding_modified_z` of the series starting at ``firsts`` (lengths ``length``, longest
     first), written into ``z`` and ``med_out``."""
     hist = np.full((len(firsts), int(length[0])), np.inf)  # each series' sorted history, +inf after
+    spare = hist.copy()  # the next step's histories are written here, then the two swap
+    scratch = np.empty((2, len(firsts), int(length[0]) // 2 + 1))  # for the MAD's windows
     for i in range(hist.shape[1]):  # step i: the value at place i of every series long enough
         k = int(np.count_nonzero(length > i))
         rows = firsts[:k] + i
@@ -158,13 +153,7 @@ def _expanding_group(x, firsts, length, min_prior, z, med_out) -> None:
                 z[rows[r]], med_out[rows[r]] = _row_score(hist[r], i, float(xr[r]))
         elif i >= min_prior:
             med = (h[:, (i - 1) // 2] + h[:, i // 2]) / 2.0
-            n_left = np.count_nonzero(h < med[:, None], axis=1)  # below the median: deviations med - h
-            if i % 2:  # one middle value: the MAD is that deviation ((d + d) / 2 == d)
-                mad = _middle_deviation(h, np.arange(k), med, n_left, i, np.full(k, i // 2))
-            else:  # the mean of the two middle deviations, both found in one search
-                two = _middle_deviation(h, np.tile(np.arange(k), 2), np.tile(med, 2), np.tile(n_left, 2), i,
-                                        np.repeat([i // 2 - 1, i // 2], k))
-                mad = (two[:k] + two[k:]) / 2.0
+            mad = _middle_deviations(h, med, scratch)
             with np.errstate(divide="ignore", invalid="ignore"):
                 zr = 0.6745 * (xr - med) / mad
             flat = ~(mad > 0)
@@ -178,12 +167,11 @@ def _expanding_group(x, firsts, length, min_prior, z, med_out) -> None:
                 hist[r, at + 1:i + 1] = hist[r, at:i]
                 hist[r, at] = xr[r]
             continue
-        p = np.count_nonzero(h < xr[:, None], axis=1)  # where the value goes in each row
-        block = hist[:k, :i + 1]
-        shifted = np.empty_like(block)
-        shifted[:, 1:] = block[:, :-1]
-        np.copyto(block, shifted, where=np.arange(i + 1) > p[:, None])  # right of p: one place right
-        block[np.arange(k), p] = xr
+        # sorted h (h[-1] = -inf, h[i] = +inf) with x inserted is max(h[j - 1], min(h[j], x)) at every place j:
+        # h[j] left of x's place, x at it, h[j - 1] right of it (values only selected, never computed)
+        new = np.minimum(hist[:k, :i + 1], xr[:, None], out=spare[:k, :i + 1])
+        np.maximum(new[:, 1:], h, out=new[:, 1:])
+        hist, spare = spare, hist
 
 
 def history_outlier(results: pd.DataFrame, z_threshold: float = 3.5,
