@@ -84,8 +84,8 @@ def replace_at(col: pd.Series, positions: np.ndarray, values):
 
 def take_column(col: pd.Series, positions: np.ndarray):
     """Values of ``col`` at ``positions``; text columns come back as categoricals (fast integer take)."""
-    if isinstance(col.dtype, pd.CategoricalDtype):
-        return pd.Categorical.from_codes(col.cat.codes.to_numpy()[positions], dtype=col.dtype)
+    if isinstance(col.dtype, pd.CategoricalDtype):  # codes of a categorical are valid as they are
+        return pd.Categorical.from_codes(col.cat.codes.to_numpy()[positions], dtype=col.dtype, validate=False)
     if pd.api.types.is_string_dtype(col.dtype) or col.dtype == object:
         codes, uniques = pd.factorize(col.fillna(""), use_na_sentinel=False)  # missing text is ""
         return pd.Categorical.from_codes(codes[positions], categories=pd.Index(uniques, dtype=object).astype(str))
@@ -96,8 +96,9 @@ def entry_attribute(values: pd.Series, e_pos: np.ndarray) -> pd.Categorical:
     """Attribute of the entry at each position (-1: no entry -> empty text), as a categorical."""
     text = values.astype(str).to_numpy(dtype=object)
     cats, inv = np.unique(np.append(text, ""), return_inverse=True)
-    codes = inv[np.where(e_pos < 0, len(text), e_pos)]
-    return pd.Categorical.from_codes(codes, categories=cats.astype(str))
+    inv = inv.ravel().astype(np.int8 if len(cats) < 128 else np.int16 if len(cats) < 32768 else np.int32)
+    codes = inv[np.where(e_pos < 0, len(text), e_pos)]  # codes of np.unique: valid as they are
+    return pd.Categorical.from_codes(codes, dtype=pd.CategoricalDtype(pd.Index(cats.astype(str))), validate=False)
 
 
 def str_array(values, n: int | None = None):

@@ -103,7 +103,10 @@ def days(dates: pd.Series) -> np.ndarray:
 def in_force(results: pd.DataFrame, entries: pd.DataFrame, r_pos: np.ndarray, e_pos: np.ndarray) -> np.ndarray:
     """True where entry ``e_pos`` is in force on the sampling day of result ``r_pos`` (inclusive days;
     a missing ``effective_from`` / ``effective_to`` is open)."""
-    day = days(results["sampled_at"])[r_pos]
-    lo = days(entries["effective_from"])[e_pos]
-    hi = days(entries["effective_to"])[e_pos]
-    return ((lo == NAT_DAY) | (day >= lo)) & ((hi == NAT_DAY) | (day <= hi))
+    lo_e, hi_e = days(entries["effective_from"]), days(entries["effective_to"])
+    dated = ((lo_e != NAT_DAY) | (hi_e != NAT_DAY))[e_pos]  # an entry without dates is always in force
+    out = np.ones(len(r_pos), dtype=bool)
+    at = np.flatnonzero(dated)
+    day, lo, hi = days(results["sampled_at"])[r_pos[at]], lo_e[e_pos[at]], hi_e[e_pos[at]]
+    out[at] = ((lo == NAT_DAY) | (day >= lo)) & ((hi == NAT_DAY) | (day <= hi))
+    return out

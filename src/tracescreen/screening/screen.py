@@ -214,7 +214,7 @@ def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_f
            entry_inputs: np.ndarray | None = None) -> pd.Categorical:
     """Note text per row from its key (entry x limit remark x cross-fraction, or a no-limit /
     QC kind), built per distinct key."""
-    inv, uniq = pd.factorize(keys)
+    inv, uniq = _dense_codes(keys)
     text = []
     for k in uniq:  # a handful of distinct keys, not rows
         if k < 0:
@@ -233,4 +233,13 @@ def _notes(keys: np.ndarray, entry_notes: np.ndarray, n_lone_kinds: int, entry_f
                              remark, entry_notes[e]) if p]
         text.append("; ".join(parts))
     cats, inv2 = np.unique(np.array(text, dtype=object).astype(str), return_inverse=True)
-    return pd.Categorical.from_codes(inv2[inv], categories=cats)
+    return pd.Categorical.from_codes(inv2.ravel()[inv], categories=cats)
+
+
+def _dense_codes(keys: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Codes and distinct values of integer keys of a small range (a table, not a hash per row)."""
+    if not len(keys):
+        return np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
+    low = int(keys.min())
+    present = np.bincount(keys - low) > 0
+    return (np.cumsum(present) - 1)[keys - low], np.flatnonzero(present) + low

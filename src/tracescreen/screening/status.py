@@ -45,11 +45,15 @@ def status_codes(detected, value_ug_L, detection_limit_ug_L, limit_ug_L, rel_tol
     det = np.asarray(detected, dtype=bool)
     lim = np.asarray(limit_ug_L, dtype=float)
     bound = lim * (1.0 + rel_tol)
+    compared = np.where(det, np.asarray(value_ug_L, float), np.asarray(detection_limit_ug_L, float))
     with np.errstate(invalid="ignore"):
-        over = np.where(det, np.asarray(value_ug_L, float) > bound, np.asarray(detection_limit_ug_L, float) > bound)
+        over = compared > bound
+    del compared, bound
     c = STATUS_CODE
-    code = np.where(det, np.where(over, c["exceeds"], c["meets"]),
-                    np.where(over, c["nondetect_inconclusive"], c["nondetect_meets"])).astype(np.int8)
+    # (detected, over) -> status, by a table of four (int8 throughout: no wide temporaries)
+    table = np.array([c["nondetect_meets"], c["nondetect_inconclusive"], c["meets"], c["exceeds"]], dtype=np.int8)
+    pair = np.asarray(det.view(np.int8) * np.int8(2) + over.view(np.int8))
+    code = table[pair.ravel()].reshape(pair.shape)
     if above_range is not None:
         code[np.asarray(above_range, dtype=bool) & det & ~over] = c["above_range_inconclusive"]
     code[np.isnan(lim)] = c["no_limit"]
