@@ -95,6 +95,18 @@ def derived_categorical(per_value_text, codes: np.ndarray, keep: np.ndarray | No
     return sorted_categorical(dcodes[codes], pd.Index(dvalues, dtype=_STR), keep)
 
 
+def kept_categorical(per_value_text, codes: np.ndarray, keep: np.ndarray | None = None) -> pd.Categorical:
+    """``pandas.Categorical(per_value_text[codes][keep])`` worked out per value: the categories are the
+    distinct texts of the kept rows, sorted (as that constructor sorts them), with no text per row."""
+    text = np.asarray(per_value_text).astype(str)
+    c = codes if keep is None else codes[keep]
+    used = np.flatnonzero(np.bincount(c, minlength=len(text)))
+    categories, where = np.unique(text[used], return_inverse=True)
+    lookup = np.zeros(len(text), dtype=np.int64)
+    lookup[used] = where.ravel()
+    return pd.Categorical.from_codes(lookup[c], categories=pd.Index(categories, dtype=_STR))
+
+
 def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """One code per distinct combination of several code columns, and a first row of each.
 

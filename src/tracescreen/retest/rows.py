@@ -12,6 +12,8 @@ size of the run.
 
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 import pandas as pd
 import pyarrow.compute as pc
@@ -77,12 +79,14 @@ RTOL = REL_TOL
 def single_sample_rows(screening: pd.DataFrame) -> pd.DataFrame:
     """Site-sample rows compared with single-sample limits (period bases such as running annual
     means and percentiles are judged on periods, not on one result)."""
+    if _made(screening, "single"):  # made by this function already (each result flag is given its rows)
+        return screening
     site = site_samples(screening)
-    if "basis" not in site.columns:
-        return site
-    basis = site["basis"]
-    mask = (basis.isna() | basis.isin(["single_sample", ""])).to_numpy()
-    return site if mask.all() else site[mask]
+    if "basis" in site.columns:
+        basis = site["basis"]
+        mask = (basis.isna() | basis.isin(["single_sample", ""])).to_numpy()
+        site = site if mask.all() else site[mask]
+    return _mark(site, "single")
 
 
 def flagged_text(frame: pd.DataFrame) -> pd.DataFrame:
@@ -152,12 +156,45 @@ def meaning_mask(col: pd.Series, wanted: set[str]) -> np.ndarray:
 
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
     """One row per accepted result from the screening table (drops the per-limit repetition)."""
+    if _made(screening, "results"):  # made by this function already (each check is given the results)
+        return screening.reset_index(drop=True)
     ids = result_ids(screening)
     if ids is None:
         key = [c for c in RESULT_KEY if c in screening.columns]
-        return screening.drop_duplicates(key).reset_index(drop=True) if key else screening.reset_index(drop=True)
-    first = ~pd.Series(ids).duplicated().to_numpy()
-    return (screening if first.all() else screening[first]).reset_index(drop=True)
+        out = screening.drop_duplicates(key).reset_index(drop=True) if key else screening.reset_index(drop=True)
+    else:
+        first = first_of_each(ids)
+        out = (screening if first.all() else screening[first]).reset_index(drop=True)
+    return _mark(out, "results")
+
+
+#: Frames made by :func:`results_from_screening` and :func:`single_sample_rows`, by kind and identity
+#: (weak: an entry goes with its frame): the checks given such a frame do not select its rows again.
+_MADE: weakref.WeakValueDictionary = weakref.WeakValueDictionary()
+
+
+def _mark(frame: pd.DataFrame, kind: str) -> pd.DataFrame:
+    _MADE[(kind, id(frame))] = frame
+    return frame
+
+
+def _made(frame: pd.DataFrame, kind: str) -> bool:
+    return _MADE.get((kind, id(frame))) is frame
+
+
+def first_of_each(ids: np.ndarray) -> np.ndarray:
+    """Whether each row is the first of its id (``~pandas.Series(ids).duplicated()``). A screening table
+    lists each result's limit rows together: when the first rows of the runs of equal ids rise (input
+    order), or are all different, no id comes back later and they are the answer, found without hashing
+    every row; otherwise pandas' hashing of every row."""
+    head = np.empty(len(ids), dtype=bool)
+    if len(ids):
+        head[0] = True
+        np.not_equal(ids[1:], ids[:-1], out=head[1:])
+        starts = ids[head]
+        if (starts[1:] > starts[:-1]).all() or not pd.Series(starts).duplicated().any():
+            return head
+    return ~pd.Series(ids).duplicated().to_numpy()
 
 
 def result_ids(frame: pd.DataFrame) -> np.ndarray | None:
