@@ -24,9 +24,11 @@ def test_str_array_is_the_array_pandas_makes():
     from tracescreen._internal.frames import str_array
 
     cases = [np.array(["a", "b", None, np.nan, 1, "a"], dtype=object), ["x", "y; z"], ["x", None, "z"], [1, "a"],
-             np.array([], dtype=object), np.array(["µg/L", "=1"], dtype=object)]
+             np.array([], dtype=object), np.array(["µg/L", "=1"], dtype=object),
+             np.array(["a", None, np.nan, "b", "a"], dtype=object)]
     for v in cases:
         got, want = str_array(v), pd.array(np.asarray(v, dtype=object) if isinstance(v, np.ndarray) else v, dtype="str")
         assert got.dtype == want.dtype
         assert pd.Series(got).equals(pd.Series(want))
     assert list(str_array("q", 3)) == ["q", "q", "q"]
+    assert str_array("q", 0).dtype == pd.array([], dtype="str").dtype and len(str_array("q", 0)) == 0

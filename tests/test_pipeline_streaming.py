@@ -97,6 +97,10 @@ def test_wide_table_has_one_row_per_result_and_the_long_tables_statuses(whole_an
         lambda s: min(s, key=STATUS_CODE.get))
     got = idx["worst_status"].astype(str)
     assert (got.reindex(worst.index) == worst.astype(str)).all()
+    # results numbered in ascending order (a part's rows, no sort) or any other order: the same table
+    ids = scr.groupby(["file", "sheet", "row", "analyte", "fraction"], observed=True, sort=False).ngroup().to_numpy()
+    pd.testing.assert_frame_equal(result_wide(scr, keys, result_id=ids), wide)
+    pd.testing.assert_frame_equal(result_wide(scr, keys, result_id=ids.max() - ids), wide)
 
 
 def test_screen_command_formats_write_the_same_rows(tmp_path):
@@ -194,7 +198,7 @@ def test_memory_sink_restores_input_order():
 
 def test_parquet_categoricals_write_the_same_file_whatever_their_categories_dtype(tmp_path):
     """Categories held by Arrow (pandas' str) or as Python objects give the same Parquet bytes: the
-    dictionary is the categories in their order, unused ones included, missing cells missing."""
+    dictionary is the categories the part uses, in their order, missing cells missing."""
     codes = np.array([2, 0, -1, 2])
     files = []
     for dtype in ("str", object):
@@ -206,3 +210,20 @@ def test_parquet_categoricals_write_the_same_file_whatever_their_categories_dtyp
         files.append(path.read_bytes())
     assert files[0] == files[1]
     assert pq.read_table(tmp_path / "str.parquet").column("analyte").to_pylist() == ["Pb", "Zn", None, "Pb"]
+    assert pq.read_table(tmp_path / "str.parquet").column("analyte").chunk(0).dictionary.to_pylist() == ["Zn", "Pb"]
+
+
+def test_parquet_row_groups_carry_only_their_parts_texts(tmp_path):
+    """A run's categories can be every sample id of the run; each part's row group stores only the ids
+    it holds (its dictionary), and the values read back are the cells written (common practice of
+    dictionary encoding: a dictionary per column chunk, Apache Parquet format specification)."""
+    ids = pd.Index([f"L{k:05d}" for k in range(20_000)], dtype="str")
+    parts = [np.array([5, 7, 5, -1]), np.array([19_999, 0])]
+    path = tmp_path / "ids.parquet"
+    with TableStream(path, "parquet") as t:
+        for codes in parts:
+            t.write(pd.DataFrame({"sample_id": pd.Categorical.from_codes(codes, categories=ids)}))
+    f = pq.ParquetFile(path)
+    assert [f.read_row_group(k).column("sample_id").chunk(0).dictionary.to_pylist() for k in range(2)] == \
+        [["L00005", "L00007"], ["L00000", "L19999"]]
+    assert f.read().column("sample_id").to_pylist() == ["L00005", "L00007", "L00005", None, "L19999", "L00000"]

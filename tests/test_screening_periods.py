@@ -245,10 +245,15 @@ def test_a_running_mean_depends_on_its_own_series_only(tmp_path):
 
 
 def test_results_listing_alike_in_blocks_of_any_size(tmp_path, monkeypatch):
-    """The results behind each value (joined block by block by Arrow) read the same whatever the
-    block size, windows of a block boundary included (see SERIES: windows worked by hand above)."""
+    """The results behind each value read the same from string views into one text and from lists of
+    descriptions joined block by block (the path of a missing description), whatever the block size,
+    windows of a block boundary included (see SERIES: windows worked by hand above)."""
     _, whole = raa(tmp_path, "zero")
-    monkeypatch.setattr(periods, "JOIN_WINDOWS", 2)
+    from tracescreen.screening import period_results as pr
+
+    monkeypatch.setattr(pr, "JOIN_WINDOWS", 2)
+    monkeypatch.setattr(periods, "_joined", lambda rows, start, stop: pr.joined_lists(
+        pr.describe(rows, pr.JOIN_SEPARATOR), np.asarray(start, np.int64), np.asarray(stop, np.int64)))
     _, blocks = raa(tmp_path, "zero")
     assert blocks["results"].tolist() == whole["results"].tolist()
     assert whole["results"].iloc[1] == "S1-0 (2020-01-15): 4.0; S1-1 (2020-04-15): <2.0"

@@ -107,8 +107,14 @@ def str_array(values, n: int | None = None):
     once per distinct value), a list of str (copied by Arrow in one call), or one str repeated ``n``
     times. Missing values stay missing; any other value becomes ``str(value)``.
     """
-    if isinstance(values, str):
-        values = np.full(n, values, dtype=object)
+    if isinstance(values, str):  # one text, taken n times by Arrow
+        return pd.array(pa.array([values], type=pa.large_string()).take(pa.array(np.zeros(n, dtype=np.int32))),
+                        dtype="str")
+    if isinstance(values, np.ndarray) and values.dtype == object:
+        try:  # text (and missing values) copied by Arrow in one call
+            return pd.array(pa.array(values, type=pa.large_string(), from_pandas=True), dtype="str")
+        except (pa.ArrowInvalid, pa.ArrowTypeError):  # other values: each distinct value's text, below
+            pass
     if isinstance(values, list):
         try:
             return pd.array(pa.array(values, type=pa.large_string(), from_pandas=True), dtype="str")

@@ -7,7 +7,8 @@ held whole. The formats (:mod:`tracescreen.report.formats`):
 * CSV: the blocks of :func:`tracescreen.report.writers.csv_blocks` (formula-safe, ISO dates), the
   header once;
 * Parquet: one row group per part ([Parquet]_ through pyarrow); text columns are
-  dictionary-encoded (``dictionary<int32, string>``, read back by pandas as categoricals), date
+  dictionary-encoded (``dictionary<int32, string>``, read back by pandas as categoricals; each row
+  group's dictionary holds the texts of its own part, in their order in the run), date
   columns are Parquet ``DATE`` (days) or ``TIMESTAMP`` (millisecond) values, numbers stay numbers;
   the columns are the CSV's. Text is written as it is (a Parquet file is read by programs, not
   opened as a spreadsheet), so it has no formula-guard apostrophes;
@@ -68,7 +69,14 @@ def days_of(frame: pd.DataFrame) -> set[str]:
 def _text_array(values: pd.Series) -> pa.Array:
     """A text (or categorical) column as ``dictionary<int32, string>``; missing values stay missing."""
     if isinstance(values.dtype, pd.CategoricalDtype):
+        # the part's dictionary holds only the categories the part uses: a run's categories can be every
+        # sample id of the run (a million), which every row group would otherwise carry and encode again
+        codes = values.cat.codes.to_numpy().astype(np.int32)
         cats = values.cat.categories
+        seen = np.bincount(codes[codes >= 0], minlength=len(cats)) > 0
+        if not seen.all():
+            codes = np.where(codes >= 0, np.cumsum(seen, dtype=np.int32)[codes] - 1, -1).astype(np.int32)
+            cats = cats[seen]
         if isinstance(cats.dtype, pd.StringDtype) and cats.dtype.storage == "pyarrow":
             dictionary = pa.array(cats.array)  # Arrow-backed categories are taken as they are
             if isinstance(dictionary, pa.ChunkedArray):
@@ -76,7 +84,6 @@ def _text_array(values: pd.Series) -> pa.Array:
             dictionary = dictionary.cast(pa.string())
         else:
             dictionary = pa.array(np.asarray(cats.astype(str), dtype=object), type=pa.string())
-        codes = values.cat.codes.to_numpy().astype(np.int32)
         return pa.DictionaryArray.from_arrays(pa.array(codes, mask=codes < 0), dictionary)
     if isinstance(values.dtype, pd.StringDtype) and values.dtype.storage == "pyarrow":
         arr = pa.array(values.array)  # Arrow-backed text is taken as it is (no Python string per row)

@@ -32,14 +32,18 @@ CROSS_NOTES = {
 }
 
 
-def _text_codes(values: pd.Series) -> tuple[np.ndarray, pd.Index]:
+def _text_codes(values: pd.Series, with_text: bool = True) -> tuple[np.ndarray, pd.Index | None]:
     """Integer codes of a column's text (``str`` of each value; a missing value is a code of its own),
-    and the distinct texts: a categorical is coded through its categories, never row by row."""
+    and the distinct texts: a categorical is coded through its categories, never row by row.
+    ``with_text=False``: the codes alone (the texts may be None; a categorical of text categories is not
+    converted: a part of a large run holds the whole run's categories)."""
     if not isinstance(values.dtype, pd.CategoricalDtype):
         codes, uniq = pd.factorize(values.astype(str), use_na_sentinel=False)
         return codes, pd.Index(uniq, dtype=object)
     cats = values.cat.categories
     codes = values.cat.codes.to_numpy().astype(np.int64)
+    if not with_text and isinstance(cats.dtype, pd.StringDtype):  # distinct categories are distinct texts
+        return np.where(codes < 0, len(cats), codes), None
     if isinstance(cats.dtype, pd.StringDtype) or cats.inferred_type == "string":
         recode, text = np.arange(len(cats)), pd.Index(np.asarray(cats, dtype=object), dtype=object)
     else:  # other categories (numbers): distinct values may share a text (1 and "1")
@@ -75,7 +79,7 @@ def lacks_other_fraction(results: pd.DataFrame) -> np.ndarray:
     Compared on integer codes of the texts (one joint code per site, sample, analyte and fraction)."""
     from tracescreen._internal.coded import joint_codes
 
-    key = [_text_codes(results[c])[0] for c in ("site_id", "sample_id", "analyte")]
+    key = [_text_codes(results[c], with_text=False)[0] for c in ("site_id", "sample_id", "analyte")]
     f_codes, f_text = _text_codes(results["fraction"])
     other_of = pd.Index(f_text).get_indexer(_swap_text(f_text))  # -1: the other fraction has no result
     f_other = other_of[f_codes]

@@ -40,8 +40,6 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-import pyarrow as pa
-import pyarrow.compute as pc
 from pandas.api.types import union_categoricals
 
 from tracescreen._internal.coded import combo_text
@@ -49,6 +47,7 @@ from tracescreen._internal.frames import replace_at, str_array
 from tracescreen.io.units import clean_decimal
 from tracescreen.limits.schema import PERIOD_BASES
 from tracescreen.screening.percentiles import group_percentiles, substitute
+from tracescreen.screening.period_results import joined as _joined
 from tracescreen.screening.rounding import entry_significant_figures, round_to_limit_figures
 from tracescreen.screening.status import statistic_status
 from tracescreen.screening.windows import WINDOW_MONTHS, period_bounds, running_windows, window_sums
@@ -113,40 +112,8 @@ def _entry_params(rows: dict, limits) -> dict[str, np.ndarray]:
     }
 
 
-def _arrow_text(values) -> pa.Array:
-    """A text column of ``rows`` (categorical or object array) as an Arrow string array."""
-    arr = pa.array(values, from_pandas=True)
-    return arr.cast(pa.string()) if pa.types.is_dictionary(arr.type) or arr.type != pa.string() else arr
-
-
-def _describe(rows: dict) -> pa.Array:
-    """'sample_id (YYYY-MM-DD): result_text' per row, for listing the results behind a value (Arrow text)."""
-    day = pc.strftime(pa.array(np.asarray(rows["sampled_at"], dtype="datetime64[ns]")), format="%Y-%m-%d")
-    return pc.binary_join_element_wise(_arrow_text(rows["sample_id"]), " (", day, "): ",
-                                       _arrow_text(rows["result_text"]), "")
-
-
 def _take(rows: dict, idx: np.ndarray) -> dict:
     return {k: v[idx] for k, v in rows.items()}
-
-
-#: Windows joined at a time by :func:`_joined` (bounds the memory of the results taken for them).
-JOIN_WINDOWS = 1 << 15
-
-
-def _joined(rows: dict, start: np.ndarray, stop: np.ndarray):
-    """The results rows[start:stop] described and joined with '; ', for each (start, stop): a ``str``
-    array built by Arrow (each block of windows as lists of their results' descriptions, joined)."""
-    d = _describe(rows)
-    size = (np.asarray(stop) - np.asarray(start)).astype(np.int64)
-    chunks = []
-    for lo in range(0, len(size), JOIN_WINDOWS):
-        st, sz = np.asarray(start[lo:lo + JOIN_WINDOWS], dtype=np.int64), size[lo:lo + JOIN_WINDOWS]
-        idx = np.repeat(st - np.cumsum(sz) + sz, sz) + np.arange(sz.sum())  # each window's rows, in order
-        offsets = pa.array(np.concatenate([[0], np.cumsum(sz)]).astype(np.int64), type=pa.int64())
-        chunks.append(pc.binary_join(pa.LargeListArray.from_arrays(offsets, d.take(pa.array(idx))), "; "))
-    joined = pa.chunked_array(chunks, type=pa.string()) if chunks else pa.chunked_array([], type=pa.string())
-    return pd.array(joined.cast(pa.large_string()), dtype="str")
 
 
 def _series_codes(rows: dict, extra: np.ndarray | None = None) -> np.ndarray:

@@ -68,36 +68,69 @@ def result_wide(screened: pd.DataFrame, keys: pd.DataFrame, result_id: np.ndarra
     """
     if result_id is None:
         result_id = screened.groupby(PROVENANCE + ["analyte", "fraction"], observed=True, sort=False).ngroup().to_numpy()
-    result_id = np.asarray(result_id)
-    ids, first, inverse = np.unique(result_id, return_index=True, return_inverse=True)
-    order = np.argsort(first, kind="stable")  # results in order of appearance
-    place = np.empty_like(order)
-    place[order] = np.arange(len(order))
-    res = place[inverse]  # each screening row's result, numbered in order of appearance
-    n, k = len(ids), len(keys)
+    res, first = _appearance(np.asarray(result_id))
+    n, k = len(first), len(keys)
     status = screened["status"].map(STATUS_CODE).to_numpy(dtype=float)
     status = np.where(np.isnan(status), len(STATUSES), status).astype(np.int64)
     worst = np.full(n, len(STATUSES), np.int64)
     np.minimum.at(worst, res, status)
-    index = pd.MultiIndex.from_frame(keys[LIMIT_KEY])
-    row_keys = pd.MultiIndex.from_arrays([_text(screened[c]) for c in LIMIT_KEY])
-    key = index.get_indexer(row_keys)
+    key = _key_positions(screened, keys)
     hit = key >= 0
     # the strictest row of each (result, key) written last, so that it is the one kept
     rows = np.flatnonzero(hit)
-    rows = rows[np.lexsort((-status[rows], key[rows], res[rows]))]
-    limit = np.full((n, k), np.nan)
-    code = np.full((n, k), -1, np.int64)
-    limit[res[rows], key[rows]] = screened["limit_ug_L"].to_numpy(dtype=float)[rows]
-    code[res[rows], key[rows]] = status[rows]
-    firsts = first[order]
+    cell = res[rows] * k + key[rows]  # rows come by result: nearly sorted already
+    rows = rows[np.argsort(cell * (len(STATUSES) + 2) + (len(STATUSES) + 1 - status[rows]), kind="stable")]
+    cell = key[rows] * n + res[rows]  # limit-major: each limit's values are one contiguous column
+    limit = np.full(k * n, np.nan)
+    code = np.full(k * n, -1, np.int8)
+    limit[cell] = screened["limit_ug_L"].to_numpy(dtype=float)[rows]
+    code[cell] = status[rows]
+    limit, code = limit.reshape(k, n), code.reshape(k, n)
+    firsts = first
     cols = {c: screened[c].iloc[firsts].reset_index(drop=True) for c in RESULT_COLUMNS if c in screened.columns}
     statuses = pd.CategoricalDtype(list(STATUSES))
     cols["worst_status"] = pd.Categorical.from_codes(np.where(worst < len(STATUSES), worst, -1), dtype=statuses)
     for j, label in enumerate(keys["label"]):
-        cols[f"{label}: limit_ug_L"] = limit[:, j]
-        cols[f"{label}: status"] = pd.Categorical.from_codes(code[:, j], dtype=statuses)
+        cols[f"{label}: limit_ug_L"] = limit[j]
+        cols[f"{label}: status"] = pd.Categorical.from_codes(code[j], dtype=statuses)
     for c in PROVENANCE:
         if c in screened.columns:
             cols[c] = screened[c].iloc[firsts].reset_index(drop=True)
     return pd.DataFrame(cols, copy=False)
+
+
+def _appearance(result_id: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Each row's result numbered in order of first appearance, and the first row of each result
+    (ids already in ascending order, as a part's screening rows are, need no sort)."""
+    if len(result_id) and (result_id[1:] >= result_id[:-1]).all():
+        new = np.r_[True, result_id[1:] != result_id[:-1]]
+        return np.cumsum(new) - 1, np.flatnonzero(new)
+    _, first, inverse = np.unique(result_id, return_index=True, return_inverse=True)
+    order = np.argsort(first, kind="stable")  # results in order of appearance
+    place = np.empty_like(order)
+    place[order] = np.arange(len(order))
+    return place[inverse.ravel()], first[order]
+
+
+def _key_positions(screened: pd.DataFrame, keys: pd.DataFrame) -> np.ndarray:
+    """Each screening row's position in ``keys`` by its (table, duration, basis) text (-1: none), from
+    the columns' category codes: each distinct text is looked up once, not each row."""
+    joint = np.zeros(len(screened), dtype=np.int64)
+    sizes = []
+    for c in LIMIT_KEY:
+        values = _text(screened[c])
+        codes, uniques = (values.cat.codes.to_numpy(), values.cat.categories) if isinstance(
+            values.dtype, pd.CategoricalDtype) else pd.factorize(values)
+        known = pd.Index(keys[c].unique())
+        where = np.append(known.get_indexer(pd.Index(np.asarray(uniques, dtype=object))), -1)
+        part = where[codes]  # code -1 (none) -> -1
+        joint = np.where((joint < 0) | (part < 0), -1, joint * len(known) + part)
+        sizes.append(len(known))
+    table = np.full(int(np.prod(sizes)), -1, dtype=np.int64)
+    key_codes = np.zeros(len(keys), dtype=np.int64)
+    for c, size in zip(LIMIT_KEY, sizes):
+        key_codes = key_codes * size + pd.Index(keys[c].unique()).get_indexer(keys[c])
+    if not len(table):
+        return np.full(len(screened), -1, dtype=np.int64)
+    table[key_codes] = np.arange(len(keys))  # keys are distinct (limit_keys)
+    return np.where(joint < 0, -1, table[np.maximum(joint, 0)])
