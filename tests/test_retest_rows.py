@@ -99,7 +99,7 @@ def test_first_of_each_equals_pandas_duplicated(seed):
 def test_text_order_check_by_arrow_equals_pandas(texts):
     """The categories' text-order test by Arrow's byte compare equals pandas' (Python str order:
     code points) is_monotonic_increasing and is_unique."""
-    from tracescreen.retest.rows import _ascending
+    from tracescreen.retest.rows import _strictly_ascending
 
     cats = pd.Index(texts, dtype="str")
-    assert _ascending(cats) == cats.is_monotonic_increasing
+    assert _strictly_ascending(cats) == (cats.is_monotonic_increasing and cats.is_unique)

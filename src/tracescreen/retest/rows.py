@@ -117,7 +117,7 @@ def text_rank(col: pd.Series):
     if not isinstance(col.dtype, pd.CategoricalDtype):
         return col
     cats, codes = col.cat.categories, col.cat.codes.to_numpy()
-    if _ascending(cats) and cats.is_unique:  # the codes are in text order
+    if _strictly_ascending(cats):  # (sorted, unique) the codes are in text order
         missing = -1 if not len(cats) or cats[0] != "" else 0  # missing sorts as "", the least text
         return pd.Series(np.where(codes < 0, missing, codes), index=col.index)
     used, where = np.unique(codes, return_inverse=True)  # the categories in use, text sorted once each
@@ -126,15 +126,15 @@ def text_rank(col: pd.Series):
     return pd.Series(rank[where], index=col.index)
 
 
-def _ascending(cats: pd.Index) -> bool:
-    """``cats.is_monotonic_increasing``, by Arrow's compare kernels for text held by Arrow (a run's sample
-    ids are a million categories: pandas would make a Python string of each). Arrow compares UTF-8 bytes,
-    whose order is the order of code points, as Python compares str."""
+def _strictly_ascending(cats: pd.Index) -> bool:
+    """``cats.is_monotonic_increasing and cats.is_unique``, by Arrow's compare kernels for text held by
+    Arrow (a run's sample ids are a million categories: pandas would make a Python string of each and
+    hash it). Arrow compares UTF-8 bytes, whose order is the order of code points, as Python compares str."""
     arrow = getattr(cats.array, "__arrow_array__", None)
     if arrow is None or cats.dtype != "str" or len(cats) < 2:
-        return cats.is_monotonic_increasing
+        return cats.is_monotonic_increasing and cats.is_unique
     text = arrow()
-    return bool(pc.all(pc.less_equal(text[:-1], text[1:])).as_py())
+    return bool(pc.all(pc.less(text[:-1], text[1:])).as_py())
 
 
 def sort_as_text(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
