@@ -64,3 +64,29 @@ def test_join_frames_equals_concat_and_keeps_text_categorical():
         ref["site_id"].where(ref["site_id"].notna(), None).tolist()
     np.testing.assert_array_equal(out["v"].to_numpy(), ref["v"].to_numpy())
     assert out["lab"].iloc[0] == "x" and out["lab"].iloc[1:].isna().all()
+
+
+def test_a_part_holds_only_the_categories_its_rows_use(demo_loaded, tmp_path):
+    """Each part's text columns keep only the texts of its own sites' rows (in the run's order), so a
+    part's Parquet dictionaries hold no other part's sample ids; the values are the run's (common
+    practice: a dictionary page lists the values of its column chunk)."""
+    import pyarrow.parquet as pq
+
+    from tracescreen.report.streams import TableStream
+    from tracescreen.screening.parts import site_partitions
+
+    acc = demo_loaded.loaded.accepted
+    parts = list(site_partitions(acc, 900))
+    assert len(parts) > 3
+    with TableStream(tmp_path / "t.parquet", "parquet") as out:
+        for positions, part in parts:
+            for c in ("sample_id", "site_id", "result_text"):
+                cats = part[c].cat.categories
+                assert len(cats) == part[c].nunique() < len(acc[c].cat.categories)
+                assert list(cats) == [x for x in acc[c].cat.categories if x in set(cats)]  # order kept
+                assert part[c].astype(str).tolist() == acc[c].iloc[positions].astype(str).tolist()
+            out.write(part[["site_id", "sample_id"]])
+    f = pq.ParquetFile(tmp_path / "t.parquet")
+    for k, (_, part) in enumerate(parts):
+        ids = f.read_row_group(k)["sample_id"]
+        assert len(ids.chunk(0).dictionary) == part["sample_id"].nunique()

@@ -29,6 +29,14 @@ def test_t_quantile_from_a_t_table():
     assert np.isnan(ucl_km_t(1.0, 1.0, 1)[0])
 
 
+def test_t_quantiles_equal_scipy_stats():
+    """The t quantile of every sample size 2 .. 2000 equals scipy.stats.t.ppf (reference library), to the bit."""
+    from scipy import stats
+
+    n = np.arange(2, 2001)
+    assert np.array_equal(ucl_km_t(np.zeros(n.size), np.ones(n.size), n), stats.t.ppf(0.95, n - 1))
+
+
 def test_standard_error_without_non_detects_is_s_over_root_n():
     """No non-detects: KM mean = sample mean, se = s / sqrt(n) (Helsel 2012, ch. 6)."""
     x = np.array([3.0, 1, 4, 1, 5, 9, 2, 6, 5, 3])

@@ -243,7 +243,6 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
     DataFrame
         One row per group code: ``mean``, ``sd``, ``q<100 p>`` [µg/L], ``method``.
     """
-    from scipy import stats  # imported on use (a slow import)
     if method not in METHODS:
         raise ValueError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
     x, nd = as_series(values, nondetect)
@@ -272,7 +271,9 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
             mu, sigma = _lognormal_mle_rows(chunk.take(x[todo], 1.0), chunk.take(nd[todo], False),
                                             chunk.valid)
             mean = np.exp(mu + sigma**2 / 2)
-            q = np.exp(mu[:, None] + sigma[:, None] * stats.norm.ppf(np.asarray(probs, float)))
+            from scipy import special
+
+            q = np.exp(mu[:, None] + sigma[:, None] * special.ndtri(np.asarray(probs, float)))  # normal quantiles
             out.iloc[chunk.groups] = np.column_stack([mean, mean * np.sqrt(np.expm1(sigma**2)), q])
     out["method"] = label
     return out

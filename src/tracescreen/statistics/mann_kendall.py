@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special  # the normal distribution's functions (scipy.stats, a slow import, calls these)
 
 from tracescreen.statistics import long_series
 from tracescreen.statistics.censored import _km_rows
@@ -259,7 +259,7 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     codes = np.asarray(codes, dtype=np.int64)
     if np.isnan(y).any() or np.isnan(t).any():
         raise ValueError("times and values must not contain NaN")
-    z_crit = stats.norm.ppf(1 - alpha / 2)
+    z_crit = special.ndtri(1 - alpha / 2)  # standard normal quantile
     cols = {c: np.full(n_groups, np.nan) for c in TREND_COLUMNS}
     cols["slope_method"] = np.full(n_groups, None, dtype=object)
     # S and Var(S) of every series from counts (no pairs); z with the continuity correction
@@ -270,7 +270,7 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
         # reference libraries report z = 0, p = 1 (no trend), not a blank
         cols["z"] = np.where(var_s > 0, z, np.where(pairs > 0, 0.0, np.nan))
         cols["tau"] = s / pairs
-    cols.update(s=s, var_s=var_s, p_value=2.0 * stats.norm.sf(np.abs(cols["z"])),
+    cols.update(s=s, var_s=var_s, p_value=2.0 * special.ndtr(-np.abs(cols["z"])),
                 n=np.bincount(codes, minlength=n_groups).astype(float),
                 n_nondetect=np.bincount(codes, nd, minlength=n_groups).astype(float))
     c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special  # the distributions' functions (scipy.stats, a slow import, calls these)
 
 from tracescreen._internal.text import join_notes
 from tracescreen.statistics import bootstrap, censored
@@ -184,7 +184,7 @@ def ucl_km_t(mean, se, n, level: float = 0.95) -> np.ndarray:
     """
     n = np.atleast_1d(np.asarray(n, dtype=float))
     with np.errstate(invalid="ignore"):
-        t = stats.t.ppf(level, np.where(n >= 2, n - 1, np.nan))
+        t = special.stdtrit(np.where(n >= 2, n - 1, np.nan), level)  # Student's t quantile
     return np.atleast_1d(np.asarray(mean, float)) + t * np.atleast_1d(np.asarray(se, float))
 
 
@@ -200,8 +200,8 @@ def clopper_pearson(k, n, confidence: float = 0.95) -> tuple[np.ndarray, np.ndar
     k, n = np.asarray(k, float), np.asarray(n, float)
     a = (1 - confidence) / 2
     with np.errstate(invalid="ignore", divide="ignore"):
-        low = np.where(k > 0, stats.beta.ppf(a, k, n - k + 1), 0.0)
-        high = np.where(k < n, stats.beta.ppf(1 - a, k + 1, n - k), 1.0)
+        low = np.where(k > 0, special.betaincinv(k, n - k + 1, a), 0.0)
+        high = np.where(k < n, special.betaincinv(k + 1, n - k, 1 - a), 1.0)
     bad = n <= 0
     return np.where(bad, np.nan, low), np.where(bad, np.nan, high)
 
