@@ -78,29 +78,30 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
     mine = series[2] * n_dates + at[2]
     j = np.searchsorted(events, mine)
     has_prev = (j > 0) & (events[np.maximum(j - 1, 0)] // n_dates == series[2])
-    prev = np.where(has_prev, events[np.maximum(j - 1, 0)], -1)
+    prev = np.where(has_prev, events[np.maximum(j - 1, 0)], 0)
 
     def rank(key):  # earlier sampling dates of the series
         k = np.searchsorted(dates, key)
         return k - np.searchsorted(dates_series, key // n_dates)
 
-    n_before = rank(mine)
-    prev_rank = rank(np.maximum(prev, 0))
-    prev_at = pd.Series(np.where(has_prev, day[np.maximum(prev, 0) % n_dates], np.datetime64("NaT")),
-                        dtype=site["sampled_at"].dtype)
+    def prev_at(rows) -> pd.Series:  # the sampling date of the exceedance before, NaT for none
+        return pd.Series(np.where(has_prev[rows], day[prev[rows] % n_dates], np.datetime64("NaT")),
+                         dtype=site["sampled_at"].dtype)
+
     if lookback is None:
         first = ~has_prev
         window = "all earlier results"
     elif isinstance(lookback, (int, np.integer)) and not isinstance(lookback, bool):
         if lookback < 0:
             raise ValueError(f"lookback must be >= 0 sampling dates, got {lookback}")
-        first = ~has_prev | ((n_before - prev_rank) > lookback)
+        first = ~has_prev | ((rank(mine) - rank(prev)) > lookback)
         window = f"{int(lookback)} sampling dates"
     else:
         span = pd.Timedelta(lookback)
-        first = ~has_prev | ((worst["sampled_at"] - prev_at) > span).to_numpy()
+        first = ~has_prev | ((worst["sampled_at"] - prev_at(slice(None))) > span).to_numpy()
         window = f"{span.days} days"
-    worst = worst.assign(_rank=n_before, _prev_at=prev_at)[first].reset_index(drop=True)
+    # ranks and dates of the flagged results only
+    worst = worst[first].reset_index(drop=True).assign(_rank=rank(mine[first]), _prev_at=prev_at(first))
     flagged = flagged_text(worst)
     n_before = flagged["_rank"].astype(int)
     history = pd.Series(np.where(

@@ -200,10 +200,25 @@ def first_of_each(ids: np.ndarray) -> np.ndarray:
 def result_ids(frame: pd.DataFrame) -> np.ndarray | None:
     """One integer per accepted result (equal :data:`RESULT_KEY` values, equal integers), or None when the
     frame lacks the key or the integers would not fit: a key that compares, merges and de-duplicates as
-    one int64 column instead of three."""
+    one int64 column instead of three. Kept for the frames of :func:`results_from_screening` and
+    :func:`single_sample_rows` (several checks key the same part's rows)."""
     key = [c for c in RESULT_KEY if c in frame.columns]
     if not key:
         return None
+    if id(frame) in _IDS and (_made(frame, "single") or _made(frame, "results")):
+        return _IDS[id(frame)]
+    ids = _result_ids(frame, key)
+    if ids is not None and (_made(frame, "single") or _made(frame, "results")):
+        _IDS[id(frame)] = ids
+        weakref.finalize(frame, _IDS.pop, id(frame), None)
+    return ids
+
+
+#: :func:`result_ids` of the frames made by this module, by identity (an entry goes with its frame).
+_IDS: dict[int, np.ndarray] = {}
+
+
+def _result_ids(frame: pd.DataFrame, key: list[str]) -> np.ndarray | None:
     ids, span = np.zeros(len(frame), dtype=np.int64), 1
     for c in key:
         col = frame[c]
