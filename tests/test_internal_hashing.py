@@ -11,7 +11,7 @@ import hashlib
 
 import pytest
 
-from tracescreen._internal.hashing import file_sha256, sha256_hex
+from tracescreen._internal.hashing import HashingWriter, file_sha256, sha256_hex
 
 #: FIPS 180-2 Appendix B.1: SHA-256("abc")
 ABC = "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
@@ -41,3 +41,13 @@ def test_file_sha256_of_an_empty_file(tmp_path):
     path = tmp_path / "empty.csv"
     path.write_bytes(b"")
     assert file_sha256(path) == hashlib.sha256(b"").hexdigest()
+
+
+def test_hashing_writer_equals_the_published_digest(tmp_path):
+    """Bytes written through HashingWriter in pieces hash to the FIPS 180-2 example digest of 'abc', and the
+    file holds them."""
+    path = tmp_path / "abc"
+    with HashingWriter(path) as f:
+        for piece in (b"a", b"", b"bc"):
+            f.write(piece)
+    assert f.hexdigest() == ABC == file_sha256(path) and path.read_bytes() == b"abc"

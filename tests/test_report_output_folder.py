@@ -57,6 +57,24 @@ def test_manifest_is_written_last_and_matches_every_output(lab, tmp_path):
     assert read_manifest(out) is None
 
 
+@pytest.mark.parametrize("fmt", ["csv", "parquet"])
+def test_tables_hashed_as_written_match_their_files(lab, tmp_path, monkeypatch, fmt):
+    """The streamed tables' SHA-256 is taken from the bytes as they are written, not by reading the files
+    again; each equals the hash of the file read back (FIPS 180-4 via hashlib), and a commit reads only the
+    tables written whole."""
+    import tracescreen.report.output_folder as of
+
+    reread = []
+    real = of.file_sha256
+    monkeypatch.setattr(of, "file_sha256", lambda path, *a: reread.append(Path(path).name) or real(path, *a))
+    out = tmp_path / "out"
+    assert main(_screen(lab, out) + ["--format", fmt]) == 0
+    record = json.loads((out / MANIFEST).read_text(encoding="utf-8"))
+    assert {o["file"]: o["sha256"] for o in record["outputs"]} == \
+        {o["file"]: real(out / o["file"]) for o in record["outputs"]}
+    assert f"screening.{fmt}" not in reread and f"retest.{fmt}" not in reread and f"inputs.{fmt}" in reread
+
+
 def test_out_naming_a_file_is_refused_before_any_work(lab, tmp_path, capsys):
     target = tmp_path / "file.txt"
     target.write_text("keep me")

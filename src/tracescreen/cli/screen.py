@@ -98,7 +98,7 @@ def run(args) -> int:
                      "periods"):
             if name in streams:
                 written[name] = streams[name]
-                folder.set_rows(name, streams[name].rows)
+                folder.set_rows(name, streams[name].rows, sha256=streams[name].sha256)
             elif name in whole:
                 written[name] = stage_table(folder, name, *whole[name], fmt, days)
         manifest = folder.commit(res.input_files)

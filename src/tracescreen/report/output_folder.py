@@ -126,6 +126,7 @@ class OutputFolder:
         self.started_at = _now()
         self.inputs: list[dict] = []
         self._staged: list[tuple[str, Path, Path, int | None]] = []  # name, final path, temporary, rows
+        self._sha256: dict[str, str] = {}  # outputs hashed as they were written
 
     def __enter__(self) -> OutputFolder:
         return self
@@ -157,9 +158,12 @@ class OutputFolder:
         self._staged.append((name, final, tmp, None))
         return tmp
 
-    def set_rows(self, name: str, rows: int) -> None:
-        """The number of rows of staged output ``name`` (recorded in the manifest)."""
+    def set_rows(self, name: str, rows: int, sha256: str | None = None) -> None:
+        """The number of rows of staged output ``name`` (recorded in the manifest), and its SHA-256 when the
+        writer hashed the bytes as it wrote them (the commit then does not read the file again)."""
         self._staged = [(n, f, t, rows if n == name else r) for n, f, t, r in self._staged]
+        if sha256 is not None:
+            self._sha256[name] = sha256
 
     def final_path(self, name: str) -> Path:
         """The path staged output ``name`` has (or will have once committed)."""
@@ -186,7 +190,7 @@ class OutputFolder:
         for name, final, tmp, rows in self._staged:
             os.replace(tmp, final)
             outputs.append({"name": name, "file": final.name, "rows": rows, "bytes": final.stat().st_size,
-                            "sha256": file_sha256(final)})
+                            "sha256": self._sha256.get(name) or file_sha256(final)})
         _fsync_dir(self.folder)
         record = {"tool": _tool(), "command": self.command, "started_at": self.started_at,
                   "completed_at": _now(), "complete": True, "options": self.options,

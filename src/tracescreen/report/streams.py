@@ -32,6 +32,7 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 
+from tracescreen._internal.hashing import HashingWriter
 from tracescreen.report.formats import FORMATS, SPREADSHEET_ROWS, too_long_for_spreadsheet
 
 TEXT = pa.dictionary(pa.int32(), pa.string())
@@ -153,7 +154,10 @@ class TableStream:
         self.columns: list[str] | None = None
         self._tmp = begin_file(self.path)
         self._out = None  # the open file, Parquet writer or workbook
+        self._file = None  # CSV and Parquet: the file, hashed as it is written
         self._sheet = None
+        #: SHA-256 of the complete file (CSV and Parquet, once closed; None for XLSX)
+        self.sha256: str | None = None
 
     # -- writing
 
@@ -179,7 +183,7 @@ class TableStream:
 
         header = self._out is None
         if header:
-            self._out = open(self._tmp, "wb")
+            self._out = self._file = HashingWriter(self._tmp)
         for data in csv_blocks(frame, header=header, days=self.days):
             self._out.write(data)
 
@@ -189,7 +193,8 @@ class TableStream:
         table = arrow_part(frame, self.days)
         if self._out is None:
             schema = pa.schema([pa.field(f.name, TEXT if pa.types.is_null(f.type) else f.type) for f in table.schema])
-            self._out = pq.ParquetWriter(self._tmp, schema, compression="snappy", use_dictionary=True)
+            self._file = HashingWriter(self._tmp)
+            self._out = pq.ParquetWriter(self._file, schema, compression="snappy", use_dictionary=True)
         schema = self._out.schema
         try:
             table = table.cast(schema)
@@ -237,14 +242,18 @@ class TableStream:
             self._out.save(self._tmp)
         else:
             self._out.close()
-        self._out = None
+            self._file.close()
+            self.sha256 = self._file.hexdigest()
+        self._out = self._file = None
         return finish_file(self._tmp, self.path)
 
     def abort(self) -> None:
         """Stop writing and remove the unfinished file (the target is left as it was)."""
         if self._out is not None and self.fmt != "xlsx":
             self._out.close()
-        self._out = None
+        if self._file is not None:
+            self._file.close()
+        self._out = self._file = None
         discard_file(self._tmp)
 
     def __enter__(self) -> "TableStream":

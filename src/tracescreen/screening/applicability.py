@@ -68,12 +68,16 @@ def applicable_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) 
     p_entry = pairs["_e"].to_numpy()[keep]
     order = np.argsort(p_key, kind="stable")
     p_key, p_entry = p_key[order], p_entry[order]
-    start = np.searchsorted(p_key, r_key, side="left")
-    stop = np.searchsorted(p_key, r_key, side="right")
-    counts = stop - start
+    # keys are numbers below n_keys: each key's first pair and count by table look-up, not a search per result
+    n_keys = len(site_cat) * n_a * n_f
+    per_key = np.bincount(p_key, minlength=n_keys)
+    first = np.cumsum(per_key) - per_key
+    inside = (r_key >= 0) & (r_key < n_keys)  # (a missing code can make a key of no pair)
+    at = np.where(inside, r_key, 0)
+    start, counts = first[at], np.where(inside, per_key[at], 0) if n_keys else np.zeros(len(r_key), np.int64)
+    ends = np.cumsum(counts)
     r_pos = np.repeat(np.arange(len(results)), counts)
-    offsets = np.arange(len(r_pos)) - np.repeat(np.cumsum(counts) - counts, counts)
-    e_pos = p_entry[np.repeat(start, counts) + offsets]
+    e_pos = p_entry[np.repeat(start - ends + counts, counts) + np.arange(len(r_pos))]
     return r_pos, e_pos
 
 

@@ -37,10 +37,40 @@ def _codes(col: pd.Series, rows: np.ndarray) -> np.ndarray:
     return pd.factorize(col.to_numpy()[rows])[0].astype(np.int64) + 1
 
 
+def _text_at(col: pd.Series, rows: np.ndarray) -> np.ndarray:
+    """The text of ``col`` at ``rows`` (object array); a categorical's text from its categories."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        codes = col.cat.codes.to_numpy()[rows]
+        if (codes >= 0).all():
+            return np.asarray(col.cat.categories.astype(str), dtype=object)[codes]
+    return col.astype(str).to_numpy(dtype=object)[rows]
+
+
 def infrequent_series(screened: pd.DataFrame, rows: np.ndarray) -> np.ndarray:
-    """For screening rows ``rows``: True where the row's series is sampled once a year or less."""
+    """For screening rows ``rows``: True where the row's series is sampled once a year or less
+    (median interval between its distinct sampling days; a series of one day counts as infrequent)."""
     code, _ = joint_codes(*(_codes(screened[c], rows) for c in ("limit_table", "site_id", "analyte", "fraction")))
     day = pd.to_datetime(screened["sampled_at"].to_numpy()[rows]).normalize().to_numpy()
+    n_series = int(code.max()) + 1 if len(code) else 0
+    if np.isnat(day).any():  # a missing date: by pandas (NaT days sort last and give no interval)
+        return _infrequent_by_frame(code, day)
+    d = day.astype("datetime64[D]").astype(np.int64)
+    d -= d.min() if len(d) else 0
+    span = int(d.max()) + 1 if len(d) else 1
+    pairs = np.unique(code * span + d)  # distinct (series, day), by series then day
+    series, days = np.divmod(pairs, span)
+    same = series[1:] == series[:-1]
+    gap, of = (days[1:] - days[:-1])[same], series[1:][same]
+    gap = gap[np.lexsort((gap, of))]  # each series' intervals in order (series stay in order)
+    count = np.bincount(of, minlength=n_series)
+    first = np.cumsum(count) - count
+    has = count > 0
+    median = np.full(n_series, np.nan)
+    median[has] = (gap[(first + (count - 1) // 2)[has]] + gap[(first + count // 2)[has]]) / 2
+    return (~has | (median >= ANNUAL_INTERVAL_DAYS))[code]
+
+
+def _infrequent_by_frame(code: np.ndarray, day: np.ndarray) -> np.ndarray:
     frame = pd.DataFrame({"g": code, "d": day}).drop_duplicates().sort_values(["g", "d"])
     gaps = frame.groupby("g")["d"].diff().dt.days
     median_gap = gaps.groupby(frame["g"]).median()  # NaN for a series of one sampling day
@@ -62,7 +92,7 @@ def apply_sampling_frequency(screened: pd.DataFrame, limits) -> pd.DataFrame:
     rows = rows[infrequent_series(screened, rows)]
     if not len(rows):
         return screened
-    note = screened["note"].astype(str).to_numpy(dtype=object)[rows]
+    note = _text_at(screened["note"], rows)
     note = np.where(note == "", NOTE, note + "; " + NOTE)
     return screened.assign(basis=replace_at(screened["basis"], rows, np.full(len(rows), "single_sample", dtype=object)),
                            note=replace_at(screened["note"], rows, note))

@@ -113,8 +113,9 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
     above = above_range(results)
     status = status_codes(det[r_pos], val[r_pos], dl[r_pos], limit, rel_tol, above[r_pos])
     if cross.any():  # cross-fraction pairs stay only where they decide (screening/fractions.py)
-        e_frac = entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos]
-        stay = ~cross | fractions.deciding(status, e_frac)
+        ci = np.flatnonzero(cross)  # only these pairs are decided (the others stay)
+        stay = ~cross
+        stay[ci] = fractions.deciding(status[ci], entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos[ci]])
         r_pos, e_pos, cross, H, limit, status, form_remark, unusable = (
             a[stay] for a in (r_pos, e_pos, cross, H, limit, status, form_remark, unusable))
         formula = limits_mod.is_formula(entries)[e_pos]

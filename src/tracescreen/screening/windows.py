@@ -14,8 +14,19 @@ WINDOW_MONTHS = 12
 
 
 def period_bounds(sampled_at: pd.Series, period: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Label, first day and last day of the monitoring period of each date (vectorised)."""
+    """Label, first day and last day of the monitoring period of each date (vectorised; each distinct
+    month is worked out once)."""
     t = pd.DatetimeIndex(sampled_at)
+    if t.hasnans or len(t) < 2:
+        return _period_bounds(t, period)
+    month = t.year.to_numpy().astype(np.int64) * 12 + t.month.to_numpy() - 1  # a period holds whole months
+    _, first, inverse = np.unique(month, return_index=True, return_inverse=True)
+    label, start, end = _period_bounds(t[first], period)
+    inverse = inverse.ravel()
+    return label[inverse], start[inverse], end[inverse]
+
+
+def _period_bounds(t: pd.DatetimeIndex, period: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     year = t.year.to_numpy()
     ytxt = pd.Index(year.astype(str))
     if period == "calendar_year":
