@@ -61,3 +61,19 @@ def test_sorted_categorical_orders_by_code_point():
     """Category order is by Unicode code point, as Python sorts str (common practice for text sort)."""
     cat = sorted_categorical(np.array([0, 1, 2, 0]), ["b", "B", "µ"])
     assert list(cat.categories) == sorted(["b", "B", "µ"])
+
+
+@given(TEXTS, st.lists(st.booleans(), min_size=60, max_size=60))
+@settings(max_examples=100, deadline=None)
+def test_kept_categorical_equals_pandas_categorical_of_the_kept_rows(texts, keep):
+    """kept_categorical worked out per value equals pandas.Categorical of the kept rows' texts (the reference):
+    same codes, same categories (sorted, only texts of kept rows)."""
+    from tracescreen._internal.coded import kept_categorical
+
+    c = CodedText.from_series(pd.Series(texts, dtype="str"))
+    per_value = np.asarray(c.values, dtype=object)
+    mask = np.array(keep[:len(texts)])
+    got = kept_categorical(per_value, c.codes, mask)
+    ref = pd.Categorical(per_value[c.codes][mask].astype(str))
+    assert list(got.categories) == list(ref.categories) and got.categories.dtype == ref.categories.dtype
+    np.testing.assert_array_equal(got.codes, ref.codes)

@@ -76,3 +76,30 @@ def test_result_ids_equal_exactly_for_equal_keys():
             for j in range(len(frame)):
                 assert (ids[i] == ids[j]) == (keys[i] == keys[j])
     assert result_ids(frame.drop(columns=["file", "sheet", "row"])) is None
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_first_of_each_equals_pandas_duplicated(seed):
+    """first_of_each (runs of equal ids, checked to be distinct) marks the same rows as
+    ~pandas.Series.duplicated (the reference), for ids in runs, shuffled, and runs that come back."""
+    from tracescreen.retest.rows import first_of_each
+
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(0, 40))
+    ids = np.repeat(rng.permutation(n), rng.integers(1, 4, n))  # runs, distinct, not rising
+    if seed % 3 == 1:
+        ids = rng.integers(0, 8, len(ids))  # ids that come back after other ids
+    elif seed % 3 == 2:
+        ids = np.sort(ids)
+    np.testing.assert_array_equal(first_of_each(ids), ~pd.Series(ids, dtype="int64").duplicated().to_numpy())
+
+
+@pytest.mark.parametrize("texts", [["a", "b", "c"], ["a", "a", "b"], ["b", "a"], ["A", "a", "é", "z"], ["z", "é"],
+                                   ["", "x"], ["x"], []])
+def test_text_order_check_by_arrow_equals_pandas(texts):
+    """The categories' text-order test by Arrow's byte compare equals pandas' (Python str order:
+    code points) is_monotonic_increasing and is_unique."""
+    from tracescreen.retest.rows import _strictly_ascending
+
+    cats = pd.Index(texts, dtype="str")
+    assert _strictly_ascending(cats) == (cats.is_monotonic_increasing and cats.is_unique)

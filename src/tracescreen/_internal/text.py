@@ -26,6 +26,10 @@ def format_number(values, digits: int = 4) -> pd.Series:
     """
     index = values.index if isinstance(values, pd.Series) else None
     v = np.asarray(values, dtype=float)
+    if v.ndim == 1 and len(v) > 64:  # each distinct number formatted once (limits repeat, results often)
+        codes, distinct = pd.factorize(v, use_na_sentinel=False)
+        if len(distinct) < len(v):
+            return pd.Series(format_number(distinct, digits).to_numpy()[codes], index=index, dtype=object)
     out = np.full(v.shape, np.nan)
     ok = np.isfinite(v) & (v != 0)
     mag = np.zeros(v.shape)

@@ -91,22 +91,25 @@ _UNKNOWN_ANALYTE = re.compile(r"analyte '.*?' is not in the analyte registry \(n
 
 def sample_inputs_from_rows(analyte_text, dissolved: np.ndarray, aside: np.ndarray, parsed: dict, combo: np.ndarray,
                             unit_codes: np.ndarray, unit_plain, ug_per_L_factor: np.ndarray,
-                            sample_code: np.ndarray) -> dict[str, np.ndarray]:
+                            sample_code) -> dict[str, np.ndarray]:
     """The loader's step for input rows: mark them set aside with their reason (in ``aside``, in place;
     other reasons such as a rejected result stay) and return column -> value per row of the sample.
 
     ``analyte_text`` is the analyte column (coded text), ``dissolved`` a bool per row, ``parsed`` and
     ``combo`` the parsed results per distinct combination and each row's combination, ``unit_codes``
-    each row's distinct-unit code into ``unit_plain`` / ``ug_per_L_factor``.
+    each row's distinct-unit code into ``unit_plain`` / ``ug_per_L_factor``; ``sample_code`` (one code per
+    sample, or a function giving them) is worked out only for a table holding input rows.
     """
     n = len(dissolved)
     names = analyte_text.series()
-    kind = analyte_text.rows(input_kind(names, np.zeros(len(names), dtype=bool)).astype(object))
-    doc_if_dissolved = analyte_text.rows(input_kind(names, np.ones(len(names), dtype=bool)).astype(object))
-    kind = np.where((kind == "") & (doc_if_dissolved == "doc") & dissolved, "doc", kind)
-    is_input = kind != ""
+    v_kind = input_kind(names, np.zeros(len(names), dtype=bool)).astype(object)  # per distinct label
+    v_doc = (v_kind == "") & (input_kind(names, np.ones(len(names), dtype=bool)) == "doc")
+    doc = analyte_text.rows(v_doc) & dissolved
+    is_input = analyte_text.rows(v_kind != "") | doc
     if not is_input.any():
         return {c: np.full(n, np.nan) for c in COLUMNS.values()}
+    kind = np.where(doc, "doc", analyte_text.rows(v_kind))
+    sample_code = sample_code() if callable(sample_code) else sample_code
     other = np.array([_UNKNOWN_ANALYTE.sub("", a) for a in aside[is_input]], dtype=object)
     words = np.array([WORDS[k] for k in kind[is_input]], dtype=object)
     aside[is_input] = words + " result: used as an input of the sample's computed limits" + \

@@ -131,7 +131,7 @@ def read_csv(data: bytes, name: str, path: str, opts: LoadOptions) -> RawTable:
     else:
         text = _decode(data, name, encoding)
         body = text.encode("utf-8")
-    if not body.strip():
+    if not body or body.isspace():  # (not a stripped copy of the whole file)
         raise LoadError(f"{name}: the file is empty")
     head_lines = _head(body, HEADER_SEARCH_ROWS).decode("utf-8", errors="replace").splitlines()
     csv.field_size_limit(sys.maxsize if sys.maxsize < 2 ** 63 else 2 ** 62)  # cells of any size

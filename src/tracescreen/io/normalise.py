@@ -18,7 +18,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes
+from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes, kept_categorical
 from tracescreen._internal.printable import printable_array
 from tracescreen.io import (
     analytes,
@@ -55,8 +55,8 @@ class _Rows:
     that are not results for screening)."""
 
     def __init__(self, n: int):
-        self.reject = np.full(n, "", dtype=object)
-        self.aside = np.full(n, "", dtype=object)
+        self.reject, self.aside = np.empty(n, dtype=object), np.empty(n, dtype=object)
+        self.reject[:], self.aside[:] = "", ""  # (np.full of an object is slower)
 
     @staticmethod
     def _add(reasons: np.ndarray, mask: np.ndarray, msg) -> None:
@@ -204,7 +204,7 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
                             dtype=object)
     frac_aside = frac_text.rows(v_frac_aside != "")
     rows.set_aside(frac_aside, _quoted(frac_text, frac_aside, "fraction ", " is not screened: ")
-                   + frac_text.rows(v_frac_aside)[frac_aside])
+                   + v_frac_aside[frac_text.codes[frac_aside]])
     bad_frac = frac_text.rows(v_bad_frac & (v_frac_aside == ""))
     rows.error(bad_frac, _quoted(frac_text, bad_frac, "fraction ", " is not total or dissolved"))
     given = frac_text.rows(_fraction_codes(v_fraction))
@@ -230,11 +230,12 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     rows.error(bad_unit & unit_text.equals(""), "unit is empty")
     bu = bad_unit & ~unit_text.equals("")
     rows.error(bu, _quoted(unit_text, bu, "unit ", " is not a concentration unit tracescreen knows"))
-    species = unit_text.rows(v_species.to_numpy(dtype=object))
-    symbol = analyte_text.rows(np.asarray(pd.Series(names, dtype=object).map(analytes.symbol_of()).fillna(""),
-                                          dtype=object))
-    wrong_sp = (species != "") & ~is_hardness & ~v_no_name[analyte_text.codes] & \
-        (pd.Series(species, dtype=object).str.lower().to_numpy() != pd.Series(symbol, dtype=object).str.lower().to_numpy())
+    v_species = v_species.to_numpy(dtype=object)
+    v_symbol = pd.Series(names, dtype=object).map(analytes.symbol_of()).fillna("")
+    # species and element compared without case, per distinct unit and analyte text (codes of one vocabulary)
+    same = pd.factorize(pd.concat([pd.Series(v_species, dtype=object), v_symbol]).str.lower().to_numpy())[0]
+    wrong_sp = unit_text.rows(v_species != "") & ~is_hardness & ~v_no_name[analyte_text.codes] & \
+        (same[:len(v_species)][unit_text.codes] != same[len(v_species):][analyte_text.codes])
     rows.error(wrong_sp, _quoted(unit_text, wrong_sp, "unit ", " states a species other than the element "
                                                                 "(a molar-mass conversion is not guessed)"))
 
@@ -285,11 +286,10 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     st_kind = pd.Series(v_sample_type, dtype=object).fillna("").astype(str)
     v_st_aside = st_kind.str.startswith("set_aside:").to_numpy(dtype=bool)
     st_aside = st_text.rows(v_st_aside)
-    kinds = st_text.rows(st_kind.str.removeprefix("set_aside:").map(
-        lambda k: parsing.SET_ASIDE_KINDS.get(k, k)).to_numpy(dtype=object))
-    rows.set_aside(st_aside, kinds[st_aside] + " (sample type '" + st_text.text_at(st_aside) + "')")
+    v_kinds = st_kind.str.removeprefix("set_aside:").map(lambda k: parsing.SET_ASIDE_KINDS.get(k, k)).to_numpy(dtype=object)
+    rows.set_aside(st_aside, v_kinds[st_text.codes[st_aside]] + " (sample type '" + st_text.text_at(st_aside) + "')")
     v_sample_type = np.where(v_st_aside | pd.isna(v_sample_type).astype(bool), "sample", v_sample_type)
-    qc_medium = medium.rows(v_medium == "water_qc") & ~st_aside & (st_text.rows(v_sample_type) == "sample")
+    qc_medium = medium.rows(v_medium == "water_qc") & ~st_aside & st_text.rows(v_sample_type == "sample")
     rows.set_aside(qc_medium, _quoted(medium, qc_medium, "quality-control sample of unstated kind (medium ", ")"))
     bad_st = st_text.rows(v_bad_st)
     rows.error(bad_st, _quoted(st_text, bad_st, "sample_type ", " is not a sample type tracescreen knows "
@@ -314,15 +314,16 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     row_hardness = hard_text.rows(v_hardness)
     if is_hardness.any():  # hardness result rows [mg/L as CaCO3] -> hardness of the same sample
         ok_h = is_hardness & parsed["detected"][combo] & pd.isna(parsed["error"][combo]).astype(bool) \
-            & ~np.isnan(v_factor[unit_text.codes]) & np.isin(species, ["", "CaCO3", "caco3"])
+            & ~np.isnan(v_factor[unit_text.codes]) \
+            & unit_text.rows(np.isin(v_species, ["", "CaCO3", "caco3"]))
         h_mg_L = parsed["value"][combo] * v_factor[unit_text.codes] / 1000.0
         from_rows = hardness_rows.hardness_of_samples(joint_codes(site.codes, sample.codes)[0], ok_h, h_mg_L)
         row_hardness = np.where(np.isnan(row_hardness), from_rows, row_hardness)
 
     # pH, DOC and temperature rows -> the inputs of the sample's computed limits
-    sample_code, _ = joint_codes(site.codes, sample.codes)
     chem = chemistry_rows.sample_inputs_from_rows(analyte_text, fraction == 2, rows.aside, parsed, combo,
-                                                  unit_text.codes, v_unit_plain, v_factor, sample_code)
+                                                  unit_text.codes, v_unit_plain, v_factor,
+                                                  lambda: joint_codes(site.codes, sample.codes)[0])
 
     # -- impossible numbers: never screened ----------------------------------------------------------
     factor = v_factor[unit_text.codes[first]]  # per combination
@@ -365,15 +366,15 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "analysed_at": an_text.rows(an_dates)[ok],
         "hardness_mg_L": row_hardness[ok],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
-        "qualifier_meaning": pd.Categorical(parsed["meaning"][okc].astype(str)),
+        "qualifier_meaning": kept_categorical(parsed["meaning"], combo, ok),
         **{c: chem[c][ok] for c in INPUT_COLUMNS},
         "quantitation_limit_ug_L": units.clean_decimal(parsed["quantitation_limit"] * factor)[okc],
     }, copy=False)
     not_ok = ~ok
     nc = combo[not_ok]
     parsed_cols = {
-        "analyte": np.where(v_no_name, analyte_text.values, names)[analyte_text.codes][not_ok],
-        "fraction": _FRACTIONS[fraction][not_ok],
+        "analyte": np.where(v_no_name, analyte_text.values, names)[analyte_text.codes[not_ok]],
+        "fraction": _FRACTIONS[fraction[not_ok]],
         "sample_type": st_text.text_at(not_ok),
         "batch": col("batch").text_at(not_ok),
         "value_ug_L": units.clean_decimal(parsed["value"] * factor)[nc],

@@ -118,8 +118,10 @@ def finish(name, path, sheet, header_row, cells, rows) -> RawTable:
     """The :class:`RawTable` of a sheet's cells, rows whose every cell is empty counted and dropped."""
     cells = cells.fillna("").astype(str) if len(cells.columns) else cells
     blank = np.ones(len(cells), dtype=bool)
-    for c in cells.columns:  # a loop over columns, not rows
+    for c in cells.columns:  # a loop over columns, not rows; done once no row is empty so far
         blank &= (cells[c] == "").to_numpy()
+        if not blank.any():
+            break
     if not blank.any():
         return RawTable(name, path, sheet, header_row, cells, rows, 0)
     return RawTable(name, path, sheet, header_row, cells[~blank].reset_index(drop=True), rows[~blank],

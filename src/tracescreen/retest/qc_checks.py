@@ -179,6 +179,17 @@ def blank_contamination(results: pd.DataFrame, multiple: float = 5.0, blanks: pd
     return retest_rows(hit, "blank_contamination", detail)
 
 
+#: Columns of a dissolved and total pair that the check and its retest rows read.
+_PAIRED = ["site_id", "sample_id", "analyte", "fraction", "sampled_at", "lab", "batch", "value_ug_L", "detected",
+           "detection_limit_ug_L"]
+
+
+def _with_codes(frame: pd.DataFrame, key: dict[str, str]) -> pd.DataFrame:
+    """``frame`` with each column of ``key`` (a categorical's integer codes, else itself) under its new name."""
+    return frame.assign(**{new: frame[c].cat.codes if isinstance(frame[c].dtype, pd.CategoricalDtype) else frame[c]
+                           for c, new in key.items()})
+
+
 def dissolved_exceeds_total(results: pd.DataFrame, percent: float = 30.0, min_multiple: float = 5.0,
                             abs_multiple: float = 2.0) -> pd.DataFrame:
     """Samples whose dissolved result is above the total result by more than the allowed margin.
@@ -213,9 +224,13 @@ def dissolved_exceeds_total(results: pd.DataFrame, percent: float = 30.0, min_mu
     """
     res = results_from_screening(results)
     res = res[res["sample_type"].isin(["sample", "field_duplicate"])]
+    res = res[[c for c in _PAIRED if c in res.columns]]  # what the details and rows need
     dis = res[res["fraction"].eq("dissolved") & res["detected"].astype(bool)]
     tot = res[res["fraction"].eq("total")]
-    pairs = dis.merge(tot, on=["site_id", "sample_id", "analyte"], suffixes=("_d", "_t"))
+    # paired on the integer codes of the text keys (the two sides share their categories): pandas would
+    # first compare the categories, a million sample ids
+    key = {c: f"_{c}" for c in ("site_id", "sample_id", "analyte")}
+    pairs = _with_codes(dis, key).merge(_with_codes(tot, key), on=list(key.values()), suffixes=("_d", "_t"))
     if pairs.empty:
         return empty_retest()
     d, t = pairs["value_ug_L_d"], censored_value(pairs, "_t")

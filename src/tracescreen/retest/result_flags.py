@@ -18,6 +18,7 @@ from tracescreen.retest.rows import (
     RTOL,
     SERIES_KEY,
     empty_retest,
+    first_of_each,
     flagged_text,
     limit_label,
     meaning_mask,
@@ -51,41 +52,57 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
         Retest rows, reason ``first_exceedance``.
     """
     site = single_sample_rows(screening)
-    exc = site[site["status"].eq("exceeds")]
+    exc = site[site["status"].eq("exceeds").to_numpy()]
     if exc.empty:
         return empty_retest()
-    # the worst limit per result for the detail
-    exc = exc.assign(_r=exc["value_ug_L"] / exc["limit_ug_L"])
-    worst = exc.sort_values("_r", ascending=False, kind="stable").drop_duplicates(
-        [c for c in RESULT_KEY if c in exc.columns] or None)
+    # the worst limit per result for the detail (ratio descending, ties in table order, NaN last)
+    order = np.argsort(-(exc["value_ug_L"] / exc["limit_ug_L"]).to_numpy(dtype=float), kind="stable")
+    ids = result_ids(exc)
+    if ids is None:
+        key = [c for c in RESULT_KEY if c in exc.columns]
+        firsts = ~exc.iloc[order].duplicated(key or None).to_numpy()
+    else:
+        firsts = ~pd.Series(ids[order]).duplicated().to_numpy()
+    worst = exc.iloc[order[firsts]].reset_index(drop=True)
 
-    # sampling dates of each series, ranked; exceedance dates and the previous one
-    dates = site[SERIES_KEY + ["sampled_at"]]
+    # each series' sampling dates ranked (one row per result: a result's rows share series and date), the
+    # dates with an exceedance, and for each the one before it in the same series
+    at, day = _date_codes(site["sampled_at"], exc["sampled_at"], worst["sampled_at"])
+    series = _series_codes([site, exc, worst])
     ids = result_ids(site)
-    if ids is not None:  # one row per result first (a result's rows share its series and date): fewer rows to compare
-        dates = dates[~pd.Series(ids).duplicated().to_numpy()]
-    dates = dates.drop_duplicates().sort_values(SERIES_KEY + ["sampled_at"])
-    dates["_rank"] = dates.groupby(SERIES_KEY, sort=False).cumcount()
-    events = exc[SERIES_KEY + ["sampled_at"]].drop_duplicates().merge(dates, on=SERIES_KEY + ["sampled_at"])
-    events = events.sort_values(SERIES_KEY + ["sampled_at"])
-    g = events.groupby(SERIES_KEY, sort=False)
-    events["_prev_at"] = g["sampled_at"].shift(1)
-    events["_prev_rank"] = g["_rank"].shift(1)
-    none_before = events["_prev_at"].isna()
+    one = slice(None) if ids is None else first_of_each(ids)
+    n_dates = len(day)
+    dates = _distinct(series[0][one] * n_dates + at[0][one])  # (series, date)
+    dates_series = dates // n_dates
+    events = _distinct(series[1] * n_dates + at[1])
+    mine = series[2] * n_dates + at[2]
+    j = np.searchsorted(events, mine)
+    has_prev = (j > 0) & (events[np.maximum(j - 1, 0)] // n_dates == series[2])
+    prev = np.where(has_prev, events[np.maximum(j - 1, 0)], 0)
+
+    def rank(key):  # earlier sampling dates of the series
+        k = np.searchsorted(dates, key)
+        return k - np.searchsorted(dates_series, key // n_dates)
+
+    def prev_at(rows) -> pd.Series:  # the sampling date of the exceedance before, NaT for none
+        return pd.Series(np.where(has_prev[rows], day[prev[rows] % n_dates], np.datetime64("NaT")),
+                         dtype=site["sampled_at"].dtype)
+
     if lookback is None:
-        first = none_before
+        first = ~has_prev
         window = "all earlier results"
     elif isinstance(lookback, (int, np.integer)) and not isinstance(lookback, bool):
         if lookback < 0:
             raise ValueError(f"lookback must be >= 0 sampling dates, got {lookback}")
-        first = none_before | ((events["_rank"] - events["_prev_rank"]) > lookback)
+        first = ~has_prev | ((rank(mine) - rank(prev)) > lookback)
         window = f"{int(lookback)} sampling dates"
     else:
         span = pd.Timedelta(lookback)
-        first = none_before | ((events["sampled_at"] - events["_prev_at"]) > span)
+        first = ~has_prev | ((worst["sampled_at"] - prev_at(slice(None))) > span).to_numpy()
         window = f"{span.days} days"
-    events = events[first]
-    flagged = flagged_text(worst.merge(events, on=SERIES_KEY + ["sampled_at"]))
+    # ranks and dates of the flagged results only
+    worst = worst[first].reset_index(drop=True).assign(_rank=rank(mine[first]), _prev_at=prev_at(first))
+    flagged = flagged_text(worst)
     n_before = flagged["_rank"].astype(int)
     history = pd.Series(np.where(
         n_before.eq(0), "no earlier results",
@@ -97,6 +114,41 @@ def first_exceedance(screening: pd.DataFrame, lookback=None) -> pd.DataFrame:
               + " > limit " + ug(flagged["limit_ug_L"]) + " (" + limit_label(flagged) + "); " + history
               + bias_note(flagged))
     return retest_rows(flagged, "first_exceedance", detail)
+
+
+def _date_codes(*dates: pd.Series) -> tuple[list[np.ndarray], np.ndarray]:
+    """Each date's place among the distinct dates of all of ``dates`` (one array per Series), and those
+    dates sorted (NaT last): the dates hashed as integers, only the distinct ones sorted."""
+    values = [d.to_numpy() for d in dates]
+    nat = np.iinfo(np.int64).max
+    ticks = np.concatenate([np.where(np.isnat(v), nat, v.view(np.int64)) for v in values])
+    codes, distinct = pd.factorize(ticks)
+    order = np.argsort(distinct, kind="stable")
+    place = np.empty(len(order), dtype=np.int64)
+    place[order] = np.arange(len(order))
+    codes = place[codes]
+    bounds = np.cumsum([0] + [len(v) for v in values])
+    day = np.where(distinct[order] == nat, np.iinfo(np.int64).min, distinct[order]).view(values[0].dtype)
+    return [codes[bounds[i]:bounds[i + 1]] for i in range(len(values))], day
+
+
+def _distinct(values: np.ndarray) -> np.ndarray:
+    """The distinct values, sorted (a sort and a comparison of neighbours)."""
+    v = np.sort(values)
+    return v[np.r_[True, v[1:] != v[:-1]]] if len(v) else v
+
+
+def _series_codes(frames: list[pd.DataFrame]) -> list[np.ndarray]:
+    """One integer per series (:data:`SERIES_KEY`), the same across ``frames`` (rows of one table)."""
+    codes = pd.concat([f[SERIES_KEY] for f in frames], ignore_index=True)
+    key = np.zeros(len(codes), dtype=np.int64)
+    for c in SERIES_KEY:
+        col = codes[c]
+        k, uniques = (col.cat.codes.to_numpy().astype(np.int64), col.cat.categories) \
+            if isinstance(col.dtype, pd.CategoricalDtype) else pd.factorize(col, use_na_sentinel=False)
+        key = key * (len(uniques) + 1) + k + 1
+    bounds = np.cumsum([0] + [len(f) for f in frames])
+    return [key[bounds[i]:bounds[i + 1]] for i in range(len(frames))]
 
 
 #: What a qualifier's bias says of an exceedance (NFG 2020: J+ estimated, biased high; J-
@@ -195,23 +247,34 @@ def near_limit(screening: pd.DataFrame, fraction: float = 0.8) -> pd.DataFrame:
     status = site["status"]
     near = (status.eq("meets") & (site["value_ug_L"] >= fraction * site["limit_ug_L"] * (1 - RTOL))).to_numpy(copy=True)
     ids = result_ids(site) if key and near.any() else None
+    # what the rows and details read (without a result key, rows are told apart by all their columns)
+    used = [c for c in site.columns if c in _NEAR_COLUMNS or key is None]
     if ids is not None:  # not a result that exceeds another limit
         near &= ~np.isin(ids, ids[status.eq("exceeds").to_numpy()])
-        near = site[near].reset_index(drop=True)
+        ids = ids[near]
+        near = site.loc[near, used].reset_index(drop=True)
     elif key and near.any():
         exceeded = site.loc[status.eq("exceeds"), key]
-        near = site[near].merge(exceeded.drop_duplicates(), on=key, how="left", indicator=True)
+        near = site.loc[near, used].merge(exceeded.drop_duplicates(), on=key, how="left", indicator=True)
         near = near[near["_merge"].eq("left_only")].drop(columns="_merge")
     else:
-        near = site[near]
+        near = site.loc[near, used]
     if near.empty:
         return empty_retest()
-    near = near.assign(_r=near["value_ug_L"] / near["limit_ug_L"])
-    near = flagged_text(near.sort_values("_r", ascending=False, kind="stable").drop_duplicates(key))
+    # the nearest limit per result: ratio descending, ties in table order, NaN last (a stable sort)
+    ratio = (near["value_ug_L"] / near["limit_ug_L"]).to_numpy(dtype=float)
+    order = np.argsort(-ratio, kind="stable")
+    firsts = ~(pd.Series(ids[order]).duplicated() if ids is not None else near.iloc[order].duplicated(key)).to_numpy()
+    near = flagged_text(near.iloc[order[firsts]].assign(_r=ratio[order[firsts]]))
     detail = (ug(near["value_ug_L"]) + " is " + format_number(100 * near["_r"], 3)
               + " % of limit " + ug(near["limit_ug_L"]) + " (" + limit_label(near)
               + "); flagged at >= " + format_number([100 * fraction])[0] + " %")
     return retest_rows(near, "near_limit", detail)
+
+
+#: Columns of the screening table that :func:`near_limit` reads (its rows and details).
+_NEAR_COLUMNS = frozenset(["site_id", "sample_id", "sampled_at", "analyte", "fraction", "lab", "batch", "file", "sheet",
+                           "row", "value_ug_L", "limit_ug_L", "limit_table", "duration", "use"])
 
 
 def uncertainty_straddles_limit(screening: pd.DataFrame) -> pd.DataFrame:

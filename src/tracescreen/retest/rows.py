@@ -12,6 +12,8 @@ size of the run.
 
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 import pandas as pd
 import pyarrow.compute as pc
@@ -77,12 +79,14 @@ RTOL = REL_TOL
 def single_sample_rows(screening: pd.DataFrame) -> pd.DataFrame:
     """Site-sample rows compared with single-sample limits (period bases such as running annual
     means and percentiles are judged on periods, not on one result)."""
+    if _made(screening, "single"):  # made by this function already (each result flag is given its rows)
+        return screening
     site = site_samples(screening)
-    if "basis" not in site.columns:
-        return site
-    basis = site["basis"]
-    mask = (basis.isna() | basis.isin(["single_sample", ""])).to_numpy()
-    return site if mask.all() else site[mask]
+    if "basis" in site.columns:
+        basis = site["basis"]
+        mask = (basis.isna() | basis.isin(["single_sample", ""])).to_numpy()
+        site = site if mask.all() else site[mask]
+    return _mark(site, "single")
 
 
 def flagged_text(frame: pd.DataFrame) -> pd.DataFrame:
@@ -113,7 +117,7 @@ def text_rank(col: pd.Series):
     if not isinstance(col.dtype, pd.CategoricalDtype):
         return col
     cats, codes = col.cat.categories, col.cat.codes.to_numpy()
-    if _ascending(cats) and cats.is_unique:  # the codes are in text order
+    if _strictly_ascending(cats):  # (sorted, unique) the codes are in text order
         missing = -1 if not len(cats) or cats[0] != "" else 0  # missing sorts as "", the least text
         return pd.Series(np.where(codes < 0, missing, codes), index=col.index)
     used, where = np.unique(codes, return_inverse=True)  # the categories in use, text sorted once each
@@ -122,15 +126,15 @@ def text_rank(col: pd.Series):
     return pd.Series(rank[where], index=col.index)
 
 
-def _ascending(cats: pd.Index) -> bool:
-    """``cats.is_monotonic_increasing``, by Arrow's compare kernels for text held by Arrow (a run's sample
-    ids are a million categories: pandas would make a Python string of each). Arrow compares UTF-8 bytes,
-    whose order is the order of code points, as Python compares str."""
+def _strictly_ascending(cats: pd.Index) -> bool:
+    """``cats.is_monotonic_increasing and cats.is_unique``, by Arrow's compare kernels for text held by
+    Arrow (a run's sample ids are a million categories: pandas would make a Python string of each and
+    hash it). Arrow compares UTF-8 bytes, whose order is the order of code points, as Python compares str."""
     arrow = getattr(cats.array, "__arrow_array__", None)
     if arrow is None or cats.dtype != "str" or len(cats) < 2:
-        return cats.is_monotonic_increasing
+        return cats.is_monotonic_increasing and cats.is_unique
     text = arrow()
-    return bool(pc.all(pc.less_equal(text[:-1], text[1:])).as_py())
+    return bool(pc.all(pc.less(text[:-1], text[1:])).as_py())
 
 
 def sort_as_text(frame: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
@@ -152,21 +156,69 @@ def meaning_mask(col: pd.Series, wanted: set[str]) -> np.ndarray:
 
 def results_from_screening(screening: pd.DataFrame) -> pd.DataFrame:
     """One row per accepted result from the screening table (drops the per-limit repetition)."""
+    if _made(screening, "results"):  # made by this function already (each check is given the results)
+        return screening.reset_index(drop=True)
     ids = result_ids(screening)
     if ids is None:
         key = [c for c in RESULT_KEY if c in screening.columns]
-        return screening.drop_duplicates(key).reset_index(drop=True) if key else screening.reset_index(drop=True)
-    first = ~pd.Series(ids).duplicated().to_numpy()
-    return (screening if first.all() else screening[first]).reset_index(drop=True)
+        out = screening.drop_duplicates(key).reset_index(drop=True) if key else screening.reset_index(drop=True)
+    else:
+        first = first_of_each(ids)
+        out = (screening if first.all() else screening[first]).reset_index(drop=True)
+    return _mark(out, "results")
+
+
+#: Frames made by :func:`results_from_screening` and :func:`single_sample_rows`, by kind and identity
+#: (weak: an entry goes with its frame): the checks given such a frame do not select its rows again.
+_MADE: weakref.WeakValueDictionary = weakref.WeakValueDictionary()
+
+
+def _mark(frame: pd.DataFrame, kind: str) -> pd.DataFrame:
+    _MADE[(kind, id(frame))] = frame
+    return frame
+
+
+def _made(frame: pd.DataFrame, kind: str) -> bool:
+    return _MADE.get((kind, id(frame))) is frame
+
+
+def first_of_each(ids: np.ndarray) -> np.ndarray:
+    """Whether each row is the first of its id (``~pandas.Series(ids).duplicated()``). A screening table
+    lists each result's limit rows together: when the first rows of the runs of equal ids rise (input
+    order), or are all different, no id comes back later and they are the answer, found without hashing
+    every row; otherwise pandas' hashing of every row."""
+    head = np.empty(len(ids), dtype=bool)
+    if len(ids):
+        head[0] = True
+        np.not_equal(ids[1:], ids[:-1], out=head[1:])
+        starts = ids[head]
+        if (starts[1:] > starts[:-1]).all() or not pd.Series(starts).duplicated().any():
+            return head
+    return ~pd.Series(ids).duplicated().to_numpy()
 
 
 def result_ids(frame: pd.DataFrame) -> np.ndarray | None:
     """One integer per accepted result (equal :data:`RESULT_KEY` values, equal integers), or None when the
     frame lacks the key or the integers would not fit: a key that compares, merges and de-duplicates as
-    one int64 column instead of three."""
+    one int64 column instead of three. Kept for the frames of :func:`results_from_screening` and
+    :func:`single_sample_rows` (several checks key the same part's rows)."""
     key = [c for c in RESULT_KEY if c in frame.columns]
     if not key:
         return None
+    if id(frame) in _IDS and (_made(frame, "single") or _made(frame, "results")):
+        return _IDS[id(frame)]
+    ids = _result_ids(frame, key)
+    if ids is not None and (_made(frame, "single") or _made(frame, "results")):
+        _IDS[id(frame)] = ids
+        weakref.finalize(frame, _IDS.pop, id(frame), None)
+    return ids
+
+
+#: :func:`result_ids` of the frames made by this module, by identity (an entry goes with its frame).
+_IDS: dict[int, np.ndarray] = {}
+
+
+def _result_ids(frame: pd.DataFrame, key: list[str]) -> np.ndarray | None:
     ids, span = np.zeros(len(frame), dtype=np.int64), 1
     for c in key:
         col = frame[c]
