@@ -32,3 +32,16 @@ def test_str_array_is_the_array_pandas_makes():
         assert pd.Series(got).equals(pd.Series(want))
     assert list(str_array("q", 3)) == ["q", "q", "q"]
     assert str_array("q", 0).dtype == pd.array([], dtype="str").dtype and len(str_array("q", 0)) == 0
+
+
+def test_used_only_keeps_the_used_categories_in_order():
+    """The categories a column's rows use, in their order, as pandas' remove_unused_categories gives them;
+    the column itself (no copy) when it uses every category."""
+    from tracescreen._internal.frames import used_only
+
+    col = pd.Series(pd.Categorical(["Zn", None, "Cd", "Zn"], categories=["Cd", "Cu", "Pb", "Zn"]))
+    got = used_only(col)
+    assert list(got.cat.categories) == ["Cd", "Zn"] and got.cat.codes.tolist() == [1, -1, 0, 1]
+    pd.testing.assert_series_equal(got, col.cat.remove_unused_categories())
+    whole = pd.Series(pd.Categorical(["a", "b", "a"]))
+    assert used_only(whole) is whole

@@ -14,6 +14,17 @@ import pandas as pd
 import pyarrow as pa
 
 
+def used_only(col: pd.Series) -> pd.Series:
+    """A categorical column reduced to the categories its rows use, in their order; ``col`` itself when
+    it uses them all (one histogram of the codes decides: no hashing). A part taken from a run keeps the
+    run's categories, e.g. a million sample ids for a part of 125,000 results."""
+    codes = col.cat.codes.to_numpy()
+    n = len(col.cat.categories)
+    if n <= len(codes) and (np.bincount(codes[codes >= 0], minlength=n) > 0).all():
+        return col
+    return col.cat.remove_unused_categories()
+
+
 def plain_text(df: pd.DataFrame, columns=None) -> pd.DataFrame:
     """Copy of ``df`` whose categorical text columns are plain text (object dtype, shared strings).
 

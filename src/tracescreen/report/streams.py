@@ -32,6 +32,7 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 
+from tracescreen._internal.frames import used_only
 from tracescreen._internal.hashing import HashingWriter
 from tracescreen.report.formats import FORMATS, SPREADSHEET_ROWS, too_long_for_spreadsheet
 
@@ -72,12 +73,9 @@ def _text_array(values: pd.Series) -> pa.Array:
     if isinstance(values.dtype, pd.CategoricalDtype):
         # the part's dictionary holds only the categories the part uses: a run's categories can be every
         # sample id of the run (a million), which every row group would otherwise carry and encode again
+        values = used_only(values)
         codes = values.cat.codes.to_numpy().astype(np.int32)
         cats = values.cat.categories
-        seen = np.bincount(codes[codes >= 0], minlength=len(cats)) > 0
-        if not seen.all():
-            codes = np.where(codes >= 0, np.cumsum(seen, dtype=np.int32)[codes] - 1, -1).astype(np.int32)
-            cats = cats[seen]
         if isinstance(cats.dtype, pd.StringDtype) and cats.dtype.storage == "pyarrow":
             dictionary = pa.array(cats.array)  # Arrow-backed categories are taken as they are
             if isinstance(dictionary, pa.ChunkedArray):

@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 from pandas.api.types import union_categoricals
 
+from tracescreen._internal.frames import used_only
 from tracescreen._internal.memory import release_unused
 from tracescreen.progress import report
 from tracescreen.screening.screen import screen, screen_with_periods
@@ -76,14 +77,8 @@ def used_categories(frame: pd.DataFrame) -> pd.DataFrame:
     A part taken from a run's results keeps the run's categories: a million sample ids for a part of
     125,000 results, which every step that reads the categories (text keys, formula guards, Parquet
     dictionaries) would otherwise go through again for each part."""
-    out = {}
-    for c in frame.columns:
-        col = frame[c]
-        if isinstance(col.dtype, pd.CategoricalDtype):
-            codes = col.cat.codes.to_numpy()
-            if len(col.cat.categories) > len(codes) or not (np.bincount(
-                    codes[codes >= 0], minlength=len(col.cat.categories)) > 0).all():
-                out[c] = col.cat.remove_unused_categories()
+    out = {c: used_only(frame[c]) for c in frame.columns if isinstance(frame[c].dtype, pd.CategoricalDtype)}
+    out = {c: col for c, col in out.items() if col is not frame[c]}
     return frame.assign(**out) if out else frame
 
 
