@@ -36,6 +36,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from tracescreen._internal.sorting import group_sort
+
 #: Series longer than this go through this module (n(n-1)/2 pairs would exceed about 4.5 million).
 LONG_SERIES = 3000
 
@@ -53,7 +55,7 @@ def _dense(values: np.ndarray) -> np.ndarray:
 
 def ranks_within(group: np.ndarray, x: np.ndarray) -> np.ndarray:
     """Dense ranks (0, 1, ...; equal values equal) of ``x`` within each ``group``."""
-    order = np.lexsort((x, group))
+    order = group_sort(group, x)
     gs, xs = group[order], x[order]
     first = np.ones(x.size, bool)
     first[1:] = gs[1:] != gs[:-1]
