@@ -227,3 +227,26 @@ def test_parquet_row_groups_carry_only_their_parts_texts(tmp_path):
     assert [f.read_row_group(k).column("sample_id").chunk(0).dictionary.to_pylist() for k in range(2)] == \
         [["L00005", "L00007"], ["L00000", "L19999"]]
     assert f.read().column("sample_id").to_pylist() == ["L00005", "L00007", "L00005", None, "L19999", "L00000"]
+
+
+@pytest.mark.parametrize("dtype", ["str", object, "category"])
+def test_parquet_free_text_keeps_its_type_and_cells_stored_plain(tmp_path, dtype):
+    """The results listed behind a period value (periods' ``results``, formats.FREE_TEXT) are texts that
+    do not repeat: stored with PLAIN encoding and no dictionary page (Apache Parquet format
+    specification, encodings), still typed ``dictionary<int32, string>`` like every text column, and
+    read back cell for cell, repeated and missing cells included (read with pyarrow and pandas)."""
+    cells = ["S1 (2024-01-02): 3.1; S2 (2024-02-03): <0.5", None, "S3 (2024-03-04): 7", "S3 (2024-03-04): 7"]
+    frame = pd.DataFrame({"site_id": ["A", "A", "B", "B"], "results": pd.Series(cells, dtype=dtype)})
+    path = tmp_path / "periods.parquet"
+    with TableStream(path, "parquet", name="periods") as t:
+        t.write(frame)
+        t.write(pd.concat([frame.iloc[2:], frame.iloc[:2]]))
+    f = pq.ParquetFile(path)
+    chunk = f.metadata.row_group(0).column(1)
+    assert chunk.path_in_schema == "results" and not chunk.has_dictionary_page and "PLAIN" in chunk.encodings
+    assert f.metadata.row_group(0).column(0).has_dictionary_page  # the other text stays dictionary-encoded
+    table = f.read()
+    assert str(table.schema.field("results").type) == "dictionary<values=string, indices=int32, ordered=0>"
+    assert table.column("results").to_pylist() == cells + cells[2:] + cells[:2]
+    back = pd.read_parquet(path)["results"]
+    assert isinstance(back.dtype, pd.CategoricalDtype) and sorted(back.cat.categories) == sorted(set(cells) - {None})

@@ -139,3 +139,23 @@ def test_a_series_bootstrap_ucl_does_not_change_when_other_series_join_the_run()
     again = summary.summarise(data, ucl="bootstrap", n_boot=500, seed=9).set_index("site_id")
     assert again["ucl95_mean"].tolist() == three["ucl95_mean"].tolist()
     assert summary.summarise(data, ucl="bootstrap", n_boot=500, seed=10).set_index("site_id")["ucl95_mean"].tolist() != three["ucl95_mean"].tolist()
+
+
+@pytest.mark.parametrize("dropna", [False, True])
+def test_groups_number_rows_as_pandas_groupby(dropna):
+    """The code-based grouping of the summary and exceedance tables numbers groups and picks first rows
+    as pandas' ``groupby(sort=True, observed=True)`` does (reference library): categorical keys in
+    category order with unused categories, text keys sorted, a missing key last (or left out)."""
+    rng = np.random.default_rng(16)
+    n = 400
+    frame = pd.DataFrame({
+        "site_id": pd.Categorical(rng.choice(["S2", "S1", "S3", None], n), categories=["S3", "S1", "S2", "S9"]),
+        "analyte": pd.Series(rng.choice(["zinc", "lead", "copper", None], n), dtype="str"),
+        "fraction": pd.Categorical(rng.choice(["total", "dissolved"], n)),
+    })
+    keys = ["site_id", "analyte", "fraction"]
+    grouped = frame.groupby(keys, sort=True, observed=True, dropna=dropna)
+    codes, first = summary._groups(frame, keys, dropna=dropna)
+    assert codes.tolist() == grouped.ngroup().fillna(-1).astype(int).tolist()
+    table = grouped.size().reset_index()[keys]
+    pd.testing.assert_frame_equal(frame.iloc[first].reset_index(drop=True), table, check_column_type=False)

@@ -19,6 +19,13 @@ from __future__ import annotations
 #: Output formats of ``screen``, ``trends`` and ``report --tables``; the first is the default.
 FORMATS: tuple[str, ...] = ("csv", "parquet", "xlsx")
 
+#: Text columns of a table whose rows each hold their own text (the results listed behind a period
+#: value, about a kilobyte each). In Parquet they keep the dictionary type of every text column, so a
+#: reader gets the same column type, but their values are stored plain: a dictionary of texts that
+#: never repeat only stores them twice, and building it means hashing every text (Parquet writers fall
+#: back to plain pages for such columns anyway).
+FREE_TEXT: dict[str, tuple[str, ...]] = {"periods": ("results",)}
+
 #: Rows a worksheet holds, header row included.
 SPREADSHEET_ROWS = 1_048_576
 

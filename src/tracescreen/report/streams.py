@@ -8,7 +8,9 @@ held whole. The formats (:mod:`tracescreen.report.formats`):
   header once;
 * Parquet: one row group per part ([Parquet]_ through pyarrow); text columns are
   dictionary-encoded (``dictionary<int32, string>``, read back by pandas as categoricals; each row
-  group's dictionary holds the texts of its own part, in their order in the run), date
+  group's dictionary holds the texts of its own part, in their order in the run; the few columns of
+  texts that never repeat keep that type but are stored plain,
+  :data:`~tracescreen.report.formats.FREE_TEXT`), date
   columns are Parquet ``DATE`` (days) or ``TIMESTAMP`` (millisecond) values, numbers stay numbers;
   the columns are the CSV's. Text is written as it is (a Parquet file is read by programs, not
   opened as a spreadsheet), so it has no formula-guard apostrophes;
@@ -34,7 +36,7 @@ import pyarrow as pa
 
 from tracescreen._internal.frames import used_only
 from tracescreen._internal.hashing import HashingWriter
-from tracescreen.report.formats import FORMATS, SPREADSHEET_ROWS, too_long_for_spreadsheet
+from tracescreen.report.formats import FORMATS, FREE_TEXT, SPREADSHEET_ROWS, too_long_for_spreadsheet
 
 TEXT = pa.dictionary(pa.int32(), pa.string())
 
@@ -66,6 +68,21 @@ def days_of(frame: pd.DataFrame) -> set[str]:
             if (v == v.dt.normalize()).all():
                 out.add(c)
     return out
+
+
+def _free_text_array(values: pd.Series) -> pa.Array:
+    """A column of texts that do not repeat as ``dictionary<int32, string>`` without hashing them: the
+    dictionary is the texts themselves, in row order (index i for row i), and the Parquet writer stores
+    the values plain (see :data:`~tracescreen.report.formats.FREE_TEXT`)."""
+    if isinstance(values.dtype, pd.StringDtype) and values.dtype.storage == "pyarrow":
+        text = pa.array(values.array)
+        if isinstance(text, pa.ChunkedArray):
+            text = text.combine_chunks() if text.num_chunks != 1 else text.chunk(0)
+        text = text.cast(pa.string())
+    else:  # categorical or object cells: each as its text
+        text = _text_array(values).dictionary_decode()
+    index = pa.array(np.arange(len(text), dtype=np.int32), mask=text.is_null().to_numpy(zero_copy_only=False))
+    return pa.DictionaryArray.from_arrays(index, text.fill_null("") if text.null_count else text)  # missing: a missing index
 
 
 def _text_array(values: pd.Series) -> pa.Array:
@@ -100,14 +117,15 @@ def _text_array(values: pd.Series) -> pa.Array:
     return pa.array(text, type=pa.string()).dictionary_encode().cast(TEXT)
 
 
-def arrow_part(frame: pd.DataFrame, days: set[str]) -> pa.Table:
-    """One part of a table as Arrow columns for Parquet (see the module docstring)."""
+def arrow_part(frame: pd.DataFrame, days: set[str], free_text=()) -> pa.Table:
+    """One part of a table as Arrow columns for Parquet (see the module docstring); the columns named in
+    ``free_text`` hold texts that do not repeat (:data:`~tracescreen.report.formats.FREE_TEXT`)."""
     cols = {}
     for c in frame.columns:
         s = frame[c]
         dtype = s.dtype
         if isinstance(dtype, pd.CategoricalDtype) or dtype == object or pd.api.types.is_string_dtype(dtype):
-            cols[str(c)] = _text_array(s)
+            cols[str(c)] = _free_text_array(s) if c in free_text else _text_array(s)
         elif pd.api.types.is_datetime64_any_dtype(dtype):
             arr = pa.array(s.astype("datetime64[ms]").to_numpy(), mask=s.isna().to_numpy(), type=pa.timestamp("ms"))
             cols[str(c)] = arr.cast(pa.date32()) if c in days else arr
@@ -188,11 +206,14 @@ class TableStream:
     def _write_parquet(self, frame: pd.DataFrame) -> None:
         import pyarrow.parquet as pq
 
-        table = arrow_part(frame, self.days)
+        free = FREE_TEXT.get(self.name, ())
+        table = arrow_part(frame, self.days, free)
         if self._out is None:
             schema = pa.schema([pa.field(f.name, TEXT if pa.types.is_null(f.type) else f.type) for f in table.schema])
             self._file = HashingWriter(self._tmp)
-            self._out = pq.ParquetWriter(self._file, schema, compression="snappy", use_dictionary=True)
+            coded = [c for c in schema.names if c not in free]  # the free texts are stored plain
+            self._out = pq.ParquetWriter(self._file, schema, compression="snappy",
+                                         use_dictionary=coded if len(coded) < len(schema.names) else True)
         schema = self._out.schema
         try:
             table = table.cast(schema)

@@ -230,13 +230,16 @@ def substitute(values, nondetect, fraction: float) -> np.ndarray:
 
 
 def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kaplan_meier",
-                                probs=PROBS) -> pd.DataFrame:
+                                probs=PROBS, km: pd.DataFrame | None = None) -> pd.DataFrame:
     """Mean, sd and percentiles of many series with one method, and the method actually used.
 
     Series without non-detects always get the plain sample statistics (``sample_statistics``:
     mean, sd with n - 1, percentiles by numpy's linear interpolation). Otherwise ``method``:
     ``kaplan_meier``, ``ros``, ``mle_lognormal`` (all vectorised over series) or a substitution (``substitution_zero``, ``substitution_half_dl``,
     ``substitution_dl``; vectorised), whose name stays in the ``method`` column.
+
+    ``km``: :func:`kaplan_meier_grouped` of these values with these ``probs``, when the caller has it
+    (a group's row does not depend on the other groups: it is read for the groups with non-detects).
 
     Returns
     -------
@@ -258,7 +261,7 @@ def censored_statistics_grouped(values, nondetect, codes, n_groups, method="kapl
         out.iloc[chunk.groups] = np.column_stack([mean, sd, q])
     todo = ~plain
     if method == "kaplan_meier" and todo.any():
-        km = kaplan_meier_grouped(x[todo], nd[todo], codes[todo], n_groups, probs)
+        km = kaplan_meier_grouped(x[todo], nd[todo], codes[todo], n_groups, probs) if km is None else km
         hit = np.unique(codes[todo])
         out.iloc[hit] = km.loc[hit, ["mean", "sd", *qcols]].to_numpy()
     elif method == "ros" and todo.any():

@@ -21,7 +21,7 @@ from scipy import special  # the distributions' functions (scipy.stats, a slow i
 
 from tracescreen._internal.text import join_notes
 from tracescreen.statistics import bootstrap, censored
-from tracescreen.statistics.series import KEYS, censored_series, group_codes, site_samples
+from tracescreen.statistics.series import KEYS, censored_series, site_samples
 
 SUMMARY_COLUMNS = KEYS + [
     "n", "n_detected", "percent_nondetect", "min_detected", "max_detected",
@@ -83,7 +83,8 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     if data.empty:  # nothing accepted (or only QC samples): an empty table, not an error
         return pd.DataFrame({c: pd.Series(dtype=object) for c in SUMMARY_COLUMNS})
     unusable = data["value"].isna().to_numpy()
-    codes, table = group_codes(data, KEYS)
+    codes, first = _groups(data, KEYS)
+    table = data[KEYS].iloc[first].reset_index(drop=True)
     g = len(table)
     lost = np.bincount(codes[unusable], minlength=g)
     data, codes = data[~unusable], codes[~unusable]
@@ -91,28 +92,32 @@ def summarise(results: pd.DataFrame, *, method: str = "kaplan_meier", n_boot: in
     n = np.bincount(codes, minlength=g)
     n_det = np.bincount(codes, weights=~nd, minlength=g).astype(int)
     pct_nd = np.where(n > 0, 100.0 * (n - n_det) / np.maximum(n, 1), np.nan)
-    frame = pd.DataFrame({"g": codes, "det": np.where(nd, np.nan, x), "dl": np.where(nd, x, np.nan)})
-    ext = frame.groupby("g").agg(min_detected=("det", "min"), max_detected=("det", "max"),
-                                 max_detection_limit=("dl", "max"), min_dl=("dl", "min")).reindex(range(g))
-    st = censored.censored_statistics_grouped(x, nd, codes, g, method=method)
-    ucl_value, ucl_method = _ucl(x, nd, codes, table, n, method, ucl, n_boot, seed)
+    ext = {k: np.full(g, np.nan) for k in ("min_detected", "max_detected", "max_detection_limit", "min_dl")}
+    for k, f, rows in (("min_detected", np.fmin, ~nd), ("max_detected", np.fmax, ~nd),
+                       ("max_detection_limit", np.fmax, nd), ("min_dl", np.fmin, nd)):
+        f.at(ext[k], codes[rows], x[rows])  # NaN is skipped, as pandas' min and max skip it
+    # one Kaplan-Meier pass serves the statistics and the t-based UCL (each group's row is its own)
+    km = censored.kaplan_meier_grouped(x, nd, codes, g) if method == "kaplan_meier" and ucl == "km_t" else None
+    st = censored.censored_statistics_grouped(x, nd, codes, g, method=method, km=km)
+    ucl_value, ucl_method = _ucl(x, nd, codes, table, n, method, ucl, n_boot, seed, km)
     out = table.copy()
     out["n"], out["n_detected"], out["percent_nondetect"] = n, n_det, pct_nd
     for col in ("min_detected", "max_detected", "max_detection_limit"):
-        out[col] = ext[col].to_numpy()
+        out[col] = ext[col]
     out["mean"], out["sd"] = st["mean"].to_numpy(), st["sd"].to_numpy()
     out["median"], out["p90"], out["p95"] = st["q50"].to_numpy(), st["q90"].to_numpy(), st["q95"].to_numpy()
     out["ucl95_mean"] = ucl_value
     out["ucl_method"] = ucl_method
     out["method"] = st["method"].to_numpy()
-    return _rules_of_thumb(out, x, nd, codes, n, n_det, pct_nd, ext["min_dl"].to_numpy(), lost)[SUMMARY_COLUMNS] \
+    return _rules_of_thumb(out, x, nd, codes, n, n_det, pct_nd, ext["min_dl"], lost)[SUMMARY_COLUMNS] \
         .reset_index(drop=True)
 
 
 def _ucl(x, nd, codes, table: pd.DataFrame, n, method: str, ucl: str, n_boot: int,
-         seed: int) -> tuple[np.ndarray, str]:
+         seed: int, km: pd.DataFrame | None = None) -> tuple[np.ndarray, str]:
     """95 % upper confidence limit on each series' mean and its method in words: t on the Kaplan-Meier
-    (or substituted) mean and its standard error (``km_t``), or a seeded percentile bootstrap."""
+    (or substituted) mean and its standard error (``km_t``), or a seeded percentile bootstrap.
+    ``km``: the Kaplan-Meier statistics of ``x, nd`` by group when the caller has them."""
     g = len(table)
     sub = method in censored.SUBSTITUTION
     xu, ndu = (censored.substitute(x, nd, censored.SUBSTITUTION[method]), np.zeros(x.size, bool)) if sub else (x, nd)
@@ -122,7 +127,7 @@ def _ucl(x, nd, codes, table: pd.DataFrame, n, method: str, ucl: str, n_boot: in
         value = bootstrap.bootstrap_ucl_km_grouped(xu, ndu, codes, g, n_boot=n_boot, seed=seed, keys=keys)
         return value, f"percentile bootstrap of {what} (B={n_boot}, seed={seed})"
     if ucl == "km_t":
-        km = censored.kaplan_meier_grouped(xu, ndu, codes, g, probs=())
+        km = censored.kaplan_meier_grouped(xu, ndu, codes, g, probs=()) if km is None or sub else km
         return ucl_km_t(km["mean"].to_numpy(), km["se"].to_numpy(), n), \
             f"Student's t on {what} and its standard error (Helsel 2012)"
     raise ValueError(f"unknown ucl {ucl!r}; choose km_t or bootstrap")
@@ -230,18 +235,30 @@ def exceedance_rates(screened: pd.DataFrame, confidence: float = 0.95) -> pd.Dat
         limit can differ between samples: ``limit_min_ug_L``/``limit_max_ug_L`` give the range.
     """
     keys = KEYS + ["limit_table", "use", "duration", "basis"]
+    screened = screened[[c for c in dict.fromkeys(keys + ["status", "limit_ug_L", "sample_type"]) if c in screened]]
     data = site_samples(screened)
-    data = data[~data["status"].isin(["qc_sample", "no_limit"])]
+    data = data[~data["status"].isin(["qc_sample", "no_limit"]).to_numpy()]  # only the columns read are taken
     if data.empty:
         return pd.DataFrame(columns=EXCEEDANCE_COLUMNS)
-    data = data.assign(_above=data["status"].eq("exceeds"),
-                       _undecided=data["status"].eq("nondetect_inconclusive"))
-    for k in keys:  # missing keys (e.g. basis) must not drop rows from groupby
-        data[k] = data[k].fillna("") if k in data else ""
-    out = data.groupby(keys, sort=True, observed=True).agg(
-        limit_min_ug_L=("limit_ug_L", "min"), limit_max_ug_L=("limit_ug_L", "max"),
-        n=("status", "size"), n_above=("_above", "sum"), n_undecided=("_undecided", "sum"),
-    ).reset_index()
+    for k in keys:  # missing keys (e.g. basis) must not drop rows from the groups
+        data[k] = (data[k].fillna("") if data[k].hasnans else data[k]) if k in data else ""
+    codes, first = _groups(data, keys, dropna=True)
+    keep = codes >= 0
+    if not keep.all():  # a key still missing: no group, as pandas drops it
+        first = np.cumsum(keep)[first] - 1
+        data, codes = data[keep], codes[keep]
+    g = len(first)
+    status = data["status"]
+    limit = data["limit_ug_L"].to_numpy(dtype=float)
+    lo, hi = np.full(g, np.nan), np.full(g, np.nan)
+    np.fmin.at(lo, codes, limit)  # NaN limits are skipped, as pandas' min and max skip them
+    np.fmax.at(hi, codes, limit)
+    out = pd.DataFrame({k: data[k].iloc[first].reset_index(drop=True) for k in keys})
+    out["limit_min_ug_L"], out["limit_max_ug_L"] = lo, hi
+    out["n"] = np.bincount(codes, minlength=g).astype(np.int64)
+    out["n_above"] = np.bincount(codes, weights=status.eq("exceeds").to_numpy(), minlength=g).astype(np.int64)
+    out["n_undecided"] = np.bincount(codes, weights=status.eq("nondetect_inconclusive").to_numpy(),
+                                     minlength=g).astype(np.int64)
     out["proportion_above"] = out["n_above"] / out["n"]
     out["ci95_low"], out["ci95_high"] = clopper_pearson(out["n_above"], out["n"], confidence)
     out["note"] = join_notes([
@@ -249,3 +266,48 @@ def exceedance_rates(screened: pd.DataFrame, confidence: float = 0.95) -> pd.Dat
          "detection limit above the limit: undecided, counted as not above"),
     ], len(out))
     return out[EXCEEDANCE_COLUMNS]
+
+
+def _groups(frame: pd.DataFrame, keys: list[str], dropna: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """Group number of each row of ``frame`` by ``keys``, numbered as ``frame.groupby(keys, sort=True,
+    observed=True, dropna=dropna)`` numbers them, and the first row of each group.
+
+    Worked out on integer codes (a categorical's codes, sorted codes of other columns): keys sort in
+    category order, a missing key after every value; with ``dropna`` a row with a missing key gets
+    no group (code -1). No hash of the rows' keys.
+    """
+    n = len(frame)
+    joint, width, missing = np.zeros(n, dtype=np.int64), 1, np.zeros(n, dtype=bool)
+    for k in keys:
+        col = frame[k]
+        if isinstance(col.dtype, pd.CategoricalDtype):
+            c, m = col.cat.codes.to_numpy(), len(col.cat.categories)
+        else:
+            c, uniq = pd.factorize(col, sort=True)
+            m = len(uniq)
+        if n and c.min() < 0:
+            missing |= c < 0
+            c = np.where(c < 0, m, c)  # a missing key sorts last
+        if width * (m + 1) >= 2**62:  # keep the mixed-radix number inside int64
+            width, joint = _dense(joint, width)
+        joint = joint * (m + 1) + c if width > 1 else c.astype(np.int64)
+        width *= m + 1
+    drop = dropna & missing
+    if drop.any():
+        codes = np.full(n, -1, dtype=np.int64)
+        width, codes[~drop] = _dense(joint[~drop], width)
+    else:
+        width, codes = _dense(joint, width)
+    first = np.full(width, n, dtype=np.int64)
+    np.minimum.at(first, codes[~drop], np.flatnonzero(~drop))
+    return codes, first
+
+
+def _dense(keys: np.ndarray, width: int) -> tuple[int, np.ndarray]:
+    """Distinct count and dense ranks (0, 1, ... in sorted order) of integer keys below ``width``."""
+    if width <= 4 * len(keys) + 1024:  # a table of every possible key, not a sort
+        present = np.bincount(keys, minlength=width) > 0
+        rank = np.cumsum(present) - 1
+        return int(present.sum()), rank[keys]
+    uniq, inv = np.unique(keys, return_inverse=True)
+    return len(uniq), inv.ravel()
