@@ -36,6 +36,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from tracescreen._internal.sorting import group_sort
+
 #: Series longer than this go through this module (n(n-1)/2 pairs would exceed about 4.5 million).
 LONG_SERIES = 3000
 
@@ -53,7 +55,7 @@ def _dense(values: np.ndarray) -> np.ndarray:
 
 def ranks_within(group: np.ndarray, x: np.ndarray) -> np.ndarray:
     """Dense ranks (0, 1, ...; equal values equal) of ``x`` within each ``group``."""
-    order = np.lexsort((x, group))
+    order = group_sort(group, x)
     gs, xs = group[order], x[order]
     first = np.ones(x.size, bool)
     first[1:] = gs[1:] != gs[:-1]
@@ -141,11 +143,13 @@ def kendall_s_var(t: np.ndarray, y: np.ndarray, nd: np.ndarray, season: np.ndarr
     return float(s[0]), float(var[0]), float(pairs[0])
 
 
-def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def kendall_grouped(t, y, nd, season, codes, n_codes, s_of=None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Censored Kendall S, Var(S) and same-season pairs of many series at once, without their pairs.
 
     ``t`` decimal years, ``y`` value or DL [µg/L], ``nd`` non-detect flags, ``season`` 0 .. P - 1 and
-    ``codes`` 0 .. n_codes - 1 (the series), one per value. Var(S) is Daniels' (1944) permutation variance
+    ``codes`` 0 .. n_codes - 1 (the series), one per value. ``s_of`` (bool per code, optional): count S
+    only for these series (the others get NaN; their caller sums S over their pairs, which it forms
+    anyway for the slopes). Var(S) is Daniels' (1944) permutation variance
     for a series with a non-detect or two values of one season at one time; otherwise Kendall's (1975)
     tie-corrected [n(n-1)(2n+5) - sum t(t-1)(2t+5)]/18 (Gilbert 1987, eq. 16.4), the same number in closed
     form. Seasonal Kendall: each season's S and Var(S) summed (Hirsch, Slack & Smith 1982). A code
@@ -157,8 +161,10 @@ def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.nd
     keys, grp = np.unique(codes * n_seasons + season, return_inverse=True)
     n_grp, code_of = keys.size, keys // n_seasons
     tr = ranks_within(grp, t)
-    hi, lo = _interval_keys(y, nd)
-    s = pair_counts(tr, grp, hi, lo, n_grp) - pair_counts(tr, grp, -lo, -hi, n_grp)
+    counted = slice(None) if s_of is None else np.asarray(s_of, bool)[codes]
+    hi, lo = _interval_keys(y[counted], nd[counted])
+    tc, gc = tr[counted], grp[counted]
+    s = pair_counts(tc, gc, hi, lo, n_grp) - pair_counts(tc, gc, -lo, -hi, n_grp)
     size = np.bincount(grp, minlength=n_grp)
     n_in = size[grp]
     # A (time): later minus earlier values of the same season; B (value): above minus below, on the
@@ -192,7 +198,8 @@ def kendall_grouped(t, y, nd, season, codes, n_codes) -> tuple[np.ndarray, np.nd
     kendall = (per_code(n * (n - 1) * (2 * n + 5)) - per_code(ties)) / 18.0
     var = np.where(daniels, per_code((one + two) / 4.0), kendall)
     empty = np.bincount(codes, minlength=n_codes) == 0
-    return (np.where(empty, np.nan, per_code(s.astype(float))), np.where(empty, np.nan, var),
+    no_s = empty if s_of is None else empty | ~np.asarray(s_of, bool)
+    return (np.where(no_s, np.nan, per_code(s.astype(float))), np.where(empty, np.nan, var),
             per_code(n * (n - 1) / 2))
 
 

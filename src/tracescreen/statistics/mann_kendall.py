@@ -1,12 +1,13 @@
 """Mann-Kendall and seasonal Kendall tests, Sen and Akritas-Theil-Sen slopes, for many series at once.
 
-S and Var(S) of all series come at once from counts, without the pairs
+Var(S) of all series comes at once from counts, without the pairs
 (:func:`tracescreen.statistics.long_series.kendall_grouped`, O(n log n)). The slopes are order
-statistics of the pairwise slopes: those are computed on padded arrays of the pairs of each series
+statistics of the pairwise slopes, and S is a sum over the same pairs (:func:`_pair_s`): both are
+computed on padded arrays of the pairs of each series
 (:func:`tracescreen.statistics.series.chunks` packs series in buckets of similar length; a seasonal
 series' row holds one block per season and only pairs within a block are formed, so 12 seasons cost
 about 1/12 of the pairs); series longer than :data:`tracescreen.statistics.long_series.LONG_SERIES`
-find them by counting instead.
+find them (and S) by counting instead.
 
 * Kendall's S counts concordant minus discordant pairs in time order. A pair whose order is
   uncertain because of a non-detect (non-detect vs non-detect, or a non-detect vs a detect below
@@ -65,8 +66,9 @@ def _slope_rows(t, y, nd, valid, pairs, c, force_ats=False):
 
     ``pairs`` (i, j) are the column pairs compared, i earlier than j (:meth:`.series.Chunk.pairs`: cells
     of one season; a row holds its seasons in blocks sorted by time). ``c`` is each row's
-    z_crit * sqrt(Var(S)) (the interval's half-width in ranks of S). Only the slopes need the pairs;
-    S and Var(S) come from :func:`tracescreen.statistics.long_series.kendall_grouped`.
+    z_crit * sqrt(Var(S)) (the interval's half-width in ranks of S). Each row's Kendall S is summed
+    over the same pairs (:func:`_pair_s`); Var(S) comes from
+    :func:`tracescreen.statistics.long_series.kendall_grouped`.
     """
     g = t.shape[0]
     det = valid & ~nd
@@ -77,17 +79,19 @@ def _slope_rows(t, y, nd, valid, pairs, c, force_ats=False):
         return np.take(x, k, axis=1)
     # candidate slopes (values or DLs), later minus earlier, within a season, not both NDs (padding
     # is NaN, so padded pairs compare False and divide to NaN)
+    censored = nd.any(axis=1) | force_ats
+    nd_i, nd_j = (pairs_of(nd, i), pairs_of(nd, j)) if nd.any() else (None, None)
     with np.errstate(invalid="ignore", divide="ignore"):
         dt = pairs_of(t, j)
         dt -= pairs_of(t, i)
         usable = dt > 0
         slopes = pairs_of(y, j)
         slopes -= pairs_of(y, i)
+        s = _pair_s(slopes, usable, nd_i, nd_j)
         slopes /= dt
     del dt
-    censored = nd.any(axis=1) | force_ats
-    if nd.any():
-        usable &= ~(pairs_of(nd, i) & pairs_of(nd, j))
+    if nd_i is not None:
+        usable &= ~(nd_i & nd_j)
     slopes[~usable] = np.nan
     n_pairs = np.count_nonzero(usable, axis=1)
     # Sen slope: median of the pairwise slopes; CI by Gilbert (1987), ranks as scipy.theilslopes
@@ -124,7 +128,30 @@ def _slope_rows(t, y, nd, valid, pairs, c, force_ats=False):
             km = _km_rows(resid, nd, valid, (0.5,))["q"][:, 0]
             intercept = np.where(censored, km, intercept)
     return {"slope_per_year": slope, "slope_low": low, "slope_high": high,
-            "slope_method": np.where(censored, "akritas_theil_sen", "sen"), "intercept": intercept, "t0": t0}
+            "slope_method": np.where(censored, "akritas_theil_sen", "sen"), "intercept": intercept, "t0": t0,
+            "s": s}
+
+
+def _pair_s(dy, later, nd_i, nd_j):
+    """Kendall's S of each row from its pairs: pairs certainly increasing minus pairs certainly decreasing.
+
+    ``dy`` (g, pairs) is the later value (or DL) minus the earlier; ``later`` marks the pairs whose
+    times differ (pairs tied in time score 0); ``nd_i``, ``nd_j`` flag the earlier and later value as
+    non-detects (None: no non-detects). A non-detect is an interval [0, DL): a pair increases for
+    certain when the later value is detected and above the earlier one, or equal to the earlier
+    one's DL; it decreases for certain when the earlier value is detected and above the later one,
+    or equal to the later one's DL (Helsel 2012, sec. 12.2); every other pair scores 0. For finite
+    doubles ``a - b`` is 0 exactly when ``a == b`` and takes the sign of ``a - b``, so the
+    difference is compared, not the values. Padding is NaN and compares False.
+    """
+    up, down = dy > 0, dy < 0
+    if nd_i is not None:
+        tied = dy == 0
+        up = (up | (nd_i & tied)) & ~nd_j
+        down = (down | (nd_j & tied)) & ~nd_i
+    up &= later
+    down &= later
+    return (np.count_nonzero(up, axis=1) - np.count_nonzero(down, axis=1)).astype(float)
 
 
 #: Rows at least this wide are selected one at a time (numpy's partition at several ranks of a 2-D array
@@ -262,19 +289,14 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
     z_crit = special.ndtri(1 - alpha / 2)  # standard normal quantile
     cols = {c: np.full(n_groups, np.nan) for c in TREND_COLUMNS}
     cols["slope_method"] = np.full(n_groups, None, dtype=object)
-    # S and Var(S) of every series from counts (no pairs); z with the continuity correction
-    s, var_s, pairs = long_series.kendall_grouped(t, y, nd, season, codes, n_groups)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = np.where(s > 0, (s - 1) / np.sqrt(var_s), np.where(s < 0, (s + 1) / np.sqrt(var_s), 0.0))
-        # every pair tied (all values equal, or every result <DL): S = 0 and Var(S) = 0; the
-        # reference libraries report z = 0, p = 1 (no trend), not a blank
-        cols["z"] = np.where(var_s > 0, z, np.where(pairs > 0, 0.0, np.nan))
-        cols["tau"] = s / pairs
-    cols.update(s=s, var_s=var_s, p_value=2.0 * special.ndtr(-np.abs(cols["z"])),
-                n=np.bincount(codes, minlength=n_groups).astype(float),
-                n_nondetect=np.bincount(codes, nd, minlength=n_groups).astype(float))
+    size = np.bincount(codes, minlength=n_groups).astype(float)
+    long = size > long_series.LONG_SERIES
+    # Var(S) of every series from counts (no pairs); S from counts for the long series only, the
+    # others' S is summed over the pairs their slopes are formed from (_slope_rows)
+    s, var_s, pairs = long_series.kendall_grouped(t, y, nd, season, codes, n_groups, s_of=long)
+    s = np.where(long, s, np.where(size > 0, 0.0, np.nan))  # one value: no pair, S = 0
+    cols.update(var_s=var_s, n=size, n_nondetect=np.bincount(codes, nd, minlength=n_groups).astype(float))
     c = np.nan_to_num(z_crit * np.sqrt(var_s), nan=0.0)
-    size = cols["n"]
     slope_cols = TREND_COLUMNS[TREND_COLUMNS.index("slope_per_year"):]
     for g in np.flatnonzero(size > long_series.LONG_SERIES):  # a few long series, each without its pairs
         at = np.flatnonzero(codes == g)
@@ -292,6 +314,15 @@ def mann_kendall_grouped(times, values, nondetect, codes, n_groups, seasons=None
                         chunk.valid, chunk.pairs(), c[chunk.groups], force_ats)
         for col in slope_cols:
             cols[col][chunk.groups] = r[col]
+        s[chunk.groups] = r["s"]
+    # z with the continuity correction
+    with np.errstate(invalid="ignore", divide="ignore"):
+        z = np.where(s > 0, (s - 1) / np.sqrt(var_s), np.where(s < 0, (s + 1) / np.sqrt(var_s), 0.0))
+        # every pair tied (all values equal, or every result <DL): S = 0 and Var(S) = 0; the
+        # reference libraries report z = 0, p = 1 (no trend), not a blank
+        cols["z"] = np.where(var_s > 0, z, np.where(pairs > 0, 0.0, np.nan))
+        cols["tau"] = s / pairs
+    cols.update(s=s, p_value=2.0 * special.ndtr(-np.abs(cols["z"])))
     return pd.DataFrame(cols)
 
 

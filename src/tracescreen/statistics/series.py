@@ -20,6 +20,8 @@ from typing import Callable, Iterator
 import numpy as np
 import pandas as pd
 
+from tracescreen._internal.sorting import group_sort
+
 #: A monitoring series: one site, one analyte, one fraction.
 KEYS = ["site_id", "analyte", "fraction"]
 
@@ -172,8 +174,10 @@ def chunks(
         return
     block = np.zeros(codes.size, np.int64) if blocks is None else np.asarray(blocks, dtype=np.int64)
     n_blocks = int(block.max()) + 1
-    keys = (block, codes) if order is None else (order, block, codes)
-    sort = np.lexsort(keys) if order is not None or blocks is not None else np.argsort(codes, kind="stable")
+    if order is not None:  # by group, block, then order (np.lexsort's order, by one integer sort)
+        sort = group_sort(codes * n_blocks + block, np.asarray(order))
+    else:
+        sort = np.lexsort((block, codes)) if blocks is not None else np.argsort(codes, kind="stable")
     sub = codes[sort] * n_blocks + block[sort]  # sorted by group, then block
     size = np.bincount(sub, minlength=n_groups * n_blocks)
     start = np.concatenate(([0], np.cumsum(size)[:-1]))

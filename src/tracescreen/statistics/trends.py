@@ -90,7 +90,8 @@ def lowest_limits(screened: pd.DataFrame) -> pd.DataFrame:
     cols = keys + ["limit_ug_L", "limit_table"]
     if screened is None or screened.empty or "limit_ug_L" not in screened:
         return pd.DataFrame(columns=cols)
-    d = site_samples(screened)
+    # only the columns needed: a part's screening rows are a few hundred thousand rows of some 40 columns
+    d = site_samples(screened[[c for c in (*cols, "sampled_at", "basis", "sample_type") if c in screened]])
     basis = d["basis"].fillna("") if "basis" in d else pd.Series("", index=d.index)
     d = d[d["limit_ug_L"].notna() & basis.isin(["", "single_sample"])]
     if d.empty:
