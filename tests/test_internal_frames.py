@@ -45,3 +45,25 @@ def test_used_only_keeps_the_used_categories_in_order():
     pd.testing.assert_series_equal(got, col.cat.remove_unused_categories())
     whole = pd.Series(pd.Categorical(["a", "b", "a"]))
     assert used_only(whole) is whole
+
+
+def test_concat_arrays_is_what_pandas_concat_gives():
+    """concat_arrays (numpy, codes, Arrow chunks) gives the values and dtype of pandas.concat of the pieces as
+    Series (the reference): numbers, dates, categoricals of one dtype, of other categories or of one set in
+    another order, str arrays with categoricals of str, and object text."""
+    from tracescreen._internal.frames import concat_arrays, str_array
+
+    cat = pd.Categorical(["a", "b", None, "a"])
+    cases = [
+        [np.arange(3), np.arange(2)],
+        [np.array(["2020-01-01", "NaT"], dtype="datetime64[ns]"), np.array(["2021-05-01"], dtype="datetime64[ns]")],
+        [cat, pd.Categorical(["b", None], dtype=cat.dtype)],
+        [cat, pd.Categorical(["b", "a"], categories=["b", "a"])],
+        [cat, pd.Categorical(["c", "d"])],
+        [str_array(np.array(["x", None], dtype=object)), pd.Categorical(["total", "total"]), str_array("y", 2)],
+        [np.array(["x", None], dtype=object), np.array([1.5, 2.0])],
+    ]
+    for pieces in cases:
+        got = pd.Series(concat_arrays(pieces))
+        want = pd.concat([pd.Series(p) for p in pieces], ignore_index=True)
+        pd.testing.assert_series_equal(got, want)

@@ -122,11 +122,6 @@ def str_array(values, n: int | None = None):
     if isinstance(values, str):  # one text, taken n times by Arrow
         return pd.array(pa.array([values], type=pa.large_string()).take(pa.array(np.zeros(n, dtype=np.int32))),
                         dtype="str")
-    if isinstance(values, np.ndarray) and values.dtype == object:
-        try:  # text (and missing values) copied by Arrow in one call
-            return pd.array(pa.array(values, type=pa.large_string(), from_pandas=True), dtype="str")
-        except (pa.ArrowInvalid, pa.ArrowTypeError):  # other values: each distinct value's text, below
-            pass
     if isinstance(values, list):
         try:
             return pd.array(pa.array(values, type=pa.large_string(), from_pandas=True), dtype="str")
@@ -136,3 +131,32 @@ def str_array(values, n: int | None = None):
     text = pa.array([u if isinstance(u, str) else str(u) for u in uniq], type=pa.large_string())
     coded = pa.DictionaryArray.from_arrays(pa.array(codes.astype(np.int32), mask=codes < 0), text)
     return pd.array(coded.cast(pa.large_string()), dtype="str")
+
+
+def concat_arrays(pieces: list):
+    """Pieces of a column one after the other, as ``pandas.concat`` of them as Series gives them (values
+    and dtype), without its per-frame work: numpy arrays of one dtype joined, categoricals of one dtype by
+    their codes, ``str`` arrays and categoricals of ``str`` (which pandas joins as ``str``) as Arrow
+    chunks (no text copied); anything else by pandas."""
+    first = pieces[0]
+    if all(isinstance(p, np.ndarray) and p.dtype == first.dtype and p.dtype != object for p in pieces):
+        return np.concatenate(pieces)
+    if all(isinstance(p, pd.Categorical) and p.dtype == first.dtype for p in pieces):
+        # (unordered dtypes are equal whatever the order of their categories: codes put in the first's order)
+        codes = [p.codes if p.categories.equals(first.categories) else
+                 np.where(p.codes < 0, -1, first.categories.get_indexer(p.categories)[p.codes]) for p in pieces]
+        return pd.Categorical.from_codes(np.concatenate(codes), dtype=first.dtype, validate=False)
+
+    def is_str(p) -> bool:  # a str array, or a categorical of str (pandas joins categoricals of other categories as str)
+        return p.categories.dtype == "str" if isinstance(p, pd.Categorical) else \
+            isinstance(p, pd.api.extensions.ExtensionArray) and p.dtype == "str"
+
+    if all(is_str(p) for p in pieces):  # as Arrow chunks, texts not copied
+        chunks = []
+        for p in pieces:
+            if isinstance(p, pd.Categorical):  # decoded by Arrow from the categories
+                p = pd.array(pa.DictionaryArray.from_arrays(pa.array(p.codes.astype(np.int32), mask=p.codes < 0),
+                             pa.array(p.categories.to_numpy(dtype=object), type=pa.large_string())), dtype="str")
+            chunks += pa.chunked_array(pa.array(p)).cast(pa.large_string()).chunks
+        return pd.array(pa.chunked_array(chunks, type=pa.large_string()), dtype="str")
+    return pd.concat([pd.Series(p) for p in pieces], ignore_index=True).array

@@ -43,42 +43,7 @@ def applicable_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) 
     (r_pos, e_pos) : two int arrays of equal length
         Positions in ``results`` and in ``limits.entries``, grouped by result in input order.
     """
-    entries = limits.entries
-    e_ok = np.ones(len(entries), dtype=bool)  # every basis; period bases are decided by periods.py
-    site_code, site_cat = pd.factorize(results["site_id"])
-    ana_code, ana_cat = pd.factorize(results["analyte"])
-    fr_code, fr_cat = pd.factorize(results["fraction"])
-    n_a, n_f = max(len(ana_cat), 1), max(len(fr_cat), 1)
-    r_key = (site_code.astype(np.int64) * n_a + ana_code) * n_f + fr_code
-
-    e_idx = np.flatnonzero(e_ok)
-    if sites is None:
-        su = pd.DataFrame({"site_id": np.repeat(site_cat.to_numpy(), len(limits.tables)),
-                           "use": np.tile(limits.tables["use"].to_numpy(), len(site_cat))})
-    else:
-        su = site_uses(sites)
-    ent = entries.iloc[e_idx][["use", "analyte", "fraction"]].assign(_e=e_idx)
-    pairs = su.drop_duplicates().merge(ent, on="use")
-    pairs = pairs[scope.keep_pairs(pairs, entries, limits.tables, sites)]  # entries scoped by site attributes
-    p_site = _codes(pairs["site_id"], pd.Index(site_cat))
-    p_ana = _codes(pairs["analyte"], pd.Index(ana_cat))
-    p_fr = _codes(pairs["fraction"], pd.Index(fr_cat))
-    keep = (p_site >= 0) & (p_ana >= 0) & (p_fr >= 0)
-    p_key = ((p_site.astype(np.int64) * n_a + p_ana) * n_f + p_fr)[keep]
-    p_entry = pairs["_e"].to_numpy()[keep]
-    order = np.argsort(p_key, kind="stable")
-    p_key, p_entry = p_key[order], p_entry[order]
-    # keys are numbers below n_keys: each key's first pair and count by table look-up, not a search per result
-    n_keys = len(site_cat) * n_a * n_f
-    per_key = np.bincount(p_key, minlength=n_keys)
-    first = np.cumsum(per_key) - per_key
-    inside = (r_key >= 0) & (r_key < n_keys)  # (a missing code can make a key of no pair)
-    at = np.where(inside, r_key, 0)
-    start, counts = first[at], np.where(inside, per_key[at], 0) if n_keys else np.zeros(len(r_key), np.int64)
-    ends = np.cumsum(counts)
-    r_pos = np.repeat(np.arange(len(results)), counts)
-    e_pos = p_entry[np.repeat(start - ends + counts, counts) + np.arange(len(r_pos))]
-    return r_pos, e_pos
+    return candidate_pairs(results, limits, sites, cross_fraction=False)[:2]
 
 
 def cross_fraction_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) -> tuple[np.ndarray, np.ndarray]:
@@ -88,10 +53,62 @@ def cross_fraction_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | No
     (:func:`tracescreen.screening.fractions.lacks_other_fraction`); whether a pair decides is known
     only after comparison (:func:`tracescreen.screening.fractions.deciding`).
     """
-    r_x, e_x = applicable_pairs(fractions.swapped(results), limits, sites)
-    keep_x = fractions.lacks_other_fraction(results)[r_x] & \
-        (limits.entries["basis"].astype(str).to_numpy(dtype=object)[e_x] == "single_sample")
-    return r_x[keep_x], e_x[keep_x]
+    return candidate_pairs(results, limits, sites, cross_fraction=True, own=False)[2:]
+
+
+def candidate_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None, cross_fraction: bool = True,
+                    own: bool = True) -> tuple[np.ndarray, ...]:
+    """:func:`applicable_pairs` (``own``) and :func:`cross_fraction_pairs` (``cross_fraction``) from one
+    table of the entries each (site, analyte, fraction) key has: ``(r_pos, e_pos, r_x, e_x)`` (empty
+    arrays for a set not asked for)."""
+    entries = limits.entries
+    site_code, site_cat = pd.factorize(results["site_id"])
+    ana_code, ana_cat = pd.factorize(results["analyte"])
+    fr_code, fr_cat = pd.factorize(results["fraction"])
+    fr_text = [str(f) for f in fr_cat]
+    fr_index = pd.Index(fr_text + [f for f in dict.fromkeys(fractions.other_fractions(fr_text)) if f not in fr_text])
+    n_a, n_f = max(len(ana_cat), 1), max(len(fr_index), 1)
+
+    if sites is None:
+        su = pd.DataFrame({"site_id": np.repeat(site_cat.to_numpy(), len(limits.tables)),
+                           "use": np.tile(limits.tables["use"].to_numpy(), len(site_cat))})
+    else:
+        su = site_uses(sites)
+    ent = entries[["use", "analyte", "fraction"]].assign(_e=np.arange(len(entries)))
+    pairs = su.drop_duplicates().merge(ent, on="use")
+    pairs = pairs[scope.keep_pairs(pairs, entries, limits.tables, sites)]  # entries scoped by site attributes
+    p_site = _codes(pairs["site_id"], pd.Index(site_cat))
+    p_ana = _codes(pairs["analyte"], pd.Index(ana_cat))
+    p_fr = _codes(pairs["fraction"], fr_index)
+    keep = (p_site >= 0) & (p_ana >= 0) & (p_fr >= 0)
+    p_key = ((p_site.astype(np.int64) * n_a + p_ana) * n_f + p_fr)[keep]
+    p_entry = pairs["_e"].to_numpy()[keep]
+    order = np.argsort(p_key, kind="stable")
+    p_key, p_entry = p_key[order], p_entry[order]
+    # keys are numbers below n_keys: each key's first pair and count by table look-up, not a search per result
+    n_keys = len(site_cat) * n_a * n_f
+    per_key = np.bincount(p_key, minlength=n_keys)
+    first = np.cumsum(per_key) - per_key
+
+    def expand(r_fr: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        r_key = (site_code.astype(np.int64) * n_a + ana_code) * n_f + r_fr
+        inside = (site_code >= 0) & (ana_code >= 0) & (r_fr >= 0)  # (a missing code makes a key of no pair)
+        at = np.where(inside, r_key, 0)
+        start, counts = first[at], np.where(inside, per_key[at], 0) if n_keys else np.zeros(len(r_key), np.int64)
+        ends = np.cumsum(counts)
+        r_pos = np.repeat(np.arange(len(results)), counts)
+        return r_pos, p_entry[np.repeat(start - ends + counts, counts) + np.arange(len(r_pos))]
+
+    none = np.zeros(0, dtype=np.int64)
+    r_pos, e_pos = expand(fr_code) if own else (none, none)
+    r_x, e_x = none, none
+    if cross_fraction:  # the other fraction's entries, for results whose sample lacks that fraction
+        other = fr_index.get_indexer(fractions.other_fractions(fr_text))
+        r_x, e_x = expand(np.where(fr_code >= 0, other[np.maximum(fr_code, 0)] if len(other) else -1, -1))
+        keep_x = fractions.lacks_other_fraction(results)[r_x] & \
+            (entries["basis"].astype(str).to_numpy(dtype=object)[e_x] == "single_sample")
+        r_x, e_x = r_x[keep_x], e_x[keep_x]
+    return r_pos, e_pos, r_x, e_x
 
 
 def days(dates: pd.Series) -> np.ndarray:

@@ -54,7 +54,8 @@ def _text_codes(values: pd.Series, with_text: bool = True) -> tuple[np.ndarray, 
     return recode[codes], text
 
 
-def _swap_text(texts) -> list:
+def other_fractions(texts) -> list:
+    """The other fraction of each fraction text (total <-> dissolved; other texts kept)."""
     return [_SWAP.get(t, t) for t in texts]
 
 
@@ -68,7 +69,7 @@ def swapped(results: pd.DataFrame) -> pd.DataFrame:
         recode, text = pd.factorize(pd.Index(frac.cat.categories.astype(str)))
         codes = frac.cat.codes.to_numpy()
         new = np.where(codes < 0, -1, recode[codes] if len(recode) else codes)  # missing stays missing
-        return results.assign(fraction=pd.Categorical.from_codes(new, categories=_swap_text(text)))
+        return results.assign(fraction=pd.Categorical.from_codes(new, categories=other_fractions(text)))
     text = frac.astype(str)
     return results.assign(fraction=pd.Categorical(text.map(_SWAP).fillna(text)))
 
@@ -81,7 +82,7 @@ def lacks_other_fraction(results: pd.DataFrame) -> np.ndarray:
 
     key = [_text_codes(results[c], with_text=False)[0] for c in ("site_id", "sample_id", "analyte")]
     f_codes, f_text = _text_codes(results["fraction"])
-    other_of = pd.Index(f_text).get_indexer(_swap_text(f_text))  # -1: the other fraction has no result
+    other_of = pd.Index(f_text).get_indexer(other_fractions(f_text))  # -1: the other fraction has no result
     f_other = other_of[f_codes]
     has_other = f_other >= 0
     if not has_other.any():

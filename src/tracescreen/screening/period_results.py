@@ -20,13 +20,19 @@ def _arrow_text(values) -> pa.Array:
     return arr.cast(pa.string()) if pa.types.is_dictionary(arr.type) or arr.type != pa.string() else arr
 
 
+def day_texts(dates, prefix: str = "") -> pa.Array:
+    """``prefix`` + YYYY-MM-DD of each date as Arrow text: each distinct day formatted once, the rows'
+    texts taken from them (a missing date: missing text)."""
+    days = np.asarray(dates, dtype="datetime64[ns]").astype("datetime64[D]")
+    uniq, inv = np.unique(days, return_inverse=True)
+    text = (prefix + pd.DatetimeIndex(uniq.astype("datetime64[ns]")).strftime("%Y-%m-%d")).to_numpy(dtype=object)
+    return pa.array(text, type=pa.string(), from_pandas=True).take(pa.array(inv.ravel()))
+
+
 def describe(rows: dict, end: str = "") -> pa.Array:
     """'sample_id (YYYY-MM-DD): result_text' per row (followed by ``end``), for listing the results
     behind a value (Arrow text); each distinct day is formatted once."""
-    days = np.asarray(rows["sampled_at"], dtype="datetime64[ns]").astype("datetime64[D]")
-    uniq, inv = np.unique(days, return_inverse=True)
-    day = pc.strftime(pa.array(uniq.astype("datetime64[ns]")), format="%Y-%m-%d").take(pa.array(inv.ravel()))
-    return pc.binary_join_element_wise(_arrow_text(rows["sample_id"]), " (", day, "): ",
+    return pc.binary_join_element_wise(_arrow_text(rows["sample_id"]), " (", day_texts(rows["sampled_at"]), "): ",
                                        _arrow_text(rows["result_text"]), end, "")
 
 

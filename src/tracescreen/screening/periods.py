@@ -40,17 +40,19 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 from pandas.api.types import union_categoricals
 
 from tracescreen._internal.coded import combo_text
-from tracescreen._internal.frames import replace_at, str_array
+from tracescreen._internal.frames import concat_arrays, replace_at, str_array
 from tracescreen.io.units import clean_decimal
 from tracescreen.limits.schema import PERIOD_BASES
 from tracescreen.screening.percentiles import group_percentiles, substitute
+from tracescreen.screening.period_results import day_texts
 from tracescreen.screening.period_results import joined as _joined
 from tracescreen.screening.rounding import entry_significant_figures, round_to_limit_figures
 from tracescreen.screening.status import statistic_status
-from tracescreen.screening.windows import WINDOW_MONTHS, period_bounds, running_windows, window_sums
+from tracescreen.screening.windows import WINDOW_MONTHS, period_bounds, running_windows, series_first_row, window_sums
 from tracescreen.statistics.censored import kaplan_meier_grouped
 
 NONDETECT_RULE_TEXT = {"zero": "non-detects as zero", "half_dl": "non-detects at half the detection limit",
@@ -184,23 +186,29 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
         per_row[c] = clean_decimal(per_row[c].to_numpy(dtype=float))
     if not with_table:
         return per_row, None
-    periods = pd.concat([_frame(t) for t in tables], ignore_index=True)
+    periods = _frame(tables)
     periods["period_id"] = np.arange(1, len(periods) + 1)
     for c in ("value_ug_L", "value_nondetects_zero_ug_L", "value_nondetects_at_dl_ug_L", "ratio"):
         periods[c] = clean_decimal(periods[c].to_numpy(dtype=float))
     return per_row, periods[PERIOD_COLUMNS]
 
 
-def _frame(table: dict) -> pd.DataFrame:
-    """A part of the periods table as a DataFrame; its text columns (what pandas would make ``str``)
-    are made ``str`` arrays by Arrow (:func:`~tracescreen._internal.frames.str_array`), not row by row."""
-    n = len(table["n_results"])
+def _frame(tables: list[dict]) -> pd.DataFrame:
+    """The periods table from its parts (one per basis), as ``pandas.concat`` of each part as a DataFrame
+    would give it, column by column: text columns (what pandas would make ``str``) are made ``str``
+    arrays by Arrow (:func:`~tracescreen._internal.frames.str_array`), not row by row, and joined as Arrow
+    chunks; numbers and categoricals of one dtype by their values and codes."""
+    sizes = [len(t["n_results"]) for t in tables]
 
     def text(v) -> bool:
         return isinstance(v, str) or ((isinstance(v, list) or (isinstance(v, np.ndarray) and v.dtype == object))
                                       and pd.api.types.infer_dtype(v, skipna=True) == "string")
 
-    return pd.DataFrame({k: str_array(v, n) if text(v) else v for k, v in table.items()}, copy=False)
+    columns = {}
+    for k in tables[0]:
+        pieces = [str_array(t[k], n) if text(t[k]) else t[k] for t, n in zip(tables, sizes)]
+        columns[k] = pieces[0] if len(pieces) == 1 else concat_arrays(pieces)
+    return pd.DataFrame(columns, copy=False)
 
 
 def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
@@ -230,9 +238,11 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
                                          km.size, probs=())["mean"].to_numpy()
     limit = r["limit_ug_L"].astype(float)
     status, kind = _decide(value, lower, upper, n_nd == n, limit, p["sig"], p["rounding"])
-    day = pd.DatetimeIndex(r["sampled_at"]).normalize()
-    first_day = pd.Series(day).groupby(code).transform("min").to_numpy()
-    window_start = (day - pd.DateOffset(months=WINDOW_MONTHS) + pd.Timedelta(days=1)).to_numpy()
+    day = pd.DatetimeIndex(r["sampled_at"]).normalize().to_numpy()
+    first_day = day[series_first_row(code)]  # rows sorted by series, then date (a missing date last)
+    days, at_day = np.unique(day, return_inverse=True)  # each distinct day's window worked out once
+    window_start = (pd.DatetimeIndex(days) - pd.DateOffset(months=WINDOW_MONTHS)
+                    + pd.Timedelta(days=1)).to_numpy()[at_day.ravel()]
     short = first_day > window_start
     note = combo_text([n.astype(int), rule, short, kind], lambda k, ru, sh, kd: "; ".join(filter(None, [
         f"running annual mean of {k} result{'' if k == 1 else 's'} ({NONDETECT_RULE_TEXT[ru]})",
@@ -247,8 +257,8 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
         "limit_table": r["limit_table"], "use": p["use"], "site_id": r["site_id"],
         "analyte": r["analyte"], "fraction": r["fraction"], "basis": "running_annual_mean",
         "duration": r["duration"], "statistic": "mean",
-        "period": "12 months to " + day.strftime("%Y-%m-%d").to_numpy(dtype=object),
-        "period_start": window_start, "period_end": day.to_numpy(), "n_results": n.astype(int),
+        "period": pd.array(day_texts(day, "12 months to ").cast(pa.large_string()), dtype="str"),
+        "period_start": window_start, "period_end": day, "n_results": n.astype(int),
         "n_nondetects": n_nd.astype(int), "nondetect_rule": rule, "value_ug_L": value,
         "value_nondetects_zero_ug_L": lower, "value_nondetects_at_dl_ug_L": upper, "limit_ug_L": limit,
         "ratio": ratio, "status": status, "note": note, "source": p["source"],

@@ -23,7 +23,7 @@ from tracescreen.limits import forms
 from tracescreen.limits import load as limits_mod
 from tracescreen.limits.in_force import round_criteria
 from tracescreen.screening import fractions, frequency, periods, rounding
-from tracescreen.screening.applicability import applicable_pairs, cross_fraction_pairs, in_force
+from tracescreen.screening.applicability import candidate_pairs, in_force
 from tracescreen.screening.hardness import sample_hardness
 from tracescreen.screening.inputs import USED_COLUMNS, sample_inputs
 from tracescreen.screening.status import above_range, status_codes
@@ -78,10 +78,9 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
     hard = sample_hardness(results, sites)
     qc = (results["sample_type"] != "sample").to_numpy()
     entries = limits.entries
-    r_pos, e_pos = applicable_pairs(results, limits, sites)
+    r_pos, e_pos, r_x, e_x = candidate_pairs(results, limits, sites, cross_fraction)
     cross = np.zeros(len(r_pos), dtype=bool)
     if cross_fraction:
-        r_x, e_x = cross_fraction_pairs(results, limits, sites)
         r_pos, e_pos = np.concatenate([r_pos, r_x]), np.concatenate([e_pos, e_x])
         cross = np.concatenate([cross, np.ones(len(r_x), dtype=bool)])
     keep = ~qc[r_pos]

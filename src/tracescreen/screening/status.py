@@ -125,13 +125,14 @@ def statistic_status(value, lower, upper, all_nondetect, limit_ug_L) -> tuple[pd
     bound = lim * (1.0 + REL_TOL)
     with np.errstate(invalid="ignore"):
         over, lo_over, up_over = v > bound, lo > bound, up > bound
-    status = np.select(
+    code = {s: RANKED.index(s) for s in ("no_limit", "nondetect_inconclusive", "nondetect_meets", "exceeds", "meets")}
+    status = np.select(  # positions in RANKED: the categorical's codes, no text per value
         [np.isnan(lim), all_nd & up_over, all_nd, np.isnan(v), over & lo_over, over],
-        ["no_limit", "nondetect_inconclusive", "nondetect_meets", "no_limit", "exceeds", "nondetect_inconclusive"],
-        "meets").astype(object)
+        [code["no_limit"], code["nondetect_inconclusive"], code["nondetect_meets"], code["no_limit"],
+         code["exceeds"], code["nondetect_inconclusive"]], code["meets"]).astype(np.int8)
     mixed = ~all_nd & ~np.isnan(v) & ~np.isnan(lim)
     kind = np.where(mixed & over & ~lo_over, 1, np.where(mixed & ~over & up_over, 2, 0))
-    return pd.Categorical(status, categories=list(RANKED)), kind
+    return pd.Categorical.from_codes(status, categories=list(RANKED)), kind
 
 
 def worst_status(screened: pd.DataFrame, by: list[str]) -> pd.DataFrame:

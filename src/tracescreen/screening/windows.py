@@ -50,7 +50,9 @@ def running_windows(series_code: np.ndarray, sampled_at, months: int = WINDOW_MO
     """Window [start, stop) of each row: same series, day in (day - months, day]. Rows sorted by (series, date)."""
     t = pd.DatetimeIndex(sampled_at)
     day = t.to_numpy(dtype="datetime64[D]").astype(np.int64)
-    first = (t - pd.DateOffset(months=months)).to_numpy(dtype="datetime64[D]").astype(np.int64)
+    times, at = np.unique(t.to_numpy(), return_inverse=True)  # each distinct time offset once
+    first = (pd.DatetimeIndex(times) - pd.DateOffset(months=months)).to_numpy(dtype="datetime64[D]").astype(np.int64)
+    first = first[at.ravel()]
     base = day.min() if day.size else 0
     span = (day.max() - base if day.size else 0) + 800
     code = np.asarray(series_code, dtype=np.int64) * span
@@ -58,6 +60,12 @@ def running_windows(series_code: np.ndarray, sampled_at, months: int = WINDOW_MO
     stop = np.searchsorted(key, key, side="right")
     start = np.searchsorted(key, code + (first - base + 400), side="right")
     return start, stop
+
+
+def series_first_row(series: np.ndarray) -> np.ndarray:
+    """Position of the first row of each row's series (rows sorted by ``series``)."""
+    idx = np.arange(len(series))
+    return np.maximum.accumulate(np.where(np.r_[True, series[1:] != series[:-1]], idx, 0)) if len(series) else idx
 
 
 def window_sums(x: np.ndarray, start: np.ndarray, stop: np.ndarray, series: np.ndarray) -> np.ndarray:
@@ -71,8 +79,7 @@ def window_sums(x: np.ndarray, start: np.ndarray, stop: np.ndarray, series: np.n
     by_series = pd.Series(np.where(nan, 0.0, x)).groupby(series, sort=False)
     local = by_series.cumsum().to_numpy()
     n_nan = pd.Series(nan.astype(np.int64)).groupby(series, sort=False).cumsum().to_numpy()
-    idx = np.arange(x.size)
-    first = np.maximum.accumulate(np.where(np.r_[True, series[1:] != series[:-1]], idx, 0)) if x.size else idx
+    first = series_first_row(series)
     inside = start > first  # the window starts after its series' first row
 
     def before(a):  # running value just before each window's start (0 at a series' start)
