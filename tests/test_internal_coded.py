@@ -91,3 +91,18 @@ def test_kept_categorical_equals_pandas_categorical_of_the_kept_rows(texts, keep
     ref = pd.Categorical(per_value[c.codes][mask].astype(str))
     assert list(got.categories) == list(ref.categories) and got.categories.dtype == ref.categories.dtype
     np.testing.assert_array_equal(got.codes, ref.codes)
+
+
+@given(st.lists(st.sampled_from(["a", "b", "", "c", None, "a "]), min_size=1, max_size=40), st.integers(1, 39))
+@settings(max_examples=100, deadline=None)
+def test_arrow_text_is_coded_as_pandas_factorize_codes_it(texts, cut):
+    """Text held by Arrow in several chunks (a CSV file read block by block) is coded by Arrow's dictionary
+    encoding: the codes and values are pandas.factorize's of the text with missing as "" (first appearance)."""
+    import pyarrow as pa
+
+    cut = min(cut, len(texts))
+    s = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array([texts[:cut], texts[cut:]], type=pa.string())))
+    codes, values = pd.factorize(pd.Series([("" if t is None else t).strip() for t in texts], dtype=object))
+    c = CodedText.from_series(s)
+    assert list(c.codes) == list(codes)
+    assert list(c.values) == list(values)

@@ -54,23 +54,31 @@ def sampling_seasons(dates, codes, n_groups, mode: str = "auto") -> tuple[np.nda
     n_seasons = np.ones(n_groups, np.int64)
     if mode == "never" or d.empty:
         return np.zeros(len(d), np.int64), n_seasons
-    frame = pd.DataFrame({"g": codes, "year": d.dt.year, "month": d.dt.month - 1})
-    per_year = frame.groupby(["g", "year"]).size().groupby("g").agg(["median", "size"])
-    per_year = per_year.reindex(range(n_groups))
-    monthly = per_year["median"].to_numpy() >= 10
-    quarterly = (per_year["median"].to_numpy() >= 3) & ~monthly
-    enough_years = per_year["size"].to_numpy() >= 3
+    month = (d.dt.month - 1).to_numpy()
+    # counted on integer keys (series, year) and (series, season, year) of the dated values
+    dated = d.notna().to_numpy()
+    g, year, m = codes[dated], d.dt.year.to_numpy()[dated].astype(np.int64), month[dated].astype(np.int64)
+    year -= year.min() if year.size else 0
+    n_years = int(year.max()) + 1 if year.size else 1
+    cells, per_year = np.unique(g * n_years + year, return_counts=True)  # samples per series and year
+    of = cells // n_years
+    years = np.bincount(of, minlength=n_groups)
+    median = pd.Series(per_year).groupby(of).median().reindex(range(n_groups)).to_numpy()
+    monthly = median >= 10
+    quarterly = (median >= 3) & ~monthly
+    enough_years = years >= 3
     choice = np.where(monthly, 12, np.where(quarterly | (mode == "always"), 4, 1))
     if mode == "auto":
         for p in (12, 4):
-            season = frame["month"] if p == 12 else frame["month"] // 3
-            years = frame.assign(s=season).groupby(["g", "s"])["year"].nunique()
-            seasons_ok = (years >= 3).groupby("g").sum().reindex(range(n_groups), fill_value=0)
-            bad = (choice == p) & ~((seasons_ok.to_numpy() == p) & enough_years)
+            s = m if p == 12 else m // 3
+            # distinct years of each (series, season), and the seasons with at least 3 of them
+            season_of, n_in = np.unique(np.unique((g * p + s) * n_years + year) // n_years, return_counts=True)
+            seasons_ok = np.bincount(season_of // p, weights=n_in >= 3, minlength=n_groups)
+            bad = (choice == p) & ~((seasons_ok == p) & enough_years)
             choice = np.where(bad, 1, choice)
     n_seasons = choice.astype(np.int64)
     per_value = n_seasons[codes]
-    season = np.where(per_value == 12, frame["month"], np.where(per_value == 4, frame["month"] // 3, 0))
+    season = np.where(per_value == 12, month, np.where(per_value == 4, month // 3, 0))
     return season.astype(np.int64), n_seasons
 
 
