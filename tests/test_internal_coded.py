@@ -5,7 +5,7 @@ import pandas as pd
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes, sorted_categorical
+from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes, nested_codes, sorted_categorical
 
 TEXTS = st.lists(st.sampled_from(["a", " a", "a ", "b", "", "  ", "B", "µg/L", "ug/L", "<0.5"]), min_size=1, max_size=60)
 
@@ -49,6 +49,20 @@ def test_joint_codes_match_pandas_grouping(rows):
     assert np.array_equal(a[first], pd.DataFrame(a).drop_duplicates().to_numpy())
 
 
+@given(st.lists(st.tuples(st.integers(0, 3), st.integers(0, 6)), min_size=1, max_size=80), st.booleans())
+@settings(max_examples=100, deadline=None)
+def test_nested_codes_give_the_groups_of_pandas_grouping(rows, one_site_per_sample):
+    """Two rows share a nested code exactly when pandas groupby puts them in one (site, sample) group,
+    with the sample's own code or without (a sample id at two sites); codes stay below the bound."""
+    a = np.array(rows, dtype=np.int64)
+    if one_site_per_sample:
+        a[:, 0] = a[:, 1] % 3
+    codes, bound = nested_codes(a[:, 0], a[:, 1])
+    ref = pd.DataFrame(a).groupby([0, 1], sort=False).ngroup().to_numpy()
+    assert (codes[:, None] == codes[None, :]).tolist() == (ref[:, None] == ref[None, :]).tolist()
+    assert codes.min() >= 0 and codes.max() < bound
+
+
 def test_joint_codes_stay_exact_with_wide_code_ranges():
     """Columns whose code ranges multiply past int64 are re-coded, not overflowed."""
     n = 1000
@@ -77,3 +91,18 @@ def test_kept_categorical_equals_pandas_categorical_of_the_kept_rows(texts, keep
     ref = pd.Categorical(per_value[c.codes][mask].astype(str))
     assert list(got.categories) == list(ref.categories) and got.categories.dtype == ref.categories.dtype
     np.testing.assert_array_equal(got.codes, ref.codes)
+
+
+@given(st.lists(st.sampled_from(["a", "b", "", "c", None, "a "]), min_size=1, max_size=40), st.integers(1, 39))
+@settings(max_examples=100, deadline=None)
+def test_arrow_text_is_coded_as_pandas_factorize_codes_it(texts, cut):
+    """Text held by Arrow in several chunks (a CSV file read block by block) is coded by Arrow's dictionary
+    encoding: the codes and values are pandas.factorize's of the text with missing as "" (first appearance)."""
+    import pyarrow as pa
+
+    cut = min(cut, len(texts))
+    s = pd.Series(pd.arrays.ArrowStringArray(pa.chunked_array([texts[:cut], texts[cut:]], type=pa.string())))
+    codes, values = pd.factorize(pd.Series([("" if t is None else t).strip() for t in texts], dtype=object))
+    c = CodedText.from_series(s)
+    assert list(c.codes) == list(codes)
+    assert list(c.values) == list(values)

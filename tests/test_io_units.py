@@ -59,3 +59,15 @@ def test_clean_decimal_removes_binary_residue():
     raw = np.array([0.1 * 3, 1.1 * 3, 1e-4 * 1000])
     assert raw[0] != 0.3 and raw[1] != 3.3
     assert units.clean_decimal(raw).tolist() == [0.3, 3.3, 0.1]
+
+
+def test_pint_is_imported_without_dask():
+    """A run's unit conversions import pint but not dask (installed for --engine dask; pint.compat imports it
+    whenever it is installed, 0.06-0.1 s of every run's start); dask itself still imports afterwards."""
+    import subprocess
+    import sys
+
+    code = ("import sys; from tracescreen.io.units import factor_to_ug_per_L; f = factor_to_ug_per_L('mg/L'); "
+            "before = 'dask' in sys.modules; import dask; print(f, before, 'pint' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
+    assert out == ["1000.0", "False", "True"]  # 1 mg/L = 1000 µg/L (SI prefixes [BIPM 2019])

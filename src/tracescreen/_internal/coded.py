@@ -18,6 +18,8 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 _STR = "str"  # pandas' default string dtype (Arrow-backed)
 
@@ -31,9 +33,21 @@ class CodedText:
 
     @classmethod
     def from_series(cls, s: pd.Series) -> CodedText:
-        """Code a column of text (missing text counts as ""); surrounding whitespace is dropped."""
-        codes, uniq = pd.factorize(s.fillna("") if s.hasnans else s)
-        values = pd.Index(uniq, dtype=_STR)
+        """Code a column of text (missing text counts as ""); surrounding whitespace is dropped.
+
+        Text held by Arrow (a CSV file's cells) is coded by Arrow's dictionary encoding, which
+        numbers values in order of first appearance as ``pandas.factorize`` does.
+        """
+        arrow = _arrow_text(s)
+        if arrow is not None:
+            if arrow.null_count:
+                arrow = pc.fill_null(arrow, "")
+            encoded = arrow.dictionary_encode().combine_chunks()
+            codes = encoded.indices.to_numpy(zero_copy_only=False).astype(np.int64)
+            values = pd.Index(pd.arrays.ArrowStringArray(encoded.dictionary), dtype=_STR)
+        else:
+            codes, uniq = pd.factorize(s.fillna("") if s.hasnans else s)
+            values = pd.Index(uniq, dtype=_STR)
         stripped = values.str.strip()
         if not (stripped == values).all():  # " S01" and "S01" become one value
             recode, values = pd.factorize(stripped)
@@ -68,6 +82,14 @@ class CodedText:
     def categorical(self, keep: np.ndarray | None = None) -> pd.Categorical:
         """The rows in ``keep`` as a categorical whose categories are every value, sorted."""
         return sorted_categorical(self.codes, self.values, keep)
+
+
+def _arrow_text(s: pd.Series):
+    """The Arrow array of a text Series held by Arrow (a ChunkedArray of strings), else None."""
+    if len(s) == 0 or not isinstance(s.array, pd.arrays.ArrowStringArray):
+        return None
+    arrow = s.array.__arrow_array__()
+    return arrow if pa.types.is_string(arrow.type) or pa.types.is_large_string(arrow.type) else None
 
 
 def sorted_categorical(codes: np.ndarray, values, keep: np.ndarray | None = None) -> pd.Categorical:
@@ -130,6 +152,8 @@ def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     width = 1
     for c in codes:
         k = int(c.max()) + 1 if n else 1
+        if k == 1:  # one value (a column the file does not have): adds nothing
+            continue
         if width * k >= 2**62:  # keep the mixed-radix number inside int64
             joint, uniq = pd.factorize(joint)
             width = len(uniq)
@@ -140,6 +164,20 @@ def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     # running maximum of the codes grows
     first = np.flatnonzero(np.diff(np.maximum.accumulate(joint), prepend=-1) > 0) if n else joint
     return joint, first
+
+
+def nested_codes(outer: np.ndarray, inner: np.ndarray) -> tuple[np.ndarray, int]:
+    """One code per distinct (outer, inner) pair of non-negative codes (e.g. site and sample), and a bound
+    of the codes: ``inner`` itself where each inner code comes with one outer code (a sample taken at one
+    site: no hash of the pairs), else :func:`joint_codes`."""
+    if not len(inner):
+        return np.zeros(0, dtype=np.int64), 0
+    outer_of = np.zeros(int(inner.max()) + 1, dtype=np.int64)
+    outer_of[inner] = outer
+    if (outer_of[inner] == outer).all():
+        return inner.astype(np.int64, copy=False), len(outer_of)
+    joint, first = joint_codes(outer, inner)
+    return joint, len(first)
 
 
 def combo_text(columns: list, render) -> pd.Categorical:

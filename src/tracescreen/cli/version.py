@@ -10,7 +10,6 @@ from __future__ import annotations
 import argparse
 import platform
 import sys
-from importlib import metadata
 from pathlib import Path
 
 #: The limit tables shipped with tracescreen (``limits/`` of the project folder).
@@ -18,6 +17,8 @@ SHIPPED_LIMITS = Path(__file__).resolve().parents[3] / "limits"
 
 
 def _version(package: str) -> str:
+    from importlib import metadata  # (imported when --version asks: 25 ms of every run's start)
+
     try:
         return metadata.version(package)
     except metadata.PackageNotFoundError:

@@ -59,7 +59,7 @@ def not_accepted_frame(raw, mask: np.ndarray, reasons: np.ndarray, parsed: dict[
     for c in NOT_ACCEPTED_COLUMNS[4:]:
         if c in parsed:
             head[c] = parsed[c]
-    cells = raw.cells.loc[mask]
+    cells = raw.cells.take(np.flatnonzero(mask))  # (a boolean .loc of a 1M-row table: 2-3x slower)
     cells = cells.drop(columns=[c for c in cells.columns if str(c).startswith("__")])
     cells = cells.rename(columns={c: f"{c} (file)" for c in cells.columns if c in head.columns})
     return pd.concat([head, cells.reset_index(drop=True)], axis=1)
