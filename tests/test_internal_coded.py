@@ -5,7 +5,7 @@ import pandas as pd
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes, sorted_categorical
+from tracescreen._internal.coded import CodedText, derived_categorical, joint_codes, nested_codes, sorted_categorical
 
 TEXTS = st.lists(st.sampled_from(["a", " a", "a ", "b", "", "  ", "B", "µg/L", "ug/L", "<0.5"]), min_size=1, max_size=60)
 
@@ -47,6 +47,20 @@ def test_joint_codes_match_pandas_grouping(rows):
     ref = pd.DataFrame(a).groupby([0, 1, 2], sort=False).ngroup().to_numpy()
     assert np.array_equal(codes, ref)
     assert np.array_equal(a[first], pd.DataFrame(a).drop_duplicates().to_numpy())
+
+
+@given(st.lists(st.tuples(st.integers(0, 3), st.integers(0, 6)), min_size=1, max_size=80), st.booleans())
+@settings(max_examples=100, deadline=None)
+def test_nested_codes_give_the_groups_of_pandas_grouping(rows, one_site_per_sample):
+    """Two rows share a nested code exactly when pandas groupby puts them in one (site, sample) group,
+    with the sample's own code or without (a sample id at two sites); codes stay below the bound."""
+    a = np.array(rows, dtype=np.int64)
+    if one_site_per_sample:
+        a[:, 0] = a[:, 1] % 3
+    codes, bound = nested_codes(a[:, 0], a[:, 1])
+    ref = pd.DataFrame(a).groupby([0, 1], sort=False).ngroup().to_numpy()
+    assert (codes[:, None] == codes[None, :]).tolist() == (ref[:, None] == ref[None, :]).tolist()
+    assert codes.min() >= 0 and codes.max() < bound
 
 
 def test_joint_codes_stay_exact_with_wide_code_ranges():

@@ -167,6 +167,20 @@ def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return joint, first
 
 
+def nested_codes(outer: np.ndarray, inner: np.ndarray) -> tuple[np.ndarray, int]:
+    """One code per distinct (outer, inner) pair of non-negative codes (e.g. site and sample), and a bound
+    of the codes: ``inner`` itself where each inner code comes with one outer code (a sample taken at one
+    site: no hash of the pairs), else :func:`joint_codes`."""
+    if not len(inner):
+        return np.zeros(0, dtype=np.int64), 0
+    outer_of = np.zeros(int(inner.max()) + 1, dtype=np.int64)
+    outer_of[inner] = outer
+    if (outer_of[inner] == outer).all():
+        return inner.astype(np.int64, copy=False), len(outer_of)
+    joint, first = joint_codes(outer, inner)
+    return joint, len(first)
+
+
 def combo_text(columns: list, render) -> pd.Categorical:
     """Text per row from a few low-cardinality columns, rendered once per distinct combination."""
     n = len(columns[0])

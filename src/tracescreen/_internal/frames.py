@@ -154,9 +154,15 @@ def concat_arrays(pieces: list):
     if all(is_str(p) for p in pieces):  # as Arrow chunks, texts not copied
         chunks = []
         for p in pieces:
-            if isinstance(p, pd.Categorical):  # decoded by Arrow from the categories
-                p = pd.array(pa.DictionaryArray.from_arrays(pa.array(p.codes.astype(np.int32), mask=p.codes < 0),
-                             pa.array(p.categories.to_numpy(dtype=object), type=pa.large_string())), dtype="str")
+            p = decoded(p) if isinstance(p, pd.Categorical) else p
             chunks += pa.chunked_array(pa.array(p)).cast(pa.large_string()).chunks
         return pd.array(pa.chunked_array(chunks, type=pa.large_string()), dtype="str")
     return pd.concat([pd.Series(p) for p in pieces], ignore_index=True).array
+
+
+def decoded(values: pd.Categorical):
+    """A categorical of text as pandas' ``str`` array, decoded by Arrow from its categories (missing stays missing)."""
+    codes = values.codes
+    text = pa.array(values.categories.to_numpy(dtype=object), type=pa.large_string(), from_pandas=True)
+    return pd.array(pa.DictionaryArray.from_arrays(pa.array(codes.astype(np.int32), mask=codes < 0), text)
+                    .cast(pa.large_string()), dtype="str")

@@ -96,9 +96,10 @@ def keep_pairs(pairs: pd.DataFrame, entries: pd.DataFrame, tables: pd.DataFrame,
             site_val = np.full(len(pairs), "", dtype=object)
         default = np.array([(defaults.get(t) or {}).get(a, "") for t in table_of], dtype=object)
         value = np.where(site_val == "", default, site_val)
-        combo = pd.DataFrame({"v": value, "e": e_pos})
-        codes, uniq = pd.factorize(pd.MultiIndex.from_frame(combo))
+        v_code, v_text = pd.factorize(value)
+        combo, codes = np.unique(v_code.astype(np.int64) * len(entries) + e_pos, return_inverse=True)
         ok = np.array([v == "" or not entries[f"scope_{a}"].iat[e] or v in entries[f"scope_{a}"].iat[e]
-                       for v, e in uniq], dtype=bool)  # distinct (value, entry) pairs only
-        keep &= ok[codes] | ~scoped
+                       for v, e in zip(v_text[combo // len(entries)], combo % len(entries))],
+                      dtype=bool)  # distinct (value, entry) pairs only
+        keep &= ok[codes.ravel()] | ~scoped
     return keep

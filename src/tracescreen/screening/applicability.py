@@ -24,6 +24,13 @@ def _codes(values: pd.Series, categories: pd.Index) -> np.ndarray:
     return categories.get_indexer(values)
 
 
+def _coded(values: pd.Series) -> tuple[np.ndarray, pd.Index]:
+    """Integer codes of a column and the values they stand for (-1: missing): a categorical's own codes."""
+    if isinstance(values.dtype, pd.CategoricalDtype):
+        return values.cat.codes.to_numpy(), values.cat.categories
+    return pd.factorize(values)
+
+
 def applicable_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None) -> tuple[np.ndarray, np.ndarray]:
     """Result positions and entry positions of every (result, entry) candidate pair.
 
@@ -62,9 +69,9 @@ def candidate_pairs(results: pd.DataFrame, limits, sites: pd.DataFrame | None, c
     table of the entries each (site, analyte, fraction) key has: ``(r_pos, e_pos, r_x, e_x)`` (empty
     arrays for a set not asked for)."""
     entries = limits.entries
-    site_code, site_cat = pd.factorize(results["site_id"])
-    ana_code, ana_cat = pd.factorize(results["analyte"])
-    fr_code, fr_cat = pd.factorize(results["fraction"])
+    site_code, site_cat = _coded(results["site_id"])
+    ana_code, ana_cat = _coded(results["analyte"])
+    fr_code, fr_cat = _coded(results["fraction"])
     fr_text = [str(f) for f in fr_cat]
     fr_index = pd.Index(fr_text + [f for f in dict.fromkeys(fractions.other_fractions(fr_text)) if f not in fr_text])
     n_a, n_f = max(len(ana_cat), 1), max(len(fr_index), 1)

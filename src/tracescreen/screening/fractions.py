@@ -78,7 +78,7 @@ def lacks_other_fraction(results: pd.DataFrame) -> np.ndarray:
     """True where the same site, sample and analyte has no result of the other fraction.
 
     Compared on integer codes of the texts (one joint code per site, sample, analyte and fraction)."""
-    from tracescreen._internal.coded import joint_codes
+    from tracescreen._internal.coded import nested_codes
 
     key = [_text_codes(results[c], with_text=False)[0] for c in ("site_id", "sample_id", "analyte")]
     f_codes, f_text = _text_codes(results["fraction"])
@@ -88,11 +88,14 @@ def lacks_other_fraction(results: pd.DataFrame) -> np.ndarray:
     if not has_other.any():
         return np.ones(len(results), dtype=bool)
     n_f = len(f_text)
-    joint, _ = joint_codes(*key)
+    site, sample, analyte = key
+    joint = nested_codes(site, sample)[0] * (int(analyte.max()) + 1) + analyte  # (site, sample, analyte)
     own = joint.astype(np.int64) * n_f + f_codes
     other = joint.astype(np.int64) * n_f + f_other
+    seen = np.zeros(int(own.max()) + 1 + n_f, dtype=bool)  # the (site, sample, analyte, fraction) keys present
+    seen[own] = True
     out = np.ones(len(results), dtype=bool)
-    out[has_other] = ~np.isin(other[has_other], own)
+    out[has_other] = ~seen[other[has_other]]
     return out
 
 

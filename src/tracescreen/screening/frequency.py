@@ -37,6 +37,14 @@ def _codes(col: pd.Series, rows: np.ndarray) -> np.ndarray:
     return pd.factorize(col.to_numpy()[rows])[0].astype(np.int64) + 1
 
 
+def _is_in(col: pd.Series, values) -> np.ndarray:
+    """``col.isin(values)`` as a bool array; a categorical's categories are tested, not its rows."""
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        codes = col.cat.codes.to_numpy()
+        return np.append(np.asarray(col.cat.categories.isin(values), dtype=bool), False)[codes]  # -1: missing
+    return col.isin(values).to_numpy()
+
+
 def _text_at(col: pd.Series, rows: np.ndarray) -> np.ndarray:
     """The text of ``col`` at ``rows`` (object array); a categorical's text from its categories."""
     if isinstance(col.dtype, pd.CategoricalDtype):
@@ -57,11 +65,16 @@ def infrequent_series(screened: pd.DataFrame, rows: np.ndarray) -> np.ndarray:
     d = day.astype("datetime64[D]").astype(np.int64)
     d -= d.min() if len(d) else 0
     span = int(d.max()) + 1 if len(d) else 1
-    pairs = np.unique(code * span + d)  # distinct (series, day), by series then day
+    if n_series * span <= 1 << 24:  # distinct (series, day), by series then day: a table of them, not a sort
+        seen = np.zeros(n_series * span, dtype=bool)
+        seen[code * span + d] = True
+        pairs = np.flatnonzero(seen)
+    else:
+        pairs = np.unique(code * span + d)
     series, days = np.divmod(pairs, span)
     same = series[1:] == series[:-1]
     gap, of = (days[1:] - days[:-1])[same], series[1:][same]
-    gap = gap[np.lexsort((gap, of))]  # each series' intervals in order (series stay in order)
+    gap = np.sort(of * span + gap) % span  # each series' intervals in order (series stay in order; gap < span)
     count = np.bincount(of, minlength=n_series)
     first = np.cumsum(count) - count
     has = count > 0
@@ -85,8 +98,7 @@ def apply_sampling_frequency(screened: pd.DataFrame, limits) -> pd.DataFrame:
     if "infrequent_basis" not in ents or not ents["infrequent_basis"].notna().any():
         return screened
     flagged = ents.loc[ents["infrequent_basis"] == "single_sample", "entry_id"].astype(str)
-    rows = np.flatnonzero(screened["entry_id"].isin(flagged).to_numpy()
-                          & (screened["basis"] == "running_annual_mean").to_numpy())
+    rows = np.flatnonzero(_is_in(screened["entry_id"], flagged) & _is_in(screened["basis"], ["running_annual_mean"]))
     if not len(rows):
         return screened
     rows = rows[infrequent_series(screened, rows)]

@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tracescreen._internal.coded import joint_codes
+from tracescreen._internal.coded import nested_codes
 
 #: Molar-mass ratios CaCO3/Ca and CaCO3/Mg (Standard Methods 2340 B): 100.087/40.078, 100.087/24.305.
 CA_TO_CACO3 = 2.497
@@ -49,8 +49,7 @@ def sample_hardness(results: pd.DataFrame, sites: pd.DataFrame | None = None) ->
     DataFrame aligned with ``results``: ``hardness_used_mg_L`` [mg/L as CaCO3] and
     ``hardness_origin`` (``sample``, ``calcium_magnesium``, ``site_default`` or ``none``).
     """
-    codes, first = joint_codes(_codes(results["site_id"]), _codes(results["sample_id"]))
-    n_s = len(first)
+    codes, n_s = nested_codes(_codes(results["site_id"]), _codes(results["sample_id"]))
     own = np.full(n_s, np.nan)
     h = results["hardness_mg_L"].to_numpy(dtype=float)
     has = ~np.isnan(h)

@@ -44,7 +44,7 @@ import pyarrow as pa
 from pandas.api.types import union_categoricals
 
 from tracescreen._internal.coded import combo_text
-from tracescreen._internal.frames import concat_arrays, replace_at, str_array
+from tracescreen._internal.frames import concat_arrays, decoded, replace_at, str_array
 from tracescreen.io.units import clean_decimal
 from tracescreen.limits.schema import PERIOD_BASES
 from tracescreen.screening.percentiles import group_percentiles, substitute
@@ -96,21 +96,26 @@ def _entry_params(rows: dict, limits) -> dict[str, np.ndarray]:
     def per_table(f):
         return np.array([f(settings.get(t, {})) for t in tcat], dtype=object)[tcode]
 
-    def per_entry(k):
-        return ents[k].to_numpy(dtype=object)[ecode] if k in ents else np.full(ecode.size, None, dtype=object)
+    def per_table_coded(values: list) -> pd.Categorical:
+        codes, uniq = pd.factorize(np.array(values, dtype=object))
+        return pd.Categorical.from_codes(codes[tcode], categories=pd.Index(uniq, dtype=object).astype(str))
 
-    method = per_entry("percentile_method")
-    default_method = per_table(lambda s: s.get("percentile_method"))
+    def per_entry(k):  # one value per distinct entry of the rows (taken to the rows by ``ecode``)
+        return ents[k].to_numpy(dtype=object) if k in ents else np.full(len(ecat), None, dtype=object)
+
+    method = per_entry("percentile_method")  # else the table's (an entry's rows all have its table)
+    default_method = np.array([settings.get(t, {}).get("percentile_method") for t in ents["table_id"]], dtype=object)
     return {
         "rule": per_table(lambda s: s.get("nondetect_rule", "dl")),
         "rounding": per_table(lambda s: s.get("rounding", "none") == "significant_figures").astype(bool),
-        # the table's title, as in screening.csv (full citations: limit_tables.csv, once per table)
-        "source": np.array([tables.set_index("table_id")["name"].get(t, "") for t in tcat], dtype=object)[tcode],
-        "use": np.array([tables.set_index("table_id")["use"].get(t, "") for t in tcat], dtype=object)[tcode],
+        # the table's title, as in screening.csv (full citations: limit_tables.csv, once per table);
+        # coded per table (the periods table gets them as text, :data:`_CODED_TEXT`)
+        "source": per_table_coded([tables.set_index("table_id")["name"].get(t, "") for t in tcat]),
+        "use": per_table_coded([tables.set_index("table_id")["use"].get(t, "") for t in tcat]),
         "sig": sig.to_numpy(dtype=float)[ecode],
-        "percentile": pd.to_numeric(pd.Series(per_entry("percentile")), errors="coerce").to_numpy(dtype=float),
-        "period": per_entry("period"),
-        "percentile_method": np.where(pd.isna(method), default_method, method),
+        "percentile": pd.to_numeric(pd.Series(per_entry("percentile")), errors="coerce").to_numpy(dtype=float)[ecode],
+        "period": per_entry("period")[ecode],
+        "percentile_method": np.where(pd.isna(method), default_method, method)[ecode],
     }
 
 
@@ -193,6 +198,10 @@ def evaluate(screened: pd.DataFrame, limits, with_results: bool = False,
     return per_row, periods[PERIOD_COLUMNS]
 
 
+#: Columns of the periods table held as categoricals of text while computed, written as text.
+_CODED_TEXT = ("source", "use")
+
+
 def _frame(tables: list[dict]) -> pd.DataFrame:
     """The periods table from its parts (one per basis), as ``pandas.concat`` of each part as a DataFrame
     would give it, column by column: text columns (what pandas would make ``str``) are made ``str``
@@ -206,9 +215,21 @@ def _frame(tables: list[dict]) -> pd.DataFrame:
 
     columns = {}
     for k in tables[0]:
-        pieces = [str_array(t[k], n) if text(t[k]) else t[k] for t, n in zip(tables, sizes)]
+        pieces = [decoded(t[k]) if k in _CODED_TEXT else str_array(t[k], n) if text(t[k]) else t[k]
+                  for t, n in zip(tables, sizes)]
         columns[k] = pieces[0] if len(pieces) == 1 else concat_arrays(pieces)
     return pd.DataFrame(columns, copy=False)
+
+
+def _by_rule(rule: np.ndarray, lower: np.ndarray, upper: np.ndarray, statistic) -> np.ndarray:
+    """The statistic by each row's non-detect rule (NaN for kaplan_meier, computed apart): ``lower`` (non-detects
+    at zero) and ``upper`` (at their detection limit) are already those of ``zero`` and ``dl``."""
+    value = np.full(len(rule), np.nan)
+    for name, known in (("zero", lower), ("half_dl", None), ("dl", upper)):
+        m = rule == name
+        if m.any():
+            value[m] = (known if known is not None else statistic(name))[m]
+    return value
 
 
 def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
@@ -221,14 +242,10 @@ def _running_means(rows: dict, par: dict, with_results: bool, with_table: bool):
     n = (stop - start).astype(float)
     n_nd = window_sums((~det).astype(float), start, stop, code)
     rule = p["rule"]
-    value = np.full(code.size, np.nan)
-    for name in ("zero", "half_dl", "dl"):
-        m = rule == name
-        if m.any():
-            value[m] = (window_sums(substitute(val, dl, det, name), start, stop, code) / n)[m]
     upper_values = substitute(val, dl, det, "dl")  # the censored-series convention: DL for a non-detect
     lower = window_sums(substitute(val, dl, det, "zero"), start, stop, code) / n
     upper = window_sums(upper_values, start, stop, code) / n
+    value = _by_rule(rule, lower, upper, lambda name: window_sums(substitute(val, dl, det, name), start, stop, code) / n)
     has_nan = window_sums(np.isnan(upper_values).astype(float), start, stop, code) > 0
     km = np.flatnonzero((rule == "kaplan_meier") & ~has_nan)
     if km.size:  # every window as its own series (windows overlap), one vectorised pass
@@ -294,11 +311,7 @@ def _percentiles(rows: dict, par: dict, with_results: bool, with_table: bool):
 
     lower = stat_of(substitute(val, dl, det, "zero"))
     upper = stat_of(substitute(val, dl, det, "dl"))
-    value = np.full(starts.size, np.nan)
-    for name in ("zero", "half_dl", "dl"):
-        m = rule == name
-        if m.any():
-            value[m] = stat_of(substitute(val, dl, det, name))[m]
+    value = _by_rule(rule, lower, upper, lambda name: stat_of(substitute(val, dl, det, name)))
     censored = np.zeros(starts.size, dtype=bool)
     km = (rule == "kaplan_meier") & (np.bincount(group, weights=np.isnan(dl) & ~det, minlength=starts.size) == 0)
     if mean.any() and km.any():  # Kaplan-Meier mean of each period

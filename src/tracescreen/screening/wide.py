@@ -38,15 +38,6 @@ def limit_keys(entries: pd.DataFrame) -> pd.DataFrame:
     return keys.assign(label=label)
 
 
-def _text(values: pd.Series) -> pd.Series:
-    """A text column with missing values as "" (categoricals stay categorical)."""
-    if isinstance(values.dtype, pd.CategoricalDtype):
-        if "" not in values.cat.categories:
-            values = values.cat.add_categories([""])
-        return values.fillna("")
-    return values.fillna("").astype(str)
-
-
 def result_wide(screened: pd.DataFrame, keys: pd.DataFrame, result_id: np.ndarray | None = None) -> pd.DataFrame:
     """One row per result of ``screened`` with each limit of ``keys`` side by side.
 
@@ -70,8 +61,7 @@ def result_wide(screened: pd.DataFrame, keys: pd.DataFrame, result_id: np.ndarra
         result_id = screened.groupby(PROVENANCE + ["analyte", "fraction"], observed=True, sort=False).ngroup().to_numpy()
     res, first = _appearance(np.asarray(result_id))
     n, k = len(first), len(keys)
-    status = screened["status"].map(STATUS_CODE).to_numpy(dtype=float)
-    status = np.where(np.isnan(status), len(STATUSES), status).astype(np.int64)
+    status = _status_codes(screened["status"])
     worst = np.full(n, len(STATUSES), np.int64)
     np.minimum.at(worst, res, status)
     key = _key_positions(screened, keys)
@@ -112,20 +102,33 @@ def _appearance(result_id: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return place[inverse.ravel()], first[order]
 
 
+def _status_codes(status: pd.Series) -> np.ndarray:
+    """Each row's position in :data:`STATUSES` (``len(STATUSES)`` for none), per category where categorical."""
+    if isinstance(status.dtype, pd.CategoricalDtype):
+        per_category = status.cat.categories.map(STATUS_CODE).to_numpy(dtype=float)
+        code = np.append(per_category, np.nan)[status.cat.codes.to_numpy()]  # code -1 (missing): none
+    else:
+        code = status.map(STATUS_CODE).to_numpy(dtype=float)
+    return np.where(np.isnan(code), len(STATUSES), code).astype(np.int64)
+
+
 def _key_positions(screened: pd.DataFrame, keys: pd.DataFrame) -> np.ndarray:
-    """Each screening row's position in ``keys`` by its (table, duration, basis) text (-1: none), from
-    the columns' category codes: each distinct text is looked up once, not each row."""
+    """Each screening row's position in ``keys`` by its (table, duration, basis) text (-1: none; a missing
+    text is ""), from the columns' category codes: each distinct combination of texts is looked up once,
+    not each row."""
     joint = np.zeros(len(screened), dtype=np.int64)
-    sizes = []
+    wheres = []
     for c in LIMIT_KEY:
-        values = _text(screened[c])
-        codes, uniques = (values.cat.codes.to_numpy(), values.cat.categories) if isinstance(
-            values.dtype, pd.CategoricalDtype) else pd.factorize(values)
+        values = screened[c]
+        if isinstance(values.dtype, pd.CategoricalDtype):
+            codes, uniques = values.cat.codes.to_numpy(), values.cat.categories
+        else:
+            codes, uniques = pd.factorize(values.fillna("").astype(str))
         known = pd.Index(keys[c].unique())
-        where = np.append(known.get_indexer(pd.Index(np.asarray(uniques, dtype=object))), -1)
-        part = where[codes]  # code -1 (none) -> -1
-        joint = np.where((joint < 0) | (part < 0), -1, joint * len(known) + part)
-        sizes.append(len(known))
+        # position in ``known`` of each code's text, the last for code -1 (missing: "")
+        wheres.append(known.get_indexer(pd.Index(np.append(np.asarray(uniques, dtype=object), ""), dtype=object)))
+        joint = joint * len(wheres[-1]) + np.where(codes < 0, len(wheres[-1]) - 1, codes)
+    sizes = [len(pd.Index(keys[c].unique())) for c in LIMIT_KEY]
     table = np.full(int(np.prod(sizes)), -1, dtype=np.int64)
     key_codes = np.zeros(len(keys), dtype=np.int64)
     for c, size in zip(LIMIT_KEY, sizes):
@@ -133,4 +136,9 @@ def _key_positions(screened: pd.DataFrame, keys: pd.DataFrame) -> np.ndarray:
     if not len(table):
         return np.full(len(screened), -1, dtype=np.int64)
     table[key_codes] = np.arange(len(keys))  # keys are distinct (limit_keys)
-    return np.where(joint < 0, -1, table[np.maximum(joint, 0)])
+    # every combination of the columns' codes (a few hundred): its key position
+    combo = np.zeros(1, dtype=np.int64)
+    for where, size in zip(wheres, sizes):
+        combo = np.where((combo[:, None] < 0) | (where[None, :] < 0), -1, combo[:, None] * size + where[None, :]).ravel()
+    per_combo = np.where(combo < 0, -1, table[np.maximum(combo, 0)])
+    return per_combo[joint]

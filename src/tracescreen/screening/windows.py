@@ -19,10 +19,12 @@ def period_bounds(sampled_at: pd.Series, period: str) -> tuple[np.ndarray, np.nd
     t = pd.DatetimeIndex(sampled_at)
     if t.hasnans or len(t) < 2:
         return _period_bounds(t, period)
-    month = t.year.to_numpy().astype(np.int64) * 12 + t.month.to_numpy() - 1  # a period holds whole months
-    _, first, inverse = np.unique(month, return_index=True, return_inverse=True)
-    label, start, end = _period_bounds(t[first], period)
-    inverse = inverse.ravel()
+    month = t.to_numpy().astype("datetime64[M]").astype(np.int64)  # months since 1970: a period holds whole months
+    low = int(month.min())
+    present = np.bincount(month - low) > 0  # each distinct month (a table of the months spanned, not a sort)
+    inverse = (np.cumsum(present) - 1)[month - low]
+    label, start, end = _period_bounds(pd.DatetimeIndex((np.flatnonzero(present) + low).astype("datetime64[M]")
+                                                        .astype("datetime64[ns]")), period)
     return label[inverse], start[inverse], end[inverse]
 
 
