@@ -378,3 +378,26 @@ def test_many_seasonal_series_at_once_equal_each_series_alone(seed, n_series):
         ref = mann_kendall._long_trend_row(t[at], y[at], nd[at], season[at], stats.norm.ppf(0.975) * np.sqrt(got["var_s"][k]))
         for col in ("slope_per_year", "slope_low", "slope_high", "intercept"):
             assert_allclose(got[col][k], ref[col], rtol=1e-7, atol=1e-9, err_msg=col)
+
+
+@pytest.mark.parametrize("many_categories", [False, True])
+def test_latest_date_rows_equal_pandas_groupby_max(many_categories):
+    """The rows on each series' latest sampling date, worked out on category codes, equal pandas'
+    groupby(...).transform("max") (the reference library), with missing keys and dates left out."""
+    from tracescreen.statistics.trends import _on_latest_date
+
+    rng = np.random.default_rng(7)
+    n = 3000
+    sites = [f"S{k}" for k in range(5000 if many_categories else 12)]
+    d = pd.DataFrame({
+        "site_id": pd.Categorical(rng.choice(sites[:12] + [None], n), categories=sites),
+        "analyte": pd.Categorical(rng.choice(["Cu", "Zn", "Pb", None], n)),
+        "fraction": pd.Categorical(rng.choice(["total", "dissolved"], n)),
+        "sampled_at": pd.Series(pd.to_datetime("2020-01-01") + pd.to_timedelta(rng.integers(0, 40, n), "D")),
+    })
+    d.loc[rng.random(n) < 0.05, "sampled_at"] = pd.NaT
+    keys = ["site_id", "analyte", "fraction"]
+    expected = (d["sampled_at"] == d.groupby(keys, observed=True)["sampled_at"].transform("max")).to_numpy()
+    assert np.array_equal(_on_latest_date(d, keys), expected)
+    plain = d.astype({"site_id": object})  # not categorical: pandas' own groupby
+    assert np.array_equal(_on_latest_date(plain, keys), expected)

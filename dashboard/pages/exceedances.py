@@ -25,7 +25,7 @@ callbacks = PageCallbacks()
 PAGE_SIZE = 25
 #: on screen the deciding columns come first; downloads keep the engine's column order
 COLUMNS = [
-    Column("site_id", "Site", pinned=True, width=90), Column("sampled_at", "Sampled", "date", pinned=True),
+    Column("site_id", "Site", pinned=True, width=115), Column("sampled_at", "Sampled", "date", pinned=True),
     Column("analyte", "Metal", pinned=True, width=110),
     Column("chart", "Chart", "link", pinned=True, width=75), Column("fraction", "Fraction", width=100),
     Column("status", "Status", "status"), Column("result_text", "Result as reported", width=150),

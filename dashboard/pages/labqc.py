@@ -38,7 +38,7 @@ VERDICT_GRID = [
     Column("checked", "checked in source", width=130),
 ]
 AFFECTED_GRID = [
-    Column("site_id", "site", pinned=True, width=90), Column("sample_id", "sample", width=110),
+    Column("site_id", "site", pinned=True, width=115), Column("sample_id", "sample", width=110),
     Column("sampled_at", "sampled", "date"), Column("analyte", "analyte", width=110),
     Column("fraction", "fraction", width=95), Column("value_ug_L", "value (µg/L)", "number"),
     Column("detected", "detected", width=95), Column("detection_limit_ug_L", "DL (µg/L)", "number"),

@@ -16,7 +16,7 @@ from tracescreen.report.charts import PLOTLY_CONFIG
 
 dash.register_page(__name__, path="/map", name="Map", order=1, title="tracescreen · map")
 callbacks = PageCallbacks()
-TABLE_COLUMNS = [Column("site_id", "Site", pinned=True, width=90), Column("name", "Name", width=260),
+TABLE_COLUMNS = [Column("site_id", "Site", pinned=True, width=115), Column("name", "Name", width=260),
                  Column("worst", "Worst status", "status"), Column("n_results", "Results", "number", digits=9),
                  Column("n_exceeds", "Above a limit", "number", digits=9), Column("latitude", "Latitude", width=130),
                  Column("longitude", "Longitude", width=130)]

@@ -18,7 +18,7 @@ callbacks = PageCallbacks()
 
 VIEWS = {"worst": "worst over the period", "latest": "latest campaign"}
 TABLE_COLUMNS = [
-    Column("site_id", "Site", pinned=True, width=90), Column("site_name", "Site name", width=200),
+    Column("site_id", "Site", pinned=True, width=115), Column("site_name", "Site name", width=200),
     Column("analyte", "Metal", pinned=True, width=110), Column("fractions", "Fractions", width=130),
     Column("n_results", "Results", "number", width=100, digits=9),
     Column("n_exceeds", "Above a limit", "number", width=120, digits=9),

@@ -22,7 +22,7 @@ callbacks = PageCallbacks()
 PAGE_SIZE = 25
 COLUMNS = [
     Column("lab", "Laboratory", pinned=True, width=170), Column("batch", "Batch", pinned=True, width=120),
-    Column("site_id", "Site", width=90), Column("sample_id", "Sample", width=120),
+    Column("site_id", "Site", width=115), Column("sample_id", "Sample", width=120),
     Column("sampled_at", "Sampled", "date"), Column("analytes", "Metals", width=170),
     Column("action_words", "Asked for", width=190), Column("why_action", "Why", "words", width=300),
     Column("reasons", "Reasons", "words", width=360), Column("status_words", "Request status", width=210),

@@ -26,14 +26,14 @@ dash.register_page(__name__, path="/trends", name="Trends", order=2.3, title="tr
 callbacks = PageCallbacks()
 PAGE_SIZE = 25
 COLUMNS = [
-    Column("site_id", "Site", pinned=True, width=90), Column("analyte", "Metal", pinned=True, width=110),
+    Column("site_id", "Site", pinned=True, width=115), Column("analyte", "Metal", pinned=True, width=110),
     Column("fraction", "Fraction", pinned=True, width=100),
     Column("chart", "Chart", "link", pinned=True, width=75), Column("site_name", "Site name", width=200, hidden=True),
     Column("direction_words", "Direction", width=190), Column("evidence", "Evidence of a trend", "words", width=280),
     Column("slope_per_year", "Slope [µg/L per year]", "number", width=170, digits=3),
     Column("slope_low", f"Slope, {1 - ALPHA:.0%} interval from", "number", width=190, digits=3),
     Column("slope_high", "to", "number", width=100, digits=3),
-    Column("p_value", "p-value", "number", width=100, digits=2),
+    Column("p_value", "p-value", "number", width=130, digits=2),
     Column("lowest_limit_ug_L", "Lowest limit [µg/L]", "number", width=160),
     Column("lowest_limit_table", "Its table", width=170),
     Column("crosses_limit_on", "Trend line reaches it around", "date", width=210),

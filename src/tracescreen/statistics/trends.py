@@ -104,9 +104,34 @@ def lowest_limits(screened: pd.DataFrame) -> pd.DataFrame:
     d = d[d["limit_ug_L"].notna() & basis.isin(["", "single_sample"])]
     if d.empty:
         return pd.DataFrame(columns=cols)
-    latest = d.groupby(keys, observed=True)["sampled_at"].transform("max")
-    d = d[d["sampled_at"] == latest].sort_values(keys + ["limit_ug_L", "limit_table"])
+    d = d[_on_latest_date(d, keys)].sort_values(keys + ["limit_ug_L", "limit_table"])
     return d.drop_duplicates(keys)[cols].reset_index(drop=True)
+
+
+def _on_latest_date(d: pd.DataFrame, keys: list[str]) -> np.ndarray:
+    """Whether each row was sampled on its series' latest sampling date (False without a key or date):
+    ``d["sampled_at"] == d.groupby(keys, observed=True)["sampled_at"].transform("max")``, worked out on
+    the keys' category codes when the keys are categorical (a part's screening rows: no text hashed)."""
+    t = d["sampled_at"]
+    if not (pd.api.types.is_datetime64_dtype(t.dtype) and all(isinstance(d[k].dtype, pd.CategoricalDtype) for k in keys)):
+        return (t == d.groupby(keys, observed=True)["sampled_at"].transform("max")).to_numpy()
+    tv = t.to_numpy()
+    ok = ~np.isnat(tv)
+    key, n_keys = np.zeros(len(d), np.int64), 1
+    for k in keys:
+        codes = d[k].cat.codes.to_numpy().astype(np.int64)
+        ok &= codes >= 0
+        key = key * len(d[k].cat.categories) + codes
+        n_keys *= len(d[k].cat.categories)
+    tv = tv.view(np.int64)
+    # one cell per possible key when there are few (a part keeps only its own categories), else per key used
+    few = n_keys <= 4 * len(d) + 1024
+    at = key[ok] if few else np.unique(key[ok], return_inverse=True)[1]
+    latest = np.full(n_keys if few else int(at.max(initial=-1)) + 1, np.iinfo(np.int64).min)
+    np.maximum.at(latest, at, tv[ok])
+    out = np.zeros(len(d), bool)
+    out[ok] = tv[ok] == latest[at]
+    return out
 
 
 def trend_table(results: pd.DataFrame, *, alpha: float = 0.05, seasonal: str = "auto",
