@@ -197,3 +197,15 @@ def test_control_characters_from_cells_are_shown_escaped_in_reasons(tmp_path):
     reason = loaded.rejected["reason"].iloc[0]
     assert "\x1b" not in reason and "\\x1b[31mRED" in reason
     assert loaded.rejected["result"].iloc[0] == "\x1b[31mRED\x1b[0m"  # the original cell is kept as written
+
+
+@pytest.mark.parametrize("ending", [b"\n", b"\r\n", b"\r"])
+@pytest.mark.parametrize("last", [True, False])
+def test_line_count_across_count_blocks_matches_python(ending, last):
+    """Lines are counted by blocks (numpy); the count equals Python's own line split (str.splitlines of
+    \\n, \\r\\n or old-Mac \\r line ends, a last line with or without its end) across block edges."""
+    from tracescreen.io.csv_reading import _count_byte, _line_count
+
+    body = ending.join(b"S%d,%d" % (i, i * 7) for i in range(5000)) + (ending if last else b"")
+    assert _line_count(body) == len(body.decode().splitlines())
+    assert _count_byte(body, ord("\n"), block=4093) == body.count(b"\n")

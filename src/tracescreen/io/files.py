@@ -63,9 +63,13 @@ def read_raw(path: str | Path, options: LoadOptions | None = None) -> tuple[list
             from tracescreen.io.xlsx_reading import read_xlsx
 
             return read_xlsx(data, name, str(p), opts), sha256_of(data)
+        from concurrent.futures import ThreadPoolExecutor
+
         from tracescreen.io.csv_reading import read_csv
 
-        return [read_csv(data, name, str(p), opts)], sha256_of(data)
+        with ThreadPoolExecutor(1) as hashing:  # hashlib releases the interpreter lock: hashed while it is read
+            digest = hashing.submit(sha256_of, data)
+            return [read_csv(data, name, str(p), opts)], digest.result()
     except MemoryError:
         raise LoadError(f"{name}: not enough memory to read this file") from None
     except OSError as exc:

@@ -342,15 +342,18 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
     # -- the two tables ----------------------------------------------------------------------------
     reasons = rows.reasons()
     ok = reasons == ""
-    okc = combo[ok]
+    # every row accepted (a clean file): the rows' arrays as they are, not 1M-row copies of them
+    every = bool(ok.all())
+    take = slice(None) if every else ok
+    okc = combo[take]
     one = np.zeros(int(ok.sum()), dtype=np.int8)
     acc = pd.DataFrame({
         "file": pd.Categorical.from_codes(one, categories=pd.Index([raw.file], dtype="str")),
         "sheet": pd.Categorical.from_codes(one, categories=pd.Index([raw.sheet], dtype="str")),
-        "row": raw.rows[ok],
+        "row": raw.rows[take],
         "site_id": site.categorical(ok),
         "sample_id": sample.categorical(ok),
-        "sampled_at": sampled_at[ok],
+        "sampled_at": sampled_at[take],
         "analyte": derived_categorical(np.where(v_no_name, "", names), analyte_text.codes, ok),
         "fraction": derived_categorical(_FRACTIONS, fraction, ok),
         "result_text": texts["result"].categorical(ok),
@@ -363,11 +366,11 @@ def normalise(raw: RawTable, options: LoadOptions | None = None,
         "parent_sample_id": parent.categorical(ok),
         "lab": col("lab").categorical(ok),
         "batch": col("batch").categorical(ok),
-        "analysed_at": an_text.rows(an_dates)[ok],
-        "hardness_mg_L": row_hardness[ok],
+        "analysed_at": an_text.rows(an_dates)[take],
+        "hardness_mg_L": row_hardness[take],
         "uncertainty_ug_L": units.clean_decimal(unc * factor)[okc],
-        "qualifier_meaning": kept_categorical(parsed["meaning"], combo, ok),
-        **{c: chem[c][ok] for c in INPUT_COLUMNS},
+        "qualifier_meaning": kept_categorical(parsed["meaning"], combo, None if every else ok),
+        **{c: chem[c][take] for c in INPUT_COLUMNS},
         "quantitation_limit_ug_L": units.clean_decimal(parsed["quantitation_limit"] * factor)[okc],
     }, copy=False)
     not_ok = ~ok
