@@ -70,19 +70,22 @@ def days_of(frame: pd.DataFrame) -> set[str]:
     return out
 
 
-def _free_text_array(values: pd.Series) -> pa.Array:
+def _free_text_array(values: pd.Series) -> pa.Array | pa.ChunkedArray:
     """A column of texts that do not repeat as ``dictionary<int32, string>`` without hashing them: the
-    dictionary is the texts themselves, in row order (index i for row i), and the Parquet writer stores
-    the values plain (see :data:`~tracescreen.report.formats.FREE_TEXT`)."""
+    dictionary is the texts themselves, in row order (index i for row i; one dictionary per Arrow chunk
+    of the column, so its text is never copied into one buffer), and the Parquet writer stores the values
+    plain (see :data:`~tracescreen.report.formats.FREE_TEXT`)."""
     if isinstance(values.dtype, pd.StringDtype) and values.dtype.storage == "pyarrow":
         text = pa.array(values.array)
-        if isinstance(text, pa.ChunkedArray):
-            text = text.combine_chunks() if text.num_chunks != 1 else text.chunk(0)
-        text = text.cast(pa.string())
+        chunks = text.chunks if isinstance(text, pa.ChunkedArray) else [text]
     else:  # categorical or object cells: each as its text
-        text = _text_array(values).dictionary_decode()
-    index = pa.array(np.arange(len(text), dtype=np.int32), mask=text.is_null().to_numpy(zero_copy_only=False))
-    return pa.DictionaryArray.from_arrays(index, text.fill_null("") if text.null_count else text)  # missing: a missing index
+        chunks = [_text_array(values).dictionary_decode()]
+    out = []
+    for c in chunks:
+        c = c.cast(pa.string())  # large or view text: the same bytes, 32-bit offsets
+        index = pa.array(np.arange(len(c), dtype=np.int32), mask=c.is_null().to_numpy(zero_copy_only=False))
+        out.append(pa.DictionaryArray.from_arrays(index, c.fill_null("") if c.null_count else c))  # missing: no index
+    return out[0] if len(out) == 1 else pa.chunked_array(out, type=TEXT)
 
 
 def _text_array(values: pd.Series) -> pa.Array:

@@ -83,28 +83,25 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
     if cross_fraction:
         r_pos, e_pos = np.concatenate([r_pos, r_x]), np.concatenate([e_pos, e_x])
         cross = np.concatenate([cross, np.ones(len(r_x), dtype=bool)])
-    keep = ~qc[r_pos]
-    r_pos, e_pos, cross = r_pos[keep], e_pos[keep], cross[keep]
+    keep = ~qc[r_pos]  # quality-control samples are not screened
     had_candidate = np.zeros(n, dtype=bool)
-    had_candidate[r_pos[~cross]] = True
+    had_candidate[r_pos[keep & ~cross]] = True
 
     num = entries[NUMERIC_ENTRY_COLUMNS]  # only numbers are taken per pair; text is coded below
-    on = in_force(results, entries, r_pos, e_pos)
-    r_pos, e_pos, cross = r_pos[on], e_pos[on], cross[on]
+    keep &= in_force(results, entries, r_pos, e_pos)
+    r_pos, e_pos, cross = r_pos[keep], e_pos[keep], cross[keep]
 
-    H = hard["hardness_used_mg_L"].to_numpy()[r_pos]
     chem = sample_inputs(results, sites)
     limit = num["value_ug_L"].to_numpy(dtype=float)[e_pos]
-    formula = limits_mod.is_formula(entries)[e_pos]
-    fi = np.flatnonzero(formula)  # computed limits: evaluated for these pairs only
-    form_remark = np.zeros(len(r_pos), dtype=np.int64)
-    pair_inputs = {"hardness": H[fi], **{k: v[r_pos[fi]] for k, (v, _) in chem.items()}}
-    limit[fi], form_remark[fi] = limits_mod.evaluate_pairs(entries, e_pos[fi], pair_inputs)
-    unusable = np.zeros(len(r_pos), dtype=bool)  # a computed limit that is infinite or not above 0
-    with np.errstate(invalid="ignore"):
-        unusable[fi] = ~np.isnan(limit[fi]) & ~(np.isfinite(limit[fi]) & (limit[fi] > 0))
-    limit[unusable] = np.nan  # never all-"meets" (infinite) or all-"exceeds" (0): no limit, and the note says why
-    limit[fi] = round_criteria(limit[fi], e_pos[fi], entries, limits.tables)
+    fi = np.flatnonzero(limits_mod.is_formula(entries)[e_pos])  # computed limits: evaluated for these pairs only,
+    e_fi, h_fi = e_pos[fi], hard["hardness_used_mg_L"].to_numpy()[r_pos[fi]]  # their values held for them only
+    pair_inputs = {"hardness": h_fi, **{k: v[r_pos[fi]] for k, (v, _) in chem.items()}}
+    lim_fi, form_remark = limits_mod.evaluate_pairs(entries, e_fi, pair_inputs)
+    lim_fi, form_remark = np.array(lim_fi, dtype=float), np.asarray(form_remark, dtype=np.int64)
+    with np.errstate(invalid="ignore"):  # a computed limit that is infinite or not above 0
+        unusable = ~np.isnan(lim_fi) & ~(np.isfinite(lim_fi) & (lim_fi > 0))
+    lim_fi[unusable] = np.nan  # never all-"meets" (infinite) or all-"exceeds" (0): no limit, and the note says why
+    limit[fi] = round_criteria(lim_fi, e_fi, entries, limits.tables)
 
     det = results["detected"].to_numpy(dtype=bool)
     val = results["value_ug_L"].to_numpy(dtype=float)
@@ -115,11 +112,11 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
         ci = np.flatnonzero(cross)  # only these pairs are decided (the others stay)
         stay = ~cross
         stay[ci] = fractions.deciding(status[ci], entries["fraction"].astype(str).to_numpy(dtype=object)[e_pos[ci]])
-        r_pos, e_pos, cross, H, limit, status, form_remark, unusable = (
-            a[stay] for a in (r_pos, e_pos, cross, H, limit, status, form_remark, unusable))
-        formula = limits_mod.is_formula(entries)[e_pos]
-        fi = np.flatnonzero(formula)
-    ent = num.iloc[e_pos[fi]]
+        r_pos, e_pos, cross, limit, status = (a[stay] for a in (r_pos, e_pos, cross, limit, status))
+        kept = stay[fi]
+        fi = (np.cumsum(stay) - 1)[fi[kept]]
+        e_fi, h_fi, form_remark, unusable = e_fi[kept], h_fi[kept], form_remark[kept], unusable[kept]
+    ent = num.iloc[e_fi]
 
     covered = np.zeros(n, dtype=bool)
     covered[r_pos] = True
@@ -130,12 +127,13 @@ def _screen_rows(results: pd.DataFrame, limits, sites, rel_tol: float, cross_fra
     # note = hardness remark (code 0-4) combined with the entry's own note
     remark = np.zeros(len(r_pos), dtype=np.int64)
     with np.errstate(invalid="ignore"):
-        h = H[fi]
-        remark[fi] = np.select([np.isnan(h), h > ent["hardness_max"].to_numpy(float),
-                                h < ent["hardness_min"].to_numpy(float)], [4, 3, 2], 1)
-    has_form = entries["form"].notna().to_numpy(dtype=bool)[e_pos] if "form" in entries else np.zeros(len(e_pos), bool)
-    remark[has_form] = len(HARDNESS_REMARKS) + form_remark[has_form]  # limits/forms.py remarks follow
-    remark[unusable] = HARDNESS_REMARKS.index(UNUSABLE_REMARK)
+        remark_fi = np.select([np.isnan(h_fi), h_fi > ent["hardness_max"].to_numpy(float),
+                               h_fi < ent["hardness_min"].to_numpy(float)], [4, 3, 2], 1)
+    if "form" in entries:  # (an entry with a form is a computed limit)
+        has_form = entries["form"].notna().to_numpy(dtype=bool)[e_fi]
+        remark_fi[has_form] = len(HARDNESS_REMARKS) + form_remark[has_form]  # limits/forms.py remarks follow
+    remark_fi[unusable] = HARDNESS_REMARKS.index(UNUSABLE_REMARK)
+    remark[fi] = remark_fi
     n_lone_kinds = 2 + len(QC_NOTES)
     qc_kind = results["sample_type"].map({k: i for i, k in enumerate(QC_NOTES)}).to_numpy(dtype=float)
     lone_kind = np.where(qc[lone], 2 + np.nan_to_num(qc_kind[lone], nan=0).astype(np.int64),

@@ -141,12 +141,17 @@ def _rules_of_thumb(out: pd.DataFrame, x, nd, codes, n, n_det, pct_nd, min_dl, l
     careful = (pct_nd > CAREFUL_ABOVE) & ~only_counts
     maxdl = out["max_detection_limit"].to_numpy(float)
     pcols = ["median", "p90", "p95"]
-    below_dl = careful[:, None] & (out[pcols].to_numpy(float) < maxdl[:, None])
-    censored_pct = (out[pcols].isna().to_numpy() & (n_det > 0)[:, None] & ~only_counts[:, None]
+    pct = np.column_stack([out[c].to_numpy(dtype=float) for c in pcols])
+    below_dl = careful[:, None] & (pct < maxdl[:, None])
+    censored_pct = (np.isnan(pct) & (n_det > 0)[:, None] & ~only_counts[:, None]
                     & (pct_nd > 0)[:, None] & ~below_dl)
-    out.loc[few | only_counts, ["mean", "sd", "ucl95_mean"]] = np.nan
-    out.loc[only_counts, pcols] = np.nan
-    out[pcols] = out[pcols].mask(below_dl)
+    withheld = {}  # the columns with the values not supported set to NaN (numpy, not a .loc per rule)
+    for c in ("mean", "sd", "ucl95_mean"):
+        withheld[c] = np.where(few | only_counts, np.nan, out[c].to_numpy(dtype=float))
+    pct[only_counts] = np.nan
+    pct[below_dl] = np.nan
+    withheld.update({c: pct[:, j] for j, c in enumerate(pcols)})
+    out = out.assign(**withheld)
     km = out["method"].to_numpy() == "kaplan_meier"
     maxdet = out["max_detected"].to_numpy(float)
     with np.errstate(invalid="ignore"):
