@@ -45,6 +45,12 @@ def test_used_only_keeps_the_used_categories_in_order():
     pd.testing.assert_series_equal(got, col.cat.remove_unused_categories())
     whole = pd.Series(pd.Categorical(["a", "b", "a"]))
     assert used_only(whole) is whole
+    rng = np.random.default_rng(3)  # many rows, some categories unused, ordered; and far more categories than rows
+    for n_cats, n_rows, ordered in ((40, 5000, True), (5000, 10, False)):
+        codes = rng.integers(-1, n_cats // 2, n_rows)
+        col = pd.Series(pd.Categorical.from_codes(codes, categories=[f"c{k}" for k in range(n_cats)], ordered=ordered),
+                        index=np.arange(n_rows) * 2, name="note")
+        pd.testing.assert_series_equal(used_only(col), col.cat.remove_unused_categories())
 
 
 def test_concat_arrays_is_what_pandas_concat_gives():

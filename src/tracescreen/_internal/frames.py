@@ -19,10 +19,18 @@ def used_only(col: pd.Series) -> pd.Series:
     it uses them all (one histogram of the codes decides: no hashing). A part taken from a run keeps the
     run's categories, e.g. a million sample ids for a part of 125,000 results."""
     codes = col.cat.codes.to_numpy()
-    n = len(col.cat.categories)
-    if n <= len(codes) and (np.bincount(codes[codes >= 0], minlength=n) > 0).all():
+    cats = col.cat.categories
+    n = len(cats)
+    if n > 4 * len(codes) + 1024:  # far more categories than rows: pandas' recoding of the codes it sees
+        return col.cat.remove_unused_categories()
+    used = np.bincount(codes[codes >= 0] if (codes < 0).any() else codes, minlength=n) > 0
+    if used.all():
         return col
-    return col.cat.remove_unused_categories()
+    # as remove_unused_categories, by the histogram: the used categories in their order, codes renumbered
+    new = (np.cumsum(used) - 1).astype(codes.dtype)
+    out = pd.Categorical.from_codes(np.where(codes >= 0, new[np.maximum(codes, 0)], -1).astype(codes.dtype),
+                                    dtype=pd.CategoricalDtype(cats[used], ordered=col.cat.ordered), validate=False)
+    return pd.Series(out, index=col.index, name=col.name, copy=False)
 
 
 def plain_text(df: pd.DataFrame, columns=None) -> pd.DataFrame:
