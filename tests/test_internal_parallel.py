@@ -81,27 +81,3 @@ def test_background_work_without_a_thread_runs_each_job_at_once():
     with BackgroundWork(background=False) as work:
         work.submit(lambda: seen.append(1))
         assert seen == [1]
-
-
-def test_background_work_queues_a_small_job_behind_the_one_under_way():
-    """``behind=True`` does not wait: the job runs after the one under way, in order, on the same
-    thread; the next plain submit waits for both; the first error of the two is the one raised."""
-    seen, gate = [], threading.Event()
-    with BackgroundWork() as work:
-        work.submit(lambda: (gate.wait(5), seen.append("screening")))
-        work.submit(lambda: seen.append("summary"), behind=True)
-        assert seen == []  # the caller went on while both wait
-        gate.set()
-        work.submit(lambda: seen.append("next part"))
-        assert seen == ["screening", "summary"]
-    assert seen == ["screening", "summary", "next part"]
-
-    def fail():
-        raise OSError(28, "No space left on device")
-    later = []
-    with pytest.raises(OSError, match="No space"):
-        with BackgroundWork() as work:
-            work.submit(fail)
-            work.submit(lambda: later.append(1), behind=True)
-            work.submit(lambda: None)
-    assert later == [1]  # the queued job had run (and ended) before the error was raised

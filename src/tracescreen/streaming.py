@@ -87,7 +87,7 @@ def lab_qc_rows_of(rows: pd.DataFrame | None, part_sites: pd.Series, ctx: "PartC
     return rows[mine.to_numpy()]
 
 
-def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0, early=None) -> dict[str, pd.DataFrame]:
+def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0) -> dict[str, pd.DataFrame]:
     """Every per-result and per-series table of one part of whole sites.
 
     Parameters
@@ -97,10 +97,6 @@ def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0, 
     ctx : PartContext
     period_base : int
         Added to the part's period ids (numbered 1, 2, ... within the part).
-    early : callable, optional
-        Called with the screening tables (``screening``, ``position``, ``screening_wide``, ``periods``) as
-        soon as they are made, before the statistics and the retest list; they are then left out of the
-        result (a run in parts writes them while it computes the rest).
 
     Returns
     -------
@@ -120,9 +116,6 @@ def part_tables(accepted: pd.DataFrame, ctx: PartContext, period_base: int = 0, 
         out["screening_wide"] = result_wide(screened, ctx.keys, result_id=position)
     if periods is not None:
         out["periods"] = periods
-    if early is not None:  # the screening tables go to be written while the statistics are computed
-        early(out)
-        out = {}
     if o.statistics is not None:
         out.update(pipeline.statistics(accepted, screened, o.statistics))
     if o.retest is not None:
@@ -167,52 +160,32 @@ def run_in_parts(accepted: pd.DataFrame, ctx: PartContext, sink, part_rows: int 
     done, total = 0, len(accepted)
     report("screen", 0, total, detail="screening, statistics and retest list, part by part")
     with BackgroundWork(getattr(sink, "background", False)) as writes:
-        def early(positions, tables):  # a part's screening tables, written while its statistics are computed
+        for k, (positions, tables) in enumerate(_parts(accepted, ctx, part_rows, 0, True)):
+            done += len(positions)
+            report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
             position = positions[tables.pop("position")]
             writes.submit(_adder(sink, [(name, tables[name], position if name == "screening" else None)
                                         for name in PART_TABLES if name in tables]))
-
-        for k, (positions, tables) in enumerate(_parts(accepted, ctx, part_rows, 0, True, early)):
-            done += len(positions)
-            report("screen", done, total, detail=f"part {k + 1} (whole sites): screened, statistics, retest list")
-            # the statistics and the retest list are small: queued behind the screening tables
-            writes.submit(_adder(sink, [(name, tables[name], None) for name in PART_TABLES if name in tables]),
-                          behind=True)
             del tables
             release_unused()
     report("screen", total, total, finished=True)
 
 
-def _parts(accepted: pd.DataFrame, ctx: PartContext, part_rows: int | None, base: int, first: bool, early=None):
+def _parts(accepted: pd.DataFrame, ctx: PartContext, part_rows: int | None, base: int, first: bool):
     """Each part of whole sites of ``accepted`` (positions in it) with its tables (:func:`part_tables`);
-    period ids numbered on from ``base``; ``first``: the run's first part is among them. ``early``:
-    ``early(positions, tables)`` takes each part's screening tables as soon as they are made
-    (:func:`part_tables`), and the part's tables yielded are the others."""
+    period ids numbered on from ``base``; ``first``: the run's first part is among them."""
     from tracescreen.progress import reporting
-    from tracescreen.screening.parts import PART_ROWS, site_partitions
+    from tracescreen.screening.parts import PART_ROWS, last_period_id, site_partitions
 
     for k, (positions, part) in enumerate(site_partitions(accepted, part_rows or PART_ROWS)):
         ctx.first_part = first and k == 0
-        after = [base]
-
-        def screened(tables, positions=positions, after=after, base=base):
-            after[0] = _next_period_id(tables, base)
-            early(positions, tables)
         with reporting(_silent):  # the run reports parts, not each part's own steps
-            tables = part_tables(part, ctx, base, early=None if early is None else screened)
+            tables = part_tables(part, ctx, base)
         del part
-        base = after[0] if early is not None else _next_period_id(tables, base)
+        base = last_period_id(tables["screening"], base)
+        if "periods" in tables and len(tables["periods"]):
+            base = max(base, int(tables["periods"]["period_id"].max()))
         yield positions, tables
-
-
-def _next_period_id(tables: dict, base: int) -> int:
-    """The last period id a part's screening tables use (the next part numbers on from it)."""
-    from tracescreen.screening.parts import last_period_id
-
-    base = last_period_id(tables["screening"], base)
-    if "periods" in tables and len(tables["periods"]):
-        base = max(base, int(tables["periods"]["period_id"].max()))
-    return base
 
 
 def _adder(sink, tables: list):

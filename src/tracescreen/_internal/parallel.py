@@ -37,9 +37,8 @@ def ordered_map(fn: Callable, args: Iterable[tuple], max_workers: int) -> Iterat
 class BackgroundWork:
     """Jobs run in order on one background thread, at most one waiting, while the caller goes on.
 
-    Used as a context manager. :meth:`submit` first waits for the jobs before (so at most one job's
-    inputs are held besides the caller's; ``behind=True`` queues a job behind the one under way instead,
-    for small jobs), then starts the new one in a copy of the caller's context
+    Used as a context manager. :meth:`submit` first waits for the previous job (so at most one job's
+    inputs are held besides the caller's), then starts the new one in a copy of the caller's context
     (its :mod:`tracescreen.progress` callback, made safe for two threads for the block:
     :func:`tracescreen.progress.shared_between_threads`). A job's error is raised by the next
     :meth:`submit` or at the end of the block; when the block itself fails, the job under way is waited
@@ -50,7 +49,7 @@ class BackgroundWork:
     def __init__(self, background: bool = True):
         from tracescreen.progress import shared_between_threads
 
-        self.pending: list = []
+        self.pending = None
         self.pool = ThreadPoolExecutor(1, thread_name_prefix="tracescreen-background") if background else None
         self._shared = shared_between_threads() if background else None
 
@@ -59,27 +58,21 @@ class BackgroundWork:
             self._shared.__enter__()
         return self
 
-    def submit(self, job: Callable[[], None], behind: bool = False) -> None:
-        """Run ``job()`` after the jobs before, on the background thread (or now, without one).
-
-        ``behind``: queue it behind the job under way without waiting for that (its inputs are then held
-        too: for small jobs)."""
-        if not behind:
-            self.wait()
+    def submit(self, job: Callable[[], None]) -> None:
+        """Run ``job()`` after the previous job, on the background thread (or now, without one)."""
+        self.wait()
         if self.pool is None:
             job()
             return
         import contextvars
 
-        self.pending.append(self.pool.submit(contextvars.copy_context().run, job))
+        self.pending = self.pool.submit(contextvars.copy_context().run, job)
 
     def wait(self) -> None:
-        """Wait for the jobs under way and queued; raise the first error."""
-        pending, self.pending = self.pending, []
-        for p in pending:  # every one done (a queued job runs even when the one before failed) ...
-            p.exception()
-        for p in pending:  # ... then the first error
-            p.result()
+        """Wait for the job under way; raise its error."""
+        pending, self.pending = self.pending, None
+        if pending is not None:
+            pending.result()
 
     def __exit__(self, kind, error, trace) -> None:
         try:
